@@ -1,0 +1,171 @@
+//! The command line: commands, options and their checks (clap derive).
+
+use std::ffi::OsString;
+use std::path::PathBuf;
+
+use clap::{Args, Parser, Subcommand};
+
+use crate::output::{Format, Rows};
+use crate::paths::MAX_LISTED_PATHS;
+use crate::sizing::{Method, Reference};
+
+const ABOUT: &str = "Size the transistors of static CMOS gates so that each gate's worst case drives like a \
+reference inverter, and report what that costs.";
+
+const AFTER_HELP: &str = "\
+Expressions: NOT as !, ~ or postfix '; AND as &, *, . or juxtaposition; OR as | or +; parentheses;
+an optional 'name =' prefix names the output (default y). Precedence NOT > AND > OR. Any expression
+whose negation-normal form is one inverting stage is accepted (!a & !b is a NOR). Shorthands: inv,
+nand2..nand8, nor2..nor8, aoi21, aoi22, aoi211 ..., oai21, oai22 ... (inputs a, b, c, ...).
+
+Units: sizes are relative W/L, 1 = the unit NMOS; resistances are in units of R, the unit NMOS's
+on-resistance; capacitances in unit-NMOS gate capacitances. Physical sizes use the built-in process
+(L = 1u, unit NMOS W = 1u, so W = W/L x 1u) unless a process file says otherwise.
+
+Limits: expressions up to 1 MiB and 256 levels of parentheses; up to 10000 input occurrences
+(transistors per network) and 10000 distinct inputs; up to 10000 listed paths; the exact worst case
+over input vectors (for repeated inputs) up to 16 inputs.
+
+Exit codes: 0 ok, 1 a check failed, 2 bad input or usage.
+
+Results are first-order estimates (switch-level RC model). Sign-off needs the foundry's models,
+design rules and licensed practice.";
+
+/// The whole command line.
+#[derive(Debug, Parser)]
+#[command(name = "widthwise", version, about = ABOUT, after_help = AFTER_HELP)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The commands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Size one gate and report every transistor, input and network.
+    #[command(after_help = AFTER_HELP)]
+    Size {
+        /// The gate: an expression such as "!(a & b | c)" or a shorthand such as aoi21.
+        expression: OsString,
+        /// How the gate is sized.
+        #[command(flatten)]
+        gate: GateArgs,
+        /// Where and how to write.
+        #[command(flatten)]
+        output: OutputArgs,
+        /// CSV rows: one per gate, per transistor (with its input's and gate's figures) or per input.
+        #[arg(long, value_enum, default_value_t = Rows::Devices)]
+        rows: Rows,
+    },
+    /// List the conducting paths of each network, weakest first, and count them all.
+    #[command(after_help = AFTER_HELP)]
+    Paths {
+        /// The gate: an expression or a shorthand.
+        expression: OsString,
+        /// How the gate is sized (path resistances depend on it).
+        #[command(flatten)]
+        gate: GateArgs,
+        /// Where and how to write (table, csv or json).
+        #[command(flatten)]
+        output: OutputArgs,
+        /// How many paths to list per network (the count covers all of them).
+        #[arg(long, default_value_t = 20, value_parser = path_limit)]
+        limit: usize,
+    },
+}
+
+/// Options that say how a gate is sized.
+#[derive(Debug, Clone, Args)]
+pub struct GateArgs {
+    /// Sizing method: longest-path (each device: reference W/L x devices on the longest path through
+    /// it) or min-area (least total W/L with every path at the target).
+    #[arg(long, value_enum, default_value_t = Method::LongestPath)]
+    pub method: Method,
+    /// Mobility ratio mu_n / mu_p (real processes run about 2 to 3).
+    #[arg(long, value_name = "MU", default_value_t = 2.0, value_parser = positive_number, allow_hyphen_values = true)]
+    pub mobility_ratio: f64,
+    /// Drive strength: multiple of the unit reference inverter.
+    #[arg(long, value_name = "D", default_value_t = 1.0, value_parser = positive_number, allow_hyphen_values = true)]
+    pub drive: f64,
+    /// A skewed reference inverter: its NMOS and PMOS W/L at drive 1, as N:P (default 1:MU, balanced).
+    #[arg(long, value_name = "N:P", value_parser = reference_inverter, allow_hyphen_values = true)]
+    pub reference: Option<Reference>,
+    /// An input to place nearest the output in every series stack (default: the member with the least
+    /// diffusion width facing the output goes there; ties keep the written order).
+    #[arg(long, value_name = "INPUT")]
+    pub critical: Option<String>,
+    /// The cell name in netlists and tables (default: the shorthand, or "cell").
+    #[arg(long, value_name = "NAME", value_parser = cell_name)]
+    pub name: Option<String>,
+}
+
+/// Options that say where and how output is written.
+#[derive(Debug, Clone, Args)]
+pub struct OutputArgs {
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+    /// Write to FILE (atomically: a temporary file, then a rename) instead of standard output.
+    #[arg(short, long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+}
+
+/// A positive, finite number.
+pub fn positive_number(text: &str) -> Result<f64, String> {
+    let value: f64 = text.trim().parse().map_err(|_| format!("'{text}' is not a number"))?;
+    if !value.is_finite() || value <= 0.0 {
+        return Err(format!("must be a positive finite number, found '{text}'"));
+    }
+    Ok(value)
+}
+
+fn reference_inverter(text: &str) -> Result<Reference, String> {
+    let (nmos, pmos) =
+        text.split_once(':').ok_or_else(|| format!("expected NMOS:PMOS W/L such as 1:2.5, found '{text}'"))?;
+    Ok(Reference { nmos: positive_number(nmos)?, pmos: positive_number(pmos)? })
+}
+
+fn path_limit(text: &str) -> Result<usize, String> {
+    let value: usize = text.parse().map_err(|_| format!("expected a whole number, found '{text}'"))?;
+    if value > MAX_LISTED_PATHS {
+        return Err(format!("at most {MAX_LISTED_PATHS} paths are listed, found '{text}'"));
+    }
+    Ok(value)
+}
+
+/// A cell name: an identifier, so that netlists take it and spreadsheets never read it as a formula.
+pub fn cell_name(text: &str) -> Result<String, String> {
+    let mut characters = text.chars();
+    let first_ok = characters.next().is_some_and(|c| c.is_ascii_alphabetic() || c == '_');
+    if !first_ok || !characters.all(|c| c.is_ascii_alphanumeric() || c == '_') {
+        return Err(format!("a cell name is a letter or '_' followed by letters, digits and '_', found '{text}'"));
+    }
+    Ok(text.to_string())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers_must_be_positive_and_finite() {
+        assert_eq!(positive_number("2.5"), Ok(2.5));
+        for bad in ["-1", "0", "nan", "NaN", "inf", "x", ""] {
+            assert!(positive_number(bad).is_err(), "{bad}");
+        }
+    }
+
+    #[test]
+    fn reference_takes_two_numbers() {
+        assert_eq!(reference_inverter("1:3"), Ok(Reference { nmos: 1.0, pmos: 3.0 }));
+        assert!(reference_inverter("1").is_err());
+        assert!(reference_inverter("1:-3").is_err());
+    }
+
+    #[test]
+    fn command_line_is_consistent() {
+        use clap::CommandFactory;
+        Cli::command().debug_assert();
+    }
+}

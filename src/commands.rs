@@ -1,0 +1,94 @@
+//! What each command does: read arguments, run the stages, write the output where asked.
+//!
+//! This and `main.rs` are the only places that touch files and streams.
+
+use std::ffi::OsString;
+use std::fs;
+use std::io::{self, BufWriter, Write};
+use std::path::Path;
+
+use crate::cli::{Cli, Command, GateArgs, OutputArgs};
+use crate::error::Error;
+use crate::gate::{GateOptions, size_text};
+use crate::output::{self, Format};
+use crate::process::Process;
+use crate::sizing::SizingOptions;
+
+/// Run a parsed command line.
+pub fn run(cli: Cli) -> Result<(), Error> {
+    match cli.command {
+        Command::Size { expression, gate, output, rows } => {
+            let text = utf8(&expression, "the expression")?;
+            let sized = size_text(&text, &gate_options(&gate))?;
+            let process = Process::default();
+            write_output(&output, |out| {
+                output::write_gates(std::slice::from_ref(&sized), output.format, rows, &process, out)
+            })
+        }
+        Command::Paths { expression, gate, output, limit } => {
+            if output.format == Format::Spice {
+                return Err(Error::Usage("paths are written as table, csv or json, not spice".into()));
+            }
+            let text = utf8(&expression, "the expression")?;
+            let sized = size_text(&text, &gate_options(&gate))?;
+            let listings = sized.list_paths(limit);
+            write_output(&output, |out| output::write_paths(&sized, &listings, output.format, out))
+        }
+    }
+}
+
+/// Gate options from the command line.
+pub fn gate_options(args: &GateArgs) -> GateOptions {
+    GateOptions {
+        sizing: SizingOptions::new(args.method, args.mobility_ratio, args.drive, args.reference),
+        critical: args.critical.clone(),
+        name: args.name.clone(),
+    }
+}
+
+/// An argument as UTF-8, or an error naming the first bad byte.
+pub fn utf8(argument: &OsString, what: &str) -> Result<String, Error> {
+    match argument.to_str() {
+        Some(text) => Ok(text.to_string()),
+        None => {
+            let bytes = argument.as_encoded_bytes();
+            let byte = std::str::from_utf8(bytes).err().map_or(0, |e| e.valid_up_to());
+            Err(Error::NotUtf8 { what: what.to_string(), byte })
+        }
+    }
+}
+
+/// Write to standard output, or atomically to `-o FILE`: a temporary file beside it, then a rename.
+pub fn write_output(args: &OutputArgs, write: impl FnOnce(&mut dyn Write) -> io::Result<()>) -> Result<(), Error> {
+    match &args.output {
+        None => {
+            let stdout = io::stdout();
+            let mut out = BufWriter::new(stdout.lock());
+            write(&mut out)?;
+            out.flush()?;
+            Ok(())
+        }
+        Some(path) => write_atomically(path, write),
+    }
+}
+
+/// Write `path` through a temporary file in the same directory, renamed into place when complete.
+pub fn write_atomically(path: &Path, write: impl FnOnce(&mut dyn Write) -> io::Result<()>) -> Result<(), Error> {
+    let file_error = |source| Error::File { action: "write", path: path.to_path_buf(), source };
+    let directory = match path.parent() {
+        Some(parent) if !parent.as_os_str().is_empty() => parent,
+        _ => Path::new("."),
+    };
+    let temporary = tempfile::NamedTempFile::new_in(directory).map_err(file_error)?;
+    let mut out = BufWriter::new(temporary);
+    write(&mut out).map_err(file_error)?;
+    let temporary = out.into_inner().map_err(|e| file_error(e.into_error()))?;
+    temporary.as_file().sync_all().map_err(file_error)?;
+    temporary.persist(path).map_err(|e| file_error(e.error))?;
+    Ok(())
+}
+
+/// Read a whole file as UTF-8 text.
+pub fn read_text(path: &Path) -> Result<String, Error> {
+    fs::read_to_string(path).map_err(|source| Error::File { action: "read", path: path.to_path_buf(), source })
+}

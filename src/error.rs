@@ -1,0 +1,325 @@
+//! Typed errors of every stage, and their rendering like a compiler: where, the source line, a caret.
+//!
+//! Each stage returns its own error enum; [`Error`] gathers them for the binary, which maps each
+//! kind to a fixed exit code ([`Error::exit_code`]).
+
+use std::fmt::Write as _;
+use std::path::PathBuf;
+
+use thiserror::Error;
+
+/// A half-open byte range `start..end` in a source text.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize)]
+pub struct Span {
+    /// First byte of the range.
+    pub start: usize,
+    /// One past the last byte of the range.
+    pub end: usize,
+}
+
+impl Span {
+    /// A span from `start` to `end` (bytes).
+    pub fn new(start: usize, end: usize) -> Self {
+        Span { start, end }
+    }
+
+    /// The smallest span covering both.
+    pub fn join(self, other: Span) -> Span {
+        Span::new(self.start.min(other.start), self.end.max(other.end))
+    }
+}
+
+/// Exit code for success.
+pub const EXIT_OK: u8 = 0;
+/// Exit code when a check (verification, a limit a user asked to hold) failed.
+pub const EXIT_CHECK_FAILED: u8 = 1;
+/// Exit code for bad input or usage.
+pub const EXIT_BAD_INPUT: u8 = 2;
+
+/// Errors of the expression stage: lexing, parsing, shorthand names and the one-stage check.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum ExprError {
+    /// Nothing but white space.
+    #[error("the expression is empty")]
+    Empty {
+        /// Where the (empty) text is.
+        span: Span,
+    },
+    /// A character no token starts with.
+    #[error("unknown character '{character}'")]
+    UnknownCharacter {
+        /// The character.
+        character: char,
+        /// Where it is.
+        span: Span,
+    },
+    /// A token that cannot stand where it is.
+    #[error("expected {expected}, found {found}")]
+    Unexpected {
+        /// What could stand here.
+        expected: String,
+        /// What stands here instead (quoted, or "the end").
+        found: String,
+        /// Where.
+        span: Span,
+    },
+    /// An opening parenthesis never closed.
+    #[error("'(' is never closed: expected ')' before the end")]
+    Unclosed {
+        /// The opening parenthesis.
+        span: Span,
+    },
+    /// Deeper nesting than the parser allows.
+    #[error("nesting deeper than {limit} levels of parentheses and NOTs")]
+    TooDeep {
+        /// The limit.
+        limit: usize,
+        /// Where the limit was crossed.
+        span: Span,
+    },
+    /// A longer text than the parser reads.
+    #[error("the expression is {length} bytes long; the limit is {limit}")]
+    TooLong {
+        /// Its length.
+        length: usize,
+        /// The limit.
+        limit: usize,
+        /// The whole text.
+        span: Span,
+    },
+    /// More literal occurrences (transistors per network) than allowed.
+    #[error("the expression has {count} input occurrences; the limit is {limit} transistors per network")]
+    TooManyDevices {
+        /// How many.
+        count: usize,
+        /// The limit.
+        limit: usize,
+        /// Where the first one past the limit is.
+        span: Span,
+    },
+    /// More distinct inputs than allowed.
+    #[error("the expression has {count} distinct inputs; the limit is {limit}")]
+    TooManyInputs {
+        /// How many.
+        count: usize,
+        /// The limit.
+        limit: usize,
+        /// Where the first one past the limit is.
+        span: Span,
+    },
+    /// Every input appears uncomplemented: the function is non-inverting.
+    #[error(
+        "'{text}' is non-inverting: every input appears uncomplemented, so one static stage gives its complement; \
+         write the complement (e.g. '!({text})') and follow it with an inverter"
+    )]
+    NonInverting {
+        /// The expression text.
+        text: String,
+        /// The whole expression.
+        span: Span,
+    },
+    /// Inputs in both polarities after pushing NOTs to the leaves.
+    #[error(
+        "not a single stage: input '{name}' appears uncomplemented here, but a one-stage gate needs every input \
+         complemented once NOTs are pushed to the inputs (the pull-up would need an NMOS-style input, or the \
+         pull-down a PMOS-style one)"
+    )]
+    Binate {
+        /// The input that appears in the wrong polarity.
+        name: String,
+        /// Where.
+        span: Span,
+    },
+    /// Exclusive OR needs every input in both polarities.
+    #[error("'^' (exclusive or) is binate: it needs each input in both polarities, which no single static stage has")]
+    ExclusiveOr {
+        /// The operator.
+        span: Span,
+    },
+    /// A name that looks like a gate shorthand but is not one.
+    #[error("unknown gate '{name}': {why}")]
+    UnknownShorthand {
+        /// The name.
+        name: String,
+        /// What is wrong with it and what is known.
+        why: String,
+        /// Where.
+        span: Span,
+    },
+    /// An input named like a node the gate itself uses.
+    #[error("input '{name}' clashes with {what}")]
+    NameClash {
+        /// The input.
+        name: String,
+        /// What it clashes with.
+        what: String,
+        /// Where.
+        span: Span,
+    },
+}
+
+impl ExprError {
+    /// Where in the expression the error is.
+    pub fn span(&self) -> Span {
+        match self {
+            ExprError::Empty { span }
+            | ExprError::UnknownCharacter { span, .. }
+            | ExprError::Unexpected { span, .. }
+            | ExprError::Unclosed { span }
+            | ExprError::TooDeep { span, .. }
+            | ExprError::TooLong { span, .. }
+            | ExprError::TooManyDevices { span, .. }
+            | ExprError::TooManyInputs { span, .. }
+            | ExprError::NonInverting { span, .. }
+            | ExprError::Binate { span, .. }
+            | ExprError::ExclusiveOr { span }
+            | ExprError::UnknownShorthand { span, .. }
+            | ExprError::NameClash { span, .. } => *span,
+        }
+    }
+}
+
+/// An error of any stage, as the binary sees it.
+#[derive(Debug, Error)]
+pub enum Error {
+    /// A bad expression, with the text it came from.
+    #[error("{error}")]
+    Expression {
+        /// The stage's error.
+        error: ExprError,
+        /// The expression text.
+        source_text: String,
+    },
+    /// Bad usage or an option value out of range.
+    #[error("{0}")]
+    Usage(String),
+    /// A command-line argument that is not UTF-8.
+    #[error("{what} is not valid UTF-8 (first bad byte at byte {byte})")]
+    NotUtf8 {
+        /// Which argument.
+        what: String,
+        /// Index of the first invalid byte.
+        byte: usize,
+    },
+    /// A file could not be read or written.
+    #[error("cannot {action} '{path}': {source}")]
+    File {
+        /// "read" or "write".
+        action: &'static str,
+        /// The file.
+        path: PathBuf,
+        /// Why.
+        source: std::io::Error,
+    },
+    /// Writing the output failed (a closed pipe is handled by the binary).
+    #[error("cannot write the output: {0}")]
+    Output(#[from] std::io::Error),
+    /// A check the user asked for failed; the message says which.
+    #[error("{0}")]
+    CheckFailed(String),
+}
+
+impl Error {
+    /// The documented exit code: 1 for a failed check, 2 for bad input, usage or I/O.
+    pub fn exit_code(&self) -> u8 {
+        match self {
+            Error::CheckFailed(_) => EXIT_CHECK_FAILED,
+            _ => EXIT_BAD_INPUT,
+        }
+    }
+
+    /// The message as printed on stderr, with source line and caret where there is a span.
+    pub fn render(&self) -> String {
+        match self {
+            Error::Expression { error, source_text } => {
+                render_at(&error.to_string(), "the expression", source_text, error.span())
+            }
+            other => format!("error: {other}\n"),
+        }
+    }
+}
+
+/// Line (1-based), column (1-based, in characters) and the line's text for a byte offset.
+pub fn line_and_column(source: &str, offset: usize) -> (usize, usize, &str) {
+    let offset = floor_char_boundary(source, offset.min(source.len()));
+    let line_start = source[..offset].rfind('\n').map_or(0, |i| i + 1);
+    let line_end = source[offset..].find('\n').map_or(source.len(), |i| offset + i);
+    let line = source[..offset].matches('\n').count() + 1;
+    let column = source[line_start..offset].chars().count() + 1;
+    (line, column, &source[line_start..line_end])
+}
+
+fn floor_char_boundary(text: &str, mut index: usize) -> usize {
+    while index > 0 && !text.is_char_boundary(index) {
+        index -= 1;
+    }
+    index
+}
+
+/// How many characters of a long line are shown on each side of the caret.
+const CONTEXT_CHARACTERS: usize = 40;
+
+/// Render `message` pointing at `span` of `source`, which is called `origin` ("the expression",
+/// a file name ...): `error: message`, then where, the source line and a caret under the span.
+pub fn render_at(message: &str, origin: &str, source: &str, span: Span) -> String {
+    let (line, column, text) = line_and_column(source, span.start);
+    let mut out = String::new();
+    let _ = writeln!(out, "error: {message}");
+    if source.contains('\n') {
+        let _ = writeln!(out, "  at {origin}, line {line}, column {column}:");
+    } else {
+        let _ = writeln!(out, "  at {origin}, column {column}:");
+    }
+    let characters: Vec<char> = text.chars().collect();
+    let caret_at = column - 1;
+    let first = caret_at.saturating_sub(CONTEXT_CHARACTERS);
+    let last = (caret_at + CONTEXT_CHARACTERS).min(characters.len());
+    let mut shown: String = characters[first..last].iter().collect();
+    let mut caret_column = caret_at - first;
+    if first > 0 {
+        shown.insert_str(0, "...");
+        caret_column += 3;
+    }
+    if last < characters.len() {
+        shown.push_str("...");
+    }
+    let width = {
+        let end = floor_char_boundary(source, span.end.min(source.len()));
+        let covered = source.get(span.start.min(end)..end).map_or(1, |s| s.chars().take_while(|c| *c != '\n').count());
+        covered.clamp(1, CONTEXT_CHARACTERS)
+    };
+    let _ = writeln!(out, "    {}", shown.replace('\t', " "));
+    let _ = writeln!(out, "    {}{}", " ".repeat(caret_column), "^".repeat(width));
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn caret_sits_under_the_span() {
+        let text = render_at("expected x, found ')'", "the expression", "!(a &)", Span::new(5, 6));
+        let lines: Vec<&str> = text.lines().collect();
+        assert_eq!(lines[0], "error: expected x, found ')'");
+        assert_eq!(lines[1], "  at the expression, column 6:");
+        assert_eq!(lines[2], "    !(a &)");
+        assert_eq!(lines[3], "         ^");
+    }
+
+    #[test]
+    fn long_lines_are_windowed() {
+        let source = "a".repeat(500);
+        let text = render_at("m", "e", &source, Span::new(250, 251));
+        let lines: Vec<&str> = text.lines().collect();
+        assert!(lines[2].starts_with("    ..."));
+        assert!(lines[2].ends_with("..."));
+        assert_eq!(lines[3].find('^'), Some(4 + 3 + CONTEXT_CHARACTERS));
+    }
+
+    #[test]
+    fn multi_line_sources_name_the_line() {
+        let (line, column, text) = line_and_column("one\ntwo = 3\n", 8);
+        assert_eq!((line, column, text), (2, 5, "two = 3"));
+    }
+}

@@ -1,0 +1,296 @@
+//! Negation-normal form and the one-stage check: turns `Y = expr` into `Y = NOT f` with `f` an
+//! AND/OR tree of uncomplemented input occurrences, or says why one static stage cannot build it.
+
+use std::collections::HashMap;
+
+use crate::error::{ExprError, Span};
+use crate::expr::ast::{Expr, ExprKind};
+
+/// Most input occurrences (transistors per network) in one gate.
+pub const MAX_DEVICES: usize = 10_000;
+/// Most distinct inputs of one gate.
+pub const MAX_INPUTS: usize = 10_000;
+
+/// One occurrence of an input in the expression: one NMOS and one PMOS.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Literal {
+    /// Index into [`GateFunction::inputs`].
+    pub input: usize,
+    /// Where it is written.
+    pub span: Span,
+}
+
+/// The monotone function `f` of a gate `Y = NOT f`, over literal occurrences.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Function {
+    /// A literal occurrence, by index into [`GateFunction::literals`].
+    Literal(usize),
+    /// AND of two or more (never directly of another AND).
+    And(Vec<Function>),
+    /// OR of two or more (never directly of another OR).
+    Or(Vec<Function>),
+}
+
+/// A gate read from text: its output, inputs, literal occurrences and `f`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GateFunction {
+    /// Output node name (`y` unless the text names it).
+    pub output: String,
+    /// Input names in order of first appearance.
+    pub inputs: Vec<String>,
+    /// Literal occurrences in written order.
+    pub literals: Vec<Literal>,
+    /// `f`, where the gate computes `NOT f`.
+    pub function: Function,
+    /// The expression as written, in canonical form (`!(a & b | c)`).
+    pub text: String,
+    /// The shorthand name, when the gate was given as one.
+    pub shorthand: Option<String>,
+}
+
+/// Default output node name.
+pub const DEFAULT_OUTPUT: &str = "y";
+/// Names of the supply rails in netlists; inputs and outputs may not take them.
+pub const RAILS: [&str; 2] = ["vdd", "vss"];
+
+/// Bring `expr` to the form `NOT f`; `output` names the output node.
+pub fn normalize(
+    expr: &Expr,
+    output: Option<(&str, Span)>,
+    shorthand: Option<String>,
+) -> Result<GateFunction, ExprError> {
+    let mut builder = Builder { inputs: Vec::new(), index: HashMap::new(), literals: Vec::new(), wrong: None };
+    // f = NOT expr, pushed to the leaves: a one-stage gate has only uncomplemented literals in f.
+    let function = builder.push(expr, true)?;
+    let all_wrong = builder.literals.iter().all(|(_, right)| !right);
+    if let Some(span) = builder.wrong {
+        if all_wrong {
+            return Err(ExprError::NonInverting { text: expr.to_text(), span: expr.span });
+        }
+        let name = builder.inputs[builder.index_at(span)].clone();
+        return Err(ExprError::Binate { name, span });
+    }
+    let (output, output_span) = match output {
+        Some((name, span)) => (name.to_string(), span),
+        None => (DEFAULT_OUTPUT.to_string(), expr.span),
+    };
+    check_names(&builder, &output, output_span)?;
+    Ok(GateFunction {
+        output,
+        inputs: builder.inputs,
+        literals: builder.literals.into_iter().map(|(literal, _)| literal).collect(),
+        function,
+        text: expr.to_text(),
+        shorthand,
+    })
+}
+
+struct Builder {
+    inputs: Vec<String>,
+    index: HashMap<String, usize>,
+    /// Literals in f, with the polarity check passed (true) or not.
+    literals: Vec<(Literal, bool)>,
+    /// The first literal in the wrong polarity.
+    wrong: Option<Span>,
+}
+
+impl Builder {
+    fn index_at(&self, span: Span) -> usize {
+        self.literals.iter().find(|(l, _)| l.span == span).map_or(0, |(l, _)| l.input)
+    }
+
+    /// NNF of `expr` (negated when `negate`), as `f`'s tree.
+    fn push(&mut self, expr: &Expr, negate: bool) -> Result<Function, ExprError> {
+        match &expr.kind {
+            ExprKind::Input(name) => {
+                let input = match self.index.get(name) {
+                    Some(&index) => index,
+                    None => {
+                        if self.inputs.len() == MAX_INPUTS {
+                            return Err(ExprError::TooManyInputs {
+                                count: self.inputs.len() + 1,
+                                limit: MAX_INPUTS,
+                                span: expr.span,
+                            });
+                        }
+                        self.index.insert(name.clone(), self.inputs.len());
+                        self.inputs.push(name.clone());
+                        self.inputs.len() - 1
+                    }
+                };
+                if self.literals.len() == MAX_DEVICES {
+                    return Err(ExprError::TooManyDevices {
+                        count: self.literals.len() + 1,
+                        limit: MAX_DEVICES,
+                        span: expr.span,
+                    });
+                }
+                // Reached without an odd number of NOTs above it: uncomplemented in the gate's
+                // expression, so complemented in f.
+                if negate && self.wrong.is_none() {
+                    self.wrong = Some(expr.span);
+                }
+                self.literals.push((Literal { input, span: expr.span }, !negate));
+                Ok(Function::Literal(self.literals.len() - 1))
+            }
+            ExprKind::Not(inner) => self.push(inner, !negate),
+            ExprKind::And(operands) | ExprKind::Or(operands) => {
+                let is_and = matches!(expr.kind, ExprKind::And(_)) != negate;
+                let mut children = Vec::with_capacity(operands.len());
+                for operand in operands {
+                    match (self.push(operand, negate)?, is_and) {
+                        (Function::And(inner), true) | (Function::Or(inner), false) => children.extend(inner),
+                        (child, _) => children.push(child),
+                    }
+                }
+                Ok(if is_and { Function::And(children) } else { Function::Or(children) })
+            }
+            ExprKind::ExclusiveOr { operator, .. } => Err(ExprError::ExclusiveOr { span: *operator }),
+        }
+    }
+}
+
+impl GateFunction {
+    /// Literal indices per input.
+    pub fn occurrences(&self) -> Vec<Vec<usize>> {
+        let mut result = vec![Vec::new(); self.inputs.len()];
+        for (index, literal) in self.literals.iter().enumerate() {
+            result[literal.input].push(index);
+        }
+        result
+    }
+
+    /// Whether some input has more than one occurrence.
+    pub fn has_repeated_inputs(&self) -> bool {
+        self.literals.len() > self.inputs.len()
+    }
+
+    /// `f` evaluated on one input vector (`values[i]` for input `i`), from the tree, not the netlist.
+    pub fn evaluate(&self, values: &[bool]) -> bool {
+        fn walk(function: &Function, literals: &[Literal], values: &[bool]) -> bool {
+            match function {
+                Function::Literal(index) => values[literals[*index].input],
+                Function::And(children) => children.iter().all(|c| walk(c, literals, values)),
+                Function::Or(children) => children.iter().any(|c| walk(c, literals, values)),
+            }
+        }
+        walk(&self.function, &self.literals, values)
+    }
+}
+
+/// Inputs may not clash with the output, the rails, or each other when case is ignored
+/// (netlists ignore case).
+fn check_names(builder: &Builder, output: &str, output_span: Span) -> Result<(), ExprError> {
+    let span_of =
+        |input: usize| builder.literals.iter().find(|(l, _)| l.input == input).map_or(Span::default(), |(l, _)| l.span);
+    if RAILS.iter().any(|rail| rail.eq_ignore_ascii_case(output)) {
+        return Err(ExprError::NameClash {
+            name: output.to_string(),
+            what: "a supply rail name (vdd, vss) as the output".into(),
+            span: output_span,
+        });
+    }
+    let mut seen: HashMap<String, usize> = HashMap::new();
+    for (index, name) in builder.inputs.iter().enumerate() {
+        let lower = name.to_ascii_lowercase();
+        if lower == output.to_ascii_lowercase() {
+            return Err(ExprError::NameClash {
+                name: name.clone(),
+                what: format!("the output '{output}' (a gate cannot take its own output as an input)"),
+                span: span_of(index),
+            });
+        }
+        if RAILS.contains(&lower.as_str()) {
+            return Err(ExprError::NameClash {
+                name: name.clone(),
+                what: "a supply rail name (vdd, vss)".into(),
+                span: span_of(index),
+            });
+        }
+        if let Some(&other) = seen.get(&lower) {
+            return Err(ExprError::NameClash {
+                name: name.clone(),
+                what: format!("input '{}' (netlist names ignore case)", builder.inputs[other]),
+                span: span_of(index),
+            });
+        }
+        seen.insert(lower, index);
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::expr::read_gate;
+
+    fn f_shape(function: &Function, gate: &GateFunction) -> String {
+        let list = |op: &str, children: &[Function]| {
+            let inner: Vec<String> = children.iter().map(|c| f_shape(c, gate)).collect();
+            format!("{op}[{}]", inner.join(" "))
+        };
+        match function {
+            Function::Literal(i) => gate.inputs[gate.literals[*i].input].clone(),
+            Function::And(children) => list("&", children),
+            Function::Or(children) => list("|", children),
+        }
+    }
+
+    #[test]
+    fn table_of_single_stage_forms() {
+        // expression -> f, where the gate computes NOT f (De Morgan; common practice, no source)
+        let cases = [
+            ("!(a & b)", "&[a b]"),
+            ("!a | !b", "&[a b]"),
+            ("!a & !b", "|[a b]"),
+            ("!(a & (b | c))", "&[a |[b c]]"),
+            ("!((a & b) & c)", "&[a b c]"),
+            ("!(a & b | a & c)", "|[&[a b] &[a c]]"),
+            ("(!a | !b) & !c", "|[&[a b] c]"),
+            ("inv", "a"),
+            ("aoi21", "|[&[a b] c]"),
+        ];
+        for (text, expected) in cases {
+            let gate = read_gate(text).unwrap_or_else(|e| panic!("{text}: {e}"));
+            assert_eq!(f_shape(&gate.function, &gate), expected, "{text}");
+        }
+    }
+
+    #[test]
+    fn repeated_inputs_are_separate_devices() {
+        let gate = read_gate("!(a & b | a & c)").unwrap();
+        assert_eq!(gate.inputs, ["a", "b", "c"]);
+        assert_eq!(gate.literals.len(), 4);
+        assert_eq!(gate.occurrences()[0], vec![0, 2]);
+        assert!(gate.has_repeated_inputs());
+    }
+
+    #[test]
+    fn table_of_refused_forms() {
+        // expression -> byte the caret points at, and a word of the reason
+        let cases = [
+            ("a & b", 0, "non-inverting"),
+            ("a", 0, "unknown gate"),
+            ("a & !b", 0, "not a single stage"),
+            ("!a & b", 5, "'b'"),
+            ("!(a ^ b)", 4, "exclusive or"),
+            ("y = !(y & a)", 6, "own output"),
+            ("!(vdd & a)", 2, "supply rail"),
+            ("vss = !a", 0, "supply rail"),
+            ("!(a & A)", 6, "ignore case"),
+        ];
+        for (text, at, word) in cases {
+            let error = read_gate(text).expect_err(text);
+            assert_eq!(error.span().start, at, "{text}: {error}");
+            assert!(error.to_string().contains(word), "{text}: {error}");
+        }
+    }
+
+    #[test]
+    fn evaluation_follows_the_tree() {
+        let gate = read_gate("aoi21").unwrap();
+        assert!(gate.evaluate(&[true, true, false]));
+        assert!(!gate.evaluate(&[true, false, false]));
+        assert!(gate.evaluate(&[false, false, true]));
+    }
+}

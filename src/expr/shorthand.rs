@@ -1,0 +1,146 @@
+//! The trade's gate names (`inv`, `nand2`, `aoi21`, `oai33` ...) as expression trees.
+//!
+//! Inputs are named `a`, `b`, `c` ... in order. AOI groups are ANDed then ORed; OAI groups are ORed
+//! then ANDed; the digits give the group sizes (`aoi21` = `!(a & b | c)`).
+
+use crate::error::{ExprError, Span};
+use crate::expr::ast::{Expr, ExprKind};
+
+/// Most inputs of a NAND or NOR shorthand, and most members of an AOI/OAI group.
+pub const MAX_STACK: usize = 8;
+/// Most groups of an AOI/OAI shorthand.
+pub const MAX_GROUPS: usize = 8;
+
+const KNOWN: &str = "known gates are inv, nand2..nand8, nor2..nor8, and aoi/oai followed by group sizes \
+                     such as aoi21, aoi22, aoi211, aoi221, aoi222, aoi31, aoi32, aoi33, oai21 ... oai33";
+
+/// Whether `name` is meant as a gate shorthand: a lone name in place of an expression always is,
+/// since a lone input would be a non-inverting buffer.
+///
+/// Returns the expression tree, with every span on `span`, or why the name is not a known gate.
+pub fn expand(name: &str, span: Span) -> Result<Expr, ExprError> {
+    let lower = name.to_ascii_lowercase();
+    let unknown = |why: String| ExprError::UnknownShorthand { name: name.to_string(), why, span };
+    let groups: Vec<usize> = if lower == "inv" {
+        return Ok(not(input(0, span), span));
+    } else if let Some(count) = lower.strip_prefix("nand").or_else(|| lower.strip_prefix("nor")) {
+        let is_nand = lower.starts_with("nand");
+        let family = if is_nand { "nand" } else { "nor" };
+        let inputs: usize =
+            count.parse().ok().filter(|n| (2..=MAX_STACK).contains(n) && !count.starts_with('0')).ok_or_else(|| {
+                unknown(format!("{family} takes 2 to {MAX_STACK} inputs ({family}2 .. {family}{MAX_STACK})"))
+            })?;
+        let operands: Vec<Expr> = (0..inputs).map(|i| input(i, span)).collect();
+        let kind = if is_nand { ExprKind::And(operands) } else { ExprKind::Or(operands) };
+        return Ok(not(Expr { kind, span }, span));
+    } else if let Some(digits) = lower.strip_prefix("aoi").or_else(|| lower.strip_prefix("oai")) {
+        let family = &lower[..3];
+        let sizes: Option<Vec<usize>> = digits
+            .chars()
+            .map(|c| c.to_digit(10).map(|d| d as usize).filter(|d| (1..=MAX_STACK).contains(d)))
+            .collect();
+        match sizes {
+            Some(sizes) if (2..=MAX_GROUPS).contains(&sizes.len()) && sizes.iter().any(|&s| s > 1) => sizes,
+            _ => {
+                return Err(unknown(format!(
+                    "{family} takes 2 to {MAX_GROUPS} group sizes of 1 to {MAX_STACK}, at least one above 1 \
+                     (e.g. {family}21)"
+                )));
+            }
+        }
+    } else {
+        return Err(unknown(format!(
+            "{KNOWN}; a lone input '{name}' would be a non-inverting buffer, not a single stage"
+        )));
+    };
+    let is_aoi = lower.starts_with("aoi");
+    let mut next = 0;
+    let mut terms = Vec::with_capacity(groups.len());
+    for size in groups {
+        let members: Vec<Expr> = (next..next + size).map(|i| input(i, span)).collect();
+        next += size;
+        terms.push(if size == 1 {
+            members.into_iter().next().expect("one member")
+        } else if is_aoi {
+            Expr { kind: ExprKind::And(members), span }
+        } else {
+            Expr { kind: ExprKind::Or(members), span }
+        });
+    }
+    let kind = if is_aoi { ExprKind::Or(terms) } else { ExprKind::And(terms) };
+    Ok(not(Expr { kind, span }, span))
+}
+
+/// The name of the `index`th input: a, b, ... z, then a1, b1 ...
+pub fn input_name(index: usize) -> String {
+    let letter = (b'a' + (index % 26) as u8) as char;
+    match index / 26 {
+        0 => letter.to_string(),
+        round => format!("{letter}{round}"),
+    }
+}
+
+fn input(index: usize, span: Span) -> Expr {
+    Expr { kind: ExprKind::Input(input_name(index)), span }
+}
+
+fn not(inner: Expr, span: Span) -> Expr {
+    Expr { kind: ExprKind::Not(Box::new(inner)), span }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn text(name: &str) -> String {
+        expand(name, Span::default()).unwrap().to_text()
+    }
+
+    #[test]
+    fn table_of_shorthands() {
+        // The usual meaning of each name (common practice, no source).
+        let cases = [
+            ("inv", "!a"),
+            ("nand2", "!(a & b)"),
+            ("NAND3", "!(a & b & c)"),
+            ("nor2", "!(a | b)"),
+            ("nor8", "!(a | b | c | d | e | f | g | h)"),
+            ("aoi21", "!(a & b | c)"),
+            ("aoi22", "!(a & b | c & d)"),
+            ("aoi211", "!(a & b | c | d)"),
+            ("aoi221", "!(a & b | c & d | e)"),
+            ("aoi222", "!(a & b | c & d | e & f)"),
+            ("aoi31", "!(a & b & c | d)"),
+            ("aoi32", "!(a & b & c | d & e)"),
+            ("aoi33", "!(a & b & c | d & e & f)"),
+            ("oai21", "!((a | b) & c)"),
+            ("oai22", "!((a | b) & (c | d))"),
+            ("oai211", "!((a | b) & c & d)"),
+            ("oai221", "!((a | b) & (c | d) & e)"),
+            ("oai222", "!((a | b) & (c | d) & (e | f))"),
+            ("oai31", "!((a | b | c) & d)"),
+            ("oai32", "!((a | b | c) & (d | e))"),
+            ("oai33", "!((a | b | c) & (d | e | f))"),
+        ];
+        for (name, expected) in cases {
+            assert_eq!(text(name), expected, "{name}");
+        }
+    }
+
+    #[test]
+    fn unknown_names_say_why() {
+        for name in ["nand1", "nand9", "nand02", "nor", "aoi2", "aoi11", "aoi20", "oai123456789", "and2", "x", "buf"] {
+            let error = expand(name, Span::new(3, 3 + name.len())).unwrap_err();
+            assert!(matches!(error, ExprError::UnknownShorthand { .. }), "{name}");
+            assert_eq!(error.span().start, 3);
+            assert!(error.to_string().contains(&format!("'{name}'")), "{error}");
+        }
+    }
+
+    #[test]
+    fn input_names_run_past_z() {
+        assert_eq!(input_name(0), "a");
+        assert_eq!(input_name(25), "z");
+        assert_eq!(input_name(26), "a1");
+    }
+}

@@ -1,0 +1,431 @@
+//! One gate through every stage: read the expression, build both networks, size them, order the
+//! series stacks, name the nodes, find the worst cases and work out the figures.
+//!
+//! [`SizedGate`] is what every writer in `output` takes; its serde form is the JSON output.
+
+use num_bigint::BigUint;
+use serde::ser::{SerializeMap, Serializer};
+
+use crate::error::Error;
+use crate::expr::{GateFunction, read_gate};
+use crate::figures::{self, DeviceLoad};
+use crate::network::{Network, NetworkKind, Terminals, internal_prefix};
+use crate::paths;
+use crate::sizing::{self, Method, SizingOptions};
+
+/// What to size and how.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GateOptions {
+    /// Method, mobility ratio, drive and reference inverter.
+    pub sizing: SizingOptions,
+    /// An input to put nearest the output in every series stack.
+    pub critical: Option<String>,
+    /// The cell name (defaults to the shorthand, or `cell`).
+    pub name: Option<String>,
+}
+
+impl GateOptions {
+    /// Options with the given sizing, no critical input and the default name.
+    pub fn new(sizing: SizingOptions) -> GateOptions {
+        GateOptions { sizing, critical: None, name: None }
+    }
+}
+
+/// An input vector: one value per input, in input order.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Vector {
+    /// Input names and values.
+    pub values: Vec<(String, bool)>,
+}
+
+impl Vector {
+    fn new(inputs: &[String], values: &[bool]) -> Vector {
+        Vector { values: inputs.iter().cloned().zip(values.iter().copied()).collect() }
+    }
+}
+
+impl std::fmt::Display for Vector {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        for (index, (name, value)) in self.values.iter().enumerate() {
+            if index > 0 {
+                f.write_str(" ")?;
+            }
+            write!(f, "{name}={}", u8::from(*value))?;
+        }
+        Ok(())
+    }
+}
+
+impl serde::Serialize for Vector {
+    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        let mut map = serializer.serialize_map(Some(self.values.len()))?;
+        for (name, value) in &self.values {
+            map.serialize_entry(name, &u8::from(*value))?;
+        }
+        map.end()
+    }
+}
+
+/// One sized transistor.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Transistor {
+    /// `MN1`, `MP1` ...: the number is the literal occurrence, shared by its NMOS and PMOS.
+    pub name: String,
+    /// `"nmos"` or `"pmos"`.
+    #[serde(rename = "type")]
+    pub device_type: &'static str,
+    /// Which network.
+    pub network: NetworkKind,
+    /// The input on its gate.
+    pub input: String,
+    /// Output-side node.
+    pub drain: String,
+    /// Rail-side node.
+    pub source: String,
+    /// Relative W/L: 1 is the unit NMOS.
+    pub w_over_l: f64,
+}
+
+/// Figures of one input.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct InputFigures {
+    /// Input name.
+    pub name: String,
+    /// Sum of the W/L of the devices it gates, in unit-NMOS gate capacitances.
+    pub input_capacitance: f64,
+    /// Input capacitance over the reference inverter's at the same drive.
+    pub logical_effort: f64,
+}
+
+/// The exact worst case over input vectors, where repeated inputs make it differ from the path bound.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ExactWorst {
+    /// Highest resistance of what conducts over all input vectors, in units of R.
+    pub resistance: f64,
+    /// A vector that reaches it.
+    pub vector: Vector,
+}
+
+/// Worst and best case of one network.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct NetworkFigures {
+    /// Which network.
+    pub network: NetworkKind,
+    /// The reference inverter's resistance on this side, in units of R.
+    pub target_resistance: f64,
+    /// The weakest path's resistance, in units of R.
+    pub worst_resistance: f64,
+    /// Its devices, output side first.
+    pub worst_path: Vec<String>,
+    /// The input vector that makes it the only conducting path; `null` where repeated inputs
+    /// make that impossible.
+    pub worst_vector: Option<Vector>,
+    /// With repeated inputs: the exact worst over input vectors (at most 16 inputs), else `null`.
+    pub exact_worst: Option<ExactWorst>,
+    /// Resistance with every device on, in units of R.
+    pub best_resistance: f64,
+    /// Number of conducting paths, as a decimal string (it can exceed any machine integer).
+    pub path_count: String,
+    /// Sum of the network's W/L.
+    pub total_w_over_l: f64,
+}
+
+/// What the other method would use.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Comparison {
+    /// The other method.
+    pub method: Method,
+    /// Its total W/L.
+    pub total_w_over_l: f64,
+    /// Its total relative to this one's, in percent (negative: it would save).
+    pub change_percent: f64,
+}
+
+/// A gate with every device sized and every figure worked out.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct SizedGate {
+    /// Cell name.
+    pub name: String,
+    /// The expression in canonical form.
+    pub expression: String,
+    /// Output node.
+    pub output: String,
+    /// Sizing method.
+    pub method: Method,
+    /// Mobility ratio mu_n / mu_p.
+    pub mobility_ratio: f64,
+    /// Drive strength.
+    pub drive: f64,
+    /// Reference inverter NMOS W/L at this drive.
+    pub reference_nmos_w_over_l: f64,
+    /// Reference inverter PMOS W/L at this drive.
+    pub reference_pmos_w_over_l: f64,
+    /// The input placed nearest the output, if one was named.
+    pub critical_input: Option<String>,
+    /// Every transistor, NMOS then PMOS, in literal order.
+    pub transistors: Vec<Transistor>,
+    /// Every input, in order of first appearance.
+    pub inputs: Vec<InputFigures>,
+    /// Parasitic delay, output node only, in units of the reference inverter's.
+    pub parasitic_delay: f64,
+    /// The devices whose drain is the output node.
+    pub output_devices: Vec<String>,
+    /// Number of transistors.
+    pub transistor_count: usize,
+    /// Sum of all W/L.
+    pub total_w_over_l: f64,
+    /// Pull-down then pull-up.
+    pub networks: Vec<NetworkFigures>,
+    /// The other method's total.
+    pub comparison: Comparison,
+    /// The gate function, for later stages.
+    #[serde(skip)]
+    pub function: GateFunction,
+    /// The ordered networks, pull-down first, for later stages.
+    #[serde(skip)]
+    pub trees: [Network; 2],
+    /// W/L per device index, pull-down then pull-up.
+    #[serde(skip)]
+    pub widths: [Vec<f64>; 2],
+    /// The sizing options used.
+    #[serde(skip)]
+    pub options: SizingOptions,
+}
+
+/// Name of device `index` (0-based literal occurrence) in a network.
+pub fn device_name(kind: NetworkKind, index: usize) -> String {
+    match kind {
+        NetworkKind::PullDown => format!("MN{}", index + 1),
+        NetworkKind::PullUp => format!("MP{}", index + 1),
+    }
+}
+
+/// Read `text` and size it.
+pub fn size_text(text: &str, options: &GateOptions) -> Result<SizedGate, Error> {
+    let function = read_gate(text).map_err(|error| Error::Expression { error, source_text: text.to_string() })?;
+    size_function(function, options)
+}
+
+/// Size a gate that has been read.
+pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<SizedGate, Error> {
+    let sizing = options.sizing;
+    let critical = match &options.critical {
+        None => None,
+        Some(name) => Some(function.inputs.iter().position(|i| i == name).ok_or_else(|| {
+            Error::Usage(format!(
+                "critical input '{name}' is not an input of the gate (its inputs: {})",
+                function.inputs.join(", ")
+            ))
+        })?),
+    };
+    let count = function.literals.len();
+    let input_of: Vec<usize> = function.literals.iter().map(|l| l.input).collect();
+    let built = Network::pair(&function);
+    let widths = built.clone().map(|n| sizing::size(&n, count, sizing.method, &sizing));
+    let other_total: f64 =
+        built.iter().map(|n| sizing::size(n, count, sizing.method.other(), &sizing).iter().sum::<f64>()).sum();
+    let trees = [0, 1].map(|side| built[side].ordered(&widths[side], &input_of, critical));
+
+    let mut names: Vec<&str> = function.inputs.iter().map(String::as_str).collect();
+    names.push(&function.output);
+    let terminals: [Vec<Terminals>; 2] = [("n", 0), ("p", 1)]
+        .map(|(base, side)| trees[side].nodes(count, &function.output, &internal_prefix(base, &names)));
+
+    let mut transistors = Vec::with_capacity(2 * count);
+    let mut loads = Vec::with_capacity(2 * count);
+    for (side, kind) in NetworkKind::BOTH.into_iter().enumerate() {
+        for device in 0..count {
+            let node = &terminals[side][device];
+            transistors.push(Transistor {
+                name: device_name(kind, device),
+                device_type: kind.device_type(),
+                network: kind,
+                input: function.inputs[input_of[device]].clone(),
+                drain: node.drain.clone(),
+                source: node.source.clone(),
+                w_over_l: widths[side][device],
+            });
+            loads.push(DeviceLoad { input: input_of[device], w_over_l: widths[side][device], terminals: node });
+        }
+    }
+
+    let reference_capacitance = sizing.drive * sizing.reference.input_capacitance();
+    let capacitance = figures::input_capacitance(&loads, function.inputs.len());
+    let effort = figures::logical_effort(&capacitance, reference_capacitance);
+    let inputs = function
+        .inputs
+        .iter()
+        .zip(capacitance.iter().zip(&effort))
+        .map(|(name, (&c, &g))| InputFigures { name: name.clone(), input_capacitance: c, logical_effort: g })
+        .collect();
+    let parasitic_delay = figures::parasitic_delay(&loads, &function.output, reference_capacitance);
+    let output_devices = transistors.iter().filter(|t| t.drain == function.output).map(|t| t.name.clone()).collect();
+
+    let networks: Vec<NetworkFigures> =
+        (0..2).map(|side| network_figures(&function, &trees[side], &widths[side], &input_of, &sizing)).collect();
+    let total: f64 = widths.iter().flatten().sum();
+    let name = options.name.clone().or_else(|| function.shorthand.clone()).unwrap_or_else(|| "cell".to_string());
+    Ok(SizedGate {
+        name,
+        expression: function.text.clone(),
+        output: function.output.clone(),
+        method: sizing.method,
+        mobility_ratio: sizing.mobility_ratio,
+        drive: sizing.drive,
+        reference_nmos_w_over_l: sizing.reference_width(NetworkKind::PullDown),
+        reference_pmos_w_over_l: sizing.reference_width(NetworkKind::PullUp),
+        critical_input: options.critical.clone(),
+        transistor_count: transistors.len(),
+        transistors,
+        inputs,
+        parasitic_delay,
+        output_devices,
+        total_w_over_l: total,
+        networks,
+        comparison: Comparison {
+            method: sizing.method.other(),
+            total_w_over_l: other_total,
+            change_percent: (other_total / total - 1.0) * 100.0,
+        },
+        function,
+        trees,
+        widths,
+        options: sizing,
+    })
+}
+
+fn network_figures(
+    function: &GateFunction,
+    network: &Network,
+    widths: &[f64],
+    input_of: &[usize],
+    sizing: &SizingOptions,
+) -> NetworkFigures {
+    let kind = network.kind;
+    let resistance = sizing.resistances(kind, widths);
+    let weakest = paths::weakest(network, &resistance);
+    let input_count = function.inputs.len();
+    let worst_vector = paths::sensitize(kind, &weakest.devices, input_of, input_count)
+        .map(|values| Vector::new(&function.inputs, &values));
+    let exact_worst = if function.has_repeated_inputs() {
+        paths::exact_worst(network, &resistance, input_of, input_count)
+            .map(|(resistance, values)| ExactWorst { resistance, vector: Vector::new(&function.inputs, &values) })
+    } else {
+        None
+    };
+    NetworkFigures {
+        network: kind,
+        target_resistance: sizing.target(kind),
+        worst_resistance: weakest.resistance,
+        worst_path: weakest.devices.iter().map(|&d| device_name(kind, d)).collect(),
+        worst_vector,
+        exact_worst,
+        best_resistance: paths::best_case(network, &resistance),
+        path_count: paths::count(network).to_string(),
+        total_w_over_l: widths.iter().sum(),
+    }
+}
+
+/// One listed path, for the `paths` command.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ListedPath {
+    /// Resistance in units of R.
+    pub resistance: f64,
+    /// Devices, output side first.
+    pub devices: Vec<String>,
+    /// The vector that makes it the only conducting path, or `null`.
+    pub vector: Option<Vector>,
+}
+
+/// The listed paths of one network.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct PathListing {
+    /// Which network.
+    pub network: NetworkKind,
+    /// The target, in units of R.
+    pub target_resistance: f64,
+    /// All paths, counted (decimal string).
+    pub path_count: String,
+    /// The weakest ones, weakest first.
+    pub paths: Vec<ListedPath>,
+}
+
+impl SizedGate {
+    /// The `limit` weakest paths of each network, with their vectors.
+    pub fn list_paths(&self, limit: usize) -> Vec<PathListing> {
+        let input_of: Vec<usize> = self.function.literals.iter().map(|l| l.input).collect();
+        NetworkKind::BOTH
+            .into_iter()
+            .enumerate()
+            .map(|(side, kind)| {
+                let network = &self.trees[side];
+                let resistance = self.options.resistances(kind, &self.widths[side]);
+                let paths = paths::list(network, &resistance, limit)
+                    .into_iter()
+                    .map(|path| ListedPath {
+                        resistance: path.resistance,
+                        vector: paths::sensitize(kind, &path.devices, &input_of, self.function.inputs.len())
+                            .map(|values| Vector::new(&self.function.inputs, &values)),
+                        devices: path.devices.iter().map(|&d| device_name(kind, d)).collect(),
+                    })
+                    .collect();
+                PathListing {
+                    network: kind,
+                    target_resistance: self.options.target(kind),
+                    path_count: paths::count(network).to_string(),
+                    paths,
+                }
+            })
+            .collect()
+    }
+
+    /// Path count of a network as a number, for callers that need arithmetic.
+    pub fn path_count(&self, kind: NetworkKind) -> BigUint {
+        paths::count(&self.trees[usize::from(kind == NetworkKind::PullUp)])
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use approx::assert_relative_eq;
+
+    fn sized(text: &str, method: Method) -> SizedGate {
+        size_text(text, &GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None))).unwrap()
+    }
+
+    #[test]
+    fn aoi21_puts_the_or_input_pmos_at_the_output() {
+        // AOI21 p = 7/3 with the OR input's PMOS at the output (Weste & Harris, logical-effort table; from memory)
+        let gate = sized("aoi21", Method::LongestPath);
+        assert_relative_eq!(gate.parasitic_delay, 7.0 / 3.0, epsilon = 1e-12);
+        assert!(gate.output_devices.contains(&"MP3".to_string()));
+        assert!(!gate.output_devices.contains(&"MP1".to_string()));
+    }
+
+    #[test]
+    fn nand2_vectors_and_best_case() {
+        let gate = sized("nand2", Method::LongestPath);
+        let up = &gate.networks[1];
+        assert_eq!(up.worst_vector.as_ref().unwrap().to_string(), "a=0 b=1");
+        // best case of the NAND2 pull-up: two PMOS of 2 in parallel, R/2 (common practice, no source)
+        assert_relative_eq!(up.best_resistance, 0.5, epsilon = 1e-12);
+        assert_eq!(up.path_count, "2");
+    }
+
+    #[test]
+    fn unknown_critical_input_is_refused() {
+        let mut options = GateOptions::new(SizingOptions::new(Method::LongestPath, 2.0, 1.0, None));
+        options.critical = Some("q".into());
+        let error = size_text("nand2", &options).unwrap_err();
+        assert!(error.to_string().contains("'q'"));
+    }
+
+    #[test]
+    fn min_area_comparison_is_reported() {
+        let gate = sized("!(a & (b | c))", Method::LongestPath);
+        let min = sized("!(a & (b | c))", Method::MinArea);
+        assert_relative_eq!(gate.comparison.total_w_over_l, min.total_w_over_l, epsilon = 1e-12);
+        assert!(gate.comparison.change_percent < 0.0);
+    }
+}

@@ -1,0 +1,26 @@
+//! widthwise: size the transistors of static CMOS gates against a reference inverter.
+//!
+//! The stages, in the order data flows through them:
+//! [`expr`] (text to `Y = NOT f`) -> [`network`] (pull-down and pull-up trees) -> [`paths`]
+//! (worst and best case) -> [`sizing`] (W/L of every device) -> [`figures`] (input capacitance,
+//! logical effort, parasitic delay) -> [`output`] (table, CSV, JSON, SPICE). [`gate`] runs one
+//! gate through all of them. Every result is a first-order estimate: sign-off needs the
+//! foundry's models, design rules and licensed practice.
+
+#![forbid(unsafe_code)]
+
+pub mod cli;
+pub mod commands;
+pub mod error;
+pub mod expr;
+pub mod figures;
+pub mod gate;
+pub mod network;
+pub mod output;
+pub mod paths;
+pub mod process;
+pub mod sizing;
+
+pub use error::{Error, ExprError, Span};
+pub use gate::{GateOptions, SizedGate, size_text};
+pub use sizing::{Method, Reference, SizingOptions};

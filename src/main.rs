@@ -1,0 +1,29 @@
+//! The `widthwise` binary: parse the command line, run it, map the outcome to an exit code.
+
+#![forbid(unsafe_code)]
+
+use std::io::ErrorKind;
+use std::process::ExitCode;
+
+use clap::Parser;
+use widthwise::cli::Cli;
+use widthwise::error::{EXIT_BAD_INPUT, EXIT_OK, Error};
+
+fn main() -> ExitCode {
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(error) => {
+            let _ = error.print();
+            return ExitCode::from(if error.use_stderr() { EXIT_BAD_INPUT } else { EXIT_OK });
+        }
+    };
+    match widthwise::commands::run(cli) {
+        Ok(()) => ExitCode::from(EXIT_OK),
+        // A reader that closed the pipe early (`| head`) is not an error.
+        Err(Error::Output(error)) if error.kind() == ErrorKind::BrokenPipe => ExitCode::from(EXIT_OK),
+        Err(error) => {
+            eprint!("{}", error.render());
+            ExitCode::from(error.exit_code())
+        }
+    }
+}

@@ -1,0 +1,264 @@
+//! Networks: the pull-down follows `f` (AND in series, OR in parallel), the pull-up is its dual.
+//!
+//! Devices are literal occurrences: device `k` of either network is gated by literal `k`, so the
+//! NMOS and PMOS of one occurrence share an index. Series members are listed from the output side
+//! (member 0 touches the output), which is what [`Network::ordered`] chooses and [`Network::nodes`]
+//! names.
+
+use crate::expr::{Function, GateFunction};
+
+/// Which network of a static gate.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum NetworkKind {
+    /// NMOS from the output to ground (`vss`).
+    PullDown,
+    /// PMOS from the output to the supply (`vdd`).
+    PullUp,
+}
+
+impl NetworkKind {
+    /// Both, pull-down first.
+    pub const BOTH: [NetworkKind; 2] = [NetworkKind::PullDown, NetworkKind::PullUp];
+
+    /// `"pull-down"` or `"pull-up"`.
+    pub fn name(self) -> &'static str {
+        match self {
+            NetworkKind::PullDown => "pull-down",
+            NetworkKind::PullUp => "pull-up",
+        }
+    }
+
+    /// The device type: `"nmos"` or `"pmos"`.
+    pub fn device_type(self) -> &'static str {
+        match self {
+            NetworkKind::PullDown => "nmos",
+            NetworkKind::PullUp => "pmos",
+        }
+    }
+
+    /// The rail the network connects the output to.
+    pub fn rail(self) -> &'static str {
+        match self {
+            NetworkKind::PullDown => "vss",
+            NetworkKind::PullUp => "vdd",
+        }
+    }
+
+    /// Whether a device of this network conducts when its input is at `value`.
+    pub fn conducts(self, value: bool) -> bool {
+        match self {
+            NetworkKind::PullDown => value,
+            NetworkKind::PullUp => !value,
+        }
+    }
+}
+
+/// A series-parallel tree of devices.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Node {
+    /// One transistor, by device (literal occurrence) index.
+    Device(usize),
+    /// Members in series, member 0 on the output side.
+    Series(Vec<Node>),
+    /// Branches in parallel.
+    Parallel(Vec<Node>),
+}
+
+/// One network of a gate.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Network {
+    /// Pull-down or pull-up.
+    pub kind: NetworkKind,
+    /// Its tree.
+    pub root: Node,
+}
+
+/// Drain (output side) and source (rail side) node of one device.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Terminals {
+    /// Output-side node.
+    pub drain: String,
+    /// Rail-side node.
+    pub source: String,
+}
+
+impl Network {
+    /// The network of `kind` for `f`, series members in written order.
+    pub fn build(function: &Function, kind: NetworkKind) -> Network {
+        fn walk(function: &Function, kind: NetworkKind) -> Node {
+            match function {
+                Function::Literal(index) => Node::Device(*index),
+                Function::And(children) | Function::Or(children) => {
+                    let members = children.iter().map(|c| walk(c, kind)).collect();
+                    let series = matches!(function, Function::And(_)) == (kind == NetworkKind::PullDown);
+                    if series { Node::Series(members) } else { Node::Parallel(members) }
+                }
+            }
+        }
+        Network { kind, root: walk(function, kind) }
+    }
+
+    /// Both networks of a gate, pull-down first.
+    pub fn pair(gate: &GateFunction) -> [Network; 2] {
+        NetworkKind::BOTH.map(|kind| Network::build(&gate.function, kind))
+    }
+
+    /// The same network with every series stack reordered: members holding `critical` (an input
+    /// index, through `input_of`) first, then the least diffusion width facing the output;
+    /// ties keep the written order.
+    pub fn ordered(&self, widths: &[f64], input_of: &[usize], critical: Option<usize>) -> Network {
+        fn walk(node: &Node, widths: &[f64], input_of: &[usize], critical: Option<usize>) -> (Node, f64, bool) {
+            match node {
+                Node::Device(index) => (node.clone(), widths[*index], Some(input_of[*index]) == critical),
+                Node::Parallel(branches) => {
+                    let mut facing = 0.0;
+                    let mut holds = false;
+                    let branches = branches
+                        .iter()
+                        .map(|b| {
+                            let (node, width, has) = walk(b, widths, input_of, critical);
+                            facing += width;
+                            holds |= has;
+                            node
+                        })
+                        .collect();
+                    (Node::Parallel(branches), facing, holds)
+                }
+                Node::Series(members) => {
+                    let mut walked: Vec<(Node, f64, bool)> =
+                        members.iter().map(|m| walk(m, widths, input_of, critical)).collect();
+                    walked.sort_by(|a, b| b.2.cmp(&a.2).then(a.1.total_cmp(&b.1)));
+                    let facing = walked[0].1;
+                    let holds = walked.iter().any(|m| m.2);
+                    (Node::Series(walked.into_iter().map(|m| m.0).collect()), facing, holds)
+                }
+            }
+        }
+        Network { kind: self.kind, root: walk(&self.root, widths, input_of, critical).0 }
+    }
+
+    /// Drain and source of every device (indexed by device), given the output name and the
+    /// prefix for internal nodes (numbered from 1 in order from the output).
+    pub fn nodes(&self, device_count: usize, output: &str, prefix: &str) -> Vec<Terminals> {
+        fn walk(node: &Node, top: &str, bottom: &str, prefix: &str, counter: &mut usize, out: &mut [Terminals]) {
+            match node {
+                Node::Device(index) => out[*index] = Terminals { drain: top.to_string(), source: bottom.to_string() },
+                Node::Parallel(branches) => {
+                    for branch in branches {
+                        walk(branch, top, bottom, prefix, counter, out);
+                    }
+                }
+                Node::Series(members) => {
+                    let mut upper = top.to_string();
+                    for (position, member) in members.iter().enumerate() {
+                        let lower = if position + 1 == members.len() {
+                            bottom.to_string()
+                        } else {
+                            *counter += 1;
+                            format!("{prefix}{counter}")
+                        };
+                        walk(member, &upper, &lower, prefix, counter, out);
+                        upper = lower;
+                    }
+                }
+            }
+        }
+        let mut out = vec![Terminals { drain: String::new(), source: String::new() }; device_count];
+        let mut counter = 0;
+        walk(&self.root, output, self.kind.rail(), prefix, &mut counter, &mut out);
+        out
+    }
+
+    /// Devices in tree order (output side first).
+    pub fn devices(&self) -> Vec<usize> {
+        fn walk(node: &Node, out: &mut Vec<usize>) {
+            match node {
+                Node::Device(index) => out.push(*index),
+                Node::Series(children) | Node::Parallel(children) => children.iter().for_each(|c| walk(c, out)),
+            }
+        }
+        let mut out = Vec::new();
+        walk(&self.root, &mut out);
+        out
+    }
+
+    /// Whether the network conducts, given which devices are on.
+    pub fn conducts(&self, on: &[bool]) -> bool {
+        fn walk(node: &Node, on: &[bool]) -> bool {
+            match node {
+                Node::Device(index) => on[*index],
+                Node::Series(members) => members.iter().all(|m| walk(m, on)),
+                Node::Parallel(branches) => branches.iter().any(|b| walk(b, on)),
+            }
+        }
+        walk(&self.root, on)
+    }
+}
+
+/// A prefix for internal node names that no input or output name can be mistaken for:
+/// `base` unless some name is `base` followed by digits, then `base` with more of its first letter.
+pub fn internal_prefix(base: &str, names: &[&str]) -> String {
+    let mut prefix = base.to_string();
+    let taken = |prefix: &str| {
+        names.iter().any(|name| {
+            let lower = name.to_ascii_lowercase();
+            lower.strip_prefix(prefix).is_some_and(|rest| !rest.is_empty() && rest.bytes().all(|b| b.is_ascii_digit()))
+        })
+    };
+    while taken(&prefix) {
+        prefix.insert(0, base.chars().next().unwrap_or('x'));
+    }
+    prefix
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::expr::read_gate;
+
+    fn tree(node: &Node) -> String {
+        match node {
+            Node::Device(index) => index.to_string(),
+            Node::Series(m) => format!("S({})", m.iter().map(tree).collect::<Vec<_>>().join(" ")),
+            Node::Parallel(m) => format!("P({})", m.iter().map(tree).collect::<Vec<_>>().join(" ")),
+        }
+    }
+
+    #[test]
+    fn pull_up_is_the_dual() {
+        // AND -> series in NMOS, parallel in PMOS (common practice, no source)
+        let gate = read_gate("aoi21").unwrap();
+        let [down, up] = Network::pair(&gate);
+        assert_eq!(tree(&down.root), "P(S(0 1) 2)");
+        assert_eq!(tree(&up.root), "S(P(0 1) 2)");
+    }
+
+    #[test]
+    fn ordering_puts_least_facing_width_at_the_output() {
+        let gate = read_gate("aoi21").unwrap();
+        let [_, up] = Network::pair(&gate);
+        let input_of: Vec<usize> = gate.literals.iter().map(|l| l.input).collect();
+        let ordered = up.ordered(&[4.0, 4.0, 4.0], &input_of, None);
+        assert_eq!(tree(&ordered.root), "S(2 P(0 1))");
+        let critical = up.ordered(&[4.0, 4.0, 4.0], &input_of, Some(0));
+        assert_eq!(tree(&critical.root), "S(P(0 1) 2)");
+    }
+
+    #[test]
+    fn nodes_run_from_output_to_rail() {
+        let gate = read_gate("nand3").unwrap();
+        let [down, _] = Network::pair(&gate);
+        let nodes = down.nodes(3, "y", "n");
+        let pairs: Vec<(&str, &str)> = nodes.iter().map(|t| (t.drain.as_str(), t.source.as_str())).collect();
+        assert_eq!(pairs, [("y", "n1"), ("n1", "n2"), ("n2", "vss")]);
+    }
+
+    #[test]
+    fn prefixes_avoid_input_names() {
+        assert_eq!(internal_prefix("n", &["a", "b"]), "n");
+        assert_eq!(internal_prefix("n", &["n1", "b"]), "nn");
+        assert_eq!(internal_prefix("n", &["N1", "nn2"]), "nnn");
+        assert_eq!(internal_prefix("n", &["net", "n"]), "n");
+    }
+}

@@ -1,0 +1,172 @@
+//! CSV for spreadsheets: one header row and a fixed set of columns per view (gates, devices,
+//! inputs), written by the `csv` crate so quoting follows RFC 4180.
+
+use std::io::{self, Write};
+
+use crate::gate::{NetworkFigures, PathListing, SizedGate};
+use crate::process::Process;
+
+use super::Rows;
+
+/// Columns of the gates view, in order.
+pub const GATE_COLUMNS: [&str; 20] = [
+    "gate",
+    "expression",
+    "output",
+    "drive",
+    "method",
+    "mobility_ratio",
+    "transistors",
+    "total_w_over_l",
+    "total_width_um",
+    "parasitic_delay",
+    "pull_down_target_r",
+    "worst_pull_down_r",
+    "pull_down_vector",
+    "best_pull_down_r",
+    "pull_down_paths",
+    "pull_up_target_r",
+    "worst_pull_up_r",
+    "pull_up_vector",
+    "best_pull_up_r",
+    "pull_up_paths",
+];
+
+/// Columns of the devices view, in order.
+pub const DEVICE_COLUMNS: [&str; 18] = [
+    "gate",
+    "drive",
+    "method",
+    "device",
+    "type",
+    "network",
+    "input",
+    "drain",
+    "source",
+    "w_over_l",
+    "width_um",
+    "length_um",
+    "input_capacitance",
+    "logical_effort",
+    "parasitic_delay",
+    "transistors",
+    "worst_pull_down_r",
+    "worst_pull_up_r",
+];
+
+/// Columns of the inputs view, in order.
+pub const INPUT_COLUMNS: [&str; 6] = ["gate", "drive", "method", "input", "input_capacitance", "logical_effort"];
+
+/// Full precision for machines: the shortest text that reads back as the same number.
+fn value(number: f64) -> String {
+    number.to_string()
+}
+
+fn micrometres(nanometres: f64) -> String {
+    value(nanometres / 1000.0)
+}
+
+fn network_cells(network: &NetworkFigures) -> [String; 5] {
+    [
+        value(network.target_resistance),
+        value(network.worst_resistance),
+        network.worst_vector.as_ref().map(ToString::to_string).unwrap_or_default(),
+        value(network.best_resistance),
+        network.path_count.clone(),
+    ]
+}
+
+/// Write the gates in the chosen view.
+pub fn write_gates(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut dyn Write) -> io::Result<()> {
+    let mut writer = csv::Writer::from_writer(out);
+    match rows {
+        Rows::Gates => {
+            writer.write_record(GATE_COLUMNS)?;
+            for gate in gates {
+                let mut record = vec![
+                    gate.name.clone(),
+                    gate.expression.clone(),
+                    gate.output.clone(),
+                    value(gate.drive),
+                    gate.method.name().to_string(),
+                    value(gate.mobility_ratio),
+                    gate.transistor_count.to_string(),
+                    value(gate.total_w_over_l),
+                    micrometres(process.width_nm(gate.total_w_over_l)),
+                    value(gate.parasitic_delay),
+                ];
+                for network in &gate.networks {
+                    record.extend(network_cells(network));
+                }
+                writer.write_record(&record)?;
+            }
+        }
+        Rows::Devices => {
+            writer.write_record(DEVICE_COLUMNS)?;
+            for gate in gates {
+                for transistor in &gate.transistors {
+                    let input =
+                        gate.inputs.iter().find(|i| i.name == transistor.input).expect("device input is an input");
+                    writer.write_record([
+                        gate.name.clone(),
+                        value(gate.drive),
+                        gate.method.name().to_string(),
+                        transistor.name.clone(),
+                        transistor.device_type.to_string(),
+                        transistor.network.name().to_string(),
+                        transistor.input.clone(),
+                        transistor.drain.clone(),
+                        transistor.source.clone(),
+                        value(transistor.w_over_l),
+                        micrometres(process.width_nm(transistor.w_over_l)),
+                        micrometres(process.length_nm),
+                        value(input.input_capacitance),
+                        value(input.logical_effort),
+                        value(gate.parasitic_delay),
+                        gate.transistor_count.to_string(),
+                        value(gate.networks[0].worst_resistance),
+                        value(gate.networks[1].worst_resistance),
+                    ])?;
+                }
+            }
+        }
+        Rows::Inputs => {
+            writer.write_record(INPUT_COLUMNS)?;
+            for gate in gates {
+                for input in &gate.inputs {
+                    writer.write_record([
+                        gate.name.clone(),
+                        value(gate.drive),
+                        gate.method.name().to_string(),
+                        input.name.clone(),
+                        value(input.input_capacitance),
+                        value(input.logical_effort),
+                    ])?;
+                }
+            }
+        }
+    }
+    writer.flush()
+}
+
+/// Columns of the path listing, in order.
+pub const PATH_COLUMNS: [&str; 6] = ["gate", "network", "rank", "resistance", "devices", "vector"];
+
+/// One row per listed path.
+pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
+    let mut writer = csv::Writer::from_writer(out);
+    writer.write_record(PATH_COLUMNS)?;
+    for listing in listings {
+        for (rank, path) in listing.paths.iter().enumerate() {
+            writer.write_record([
+                gate.name.clone(),
+                listing.network.name().to_string(),
+                (rank + 1).to_string(),
+                value(path.resistance),
+                path.devices.join(" "),
+                path.vector.as_ref().map(ToString::to_string).unwrap_or_default(),
+            ])?;
+        }
+    }
+    writer.flush()
+}

@@ -1,0 +1,86 @@
+//! Writers: the same sized gates as a readable table, CSV, JSON or a SPICE netlist, to any `Write`.
+
+pub mod csv;
+pub mod json;
+pub mod spice;
+pub mod table;
+
+use std::io::{self, Write};
+
+use crate::gate::{PathListing, SizedGate};
+use crate::process::Process;
+
+/// Output format, chosen once per run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum)]
+pub enum Format {
+    /// A readable table.
+    #[default]
+    Table,
+    /// Comma-separated values (RFC 4180), one header row.
+    Csv,
+    /// JSON.
+    Json,
+    /// A SPICE subcircuit per gate.
+    Spice,
+}
+
+/// Which rows a CSV (or a batch table) has.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum)]
+pub enum Rows {
+    /// One row per sized gate.
+    Gates,
+    /// One row per transistor, with its input's and its gate's figures.
+    #[default]
+    Devices,
+    /// One row per gate input.
+    Inputs,
+}
+
+/// Write sized gates in `format`.
+pub fn write_gates(
+    gates: &[SizedGate],
+    format: Format,
+    rows: Rows,
+    process: &Process,
+    out: &mut dyn Write,
+) -> io::Result<()> {
+    match format {
+        Format::Table => table::write_gates(gates, out),
+        Format::Csv => csv::write_gates(gates, rows, process, out),
+        Format::Json => json::write_gates(gates, out),
+        Format::Spice => spice::write_library(gates, process, out),
+    }
+}
+
+/// Write path listings of one gate in `format` (SPICE has no form for them).
+pub fn write_paths(gate: &SizedGate, listings: &[PathListing], format: Format, out: &mut dyn Write) -> io::Result<()> {
+    match format {
+        Format::Table | Format::Spice => table::write_paths(gate, listings, out),
+        Format::Csv => csv::write_paths(gate, listings, out),
+        Format::Json => json::write_paths(gate, listings, out),
+    }
+}
+
+/// A number for people: at most four decimals, trailing zeros dropped.
+pub fn number(value: f64) -> String {
+    if !value.is_finite() {
+        return value.to_string();
+    }
+    let text = format!("{value:.4}");
+    let text = text.trim_end_matches('0').trim_end_matches('.');
+    if text == "-0" { "0".to_string() } else { text.to_string() }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::number;
+
+    #[test]
+    fn numbers_for_people() {
+        assert_eq!(number(2.0), "2");
+        assert_eq!(number(1.0 + 2f64.sqrt()), "2.4142");
+        assert_eq!(number(4.0 / 3.0), "1.3333");
+        assert_eq!(number(-0.00001), "0");
+        assert_eq!(number(0.5), "0.5");
+    }
+}

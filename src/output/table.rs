@@ -1,0 +1,153 @@
+//! The readable table: a block per gate with its transistors, inputs, networks and totals.
+
+use std::io::{self, Write};
+
+use super::number;
+use crate::gate::{PathListing, SizedGate};
+
+/// Write rows as aligned columns, the first row a header, two spaces of indent.
+pub fn write_columns(rows: &[Vec<String>], out: &mut dyn Write) -> io::Result<()> {
+    let width = rows.iter().map(Vec::len).max().unwrap_or(0);
+    let mut widths = vec![0; width];
+    for row in rows {
+        for (column, cell) in row.iter().enumerate() {
+            widths[column] = widths[column].max(cell.chars().count());
+        }
+    }
+    for row in rows {
+        let mut line = String::from("  ");
+        for (column, cell) in row.iter().enumerate() {
+            line.push_str(cell);
+            if column + 1 < row.len() {
+                line.push_str(&" ".repeat(widths[column] - cell.chars().count() + 2));
+            }
+        }
+        writeln!(out, "{}", line.trim_end())?;
+    }
+    Ok(())
+}
+
+fn strings<const N: usize>(cells: [&str; N]) -> Vec<String> {
+    cells.iter().map(|c| c.to_string()).collect()
+}
+
+/// Write every gate's block, a blank line between them.
+pub fn write_gates(gates: &[SizedGate], out: &mut dyn Write) -> io::Result<()> {
+    for (index, gate) in gates.iter().enumerate() {
+        if index > 0 {
+            writeln!(out)?;
+        }
+        write_gate(gate, out)?;
+    }
+    Ok(())
+}
+
+fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
+    writeln!(out, "{}: {} = {}", gate.name, gate.output, gate.expression)?;
+    let mut settings = format!(
+        "  {} sizing, mobility ratio {}, drive {}, reference inverter NMOS {} PMOS {} (W/L)",
+        gate.method.name(),
+        number(gate.mobility_ratio),
+        number(gate.drive),
+        number(gate.reference_nmos_w_over_l),
+        number(gate.reference_pmos_w_over_l),
+    );
+    if let Some(critical) = &gate.critical_input {
+        settings.push_str(&format!(", critical input {critical} nearest the output"));
+    }
+    writeln!(out, "{settings}")?;
+
+    writeln!(out, "\ntransistors")?;
+    let mut rows = vec![strings(["name", "type", "network", "input", "drain", "source", "W/L"])];
+    rows.extend(gate.transistors.iter().map(|t| {
+        vec![
+            t.name.clone(),
+            t.device_type.to_string(),
+            t.network.name().to_string(),
+            t.input.clone(),
+            t.drain.clone(),
+            t.source.clone(),
+            number(t.w_over_l),
+        ]
+    }));
+    write_columns(&rows, out)?;
+
+    writeln!(out, "\ninputs")?;
+    let mut rows = vec![strings(["input", "input capacitance", "logical effort"])];
+    rows.extend(
+        gate.inputs.iter().map(|i| vec![i.name.clone(), number(i.input_capacitance), number(i.logical_effort)]),
+    );
+    write_columns(&rows, out)?;
+
+    writeln!(out, "\nnetworks (resistance in units of R, the unit NMOS)")?;
+    let mut rows = vec![strings(["network", "target", "worst path", "only it conducts at", "best case", "paths"])];
+    for network in &gate.networks {
+        rows.push(vec![
+            network.network.name().to_string(),
+            number(network.target_resistance),
+            format!("{} ({})", number(network.worst_resistance), network.worst_path.join(" ")),
+            network.worst_vector.as_ref().map_or("no vector (repeated inputs)".to_string(), |v| v.to_string()),
+            number(network.best_resistance),
+            network.path_count.clone(),
+        ]);
+    }
+    write_columns(&rows, out)?;
+    for network in &gate.networks {
+        if let Some(exact) = &network.exact_worst
+            && (exact.resistance - network.worst_resistance).abs() > 1e-9
+        {
+            writeln!(
+                out,
+                "  {}: exact worst over input vectors {} at {} (the path value {} is an upper bound)",
+                network.network.name(),
+                number(exact.resistance),
+                exact.vector,
+                number(network.worst_resistance)
+            )?;
+        }
+    }
+
+    writeln!(out, "\ngate")?;
+    let comparison = &gate.comparison;
+    let change = if comparison.change_percent.abs() < 0.05 {
+        format!("{} would use the same", comparison.method.name())
+    } else if comparison.change_percent < 0.0 {
+        format!("{} would save {:.1}%", comparison.method.name(), -comparison.change_percent)
+    } else {
+        format!("{} would use {:.1}% more", comparison.method.name(), comparison.change_percent)
+    };
+    let rows = vec![
+        vec![
+            "parasitic delay".to_string(),
+            format!("{} (output node: {})", number(gate.parasitic_delay), gate.output_devices.join(" ")),
+        ],
+        vec!["transistors".to_string(), gate.transistor_count.to_string()],
+        vec!["total W/L".to_string(), format!("{} ({change})", number(gate.total_w_over_l))],
+    ];
+    write_columns(&rows, out)
+}
+
+/// Write the path listing of both networks.
+pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
+    writeln!(out, "{}: {} = {} ({} sizing)", gate.name, gate.output, gate.expression, gate.method.name())?;
+    for listing in listings {
+        writeln!(
+            out,
+            "\n{}: {} paths, target {} R; {} weakest shown",
+            listing.network.name(),
+            listing.path_count,
+            number(listing.target_resistance),
+            listing.paths.len()
+        )?;
+        let mut rows = vec![strings(["resistance", "devices", "only it conducts at"])];
+        rows.extend(listing.paths.iter().map(|p| {
+            vec![
+                number(p.resistance),
+                p.devices.join(" "),
+                p.vector.as_ref().map_or("never alone (repeated inputs)".to_string(), |v| v.to_string()),
+            ]
+        }));
+        write_columns(&rows, out)?;
+    }
+    Ok(())
+}
