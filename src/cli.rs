@@ -46,7 +46,8 @@ pub enum Command {
     /// Size one gate and report every transistor, input and network.
     #[command(after_help = AFTER_HELP)]
     Size {
-        /// The gate: an expression such as "!(a & b | c)" or a shorthand such as aoi21.
+        /// The gate: an expression such as "!(a & b | c)" or a shorthand such as aoi21; - reads it
+        /// from standard input.
         expression: OsString,
         /// How the gate is sized.
         #[command(flatten)]
@@ -61,7 +62,7 @@ pub enum Command {
     /// List the conducting paths of each network, weakest first, and count them all.
     #[command(after_help = AFTER_HELP)]
     Paths {
-        /// The gate: an expression or a shorthand.
+        /// The gate: an expression or a shorthand; - reads it from standard input.
         expression: OsString,
         /// How the gate is sized (path resistances depend on it).
         #[command(flatten)]

@@ -4,7 +4,7 @@
 
 use std::ffi::OsString;
 use std::fs;
-use std::io::{self, BufWriter, Write};
+use std::io::{self, BufWriter, Read, Write};
 use std::path::Path;
 
 use crate::cli::{Cli, Command, GateArgs, OutputArgs};
@@ -18,7 +18,7 @@ use crate::sizing::SizingOptions;
 pub fn run(cli: Cli) -> Result<(), Error> {
     match cli.command {
         Command::Size { expression, gate, output, rows } => {
-            let text = utf8(&expression, "the expression")?;
+            let text = expression_text(&expression)?;
             let sized = size_text(&text, &gate_options(&gate))?;
             let process = Process::default();
             write_output(&output, |out| {
@@ -29,7 +29,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             if output.format == Format::Spice {
                 return Err(Error::Usage("paths are written as table, csv or json, not spice".into()));
             }
-            let text = utf8(&expression, "the expression")?;
+            let text = expression_text(&expression)?;
             let sized = size_text(&text, &gate_options(&gate))?;
             let listings = sized.list_paths(limit);
             write_output(&output, |out| output::write_paths(&sized, &listings, output.format, out))
@@ -46,16 +46,22 @@ pub fn gate_options(args: &GateArgs) -> GateOptions {
     }
 }
 
-/// An argument as UTF-8, or an error naming the first bad byte.
-pub fn utf8(argument: &OsString, what: &str) -> Result<String, Error> {
-    match argument.to_str() {
-        Some(text) => Ok(text.to_string()),
-        None => {
-            let bytes = argument.as_encoded_bytes();
-            let byte = std::str::from_utf8(bytes).err().map_or(0, |e| e.valid_up_to());
-            Err(Error::NotUtf8 { what: what.to_string(), byte })
-        }
-    }
+/// An expression argument as UTF-8 (`-` reads it from standard input), or an error naming the
+/// first bad byte.
+pub fn expression_text(argument: &OsString) -> Result<String, Error> {
+    let bytes = if argument == "-" {
+        let mut bytes = Vec::new();
+        io::stdin().lock().read_to_end(&mut bytes).map_err(|source| Error::File {
+            action: "read",
+            path: "standard input".into(),
+            source,
+        })?;
+        bytes
+    } else {
+        argument.as_encoded_bytes().to_vec()
+    };
+    String::from_utf8(bytes)
+        .map_err(|error| Error::NotUtf8 { what: "the expression".to_string(), byte: error.utf8_error().valid_up_to() })
 }
 
 /// Write to standard output, or atomically to `-o FILE`: a temporary file beside it, then a rename.

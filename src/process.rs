@@ -1,38 +1,398 @@
-//! The process: drawn length, unit width and model names that turn relative W/L into physical sizes.
+//! The process: drawn length, unit width, grid and first-order device values that turn relative
+//! W/L into physical sizes and give a simulation deck its models.
 //!
-//! The built-in default serves until a process file is given: L = 1 um, the unit NMOS 1 um wide,
-//! models `nmos` and `pmos`.
+//! A process file is TOML with the units in the key names; every key is checked and an error
+//! names the key and its place in the file. [`Process::default`] is the built-in process, an
+//! invented long-channel one (L = 1 um, unit NMOS 1 um wide) that serves when no file is given.
 
-/// A process, as far as sizes and netlists need it.
+use std::fmt::Write as _;
+
+use serde::Deserialize;
+use thiserror::Error;
+use toml::Spanned;
+
+use crate::error::Span;
+
+/// A process, as sizes, netlists and decks need it.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Process {
     /// A label for reports.
     pub name: String,
+    /// Mobility ratio mu_n / mu_p the sizing uses.
+    pub mobility_ratio: f64,
     /// Drawn channel length, nm.
     pub length_nm: f64,
     /// Width of the unit NMOS (relative W/L 1), nm.
     pub unit_width_nm: f64,
+    /// Width grid, nm: widths snap up to a multiple of it.
+    pub grid_nm: f64,
+    /// Smallest drawn width, nm.
+    pub min_width_nm: f64,
+    /// Widest single finger, nm: wider devices are split into equal fingers.
+    pub max_finger_width_nm: f64,
+    /// Supply voltage, V.
+    pub supply_v: f64,
     /// NMOS model name in netlists.
     pub nmos_model: String,
     /// PMOS model name in netlists.
     pub pmos_model: String,
+    /// NMOS threshold voltage, V.
+    pub nmos_threshold_v: f64,
+    /// PMOS threshold voltage magnitude, V.
+    pub pmos_threshold_v: f64,
+    /// NMOS transconductance parameter KP = mu_n Cox, uA/V^2.
+    pub nmos_kp_ua_per_v2: f64,
+    /// PMOS transconductance parameter KP = mu_p Cox, uA/V^2.
+    pub pmos_kp_ua_per_v2: f64,
+    /// Body-effect coefficient of both types, sqrt(V); 0 turns it off.
+    pub body_effect_sqrt_v: f64,
+    /// Gate capacitance per um of width, fF/um.
+    pub gate_cap_ff_per_um: f64,
+    /// Diffusion capacitance per um of width of one source or drain, fF/um.
+    pub diffusion_cap_ff_per_um: f64,
+    /// Load on the output in decks, fF.
+    pub load_ff: f64,
 }
 
 impl Default for Process {
     fn default() -> Process {
         Process {
-            name: "built-in default".to_string(),
+            name: "built-in default (invented long-channel process)".to_string(),
+            mobility_ratio: 2.0,
             length_nm: 1000.0,
             unit_width_nm: 1000.0,
+            grid_nm: 5.0,
+            min_width_nm: 500.0,
+            max_finger_width_nm: 20000.0,
+            supply_v: 3.3,
             nmos_model: "nmos".to_string(),
             pmos_model: "pmos".to_string(),
+            nmos_threshold_v: 0.7,
+            pmos_threshold_v: 0.7,
+            nmos_kp_ua_per_v2: 100.0,
+            pmos_kp_ua_per_v2: 50.0,
+            body_effect_sqrt_v: 0.0,
+            gate_cap_ff_per_um: 1.7,
+            diffusion_cap_ff_per_um: 1.0,
+            load_ff: 20.0,
         }
     }
 }
 
+/// A bad process file: what is wrong, with which key, where.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum ProcessError {
+    /// Not TOML, a missing or unknown key, or a value of the wrong type.
+    #[error("{message}")]
+    Syntax {
+        /// The TOML reader's message.
+        message: String,
+        /// Where, when known.
+        span: Option<Span>,
+    },
+    /// A value out of range.
+    #[error("{key} = {value}: {why}")]
+    Value {
+        /// The key.
+        key: &'static str,
+        /// The value as written.
+        value: String,
+        /// What it must be.
+        why: String,
+        /// Where.
+        span: Span,
+    },
+}
+
+impl ProcessError {
+    /// Where in the file the error is.
+    pub fn span(&self) -> Option<Span> {
+        match self {
+            ProcessError::Syntax { span, .. } => *span,
+            ProcessError::Value { span, .. } => Some(*span),
+        }
+    }
+}
+
+/// A process file (or a `[process]` table) as written, every value with its place.
+#[derive(Debug, Clone, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ProcessFile {
+    /// A label for reports.
+    pub name: Option<Spanned<String>>,
+    /// See [`Process::mobility_ratio`].
+    pub mobility_ratio: Spanned<f64>,
+    /// See [`Process::length_nm`].
+    pub length_nm: Spanned<f64>,
+    /// See [`Process::unit_width_nm`].
+    pub unit_width_nm: Spanned<f64>,
+    /// See [`Process::grid_nm`].
+    pub grid_nm: Spanned<f64>,
+    /// See [`Process::min_width_nm`].
+    pub min_width_nm: Spanned<f64>,
+    /// See [`Process::max_finger_width_nm`].
+    pub max_finger_width_nm: Spanned<f64>,
+    /// See [`Process::supply_v`].
+    pub supply_v: Spanned<f64>,
+    /// See [`Process::nmos_model`].
+    pub nmos_model: Spanned<String>,
+    /// See [`Process::pmos_model`].
+    pub pmos_model: Spanned<String>,
+    /// See [`Process::nmos_threshold_v`].
+    pub nmos_threshold_v: Spanned<f64>,
+    /// See [`Process::pmos_threshold_v`].
+    pub pmos_threshold_v: Spanned<f64>,
+    /// See [`Process::nmos_kp_ua_per_v2`].
+    pub nmos_kp_ua_per_v2: Spanned<f64>,
+    /// See [`Process::pmos_kp_ua_per_v2`].
+    pub pmos_kp_ua_per_v2: Spanned<f64>,
+    /// See [`Process::body_effect_sqrt_v`]; optional, default 0.
+    pub body_effect_sqrt_v: Option<Spanned<f64>>,
+    /// See [`Process::gate_cap_ff_per_um`].
+    pub gate_cap_ff_per_um: Spanned<f64>,
+    /// See [`Process::diffusion_cap_ff_per_um`].
+    pub diffusion_cap_ff_per_um: Spanned<f64>,
+    /// See [`Process::load_ff`].
+    pub load_ff: Spanned<f64>,
+}
+
+fn span_of<T>(value: &Spanned<T>) -> Span {
+    let range = value.span();
+    Span::new(range.start, range.end)
+}
+
+/// How a value must be.
+#[derive(Clone, Copy)]
+enum Rule {
+    Positive,
+    NonNegative,
+}
+
+fn check(key: &'static str, value: &Spanned<f64>, rule: Rule) -> Result<f64, ProcessError> {
+    let number = *value.get_ref();
+    let bad =
+        |why: &str| ProcessError::Value { key, value: number.to_string(), why: why.to_string(), span: span_of(value) };
+    if !number.is_finite() {
+        return Err(bad("must be a finite number"));
+    }
+    match rule {
+        Rule::Positive if number <= 0.0 => Err(bad("must be greater than zero")),
+        Rule::NonNegative if number < 0.0 => Err(bad("must not be negative")),
+        _ => Ok(number),
+    }
+}
+
+fn model_name(key: &'static str, value: &Spanned<String>) -> Result<String, ProcessError> {
+    let text = value.get_ref();
+    let valid = text.chars().next().is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
+        && text.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
+    if !valid {
+        return Err(ProcessError::Value {
+            key,
+            value: format!("'{text}'"),
+            why: "a model name is a letter or '_' followed by letters, digits and '_'".into(),
+            span: span_of(value),
+        });
+    }
+    Ok(text.clone())
+}
+
+impl ProcessFile {
+    /// Check every value and build the process.
+    pub fn validate(&self) -> Result<Process, ProcessError> {
+        use Rule::*;
+        let process = Process {
+            name: self.name.as_ref().map_or_else(|| "unnamed process".to_string(), |n| n.get_ref().clone()),
+            mobility_ratio: check("mobility_ratio", &self.mobility_ratio, Positive)?,
+            length_nm: check("length_nm", &self.length_nm, Positive)?,
+            unit_width_nm: check("unit_width_nm", &self.unit_width_nm, Positive)?,
+            grid_nm: check("grid_nm", &self.grid_nm, Positive)?,
+            min_width_nm: check("min_width_nm", &self.min_width_nm, Positive)?,
+            max_finger_width_nm: check("max_finger_width_nm", &self.max_finger_width_nm, Positive)?,
+            supply_v: check("supply_v", &self.supply_v, Positive)?,
+            nmos_model: model_name("nmos_model", &self.nmos_model)?,
+            pmos_model: model_name("pmos_model", &self.pmos_model)?,
+            nmos_threshold_v: check("nmos_threshold_v", &self.nmos_threshold_v, Positive)?,
+            pmos_threshold_v: check("pmos_threshold_v", &self.pmos_threshold_v, Positive)?,
+            nmos_kp_ua_per_v2: check("nmos_kp_ua_per_v2", &self.nmos_kp_ua_per_v2, Positive)?,
+            pmos_kp_ua_per_v2: check("pmos_kp_ua_per_v2", &self.pmos_kp_ua_per_v2, Positive)?,
+            body_effect_sqrt_v: match &self.body_effect_sqrt_v {
+                Some(value) => check("body_effect_sqrt_v", value, NonNegative)?,
+                None => 0.0,
+            },
+            gate_cap_ff_per_um: check("gate_cap_ff_per_um", &self.gate_cap_ff_per_um, NonNegative)?,
+            diffusion_cap_ff_per_um: check("diffusion_cap_ff_per_um", &self.diffusion_cap_ff_per_um, NonNegative)?,
+            load_ff: check("load_ff", &self.load_ff, Positive)?,
+        };
+        let out_of_range = |key, value: &Spanned<f64>, why: String| ProcessError::Value {
+            key,
+            value: value.get_ref().to_string(),
+            why,
+            span: span_of(value),
+        };
+        if process.grid_nm > process.min_width_nm {
+            return Err(out_of_range(
+                "grid_nm",
+                &self.grid_nm,
+                format!("the grid must not be larger than min_width_nm ({})", process.min_width_nm),
+            ));
+        }
+        if process.max_finger_width_nm < process.min_width_nm {
+            return Err(out_of_range(
+                "max_finger_width_nm",
+                &self.max_finger_width_nm,
+                format!("must be at least min_width_nm ({})", process.min_width_nm),
+            ));
+        }
+        let kp_ratio = process.nmos_kp_ua_per_v2 / process.pmos_kp_ua_per_v2;
+        if (kp_ratio / process.mobility_ratio - 1.0).abs() > 1e-3 {
+            return Err(out_of_range(
+                "mobility_ratio",
+                &self.mobility_ratio,
+                format!(
+                    "disagrees with nmos_kp_ua_per_v2 / pmos_kp_ua_per_v2 = {kp_ratio}; the device values must match \
+                     the ratio the sizing uses"
+                ),
+            ));
+        }
+        if process.supply_v <= process.nmos_threshold_v.max(process.pmos_threshold_v) {
+            return Err(out_of_range(
+                "supply_v",
+                &self.supply_v,
+                "must be above both threshold voltages, or no device turns on".to_string(),
+            ));
+        }
+        Ok(process)
+    }
+}
+
 impl Process {
-    /// Physical width in nm of a device of relative size `w_over_l`.
+    /// Read a process file's text.
+    pub fn from_toml(text: &str) -> Result<Process, ProcessError> {
+        let file: ProcessFile = toml::from_str(text).map_err(|error| ProcessError::Syntax {
+            message: error.message().trim().to_string(),
+            span: error.span().map(|r| Span::new(r.start, r.end)),
+        })?;
+        file.validate()
+    }
+
+    /// Physical width in nm of a device of relative size `w_over_l`, before snapping.
     pub fn width_nm(&self, w_over_l: f64) -> f64 {
         w_over_l * self.unit_width_nm
+    }
+
+    /// The process as a commented TOML file a user can start from; it reads back as itself.
+    pub fn to_commented_toml(&self) -> String {
+        let mut out = String::new();
+        let mut line = |comment: &str, key: &str, value: String| {
+            let _ = writeln!(out, "# {comment}\n{key} = {value}\n");
+        };
+        line("A label for reports.", "name", format!("{:?}", self.name));
+        line(
+            "Mobility ratio mu_n / mu_p used for sizing; must equal nmos_kp / pmos_kp.",
+            "mobility_ratio",
+            float(self.mobility_ratio),
+        );
+        line("Drawn channel length of every device, nm.", "length_nm", float(self.length_nm));
+        line(
+            "Width of the unit NMOS (relative W/L = 1), nm: physical width = size x this.",
+            "unit_width_nm",
+            float(self.unit_width_nm),
+        );
+        line("Width grid, nm: every width snaps up to a multiple of it.", "grid_nm", float(self.grid_nm));
+        line("Smallest drawn width, nm; must be at least the grid.", "min_width_nm", float(self.min_width_nm));
+        line(
+            "Widest single finger, nm: a wider device is split into equal fingers.",
+            "max_finger_width_nm",
+            float(self.max_finger_width_nm),
+        );
+        line("Supply voltage, V.", "supply_v", float(self.supply_v));
+        line("NMOS model name in netlists and decks.", "nmos_model", format!("{:?}", self.nmos_model));
+        line("PMOS model name in netlists and decks.", "pmos_model", format!("{:?}", self.pmos_model));
+        line("NMOS threshold voltage (level-1 VTO), V.", "nmos_threshold_v", float(self.nmos_threshold_v));
+        line("PMOS threshold voltage magnitude, V.", "pmos_threshold_v", float(self.pmos_threshold_v));
+        line(
+            "NMOS transconductance parameter KP = mu_n Cox, uA/V^2.",
+            "nmos_kp_ua_per_v2",
+            float(self.nmos_kp_ua_per_v2),
+        );
+        line(
+            "PMOS transconductance parameter KP = mu_p Cox, uA/V^2.",
+            "pmos_kp_ua_per_v2",
+            float(self.pmos_kp_ua_per_v2),
+        );
+        line(
+            "Body-effect coefficient (level-1 GAMMA) of both types, sqrt(V); optional, 0 turns it off.",
+            "body_effect_sqrt_v",
+            float(self.body_effect_sqrt_v),
+        );
+        line("Gate capacitance per um of width, fF/um.", "gate_cap_ff_per_um", float(self.gate_cap_ff_per_um));
+        line(
+            "Diffusion capacitance per um of width of one source or drain, fF/um.",
+            "diffusion_cap_ff_per_um",
+            float(self.diffusion_cap_ff_per_um),
+        );
+        line("Load on the output in simulation decks, fF.", "load_ff", float(self.load_ff));
+        let header = "# widthwise process file. Every key is required unless marked optional.\n\
+                      # First-order values: sign-off needs the foundry's models and design rules.\n\n";
+        format!("{header}{}", out.trim_end()) + "\n"
+    }
+}
+
+/// A float as TOML writes it (always with a decimal point).
+fn float(value: f64) -> String {
+    let text = value.to_string();
+    if text.contains(['.', 'e', 'E']) { text } else { format!("{text}.0") }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_default_round_trips_through_its_commented_file() {
+        let text = Process::default().to_commented_toml();
+        assert_eq!(Process::from_toml(&text).unwrap(), Process::default());
+    }
+
+    fn with(key: &str, value: &str) -> String {
+        let text = Process::default().to_commented_toml();
+        text.lines()
+            .map(
+                |line| {
+                    if line.starts_with(&format!("{key} =")) { format!("{key} = {value}") } else { line.to_string() }
+                },
+            )
+            .collect::<Vec<_>>()
+            .join("\n")
+    }
+
+    #[test]
+    fn bad_values_name_the_key_and_place() {
+        for (key, value) in [
+            ("length_nm", "0.0"),
+            ("grid_nm", "-5.0"),
+            ("min_width_nm", "nan"),
+            ("supply_v", "inf"),
+            ("grid_nm", "600.0"),
+            ("mobility_ratio", "2.5"),
+        ] {
+            let text = with(key, value);
+            let error = Process::from_toml(&text).unwrap_err();
+            let span = error.span().expect("a place");
+            assert!(error.to_string().starts_with(key), "{key}: {error}");
+            assert_eq!(&text[span.start..span.end], value, "{key}");
+        }
+    }
+
+    #[test]
+    fn missing_and_unknown_keys_are_refused() {
+        let text = Process::default().to_commented_toml();
+        let missing: String = text.lines().filter(|l| !l.starts_with("grid_nm")).collect::<Vec<_>>().join("\n");
+        assert!(Process::from_toml(&missing).unwrap_err().to_string().contains("grid_nm"));
+        let unknown = format!("{text}\nwidth_fudge = 1.0\n");
+        let error = Process::from_toml(&unknown).unwrap_err();
+        assert!(error.to_string().contains("width_fudge"), "{error}");
+        assert!(error.span().is_some());
     }
 }

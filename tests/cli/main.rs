@@ -1,0 +1,19 @@
+//! The one integration binary: runs the real `widthwise` executable on arguments and fixture files,
+//! a module per command.
+
+mod paths;
+mod size;
+
+use std::path::PathBuf;
+
+use assert_cmd::Command;
+
+/// The built executable.
+pub fn widthwise() -> Command {
+    Command::cargo_bin("widthwise").expect("the binary is built")
+}
+
+/// A file under `tests/fixtures`.
+pub fn fixture(name: &str) -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests").join("fixtures").join(name)
+}

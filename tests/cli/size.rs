@@ -1,0 +1,132 @@
+//! `widthwise size`: formats, options, bad input and exit codes.
+
+use predicates::prelude::*;
+
+use super::widthwise;
+
+#[test]
+fn every_accepted_spelling_sizes_the_same_gate() {
+    let expected = widthwise().args(["size", "aoi21", "--format", "json"]).output().unwrap();
+    let expected: serde_json::Value = serde_json::from_slice(&expected.stdout).unwrap();
+    for text in ["y = !(a*b + c)", "!(a & b | c)", "(a b + c)'", "~(a.b | c)", "!(a & b) & !c"] {
+        let output = widthwise().args(["size", text, "--format", "json"]).output().unwrap();
+        assert!(output.status.success(), "{text}");
+        let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+        assert_eq!(json["transistors"], expected["transistors"], "{text}");
+        assert_eq!(json["parasitic_delay"], expected["parasitic_delay"], "{text}");
+    }
+}
+
+#[test]
+fn json_keys_scripts_rely_on() {
+    let output = widthwise().args(["size", "nand2", "--format", "json"]).output().unwrap();
+    let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    let transistor = &json["transistors"][0];
+    for key in ["name", "type", "input", "drain", "source", "w_over_l"] {
+        assert!(!transistor[key].is_null(), "transistors[0].{key}");
+    }
+    assert_eq!(transistor["type"], "nmos");
+    assert_eq!(json["transistors"][3]["type"], "pmos");
+    assert!(json["inputs"][0]["name"].is_string());
+    assert!(json["inputs"][0]["logical_effort"].is_number());
+    assert_eq!(json["parasitic_delay"], 2.0);
+}
+
+#[test]
+fn table_names_the_worst_case_and_the_other_method() {
+    widthwise()
+        .args(["size", "!(a & (b | c))"])
+        .assert()
+        .success()
+        .stdout(predicate::str::contains("a=1 b=1 c=0"))
+        // pull-down 6 -> 5.8284, pull-up 10 -> 10: 16 -> 15.8284 in all, 1.1% less
+        .stdout(predicate::str::contains("min-area would save 1.1%"));
+}
+
+#[test]
+fn spice_subcircuit_lists_inputs_output_and_rails() {
+    widthwise()
+        .args(["size", "aoi21", "--format", "spice"])
+        .assert()
+        .success()
+        .stdout(predicate::str::contains(".subckt aoi21 a b c y vdd vss"))
+        .stdout(predicate::str::contains("MN3 y c vss vss nmos W=1u L=1u"))
+        .stdout(predicate::str::contains(".ends aoi21"));
+}
+
+#[test]
+fn csv_has_one_header_and_a_row_per_transistor() {
+    let output = widthwise().args(["size", "nand3", "--format", "csv"]).output().unwrap();
+    let mut reader = csv::Reader::from_reader(output.stdout.as_slice());
+    let headers = reader.headers().unwrap().clone();
+    assert_eq!(&headers[0], "gate");
+    assert_eq!(reader.records().count(), 6);
+}
+
+#[test]
+fn bad_input_exits_2_with_a_caret() {
+    let cases: [&[&str]; 9] = [
+        &["size", ""],
+        &["size", "(a & b"],
+        &["size", "a # b"],
+        &["size", "&"],
+        &["size", "nand9"],
+        &["size", "a & b"],
+        &["size", "nand2", "--drive", "-1"],
+        &["size", "nand2", "--mobility-ratio", "nan"],
+        &["size", "nand2", "--critical", "q"],
+    ];
+    for args in cases {
+        widthwise()
+            .args(args)
+            .assert()
+            .code(2)
+            .stdout(predicate::str::is_empty())
+            .stderr(predicate::str::starts_with("error"));
+    }
+    widthwise().args(["size", "!(a &)"]).assert().code(2).stderr(predicate::str::contains("    !(a &)\n         ^"));
+}
+
+#[test]
+fn non_utf8_argument_is_refused() {
+    use std::os::unix::ffi::OsStrExt;
+    let argument = std::ffi::OsStr::from_bytes(b"!(a \xff b)");
+    widthwise()
+        .arg("size")
+        .arg(argument)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("not valid UTF-8").and(predicate::str::contains("byte 4")));
+}
+
+#[test]
+fn deep_nesting_is_an_error_not_a_crash() {
+    // Too long for one command-line argument, so it comes on standard input.
+    let deep = format!("{}a{}", "(".repeat(100_000), ")".repeat(100_000));
+    widthwise()
+        .args(["size", "-"])
+        .write_stdin(deep)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("nesting deeper"));
+}
+
+#[test]
+fn output_file_is_written_whole() {
+    let directory = tempfile::tempdir().unwrap();
+    let path = directory.path().join("nand2.json");
+    widthwise().args(["size", "nand2", "--format", "json", "-o"]).arg(&path).assert().success().stdout("");
+    let json: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(&path).unwrap()).unwrap();
+    assert_eq!(json["transistor_count"], 4);
+    assert_eq!(std::fs::read_dir(directory.path()).unwrap().count(), 1, "no temporary file left behind");
+}
+
+#[test]
+fn help_states_the_caution() {
+    widthwise()
+        .args(["size", "--help"])
+        .assert()
+        .success()
+        .stdout(predicate::str::contains("first-order estimates"))
+        .stdout(predicate::str::contains("foundry"));
+}
