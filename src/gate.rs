@@ -379,6 +379,40 @@ impl SizedGate {
             .collect()
     }
 
+    /// The worst-case transition of `input` through `kind`'s network: the weakest path through one
+    /// of the input's devices that can conduct alone, with the vector that makes it the only
+    /// conducting path (the input itself at its on-level). `None` where no such path exists
+    /// (repeated inputs can block every one).
+    pub fn worst_case_for_input(&self, input: usize, kind: NetworkKind) -> Option<(paths::Path, Vector)> {
+        let side = usize::from(kind == NetworkKind::PullUp);
+        let network = &self.trees[side];
+        let resistance = self.options.resistances(kind, &self.widths[side]);
+        let input_of: Vec<usize> = self.function.literals.iter().map(|l| l.input).collect();
+        let mut best: Option<(paths::Path, Vec<bool>)> = None;
+        for device in (0..input_of.len()).filter(|&d| input_of[d] == input) {
+            let mut candidates = match paths::weakest_through(network, &resistance, device) {
+                Some(path) => vec![path],
+                None => continue,
+            };
+            if paths::sensitize(kind, &candidates[0].devices, &input_of, self.function.inputs.len()).is_none() {
+                // Repeated inputs: look further down the listing for one that conducts alone.
+                candidates = paths::list(network, &resistance, paths::MAX_LISTED_PATHS)
+                    .into_iter()
+                    .filter(|p| p.devices.contains(&device))
+                    .collect();
+            }
+            for path in candidates {
+                if let Some(values) = paths::sensitize(kind, &path.devices, &input_of, self.function.inputs.len()) {
+                    if best.as_ref().is_none_or(|(b, _)| path.resistance > b.resistance + 1e-12) {
+                        best = Some((path, values));
+                    }
+                    break;
+                }
+            }
+        }
+        best.map(|(path, values)| (path, Vector::new(&self.function.inputs, &values)))
+    }
+
     /// Path count of a network as a number, for callers that need arithmetic.
     pub fn path_count(&self, kind: NetworkKind) -> BigUint {
         paths::count(&self.trees[usize::from(kind == NetworkKind::PullUp)])
@@ -411,6 +445,18 @@ mod tests {
         // best case of the NAND2 pull-up: two PMOS of 2 in parallel, R/2 (common practice, no source)
         assert_relative_eq!(up.best_resistance, 0.5, epsilon = 1e-12);
         assert_eq!(up.path_count, "2");
+    }
+
+    #[test]
+    fn worst_case_per_input_sets_the_side_inputs() {
+        // AOI21 pull-up: input c's weakest path is c with a or b (both 1 R); a and b off-side at 1
+        let gate = sized("aoi21", Method::LongestPath);
+        let (path, vector) = gate.worst_case_for_input(2, NetworkKind::PullUp).unwrap();
+        assert_relative_eq!(path.resistance, 1.0, epsilon = 1e-12);
+        assert_eq!(vector.to_string(), "a=0 b=1 c=0");
+        let (path, vector) = gate.worst_case_for_input(2, NetworkKind::PullDown).unwrap();
+        assert_eq!(path.devices, vec![2]);
+        assert_eq!(vector.to_string(), "a=0 b=0 c=1");
     }
 
     #[test]

@@ -59,6 +59,46 @@ pub fn highest(node: &Node, resistance: &[f64]) -> f64 {
     }
 }
 
+/// The weakest path that goes through `device`, or `None` if the network has no such device.
+pub fn weakest_through(network: &Network, resistance: &[f64], device: usize) -> Option<Path> {
+    fn contains(node: &Node, device: usize) -> bool {
+        match node {
+            Node::Device(index) => *index == device,
+            Node::Series(children) | Node::Parallel(children) => children.iter().any(|c| contains(c, device)),
+        }
+    }
+    fn walk(node: &Node, resistance: &[f64], device: usize, devices: &mut Vec<usize>) -> f64 {
+        match node {
+            Node::Device(index) => {
+                devices.push(*index);
+                resistance[*index]
+            }
+            Node::Series(members) => members
+                .iter()
+                .map(|m| {
+                    if contains(m, device) {
+                        walk(m, resistance, device, devices)
+                    } else {
+                        let path = weakest(&Network { kind: NetworkKind::PullDown, root: m.clone() }, resistance);
+                        devices.extend(path.devices);
+                        path.resistance
+                    }
+                })
+                .sum(),
+            Node::Parallel(branches) => {
+                let branch = branches.iter().find(|b| contains(b, device)).expect("the device is in one branch");
+                walk(branch, resistance, device, devices)
+            }
+        }
+    }
+    if !contains(&network.root, device) {
+        return None;
+    }
+    let mut devices = Vec::new();
+    let resistance = walk(&network.root, resistance, device, &mut devices);
+    Some(Path { resistance, devices })
+}
+
 /// Resistance with every device on: series sum, parallel `1 / sum(1/r)`.
 pub fn best_case(network: &Network, resistance: &[f64]) -> f64 {
     let on = vec![true; resistance.len()];
@@ -212,6 +252,17 @@ mod tests {
         assert!((path.resistance - 1.5).abs() < 1e-12);
         assert_eq!(sensitize(down.kind, &path.devices, &input_of, inputs), Some(vec![true, true, false]));
         assert!((best_case(&down, &r) - (0.5 + 0.2)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn weakest_path_through_a_given_device() {
+        let (down, _, _) = pull_down("!(a & (b | c) | d)");
+        let r = [0.5, 1.0, 0.25, 2.0];
+        let through_c = weakest_through(&down, &r, 2).unwrap();
+        assert_eq!(through_c.devices, vec![0, 2]);
+        assert!((through_c.resistance - 0.75).abs() < 1e-12);
+        assert_eq!(weakest_through(&down, &r, 3).unwrap().devices, vec![3]);
+        assert_eq!(weakest_through(&down, &r, 9), None);
     }
 
     #[test]
