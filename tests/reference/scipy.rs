@@ -1,0 +1,71 @@
+//! The min-area optimum against scipy's SLSQP (scipy from PyPI, run by
+//! `tests/reference/scipy_min_area.py`, which finds the paths itself from the netlist).
+
+use std::io::Write;
+use std::process::{Command, Stdio};
+
+use widthwise::{GateOptions, Method, SizingOptions, size_text};
+
+/// Gates whose min-area optimum differs from longest-path (unequal parallel structure in series),
+/// and some where they agree.
+const GATES: [&str; 10] = [
+    "!(a & (b | c))",
+    "aoi21",
+    "oai21",
+    "aoi221",
+    "oai211",
+    "!((a | b | c) & (d | e) & f)",
+    "!(a & (b | c & (d | e)))",
+    "!((a & b | c) & (d | e & f))",
+    "!(a & b & (c | d | e & f))",
+    "!(a & (b | c) | d & (e | f | g))",
+];
+
+fn require_scipy() -> bool {
+    std::env::var("WIDTHWISE_REQUIRE_SCIPY").is_ok_and(|v| v == "1")
+}
+
+#[test]
+fn min_area_matches_slsqp() {
+    let options = GateOptions::new(SizingOptions::new(Method::MinArea, 2.0, 1.0, None));
+    let gates: Vec<_> = GATES.iter().map(|text| size_text(text, &options).unwrap()).collect();
+    let input = serde_json::to_vec(&gates).unwrap();
+    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/scipy_min_area.py");
+    let child =
+        Command::new("python3").arg(script).stdin(Stdio::piped()).stdout(Stdio::piped()).stderr(Stdio::piped()).spawn();
+    let mut child = match child {
+        Ok(child) => child,
+        Err(error) => {
+            assert!(!require_scipy(), "python3 is required (WIDTHWISE_REQUIRE_SCIPY=1): {error}");
+            eprintln!("skipping the scipy check: python3 not found ({error})");
+            return;
+        }
+    };
+    child.stdin.take().unwrap().write_all(&input).unwrap();
+    let output = child.wait_with_output().unwrap();
+    if output.status.code() == Some(3) {
+        assert!(!require_scipy(), "scipy is required (WIDTHWISE_REQUIRE_SCIPY=1)");
+        eprintln!("skipping the scipy check: {}", String::from_utf8_lossy(&output.stderr).trim());
+        return;
+    }
+    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
+    let lines: Vec<serde_json::Value> =
+        String::from_utf8(output.stdout).unwrap().lines().map(|l| serde_json::from_str(l).unwrap()).collect();
+    assert_eq!(lines.len(), 2 * GATES.len());
+    let mut largest = 0.0f64;
+    for (line, (gate, network)) in lines.iter().zip(gates.iter().flat_map(|g| g.networks.iter().map(move |n| (g, n)))) {
+        assert_eq!(line["network"], network.network.name());
+        assert!(line["scipy_success"].as_bool().unwrap(), "{line}");
+        let scipy = line["scipy_area"].as_f64().unwrap();
+        let ours = network.total_w_over_l;
+        let difference = (ours - scipy) / scipy;
+        largest = largest.max(difference.abs());
+        // Ours is the exact optimum: never worse than the solver's by more than its tolerance,
+        // and every path of scipy's answer within target.
+        assert!(difference.abs() < 1e-5, "{} {}: ours {ours}, scipy {scipy}", gate.expression, line["network"]);
+        assert!(line["scipy_worst_over_target"].as_f64().unwrap() < 1.0 + 1e-6);
+        // Its path count, found from the netlist, matches ours.
+        assert_eq!(line["paths"].as_u64().unwrap().to_string(), network.path_count);
+    }
+    eprintln!("min-area against scipy SLSQP: {} networks, largest relative difference {largest:.2e}", lines.len());
+}
