@@ -305,7 +305,7 @@ fn network_figures(
     let resistance = sizing.resistances(kind, widths);
     let weakest = paths::weakest(network, &resistance);
     let input_count = function.inputs.len();
-    let worst_vector = paths::sensitize(kind, &weakest.devices, input_of, input_count)
+    let worst_vector = paths::sensitize(network, &weakest.devices, input_of, input_count)
         .map(|values| Vector::new(&function.inputs, &values));
     let exact_worst = if function.has_repeated_inputs() {
         paths::exact_worst(network, &resistance, input_of, input_count)
@@ -364,7 +364,7 @@ impl SizedGate {
                     .into_iter()
                     .map(|path| ListedPath {
                         resistance: path.resistance,
-                        vector: paths::sensitize(kind, &path.devices, &input_of, self.function.inputs.len())
+                        vector: paths::sensitize(network, &path.devices, &input_of, self.function.inputs.len())
                             .map(|values| Vector::new(&self.function.inputs, &values)),
                         devices: path.devices.iter().map(|&d| device_name(kind, d)).collect(),
                     })
@@ -394,7 +394,7 @@ impl SizedGate {
                 Some(path) => vec![path],
                 None => continue,
             };
-            if paths::sensitize(kind, &candidates[0].devices, &input_of, self.function.inputs.len()).is_none() {
+            if paths::sensitize(network, &candidates[0].devices, &input_of, self.function.inputs.len()).is_none() {
                 // Repeated inputs: look further down the listing for one that conducts alone.
                 candidates = paths::list(network, &resistance, paths::MAX_LISTED_PATHS)
                     .into_iter()
@@ -402,7 +402,7 @@ impl SizedGate {
                     .collect();
             }
             for path in candidates {
-                if let Some(values) = paths::sensitize(kind, &path.devices, &input_of, self.function.inputs.len()) {
+                if let Some(values) = paths::sensitize(network, &path.devices, &input_of, self.function.inputs.len()) {
                     if best.as_ref().is_none_or(|(b, _)| path.resistance > b.resistance + 1e-12) {
                         best = Some((path, values));
                     }

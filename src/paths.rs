@@ -185,25 +185,31 @@ fn key(resistance: f64) -> i64 {
     (resistance * 1e9).round() as i64
 }
 
-/// The input vector that turns on every device of `path` and turns off every other device of the
-/// network, or `None` where a repeated input makes that impossible. `input_of[k]` is device `k`'s input.
-pub fn sensitize(kind: NetworkKind, path: &[usize], input_of: &[usize], input_count: usize) -> Option<Vec<bool>> {
-    let on_level = kind.conducts(true);
-    let mut value: Vec<Option<bool>> = vec![None; input_count];
-    let mut on_path = vec![false; input_of.len()];
+/// The input vector that makes `path` the only conducting path of the network, or `None` where
+/// repeated inputs make that impossible. `input_of[k]` is device `k`'s input.
+///
+/// The path's inputs go to their on-level and every other input to its off-level: turning a device
+/// off never makes a path conduct, so if another path still conducts under this vector, it conducts
+/// under every vector that turns this one on.
+pub fn sensitize(network: &Network, path: &[usize], input_of: &[usize], input_count: usize) -> Option<Vec<bool>> {
+    let on_level = network.kind.conducts(true);
+    let mut values = vec![!on_level; input_count];
     for &device in path {
-        on_path[device] = true;
-        value[input_of[device]] = Some(on_level);
+        values[input_of[device]] = on_level;
     }
-    for (device, &input) in input_of.iter().enumerate() {
-        if !on_path[device] {
-            match value[input] {
-                Some(level) if level == on_level => return None,
-                _ => value[input] = Some(!on_level),
-            }
+    let on: Vec<bool> = input_of.iter().map(|&input| network.kind.conducts(values[input])).collect();
+    (conducting_paths(&network.root, &on) == 1).then_some(values)
+}
+
+/// How many paths conduct when the devices in `on` are on (saturating).
+fn conducting_paths(node: &Node, on: &[bool]) -> u64 {
+    match node {
+        Node::Device(index) => u64::from(on[*index]),
+        Node::Series(members) => {
+            members.iter().fold(1u64, |product, m| product.saturating_mul(conducting_paths(m, on)))
         }
+        Node::Parallel(branches) => branches.iter().fold(0u64, |sum, b| sum.saturating_add(conducting_paths(b, on))),
     }
-    Some(value.into_iter().map(|v| v.unwrap_or(!on_level)).collect())
 }
 
 /// The exact worst case: the highest resistance of what conducts over every input vector for which
@@ -250,7 +256,7 @@ mod tests {
         let path = weakest(&down, &r);
         assert_eq!(path.devices, vec![0, 1]);
         assert!((path.resistance - 1.5).abs() < 1e-12);
-        assert_eq!(sensitize(down.kind, &path.devices, &input_of, inputs), Some(vec![true, true, false]));
+        assert_eq!(sensitize(&down, &path.devices, &input_of, inputs), Some(vec![true, true, false]));
         assert!((best_case(&down, &r) - (0.5 + 0.2)).abs() < 1e-12);
     }
 
@@ -285,12 +291,17 @@ mod tests {
 
     #[test]
     fn repeated_inputs_can_block_a_path() {
-        // !(a & b | a & c): the path through the first a and b cannot conduct alone.
+        // !(a & b | a & c): a=1 b=1 c=0 turns on the second a too, but its path stays open at c,
+        // so the first path still conducts alone.
         let (down, input_of, inputs) = pull_down("!(a & b | a & c)");
-        assert_eq!(sensitize(down.kind, &[0, 1], &input_of, inputs), None);
-        let r = [0.5; 4];
-        let (exact, vector) = exact_worst(&down, &r, &input_of, inputs).unwrap();
+        assert_eq!(sensitize(&down, &[0, 1], &input_of, inputs), Some(vec![true, true, false]));
+        let (exact, vector) = exact_worst(&down, &[0.5; 4], &input_of, inputs).unwrap();
         assert!((exact - 1.0).abs() < 1e-12);
         assert_eq!(vector, vec![true, true, false]);
+        // !((a | b) & (a | c)): the pull-down path through the first a and c turns on the second a,
+        // which closes the path a-a as well, so it never conducts alone.
+        let (down, input_of, inputs) = pull_down("!((a | b) & (a | c))");
+        assert_eq!(sensitize(&down, &[0, 3], &input_of, inputs), None);
+        assert_eq!(sensitize(&down, &[0, 2], &input_of, inputs), Some(vec![true, false, false]));
     }
 }

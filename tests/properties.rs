@@ -167,6 +167,31 @@ proptest! {
     }
 
     #[test]
+    fn worst_vector_makes_the_worst_path_the_only_one(f in tree()) {
+        let gate = sized(&f.text(2), Method::MinArea, 2.0);
+        let inputs: Vec<String> = gate.inputs.iter().map(|i| i.name.clone()).collect();
+        for (side, network) in gate.networks.iter().enumerate() {
+            let Some(vector) = &network.worst_vector else { continue };
+            let value_of = |name: &str| vector.values.iter().find(|(n, _)| n == name).unwrap().1;
+            let devices: Vec<_> = gate.transistors.iter().filter(|t| t.network == network.network).collect();
+            let on: Vec<bool> = devices
+                .iter()
+                .map(|t| if side == 0 { value_of(&t.input) } else { !value_of(&t.input) })
+                .collect();
+            let mut next = 0;
+            let conducting: Vec<Vec<usize>> =
+                f.paths(side == 0, &mut next).into_iter().filter(|p| p.iter().all(|&d| on[d])).collect();
+            prop_assert_eq!(conducting.len(), 1, "{} under {}", network.network.name(), vector);
+            let mut names: Vec<String> = conducting[0].iter().map(|&d| devices[d].name.clone()).collect();
+            let mut expected = network.worst_path.clone();
+            names.sort();
+            expected.sort();
+            prop_assert_eq!(names, expected);
+            prop_assert_eq!(vector.values.len(), inputs.len());
+        }
+    }
+
+    #[test]
     fn listing_agrees_with_enumeration(f in tree()) {
         let gate = sized(&f.text(1), Method::MinArea, 2.0);
         let listings = gate.list_paths(10_000);
