@@ -130,3 +130,12 @@ fn help_states_the_caution() {
         .stdout(predicate::str::contains("first-order estimates"))
         .stdout(predicate::str::contains("foundry"));
 }
+
+#[test]
+fn readme_example_is_what_the_tool_prints() {
+    let readme = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/README.md")).unwrap();
+    let start = readme.find("aoi21: y = !(a & b | c)").expect("the example in the README");
+    let end = start + readme[start..].find("```").unwrap();
+    let output = widthwise().args(["size", "aoi21"]).output().unwrap();
+    assert_eq!(String::from_utf8(output.stdout).unwrap(), &readme[start..end]);
+}
