@@ -244,6 +244,16 @@ impl ProcessFile {
                 format!("must be at least min_width_nm ({})", process.min_width_nm),
             ));
         }
+        if process.widest_finger_nm() < process.narrowest_width_nm() {
+            return Err(out_of_range(
+                "max_finger_width_nm",
+                &self.max_finger_width_nm,
+                format!(
+                    "no width on the {} nm grid lies between min_width_nm ({}) and it",
+                    process.grid_nm, process.min_width_nm
+                ),
+            ));
+        }
         let kp_ratio = process.nmos_kp_ua_per_v2 / process.pmos_kp_ua_per_v2;
         if (kp_ratio / process.mobility_ratio - 1.0).abs() > 1e-3 {
             return Err(out_of_range(
@@ -269,11 +279,47 @@ impl ProcessFile {
 impl Process {
     /// Read a process file's text.
     pub fn from_toml(text: &str) -> Result<Process, ProcessError> {
-        let file: ProcessFile = toml::from_str(text).map_err(|error| ProcessError::Syntax {
-            message: error.message().trim().to_string(),
-            span: error.span().map(|r| Span::new(r.start, r.end)),
+        let file: ProcessFile = toml::from_str(text).map_err(|error| {
+            let span = error.span().map(|r| Span::new(r.start, r.end));
+            let mut message = error.message().trim().to_string();
+            // A wrong type ("invalid type: string ...") does not say whose value it is: name the key.
+            if let Some(key) = span.and_then(|span| key_on_line(text, span.start))
+                && !message.contains(key)
+            {
+                message = format!("{key}: {message}");
+            }
+            ProcessError::Syntax { message, span }
         })?;
         file.validate()
+    }
+
+    /// `width_nm` snapped up to the next multiple of the grid (a width already on the grid, to
+    /// within a billionth of a grid step, stays).
+    pub fn snap_up_nm(&self, width_nm: f64) -> f64 {
+        (width_nm / self.grid_nm - GRID_TOLERANCE).ceil() * self.grid_nm
+    }
+
+    /// The widest finger on the grid that is at most `max_finger_width_nm`.
+    pub fn widest_finger_nm(&self) -> f64 {
+        (self.max_finger_width_nm / self.grid_nm + GRID_TOLERANCE).floor() * self.grid_nm
+    }
+
+    /// The narrowest width a device can be drawn at: `min_width_nm` snapped up to the grid.
+    pub fn narrowest_width_nm(&self) -> f64 {
+        self.snap_up_nm(self.min_width_nm)
+    }
+
+    /// How a device of relative size `w_over_l` is drawn. Its physical width `w_over_l x
+    /// unit_width_nm` is raised to `min_width_nm`; up to the widest on-grid finger it is one finger
+    /// snapped up to the grid; wider, it is split into `n = ceil(W / widest finger)` equal fingers,
+    /// each `W / n` snapped up to the grid (and at least the narrowest width), so the total
+    /// `n x finger` is never below `W`.
+    pub fn draw(&self, w_over_l: f64) -> Drawn {
+        let wanted = self.width_nm(w_over_l).max(self.min_width_nm);
+        let fingers = (wanted / self.widest_finger_nm() - GRID_TOLERANCE).ceil().max(1.0);
+        let finger_width_nm = self.snap_up_nm(wanted / fingers).max(self.narrowest_width_nm());
+        // A float to integer cast saturates, so absurd sizes give a huge count, never a panic.
+        Drawn { fingers: fingers as usize, finger_width_nm }
     }
 
     /// Physical width in nm of a device of relative size `w_over_l`, before snapping.
@@ -336,6 +382,38 @@ impl Process {
         let header = "# widthwise process file. Every key is required unless marked optional.\n\
                       # First-order values: sign-off needs the foundry's models and design rules.\n\n";
         format!("{header}{}", out.trim_end()) + "\n"
+    }
+}
+
+/// The key of a `key = value` line holding byte `offset`, if the line is one.
+fn key_on_line(text: &str, offset: usize) -> Option<&str> {
+    let offset = offset.min(text.len());
+    let start = text.get(..offset)?.rfind('\n').map_or(0, |i| i + 1);
+    let line = text[start..].lines().next()?;
+    let (key, _) = line.split_once('=')?;
+    let key = key.trim();
+    let valid = !key.is_empty() && key.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-');
+    valid.then_some(key)
+}
+
+/// Widths within this fraction of a grid step of a grid line count as on it, so that rounding in
+/// `size x unit width` never adds a grid step.
+const GRID_TOLERANCE: f64 = 1e-9;
+
+/// A device as drawn: `fingers` equal fingers of `finger_width_nm`, all of drawn length.
+/// Netlists write it as one MOSFET of width `finger_width_nm` with SPICE multiplicity `m=fingers`.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct Drawn {
+    /// Number of fingers, 1 or more.
+    pub fingers: usize,
+    /// Width of each finger, nm, on the grid.
+    pub finger_width_nm: f64,
+}
+
+impl Drawn {
+    /// Total drawn width, nm: fingers x finger width.
+    pub fn width_nm(&self) -> f64 {
+        self.fingers as f64 * self.finger_width_nm
     }
 }
 
