@@ -464,6 +464,46 @@ mod tests {
     }
 
     #[test]
+    fn widths_snap_up_to_the_grid_and_the_minimum() {
+        let process = Process::default(); // unit width 1000 nm, grid 5 nm, minimum 500 nm
+        // 1 + sqrt 2 = 2.41421...: 2414.21 nm is between grid lines 2410 and 2415, so 2415.
+        assert_eq!(process.draw(1.0 + 2f64.sqrt()), Drawn { fingers: 1, finger_width_nm: 2415.0 });
+        // On the grid but for rounding (3.0000000000000004): stays 3000 nm.
+        assert_eq!(process.draw(0.1 * 30.0 + 4e-16).finger_width_nm, 3000.0);
+        // Below the minimum width: 0.3 x 1000 nm = 300 nm becomes 500 nm.
+        assert_eq!(process.draw(0.3).finger_width_nm, 500.0);
+    }
+
+    #[test]
+    fn wide_devices_fold_into_equal_fingers() {
+        let process = Process::default(); // widest finger 20000 nm
+        // 10 x the widest finger: 10 fingers of exactly the widest, total the width.
+        let drawn = process.draw(200.0);
+        assert_eq!(drawn, Drawn { fingers: 10, finger_width_nm: 20000.0 });
+        assert_eq!(drawn.width_nm(), 200_000.0);
+        // 201000 nm: ceil(201000 / 20000) = 11 fingers of 201000 / 11 = 18272.7 nm, snapped up to 18275.
+        assert_eq!(process.draw(201.0), Drawn { fingers: 11, finger_width_nm: 18275.0 });
+    }
+
+    #[test]
+    fn a_finger_limit_without_a_grid_width_is_refused() {
+        // min 502 nm snaps up to 505 nm, but fingers may be at most 503 nm wide.
+        let text =
+            with("min_width_nm", "502.0").replace("max_finger_width_nm = 20000.0", "max_finger_width_nm = 503.0");
+        let error = Process::from_toml(&text).unwrap_err();
+        assert!(error.to_string().starts_with("max_finger_width_nm"), "{error}");
+    }
+
+    #[test]
+    fn a_value_of_the_wrong_type_names_its_key() {
+        let text = with("grid_nm", "\"five\"");
+        let error = Process::from_toml(&text).unwrap_err();
+        assert!(error.to_string().starts_with("grid_nm: invalid type"), "{error}");
+        let span = error.span().unwrap();
+        assert_eq!(&text[span.start..span.end], "\"five\"");
+    }
+
+    #[test]
     fn missing_and_unknown_keys_are_refused() {
         let text = Process::default().to_commented_toml();
         let missing: String = text.lines().filter(|l| !l.starts_with("grid_nm")).collect::<Vec<_>>().join("\n");

@@ -55,8 +55,11 @@ pub struct Transition {
     pub vector: Vec<bool>,
     /// Resistance of what conducts after the toggle, units of R (sizing widths).
     pub resistance: f64,
-    /// The devices of the path that conducts alone, or `None` when no single path through the
-    /// input can (repeated inputs): then the vector is the exact worst over the side inputs.
+    /// The same with the drawn (snapped) widths, which is what a simulator sees.
+    pub drawn_resistance: f64,
+    /// The devices of the path that conducts alone, or `None` where repeated inputs keep every
+    /// path through the input from being the only device chain on: then the vector is the exact
+    /// worst over the side inputs.
     pub path: Option<Vec<String>>,
 }
 
@@ -82,20 +85,26 @@ pub fn reference_measure(kind: NetworkKind) -> String {
 /// whose every path is blocked by repeated inputs gets the exact worst over its side inputs (up to
 /// 16 inputs); an input with no transition at all (its toggling never moves the output) is left out.
 pub fn transitions(gate: &SizedGate) -> Vec<Transition> {
+    let input_of: Vec<usize> = gate.function.literals.iter().map(|l| l.input).collect();
     let mut out = Vec::new();
     for input in 0..gate.inputs.len() {
         for kind in NetworkKind::BOTH {
-            if let Some((path, vector)) = gate.worst_case_for_input(input, kind) {
-                out.push(Transition {
-                    input,
-                    kind,
-                    vector: vector.values.iter().map(|(_, v)| *v).collect(),
-                    resistance: path.resistance,
-                    path: Some(path.devices.iter().map(|&d| crate::gate::device_name(kind, d)).collect()),
-                });
-            } else if let Some((resistance, vector)) = exact_transition(gate, input, kind) {
-                out.push(Transition { input, kind, vector, resistance, path: None });
-            }
+            let side = usize::from(kind == NetworkKind::PullUp);
+            let drawn = gate.options.resistances(kind, &gate.drawn_widths[side]);
+            let (resistance, vector, path) = match gate.worst_case_for_input(input, kind) {
+                Some((path, vector)) => (
+                    path.resistance,
+                    vector.values.iter().map(|(_, v)| *v).collect::<Vec<bool>>(),
+                    Some(path.devices.iter().map(|&d| crate::gate::device_name(kind, d)).collect()),
+                ),
+                None => match exact_transition(gate, input, kind) {
+                    Some((resistance, vector)) => (resistance, vector, None),
+                    None => continue,
+                },
+            };
+            let on: Vec<bool> = input_of.iter().map(|&i| kind.conducts(vector[i])).collect();
+            let drawn_resistance = paths::effective_resistance(&gate.trees[side], &drawn, &on).unwrap_or(f64::INFINITY);
+            out.push(Transition { input, kind, vector, resistance, drawn_resistance, path });
         }
     }
     out
@@ -331,16 +340,17 @@ pub fn write_deck(gate: &SizedGate, options: &DeckOptions, out: &mut dyn Write) 
             .collect();
         let how = match &transition.path {
             Some(devices) => format!("path {}", devices.join(" ")),
-            None => "no single path through it conducts alone: exact worst over the side inputs".to_string(),
+            None => "repeated inputs: the exact worst over the side inputs".to_string(),
         };
         writeln!(out)?;
         writeln!(
             out,
-            "* {tag}: {name} {}, output {}; held {}; {how}, {} R (target {} R)",
+            "* {tag}: {name} {}, output {}; held {}; {how}: {} R sized, {} R drawn (target {} R)",
             if on_level { "rising" } else { "falling" },
             if transition.kind == NetworkKind::PullDown { "falling" } else { "rising" },
             if held.is_empty() { "nothing".to_string() } else { held.join(" ") },
             number(transition.resistance),
+            number(transition.drawn_resistance),
             number(gate.options.target(transition.kind)),
         )?;
         let mut nodes = Vec::new();
