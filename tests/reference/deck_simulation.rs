@@ -22,7 +22,7 @@ use widthwise::output::deck::{edge, gate_measure, reference_measure, transitions
 use widthwise::process::Process;
 use widthwise::sizing::{Method, SizingOptions};
 
-use crate::support::{measurements, ngspice_available, run_ngspice, summary_ratios, widthwise};
+use crate::support::{measurements, ngspice_available, note, run_ngspice, summary_ratios, widthwise};
 
 /// The built-in process with a grid too fine to matter and the given body-effect coefficient.
 fn fine_process(body_effect: f64) -> String {
@@ -167,12 +167,22 @@ fn simulate_all(process_text: &str, extra: &[&str]) -> Vec<(String, Method, Vec<
     results
 }
 
+/// Every ratio (with `--nocapture`), and per gate and method the range on each edge (always shown).
 fn report(label: &str, results: &[(String, Method, Vec<Outcome>)]) {
     eprintln!("{label}: simulated gate delay / reference inverter delay, per input and output edge");
     for (gate, method, outcomes) in results {
         let cells: Vec<String> =
             outcomes.iter().map(|o| format!("{} {:.4} (predicted {:.4})", o.what, o.ratio, o.predicted)).collect();
         eprintln!("  {gate} [{}]: {}", method.name(), cells.join(", "));
+    }
+    note(&format!("{label}: gate delay / reference delay, lowest..highest over the inputs"));
+    for (gate, method, outcomes) in results {
+        let range = |edge: &str| {
+            let ratios = outcomes.iter().filter(|o| o.what.ends_with(edge)).map(|o| o.ratio);
+            let (low, high) = ratios.fold((f64::INFINITY, 0.0f64), |(l, h), r| (l.min(r), h.max(r)));
+            format!("{edge} {low:.4}..{high:.4}")
+        };
+        note(&format!("  {gate} [{}]: {}, {}", method.name(), range("fall"), range("rise")));
     }
 }
 
@@ -182,7 +192,7 @@ fn worst_case_delays_match_the_reference_inverter() {
         return;
     }
     for gate in &gates()[5..] {
-        eprintln!("random gate (fixed seed): {gate}");
+        note(&format!("random gate (fixed seed): {gate}"));
     }
     let results = simulate_all(&fine_process(0.0), &[]);
     report("gamma = 0", &results);
@@ -263,10 +273,10 @@ fn diffusion_capacitors_slow_every_transition() {
         assert!(with > delay, "{name}: {with} with diffusion, {delay} without");
         cells.push(format!("{name} x{:.3}", with / delay));
     }
-    eprintln!("nand3 with diffusion capacitance, delay over the plain deck's: {}", cells.join(", "));
+    note(&format!("nand3 with diffusion capacitance, delay over the plain deck's: {}", cells.join(", ")));
     let ratios: Vec<String> = ["a", "b", "c"]
         .iter()
         .map(|input| format!("{input} fall {:.4}", loaded[&format!("tpd_{input}_fall_gate")] / loaded["tpd_fall_ref"]))
         .collect();
-    eprintln!("nand3 with diffusion capacitance, gate / reference: {}", ratios.join(", "));
+    note(&format!("nand3 with diffusion capacitance, gate / reference: {}", ratios.join(", ")));
 }

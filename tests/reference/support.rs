@@ -24,9 +24,15 @@ pub fn ngspice_available(check: &str) -> bool {
         if std::env::var(REQUIRE_NGSPICE).is_ok_and(|v| v == "1") {
             panic!("{check}: ngspice is missing and {REQUIRE_NGSPICE}=1 (install Debian's ngspice package)");
         }
-        eprintln!("{check}: skipped, ngspice is not installed (Debian package ngspice)");
+        note(&format!("{check}: skipped, ngspice is not installed (Debian package ngspice)"));
     }
     runs
+}
+
+/// A line on stderr that the test harness does not capture, so that it shows in every run.
+pub fn note(line: &str) {
+    use std::io::Write;
+    let _ = writeln!(std::io::stderr(), "{line}");
 }
 
 /// Simulate a deck with `ngspice -b` in a fresh directory; ngspice's standard output.
