@@ -171,3 +171,20 @@ fn ten_times_the_widest_finger_is_ten_fingers() {
         .stdout(predicate::str::contains("MN1 y a vss vss nmos W=20u L=1u m=10"))
         .stdout(predicate::str::contains("MP1 y a vdd vdd pmos W=20u L=1u m=20"));
 }
+
+#[test]
+fn the_example_process_files_are_valid() {
+    let directory = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("examples");
+    let mut count = 0;
+    for entry in std::fs::read_dir(directory).unwrap() {
+        let path = entry.unwrap().path();
+        if path.extension().is_some_and(|e| e == "toml")
+            && path.file_name().unwrap().to_string_lossy().starts_with("process")
+        {
+            let gate = json(&["size", "aoi21", "--format", "json", "--process", path.to_str().unwrap()]);
+            assert!(gate["process"]["name"].as_str().unwrap().contains("invented"), "{}", path.display());
+            count += 1;
+        }
+    }
+    assert_eq!(count, 2);
+}
