@@ -20,7 +20,10 @@ nand2..nand8, nor2..nor8, aoi21, aoi22, aoi211 ..., oai21, oai22 ... (inputs a, 
 
 Units: sizes are relative W/L, 1 = the unit NMOS; resistances are in units of R, the unit NMOS's
 on-resistance; capacitances in unit-NMOS gate capacitances. Physical sizes use the built-in process
-(L = 1u, unit NMOS W = 1u, so W = W/L x 1u) unless a process file says otherwise.
+(L = 1u, unit NMOS W = 1u, so W = W/L x 1u) unless --process FILE gives another ('widthwise process'
+prints the built-in one to start from). Widths snap up to the process grid and minimum width; a device
+wider than the maximum finger width is drawn as n equal fingers, written in SPICE as W=<finger width>
+with the multiplicity m=n. The worst path after snapping is reported with its error against the target.
 
 Limits: expressions up to 1 MiB and 256 levels of parentheses; up to 10000 input occurrences
 (transistors per network) and 10000 distinct inputs; up to 10000 listed paths; the exact worst case
@@ -74,6 +77,63 @@ pub enum Command {
         #[arg(long, default_value_t = 20, value_parser = path_limit)]
         limit: usize,
     },
+    /// Write a self-contained SPICE simulation deck: models, the gate, the reference inverter at the
+    /// same drive, and every input's worst-case transition on both output edges, with .tran and .meas.
+    ///
+    /// The deck has one copy of the gate per worst-case transition (an input toggling with the side
+    /// inputs held so that its weakest path is the only one that conducts), each with its own sources
+    /// and load (the process's load_ff), and one copy of the reference inverter per output edge; one
+    /// transient run measures them all. Measurements: tpd_<input>_fall_gate and tpd_<input>_rise_gate
+    /// (named by the output's edge), tpd_fall_ref and tpd_rise_ref, each from the input crossing
+    /// supply/2 to the output crossing supply/2. Run it with, e.g., 'ngspice -b deck.sp'; widthwise
+    /// never runs a simulator. Devices are written as W=<finger width> with SPICE multiplicity
+    /// m=<fingers>. The built-in models are level 1 from the process (threshold, KP, body effect as
+    /// GAMMA, LAMBDA=0, no parasitic capacitance).
+    #[command(after_help = AFTER_HELP)]
+    Deck {
+        /// The gate: an expression or a shorthand; - reads it from standard input.
+        expression: OsString,
+        /// How the gate is sized.
+        #[command(flatten)]
+        gate: GateArgs,
+        /// What the deck holds.
+        #[command(flatten)]
+        deck: DeckArgs,
+        /// Write to FILE (atomically) instead of standard output.
+        #[arg(short, long, value_name = "FILE")]
+        output: Option<PathBuf>,
+    },
+    /// Print the built-in process as a commented process file to start from.
+    #[command(after_help = AFTER_HELP)]
+    Process {
+        /// Write to FILE (atomically) instead of standard output.
+        #[arg(short, long, value_name = "FILE")]
+        output: Option<PathBuf>,
+    },
+}
+
+/// Options of the simulation deck.
+#[derive(Debug, Clone, Args)]
+pub struct DeckArgs {
+    /// Include this model library (`.include`, written as an absolute path) instead of writing level-1
+    /// models from the process.
+    #[arg(long, value_name = "FILE")]
+    pub models: Option<PathBuf>,
+    /// The NMOS model's name in the --models library (default: the process's nmos_model).
+    #[arg(long, value_name = "NAME", requires = "models", value_parser = cell_name)]
+    pub nmos_model: Option<String>,
+    /// The PMOS model's name in the --models library (default: the process's pmos_model).
+    #[arg(long, value_name = "NAME", requires = "models", value_parser = cell_name)]
+    pub pmos_model: Option<String>,
+    /// Add a capacitor to ground on every node of the gate and the reference inverter for its
+    /// diffusions: diffusion_cap_ff_per_um x drawn width, a diffusion shared by two series devices
+    /// counted once (the wider one).
+    #[arg(long)]
+    pub diffusion_capacitance: bool,
+    /// Add an ngspice .control block so that 'ngspice -b deck.sp' prints each gate delay, the matching
+    /// reference delay and their ratio.
+    #[arg(long)]
+    pub summary: bool,
 }
 
 /// Options that say how a gate is sized.
@@ -83,9 +143,10 @@ pub struct GateArgs {
     /// it) or min-area (least total W/L with every path at the target).
     #[arg(long, value_enum, default_value_t = Method::LongestPath)]
     pub method: Method,
-    /// Mobility ratio mu_n / mu_p (real processes run about 2 to 3).
-    #[arg(long, value_name = "MU", default_value_t = 2.0, value_parser = positive_number, allow_hyphen_values = true)]
-    pub mobility_ratio: f64,
+    /// Mobility ratio mu_n / mu_p (real processes run about 2 to 3) [default: the process's, 2 for
+    /// the built-in one].
+    #[arg(long, value_name = "MU", value_parser = positive_number, allow_hyphen_values = true)]
+    pub mobility_ratio: Option<f64>,
     /// Drive strength: multiple of the unit reference inverter.
     #[arg(long, value_name = "D", default_value_t = 1.0, value_parser = positive_number, allow_hyphen_values = true)]
     pub drive: f64,
@@ -99,6 +160,10 @@ pub struct GateArgs {
     /// The cell name in netlists and tables (default: the shorthand, or "cell").
     #[arg(long, value_name = "NAME", value_parser = cell_name)]
     pub name: Option<String>,
+    /// A process file (TOML): length, unit width, grid, minimum and maximum finger width, mobility
+    /// ratio and device values (default: the built-in process; 'widthwise process' prints it).
+    #[arg(long, value_name = "FILE")]
+    pub process: Option<PathBuf>,
 }
 
 /// Options that say where and how output is written.

@@ -7,9 +7,10 @@ use std::fs;
 use std::io::{self, BufWriter, Read, Write};
 use std::path::Path;
 
-use crate::cli::{Cli, Command, GateArgs, OutputArgs};
+use crate::cli::{Cli, Command, DeckArgs, GateArgs, OutputArgs};
 use crate::error::Error;
 use crate::gate::{GateOptions, size_text};
+use crate::output::deck::{DeckOptions, Models};
 use crate::output::{self, Format};
 use crate::process::Process;
 use crate::sizing::SizingOptions;
@@ -18,32 +19,87 @@ use crate::sizing::SizingOptions;
 pub fn run(cli: Cli) -> Result<(), Error> {
     match cli.command {
         Command::Size { expression, gate, output, rows } => {
+            let options = gate_options(&gate)?;
             let text = expression_text(&expression)?;
-            let sized = size_text(&text, &gate_options(&gate))?;
-            let process = Process::default();
+            let sized = size_text(&text, &options)?;
             write_output(&output, |out| {
-                output::write_gates(std::slice::from_ref(&sized), output.format, rows, &process, out)
+                output::write_gates(std::slice::from_ref(&sized), output.format, rows, &options.process, out)
             })
         }
         Command::Paths { expression, gate, output, limit } => {
             if output.format == Format::Spice {
                 return Err(Error::Usage("paths are written as table, csv or json, not spice".into()));
             }
+            let options = gate_options(&gate)?;
             let text = expression_text(&expression)?;
-            let sized = size_text(&text, &gate_options(&gate))?;
+            let sized = size_text(&text, &options)?;
             let listings = sized.list_paths(limit);
             write_output(&output, |out| output::write_paths(&sized, &listings, output.format, out))
+        }
+        Command::Deck { expression, gate, deck, output } => {
+            let options = gate_options(&gate)?;
+            // Every input is checked before anything is written.
+            let deck = deck_options(&deck, &options.process)?;
+            let text = expression_text(&expression)?;
+            let sized = size_text(&text, &options)?;
+            let target = OutputArgs { format: Format::Spice, output };
+            write_output(&target, |out| output::deck::write_deck(&sized, &deck, out))
+        }
+        Command::Process { output } => {
+            let target = OutputArgs { format: Format::Table, output };
+            write_output(&target, |out| out.write_all(Process::default().to_commented_toml().as_bytes()))
         }
     }
 }
 
-/// Gate options from the command line.
-pub fn gate_options(args: &GateArgs) -> GateOptions {
-    GateOptions {
-        sizing: SizingOptions::new(args.method, args.mobility_ratio, args.drive, args.reference),
+/// Gate options from the command line: the process from `--process` (or the built-in one), and the
+/// mobility ratio from `--mobility-ratio` if given, else from the process.
+pub fn gate_options(args: &GateArgs) -> Result<GateOptions, Error> {
+    let process = match &args.process {
+        Some(path) => read_process(path)?,
+        None => Process::default(),
+    };
+    let mobility_ratio = args.mobility_ratio.unwrap_or(process.mobility_ratio);
+    Ok(GateOptions {
+        sizing: SizingOptions::new(args.method, mobility_ratio, args.drive, args.reference),
         critical: args.critical.clone(),
         name: args.name.clone(),
-    }
+        process,
+    })
+}
+
+/// Read and check a process file; errors name the key and its line and column.
+pub fn read_process(path: &Path) -> Result<Process, Error> {
+    let text = read_text(path)?;
+    Process::from_toml(&text).map_err(|error| Error::Process {
+        error: Box::new(error),
+        path: path.to_path_buf(),
+        source_text: text,
+    })
+}
+
+/// Deck options from the command line; a `--models` file must exist (it is named by its absolute path).
+pub fn deck_options(args: &DeckArgs, process: &Process) -> Result<DeckOptions, Error> {
+    let models = match &args.models {
+        None => Models::Process,
+        Some(path) => {
+            let unreadable = |source| Error::File { action: "read", path: path.clone(), source };
+            let absolute = fs::canonicalize(path).map_err(unreadable)?;
+            fs::File::open(&absolute).map_err(unreadable)?;
+            if !absolute.is_file() {
+                return Err(Error::Usage(format!("--models '{}' is not a file", path.display())));
+            }
+            let include = String::from_utf8(absolute.into_os_string().into_encoded_bytes()).map_err(|error| {
+                Error::NotUtf8 { what: "the --models path".to_string(), byte: error.utf8_error().valid_up_to() }
+            })?;
+            Models::Library {
+                include,
+                nmos: args.nmos_model.clone().unwrap_or_else(|| process.nmos_model.clone()),
+                pmos: args.pmos_model.clone().unwrap_or_else(|| process.pmos_model.clone()),
+            }
+        }
+    };
+    Ok(DeckOptions { models, diffusion_capacitance: args.diffusion_capacitance, summary: args.summary })
 }
 
 /// An expression argument as UTF-8 (`-` reads it from standard input), or an error naming the

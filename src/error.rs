@@ -8,6 +8,8 @@ use std::path::PathBuf;
 
 use thiserror::Error;
 
+use crate::process::ProcessError;
+
 /// A half-open byte range `start..end` in a source text.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize)]
 pub struct Span {
@@ -214,6 +216,16 @@ pub enum Error {
     /// Writing the output failed (a closed pipe is handled by the binary).
     #[error("cannot write the output: {0}")]
     Output(#[from] std::io::Error),
+    /// A bad process file, with its name and text.
+    #[error("{}: {error}", path.display())]
+    Process {
+        /// What is wrong, with the key and its place.
+        error: Box<ProcessError>,
+        /// The file.
+        path: PathBuf,
+        /// The file's text.
+        source_text: String,
+    },
     /// A check the user asked for failed; the message says which.
     #[error("{0}")]
     CheckFailed(String),
@@ -234,6 +246,10 @@ impl Error {
             Error::Expression { error, source_text } => {
                 render_at(&error.to_string(), "the expression", source_text, error.span())
             }
+            Error::Process { error, path, source_text } => match error.span() {
+                Some(span) => render_at(&error.to_string(), &path.display().to_string(), source_text, span),
+                None => format!("error: {}: {error}\n", path.display()),
+            },
             other => format!("error: {other}\n"),
         }
     }

@@ -11,6 +11,7 @@ use crate::expr::{GateFunction, read_gate};
 use crate::figures::{self, DeviceLoad};
 use crate::network::{Network, NetworkKind, Terminals, internal_prefix};
 use crate::paths;
+use crate::process::{Drawn, Process};
 use crate::sizing::{self, Method, SizingOptions};
 
 /// What to size and how.
@@ -22,12 +23,14 @@ pub struct GateOptions {
     pub critical: Option<String>,
     /// The cell name (defaults to the shorthand, or `cell`).
     pub name: Option<String>,
+    /// The process that turns relative sizes into drawn widths (snapping, fingers).
+    pub process: Process,
 }
 
 impl GateOptions {
-    /// Options with the given sizing, no critical input and the default name.
+    /// Options with the given sizing, no critical input, the default name and the built-in process.
     pub fn new(sizing: SizingOptions) -> GateOptions {
-        GateOptions { sizing, critical: None, name: None }
+        GateOptions { sizing, critical: None, name: None, process: Process::default() }
     }
 }
 
@@ -84,6 +87,18 @@ pub struct Transistor {
     pub source: String,
     /// Relative W/L: 1 is the unit NMOS.
     pub w_over_l: f64,
+    /// Physical width before snapping, um: W/L x the process's unit width.
+    pub width_um: f64,
+    /// Drawn length, um.
+    pub length_um: f64,
+    /// Drawn width in all, um: fingers x finger width, on the grid and at least the minimum width.
+    pub drawn_width_um: f64,
+    /// Width of each finger, um (SPICE `W=`).
+    pub finger_width_um: f64,
+    /// Number of equal fingers (SPICE `m=`).
+    pub fingers: usize,
+    /// Relative W/L as drawn: drawn width / unit width.
+    pub drawn_w_over_l: f64,
 }
 
 /// Figures of one input.
@@ -128,6 +143,10 @@ pub struct NetworkFigures {
     pub path_count: String,
     /// Sum of the network's W/L.
     pub total_w_over_l: f64,
+    /// The weakest path's resistance with the drawn (snapped) widths, in units of R.
+    pub drawn_worst_resistance: f64,
+    /// Its error against the target, percent (negative: faster than the reference).
+    pub drawn_error_percent: f64,
 }
 
 /// What the other method would use.
@@ -178,6 +197,10 @@ pub struct SizedGate {
     pub networks: Vec<NetworkFigures>,
     /// The other method's total.
     pub comparison: Comparison,
+    /// Sum of all drawn widths, um.
+    pub total_drawn_width_um: f64,
+    /// The process the drawn sizes come from.
+    pub process: Process,
     /// The gate function, for later stages.
     #[serde(skip)]
     pub function: GateFunction,
@@ -187,6 +210,9 @@ pub struct SizedGate {
     /// W/L per device index, pull-down then pull-up.
     #[serde(skip)]
     pub widths: [Vec<f64>; 2],
+    /// Drawn W/L (drawn width / unit width) per device index, pull-down then pull-up.
+    #[serde(skip)]
+    pub drawn_widths: [Vec<f64>; 2],
     /// The sizing options used.
     #[serde(skip)]
     pub options: SizingOptions,
@@ -225,6 +251,10 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
     let other_total: f64 =
         built.iter().map(|n| sizing::size(n, count, sizing.method.other(), &sizing).iter().sum::<f64>()).sum();
     let trees = [0, 1].map(|side| built[side].ordered(&widths[side], &input_of, critical));
+    let process = &options.process;
+    let drawn: [Vec<Drawn>; 2] = [0, 1].map(|side| widths[side].iter().map(|&w| process.draw(w)).collect());
+    let drawn_widths =
+        [0, 1].map(|side| drawn[side].iter().map(|d| d.width_nm() / process.unit_width_nm).collect::<Vec<f64>>());
 
     let mut names: Vec<&str> = function.inputs.iter().map(String::as_str).collect();
     names.push(&function.output);
@@ -244,6 +274,12 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
                 drain: node.drain.clone(),
                 source: node.source.clone(),
                 w_over_l: widths[side][device],
+                width_um: process.width_nm(widths[side][device]) / 1000.0,
+                length_um: process.length_nm / 1000.0,
+                drawn_width_um: drawn[side][device].width_nm() / 1000.0,
+                finger_width_um: drawn[side][device].finger_width_nm / 1000.0,
+                fingers: drawn[side][device].fingers,
+                drawn_w_over_l: drawn_widths[side][device],
             });
             loads.push(DeviceLoad { input: input_of[device], w_over_l: widths[side][device], terminals: node });
         }
@@ -261,8 +297,10 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
     let parasitic_delay = figures::parasitic_delay(&loads, &function.output, reference_capacitance);
     let output_devices = transistors.iter().filter(|t| t.drain == function.output).map(|t| t.name.clone()).collect();
 
-    let networks: Vec<NetworkFigures> =
-        (0..2).map(|side| network_figures(&function, &trees[side], &widths[side], &input_of, &sizing)).collect();
+    let networks: Vec<NetworkFigures> = (0..2)
+        .map(|side| network_figures(&function, &trees[side], [&widths[side], &drawn_widths[side]], &input_of, &sizing))
+        .collect();
+    let total_drawn_width_um = transistors.iter().map(|t| t.drawn_width_um).sum();
     let total: f64 = widths.iter().flatten().sum();
     let name = options.name.clone().or_else(|| function.shorthand.clone()).unwrap_or_else(|| "cell".to_string());
     Ok(SizedGate {
@@ -287,9 +325,12 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
             total_w_over_l: other_total,
             change_percent: (other_total / total - 1.0) * 100.0,
         },
+        total_drawn_width_um,
+        process: process.clone(),
         function,
         trees,
         widths,
+        drawn_widths,
         options: sizing,
     })
 }
@@ -297,12 +338,13 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
 fn network_figures(
     function: &GateFunction,
     network: &Network,
-    widths: &[f64],
+    [widths, drawn_widths]: [&[f64]; 2],
     input_of: &[usize],
     sizing: &SizingOptions,
 ) -> NetworkFigures {
     let kind = network.kind;
     let resistance = sizing.resistances(kind, widths);
+    let drawn_worst = paths::highest(&network.root, &sizing.resistances(kind, drawn_widths));
     let weakest = paths::weakest(network, &resistance);
     let input_count = function.inputs.len();
     let worst_vector = paths::sensitize(network, &weakest.devices, input_of, input_count)
@@ -323,6 +365,8 @@ fn network_figures(
         best_resistance: paths::best_case(network, &resistance),
         path_count: paths::count(network).to_string(),
         total_w_over_l: widths.iter().sum(),
+        drawn_worst_resistance: drawn_worst,
+        drawn_error_percent: (drawn_worst / sizing.target(kind) - 1.0) * 100.0,
     }
 }
 
@@ -331,6 +375,8 @@ fn network_figures(
 pub struct ListedPath {
     /// Resistance in units of R.
     pub resistance: f64,
+    /// Resistance with the drawn (snapped) widths, in units of R.
+    pub drawn_resistance: f64,
     /// Devices, output side first.
     pub devices: Vec<String>,
     /// The vector that makes it the only conducting path, or `null`.
@@ -360,10 +406,12 @@ impl SizedGate {
             .map(|(side, kind)| {
                 let network = &self.trees[side];
                 let resistance = self.options.resistances(kind, &self.widths[side]);
+                let drawn = self.options.resistances(kind, &self.drawn_widths[side]);
                 let paths = paths::list(network, &resistance, limit)
                     .into_iter()
                     .map(|path| ListedPath {
                         resistance: path.resistance,
+                        drawn_resistance: path.devices.iter().map(|&d| drawn[d]).sum(),
                         vector: paths::sensitize(network, &path.devices, &input_of, self.function.inputs.len())
                             .map(|values| Vector::new(&self.function.inputs, &values)),
                         devices: path.devices.iter().map(|&d| device_name(kind, d)).collect(),

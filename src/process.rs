@@ -244,6 +244,16 @@ impl ProcessFile {
                 format!("must be at least min_width_nm ({})", process.min_width_nm),
             ));
         }
+        if process.widest_finger_nm() < process.narrowest_width_nm() {
+            return Err(out_of_range(
+                "max_finger_width_nm",
+                &self.max_finger_width_nm,
+                format!(
+                    "no width on the {} nm grid lies between min_width_nm ({}) and it",
+                    process.grid_nm, process.min_width_nm
+                ),
+            ));
+        }
         let kp_ratio = process.nmos_kp_ua_per_v2 / process.pmos_kp_ua_per_v2;
         if (kp_ratio / process.mobility_ratio - 1.0).abs() > 1e-3 {
             return Err(out_of_range(
@@ -269,11 +279,47 @@ impl ProcessFile {
 impl Process {
     /// Read a process file's text.
     pub fn from_toml(text: &str) -> Result<Process, ProcessError> {
-        let file: ProcessFile = toml::from_str(text).map_err(|error| ProcessError::Syntax {
-            message: error.message().trim().to_string(),
-            span: error.span().map(|r| Span::new(r.start, r.end)),
+        let file: ProcessFile = toml::from_str(text).map_err(|error| {
+            let span = error.span().map(|r| Span::new(r.start, r.end));
+            let mut message = error.message().trim().to_string();
+            // A wrong type ("invalid type: string ...") does not say whose value it is: name the key.
+            if let Some(key) = span.and_then(|span| key_on_line(text, span.start))
+                && !message.contains(key)
+            {
+                message = format!("{key}: {message}");
+            }
+            ProcessError::Syntax { message, span }
         })?;
         file.validate()
+    }
+
+    /// `width_nm` snapped up to the next multiple of the grid (a width already on the grid, to
+    /// within a billionth of a grid step, stays).
+    pub fn snap_up_nm(&self, width_nm: f64) -> f64 {
+        (width_nm / self.grid_nm - GRID_TOLERANCE).ceil() * self.grid_nm
+    }
+
+    /// The widest finger on the grid that is at most `max_finger_width_nm`.
+    pub fn widest_finger_nm(&self) -> f64 {
+        (self.max_finger_width_nm / self.grid_nm + GRID_TOLERANCE).floor() * self.grid_nm
+    }
+
+    /// The narrowest width a device can be drawn at: `min_width_nm` snapped up to the grid.
+    pub fn narrowest_width_nm(&self) -> f64 {
+        self.snap_up_nm(self.min_width_nm)
+    }
+
+    /// How a device of relative size `w_over_l` is drawn. Its physical width `w_over_l x
+    /// unit_width_nm` is raised to `min_width_nm`; up to the widest on-grid finger it is one finger
+    /// snapped up to the grid; wider, it is split into `n = ceil(W / widest finger)` equal fingers,
+    /// each `W / n` snapped up to the grid (and at least the narrowest width), so the total
+    /// `n x finger` is never below `W`.
+    pub fn draw(&self, w_over_l: f64) -> Drawn {
+        let wanted = self.width_nm(w_over_l).max(self.min_width_nm);
+        let fingers = (wanted / self.widest_finger_nm() - GRID_TOLERANCE).ceil().max(1.0);
+        let finger_width_nm = self.snap_up_nm(wanted / fingers).max(self.narrowest_width_nm());
+        // A float to integer cast saturates, so absurd sizes give a huge count, never a panic.
+        Drawn { fingers: fingers as usize, finger_width_nm }
     }
 
     /// Physical width in nm of a device of relative size `w_over_l`, before snapping.
@@ -339,6 +385,38 @@ impl Process {
     }
 }
 
+/// The key of a `key = value` line holding byte `offset`, if the line is one.
+fn key_on_line(text: &str, offset: usize) -> Option<&str> {
+    let offset = offset.min(text.len());
+    let start = text.get(..offset)?.rfind('\n').map_or(0, |i| i + 1);
+    let line = text[start..].lines().next()?;
+    let (key, _) = line.split_once('=')?;
+    let key = key.trim();
+    let valid = !key.is_empty() && key.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-');
+    valid.then_some(key)
+}
+
+/// Widths within this fraction of a grid step of a grid line count as on it, so that rounding in
+/// `size x unit width` never adds a grid step.
+const GRID_TOLERANCE: f64 = 1e-9;
+
+/// A device as drawn: `fingers` equal fingers of `finger_width_nm`, all of drawn length.
+/// Netlists write it as one MOSFET of width `finger_width_nm` with SPICE multiplicity `m=fingers`.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct Drawn {
+    /// Number of fingers, 1 or more.
+    pub fingers: usize,
+    /// Width of each finger, nm, on the grid.
+    pub finger_width_nm: f64,
+}
+
+impl Drawn {
+    /// Total drawn width, nm: fingers x finger width.
+    pub fn width_nm(&self) -> f64 {
+        self.fingers as f64 * self.finger_width_nm
+    }
+}
+
 /// A float as TOML writes it (always with a decimal point).
 fn float(value: f64) -> String {
     let text = value.to_string();
@@ -383,6 +461,46 @@ mod tests {
             assert!(error.to_string().starts_with(key), "{key}: {error}");
             assert_eq!(&text[span.start..span.end], value, "{key}");
         }
+    }
+
+    #[test]
+    fn widths_snap_up_to_the_grid_and_the_minimum() {
+        let process = Process::default(); // unit width 1000 nm, grid 5 nm, minimum 500 nm
+        // 1 + sqrt 2 = 2.41421...: 2414.21 nm is between grid lines 2410 and 2415, so 2415.
+        assert_eq!(process.draw(1.0 + 2f64.sqrt()), Drawn { fingers: 1, finger_width_nm: 2415.0 });
+        // On the grid but for rounding (3.0000000000000004): stays 3000 nm.
+        assert_eq!(process.draw(0.1 * 30.0 + 4e-16).finger_width_nm, 3000.0);
+        // Below the minimum width: 0.3 x 1000 nm = 300 nm becomes 500 nm.
+        assert_eq!(process.draw(0.3).finger_width_nm, 500.0);
+    }
+
+    #[test]
+    fn wide_devices_fold_into_equal_fingers() {
+        let process = Process::default(); // widest finger 20000 nm
+        // 10 x the widest finger: 10 fingers of exactly the widest, total the width.
+        let drawn = process.draw(200.0);
+        assert_eq!(drawn, Drawn { fingers: 10, finger_width_nm: 20000.0 });
+        assert_eq!(drawn.width_nm(), 200_000.0);
+        // 201000 nm: ceil(201000 / 20000) = 11 fingers of 201000 / 11 = 18272.7 nm, snapped up to 18275.
+        assert_eq!(process.draw(201.0), Drawn { fingers: 11, finger_width_nm: 18275.0 });
+    }
+
+    #[test]
+    fn a_finger_limit_without_a_grid_width_is_refused() {
+        // min 502 nm snaps up to 505 nm, but fingers may be at most 503 nm wide.
+        let text =
+            with("min_width_nm", "502.0").replace("max_finger_width_nm = 20000.0", "max_finger_width_nm = 503.0");
+        let error = Process::from_toml(&text).unwrap_err();
+        assert!(error.to_string().starts_with("max_finger_width_nm"), "{error}");
+    }
+
+    #[test]
+    fn a_value_of_the_wrong_type_names_its_key() {
+        let text = with("grid_nm", "\"five\"");
+        let error = Process::from_toml(&text).unwrap_err();
+        assert!(error.to_string().starts_with("grid_nm: invalid type"), "{error}");
+        let span = error.span().unwrap();
+        assert_eq!(&text[span.start..span.end], "\"five\"");
     }
 
     #[test]

@@ -9,7 +9,7 @@ use crate::process::Process;
 use super::Rows;
 
 /// Columns of the gates view, in order.
-pub const GATE_COLUMNS: [&str; 20] = [
+pub const GATE_COLUMNS: [&str; 26] = [
     "gate",
     "expression",
     "output",
@@ -30,10 +30,16 @@ pub const GATE_COLUMNS: [&str; 20] = [
     "pull_up_vector",
     "best_pull_up_r",
     "pull_up_paths",
+    "total_drawn_width_um",
+    "drawn_worst_pull_down_r",
+    "pull_down_error_percent",
+    "drawn_worst_pull_up_r",
+    "pull_up_error_percent",
+    "process",
 ];
 
 /// Columns of the devices view, in order.
-pub const DEVICE_COLUMNS: [&str; 18] = [
+pub const DEVICE_COLUMNS: [&str; 26] = [
     "gate",
     "drive",
     "method",
@@ -52,6 +58,14 @@ pub const DEVICE_COLUMNS: [&str; 18] = [
     "transistors",
     "worst_pull_down_r",
     "worst_pull_up_r",
+    "drawn_width_um",
+    "finger_width_um",
+    "fingers",
+    "drawn_w_over_l",
+    "drawn_worst_pull_down_r",
+    "pull_down_error_percent",
+    "drawn_worst_pull_up_r",
+    "pull_up_error_percent",
 ];
 
 /// Columns of the inputs view, in order.
@@ -76,6 +90,14 @@ fn network_cells(network: &NetworkFigures) -> [String; 5] {
     ]
 }
 
+/// Drawn worst path and its error, pull-down then pull-up.
+fn drawn_cells(gate: &SizedGate) -> Vec<String> {
+    gate.networks
+        .iter()
+        .flat_map(|network| [value(network.drawn_worst_resistance), value(network.drawn_error_percent)])
+        .collect()
+}
+
 /// Write the gates in the chosen view.
 pub fn write_gates(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut dyn Write) -> io::Result<()> {
     let mut writer = csv::Writer::from_writer(out);
@@ -98,6 +120,9 @@ pub fn write_gates(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut
                 for network in &gate.networks {
                     record.extend(network_cells(network));
                 }
+                record.push(value(gate.total_drawn_width_um));
+                record.extend(drawn_cells(gate));
+                record.push(gate.process.name.clone());
                 writer.write_record(&record)?;
             }
         }
@@ -107,7 +132,7 @@ pub fn write_gates(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut
                 for transistor in &gate.transistors {
                     let input =
                         gate.inputs.iter().find(|i| i.name == transistor.input).expect("device input is an input");
-                    writer.write_record([
+                    let mut record = vec![
                         gate.name.clone(),
                         value(gate.drive),
                         gate.method.name().to_string(),
@@ -126,7 +151,13 @@ pub fn write_gates(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut
                         gate.transistor_count.to_string(),
                         value(gate.networks[0].worst_resistance),
                         value(gate.networks[1].worst_resistance),
-                    ])?;
+                        value(transistor.drawn_width_um),
+                        value(transistor.finger_width_um),
+                        transistor.fingers.to_string(),
+                        value(transistor.drawn_w_over_l),
+                    ];
+                    record.extend(drawn_cells(gate));
+                    writer.write_record(&record)?;
                 }
             }
         }
@@ -150,7 +181,7 @@ pub fn write_gates(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut
 }
 
 /// Columns of the path listing, in order.
-pub const PATH_COLUMNS: [&str; 6] = ["gate", "network", "rank", "resistance", "devices", "vector"];
+pub const PATH_COLUMNS: [&str; 7] = ["gate", "network", "rank", "resistance", "devices", "vector", "drawn_resistance"];
 
 /// One row per listed path.
 pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
@@ -165,6 +196,7 @@ pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Wri
                 value(path.resistance),
                 path.devices.join(" "),
                 path.vector.as_ref().map(ToString::to_string).unwrap_or_default(),
+                value(path.drawn_resistance),
             ])?;
         }
     }

@@ -1,19 +1,20 @@
-//! SPICE netlists: each gate as a `.subckt` with standard MOSFET lines and physical W and L.
+//! SPICE netlists: each gate as a `.subckt` with standard MOSFET lines and drawn W and L.
 //!
 //! `.subckt NAME <inputs in order of first appearance> <output> vdd vss`; NMOS bulk on `vss`,
-//! PMOS bulk on `vdd`.
+//! PMOS bulk on `vdd`. Widths are the snapped, folded ones: `W=` is the width of one finger and
+//! the standard multiplicity `m=` the number of fingers.
 
 use std::io::{self, Write};
 
-use crate::gate::SizedGate;
+use crate::gate::{SizedGate, Transistor};
 use crate::network::NetworkKind;
 use crate::process::Process;
 
 use super::number;
 
-/// A length in nm as a SPICE value in micrometres (`1.5u`), to 0.1 pm.
+/// A length in nm as a SPICE value in micrometres (`1.5u`), to 1 pm.
 pub fn micrometres(nanometres: f64) -> String {
-    let text = format!("{:.4}", nanometres / 1000.0);
+    let text = format!("{:.6}", nanometres / 1000.0);
     let text = text.trim_end_matches('0').trim_end_matches('.');
     format!("{text}u")
 }
@@ -42,22 +43,35 @@ pub fn write_subcircuit(gate: &SizedGate, process: &Process, out: &mut dyn Write
     let inputs: Vec<&str> = gate.inputs.iter().map(|i| i.name.as_str()).collect();
     writeln!(out, ".subckt {} {} {} vdd vss", gate.name, inputs.join(" "), gate.output)?;
     for transistor in &gate.transistors {
-        let (bulk, model) = match transistor.network {
-            NetworkKind::PullDown => ("vss", &process.nmos_model),
-            NetworkKind::PullUp => ("vdd", &process.pmos_model),
-        };
-        writeln!(
-            out,
-            "{} {} {} {} {} {} W={} L={}",
-            transistor.name,
-            transistor.drain,
-            transistor.input,
-            transistor.source,
-            bulk,
-            model,
-            micrometres(process.width_nm(transistor.w_over_l)),
-            micrometres(process.length_nm),
-        )?;
+        writeln!(out, "{}", transistor_line(transistor, [&process.nmos_model, &process.pmos_model]))?;
     }
     writeln!(out, ".ends {}", gate.name)
+}
+
+/// One transistor's MOSFET line with its drawn sizes; `models` names the NMOS and PMOS models.
+pub fn transistor_line(transistor: &Transistor, models: [&str; 2]) -> String {
+    let (bulk, model) = match transistor.network {
+        NetworkKind::PullDown => ("vss", models[0]),
+        NetworkKind::PullUp => ("vdd", models[1]),
+    };
+    mosfet_line(
+        &transistor.name,
+        [&transistor.drain, &transistor.input, &transistor.source, bulk],
+        model,
+        transistor.finger_width_um * 1000.0,
+        transistor.length_um * 1000.0,
+        transistor.fingers,
+    )
+}
+
+/// A MOSFET line: `NAME drain gate source bulk MODEL W=<finger> L=<length> m=<fingers>`.
+pub fn mosfet_line(
+    name: &str,
+    nodes: [&str; 4],
+    model: &str,
+    finger_nm: f64,
+    length_nm: f64,
+    fingers: usize,
+) -> String {
+    format!("{name} {} {model} W={} L={} m={fingers}", nodes.join(" "), micrometres(finger_nm), micrometres(length_nm))
 }

@@ -56,9 +56,21 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
         settings.push_str(&format!(", critical input {critical} nearest the output"));
     }
     writeln!(out, "{settings}")?;
+    let process = &gate.process;
+    writeln!(
+        out,
+        "  process {}: L {} um, unit NMOS W {} um, grid {} nm, min W {} um, max finger {} um",
+        process.name,
+        number(process.length_nm / 1000.0),
+        number(process.unit_width_nm / 1000.0),
+        number(process.grid_nm),
+        number(process.min_width_nm / 1000.0),
+        number(process.max_finger_width_nm / 1000.0),
+    )?;
 
-    writeln!(out, "\ntransistors")?;
-    let mut rows = vec![strings(["name", "type", "network", "input", "drain", "source", "W/L"])];
+    writeln!(out, "\ntransistors (drawn W snapped to the grid; fingers n x W, SPICE m=n)")?;
+    let mut rows =
+        vec![strings(["name", "type", "network", "input", "drain", "source", "W/L", "W um", "fingers", "L um"])];
     rows.extend(gate.transistors.iter().map(|t| {
         vec![
             t.name.clone(),
@@ -68,6 +80,9 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
             t.drain.clone(),
             t.source.clone(),
             number(t.w_over_l),
+            number(t.drawn_width_um),
+            if t.fingers == 1 { "1".to_string() } else { format!("{} x {}", t.fingers, number(t.finger_width_um)) },
+            number(t.length_um),
         ]
     }));
     write_columns(&rows, out)?;
@@ -80,7 +95,15 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
     write_columns(&rows, out)?;
 
     writeln!(out, "\nnetworks (resistance in units of R, the unit NMOS)")?;
-    let mut rows = vec![strings(["network", "target", "worst path", "only it conducts at", "best case", "paths"])];
+    let mut rows = vec![strings([
+        "network",
+        "target",
+        "worst path",
+        "only it conducts at",
+        "best case",
+        "paths",
+        "drawn worst (error)",
+    ])];
     for network in &gate.networks {
         rows.push(vec![
             network.network.name().to_string(),
@@ -89,6 +112,7 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
             network.worst_vector.as_ref().map_or("no vector (repeated inputs)".to_string(), |v| v.to_string()),
             number(network.best_resistance),
             network.path_count.clone(),
+            format!("{} ({})", number(network.drawn_worst_resistance), percent(network.drawn_error_percent)),
         ]);
     }
     write_columns(&rows, out)?;
@@ -127,6 +151,13 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
     write_columns(&rows, out)
 }
 
+/// A signed percentage to two decimals: `-0.11%`, `0%`.
+fn percent(value: f64) -> String {
+    let text = format!("{value:.2}");
+    let text = text.trim_end_matches('0').trim_end_matches('.');
+    if text == "-0" { "0%".to_string() } else { format!("{text}%") }
+}
+
 /// Write the path listing of both networks.
 pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
     writeln!(out, "{}: {} = {} ({} sizing)", gate.name, gate.output, gate.expression, gate.method.name())?;
@@ -139,12 +170,13 @@ pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Wri
             number(listing.target_resistance),
             listing.paths.len()
         )?;
-        let mut rows = vec![strings(["resistance", "devices", "only it conducts at"])];
+        let mut rows = vec![strings(["resistance", "devices", "only it conducts at", "drawn"])];
         rows.extend(listing.paths.iter().map(|p| {
             vec![
                 number(p.resistance),
                 p.devices.join(" "),
                 p.vector.as_ref().map_or("never alone (repeated inputs)".to_string(), |v| v.to_string()),
+                number(p.drawn_resistance),
             ]
         }));
         write_columns(&rows, out)?;

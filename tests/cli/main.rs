@@ -1,7 +1,9 @@
 //! The one integration binary: runs the real `widthwise` executable on arguments and fixture files,
 //! a module per command.
 
+mod deck;
 mod paths;
+mod process;
 mod size;
 
 use std::path::PathBuf;

@@ -1,5 +1,8 @@
 //! Checks of the main job against sources outside the project: published tables, worked examples
-//! and reference tools. Each check names its source beside it.
+//! and reference tools (decks simulated by ngspice from Debian's packages, scipy from PyPI). Each
+//! check names its source beside it.
 
+mod deck_simulation;
 mod published;
 mod scipy;
+mod support;

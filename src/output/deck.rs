@@ -1,0 +1,451 @@
+//! The simulation deck: a self-contained SPICE file that makes a simulator measure every input's
+//! worst-case delay against the reference inverter's, so the sizing can be checked outside widthwise.
+//!
+//! Layout: header comments; models (level 1 from the process, or `.include` of a user library);
+//! the gate's `.subckt` and the reference inverter's (drawn sizes, optional diffusion capacitors);
+//! the supply; then one block per transition, each its own copy of the gate (or the reference)
+//! with its own sources, load and `.meas`; `.tran`; an optional ngspice `.control` summary.
+//! Nothing here runs a simulator.
+
+use std::io::{self, Write};
+
+use crate::gate::SizedGate;
+use crate::network::NetworkKind;
+use crate::paths::{self, EXACT_WORST_MAX_INPUTS};
+use crate::process::Process;
+
+use super::number;
+use super::spice::{mosfet_line, transistor_line};
+
+/// Where the deck's device models come from.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Models {
+    /// Level-1 models written from the process's device values.
+    Process,
+    /// A user's library, included by path, with the names of its two models.
+    Library {
+        /// The path as written in `.include` (absolute).
+        include: String,
+        /// The NMOS model's name.
+        nmos: String,
+        /// The PMOS model's name.
+        pmos: String,
+    },
+}
+
+/// What the deck holds besides the gate and its transitions.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct DeckOptions {
+    /// Device models.
+    pub models: Models,
+    /// Explicit diffusion capacitors on every node (see [`node_diffusion_um`]).
+    pub diffusion_capacitance: bool,
+    /// An ngspice `.control` block that prints every delay, its reference and their ratio.
+    pub summary: bool,
+}
+
+/// One worst-case transition of the gate: `input` toggles, the output moves through `kind`'s network.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Transition {
+    /// The toggling input (index into the gate's inputs).
+    pub input: usize,
+    /// Pull-down: the output falls; pull-up: it rises.
+    pub kind: NetworkKind,
+    /// Every input's value after the toggle (the input at its on-level, side inputs held).
+    pub vector: Vec<bool>,
+    /// Resistance of what conducts after the toggle, units of R (sizing widths).
+    pub resistance: f64,
+    /// The same with the drawn (snapped) widths, which is what a simulator sees.
+    pub drawn_resistance: f64,
+    /// The devices of the path that conducts alone, or `None` where repeated inputs keep every
+    /// path through the input from being the only device chain on: then the vector is the exact
+    /// worst over the side inputs.
+    pub path: Option<Vec<String>>,
+}
+
+/// The output's edge through a network: `"fall"` (pull-down) or `"rise"` (pull-up).
+pub fn edge(kind: NetworkKind) -> &'static str {
+    match kind {
+        NetworkKind::PullDown => "fall",
+        NetworkKind::PullUp => "rise",
+    }
+}
+
+/// The `.meas` name of the gate's delay for `input` on the output's edge through `kind`.
+pub fn gate_measure(input: &str, kind: NetworkKind) -> String {
+    format!("tpd_{}_{}_gate", input.to_ascii_lowercase(), edge(kind))
+}
+
+/// The `.meas` name of the reference inverter's delay on the output's edge through `kind`.
+pub fn reference_measure(kind: NetworkKind) -> String {
+    format!("tpd_{}_ref", edge(kind))
+}
+
+/// Every input's worst-case transition, input by input, output falling then rising. An input
+/// whose every path is blocked by repeated inputs gets the exact worst over its side inputs (up to
+/// 16 inputs); an input with no transition at all (its toggling never moves the output) is left out.
+pub fn transitions(gate: &SizedGate) -> Vec<Transition> {
+    let input_of: Vec<usize> = gate.function.literals.iter().map(|l| l.input).collect();
+    let mut out = Vec::new();
+    for input in 0..gate.inputs.len() {
+        for kind in NetworkKind::BOTH {
+            let side = usize::from(kind == NetworkKind::PullUp);
+            let drawn = gate.options.resistances(kind, &gate.drawn_widths[side]);
+            let (resistance, vector, path) = match gate.worst_case_for_input(input, kind) {
+                Some((path, vector)) => (
+                    path.resistance,
+                    vector.values.iter().map(|(_, v)| *v).collect::<Vec<bool>>(),
+                    Some(path.devices.iter().map(|&d| crate::gate::device_name(kind, d)).collect()),
+                ),
+                None => match exact_transition(gate, input, kind) {
+                    Some((resistance, vector)) => (resistance, vector, None),
+                    None => continue,
+                },
+            };
+            let on: Vec<bool> = input_of.iter().map(|&i| kind.conducts(vector[i])).collect();
+            let drawn_resistance = paths::effective_resistance(&gate.trees[side], &drawn, &on).unwrap_or(f64::INFINITY);
+            out.push(Transition { input, kind, vector, resistance, drawn_resistance, path });
+        }
+    }
+    out
+}
+
+/// The side-input vector that makes `input`'s toggle switch `kind`'s network on with the highest
+/// resistance, by enumeration (at most [`EXACT_WORST_MAX_INPUTS`] inputs).
+fn exact_transition(gate: &SizedGate, input: usize, kind: NetworkKind) -> Option<(f64, Vec<bool>)> {
+    let count = gate.inputs.len();
+    if count > EXACT_WORST_MAX_INPUTS {
+        return None;
+    }
+    let side = usize::from(kind == NetworkKind::PullUp);
+    let network = &gate.trees[side];
+    let resistance = gate.options.resistances(kind, &gate.widths[side]);
+    let input_of: Vec<usize> = gate.function.literals.iter().map(|l| l.input).collect();
+    let on_level = kind.conducts(true);
+    let mut best: Option<(f64, Vec<bool>)> = None;
+    for bits in 0..(1u64 << count) {
+        let mut values: Vec<bool> = (0..count).map(|i| bits >> i & 1 == 1).collect();
+        if values[input] != on_level {
+            continue;
+        }
+        let conducting = |values: &[bool]| {
+            let on: Vec<bool> = input_of.iter().map(|&i| kind.conducts(values[i])).collect();
+            paths::effective_resistance(network, &resistance, &on)
+        };
+        let Some(after) = conducting(&values) else { continue };
+        values[input] = !on_level;
+        if conducting(&values).is_some() {
+            continue;
+        }
+        values[input] = on_level;
+        if best.as_ref().is_none_or(|(r, _)| after > r + 1e-12) {
+            best = Some((after, values));
+        }
+    }
+    best
+}
+
+/// Diffusion width on every node that is not a rail, in um, in order of first appearance. Each
+/// device has a drain and a source diffusion as wide as its drawn width; a node joining exactly two
+/// devices of one series stack (not the output) is one shared diffusion and counts once, as wide as
+/// the wider device; any other node counts every diffusion on it.
+/// `devices` are `(drain, source, drawn width in um)`.
+pub fn node_diffusion_um(devices: &[(&str, &str, f64)], output: &str) -> Vec<(String, f64)> {
+    let mut nodes: Vec<(String, Vec<f64>)> = Vec::new();
+    for &(drain, source, width) in devices {
+        for node in [drain, source] {
+            if node == "vdd" || node == "vss" {
+                continue;
+            }
+            match nodes.iter_mut().find(|(name, _)| name == node) {
+                Some((_, widths)) => widths.push(width),
+                None => nodes.push((node.to_string(), vec![width])),
+            }
+        }
+    }
+    nodes
+        .into_iter()
+        .map(|(name, widths)| {
+            let total =
+                if name != output && widths.len() == 2 { widths[0].max(widths[1]) } else { widths.iter().sum() };
+            (name, total)
+        })
+        .collect()
+}
+
+/// The reference inverter as drawn: NMOS and PMOS (fingers, finger width nm).
+fn reference_devices(gate: &SizedGate) -> [(usize, f64); 2] {
+    let process = &gate.process;
+    [gate.reference_nmos_w_over_l, gate.reference_pmos_w_over_l].map(|w| {
+        let drawn = process.draw(w);
+        (drawn.fingers, drawn.finger_width_nm)
+    })
+}
+
+/// Saturation current of a device of drawn width `width_nm` at full gate drive, A (level 1:
+/// KP/2 x W/L x (supply - threshold)^2).
+fn saturation_current(process: &Process, kind: NetworkKind, width_nm: f64) -> f64 {
+    let (kp, threshold) = match kind {
+        NetworkKind::PullDown => (process.nmos_kp_ua_per_v2, process.nmos_threshold_v),
+        NetworkKind::PullUp => (process.pmos_kp_ua_per_v2, process.pmos_threshold_v),
+    };
+    let overdrive = process.supply_v - threshold;
+    kp * 1e-6 / 2.0 * (width_nm / process.length_nm) * overdrive * overdrive
+}
+
+/// A time in seconds as SPICE reads it, four significant digits.
+fn seconds(value: f64) -> String {
+    format!("{value:.3e}")
+}
+
+/// A capacitance in fF as SPICE reads it.
+fn femtofarads(value: f64) -> String {
+    format!("{value}f")
+}
+
+/// Write the deck.
+pub fn write_deck(gate: &SizedGate, options: &DeckOptions, out: &mut dyn Write) -> io::Result<()> {
+    let process = &gate.process;
+    let supply = process.supply_v;
+    let half = number(supply / 2.0);
+    let models: [&str; 2] = match &options.models {
+        Models::Process => [&process.nmos_model, &process.pmos_model],
+        Models::Library { nmos, pmos, .. } => [nmos, pmos],
+    };
+    let reference = reference_devices(gate);
+    let reference_name = format!("{}_reference", gate.name);
+    let gate_diffusion = {
+        let devices: Vec<(&str, &str, f64)> =
+            gate.transistors.iter().map(|t| (t.drain.as_str(), t.source.as_str(), t.drawn_width_um)).collect();
+        node_diffusion_um(&devices, &gate.output)
+    };
+    let reference_diffusion = {
+        let [n, p] = reference.map(|(fingers, finger)| fingers as f64 * finger / 1000.0);
+        node_diffusion_um(&[("y", "vss", n), ("y", "vdd", p)], "y")
+    };
+
+    // The time scale: the reference inverter charging its load (plus, when asked, every diffusion
+    // of the gate) at its saturation current, the slower edge.
+    let mut load_ff = process.load_ff;
+    if options.diffusion_capacitance {
+        load_ff += gate_diffusion.iter().map(|(_, w)| w).sum::<f64>() * process.diffusion_cap_ff_per_um;
+    }
+    let slowest = NetworkKind::BOTH
+        .into_iter()
+        .zip(reference)
+        .map(|(kind, (fingers, finger))| {
+            load_ff * 1e-15 * (supply / 2.0) / saturation_current(process, kind, fingers as f64 * finger)
+        })
+        .fold(0.0, f64::max);
+    let rise = slowest / 1000.0;
+    let start = slowest / 20.0;
+    let stop = start + 20.0 * slowest;
+    let step = slowest / 200.0;
+
+    let transitions = transitions(gate);
+    writeln!(out, "* widthwise simulation deck: {}: {} = {}", gate.name, gate.output, gate.expression)?;
+    writeln!(
+        out,
+        "* {} sizing, mobility ratio {}, drive {}, reference inverter NMOS {} PMOS {} (W/L); process: {}",
+        gate.method.name(),
+        number(gate.mobility_ratio),
+        number(gate.drive),
+        number(gate.reference_nmos_w_over_l),
+        number(gate.reference_pmos_w_over_l),
+        process.name
+    )?;
+    writeln!(out, "* One copy of the gate per worst-case transition and one of the reference inverter per output")?;
+    writeln!(
+        out,
+        "* edge, each with its own sources and a {} fF load; one transient run measures them all.",
+        process.load_ff
+    )?;
+    writeln!(
+        out,
+        "* Delays: input crossing {half} V to output crossing {half} V; inputs step in {} s.",
+        seconds(rise)
+    )?;
+    writeln!(out, "* Devices: W = finger width, m = fingers. First-order estimates: sign off with the foundry's")?;
+    writeln!(out, "* models, design rules and licensed practice.")?;
+
+    writeln!(out)?;
+    match &options.models {
+        Models::Process => {
+            writeln!(out, "* Level-1 models from the process (LAMBDA=0, no parasitic capacitance).")?;
+            for (name, kind, kp, threshold) in [
+                (&process.nmos_model, "NMOS", process.nmos_kp_ua_per_v2, process.nmos_threshold_v),
+                (&process.pmos_model, "PMOS", process.pmos_kp_ua_per_v2, -process.pmos_threshold_v),
+            ] {
+                writeln!(
+                    out,
+                    ".model {name} {kind} (LEVEL=1 VTO={threshold} KP={kp}u GAMMA={} LAMBDA=0)",
+                    process.body_effect_sqrt_v
+                )?;
+            }
+        }
+        Models::Library { include, nmos, pmos } => {
+            writeln!(out, "* Models from the user's library: NMOS {nmos}, PMOS {pmos}.")?;
+            let quoted =
+                if include.chars().any(char::is_whitespace) { format!("\"{include}\"") } else { include.clone() };
+            writeln!(out, ".include {quoted}")?;
+        }
+    }
+
+    writeln!(out)?;
+    let inputs: Vec<&str> = gate.inputs.iter().map(|i| i.name.as_str()).collect();
+    writeln!(out, "* The gate, drawn sizes.")?;
+    writeln!(out, ".subckt {} {} {} vdd vss", gate.name, inputs.join(" "), gate.output)?;
+    for transistor in &gate.transistors {
+        writeln!(out, "{}", transistor_line(transistor, models))?;
+    }
+    if options.diffusion_capacitance {
+        write_diffusion(&gate_diffusion, process, out)?;
+    }
+    writeln!(out, ".ends {}", gate.name)?;
+
+    writeln!(out)?;
+    writeln!(out, "* The reference inverter at drive {}, drawn sizes.", number(gate.drive))?;
+    writeln!(out, ".subckt {reference_name} a y vdd vss")?;
+    for (name, nodes, model, (fingers, finger)) in [
+        ("MN1", ["y", "a", "vss", "vss"], models[0], reference[0]),
+        ("MP1", ["y", "a", "vdd", "vdd"], models[1], reference[1]),
+    ] {
+        writeln!(out, "{}", mosfet_line(name, nodes, model, finger, process.length_nm, fingers))?;
+    }
+    if options.diffusion_capacitance {
+        write_diffusion(&reference_diffusion, process, out)?;
+    }
+    writeln!(out, ".ends {reference_name}")?;
+
+    writeln!(out)?;
+    writeln!(out, "Vsupply vdd 0 DC {}", number(supply))?;
+    let level = |value: bool| if value { number(supply) } else { "0".to_string() };
+    let toggle = |from: bool| {
+        let (before, after) = (level(from), level(!from));
+        format!("PWL(0 {before} {} {before} {} {after})", seconds(start), seconds(start + rise))
+    };
+    let direction = |rising: bool| if rising { "RISE=1" } else { "FALL=1" };
+    let mut measures: Vec<(String, String)> = Vec::new();
+
+    for (index, transition) in transitions.iter().enumerate() {
+        let tag = format!("t{}", index + 1);
+        let name = &gate.inputs[transition.input].name;
+        let on_level = transition.vector[transition.input];
+        let held: Vec<String> = transition
+            .vector
+            .iter()
+            .enumerate()
+            .filter(|&(i, _)| i != transition.input)
+            .map(|(i, &v)| format!("{}={}", gate.inputs[i].name, u8::from(v)))
+            .collect();
+        let how = match &transition.path {
+            Some(devices) => format!("path {}", devices.join(" ")),
+            None => "repeated inputs: the exact worst over the side inputs".to_string(),
+        };
+        writeln!(out)?;
+        writeln!(
+            out,
+            "* {tag}: {name} {}, output {}; held {}; {how}: {} R sized, {} R drawn (target {} R)",
+            if on_level { "rising" } else { "falling" },
+            if transition.kind == NetworkKind::PullDown { "falling" } else { "rising" },
+            if held.is_empty() { "nothing".to_string() } else { held.join(" ") },
+            number(transition.resistance),
+            number(transition.drawn_resistance),
+            number(gate.options.target(transition.kind)),
+        )?;
+        let mut nodes = Vec::new();
+        for (input, &value) in transition.vector.iter().enumerate() {
+            let node = format!("{tag}_in{}", input + 1);
+            let source = if input == transition.input { toggle(!value) } else { format!("DC {}", level(value)) };
+            writeln!(out, "V{tag}_{} {node} 0 {source}", input + 1)?;
+            nodes.push(node);
+        }
+        writeln!(out, "X{tag} {} {tag}_out vdd 0 {}", nodes.join(" "), gate.name)?;
+        writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(process.load_ff))?;
+        let measure = gate_measure(name, transition.kind);
+        let statement = format!(
+            "meas tran {measure} TRIG v({tag}_in{}) VAL={half} {} TARG v({tag}_out) VAL={half} {}",
+            transition.input + 1,
+            direction(on_level),
+            direction(!on_level)
+        );
+        writeln!(out, ".{statement}")?;
+        measures.push((measure, statement));
+    }
+
+    for kind in NetworkKind::BOTH {
+        let tag = format!("r{}", edge(kind));
+        let rising_input = kind == NetworkKind::PullDown;
+        writeln!(out)?;
+        writeln!(
+            out,
+            "* {tag}: the reference inverter, input {}, output {}",
+            if rising_input { "rising" } else { "falling" },
+            if rising_input { "falling" } else { "rising" }
+        )?;
+        writeln!(out, "V{tag} {tag}_in 0 {}", toggle(!rising_input))?;
+        writeln!(out, "X{tag} {tag}_in {tag}_out vdd 0 {reference_name}")?;
+        writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(process.load_ff))?;
+        let measure = reference_measure(kind);
+        let statement = format!(
+            "meas tran {measure} TRIG v({tag}_in) VAL={half} {} TARG v({tag}_out) VAL={half} {}",
+            direction(rising_input),
+            direction(!rising_input)
+        );
+        writeln!(out, ".{statement}")?;
+        measures.push((measure, statement));
+    }
+
+    writeln!(out)?;
+    writeln!(out, ".tran {} {} 0 {}", seconds(step), seconds(stop), seconds(step))?;
+    if options.summary {
+        writeln!(out)?;
+        writeln!(out, "* ngspice: repeat the measurements as vectors, print each delay, its reference and the ratio.")?;
+        writeln!(out, ".control")?;
+        writeln!(out, "run")?;
+        for (_, statement) in &measures {
+            writeln!(out, "{statement}")?;
+        }
+        writeln!(out, "echo \"widthwise summary: transition, gate delay (s), reference delay (s), gate/reference\"")?;
+        for transition in &transitions {
+            let name = &gate.inputs[transition.input].name;
+            let measure = gate_measure(name, transition.kind);
+            let reference = reference_measure(transition.kind);
+            let ratio = format!("ratio_{}_{}", name.to_ascii_lowercase(), edge(transition.kind));
+            writeln!(out, "let {ratio} = {measure} / {reference}")?;
+            writeln!(
+                out,
+                "echo \"delay {} {}: $&{measure} $&{reference} $&{ratio}\"",
+                name.to_ascii_lowercase(),
+                edge(transition.kind)
+            )?;
+        }
+        writeln!(out, "quit")?;
+        writeln!(out, ".endc")?;
+    }
+    writeln!(out, ".end")
+}
+
+/// One capacitor to `vss` per node: diffusion_cap_ff_per_um x diffusion width.
+fn write_diffusion(nodes: &[(String, f64)], process: &Process, out: &mut dyn Write) -> io::Result<()> {
+    for (index, (node, width)) in nodes.iter().enumerate() {
+        writeln!(out, "CD{} {node} vss {}", index + 1, femtofarads(width * process.diffusion_cap_ff_per_um))?;
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn shared_series_diffusion_counts_once() {
+        // NAND2 pull-down (MN1 y-n1, MN2 n1-vss, 2 um each) and two PMOS on y: n1 is one shared
+        // diffusion of 2 um; y has three (common practice, no source).
+        let devices = [("y", "n1", 2.0), ("n1", "vss", 2.0), ("y", "vdd", 2.0), ("y", "vdd", 2.0)];
+        let nodes = node_diffusion_um(&devices, "y");
+        assert_eq!(nodes, vec![("y".to_string(), 6.0), ("n1".to_string(), 2.0)]);
+        // An inverter's output joins two devices but they are not one series stack.
+        assert_eq!(node_diffusion_um(&[("y", "vss", 1.0), ("y", "vdd", 2.0)], "y"), vec![("y".to_string(), 3.0)]);
+    }
+}

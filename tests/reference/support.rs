@@ -1,0 +1,84 @@
+//! Shared support of the reference checks: the widthwise binary, and ngspice run in batch mode.
+//!
+//! Where ngspice is missing, [`ngspice_available`] says so on stderr and the check skips; with
+//! `WIDTHWISE_REQUIRE_NGSPICE=1` a missing ngspice fails the check instead.
+
+use std::collections::BTreeMap;
+use std::process::Command;
+
+/// The environment variable that turns a missing ngspice into a failure.
+pub const REQUIRE_NGSPICE: &str = "WIDTHWISE_REQUIRE_NGSPICE";
+
+/// Run the built `widthwise` on `args`; its standard output (panics, with its stderr, on failure).
+pub fn widthwise(args: &[&str]) -> String {
+    let output = Command::new(env!("CARGO_BIN_EXE_widthwise")).args(args).output().expect("widthwise runs");
+    assert!(output.status.success(), "widthwise {args:?}: {}", String::from_utf8_lossy(&output.stderr));
+    String::from_utf8(output.stdout).expect("UTF-8 output")
+}
+
+/// Whether ngspice runs here. If not: a note on stderr naming `check` and `false`, or a panic
+/// when `WIDTHWISE_REQUIRE_NGSPICE=1`.
+pub fn ngspice_available(check: &str) -> bool {
+    let runs = Command::new("ngspice").arg("--version").output().is_ok_and(|o| o.status.success());
+    if !runs {
+        if std::env::var(REQUIRE_NGSPICE).is_ok_and(|v| v == "1") {
+            panic!("{check}: ngspice is missing and {REQUIRE_NGSPICE}=1 (install Debian's ngspice package)");
+        }
+        note(&format!("{check}: skipped, ngspice is not installed (Debian package ngspice)"));
+    }
+    runs
+}
+
+/// A line on stderr that the test harness does not capture, so that it shows in every run.
+pub fn note(line: &str) {
+    use std::io::Write;
+    let _ = writeln!(std::io::stderr(), "{line}");
+}
+
+/// Simulate a deck with `ngspice -b` in a fresh directory; ngspice's standard output.
+pub fn run_ngspice(deck: &str) -> String {
+    let directory = tempfile::tempdir().expect("a temporary directory");
+    let path = directory.path().join("deck.sp");
+    std::fs::write(&path, deck).expect("the deck is written");
+    let output =
+        Command::new("ngspice").arg("-b").arg(&path).current_dir(directory.path()).output().expect("ngspice runs");
+    let stdout = String::from_utf8_lossy(&output.stdout).into_owned();
+    assert!(
+        output.status.success(),
+        "ngspice failed: {}\n{stdout}\n{}",
+        output.status,
+        String::from_utf8_lossy(&output.stderr)
+    );
+    stdout
+}
+
+/// Measurement results from ngspice's output: lines `name = value ...` with a lowercase name and a
+/// number for value (ngspice prints a `.meas` result as `tpd_a_fall_gate     =  1.003736e-10 targ=
+/// ... trig= ...`, names lowercased; its statistics lines such as `Stack = 0 bytes.` are capitalised).
+pub fn measurements(output: &str) -> BTreeMap<String, f64> {
+    let mut out = BTreeMap::new();
+    for line in output.lines() {
+        let Some((name, rest)) = line.split_once('=') else { continue };
+        let name = name.trim();
+        if name.is_empty() || !name.chars().all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || c == '_') {
+            continue;
+        }
+        if let Some(value) = rest.split_whitespace().next().and_then(|v| v.parse::<f64>().ok()) {
+            out.insert(name.to_string(), value);
+        }
+    }
+    out
+}
+
+/// The deck's `--summary` lines, `delay <input> <edge>: <gate> <reference> <ratio>`, as
+/// `("<input> <edge>", ratio)`.
+pub fn summary_ratios(output: &str) -> BTreeMap<String, f64> {
+    output
+        .lines()
+        .filter_map(|line| {
+            let (what, values) = line.strip_prefix("delay ")?.split_once(':')?;
+            let ratio = values.split_whitespace().nth(2)?.parse::<f64>().ok()?;
+            Some((what.to_string(), ratio))
+        })
+        .collect()
+}
