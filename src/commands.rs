@@ -34,6 +34,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             let listings = sized.list_paths(limit);
             write_output(&output, |out| output::write_paths(&sized, &listings, output.format, out))
         }
+        Command::Batch { library, output, rows } => crate::batch::run(&library, &output, rows),
     }
 }
 

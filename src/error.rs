@@ -217,6 +217,33 @@ pub enum Error {
     /// A check the user asked for failed; the message says which.
     #[error("{0}")]
     CheckFailed(String),
+    /// A bad file (a library or process file): the message and where in which file.
+    #[error("{message}")]
+    InFile {
+        /// What is wrong.
+        message: String,
+        /// The file's name as messages give it.
+        origin: String,
+        /// The file's text.
+        source_text: String,
+        /// Where, when known.
+        span: Option<Span>,
+    },
+    /// Gate names of a batch clash (each clash was reported as it was found); nothing was written.
+    #[error("{count} gate name(s) used twice (reported above); nothing was written")]
+    NameClashes {
+        /// How many clashes.
+        count: usize,
+    },
+    /// Some gates of a batch could not be sized (each was reported as it was found); the others
+    /// were written.
+    #[error("{failed} of {total} gates could not be sized (reported above); the other {} were written", total - failed)]
+    GatesFailed {
+        /// Gates that failed.
+        failed: usize,
+        /// Gates in the file.
+        total: usize,
+    },
 }
 
 impl Error {
@@ -234,6 +261,10 @@ impl Error {
             Error::Expression { error, source_text } => {
                 render_at(&error.to_string(), "the expression", source_text, error.span())
             }
+            Error::InFile { message, origin, source_text, span: Some(span) } => {
+                render_at(message, origin, source_text, *span)
+            }
+            Error::InFile { message, origin, span: None, .. } => format!("error: {message}\n  in {origin}\n"),
             other => format!("error: {other}\n"),
         }
     }

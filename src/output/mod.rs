@@ -3,6 +3,7 @@
 pub mod csv;
 pub mod json;
 pub mod spice;
+pub mod summary;
 pub mod table;
 
 use std::io::{self, Write};
