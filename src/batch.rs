@@ -179,8 +179,8 @@ impl<'de> Deserialize<'de> for Drives {
     }
 }
 
-/// Check a written drive or list: every value positive and finite, a list not empty, no value twice
-/// (two variants would get the same name). Gives each drive with its place.
+/// Check a written drive or list: every value positive and finite, a list not empty. Gives each
+/// drive with its place.
 fn check_drives(written: &Spanned<Drives>) -> Result<Vec<(f64, Span)>, (String, Span)> {
     let whole = to_span(written.span());
     let drives: Vec<(f64, Span)> = match written.get_ref() {
@@ -190,23 +190,18 @@ fn check_drives(written: &Spanned<Drives>) -> Result<Vec<(f64, Span)>, (String, 
         }
         Drives::Many(list) => list.iter().map(|d| (*d.get_ref(), to_span(d.span()))).collect(),
     };
-    let mut seen = HashSet::with_capacity(drives.len());
     for &(drive, span) in &drives {
         if !drive.is_finite() || drive <= 0.0 {
             return Err((format!("drive {drive}: a drive must be a positive finite number"), span));
         }
-        if !seen.insert(drive.to_bits()) {
-            return Err((
-                format!(
-                    "drive {drive} is listed twice: both variants would be named '..._{}', and variant names \
-                     must be unique",
-                    drive_suffix(drive)
-                ),
-                span,
-            ));
-        }
     }
     Ok(drives)
+}
+
+/// The first drive listed twice, at its second place.
+fn repeated_drive(drives: &[(f64, Span)]) -> Option<(f64, Span)> {
+    let mut seen = HashSet::with_capacity(drives.len());
+    drives.iter().copied().find(|(drive, _)| !seen.insert(drive.to_bits()))
 }
 
 /// `[defaults]` as written.
@@ -253,6 +248,8 @@ pub struct GatePlan {
     pub mobility_ratio: f64,
     /// Drives, one variant each, in written order.
     pub drives: Vec<f64>,
+    /// Where each drive is written (in the gate, or in `[defaults]`).
+    drive_spans: Vec<Span>,
     /// The input to place nearest the output.
     pub critical: Option<String>,
     name_span: Span,
@@ -452,12 +449,23 @@ impl Library {
             }
         };
         let default_drives = match &defaults.drive {
-            None => vec![DEFAULT_DRIVE],
-            Some(written) => check_drives(written)
-                .map_err(|(message, span)| source.error(format!("[defaults]: {message}"), Some(span.start..span.end)))?
-                .into_iter()
-                .map(|(drive, _)| drive)
-                .collect(),
+            None => vec![(DEFAULT_DRIVE, Span::default())],
+            Some(written) => {
+                let drives = check_drives(written).map_err(|(message, span)| {
+                    source.error(format!("[defaults]: {message}"), Some(span.start..span.end))
+                })?;
+                if let Some((drive, span)) = repeated_drive(&drives) {
+                    return Err(source.error(
+                        format!(
+                            "[defaults]: drive {drive} is listed twice: every gate would get two variants named \
+                             <name>_{}",
+                            drive_suffix(drive)
+                        ),
+                        Some(span.start..span.end),
+                    ));
+                }
+                drives
+            }
         };
         let common =
             Common { method: defaults.method.unwrap_or(DEFAULT_METHOD), mobility_ratio, drives: default_drives };
@@ -483,13 +491,24 @@ impl Library {
         Ok(Library { process, mobility_ratio, gates })
     }
 
-    /// Duplicate gate names, each reported at its second use. Variant names cannot clash
-    /// otherwise: a drive list with a value twice is the gate's own problem, and `<name>_x<drive>`
-    /// is unique for distinct names (see [`drive_suffix`]).
+    /// Names that would clash in the output, each reported at its second use: a gate name used
+    /// twice, or a drive listed twice in one gate (two variants of one name). Variants of distinct
+    /// gates cannot clash: `<name>_x<drive>` is unique for distinct names (see [`drive_suffix`]).
     pub fn name_clashes(&self) -> Vec<GateProblem> {
         let mut first: HashMap<&str, usize> = HashMap::with_capacity(self.gates.len());
         let mut clashes = Vec::new();
         for plan in self.gates.iter().flatten() {
+            let drives: Vec<(f64, Span)> = plan.drives.iter().copied().zip(plan.drive_spans.iter().copied()).collect();
+            if let Some((drive, span)) = repeated_drive(&drives) {
+                clashes.push(plan.problem(
+                    format!(
+                        "drive {drive} is listed twice: both variants would be subcircuit '{}'; variant names must \
+                         be unique",
+                        plan.variant_name(drive)
+                    ),
+                    Place::File(span),
+                ));
+            }
             if let Some(&number) = first.get(plan.name.as_str()) {
                 clashes.push(plan.problem(
                     format!(
@@ -510,7 +529,7 @@ impl Library {
 struct Common {
     method: Method,
     mobility_ratio: f64,
-    drives: Vec<f64>,
+    drives: Vec<(f64, Span)>,
 }
 
 fn read_process(source: &Source, value: Spanned<DeValue<'_>>) -> Result<Process, Error> {
@@ -571,13 +590,9 @@ fn read_gate_entry(
             name_span,
         ));
     }
-    let drives = match &gate.drive {
-        None => common.drives.clone(),
-        Some(written) => check_drives(written)
-            .map_err(|(message, span)| problem(message, span))?
-            .into_iter()
-            .map(|(drive, _)| drive)
-            .collect(),
+    let (drives, drive_spans) = match &gate.drive {
+        None => common.drives.iter().copied().unzip(),
+        Some(written) => check_drives(written).map_err(|(message, span)| problem(message, span))?.into_iter().unzip(),
     };
     let expression = gate.expr.get_ref().clone();
     let expression_place = ExpressionPlace {
@@ -591,6 +606,7 @@ fn read_gate_entry(
         method: gate.method.unwrap_or(common.method),
         mobility_ratio: common.mobility_ratio,
         drives,
+        drive_spans,
         critical_span: gate.critical.as_ref().map(|c| to_span(c.span())),
         critical: gate.critical.map(Spanned::into_inner),
         name_span,
@@ -873,13 +889,7 @@ mod tests {
 
     #[test]
     fn bad_drives() {
-        for (drive, why) in [
-            ("0", "positive"),
-            ("[1, -2]", "positive"),
-            ("[]", "empty"),
-            ("[1, 2, 1.0]", "twice"),
-            ("\"x\"", "expected"),
-        ] {
+        for (drive, why) in [("0", "positive"), ("[1, -2]", "positive"), ("[]", "empty"), ("\"x\"", "expected")] {
             let rendered = problem(&format!("[[gate]]\nname = \"g\"\nexpr = \"inv\"\ndrive = {drive}\n"), 0);
             assert!(rendered.contains(why) && rendered.contains("line 4"), "{drive}: {rendered}");
         }
@@ -901,11 +911,16 @@ mod tests {
     }
 
     #[test]
-    fn duplicate_names_are_clashes() {
+    fn duplicate_names_and_drives_are_clashes() {
         let lib = library("[[gate]]\nname = \"g\"\nexpr = \"inv\"\n[[gate]]\nname = \"g\"\nexpr = \"nand2\"\n");
         let clashes = lib.name_clashes();
         assert_eq!(clashes.len(), 1);
         assert!(clashes[0].message.contains("gate 1"));
+        let text = "[[gate]]\nname = \"g\"\nexpr = \"inv\"\ndrive = [1, 2, 1.0]\n";
+        let clashes = library(text).name_clashes();
+        assert_eq!(clashes.len(), 1);
+        let rendered = clashes[0].render(&Source::new("lib.toml", text, "."));
+        assert!(rendered.contains("subcircuit 'g_x1'") && rendered.contains("line 4, column 16"), "{rendered}");
     }
 
     #[test]

@@ -229,8 +229,9 @@ pub enum Error {
         /// Where, when known.
         span: Option<Span>,
     },
-    /// Gate names of a batch clash (each clash was reported as it was found); nothing was written.
-    #[error("{count} gate name(s) used twice (reported above); nothing was written")]
+    /// Names in a batch clash: a gate name used twice, or a drive listed twice in one gate (each
+    /// clash was reported as it was found); nothing was written.
+    #[error("{count} name clash(es) among the gates and their variants (reported above); nothing was written")]
     NameClashes {
         /// How many clashes.
         count: usize,
