@@ -498,8 +498,14 @@ impl Library {
         let mut first: HashMap<&str, usize> = HashMap::with_capacity(self.gates.len());
         let mut clashes = Vec::new();
         for plan in self.gates.iter().flatten() {
-            let drives: Vec<(f64, Span)> = plan.drives.iter().copied().zip(plan.drive_spans.iter().copied()).collect();
-            if let Some((drive, span)) = repeated_drive(&drives) {
+            let repeated = if plan.drives.len() > 1 {
+                let drives: Vec<(f64, Span)> =
+                    plan.drives.iter().copied().zip(plan.drive_spans.iter().copied()).collect();
+                repeated_drive(&drives)
+            } else {
+                None
+            };
+            if let Some((drive, span)) = repeated {
                 clashes.push(plan.problem(
                     format!(
                         "drive {drive} is listed twice: both variants would be subcircuit '{}'; variant names must \
@@ -707,6 +713,20 @@ impl Write for SkipFirstLine<'_> {
     }
 }
 
+/// The `csv` crate turns a failed write into an I/O error of kind `Other`; give it back the
+/// kind of the write that failed, so that a reader closing the pipe early ends the run quietly.
+fn with_write_kind(error: io::Error) -> io::Error {
+    let kind =
+        error.get_ref().and_then(|inner| inner.downcast_ref::<csv::Error>()).and_then(|inner| match inner.kind() {
+            csv::ErrorKind::Io(io) => Some(io.kind()),
+            _ => None,
+        });
+    match kind {
+        Some(kind) => io::Error::new(kind, error),
+        None => error,
+    }
+}
+
 /// Size the library and write it in `format` (`rows` for table and CSV) to `out`, each bad gate to
 /// `diagnostics` as it is found.
 pub fn write_batch(
@@ -723,12 +743,13 @@ pub fn write_batch(
         Format::Csv => {
             let mut header_written = false;
             let outcome = size_all(library, &mut report, &mut |chunk| {
-                if header_written {
+                let written = if header_written {
                     output::csv::write_gates(chunk, rows, process, &mut SkipFirstLine { inner: out, skipping: true })
                 } else {
                     header_written = true;
                     output::csv::write_gates(chunk, rows, process, out)
-                }
+                };
+                written.map_err(with_write_kind)
             })?;
             if !header_written {
                 output::csv::write_gates(&[], rows, process, out)?;
@@ -927,6 +948,23 @@ mod tests {
     fn unknown_critical_input_points_at_the_key() {
         let rendered = problem("[[gate]]\nname = \"g\"\nexpr = \"nand2\"\ncritical = \"q\"\n", 0);
         assert!(rendered.contains("'q'") && rendered.contains("line 4, column 12"), "{rendered}");
+    }
+
+    #[test]
+    fn a_closed_pipe_under_the_csv_writer_keeps_its_kind() {
+        struct Closed;
+        impl Write for Closed {
+            fn write(&mut self, _: &[u8]) -> io::Result<usize> {
+                Err(io::ErrorKind::BrokenPipe.into())
+            }
+            fn flush(&mut self) -> io::Result<()> {
+                Err(io::ErrorKind::BrokenPipe.into())
+            }
+        }
+        let lib = library("[[gate]]\nname = \"g\"\nexpr = \"nand8\"\ndrive = [1, 2, 3, 4, 5, 6, 7, 8]\n");
+        let source = Source::new("lib.toml", "", ".");
+        let error = write_batch(&lib, &source, Format::Csv, Rows::Devices, &mut Closed, &mut io::sink()).unwrap_err();
+        assert_eq!(error.kind(), io::ErrorKind::BrokenPipe);
     }
 
     #[test]

@@ -360,6 +360,17 @@ fn whole_file_errors_stop_with_one_message() {
 }
 
 #[test]
+fn a_library_that_is_not_utf8_is_refused() {
+    widthwise()
+        .args(["batch", "-"])
+        .write_stdin(b"[[gate]]\nname = \"a\xff\"\n".to_vec())
+        .assert()
+        .code(2)
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("not valid UTF-8 (first bad byte at byte 18)"));
+}
+
+#[test]
 fn an_inline_process_table_and_standard_input() {
     let process = std::fs::read_to_string(example("tern8-process.toml")).unwrap();
     let text = format!("[[gate]]\nname = \"n2\"\nexpr = \"nand2\"\n\n[process]\n{process}");
