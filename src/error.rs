@@ -238,7 +238,7 @@ pub enum Error {
     },
     /// Some gates of a batch could not be sized (each was reported as it was found); the others
     /// were written.
-    #[error("{failed} of {total} gates could not be sized (reported above); the other {} were written", total - failed)]
+    #[error("{failed} of {total} gates could not be sized (reported above); gates written: {}", total - failed)]
     GatesFailed {
         /// Gates that failed.
         failed: usize,
