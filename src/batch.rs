@@ -17,7 +17,7 @@ use serde::Deserialize;
 use serde::de::{SeqAccess, Visitor};
 use serde::ser::{SerializeSeq, Serializer as _};
 use toml::Spanned;
-use toml::de::{DeTable, DeValue, ValueDeserializer};
+use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
 use crate::cli::{OutputArgs, cell_name};
 use crate::commands::write_output;
@@ -471,22 +471,20 @@ impl Library {
             Common { method: defaults.method.unwrap_or(DEFAULT_METHOD), mobility_ratio, drives: default_drives };
 
         let mut entries = match gates {
-            None => Vec::new(),
+            None => DeArray::new(),
             Some(value) => {
                 let span = value.span();
                 match value.into_inner() {
-                    DeValue::Array(array) => {
-                        let mut array = array;
-                        array.iter_mut().map(|item| std::mem::replace(item, taken())).collect::<Vec<_>>()
-                    }
+                    DeValue::Array(array) => array,
                     _ => return Err(source.error("gate must be a list of [[gate]] tables", Some(span))),
                 }
             }
         };
+        // Each entry is taken out of the tree as it is read, so the tree shrinks as plans grow.
         let gates = entries
-            .drain(..)
+            .iter_mut()
             .enumerate()
-            .map(|(index, entry)| read_gate_entry(source, &common, index + 1, entry))
+            .map(|(index, entry)| read_gate_entry(source, &common, index + 1, std::mem::replace(entry, taken())))
             .collect();
         Ok(Library { process, mobility_ratio, gates })
     }
