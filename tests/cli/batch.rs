@@ -128,6 +128,8 @@ fn example_library_matches_single_gate_sizing_row_by_row() {
 
     for (name, variant) in &expected {
         let row = gates.iter().find(|row| &row["gate"] == name).unwrap();
+        // Against the same gate sized on its own by `widthwise size` (the single-gate path, which
+        // its own tests check against published tables), with the options the library file gives.
         let single = size_csv(name, variant, mobility_ratio, "gates");
         assert_same_row(row, &single[0], name);
         // physical width = W/L x the process's unit width (the process file read on its own)
@@ -193,6 +195,7 @@ fn twenty_thousand_gates_are_sized_and_a_sample_matches_single_gate_sizing() {
         let index = sequence.next(expected.len());
         let (name, variant) = &expected[index];
         assert_eq!(&rows[index]["gate"], name, "file order");
+        // Against `widthwise size` of the same gate with the same options (the single-gate path)
         let single = size_csv(name, variant, 2.5, "gates");
         assert_same_row(&rows[index], &single[0], name);
     }
