@@ -110,6 +110,20 @@ pub enum Command {
         #[arg(short, long, value_name = "FILE")]
         output: Option<PathBuf>,
     },
+    /// Size every gate of a library file, in every drive it lists, into one table, CSV, JSON or
+    /// SPICE library.
+    #[command(after_help = crate::batch::AFTER_HELP)]
+    Batch {
+        /// The library file: TOML with an optional process and [defaults], then [[gate]] entries;
+        /// - reads it from standard input.
+        library: PathBuf,
+        /// Where and how to write.
+        #[command(flatten)]
+        output: OutputArgs,
+        /// Rows of the table and the CSV: one per gate variant, per transistor or per input.
+        #[arg(long, value_enum, default_value_t = Rows::Gates)]
+        rows: Rows,
+    },
 }
 
 /// Options of the simulation deck.

@@ -49,6 +49,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             let target = OutputArgs { format: Format::Table, output };
             write_output(&target, |out| out.write_all(Process::default().to_commented_toml().as_bytes()))
         }
+        Command::Batch { library, output, rows } => crate::batch::run(&library, &output, rows),
     }
 }
 

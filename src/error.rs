@@ -229,6 +229,34 @@ pub enum Error {
     /// A check the user asked for failed; the message says which.
     #[error("{0}")]
     CheckFailed(String),
+    /// A bad file (a library or process file): the message and where in which file.
+    #[error("{message}")]
+    InFile {
+        /// What is wrong.
+        message: String,
+        /// The file's name as messages give it.
+        origin: String,
+        /// The file's text.
+        source_text: String,
+        /// Where, when known.
+        span: Option<Span>,
+    },
+    /// Names in a batch clash: a gate name used twice, or a drive listed twice in one gate (each
+    /// clash was reported as it was found); nothing was written.
+    #[error("{count} name clash(es) among the gates and their variants (reported above); nothing was written")]
+    NameClashes {
+        /// How many clashes.
+        count: usize,
+    },
+    /// Some gates of a batch could not be sized (each was reported as it was found); the others
+    /// were written.
+    #[error("{failed} of {total} gates could not be sized (reported above); gates written: {}", total - failed)]
+    GatesFailed {
+        /// Gates that failed.
+        failed: usize,
+        /// Gates in the file.
+        total: usize,
+    },
 }
 
 impl Error {
@@ -250,6 +278,10 @@ impl Error {
                 Some(span) => render_at(&error.to_string(), &path.display().to_string(), source_text, span),
                 None => format!("error: {}: {error}\n", path.display()),
             },
+            Error::InFile { message, origin, source_text, span: Some(span) } => {
+                render_at(message, origin, source_text, *span)
+            }
+            Error::InFile { message, origin, span: None, .. } => format!("error: {message}\n  in {origin}\n"),
             other => format!("error: {other}\n"),
         }
     }

@@ -9,6 +9,7 @@
 
 #![forbid(unsafe_code)]
 
+pub mod batch;
 pub mod cli;
 pub mod commands;
 pub mod error;

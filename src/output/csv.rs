@@ -100,6 +100,19 @@ fn drawn_cells(gate: &SizedGate) -> Vec<String> {
 
 /// Write the gates in the chosen view.
 pub fn write_gates(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut dyn Write) -> io::Result<()> {
+    gates_view(gates, rows, process, out).map_err(into_io)
+}
+
+/// The `csv` crate wraps a failed write in its own error; give back the write's own error, so a
+/// reader that closes the pipe early is seen as such.
+fn into_io(error: csv::Error) -> io::Error {
+    match error.into_kind() {
+        csv::ErrorKind::Io(error) => error,
+        other => io::Error::other(format!("{other:?}")),
+    }
+}
+
+fn gates_view(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut dyn Write) -> csv::Result<()> {
     let mut writer = csv::Writer::from_writer(out);
     match rows {
         Rows::Gates => {
@@ -177,7 +190,8 @@ pub fn write_gates(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut
             }
         }
     }
-    writer.flush()
+    writer.flush()?;
+    Ok(())
 }
 
 /// Columns of the path listing, in order.
@@ -185,6 +199,10 @@ pub const PATH_COLUMNS: [&str; 7] = ["gate", "network", "rank", "resistance", "d
 
 /// One row per listed path.
 pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
+    paths_view(gate, listings, out).map_err(into_io)
+}
+
+fn paths_view(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Write) -> csv::Result<()> {
     let mut writer = csv::Writer::from_writer(out);
     writer.write_record(PATH_COLUMNS)?;
     for listing in listings {
@@ -200,5 +218,6 @@ pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Wri
             ])?;
         }
     }
-    writer.flush()
+    writer.flush()?;
+    Ok(())
 }

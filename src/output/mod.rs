@@ -4,6 +4,7 @@ pub mod csv;
 pub mod deck;
 pub mod json;
 pub mod spice;
+pub mod summary;
 pub mod table;
 
 use std::io::{self, Write};

@@ -1,0 +1,509 @@
+//! `widthwise batch`: the example library against single-gate sizing, a 20,000-gate batch,
+//! published figures through the batch, bad gates among good ones, name clashes, stdin and `-o`.
+
+use std::collections::{HashMap, HashSet};
+use std::path::{Path, PathBuf};
+
+use predicates::prelude::*;
+
+use super::{fixture, widthwise};
+
+fn example(name: &str) -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("examples").join(name)
+}
+
+/// CSV text as a header and rows of named cells.
+fn records(csv_text: &[u8]) -> (Vec<String>, Vec<HashMap<String, String>>) {
+    let mut reader = csv::Reader::from_reader(csv_text);
+    let headers: Vec<String> = reader.headers().expect("a header row").iter().map(str::to_string).collect();
+    let rows = reader
+        .records()
+        .map(|record| {
+            let record = record.expect("a well-formed CSV row");
+            headers.iter().cloned().zip(record.iter().map(str::to_string)).collect()
+        })
+        .collect();
+    (headers, rows)
+}
+
+/// Run the batch and return its CSV in `rows` view.
+fn batch_csv(library: &Path, rows: &str) -> (Vec<String>, Vec<HashMap<String, String>>) {
+    let output = widthwise().arg("batch").arg(library).args(["--format", "csv", "--rows", rows]).output().unwrap();
+    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
+    records(&output.stdout)
+}
+
+/// How one variant is sized, as the library file says.
+#[derive(Debug, Clone)]
+struct Expected {
+    expression: String,
+    method: String,
+    drive: f64,
+    critical: Option<String>,
+}
+
+fn drives(value: Option<&toml::Value>) -> Option<Vec<f64>> {
+    let number = |v: &toml::Value| v.as_float().or_else(|| v.as_integer().map(|i| i as f64)).unwrap();
+    value.map(|v| match v.as_array() {
+        Some(list) => list.iter().map(number).collect(),
+        None => vec![number(v)],
+    })
+}
+
+/// Every variant a library file asks for, by variant name, read from the file with the `toml`
+/// crate on its own (the precedence rules as documented: gate, then [defaults], then built-in).
+fn expected_variants(text: &str) -> Vec<(String, Expected)> {
+    let file: toml::Table = text.parse().unwrap();
+    let defaults = file.get("defaults").and_then(|d| d.as_table()).cloned().unwrap_or_default();
+    let default_method = defaults.get("method").and_then(|m| m.as_str()).unwrap_or("longest-path").to_string();
+    let default_drives = drives(defaults.get("drive")).unwrap_or(vec![1.0]);
+    let mut variants = Vec::new();
+    for gate in file["gate"].as_array().unwrap() {
+        let name = gate["name"].as_str().unwrap();
+        for drive in drives(gate.get("drive")).unwrap_or(default_drives.clone()) {
+            let suffix = drive.to_string().replace('.', "p");
+            variants.push((
+                format!("{name}_x{suffix}"),
+                Expected {
+                    expression: gate["expr"].as_str().unwrap().to_string(),
+                    method: gate.get("method").and_then(|m| m.as_str()).unwrap_or(&default_method).to_string(),
+                    drive,
+                    critical: gate.get("critical").and_then(|c| c.as_str()).map(str::to_string),
+                },
+            ));
+        }
+    }
+    variants
+}
+
+/// `widthwise size` of one variant, in a CSV view.
+fn size_csv(
+    name: &str,
+    expected: &Expected,
+    mobility_ratio: f64,
+    process: Option<&Path>,
+    rows: &str,
+) -> Vec<HashMap<String, String>> {
+    let mut command = widthwise();
+    command.args(["size", &expected.expression, "--method", &expected.method, "--name", name]);
+    if let Some(process) = process {
+        command.arg("--process").arg(process);
+    }
+    command.args(["--drive", &expected.drive.to_string(), "--mobility-ratio", &mobility_ratio.to_string()]);
+    if let Some(critical) = &expected.critical {
+        command.args(["--critical", critical]);
+    }
+    let output = command.args(["--format", "csv", "--rows", rows]).output().unwrap();
+    assert!(output.status.success(), "{name}: {}", String::from_utf8_lossy(&output.stderr));
+    records(&output.stdout).1
+}
+
+fn close(a: &str, b: &str) -> bool {
+    match (a.parse::<f64>(), b.parse::<f64>()) {
+        (Ok(x), Ok(y)) => (x - y).abs() <= 1e-12 * x.abs().max(y.abs()).max(1.0),
+        _ => a == b,
+    }
+}
+
+/// Compare a batch row with the same row from `size`, every column.
+fn assert_same_row(batch: &HashMap<String, String>, single: &HashMap<String, String>, what: &str) {
+    assert_eq!(batch.len(), single.len(), "{what}: same columns");
+    for (column, value) in single {
+        assert!(close(&batch[column], value), "{what}: {column}: batch {} but size {value}", batch[column]);
+    }
+}
+
+#[test]
+fn example_library_matches_single_gate_sizing_row_by_row() {
+    let library = example("tern8-cells.toml");
+    let text = std::fs::read_to_string(&library).unwrap();
+    let expected = expected_variants(&text);
+    let process_file = example("tern8-process.toml");
+    let process: toml::Table = std::fs::read_to_string(&process_file).unwrap().parse().unwrap();
+    let mobility_ratio = process["mobility_ratio"].as_float().unwrap();
+    let unit_width_um = process["unit_width_nm"].as_float().unwrap() / 1000.0;
+    let length_um = process["length_nm"].as_float().unwrap() / 1000.0;
+
+    let (_, gates) = batch_csv(&library, "gates");
+    let (_, devices) = batch_csv(&library, "devices");
+    let names: Vec<&str> = gates.iter().map(|row| row["gate"].as_str()).collect();
+    let wanted: Vec<&str> = expected.iter().map(|(name, _)| name.as_str()).collect();
+    assert_eq!(names, wanted, "one row per variant, in file order");
+
+    for (name, variant) in &expected {
+        let row = gates.iter().find(|row| &row["gate"] == name).unwrap();
+        // Against the same gate sized on its own by `widthwise size` (the single-gate path, which
+        // its own tests check against published tables), with the options the library file gives.
+        let single = size_csv(name, variant, mobility_ratio, Some(&process_file), "gates");
+        assert_same_row(row, &single[0], name);
+        // physical width = W/L x the process's unit width (the process file read on its own)
+        let total: f64 = row["total_w_over_l"].parse().unwrap();
+        assert!(close(&row["total_width_um"], &(total * unit_width_um).to_string()), "{name}: width");
+
+        let batch_devices: Vec<_> = devices.iter().filter(|d| &d["gate"] == name).collect();
+        let single_devices = size_csv(name, variant, mobility_ratio, Some(&process_file), "devices");
+        assert_eq!(batch_devices.len(), single_devices.len(), "{name}: devices");
+        for (batch, single) in batch_devices.iter().zip(&single_devices) {
+            assert_same_row(batch, single, &format!("{name} {}", single["device"]));
+            let w_over_l: f64 = batch["w_over_l"].parse().unwrap();
+            assert!(close(&batch["width_um"], &(w_over_l * unit_width_um).to_string()));
+            assert!(close(&batch["length_um"], &length_um.to_string()));
+        }
+    }
+}
+
+/// A small deterministic generator, so the sample is the same on every run.
+struct Sequence(u64);
+
+impl Sequence {
+    fn next(&mut self, below: usize) -> usize {
+        self.0 = self.0.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        ((self.0 >> 33) % below as u64) as usize
+    }
+}
+
+#[test]
+fn twenty_thousand_gates_are_sized_and_a_sample_matches_single_gate_sizing() {
+    const SHORTHANDS: [&str; 10] =
+        ["inv", "nand2", "nand3", "nor2", "nor4", "aoi21", "aoi22", "oai21", "oai33", "aoi211"];
+    const EXPRESSIONS: [&str; 5] = [
+        "!(a & (b | c))",
+        "y = !(a*b + c*d + e)",
+        "co_n = !(a & b | ci & (a | b))",
+        "(p q + r)'",
+        "!((a | b) & (c | d) & e)",
+    ];
+    const DRIVES: [&str; 4] = ["", "drive = 2\n", "drive = [1, 2, 4]\n", "drive = 1.5\n"];
+    let mut sequence = Sequence(7);
+    let mut text = String::from("[defaults]\nmobility_ratio = 2.5\n\n");
+    for index in 0..20_000 {
+        let expr = if sequence.next(3) == 0 {
+            EXPRESSIONS[sequence.next(EXPRESSIONS.len())]
+        } else {
+            SHORTHANDS[sequence.next(SHORTHANDS.len())]
+        };
+        let method = if sequence.next(4) == 0 { "method = \"min-area\"\n" } else { "" };
+        let drive = DRIVES[sequence.next(DRIVES.len())];
+        text.push_str(&format!("[[gate]]\nname = \"cell{index}\"\nexpr = \"{expr}\"\n{method}{drive}\n"));
+    }
+    let directory = tempfile::tempdir().unwrap();
+    let library = directory.path().join("generated.toml");
+    std::fs::write(&library, &text).unwrap();
+    let expected = expected_variants(&text);
+
+    let (_, rows) = batch_csv(&library, "gates");
+    assert_eq!(rows.len(), expected.len(), "one row per variant");
+    let names: HashSet<&str> = rows.iter().map(|row| row["gate"].as_str()).collect();
+    assert_eq!(names.len(), rows.len(), "variant names are unique");
+    for _ in 0..20 {
+        let index = sequence.next(expected.len());
+        let (name, variant) = &expected[index];
+        assert_eq!(&rows[index]["gate"], name, "file order");
+        // Against `widthwise size` of the same gate with the same options (the single-gate path)
+        let single = size_csv(name, variant, 2.5, None, "gates");
+        assert_same_row(&rows[index], &single[0], name);
+    }
+}
+
+#[test]
+fn published_figures_come_through_the_batch() {
+    let library = fixture("batch-published.toml");
+    let (_, gates) = batch_csv(&library, "gates");
+    let (_, inputs) = batch_csv(&library, "inputs");
+    let number = |text: &str| text.parse::<f64>().unwrap();
+    // (cell, logical effort per input, parasitic delay) at mu = 2, longest-path sizing.
+    // inv g = 1, p = 1 (common practice, no source); NAND n: g = (n+2)/3, p = n; NOR n: g = (2n+1)/3,
+    // p = n (Sutherland, Sproull & Harris, "Logical Effort", 1999, ch. 4); AOI21: g = 2, 2, 5/3,
+    // p = 7/3; AOI22: g = 2, p = 4 (Weste & Harris, "CMOS VLSI Design", logical-effort table; from memory)
+    let published: [(&str, &[f64], f64); 8] = [
+        ("inv", &[1.0], 1.0),
+        ("nand2", &[4.0 / 3.0; 2], 2.0),
+        ("nand3", &[5.0 / 3.0; 3], 3.0),
+        ("nand4", &[2.0; 4], 4.0),
+        ("nor2", &[5.0 / 3.0; 2], 2.0),
+        ("nor3", &[7.0 / 3.0; 3], 3.0),
+        ("aoi21", &[2.0, 2.0, 5.0 / 3.0], 7.0 / 3.0),
+        ("aoi22", &[2.0; 4], 4.0),
+    ];
+    assert_eq!(gates.len(), 2 * published.len());
+    for (cell, efforts, parasitic) in published {
+        for drive in [1.0, 2.0] {
+            let name = format!("{cell}_x{drive}");
+            let row = gates.iter().find(|row| row["gate"] == name).unwrap_or_else(|| panic!("{name}"));
+            assert!((number(&row["parasitic_delay"]) - parasitic).abs() < 1e-9, "{name} p");
+            // Drive d pulls with R / d on both sides (the sizing model, section 2; common practice, no source)
+            for column in ["worst_pull_down_r", "worst_pull_up_r"] {
+                assert!((number(&row[column]) - 1.0 / drive).abs() < 1e-9, "{name} {column}");
+            }
+            let found: Vec<f64> =
+                inputs.iter().filter(|row| row["gate"] == name).map(|row| number(&row["logical_effort"])).collect();
+            assert_eq!(found.len(), efforts.len(), "{name} inputs");
+            for (g, expected) in found.iter().zip(efforts) {
+                assert!((g - expected).abs() < 1e-9, "{name}: g {g} against {expected}");
+            }
+        }
+    }
+}
+
+#[test]
+fn csv_views_have_the_documented_columns() {
+    let library = fixture("batch-published.toml");
+    // The stable column order of each view, as doc-drafts/batch.md lists it.
+    let gates = "gate,expression,output,drive,method,mobility_ratio,transistors,total_w_over_l,total_width_um,\
+                 parasitic_delay,pull_down_target_r,worst_pull_down_r,pull_down_vector,best_pull_down_r,\
+                 pull_down_paths,pull_up_target_r,worst_pull_up_r,pull_up_vector,best_pull_up_r,pull_up_paths,\
+                 total_drawn_width_um,drawn_worst_pull_down_r,pull_down_error_percent,drawn_worst_pull_up_r,\
+                 pull_up_error_percent,process";
+    let devices = "gate,drive,method,device,type,network,input,drain,source,w_over_l,width_um,length_um,\
+                   input_capacitance,logical_effort,parasitic_delay,transistors,worst_pull_down_r,worst_pull_up_r,\
+                   drawn_width_um,finger_width_um,fingers,drawn_w_over_l,drawn_worst_pull_down_r,\
+                   pull_down_error_percent,drawn_worst_pull_up_r,pull_up_error_percent";
+    let inputs = "gate,drive,method,input,input_capacitance,logical_effort";
+    for (rows, header) in [("gates", gates), ("devices", devices), ("inputs", inputs)] {
+        let (found, records) = batch_csv(&library, rows);
+        assert_eq!(found.join(","), header, "{rows}");
+        assert!(!records.is_empty());
+    }
+}
+
+#[test]
+fn bad_gates_are_reported_and_good_ones_written() {
+    let library = fixture("batch-mixed.toml");
+    let output = widthwise().arg("batch").arg(&library).args(["--format", "csv"]).output().unwrap();
+    assert_eq!(output.status.code(), Some(2));
+    let (_, rows) = records(&output.stdout);
+    let names: Vec<&str> = rows.iter().map(|row| row["gate"].as_str()).collect();
+    assert_eq!(names, ["good_nand_x1", "good_nand_x2", "good_aoi_x1", "good_nor_x1", "good_nor_x2"]);
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    let file = library.display().to_string();
+    for (name, place) in [
+        ("bad_syntax", "line 11, column 15"),
+        ("bad_stage", "line 20, column 9"),
+        ("bad_key", "line 25, column 1"),
+        ("bad_critical", "line 30, column 12"),
+    ] {
+        let heading = format!("error: gate '{name}': ");
+        let at = stderr.find(&heading).unwrap_or_else(|| panic!("{name} reported: {stderr}"));
+        let location = format!("  at {file}, {place}:");
+        assert!(stderr[at..].lines().nth(1) == Some(location.as_str()), "{name} at {place}: {stderr}");
+    }
+    // The caret sits under the ')' that has no operand.
+    assert!(stderr.contains("    expr = \"!(a & )\"\n                  ^\n"), "{stderr}");
+    assert!(stderr.contains("non-inverting"), "{stderr}");
+    assert!(stderr.contains("unknown field `width`"), "{stderr}");
+    assert!(stderr.trim_end().ends_with("error: 4 of 7 gates could not be sized (reported above); gates written: 3"));
+}
+
+#[test]
+fn names_that_a_spreadsheet_would_run_are_refused() {
+    let mut text = String::from("[[gate]]\nname = \"fine\"\nexpr = \"nand2\"\n");
+    for name in ["=cmd", "+x", "-x", "@x", "=HYPERLINK(\\\"x\\\")"] {
+        text.push_str(&format!("\n[[gate]]\nname = \"{name}\"\nexpr = \"inv\"\n"));
+    }
+    let output = widthwise().args(["batch", "-", "--format", "csv"]).write_stdin(text).output().unwrap();
+    assert_eq!(output.status.code(), Some(2));
+    let (_, rows) = records(&output.stdout);
+    assert_eq!(rows.len(), 1);
+    assert_eq!(rows[0]["gate"], "fine_x1");
+    // No cell of the output starts a formula (OWASP, "CSV Injection": =, +, - and @ lead a
+    // formula in common spreadsheets; from memory).
+    for row in &rows {
+        for cell in row.values() {
+            assert!(!cell.starts_with(['=', '+', '@']), "{cell}");
+        }
+    }
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    for (number, name) in [(2, "=cmd"), (3, "+x"), (4, "-x"), (5, "@x")] {
+        let heading = format!("error: gate {number}: name '{name}' is refused: a gate name is an identifier");
+        assert!(stderr.contains(&heading), "{heading}: {stderr}");
+    }
+    assert_eq!(stderr.matches("no spreadsheet reads its cell as a formula").count(), 5, "{stderr}");
+    assert!(stderr.contains("at standard input, line 6, column 8:"), "{stderr}");
+}
+
+#[test]
+fn duplicate_names_and_variant_names_stop_before_any_output() {
+    let duplicate = "[[gate]]\nname = \"n2\"\nexpr = \"nand2\"\n\n[[gate]]\nname = \"n2\"\nexpr = \"nor2\"\n";
+    let repeated = "[[gate]]\nname = \"n2\"\nexpr = \"nand2\"\ndrive = [1, 2, 2.0]\n";
+    for (text, message, place) in [
+        (duplicate, "error: gate 'n2': the name is already used by gate 1", "line 6, column 8"),
+        (
+            repeated,
+            "error: gate 'n2': drive 2 is listed twice: both variants would be subcircuit 'n2_x2'",
+            "line 4, column 16",
+        ),
+    ] {
+        for format in ["csv", "table", "json", "spice"] {
+            widthwise()
+                .args(["batch", "-", "--format", format])
+                .write_stdin(text)
+                .assert()
+                .code(2)
+                .stdout(predicate::str::is_empty())
+                .stderr(predicate::str::contains(message))
+                .stderr(predicate::str::contains(place))
+                .stderr(predicate::str::contains("nothing was written"));
+        }
+    }
+}
+
+#[test]
+fn whole_file_errors_stop_with_one_message() {
+    let cases = [
+        ("[[gate]\nname = \"x\"\n", "line 1"),
+        ("[[gate]]\nname = \"x\"\nexpr = \"inv\"\n[cells]\n", "unknown key 'cells'"),
+        ("[defaults]\nmethod = \"fastest\"\n", "unknown variant `fastest`"),
+        ("process = \"missing.toml\"\n", "cannot read the process file"),
+        ("[process]\nmobility_ratio = 2.0\n", "missing field"),
+    ];
+    for (text, message) in cases {
+        let output = widthwise().args(["batch", "-"]).write_stdin(text).output().unwrap();
+        assert_eq!(output.status.code(), Some(2), "{text}");
+        assert!(output.stdout.is_empty(), "{text}");
+        let stderr = String::from_utf8(output.stderr).unwrap();
+        assert!(stderr.starts_with("error: ") && stderr.contains(message), "{text}: {stderr}");
+        assert_eq!(stderr.matches("error:").count(), 1, "{stderr}");
+    }
+}
+
+#[test]
+fn a_library_that_is_not_utf8_is_refused() {
+    widthwise()
+        .args(["batch", "-"])
+        .write_stdin(b"[[gate]]\nname = \"a\xff\"\n".to_vec())
+        .assert()
+        .code(2)
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("not valid UTF-8 (first bad byte at byte 18)"));
+}
+
+#[test]
+fn an_inline_process_table_and_standard_input() {
+    let process = std::fs::read_to_string(example("tern8-process.toml")).unwrap();
+    let text = format!("[[gate]]\nname = \"n2\"\nexpr = \"nand2\"\n\n[process]\n{process}");
+    let output =
+        widthwise().args(["batch", "-", "--format", "csv", "--rows", "devices"]).write_stdin(text).output().unwrap();
+    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
+    let (_, rows) = records(&output.stdout);
+    assert_eq!(rows.len(), 4);
+    // mu = 2.5 from the process: NAND2 NMOS 2, PMOS 2.5 (longest-path rule; common practice, no source)
+    // and physical width = W/L x 0.5 um, L = 0.25 um (the process file's unit width and length)
+    assert_eq!((rows[0]["w_over_l"].as_str(), rows[0]["width_um"].as_str()), ("2", "1"));
+    assert_eq!((rows[2]["w_over_l"].as_str(), rows[2]["width_um"].as_str()), ("2.5", "1.25"));
+    assert_eq!(rows[0]["length_um"], "0.25");
+}
+
+#[test]
+fn output_file_is_written_atomically_and_kept_on_a_file_error() {
+    let directory = tempfile::tempdir().unwrap();
+    let path = directory.path().join("cells.sp");
+    widthwise()
+        .arg("batch")
+        .arg(example("tern8-cells.toml"))
+        .args(["--format", "spice", "-o"])
+        .arg(&path)
+        .assert()
+        .success()
+        .stdout("");
+    let netlist = std::fs::read_to_string(&path).unwrap();
+    let subcircuits: Vec<&str> = netlist.lines().filter(|l| l.starts_with(".subckt ")).collect();
+    let expected = expected_variants(&std::fs::read_to_string(example("tern8-cells.toml")).unwrap());
+    assert_eq!(subcircuits.len(), expected.len());
+    for ((name, _), line) in expected.iter().zip(&subcircuits) {
+        assert!(line.starts_with(&format!(".subckt {name} ")), "{line}");
+        assert!(netlist.contains(&format!(".ends {name}\n")));
+    }
+    assert_eq!(std::fs::read_dir(directory.path()).unwrap().count(), 1, "no temporary file left behind");
+
+    // A broken library leaves the earlier output as it was.
+    widthwise().args(["batch", "-", "-o"]).arg(&path).write_stdin("[[gate]\n").assert().code(2);
+    assert_eq!(std::fs::read_to_string(&path).unwrap(), netlist);
+    assert_eq!(std::fs::read_dir(directory.path()).unwrap().count(), 1);
+}
+
+#[test]
+fn json_is_an_array_of_every_variant() {
+    let output =
+        widthwise().arg("batch").arg(fixture("batch-published.toml")).args(["--format", "json"]).output().unwrap();
+    assert!(output.status.success());
+    let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    let gates = json.as_array().unwrap();
+    assert_eq!(gates.len(), 16);
+    assert_eq!(gates[3]["name"], "nand2_x2");
+    assert_eq!(gates[3]["drive"], 2.0);
+    assert_eq!(gates[3]["transistors"].as_array().unwrap().len(), 4);
+}
+
+#[test]
+fn the_default_table_summarises_every_variant() {
+    let output = widthwise().arg("batch").arg(example("tern8-cells.toml")).output().unwrap();
+    assert!(output.status.success());
+    let table = String::from_utf8(output.stdout).unwrap();
+    let lines: Vec<&str> = table.lines().collect();
+    assert!(lines[0].ends_with("tern8-cells.toml: 12 of 12 gates sized, 25 variants"), "{}", lines[0]);
+    assert_eq!(lines[1], "process: tern-demo-250 (invented); mobility ratio 2.5");
+    let header = lines.iter().position(|l| l.trim_start().starts_with("gate ")).unwrap();
+    assert_eq!(lines.len() - header - 1, 25, "a row per variant");
+    assert!(lines[header + 1].trim_start().starts_with("inv_x1 "));
+}
+
+/// The ngspice executable, or `None` (said on stderr) where it is missing; with
+/// `WIDTHWISE_REQUIRE_NGSPICE=1` a missing ngspice fails the test instead.
+fn ngspice() -> Option<PathBuf> {
+    let found = std::env::var_os("PATH")
+        .and_then(|paths| std::env::split_paths(&paths).map(|dir| dir.join("ngspice")).find(|path| path.is_file()));
+    if found.is_none() {
+        assert!(std::env::var("WIDTHWISE_REQUIRE_NGSPICE").as_deref() != Ok("1"), "ngspice is required but missing");
+        eprintln!("skipped: ngspice is not installed (Debian package ngspice)");
+    }
+    found
+}
+
+#[test]
+fn the_spice_library_loads_in_ngspice_and_every_gate_inverts() {
+    let Some(ngspice) = ngspice() else { return };
+    let directory = tempfile::tempdir().unwrap();
+    let library = directory.path().join("tern8.sp");
+    widthwise()
+        .arg("batch")
+        .arg(example("tern8-cells.toml"))
+        .args(["--format", "spice", "-o"])
+        .arg(&library)
+        .assert()
+        .success();
+    let netlist = std::fs::read_to_string(&library).unwrap();
+    // Every subcircuit twice: all inputs low, then all high. A static inverting stage computes
+    // NOT f with f monotone and f(0...0) = 0, f(1...1) = 1, so its output is at the supply with
+    // every input low and at ground with every input high (common practice, no source). ngspice
+    // (Debian's package) reads the netlist and solves the operating point.
+    let mut deck = String::from("tern8 library check\n.include tern8.sp\n");
+    deck.push_str(".model tern_n nmos level=1 vto=0.5 kp=125u\n.model tern_p pmos level=1 vto=-0.5 kp=50u\n");
+    deck.push_str("vdd vdd 0 2.5\nvss vss 0 0\n");
+    let mut prints = String::new();
+    let subcircuits: Vec<&str> = netlist.lines().filter(|l| l.starts_with(".subckt ")).collect();
+    for (index, line) in subcircuits.iter().enumerate() {
+        let fields: Vec<&str> = line.split_whitespace().collect();
+        let inputs = fields.len() - 5; // .subckt NAME inputs... output vdd vss
+        for (level, rail) in [("low", "vss"), ("high", "vdd")] {
+            let pins = vec![rail; inputs].join(" ");
+            deck.push_str(&format!("x{level}{index} {pins} {level}{index} vdd vss {}\n", fields[1]));
+            prints.push_str(&format!("print v({level}{index})\n"));
+        }
+    }
+    deck.push_str(&format!(".control\nop\n{prints}quit\n.endc\n.end\n"));
+    std::fs::write(directory.path().join("deck.cir"), deck).unwrap();
+    let output =
+        std::process::Command::new(ngspice).current_dir(directory.path()).args(["-b", "deck.cir"]).output().unwrap();
+    let log = String::from_utf8_lossy(&output.stdout).to_string() + &String::from_utf8_lossy(&output.stderr);
+    // ngspice can exit 0 after a bad card, so its log is read too.
+    assert!(output.status.success() && !log.to_lowercase().contains("error"), "{log}");
+    let voltage = |node: &str| -> f64 {
+        let line =
+            log.lines().find(|l| l.starts_with(&format!("v({node}) = "))).unwrap_or_else(|| panic!("{node}: {log}"));
+        line.split(" = ").nth(1).unwrap().trim().parse().unwrap()
+    };
+    for (index, line) in subcircuits.iter().enumerate() {
+        assert!((voltage(&format!("low{index}")) - 2.5).abs() < 1e-6, "{line}: inputs low");
+        assert!(voltage(&format!("high{index}")).abs() < 1e-6, "{line}: inputs high");
+    }
+}
