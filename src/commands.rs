@@ -8,19 +8,25 @@ use std::io::{self, BufWriter, Read, Write};
 use std::path::Path;
 
 use crate::cli::{Cli, Command, GateArgs, OutputArgs};
+use crate::delay::{self, DelayOptions};
 use crate::error::Error;
 use crate::gate::{GateOptions, size_text};
-use crate::output::{self, Format};
+use crate::output::{self, Format, Rows};
 use crate::process::Process;
-use crate::sizing::SizingOptions;
+use crate::sizing::{Method, SizingOptions};
 
 /// Run a parsed command line.
 pub fn run(cli: Cli) -> Result<(), Error> {
     match cli.command {
-        Command::Size { expression, gate, output, rows } => {
+        Command::Size { expression, gate, delay, output, rows } => {
             let text = expression_text(&expression)?;
-            let sized = size_text(&text, &gate_options(&gate))?;
             let process = Process::default();
+            let options = gate_options(&gate);
+            let sized = if delay.wanted() || gate.method == Method::Elmore || rows == Rows::Delays {
+                delay::size_and_time(&text, &options, &delay.options(), Some(&process))?
+            } else {
+                size_text(&text, &options)?
+            };
             write_output(&output, |out| {
                 output::write_gates(std::slice::from_ref(&sized), output.format, rows, &process, out)
             })
@@ -30,7 +36,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
                 return Err(Error::Usage("paths are written as table, csv or json, not spice".into()));
             }
             let text = expression_text(&expression)?;
-            let sized = size_text(&text, &gate_options(&gate))?;
+            let sized = delay::size_gate(&text, &gate_options(&gate), &DelayOptions::default())?;
             let listings = sized.list_paths(limit);
             write_output(&output, |out| output::write_paths(&sized, &listings, output.format, out))
         }
@@ -43,6 +49,8 @@ pub fn gate_options(args: &GateArgs) -> GateOptions {
         sizing: SizingOptions::new(args.method, args.mobility_ratio, args.drive, args.reference),
         critical: args.critical.clone(),
         name: args.name.clone(),
+        stack_order: None,
+        fixed_widths: None,
     }
 }
 

@@ -22,12 +22,17 @@ pub struct GateOptions {
     pub critical: Option<String>,
     /// The cell name (defaults to the shorthand, or `cell`).
     pub name: Option<String>,
+    /// Series-stack order chosen by a later stage (the delay stage's order search, the elmore
+    /// method), pull-down first: used in place of [`Network::ordered`]. Same devices and structure.
+    pub stack_order: Option<[Network; 2]>,
+    /// W/L chosen by a later stage (the elmore method), pull-down then pull-up, by device: used as given.
+    pub fixed_widths: Option<[Vec<f64>; 2]>,
 }
 
 impl GateOptions {
     /// Options with the given sizing, no critical input and the default name.
     pub fn new(sizing: SizingOptions) -> GateOptions {
-        GateOptions { sizing, critical: None, name: None }
+        GateOptions { sizing, critical: None, name: None, stack_order: None, fixed_widths: None }
     }
 }
 
@@ -178,6 +183,9 @@ pub struct SizedGate {
     pub networks: Vec<NetworkFigures>,
     /// The other method's total.
     pub comparison: Comparison,
+    /// Delays, the logical-effort view and the three methods side by side, once the delay stage ran.
+    #[serde(flatten)]
+    pub timing: Option<crate::delay::Timing>,
     /// The gate function, for later stages.
     #[serde(skip)]
     pub function: GateFunction,
@@ -221,10 +229,31 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
     let count = function.literals.len();
     let input_of: Vec<usize> = function.literals.iter().map(|l| l.input).collect();
     let built = Network::pair(&function);
-    let widths = built.clone().map(|n| sizing::size(&n, count, sizing.method, &sizing));
+    let widths = match &options.fixed_widths {
+        Some(given) => {
+            if given.iter().any(|w| w.len() != count || w.iter().any(|x| !(x.is_finite() && *x > 0.0))) {
+                return Err(Error::Usage(format!("fixed widths must be {count} positive numbers per network")));
+            }
+            given.clone()
+        }
+        None if sizing.method == Method::Elmore => {
+            return Err(Error::Usage(
+                "the elmore method sets widths from delays and needs a load: size it through the delay stage".into(),
+            ));
+        }
+        None => built.clone().map(|n| sizing::size(&n, count, sizing.method, &sizing)),
+    };
     let other_total: f64 =
         built.iter().map(|n| sizing::size(n, count, sizing.method.other(), &sizing).iter().sum::<f64>()).sum();
-    let trees = [0, 1].map(|side| built[side].ordered(&widths[side], &input_of, critical));
+    let trees = match &options.stack_order {
+        Some(given) => {
+            if !(0..2).all(|side| built[side].same_up_to_order(&given[side])) {
+                return Err(Error::Usage("a stack order must hold the gate's own networks, reordered".into()));
+            }
+            given.clone()
+        }
+        None => [0, 1].map(|side| built[side].ordered(&widths[side], &input_of, critical)),
+    };
 
     let mut names: Vec<&str> = function.inputs.iter().map(String::as_str).collect();
     names.push(&function.output);
@@ -287,6 +316,7 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
             total_w_over_l: other_total,
             change_percent: (other_total / total - 1.0) * 100.0,
         },
+        timing: None,
         function,
         trees,
         widths,

@@ -11,6 +11,7 @@
 
 pub mod cli;
 pub mod commands;
+pub mod delay;
 pub mod error;
 pub mod expr;
 pub mod figures;

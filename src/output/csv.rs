@@ -145,6 +145,7 @@ pub fn write_gates(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut
                 }
             }
         }
+        Rows::Delays => super::delays::write_csv(gates, &mut writer)?,
     }
     writer.flush()
 }

@@ -1,6 +1,7 @@
 //! Writers: the same sized gates as a readable table, CSV, JSON or a SPICE netlist, to any `Write`.
 
 pub mod csv;
+pub mod delays;
 pub mod json;
 pub mod spice;
 pub mod table;
@@ -34,6 +35,8 @@ pub enum Rows {
     Devices,
     /// One row per gate input.
     Inputs,
+    /// One row per input and output edge: Elmore delays and the logical-effort view.
+    Delays,
 }
 
 /// Write sized gates in `format`.

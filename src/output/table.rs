@@ -124,7 +124,11 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
         vec!["transistors".to_string(), gate.transistor_count.to_string()],
         vec!["total W/L".to_string(), format!("{} ({change})", number(gate.total_w_over_l))],
     ];
-    write_columns(&rows, out)
+    write_columns(&rows, out)?;
+    if let Some(timing) = &gate.timing {
+        super::delays::write_table(timing, out)?;
+    }
+    Ok(())
 }
 
 /// Write the path listing of both networks.
