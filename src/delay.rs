@@ -33,6 +33,10 @@ use crate::sizing::{self, Method, SizingOptions};
 
 pub use order::{StackOrder, StackOrderReport};
 
+/// Most input occurrences (transistors per network) of a gate that is timed: the report is
+/// quadratic in it (every input's vector and nodes).
+pub const MAX_TIMED_OCCURRENCES: usize = 1000;
+
 /// An output edge.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
@@ -120,6 +124,14 @@ pub enum DelayError {
         supply_v: f64,
         /// NMOS threshold.
         threshold_v: f64,
+    },
+    /// A gate too large to time: every input's report lists its vector and nodes.
+    #[error("delays are worked out for gates of up to {limit} input occurrences per network; this one has {count}")]
+    TooLargeToTime {
+        /// Input occurrences (transistors per network).
+        count: usize,
+        /// The limit.
+        limit: usize,
     },
     /// A gate too large for the elmore method's dense Newton steps.
     #[error("the elmore method handles gates of up to {limit} transistors; this one has {count}")]
@@ -581,11 +593,22 @@ pub(crate) fn rc_network(
     (rc::RcNetwork { capacitance, resistors }, initial)
 }
 
-/// The output's Elmore delay of one conducting network, and whether it is a tree.
-pub(crate) fn elmore(circuit: &Circuit, shape: &Conducting, widths: &[f64], load: f64) -> Result<(f64, bool), String> {
-    let (network, initial) = rc_network(circuit, shape, widths, load);
-    let moments = rc::first_moments(&network, &initial).map_err(|e| e.to_string())?;
-    Ok((moments[0], rc::tree_moment(&network, &initial, 0).is_some()))
+/// The output's Elmore delay of one conducting network with `load` and with none, and whether the
+/// network is a tree. Both come from one elimination: `G m = C d` and `G r = e_output`, since the
+/// load adds `load x r[output]`.
+pub(crate) fn elmore(
+    circuit: &Circuit,
+    shape: &Conducting,
+    widths: &[f64],
+    load: f64,
+) -> Result<(f64, f64, bool), String> {
+    let (network, initial) = rc_network(circuit, shape, widths, 0.0);
+    let charge = network.capacitance.iter().zip(&initial).map(|(c, d)| c * d).collect();
+    let mut unit = vec![0.0; initial.len()];
+    unit[0] = 1.0;
+    let solved = rc::solve(&network, vec![charge, unit]).map_err(|e| e.to_string())?;
+    let (unloaded, drive) = (solved[0][0], solved[1][0]);
+    Ok((unloaded + load * drive, unloaded, rc::tree_moment(&network, &initial, 0).is_some()))
 }
 
 /// All widths of a gate, pull-down then pull-up, by circuit device.
@@ -669,8 +692,7 @@ fn measure(
 ) -> Result<Option<Measured>, String> {
     let measure_vector = |after: Vec<bool>, search| -> Result<Measured, String> {
         let shape = conducting(circuit, edge, input, &after)?;
-        let (loaded, tree) = elmore(circuit, &shape, widths, load)?;
-        let (unloaded, _) = elmore(circuit, &shape, widths, 0.0)?;
+        let (loaded, unloaded, tree) = elmore(circuit, &shape, widths, load)?;
         Ok(Measured { elmore: loaded, unloaded, tree, shape, after, search })
     };
     if let Some((_, vector)) = gate.worst_case_for_input(input, edge.network()) {
@@ -709,6 +731,10 @@ fn measure(
 /// comparison or order report: [`size_and_time`] adds those).
 pub fn analyse(gate: &SizedGate, options: &DelayOptions, process: Option<&Process>) -> Result<Timing, DelayError> {
     check_options(options)?;
+    let occurrences = gate.function.literals.len();
+    if occurrences > MAX_TIMED_OCCURRENCES {
+        return Err(DelayError::TooLargeToTime { count: occurrences, limit: MAX_TIMED_OCCURRENCES });
+    }
     let sizing = &gate.options;
     let units = process.map(ProcessUnits::of).transpose()?;
     let circuit = Circuit::new(gate, options.diffusion_ratio);
@@ -748,10 +774,11 @@ pub fn analyse(gate: &SizedGate, options: &DelayOptions, process: Option<&Proces
             let kind = edge.network();
             let mut path: Vec<usize> =
                 measured.shape.devices.iter().copied().filter(|&d| circuit.devices[d].kind == kind).collect();
-            path.sort_by_key(|&d| {
-                let node = circuit.devices[d].drain;
-                measured.shape.nodes.iter().position(|&n| n == node).unwrap_or(usize::MAX)
-            });
+            let mut position = vec![usize::MAX; circuit.names.len()];
+            for (index, &node) in measured.shape.nodes.iter().enumerate() {
+                position[node] = index;
+            }
+            path.sort_by_key(|&d| position[circuit.devices[d].drain]);
             let (mut internal_nodes, mut nodes_at_final_level) = (Vec::new(), Vec::new());
             for (&node, &at_final) in measured.shape.nodes.iter().zip(&measured.shape.at_final).skip(1) {
                 let name = circuit.names[node].clone();
@@ -850,36 +877,52 @@ pub fn size_and_time(
         }
     };
     let mut timing = analyse(&gate, delay, process)?;
-    timing.method_comparison = compare_methods(&function, options, delay, &gate)?;
+    timing.method_comparison = compare_methods(&function, options, delay, &gate, &timing)?;
     timing.stack_order = order_report;
     gate.timing = Some(timing);
     Ok(gate)
 }
 
-/// Longest-path, min-area and elmore on the stack order of `gate`, with their worst delay ratio.
+/// Longest-path, min-area and elmore on the stack order of `gate` (whose own timing is `timing`),
+/// with their worst delay ratio.
 pub fn compare_methods(
     function: &GateFunction,
     options: &GateOptions,
     delay: &DelayOptions,
     gate: &SizedGate,
+    timing: &Timing,
 ) -> Result<Vec<MethodDelay>, Error> {
     let mut rows = Vec::new();
+    // Widths already timed, so that equal sizings (NAND, NOR ...) are timed once.
+    let mut timed: Vec<([Vec<f64>; 2], Timing)> = Vec::new();
     for method in Method::ALL {
-        let mut own = options.clone();
-        own.sizing.method = method;
-        own.stack_order = Some(gate.trees.clone());
-        own.fixed_widths = None;
-        let sized = if method == gate.method { Ok(gate.clone()) } else { size_read_gate(function, &own, delay) };
+        let sized = if method == gate.method {
+            Ok(gate.clone())
+        } else {
+            let mut own = options.clone();
+            own.sizing.method = method;
+            own.stack_order = Some(gate.trees.clone());
+            own.fixed_widths = None;
+            size_read_gate(function, &own, delay)
+        };
         match sized {
             Ok(sized) => {
-                let timing = analyse(&sized, delay, None)?;
-                let worst = timing.worst_ratio(None);
+                let index = if sized.widths == gate.widths {
+                    None
+                } else if let Some(index) = timed.iter().position(|(w, _)| *w == sized.widths) {
+                    Some(index)
+                } else {
+                    timed.push((sized.widths.clone(), analyse(&sized, delay, None)?));
+                    Some(timed.len() - 1)
+                };
+                let own_timing = index.map_or(timing, |i| &timed[i].1);
+                let worst = own_timing.worst_ratio(None);
                 rows.push(MethodDelay {
                     method,
                     total_w_over_l: Some(sized.total_w_over_l),
                     worst_delay_ratio: worst.map(|d| d.delay_ratio),
                     worst_transition: worst.map(|d| format!("{} {}", d.input, d.edge.name())),
-                    meets_delay_bound: timing.delays.iter().all(|d| d.delay_ratio <= 1.0 + 1e-9),
+                    meets_delay_bound: own_timing.delays.iter().all(|d| d.delay_ratio <= 1.0 + 1e-9),
                     note: None,
                 });
             }

@@ -266,7 +266,7 @@ mod tests {
             }
             for transition in path_transitions(&gate, &circuit).unwrap() {
                 let posynomial = delay_posynomial(&circuit, &transition, 3.5).unwrap();
-                let (solved, _) = elmore(&circuit, &transition.shape, &widths, 3.5).unwrap();
+                let (solved, _, _) = elmore(&circuit, &transition.shape, &widths, 3.5).unwrap();
                 let value = posynomial.value(&widths);
                 assert!((value - solved).abs() < 1e-9 * solved, "{text}: {value} vs {solved}");
             }

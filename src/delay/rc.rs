@@ -11,7 +11,7 @@
 #![allow(clippy::needless_range_loop)]
 
 use std::cmp::Reverse;
-use std::collections::{BTreeMap, BinaryHeap};
+use std::collections::BinaryHeap;
 
 use thiserror::Error;
 
@@ -137,34 +137,50 @@ impl RcNetwork {
 struct Step {
     node: usize,
     pivot: f64,
-    right: f64,
     neighbours: Vec<(usize, f64)>,
 }
 
-/// First moments `m` with `G m = C d`: sparse elimination, the node of least degree first.
-///
-/// A series-parallel network (every static CMOS network is one) never has a node of degree above
-/// two left to eliminate without fill between its two neighbours only, so the work is linear in
-/// its size up to the heap's logarithm.
+/// Add `value` to the entry for `key` of a short adjacency list.
+fn add_entry(list: &mut Vec<(usize, f64)>, key: usize, value: f64) {
+    match list.iter_mut().find(|(k, _)| *k == key) {
+        Some(entry) => entry.1 += value,
+        None => list.push((key, value)),
+    }
+}
+
+/// First moments `m` with `G m = C d`: see [`solve`].
 pub fn first_moments(network: &RcNetwork, initial: &[f64]) -> Result<Vec<f64>, RcError> {
     network.check(initial)?;
+    let right = network.capacitance.iter().zip(initial).map(|(c, d)| c * d).collect();
+    Ok(solve(network, vec![right])?.remove(0))
+}
+
+/// Solve `G x = b` for each right-hand side `b`: sparse elimination, the node of least degree first.
+///
+/// A series-parallel network (every static CMOS network is one) always has a node of degree two or
+/// less, and eliminating it joins only its two neighbours, so the work is linear in its size up to
+/// the heap's logarithm.
+pub fn solve(network: &RcNetwork, mut rights: Vec<Vec<f64>>) -> Result<Vec<Vec<f64>>, RcError> {
     let count = network.capacitance.len();
+    network.check(&vec![0.0; count])?;
+    if let Some(bad) = rights.iter().find(|r| r.len() != count) {
+        return Err(RcError::WrongLength { given: bad.len(), count });
+    }
     let mut diagonal = vec![0.0; count];
-    let mut off: Vec<BTreeMap<usize, f64>> = vec![BTreeMap::new(); count];
+    let mut off: Vec<Vec<(usize, f64)>> = vec![Vec::new(); count];
     for resistor in &network.resistors {
         let conductance = 1.0 / resistor.resistance;
         match (resistor.from, resistor.to) {
             (End::Node(a), End::Node(b)) if a != b => {
                 diagonal[a] += conductance;
                 diagonal[b] += conductance;
-                *off[a].entry(b).or_insert(0.0) -= conductance;
-                *off[b].entry(a).or_insert(0.0) -= conductance;
+                add_entry(&mut off[a], b, -conductance);
+                add_entry(&mut off[b], a, -conductance);
             }
             (End::Node(a), End::Rail) | (End::Rail, End::Node(a)) => diagonal[a] += conductance,
             _ => {}
         }
     }
-    let mut right: Vec<f64> = network.capacitance.iter().zip(initial).map(|(c, d)| c * d).collect();
     let mut eliminated = vec![false; count];
     let mut heap: BinaryHeap<Reverse<(usize, usize)>> =
         (0..count).map(|node| Reverse((off[node].len(), node))).collect();
@@ -175,30 +191,33 @@ pub fn first_moments(network: &RcNetwork, initial: &[f64]) -> Result<Vec<f64>, R
         }
         eliminated[node] = true;
         let pivot = diagonal[node];
-        let neighbours: Vec<(usize, f64)> = std::mem::take(&mut off[node]).into_iter().collect();
+        let neighbours = std::mem::take(&mut off[node]);
         for &(other, _) in &neighbours {
-            off[other].remove(&node);
+            off[other].retain(|(k, _)| *k != node);
         }
         for (position, &(first, a_first)) in neighbours.iter().enumerate() {
             diagonal[first] -= a_first * a_first / pivot;
-            right[first] -= a_first * right[node] / pivot;
+            for right in &mut rights {
+                right[first] -= a_first * right[node] / pivot;
+            }
             for &(second, a_second) in &neighbours[position + 1..] {
                 let fill = a_first * a_second / pivot;
-                *off[first].entry(second).or_insert(0.0) -= fill;
-                *off[second].entry(first).or_insert(0.0) -= fill;
+                add_entry(&mut off[first], second, -fill);
+                add_entry(&mut off[second], first, -fill);
             }
         }
         for &(other, _) in &neighbours {
             heap.push(Reverse((off[other].len(), other)));
         }
-        steps.push(Step { node, pivot, right: right[node], neighbours });
+        steps.push(Step { node, pivot, neighbours });
     }
-    let mut moments = vec![0.0; count];
-    for step in steps.iter().rev() {
-        let coupled: f64 = step.neighbours.iter().map(|&(other, a)| a * moments[other]).sum();
-        moments[step.node] = (step.right - coupled) / step.pivot;
+    for right in &mut rights {
+        for step in steps.iter().rev() {
+            let coupled: f64 = step.neighbours.iter().map(|&(other, a)| a * right[other]).sum();
+            right[step.node] = (right[step.node] - coupled) / step.pivot;
+        }
     }
-    Ok(moments)
+    Ok(rights)
 }
 
 /// The first moment of `node` by the tree formula: the sum over nodes `k` of `C_k d_k` times the
@@ -254,13 +273,13 @@ pub fn tree_moment(network: &RcNetwork, initial: &[f64], node: usize) -> Option<
         walk = parent[walk];
     }
     on_path[rail] = true;
+    // Parents come before children in `order`: the shared resistance of a node off the path is its
+    // parent's, of a node on it its own depth.
+    let mut shared = vec![0.0; count + 1];
     let mut total = 0.0;
-    for k in 0..count {
-        let mut ancestor = k;
-        while !on_path[ancestor] {
-            ancestor = parent[ancestor];
-        }
-        total += network.capacitance[k] * initial[k] * depth[ancestor];
+    for &k in &order[1..] {
+        shared[k] = if on_path[k] { depth[k] } else { shared[parent[k]] };
+        total += network.capacitance[k] * initial[k] * shared[k];
     }
     Some(total)
 }
