@@ -1,8 +1,10 @@
 //! Geometric programs: minimise a posynomial subject to posynomials `<= 1` and a box on every
 //! variable. In log variables `y = ln x` each posynomial becomes a log-sum-exp of affine functions,
-//! which is convex, so a log-barrier interior-point method finds the global optimum: phase I finds
-//! a strictly feasible point (or shows there is none), phase II follows the central path with Newton
-//! steps, a dense Cholesky factorisation and a backtracking line search.
+//! which is convex, so an interior-point method finds the global optimum: phase I finds a strictly
+//! feasible point (or shows there is none) by minimising the largest constraint, phase II minimises
+//! the objective. Both are primal-dual (Boyd & Vandenberghe, "Convex Optimization", 2004, section
+//! 11.7): Newton steps on the perturbed KKT conditions, a dense Cholesky factorisation of the reduced
+//! system, and a backtracking line search on the residual that keeps every iterate strictly inside.
 
 // Dense linear algebra reads best with explicit indices.
 #![allow(clippy::needless_range_loop)]
@@ -78,6 +80,9 @@ pub enum SolveError {
     /// A Newton system that could not be factorised.
     #[error("the Newton system is singular")]
     Singular,
+    /// No convergence within the iteration limit.
+    #[error("no convergence within the iteration limit")]
+    Stalled,
 }
 
 /// A posynomial in log variables: terms `exp(b + a . y)`.
@@ -141,125 +146,203 @@ impl LogSum {
     }
 }
 
-/// What the barrier minimises: the objective (phase II) or the slack variable (phase I).
-struct Barrier<'a> {
+/// One phase of the interior-point method: minimise the objective (phase II) or the slack `s`
+/// (phase I, variable `n`, constraints read `F_i(y) - s <= 0`), with the box as linear constraints.
+struct Problem<'a> {
     objective: &'a LogSum,
     constraints: &'a [LogSum],
     lower: &'a [f64],
     upper: &'a [f64],
-    /// Phase I: variable `n` is the slack `s`, constraints read `F_i(y) - s <= 0`, minimise `s`.
     phase_one: bool,
     n: usize,
 }
 
-impl Barrier<'_> {
+/// How a phase ended.
+enum Finish {
+    /// Surrogate gap and dual residual below tolerance.
+    Converged,
+    /// The phase's own early stop (phase I: a point with margin was found).
+    Early,
+}
+
+impl Problem<'_> {
     fn size(&self) -> usize {
         self.n + usize::from(self.phase_one)
+    }
+
+    fn count(&self) -> usize {
+        self.constraints.len() + 2 * self.n
     }
 
     fn slack(&self, z: &[f64]) -> f64 {
         if self.phase_one { z[self.n] } else { 0.0 }
     }
 
-    /// The barrier value at `z`, or `None` outside the domain.
-    fn value(&self, z: &[f64], t: f64) -> Option<f64> {
-        let mut total = if self.phase_one { t * z[self.n] } else { t * self.objective.value(z) };
+    /// Every constraint value `G_i(z)` (posynomials, then `y - upper`, then `lower - y`); the
+    /// domain is where all are negative.
+    fn values(&self, z: &[f64]) -> Vec<f64> {
         let s = self.slack(z);
-        for c in self.constraints {
-            let g = c.value(z) - s;
-            if g.is_nan() || g >= 0.0 {
-                return None;
-            }
-            total -= (-g).ln();
-        }
-        for j in 0..self.n {
-            let (above, below) = (self.upper[j] - z[j], z[j] - self.lower[j]);
-            if !(above > 0.0 && below > 0.0) {
-                return None;
-            }
-            total -= above.ln() + below.ln();
-        }
-        Some(total)
+        let mut values: Vec<f64> = self.constraints.iter().map(|c| c.value(z) - s).collect();
+        values.extend((0..self.n).map(|j| z[j] - self.upper[j]));
+        values.extend((0..self.n).map(|j| self.lower[j] - z[j]));
+        values
     }
 
-    /// Gradient and Hessian at a point of the domain.
-    fn derivatives(&self, z: &[f64], t: f64) -> (Vec<f64>, Vec<f64>) {
+    fn inside(values: &[f64]) -> bool {
+        values.iter().all(|v| *v < 0.0)
+    }
+
+    /// Gradient of the objective, with the log-sum-exp's term weights in phase II.
+    fn objective_gradient(&self, z: &[f64]) -> (Vec<f64>, Vec<f64>) {
+        let size = self.size();
+        if self.phase_one {
+            let mut gradient = vec![0.0; size];
+            gradient[self.n] = 1.0;
+            (gradient, Vec::new())
+        } else {
+            let (_, gradient, weights) = self.objective.derivatives(z, size);
+            (gradient, weights)
+        }
+    }
+
+    /// Gradients and term weights of the posynomial constraints (with -1 on `s` in phase I).
+    fn constraint_gradients(&self, z: &[f64]) -> Vec<(Vec<f64>, Vec<f64>)> {
+        let size = self.size();
+        self.constraints
+            .iter()
+            .map(|c| {
+                let (_, mut gradient, weights) = c.derivatives(z, size);
+                if self.phase_one {
+                    gradient[self.n] = -1.0;
+                }
+                (gradient, weights)
+            })
+            .collect()
+    }
+
+    /// The residual `(grad f + sum lambda_i grad G_i, -lambda_i G_i - 1/t)` and its norm.
+    fn residual(&self, z: &[f64], lambda: &[f64], t: f64, values: &[f64]) -> (Vec<f64>, f64) {
+        let (mut dual, _) = self.objective_gradient(z);
+        for ((gradient, _), l) in self.constraint_gradients(z).iter().zip(lambda) {
+            for (d, g) in dual.iter_mut().zip(gradient) {
+                *d += l * g;
+            }
+        }
+        let m = self.constraints.len();
+        for j in 0..self.n {
+            dual[j] += lambda[m + j] - lambda[m + self.n + j];
+        }
+        let central: f64 = values.iter().zip(lambda).map(|(g, l)| (-l * g - 1.0 / t).powi(2)).sum();
+        let norm = (dual.iter().map(|d| d * d).sum::<f64>() + central).sqrt();
+        (dual, norm)
+    }
+
+    /// The primal-dual Newton direction at `t`.
+    fn direction(&self, z: &[f64], lambda: &[f64], t: f64, values: &[f64]) -> Result<(Vec<f64>, Vec<f64>), SolveError> {
         let size = self.size();
         let n = self.n;
-        let mut gradient = vec![0.0; size];
+        let m = self.constraints.len();
         let mut hessian = vec![0.0; size * size];
-        if self.phase_one {
-            gradient[n] += t;
-        } else {
-            let (_, g, w) = self.objective.derivatives(z, size);
-            for k in 0..size {
-                gradient[k] += t * g[k];
-            }
-            self.objective.add_hessian(&w, &g, t, 0.0, &mut hessian, size);
+        let (objective_gradient, objective_weights) = self.objective_gradient(z);
+        if !self.phase_one {
+            self.objective.add_hessian(&objective_weights, &objective_gradient, 1.0, 0.0, &mut hessian, size);
         }
-        let s = self.slack(z);
-        for c in self.constraints {
-            let (value, mut g, w) = c.derivatives(z, size);
-            let slack = s - value; // > 0
-            // d/dz of -ln(slack): grad F / slack (with -1 on s in phase I)
+        // Right-hand side: -(grad f + (1/t) sum grad G_i / (-G_i)).
+        let mut right: Vec<f64> = objective_gradient.iter().map(|g| -g).collect();
+        let gradients = self.constraint_gradients(z);
+        for (i, (c, (gradient, weights))) in self.constraints.iter().zip(&gradients).enumerate() {
+            let distance = -values[i];
+            let outer = lambda[i] / distance;
+            c.add_hessian(weights, gradient, lambda[i], outer, &mut hessian, size);
             if self.phase_one {
-                g[n] = -1.0;
-            }
-            for k in c.touched.iter().copied().chain(self.phase_one.then_some(n)) {
-                gradient[k] += g[k] / slack;
-            }
-            // Hessian: hess F / slack + g g^T / slack^2 (the s entry of g is -1, its Hessian part 0).
-            c.add_hessian(&w, &g, 1.0 / slack, 1.0 / (slack * slack), &mut hessian, size);
-            if self.phase_one {
-                let outer = 1.0 / (slack * slack);
-                for &i in &c.touched {
-                    hessian[i * size + n] += outer * g[i] * g[n];
-                    hessian[n * size + i] += outer * g[n] * g[i];
+                for &k in &c.touched {
+                    hessian[k * size + n] -= outer * gradient[k];
+                    hessian[n * size + k] -= outer * gradient[k];
                 }
                 hessian[n * size + n] += outer;
             }
+            for k in c.touched.iter().copied().chain(self.phase_one.then_some(n)) {
+                right[k] -= gradient[k] / (t * distance);
+            }
         }
         for j in 0..n {
-            let (above, below) = (self.upper[j] - z[j], z[j] - self.lower[j]);
-            gradient[j] += 1.0 / above - 1.0 / below;
-            hessian[j * size + j] += 1.0 / (above * above) + 1.0 / (below * below);
+            let (above, below) = (-values[m + j], -values[m + n + j]);
+            hessian[j * size + j] += lambda[m + j] / above + lambda[m + n + j] / below;
+            right[j] -= (1.0 / above - 1.0 / below) / t;
         }
-        (gradient, hessian)
+        let step = solve_spd(hessian, &right, size)?;
+        // d lambda_i = -lambda_i - 1 / (t G_i) - lambda_i (grad G_i . dz) / G_i
+        let mut dual_step = Vec::with_capacity(values.len());
+        for (i, (gradient, _)) in gradients.iter().enumerate() {
+            let along: f64 = gradient.iter().zip(&step).map(|(g, d)| g * d).sum();
+            dual_step.push(-lambda[i] - 1.0 / (t * values[i]) - lambda[i] * along / values[i]);
+        }
+        for j in 0..n {
+            for (offset, sign) in [(m, 1.0), (m + n, -1.0)] {
+                let i = offset + j;
+                dual_step.push(-lambda[i] - 1.0 / (t * values[i]) - lambda[i] * sign * step[j] / values[i]);
+            }
+        }
+        // The box duals were pushed interleaved (upper, lower per variable): put them in order.
+        let box_duals = dual_step.split_off(m);
+        dual_step.extend(box_duals.iter().step_by(2));
+        dual_step.extend(box_duals.iter().skip(1).step_by(2));
+        Ok((step, dual_step))
     }
 
-    /// Newton steps to the centre for this `t`.
-    fn center(&self, z: &mut [f64], t: f64) -> Result<(), SolveError> {
-        let size = self.size();
-        for _ in 0..200 {
-            let Some(here) = self.value(z, t) else {
-                return Err(SolveError::Bad("left the domain".into()));
-            };
-            let (gradient, hessian) = self.derivatives(z, t);
-            let negative: Vec<f64> = gradient.iter().map(|g| -g).collect();
-            let step = solve_spd(hessian, &negative, size)?;
-            let decrement: f64 = -gradient.iter().zip(&step).map(|(g, d)| g * d).sum::<f64>();
-            if decrement / 2.0 <= 1e-12 {
-                return Ok(());
+    /// Primal-dual interior-point iterations from a strictly feasible `z`.
+    fn run(&self, z: &mut [f64], early: impl Fn(&[f64]) -> bool) -> Result<Finish, SolveError> {
+        let values = self.values(z);
+        if !Self::inside(&values) {
+            return Err(SolveError::Bad("the start is not strictly feasible".into()));
+        }
+        let mut lambda: Vec<f64> = values.iter().map(|g| -1.0 / g).collect();
+        let count = self.count() as f64;
+        for _ in 0..ITERATIONS {
+            let values = self.values(z);
+            if early(z) {
+                return Ok(Finish::Early);
             }
-            let mut length = 1.0;
+            let gap: f64 = -values.iter().zip(&lambda).map(|(g, l)| g * l).sum::<f64>();
+            let t = GROWTH * count / gap;
+            let (dual, norm) = self.residual(z, &lambda, t, &values);
+            if gap <= GAP && dual.iter().map(|d| d * d).sum::<f64>().sqrt() <= DUAL_TOLERANCE {
+                return Ok(Finish::Converged);
+            }
+            let (step, dual_step) = self.direction(z, &lambda, t, &values)?;
+            let mut length: f64 = 1.0;
+            for (l, d) in lambda.iter().zip(&dual_step) {
+                if *d < 0.0 {
+                    length = length.min(-l / d);
+                }
+            }
+            length *= 0.99;
             let mut trial = z.to_vec();
+            let mut trial_lambda = lambda.clone();
             loop {
-                for k in 0..size {
+                for k in 0..z.len() {
                     trial[k] = z[k] + length * step[k];
                 }
-                if let Some(there) = self.value(&trial, t)
-                    && there <= here - 0.25 * length * decrement
-                {
-                    break;
+                for (i, l) in trial_lambda.iter_mut().enumerate() {
+                    *l = lambda[i] + length * dual_step[i];
+                }
+                let trial_values = self.values(&trial);
+                if Self::inside(&trial_values) && trial_values.iter().all(|v| v.is_finite()) {
+                    let (_, trial_norm) = self.residual(&trial, &trial_lambda, t, &trial_values);
+                    if trial_norm <= (1.0 - 0.01 * length) * norm {
+                        break;
+                    }
                 }
                 length *= 0.5;
-                if length < 1e-16 {
-                    return Ok(()); // no further progress at this precision
+                if length < 1e-14 {
+                    // No progress at this precision: as close as rounding allows.
+                    return Ok(Finish::Converged);
                 }
             }
             z.copy_from_slice(&trial);
+            lambda = trial_lambda;
         }
-        Ok(())
+        Err(SolveError::Stalled)
     }
 }
 
@@ -313,10 +396,14 @@ fn cholesky(a: &[f64], n: usize, shift: f64) -> Option<Vec<f64>> {
     Some(l)
 }
 
-/// Relative accuracy of the optimum: the barrier's duality gap on the log objective.
+/// Relative accuracy of the optimum: the surrogate duality gap on the log objective.
 const GAP: f64 = 1e-10;
-/// How fast `t` grows between centerings.
-const GROWTH: f64 = 20.0;
+/// Largest dual residual accepted at the optimum.
+const DUAL_TOLERANCE: f64 = 1e-8;
+/// How far each iteration aims along the central path (mu in t = mu m / gap).
+const GROWTH: f64 = 10.0;
+/// Most iterations per phase.
+const ITERATIONS: usize = 300;
 
 /// Solve a geometric program.
 pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
@@ -348,11 +435,10 @@ pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
             .map(|(i, c)| (i, c.value(y)))
             .fold((0, f64::NEG_INFINITY), |a, b| if b.1 > a.1 { b } else { a })
     };
-    let count = (constraints.len() + 2 * n) as f64;
 
     // Phase I: minimise s with F_i(y) <= s, until some y has every F_i clearly below 0.
-    if !constraints.is_empty() && worst(&y).1 >= -1e-7 {
-        let barrier = Barrier {
+    if !constraints.is_empty() && worst(&y).1 >= -MARGIN {
+        let phase = Problem {
             objective: &objective,
             constraints: &constraints,
             lower: &lower,
@@ -361,41 +447,29 @@ pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
             n,
         };
         let mut z = y.clone();
-        z.push(worst(&y).1 + 1.0);
-        let mut t = 1.0;
-        loop {
-            barrier.center(&mut z, t)?;
-            let (_, value) = worst(&z[..n]);
-            if value < -1e-4 {
-                break;
-            }
-            if count / t < GAP {
-                if value >= -1e-9 {
-                    let (index, value) = worst(&z[..n]);
-                    return Ok(Outcome::Infeasible { least_worst: value.exp(), worst_constraint: index });
-                }
-                break;
-            }
-            t *= GROWTH;
+        z.push(worst(&y).1.max(0.0) + 1.0);
+        let finish = phase.run(&mut z, |z| worst(&z[..n]).1 < -MARGIN)?;
+        let (index, value) = worst(&z[..n]);
+        if matches!(finish, Finish::Converged) && value >= -1e-9 {
+            return Ok(Outcome::Infeasible { least_worst: value.exp(), worst_constraint: index });
+        }
+        if value >= 0.0 {
+            return Err(SolveError::Stalled);
         }
         y = z[..n].to_vec();
     }
 
-    // Phase II: the central path.
-    let barrier =
-        Barrier { objective: &objective, constraints: &constraints, lower: &lower, upper: &upper, phase_one: false, n };
-    let mut t = 1.0;
-    loop {
-        barrier.center(&mut y, t)?;
-        if count / t < GAP {
-            break;
-        }
-        t *= GROWTH;
-    }
+    // Phase II.
+    let phase =
+        Problem { objective: &objective, constraints: &constraints, lower: &lower, upper: &upper, phase_one: false, n };
+    phase.run(&mut y, |_| false)?;
     let x: Vec<f64> = y.iter().map(|v| v.exp()).collect();
     let at_bound = (0..n).filter(|&j| y[j] - lower[j] < 1e-6 || upper[j] - y[j] < 1e-6).collect();
     Ok(Outcome::Optimal { objective: program.objective.value(&x), x, at_bound })
 }
+
+/// Phase I stops once every constraint is below 1 by this margin (in log terms).
+const MARGIN: f64 = 1e-3;
 
 #[cfg(test)]
 mod tests {

@@ -142,6 +142,13 @@ pub(crate) fn delay_posynomial(
     Ok(Posynomial { terms })
 }
 
+/// Whether `a >= b` everywhere because every term of `b` is in `a` with at least its coefficient.
+fn dominates(a: &Posynomial, b: &Posynomial) -> bool {
+    b.terms.iter().all(|term| {
+        a.terms.iter().any(|other| other.exponents == term.exponents && other.coefficient >= term.coefficient)
+    })
+}
+
 /// The elmore method's program for a gate whose structure (stack order) is that of `gate`.
 /// Also gives, per constraint, its input and edge.
 pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program, Vec<(usize, Edge)>), DelayError> {
@@ -167,8 +174,9 @@ pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program
         }
     }
     let transitions = path_transitions(gate, &circuit)?;
-    let mut constraints = Vec::with_capacity(transitions.len());
+    let mut constraints: Vec<Posynomial> = Vec::with_capacity(transitions.len());
     let mut labels = Vec::with_capacity(transitions.len());
+    let mut chains: Vec<(Edge, &[usize])> = Vec::with_capacity(transitions.len());
     for transition in &transitions {
         let load = load_for(delay.load, &copies, transition.input);
         let bound = reference_delay(&gate.options, delay.diffusion_ratio, transition.edge, load);
@@ -180,8 +188,31 @@ pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program
         for term in &mut posynomial.terms {
             term.coefficient /= bound;
         }
-        constraints.push(posynomial);
-        labels.push((transition.input, transition.edge));
+        // Of two transitions on one path, one whose every term another has, with at least its
+        // coefficient, never binds (typically: the input nearest the rail charges the most nodes).
+        let key = (transition.edge, transition.chain.as_slice());
+        let mut dominated = false;
+        let mut index = 0;
+        while index < constraints.len() {
+            if chains[index] == key {
+                if dominates(&constraints[index], &posynomial) {
+                    dominated = true;
+                    break;
+                }
+                if dominates(&posynomial, &constraints[index]) {
+                    constraints.swap_remove(index);
+                    labels.swap_remove(index);
+                    chains.swap_remove(index);
+                    continue;
+                }
+            }
+            index += 1;
+        }
+        if !dominated {
+            constraints.push(posynomial);
+            labels.push((transition.input, transition.edge));
+            chains.push(key);
+        }
     }
     let count = circuit.count;
     let mut longest = Vec::with_capacity(devices);
