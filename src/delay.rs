@@ -230,9 +230,10 @@ NMOS to discharge C from VDD to VDD/2 after a full step on its gate: t50 = C / (
 VDD)) with b = KP W/L and Vov = VDD - Vt (saturation to VDD - Vt, then linear; t50 = C VDD / (b Vov^2) when Vt >= VDD/2)";
 
 impl ProcessUnits {
-    /// R and C of `process`. The formula for t50 integrates the level-1 drain current (Kang & Leblebici,
-    /// "CMOS Digital Integrated Circuits", ch. 6, average-current-free derivation; from memory), so a
-    /// single RC stage's 50% delay, ln 2 x R C, is the level-1 one.
+    /// R and C of `process`. t50 integrates the level-1 drain current over the discharge, saturated
+    /// then linear (the same expression as the propagation delay in Kang & Leblebici, "CMOS Digital
+    /// Integrated Circuits", ch. 6; from memory), so a single RC stage's 50% delay, ln 2 x R C, is the
+    /// level-1 one.
     pub fn of(process: &Process) -> Result<ProcessUnits, DelayError> {
         let supply = process.supply_v;
         let threshold = process.nmos_threshold_v;

@@ -15,7 +15,8 @@ pub enum Method {
     /// Least total W/L with every path at most the target (exact closed form).
     MinArea,
     /// Least total W/L with every worst-case Elmore delay at most the reference inverter's driving the
-    /// same load: a geometric program, solved by the delay stage (`delay::size_gate`), which knows the load.
+    /// same load (a geometric program).
+    // Solved by the delay stage (`delay::size_gate`), which knows the load; `size` gives its start.
     Elmore,
 }
 

@@ -4,7 +4,8 @@
 //! meet the bound whatever the order, the order that needs the least total W/L is chosen instead.
 //!
 //! Every combination is tried when there are few; otherwise a local search moves one member of one
-//! stack at a time to every other position and keeps any move that helps, until none does.
+//! stack at a time to every other position and keeps any move that helps, until none does or the
+//! budget of evaluated orders is spent.
 
 use super::{DelayOptions, analyse, size_read_gate};
 use crate::error::Error;
@@ -48,6 +49,11 @@ const EXHAUSTIVE_LIMIT: usize = 720;
 const EXHAUSTIVE_LIMIT_ELMORE: usize = 24;
 /// Most rounds of the local search.
 const ROUNDS: usize = 10;
+/// Most orders evaluated in all (the elmore method: fewer, each is a program to solve).
+const BUDGET: usize = 2000;
+const BUDGET_ELMORE: usize = 200;
+/// Most input occurrences (transistors per network) of a gate whose orders are searched.
+pub const MAX_SEARCH_OCCURRENCES: usize = 64;
 
 /// The series stacks in pre-order: (network side, member count).
 fn stacks(node: &Node, side: usize, out: &mut Vec<(usize, usize)>) {
@@ -144,6 +150,13 @@ pub fn search(
     options: &GateOptions,
     delay: &DelayOptions,
 ) -> Result<(SizedGate, StackOrderReport), Error> {
+    let occurrences = function.literals.len();
+    if occurrences > MAX_SEARCH_OCCURRENCES {
+        return Err(Error::Usage(format!(
+            "the stack-order search handles gates of up to {MAX_SEARCH_OCCURRENCES} input occurrences; this one has \
+             {occurrences}"
+        )));
+    }
     // The default order is the one the gate gets without a search.
     let default_gate = size_read_gate(function, options, delay)?;
     let base = default_gate.trees.clone();
@@ -162,6 +175,7 @@ pub fn search(
         combinations = combinations.saturating_mul((1..=len).product::<usize>().max(1));
     }
     let exhaustive = combinations <= limit;
+    let budget = if elmore { BUDGET_ELMORE } else { BUDGET };
     let better = |value: f64, best: f64| value < best - 1e-12 * best.abs();
     if exhaustive {
         let mut orders = identity.clone();
@@ -182,7 +196,7 @@ pub fn search(
             }
         }
     } else {
-        for _ in 0..ROUNDS {
+        'rounds: for _ in 0..ROUNDS {
             let mut improved = false;
             for stack in 0..shape.len() {
                 let len = shape[stack].1;
@@ -190,6 +204,9 @@ pub fn search(
                     for to in 0..len {
                         if from == to {
                             continue;
+                        }
+                        if search.tried >= budget {
+                            break 'rounds;
                         }
                         let mut orders = best.2.clone();
                         let member = orders[stack].remove(from);
