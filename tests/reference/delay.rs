@@ -326,39 +326,48 @@ fn infeasibility_margin_agrees_with_scipy() {
 fn unit_resistance_gives_the_level1_half_swing_time() {
     // Reference tool: ngspice (Debian's package), run in batch mode on a level-1 (Shichman-Hodges)
     // unit NMOS, no body effect or channel-length modulation, discharging C from VDD after a fast
-    // step on its gate. R is defined so that ln 2 x R x C is that time to VDD/2.
+    // step on its gate. R is defined so that ln 2 x R x C is that time to VDD/2. Two processes: the
+    // built-in one (saturated, then linear) and a low-supply one whose threshold is above VDD/2
+    // (saturated all the way down to VDD/2).
     if !ngspice_available() {
         return;
     }
-    let process = Process::default();
-    let units = ProcessUnits::of(&process).unwrap();
-    let deck = format!(
-        "* unit NMOS discharging C\n\
-         .model nch nmos level=1 vto={vt} kp={kp}u gamma=0 lambda=0\n\
-         vg g 0 pulse(0 {vdd} 0 1f 1f 1 2)\n\
-         m1 d g 0 0 nch w={w}n l={l}n\n\
-         c1 d 0 {c}f\n\
-         .ic v(d)={vdd}\n\
-         .options reltol=1e-6\n\
-         .tran 0.001p {stop}p uic\n\
-         .meas tran tf when v(d)={half} fall=1\n\
-         .end\n",
-        vt = process.nmos_threshold_v,
-        kp = process.nmos_kp_ua_per_v2,
-        vdd = process.supply_v,
-        w = process.unit_width_nm,
-        l = process.length_nm,
-        c = units.unit_capacitance_ff,
-        stop = (units.rc_ps * 4.0).ceil(),
-        half = process.supply_v / 2.0,
-    );
-    let directory = tempfile::tempdir().unwrap();
-    let path = directory.path().join("unit.cir");
-    std::fs::write(&path, deck).unwrap();
-    let output = Command::new("ngspice").arg("-b").arg(&path).output().unwrap();
-    let text = String::from_utf8_lossy(&output.stdout);
-    let line = text.lines().find(|l| l.trim_start().starts_with("tf")).expect("ngspice measured tf");
-    let seconds: f64 = line.split('=').nth(1).unwrap().split_whitespace().next().unwrap().parse().unwrap();
-    let expected = std::f64::consts::LN_2 * units.rc_ps * 1e-12;
-    assert!((seconds / expected - 1.0).abs() < 1e-3, "ngspice {seconds}, ln 2 R C {expected}");
+    let low_supply =
+        Process { supply_v: 1.2, nmos_threshold_v: 0.7, unit_width_nm: 500.0, length_nm: 250.0, ..Process::default() };
+    for process in [Process::default(), low_supply] {
+        let units = ProcessUnits::of(&process).unwrap();
+        let deck = format!(
+            "* unit NMOS discharging C\n\
+             .model nch nmos level=1 vto={vt} kp={kp}u gamma=0 lambda=0\n\
+             vg g 0 pulse(0 {vdd} 0 1f 1f 1 2)\n\
+             m1 d g 0 0 nch w={w}n l={l}n\n\
+             c1 d 0 {c}f\n\
+             .ic v(d)={vdd}\n\
+             .options reltol=1e-6\n\
+             .tran 0.001p {stop}p uic\n\
+             .meas tran tf when v(d)={half} fall=1\n\
+             .end\n",
+            vt = process.nmos_threshold_v,
+            kp = process.nmos_kp_ua_per_v2,
+            vdd = process.supply_v,
+            w = process.unit_width_nm,
+            l = process.length_nm,
+            c = units.unit_capacitance_ff,
+            stop = (units.rc_ps * 4.0).ceil(),
+            half = process.supply_v / 2.0,
+        );
+        let directory = tempfile::tempdir().unwrap();
+        let path = directory.path().join("unit.cir");
+        std::fs::write(&path, deck).unwrap();
+        let output = Command::new("ngspice").arg("-b").arg(&path).output().unwrap();
+        let text = String::from_utf8_lossy(&output.stdout);
+        let line = text.lines().find(|l| l.trim_start().starts_with("tf")).expect("ngspice measured tf");
+        let seconds: f64 = line.split('=').nth(1).unwrap().split_whitespace().next().unwrap().parse().unwrap();
+        let expected = std::f64::consts::LN_2 * units.rc_ps * 1e-12;
+        assert!(
+            (seconds / expected - 1.0).abs() < 1e-3,
+            "{}: ngspice {seconds}, ln 2 R C {expected}",
+            process.supply_v
+        );
+    }
 }
