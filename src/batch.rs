@@ -297,6 +297,8 @@ pub fn gate_options(
         critical,
         name: Some(name),
         process: process.clone(),
+        stack_order: None,
+        fixed_widths: None,
     }
 }
 
@@ -792,6 +794,12 @@ pub fn write_batch(
 
 /// `widthwise batch`: read the library, refuse name clashes before any output, size and write.
 pub fn run(library_path: &Path, output_args: &OutputArgs, rows: Rows) -> Result<(), Error> {
+    if rows == Rows::Delays {
+        return Err(Error::Usage(
+            "a library has gates, devices and inputs views; delays are timed per gate with 'widthwise size --delays'"
+                .into(),
+        ));
+    }
     let source = Source::read(library_path)?;
     let library = Library::read(&source)?;
     let clashes = library.name_clashes();

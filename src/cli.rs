@@ -5,6 +5,7 @@ use std::path::PathBuf;
 
 use clap::{Args, Parser, Subcommand};
 
+use crate::delay::{DelayOptions, Load, StackOrder};
 use crate::output::{Format, Rows};
 use crate::paths::MAX_LISTED_PATHS;
 use crate::sizing::{Method, Reference};
@@ -55,10 +56,14 @@ pub enum Command {
         /// How the gate is sized.
         #[command(flatten)]
         gate: GateArgs,
+        /// Delays and the stack-order search.
+        #[command(flatten)]
+        delay: DelayArgs,
         /// Where and how to write.
         #[command(flatten)]
         output: OutputArgs,
-        /// CSV rows: one per gate, per transistor (with its input's and gate's figures) or per input.
+        /// CSV rows: one per gate, per transistor (with its input's and gate's figures), per input, or
+        /// per input and output edge (delays).
         #[arg(long, value_enum, default_value_t = Rows::Devices)]
         rows: Rows,
     },
@@ -154,7 +159,8 @@ pub struct DeckArgs {
 #[derive(Debug, Clone, Args)]
 pub struct GateArgs {
     /// Sizing method: longest-path (each device: reference W/L x devices on the longest path through
-    /// it) or min-area (least total W/L with every path at the target).
+    /// it), min-area (least total W/L with every path at the target) or elmore (least total W/L with
+    /// every worst-case Elmore delay at most the reference inverter's driving the same load).
     #[arg(long, value_enum, default_value_t = Method::LongestPath)]
     pub method: Method,
     /// Mobility ratio mu_n / mu_p (real processes run about 2 to 3) [default: the process's, 2 for
@@ -180,6 +186,55 @@ pub struct GateArgs {
     pub process: Option<PathBuf>,
 }
 
+/// Options for Elmore delays: the load, the diffusion capacitance, the stack-order search.
+#[derive(Debug, Clone, Args)]
+pub struct DelayArgs {
+    /// Report the Elmore delay of every input on both output edges, with the logical-effort view and
+    /// the three methods side by side (implied by every option below and by --method elmore).
+    #[arg(long)]
+    pub delays: bool,
+    /// Load: H copies of the gate (as longest-path sizing makes it), each loading the output with the
+    /// timed input's capacitance [default: 1].
+    #[arg(long, value_name = "H", value_parser = non_negative_number, conflicts_with = "load")]
+    pub fanout: Option<f64>,
+    /// Load: a fixed capacitance in units of C, the gate capacitance of a unit transistor.
+    #[arg(long, value_name = "C", value_parser = non_negative_number)]
+    pub load: Option<f64>,
+    /// Diffusion capacitance of one source or drain per unit W/L, over the gate capacitance per unit
+    /// W/L [default: 1].
+    #[arg(long, value_name = "RATIO", value_parser = non_negative_number)]
+    pub diffusion_ratio: Option<f64>,
+    /// Series-stack order: default, or search (the order with the least worst Elmore delay, or least
+    /// worst delay of --critical's input; with --method elmore the least total W/L).
+    #[arg(long, value_enum, value_name = "ORDER")]
+    pub stack_order: Option<StackOrder>,
+}
+
+impl DelayArgs {
+    /// Whether any delay option was given.
+    pub fn wanted(&self) -> bool {
+        self.delays
+            || self.fanout.is_some()
+            || self.load.is_some()
+            || self.diffusion_ratio.is_some()
+            || self.stack_order.is_some()
+    }
+
+    /// The delay options these arguments give.
+    pub fn options(&self) -> DelayOptions {
+        let defaults = DelayOptions::default();
+        DelayOptions {
+            load: match (self.load, self.fanout) {
+                (Some(c), _) => Load::Capacitance(c),
+                (None, Some(h)) => Load::Fanout(h),
+                (None, None) => defaults.load,
+            },
+            diffusion_ratio: self.diffusion_ratio.unwrap_or(defaults.diffusion_ratio),
+            stack_order: self.stack_order.unwrap_or(defaults.stack_order),
+        }
+    }
+}
+
 /// Options that say where and how output is written.
 #[derive(Debug, Clone, Args)]
 pub struct OutputArgs {
@@ -196,6 +251,15 @@ pub fn positive_number(text: &str) -> Result<f64, String> {
     let value: f64 = text.trim().parse().map_err(|_| format!("'{text}' is not a number"))?;
     if !value.is_finite() || value <= 0.0 {
         return Err(format!("must be a positive finite number, found '{text}'"));
+    }
+    Ok(value)
+}
+
+/// A finite number, zero or more.
+pub fn non_negative_number(text: &str) -> Result<f64, String> {
+    let value: f64 = text.trim().parse().map_err(|_| format!("'{text}' is not a number"))?;
+    if !value.is_finite() || value < 0.0 {
+        return Err(format!("must be a finite number, zero or more, found '{text}'"));
     }
     Ok(value)
 }

@@ -8,20 +8,25 @@ use std::io::{self, BufWriter, Read, Write};
 use std::path::Path;
 
 use crate::cli::{Cli, Command, DeckArgs, GateArgs, OutputArgs};
+use crate::delay::{self, DelayOptions};
 use crate::error::Error;
 use crate::gate::{GateOptions, size_text};
 use crate::output::deck::{DeckOptions, Models};
-use crate::output::{self, Format};
+use crate::output::{self, Format, Rows};
 use crate::process::Process;
-use crate::sizing::SizingOptions;
+use crate::sizing::{Method, SizingOptions};
 
 /// Run a parsed command line.
 pub fn run(cli: Cli) -> Result<(), Error> {
     match cli.command {
-        Command::Size { expression, gate, output, rows } => {
+        Command::Size { expression, gate, delay, output, rows } => {
             let options = gate_options(&gate)?;
             let text = expression_text(&expression)?;
-            let sized = size_text(&text, &options)?;
+            let sized = if delay.wanted() || gate.method == Method::Elmore || rows == Rows::Delays {
+                delay::size_and_time(&text, &options, &delay.options(), Some(&options.process))?
+            } else {
+                size_text(&text, &options)?
+            };
             write_output(&output, |out| {
                 output::write_gates(std::slice::from_ref(&sized), output.format, rows, &options.process, out)
             })
@@ -32,7 +37,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             }
             let options = gate_options(&gate)?;
             let text = expression_text(&expression)?;
-            let sized = size_text(&text, &options)?;
+            let sized = delay::size_gate(&text, &options, &DelayOptions::default())?;
             let listings = sized.list_paths(limit);
             write_output(&output, |out| output::write_paths(&sized, &listings, output.format, out))
         }
@@ -41,7 +46,8 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             // Every input is checked before anything is written.
             let deck = deck_options(&deck, &options.process)?;
             let text = expression_text(&expression)?;
-            let sized = size_text(&text, &options)?;
+            // The elmore method sizes at the default load (fan-out 1), as `paths` does.
+            let sized = delay::size_gate(&text, &options, &DelayOptions::default())?;
             let target = OutputArgs { format: Format::Spice, output };
             write_output(&target, |out| output::deck::write_deck(&sized, &deck, out))
         }
@@ -66,6 +72,8 @@ pub fn gate_options(args: &GateArgs) -> Result<GateOptions, Error> {
         critical: args.critical.clone(),
         name: args.name.clone(),
         process,
+        stack_order: None,
+        fixed_widths: None,
     })
 }
 

@@ -25,12 +25,24 @@ pub struct GateOptions {
     pub name: Option<String>,
     /// The process that turns relative sizes into drawn widths (snapping, fingers).
     pub process: Process,
+    /// Series-stack order chosen by a later stage (the delay stage's order search, the elmore
+    /// method), pull-down first: used in place of [`Network::ordered`]. Same devices and structure.
+    pub stack_order: Option<[Network; 2]>,
+    /// W/L chosen by a later stage (the elmore method), pull-down then pull-up, by device: used as given.
+    pub fixed_widths: Option<[Vec<f64>; 2]>,
 }
 
 impl GateOptions {
     /// Options with the given sizing, no critical input, the default name and the built-in process.
     pub fn new(sizing: SizingOptions) -> GateOptions {
-        GateOptions { sizing, critical: None, name: None, process: Process::default() }
+        GateOptions {
+            sizing,
+            critical: None,
+            name: None,
+            process: Process::default(),
+            stack_order: None,
+            fixed_widths: None,
+        }
     }
 }
 
@@ -201,6 +213,9 @@ pub struct SizedGate {
     pub total_drawn_width_um: f64,
     /// The process the drawn sizes come from.
     pub process: Process,
+    /// Delays, the logical-effort view and the three methods side by side, once the delay stage ran.
+    #[serde(flatten)]
+    pub timing: Option<crate::delay::Timing>,
     /// The gate function, for later stages.
     #[serde(skip)]
     pub function: GateFunction,
@@ -247,10 +262,31 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
     let count = function.literals.len();
     let input_of: Vec<usize> = function.literals.iter().map(|l| l.input).collect();
     let built = Network::pair(&function);
-    let widths = built.clone().map(|n| sizing::size(&n, count, sizing.method, &sizing));
+    let widths = match &options.fixed_widths {
+        Some(given) => {
+            if given.iter().any(|w| w.len() != count || w.iter().any(|x| !(x.is_finite() && *x > 0.0))) {
+                return Err(Error::Usage(format!("fixed widths must be {count} positive numbers per network")));
+            }
+            given.clone()
+        }
+        None if sizing.method == Method::Elmore => {
+            return Err(Error::Usage(
+                "the elmore method sets widths from delays and needs a load: size it through the delay stage".into(),
+            ));
+        }
+        None => built.clone().map(|n| sizing::size(&n, count, sizing.method, &sizing)),
+    };
     let other_total: f64 =
         built.iter().map(|n| sizing::size(n, count, sizing.method.other(), &sizing).iter().sum::<f64>()).sum();
-    let trees = [0, 1].map(|side| built[side].ordered(&widths[side], &input_of, critical));
+    let trees = match &options.stack_order {
+        Some(given) => {
+            if !(0..2).all(|side| built[side].same_up_to_order(&given[side])) {
+                return Err(Error::Usage("a stack order must hold the gate's own networks, reordered".into()));
+            }
+            given.clone()
+        }
+        None => [0, 1].map(|side| built[side].ordered(&widths[side], &input_of, critical)),
+    };
     let process = &options.process;
     let drawn: [Vec<Drawn>; 2] = [0, 1].map(|side| widths[side].iter().map(|&w| process.draw(w)).collect());
     let drawn_widths =
@@ -327,6 +363,7 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
         },
         total_drawn_width_um,
         process: process.clone(),
+        timing: None,
         function,
         trees,
         widths,

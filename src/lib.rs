@@ -12,6 +12,7 @@
 pub mod batch;
 pub mod cli;
 pub mod commands;
+pub mod delay;
 pub mod error;
 pub mod expr;
 pub mod figures;

@@ -183,6 +183,22 @@ impl Network {
         out
     }
 
+    /// Whether `other` is this network with series and parallel members in some other order.
+    pub fn same_up_to_order(&self, other: &Network) -> bool {
+        fn canonical(node: &Node) -> String {
+            match node {
+                Node::Device(index) => index.to_string(),
+                Node::Series(members) | Node::Parallel(members) => {
+                    let mut parts: Vec<String> = members.iter().map(canonical).collect();
+                    parts.sort();
+                    let kind = if matches!(node, Node::Series(_)) { 'S' } else { 'P' };
+                    format!("{kind}({})", parts.join(" "))
+                }
+            }
+        }
+        self.kind == other.kind && canonical(&self.root) == canonical(&other.root)
+    }
+
     /// Whether the network conducts, given which devices are on.
     pub fn conducts(&self, on: &[bool]) -> bool {
         fn walk(node: &Node, on: &[bool]) -> bool {

@@ -189,6 +189,7 @@ fn gates_view(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut dyn 
                 }
             }
         }
+        Rows::Delays => super::delays::write_csv(gates, &mut writer)?,
     }
     writer.flush()?;
     Ok(())

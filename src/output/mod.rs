@@ -2,6 +2,7 @@
 
 pub mod csv;
 pub mod deck;
+pub mod delays;
 pub mod json;
 pub mod spice;
 pub mod summary;
@@ -36,6 +37,8 @@ pub enum Rows {
     Devices,
     /// One row per gate input.
     Inputs,
+    /// One row per input and output edge: Elmore delays and the logical-effort view.
+    Delays,
 }
 
 /// Write sized gates in `format`.

@@ -38,6 +38,8 @@ pub fn columns(rows: Rows) -> &'static [&'static str] {
         Rows::Gates => &GATE_SUMMARY_COLUMNS,
         Rows::Devices => &DEVICE_SUMMARY_COLUMNS,
         Rows::Inputs => &INPUT_SUMMARY_COLUMNS,
+        // Delays are a view of `size --delays`; the batch refuses it before sizing anything.
+        Rows::Delays => &[],
     }
 }
 
@@ -81,6 +83,7 @@ impl SummaryTable {
     pub fn add(&mut self, gates: &[SizedGate]) {
         for gate in gates {
             match self.rows {
+                Rows::Delays => {}
                 Rows::Gates => {
                     let efforts: Vec<String> = gate.inputs.iter().map(|i| number(i.logical_effort)).collect();
                     self.push([
@@ -143,6 +146,7 @@ impl SummaryTable {
                  parasitic delay and logical effort (per input, in input order) against the reference inverter"
             }
             Rows::Devices => "units: W/L relative to the unit NMOS, width in um",
+            Rows::Delays => "",
             Rows::Inputs => {
                 "units: input capacitance in unit-NMOS gate capacitances; logical effort against the reference \
                  inverter"

@@ -148,7 +148,11 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
         vec!["transistors".to_string(), gate.transistor_count.to_string()],
         vec!["total W/L".to_string(), format!("{} ({change})", number(gate.total_w_over_l))],
     ];
-    write_columns(&rows, out)
+    write_columns(&rows, out)?;
+    if let Some(timing) = &gate.timing {
+        super::delays::write_table(timing, out)?;
+    }
+    Ok(())
 }
 
 /// A signed percentage to two decimals: `-0.11%`, `0%`.

@@ -3,6 +3,7 @@
 
 mod batch;
 mod deck;
+mod delay;
 mod paths;
 mod process;
 mod size;

@@ -3,6 +3,7 @@
 //! check names its source beside it.
 
 mod deck_simulation;
+mod delay;
 mod published;
 mod scipy;
 mod support;

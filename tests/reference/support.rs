@@ -29,6 +29,23 @@ pub fn ngspice_available(check: &str) -> bool {
     runs
 }
 
+/// The environment variable that turns a missing scipy into a failure.
+pub const REQUIRE_SCIPY: &str = "WIDTHWISE_REQUIRE_SCIPY";
+
+/// Whether python3 can import scipy and numpy here. If not: a note on stderr naming `check` and
+/// `false`, or a panic when `WIDTHWISE_REQUIRE_SCIPY=1`.
+pub fn scipy_available(check: &str) -> bool {
+    let imports =
+        Command::new("python3").args(["-c", "import scipy, numpy"]).output().is_ok_and(|o| o.status.success());
+    if !imports {
+        if std::env::var(REQUIRE_SCIPY).is_ok_and(|v| v == "1") {
+            panic!("{check}: python3 cannot import scipy and {REQUIRE_SCIPY}=1 (pip install scipy)");
+        }
+        note(&format!("{check}: skipped, python3 cannot import scipy (pip install scipy)"));
+    }
+    imports
+}
+
 /// A line on stderr that the test harness does not capture, so that it shows in every run.
 pub fn note(line: &str) {
     use std::io::Write;

@@ -1,0 +1,942 @@
+//! Delay: the Elmore delay of every input's worst-case transition on both output edges, with the
+//! gate's own diffusion capacitance, a logical-effort view beside it, a stack-order search and the
+//! third sizing method (least area with every delay at most the reference inverter's).
+//!
+//! Units: delays in RC, where R is the on-resistance of the unit NMOS (W/L = 1) and C the gate
+//! capacitance of a unit transistor; every diffusion terminal adds `diffusion_ratio x C` per unit
+//! W/L, and a diffusion shared by two series devices (an internal node joining exactly two devices)
+//! counts once, half of each device's W/L. A process turns RC into picoseconds.
+//!
+//! A transition is an input vector (from [`SizedGate::worst_case_for_input`]) with the timed input
+//! switching to the level that turns its devices in the timed network on. The conducting network is
+//! every device on under the new vector and every node it connects to the output (internal nodes of
+//! either network, never through a rail). A node counts with its charge when it starts at the
+//! output's old level: connected to the output or to the old rail before the switch, or floating
+//! (assumed charged, the worst case); a node already tied to the new rail before the switch starts at
+//! its final level and adds nothing to the output's first moment. The first moment comes from
+//! `G m = C d` ([`rc::first_moments`]), so parallel branches are solved, not approximated.
+
+pub mod geometric;
+pub mod order;
+pub mod program;
+pub mod rc;
+
+use thiserror::Error;
+
+use crate::error::Error;
+use crate::expr::{GateFunction, read_gate};
+use crate::gate::{GateOptions, SizedGate, Vector, device_name, size_function};
+use crate::network::{Network, NetworkKind};
+use crate::paths::EXACT_WORST_MAX_INPUTS;
+use crate::process::Process;
+use crate::sizing::{self, Method, SizingOptions};
+
+pub use order::{StackOrder, StackOrderReport};
+
+/// Most input occurrences (transistors per network) of a gate that is timed: the report is
+/// quadratic in it (every input's vector and nodes).
+pub const MAX_TIMED_OCCURRENCES: usize = 1000;
+
+/// An output edge.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Edge {
+    /// The output falls: the pull-down conducts.
+    Fall,
+    /// The output rises: the pull-up conducts.
+    Rise,
+}
+
+impl Edge {
+    /// Both edges, fall first (pull-down first, like the networks).
+    pub const BOTH: [Edge; 2] = [Edge::Fall, Edge::Rise];
+
+    /// `"fall"` or `"rise"`.
+    pub fn name(self) -> &'static str {
+        match self {
+            Edge::Fall => "fall",
+            Edge::Rise => "rise",
+        }
+    }
+
+    /// The network that pulls the output to the new level.
+    pub fn network(self) -> NetworkKind {
+        match self {
+            Edge::Fall => NetworkKind::PullDown,
+            Edge::Rise => NetworkKind::PullUp,
+        }
+    }
+
+    fn side(self) -> usize {
+        usize::from(self == Edge::Rise)
+    }
+}
+
+/// The load on the output.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Load {
+    /// H copies of the gate, each loading the output with the timed input's capacitance. The copies
+    /// are the gate as the longest-path rule sizes it at this drive, so the load does not change with
+    /// the method or the stack order of the gate being timed.
+    Fanout(f64),
+    /// A fixed capacitance, in units of C.
+    Capacitance(f64),
+}
+
+/// How delays are worked out.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct DelayOptions {
+    /// The load on the output.
+    pub load: Load,
+    /// Diffusion capacitance per unit W/L of one terminal, over the gate capacitance per unit W/L.
+    pub diffusion_ratio: f64,
+    /// Which series-stack order to time: the default one or the one the search finds.
+    pub stack_order: StackOrder,
+}
+
+impl Default for DelayOptions {
+    /// Fan-out 1, diffusion ratio 1 (as in the published worked examples), the default order.
+    fn default() -> DelayOptions {
+        DelayOptions { load: Load::Fanout(1.0), diffusion_ratio: 1.0, stack_order: StackOrder::Default }
+    }
+}
+
+/// Why delays or the elmore method could not be worked out.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum DelayError {
+    /// An option out of range.
+    #[error("{what} must be {rule}, found '{value}'")]
+    Option {
+        /// Which option.
+        what: &'static str,
+        /// What it must be.
+        rule: &'static str,
+        /// The value.
+        value: f64,
+    },
+    /// A process whose values give no unit resistance.
+    #[error(
+        "the process gives no unit resistance: supply {supply_v} V must exceed the NMOS threshold {threshold_v} V, \
+         and KP, unit width and length must be positive"
+    )]
+    Process {
+        /// Supply.
+        supply_v: f64,
+        /// NMOS threshold.
+        threshold_v: f64,
+    },
+    /// A gate too large to time: every input's report lists its vector and nodes.
+    #[error("delays are worked out for gates of up to {limit} input occurrences per network; this one has {count}")]
+    TooLargeToTime {
+        /// Input occurrences (transistors per network).
+        count: usize,
+        /// The limit.
+        limit: usize,
+    },
+    /// A gate too large for the elmore method's dense Newton steps.
+    #[error("the elmore method handles gates of up to {limit} transistors; this one has {count}")]
+    TooLarge {
+        /// Transistors in the gate.
+        count: usize,
+        /// The limit.
+        limit: usize,
+    },
+    /// More paths than the elmore method lists as constraints.
+    #[error("the elmore method lists every conducting path as a constraint; the {network} has {count}, above {limit}")]
+    TooManyPaths {
+        /// Which network.
+        network: &'static str,
+        /// How many.
+        count: String,
+        /// The limit.
+        limit: usize,
+    },
+    /// An input whose worst case needs more than one path on at once (repeated inputs).
+    #[error(
+        "the elmore method needs every input to switch the output through one path alone; input '{input}' \
+         ({edge}) cannot (repeated inputs): factor the expression"
+    )]
+    NoSinglePath {
+        /// The input.
+        input: String,
+        /// The edge.
+        edge: &'static str,
+    },
+    /// No widths meet every delay bound.
+    #[error(
+        "no widths make every Elmore delay at most the reference inverter's: the best is {ratio:.4} times it \
+         (input '{input}', {edge}); a larger load or less diffusion capacitance makes it feasible"
+    )]
+    Infeasible {
+        /// Least achievable worst ratio of delay to bound.
+        ratio: f64,
+        /// The input of the transition that keeps it above 1.
+        input: String,
+        /// Its edge.
+        edge: &'static str,
+    },
+    /// Meeting the bounds needs widths beyond the search box.
+    #[error("meeting every Elmore delay bound needs widths beyond {factor} times the longest-path widths")]
+    Unbounded {
+        /// The box, as a factor on the longest-path widths.
+        factor: f64,
+    },
+    /// The conducting network of a transition could not be solved (an internal inconsistency).
+    #[error("transition of input '{input}' ({edge}): {why}")]
+    Network {
+        /// The input.
+        input: String,
+        /// The edge.
+        edge: &'static str,
+        /// What went wrong.
+        why: String,
+    },
+    /// The geometric program's solver stopped without converging.
+    #[error("the elmore method's solver did not converge: {0}")]
+    Solver(String),
+}
+
+impl DelayError {
+    /// Infeasible bounds are a failed check (exit 1); everything else is bad input (exit 2).
+    pub fn is_check_failure(&self) -> bool {
+        matches!(self, DelayError::Infeasible { .. } | DelayError::Unbounded { .. })
+    }
+}
+
+impl From<DelayError> for Error {
+    fn from(error: DelayError) -> Error {
+        if error.is_check_failure() { Error::CheckFailed(error.to_string()) } else { Error::Usage(error.to_string()) }
+    }
+}
+
+/// The process values that turn RC into picoseconds.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ProcessUnits {
+    /// The process's label.
+    pub process: String,
+    /// R: effective on-resistance of the unit NMOS, ohm.
+    pub unit_resistance_ohm: f64,
+    /// C: gate capacitance of the unit transistor (gate capacitance per um x unit width), fF.
+    pub unit_capacitance_ff: f64,
+    /// R x C, ps.
+    pub rc_ps: f64,
+    /// How R is defined.
+    pub resistance_formula: &'static str,
+}
+
+/// How R is defined, as reported.
+pub const RESISTANCE_FORMULA: &str = "R = t50 / (C ln 2), where t50 is the level-1 (Shichman-Hodges) time for the unit \
+NMOS to discharge C from VDD to VDD/2 after a full step on its gate: t50 = C / (b Vov) (2 Vt / Vov + ln((4 Vov - VDD) / \
+VDD)) with b = KP W/L and Vov = VDD - Vt (saturation to VDD - Vt, then linear; t50 = C VDD / (b Vov^2) when Vt >= VDD/2)";
+
+impl ProcessUnits {
+    /// R and C of `process`. t50 integrates the level-1 drain current over the discharge, saturated
+    /// then linear (the same expression as the propagation delay in Kang & Leblebici, "CMOS Digital
+    /// Integrated Circuits", ch. 6; from memory), so a single RC stage's 50% delay, ln 2 x R C, is the
+    /// level-1 one.
+    pub fn of(process: &Process) -> Result<ProcessUnits, DelayError> {
+        let supply = process.supply_v;
+        let threshold = process.nmos_threshold_v;
+        let overdrive = supply - threshold;
+        let aspect = process.unit_width_nm / process.length_nm;
+        let beta = process.nmos_kp_ua_per_v2 * 1e-6 * aspect;
+        if !(overdrive > 0.0 && beta > 0.0 && beta.is_finite() && threshold >= 0.0) {
+            return Err(DelayError::Process { supply_v: supply, threshold_v: threshold });
+        }
+        // t50 / C, seconds per farad.
+        let per_capacitance = if threshold < supply / 2.0 {
+            (2.0 * threshold / overdrive + ((4.0 * overdrive - supply) / supply).ln()) / (beta * overdrive)
+        } else {
+            supply / (beta * overdrive * overdrive)
+        };
+        let unit_resistance_ohm = per_capacitance / std::f64::consts::LN_2;
+        let unit_capacitance_ff = process.gate_cap_ff_per_um * process.unit_width_nm / 1000.0;
+        Ok(ProcessUnits {
+            process: process.name.clone(),
+            unit_resistance_ohm,
+            unit_capacitance_ff,
+            rc_ps: unit_resistance_ohm * unit_capacitance_ff * 1e-3,
+            resistance_formula: RESISTANCE_FORMULA,
+        })
+    }
+}
+
+/// What the delays assume.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct DelayModel {
+    /// Diffusion capacitance over gate capacitance, per unit W/L and terminal.
+    pub diffusion_ratio: f64,
+    /// H, when the load is H copies of the gate.
+    pub fanout: Option<f64>,
+    /// The load in units of C, when given as a capacitance.
+    pub load_c: Option<f64>,
+    /// The logical-effort time unit for falling edges: the unit reference inverter's pull-down
+    /// resistance x its input capacitance, in RC.
+    pub tau_fall_rc: f64,
+    /// The same for rising edges, with the pull-up resistance.
+    pub tau_rise_rc: f64,
+    /// R, C and RC of the process, when one is given.
+    pub process: Option<ProcessUnits>,
+}
+
+/// The logical-effort view of one transition: d = g h + p in units of tau, with p in both published
+/// conventions.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct EffortView {
+    /// Logical effort g of the input.
+    pub g: f64,
+    /// Electrical effort h: the load over the input's capacitance.
+    pub h: f64,
+    /// Parasitic delay from the output node's diffusion alone (x the diffusion ratio), over the
+    /// unit reference inverter's input capacitance.
+    pub p_output_node: f64,
+    /// Parasitic delay from the Elmore delay with no load, over tau: internal nodes included.
+    pub p_elmore: f64,
+    /// g h + p_output_node.
+    pub d_output_node: f64,
+    /// g h + p_elmore.
+    pub d_elmore: f64,
+}
+
+/// One input, one edge.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Delay {
+    /// The input that switches.
+    pub input: String,
+    /// `"rise"` or `"fall"`: the output edge.
+    pub edge: Edge,
+    /// Elmore delay in units of RC.
+    pub elmore_rc: f64,
+    /// Elmore delay in picoseconds, with a process.
+    pub elmore_ps: Option<f64>,
+    /// The load, in units of C.
+    pub load_c: f64,
+    /// The reference inverter's Elmore delay driving the same load, RC: the bound of the elmore method.
+    pub reference_elmore_rc: f64,
+    /// `elmore_rc / reference_elmore_rc`.
+    pub delay_ratio: f64,
+    /// The conducting devices of the timed network, output side first.
+    pub path: Vec<String>,
+    /// The input values after the switch.
+    pub vector: Vector,
+    /// Internal nodes the transition connects to the output and whose charge counts.
+    pub internal_nodes: Vec<String>,
+    /// Internal nodes it connects to the output that already sat at the final level.
+    pub nodes_at_final_level: Vec<String>,
+    /// Whether the conducting network is a tree (else parallel branches were solved as such).
+    pub tree: bool,
+    /// `"weakest path"` (the worst-case path through the input) or `"every vector"` (repeated
+    /// inputs: the slowest over every vector where the input switches the output).
+    pub search: &'static str,
+    /// The logical-effort view.
+    pub logical_effort_view: EffortView,
+}
+
+/// An input and edge with no transition.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Unavailable {
+    /// The input.
+    pub input: String,
+    /// The edge.
+    pub edge: Edge,
+    /// Why.
+    pub why: String,
+}
+
+/// One sizing method's cost and delay.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct MethodDelay {
+    /// The method.
+    pub method: Method,
+    /// Its total W/L, where it has widths.
+    pub total_w_over_l: Option<f64>,
+    /// Its worst `delay_ratio`.
+    pub worst_delay_ratio: Option<f64>,
+    /// The transition with that ratio: `"input edge"`.
+    pub worst_transition: Option<String>,
+    /// Whether every delay is at most the reference's (to 1e-9).
+    pub meets_delay_bound: bool,
+    /// Why it has no widths, where it has none (e.g. infeasible).
+    pub note: Option<String>,
+}
+
+/// Everything the delay stage adds to a gate.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Timing {
+    /// What the delays assume.
+    pub delay_model: DelayModel,
+    /// Per input, fall then rise.
+    pub delays: Vec<Delay>,
+    /// Inputs and edges with no transition.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub unavailable_delays: Vec<Unavailable>,
+    /// Longest-path, min-area and elmore side by side, on this gate's stack order.
+    pub method_comparison: Vec<MethodDelay>,
+    /// The stack-order search, when asked for.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stack_order: Option<StackOrderReport>,
+}
+
+impl Timing {
+    /// The largest delay ratio over every delay, or over one input's.
+    pub fn worst_ratio(&self, input: Option<&str>) -> Option<&Delay> {
+        self.delays
+            .iter()
+            .filter(|d| input.is_none_or(|name| d.input == name))
+            .max_by(|a, b| a.delay_ratio.total_cmp(&b.delay_ratio))
+    }
+
+    /// The largest Elmore delay over every delay, or over one input's.
+    pub fn worst_delay(&self, input: Option<&str>) -> Option<&Delay> {
+        self.delays
+            .iter()
+            .filter(|d| input.is_none_or(|name| d.input == name))
+            .max_by(|a, b| a.elmore_rc.total_cmp(&b.elmore_rc))
+    }
+}
+
+/// Node indices of the circuit: the output, then the rails, then internal nodes.
+const OUTPUT: usize = 0;
+const VSS: usize = 1;
+const VDD: usize = 2;
+
+fn rail_of(kind: NetworkKind) -> usize {
+    match kind {
+        NetworkKind::PullDown => VSS,
+        NetworkKind::PullUp => VDD,
+    }
+}
+
+/// One transistor of the circuit.
+#[derive(Debug, Clone)]
+pub(crate) struct Device {
+    pub kind: NetworkKind,
+    pub input: usize,
+    pub drain: usize,
+    pub source: usize,
+    /// Resistance at W/L = 1, in R: 1 for NMOS, mu for PMOS.
+    pub unit_resistance: f64,
+}
+
+/// A sized gate's structure as a circuit: nodes, devices (pull-down 0..n, then pull-up) and which
+/// device terminals make each node's capacitance.
+#[derive(Debug, Clone)]
+pub(crate) struct Circuit {
+    pub names: Vec<String>,
+    pub devices: Vec<Device>,
+    pub incident: Vec<Vec<usize>>,
+    /// Per node: (device, coefficient) with capacitance = sum coefficient x W/L, in C.
+    pub capacitance_terms: Vec<Vec<(usize, f64)>>,
+    pub count: usize,
+    pub input_count: usize,
+}
+
+impl Circuit {
+    pub fn new(gate: &SizedGate, diffusion_ratio: f64) -> Circuit {
+        let count = gate.function.literals.len();
+        let mut names = vec![gate.output.clone(), "vss".to_string(), "vdd".to_string()];
+        let mut index_of = std::collections::HashMap::new();
+        for (index, name) in names.iter().enumerate() {
+            index_of.insert(name.clone(), index);
+        }
+        let mut node = |name: &str, names: &mut Vec<String>| -> usize {
+            *index_of.entry(name.to_string()).or_insert_with(|| {
+                names.push(name.to_string());
+                names.len() - 1
+            })
+        };
+        let mut devices = Vec::with_capacity(2 * count);
+        for transistor in &gate.transistors {
+            let drain = node(&transistor.drain, &mut names);
+            let source = node(&transistor.source, &mut names);
+            let input = devices.len() % count.max(1);
+            devices.push(Device {
+                kind: transistor.network,
+                input: gate.function.literals[input].input,
+                drain,
+                source,
+                unit_resistance: gate.options.unit_resistance(transistor.network),
+            });
+        }
+        let mut incident = vec![Vec::new(); names.len()];
+        for (index, device) in devices.iter().enumerate() {
+            incident[device.drain].push(index);
+            incident[device.source].push(index);
+        }
+        let capacitance_terms = incident
+            .iter()
+            .enumerate()
+            .map(|(node, touching)| {
+                if node == VSS || node == VDD {
+                    Vec::new()
+                } else if node != OUTPUT && touching.len() == 2 {
+                    // A diffusion shared by two series devices counts once: half of each device's.
+                    touching.iter().map(|&d| (d, 0.5 * diffusion_ratio)).collect()
+                } else {
+                    touching.iter().map(|&d| (d, diffusion_ratio)).collect()
+                }
+            })
+            .collect();
+        Circuit { names, devices, incident, capacitance_terms, count, input_count: gate.function.inputs.len() }
+    }
+
+    fn node_capacitance(&self, node: usize, widths: &[f64]) -> f64 {
+        self.capacitance_terms[node].iter().map(|&(d, coefficient)| coefficient * widths[d]).sum()
+    }
+
+    fn on(&self, device: usize, values: &[bool]) -> bool {
+        let device = &self.devices[device];
+        device.kind.conducts(values[device.input])
+    }
+}
+
+/// The shape of a transition's conducting network, independent of widths.
+#[derive(Debug, Clone)]
+pub(crate) struct Conducting {
+    /// Circuit nodes in the network, the output first.
+    pub nodes: Vec<usize>,
+    /// Per network node: whether it starts at its final level.
+    pub at_final: Vec<bool>,
+    /// Devices that conduct within it.
+    pub devices: Vec<usize>,
+    /// The new rail.
+    pub rail: usize,
+}
+
+/// The conducting network when `input` switches to `after` (its on-level in `edge`'s network).
+pub(crate) fn conducting(circuit: &Circuit, edge: Edge, input: usize, after: &[bool]) -> Result<Conducting, String> {
+    let rail = rail_of(edge.network());
+    let old_rail = if rail == VSS { VDD } else { VSS };
+    let mut before = after.to_vec();
+    before[input] = !after[input];
+    // After: the output's component, not through a rail.
+    let mut inside = vec![false; circuit.names.len()];
+    let mut nodes = vec![OUTPUT];
+    inside[OUTPUT] = true;
+    let mut reaches_rail = false;
+    let mut next = 0;
+    while next < nodes.len() {
+        let here = nodes[next];
+        next += 1;
+        for &device in &circuit.incident[here] {
+            if !circuit.on(device, after) {
+                continue;
+            }
+            let d = &circuit.devices[device];
+            let other = if d.drain == here { d.source } else { d.drain };
+            if other == old_rail {
+                return Err("the output would connect to both rails".into());
+            }
+            if other == rail {
+                reaches_rail = true;
+            } else if !inside[other] {
+                inside[other] = true;
+                nodes.push(other);
+            }
+        }
+    }
+    let devices: Vec<usize> = (0..circuit.devices.len())
+        .filter(|&device| {
+            let d = &circuit.devices[device];
+            circuit.on(device, after) && (inside[d.drain] || inside[d.source])
+        })
+        .collect();
+    if !reaches_rail {
+        return Err("the output does not reach the rail".into());
+    }
+    // Before: what the new rail already holds.
+    let mut held = vec![false; circuit.names.len()];
+    held[rail] = true;
+    let mut stack = vec![rail];
+    while let Some(here) = stack.pop() {
+        for &device in &circuit.incident[here] {
+            if !circuit.on(device, &before) {
+                continue;
+            }
+            let d = &circuit.devices[device];
+            let other = if d.drain == here { d.source } else { d.drain };
+            if other == OUTPUT {
+                return Err("the output already sits at the new level".into());
+            }
+            if other != old_rail && !held[other] {
+                held[other] = true;
+                stack.push(other);
+            }
+        }
+    }
+    let at_final = nodes.iter().map(|&n| held[n]).collect();
+    Ok(Conducting { nodes, at_final, devices, rail })
+}
+
+/// A transition's conducting network as an RC network, with its initial deviations.
+pub(crate) fn rc_network(
+    circuit: &Circuit,
+    shape: &Conducting,
+    widths: &[f64],
+    load: f64,
+) -> (rc::RcNetwork, Vec<f64>) {
+    let mut position = vec![usize::MAX; circuit.names.len()];
+    for (index, &node) in shape.nodes.iter().enumerate() {
+        position[node] = index;
+    }
+    let end = |node: usize| if node == shape.rail { rc::End::Rail } else { rc::End::Node(position[node]) };
+    let resistors = shape
+        .devices
+        .iter()
+        .map(|&device| {
+            let d = &circuit.devices[device];
+            rc::Resistor { from: end(d.drain), to: end(d.source), resistance: d.unit_resistance / widths[device] }
+        })
+        .collect();
+    let mut capacitance: Vec<f64> = shape.nodes.iter().map(|&n| circuit.node_capacitance(n, widths)).collect();
+    capacitance[0] += load;
+    let initial = shape.at_final.iter().map(|&f| if f { 0.0 } else { 1.0 }).collect();
+    (rc::RcNetwork { capacitance, resistors }, initial)
+}
+
+/// The output's Elmore delay of one conducting network with `load` and with none, and whether the
+/// network is a tree. Both come from one elimination: `G m = C d` and `G r = e_output`, since the
+/// load adds `load x r[output]`.
+pub(crate) fn elmore(
+    circuit: &Circuit,
+    shape: &Conducting,
+    widths: &[f64],
+    load: f64,
+) -> Result<(f64, f64, bool), String> {
+    let (network, initial) = rc_network(circuit, shape, widths, 0.0);
+    let charge = network.capacitance.iter().zip(&initial).map(|(c, d)| c * d).collect();
+    let mut unit = vec![0.0; initial.len()];
+    unit[0] = 1.0;
+    let solved = rc::solve(&network, vec![charge, unit]).map_err(|e| e.to_string())?;
+    let (unloaded, drive) = (solved[0][0], solved[1][0]);
+    Ok((unloaded + load * drive, unloaded, rc::tree_moment(&network, &initial, 0).is_some()))
+}
+
+/// All widths of a gate, pull-down then pull-up, by circuit device.
+pub(crate) fn flat_widths(gate: &SizedGate) -> Vec<f64> {
+    gate.widths.iter().flatten().copied().collect()
+}
+
+/// Each input's capacitance in the longest-path sizing at these options: the fan-out copies.
+pub(crate) fn fanout_copies(function: &GateFunction, sizing: &SizingOptions) -> Vec<f64> {
+    let count = function.literals.len();
+    let mut capacitance = vec![0.0; function.inputs.len()];
+    for network in Network::pair(function) {
+        let widths = sizing::size(&network, count, Method::LongestPath, sizing);
+        for (device, width) in widths.iter().enumerate() {
+            capacitance[function.literals[device].input] += width;
+        }
+    }
+    capacitance
+}
+
+/// The load on the output when `input` is timed, in C.
+pub(crate) fn load_for(load: Load, copies: &[f64], input: usize) -> f64 {
+    match load {
+        Load::Fanout(h) => h * copies[input],
+        Load::Capacitance(c) => c,
+    }
+}
+
+/// The reference inverter's Elmore delay on `edge` driving `load` (C), in RC.
+pub(crate) fn reference_delay(sizing: &SizingOptions, diffusion_ratio: f64, edge: Edge, load: f64) -> f64 {
+    let own = diffusion_ratio * sizing.drive * sizing.reference.input_capacitance();
+    sizing.target(edge.network()) * (own + load)
+}
+
+/// tau of an edge: the unit reference inverter's resistance on that edge x its input capacitance.
+fn tau(sizing: &SizingOptions, edge: Edge) -> f64 {
+    let width = match edge {
+        Edge::Fall => sizing.reference.nmos,
+        Edge::Rise => sizing.reference.pmos,
+    };
+    sizing.unit_resistance(edge.network()) / width * sizing.reference.input_capacitance()
+}
+
+/// Check the options.
+pub fn check_options(options: &DelayOptions) -> Result<(), DelayError> {
+    let ratio = options.diffusion_ratio;
+    if !(ratio.is_finite() && ratio >= 0.0) {
+        return Err(DelayError::Option { what: "the diffusion ratio", rule: "a finite number >= 0", value: ratio });
+    }
+    match options.load {
+        Load::Fanout(h) if !(h.is_finite() && h >= 0.0) => {
+            Err(DelayError::Option { what: "the fan-out", rule: "a finite number >= 0", value: h })
+        }
+        Load::Capacitance(c) if !(c.is_finite() && c >= 0.0) => {
+            Err(DelayError::Option { what: "the load", rule: "a finite number >= 0", value: c })
+        }
+        _ => Ok(()),
+    }
+}
+
+/// A measured transition.
+struct Measured {
+    elmore: f64,
+    unloaded: f64,
+    tree: bool,
+    shape: Conducting,
+    after: Vec<bool>,
+    search: &'static str,
+}
+
+/// The worst-case transition of `input` on `edge`: the weakest path through it with its vector;
+/// where repeated inputs leave no such path, the slowest over every vector where the input switches
+/// the output (up to [`EXACT_WORST_MAX_INPUTS`] inputs).
+fn measure(
+    gate: &SizedGate,
+    circuit: &Circuit,
+    widths: &[f64],
+    input: usize,
+    edge: Edge,
+    load: f64,
+) -> Result<Option<Measured>, String> {
+    let measure_vector = |after: Vec<bool>, search| -> Result<Measured, String> {
+        let shape = conducting(circuit, edge, input, &after)?;
+        let (loaded, unloaded, tree) = elmore(circuit, &shape, widths, load)?;
+        Ok(Measured { elmore: loaded, unloaded, tree, shape, after, search })
+    };
+    if let Some((_, vector)) = gate.worst_case_for_input(input, edge.network()) {
+        let after: Vec<bool> = vector.values.iter().map(|(_, v)| *v).collect();
+        return measure_vector(after, "weakest path").map(Some);
+    }
+    let inputs = circuit.input_count;
+    if inputs > EXACT_WORST_MAX_INPUTS {
+        return Ok(None);
+    }
+    let on_level = edge.network().conducts(true);
+    let tree = &gate.trees[edge.side()];
+    let timed_on = |values: &[bool]| -> Vec<bool> {
+        (0..circuit.count).map(|k| circuit.on(edge.side() * circuit.count + k, values)).collect()
+    };
+    let mut worst: Option<Measured> = None;
+    for bits in 0..(1u64 << inputs) {
+        let after: Vec<bool> = (0..inputs).map(|i| bits >> i & 1 == 1).collect();
+        if after[input] != on_level {
+            continue;
+        }
+        let mut before = after.clone();
+        before[input] = !on_level;
+        if !tree.conducts(&timed_on(&after)) || tree.conducts(&timed_on(&before)) {
+            continue;
+        }
+        let measured = measure_vector(after, "every vector")?;
+        if worst.as_ref().is_none_or(|w| measured.elmore > w.elmore) {
+            worst = Some(measured);
+        }
+    }
+    Ok(worst)
+}
+
+/// Delays of every input on both edges, the model and the logical-effort view (no method
+/// comparison or order report: [`size_and_time`] adds those).
+pub fn analyse(gate: &SizedGate, options: &DelayOptions, process: Option<&Process>) -> Result<Timing, DelayError> {
+    check_options(options)?;
+    let occurrences = gate.function.literals.len();
+    if occurrences > MAX_TIMED_OCCURRENCES {
+        return Err(DelayError::TooLargeToTime { count: occurrences, limit: MAX_TIMED_OCCURRENCES });
+    }
+    let sizing = &gate.options;
+    let units = process.map(ProcessUnits::of).transpose()?;
+    let circuit = Circuit::new(gate, options.diffusion_ratio);
+    let widths = flat_widths(gate);
+    let copies = fanout_copies(&gate.function, sizing);
+    let reference_capacitance = sizing.drive * sizing.reference.input_capacitance();
+    let output_diffusion: f64 = circuit.capacitance_terms[OUTPUT].iter().map(|&(d, c)| c * widths[d]).sum();
+    let p_output_node = output_diffusion / reference_capacitance;
+    let mut delays = Vec::new();
+    let mut unavailable = Vec::new();
+    for input in 0..gate.function.inputs.len() {
+        let name = &gate.function.inputs[input];
+        let load = load_for(options.load, &copies, input);
+        for edge in Edge::BOTH {
+            let measured = measure(gate, &circuit, &widths, input, edge, load).map_err(|why| DelayError::Network {
+                input: name.clone(),
+                edge: edge.name(),
+                why,
+            })?;
+            let Some(measured) = measured else {
+                unavailable.push(Unavailable {
+                    input: name.clone(),
+                    edge,
+                    why: if circuit.input_count > EXACT_WORST_MAX_INPUTS {
+                        format!("no path through it conducts alone, and {EXACT_WORST_MAX_INPUTS} inputs is the most searched")
+                    } else {
+                        "it never switches the output on this edge".to_string()
+                    },
+                });
+                continue;
+            };
+            let reference = reference_delay(sizing, options.diffusion_ratio, edge, load);
+            let figures = &gate.inputs[input];
+            let g = figures.logical_effort;
+            let h = if figures.input_capacitance > 0.0 { load / figures.input_capacitance } else { 0.0 };
+            let p_elmore = measured.unloaded / tau(sizing, edge);
+            let kind = edge.network();
+            let mut path: Vec<usize> =
+                measured.shape.devices.iter().copied().filter(|&d| circuit.devices[d].kind == kind).collect();
+            let mut position = vec![usize::MAX; circuit.names.len()];
+            for (index, &node) in measured.shape.nodes.iter().enumerate() {
+                position[node] = index;
+            }
+            path.sort_by_key(|&d| position[circuit.devices[d].drain]);
+            let (mut internal_nodes, mut nodes_at_final_level) = (Vec::new(), Vec::new());
+            for (&node, &at_final) in measured.shape.nodes.iter().zip(&measured.shape.at_final).skip(1) {
+                let name = circuit.names[node].clone();
+                if at_final { nodes_at_final_level.push(name) } else { internal_nodes.push(name) }
+            }
+            delays.push(Delay {
+                input: name.clone(),
+                edge,
+                elmore_rc: measured.elmore,
+                elmore_ps: units.as_ref().map(|u| measured.elmore * u.rc_ps),
+                load_c: load,
+                reference_elmore_rc: reference,
+                delay_ratio: measured.elmore / reference,
+                path: path.iter().map(|&d| device_name(kind, d % circuit.count)).collect(),
+                vector: Vector {
+                    values: gate.function.inputs.iter().cloned().zip(measured.after.iter().copied()).collect(),
+                },
+                internal_nodes,
+                nodes_at_final_level,
+                tree: measured.tree,
+                search: measured.search,
+                logical_effort_view: EffortView {
+                    g,
+                    h,
+                    p_output_node,
+                    p_elmore,
+                    d_output_node: g * h + p_output_node,
+                    d_elmore: g * h + p_elmore,
+                },
+            });
+        }
+    }
+    let (fanout, load_c) = match options.load {
+        Load::Fanout(h) => (Some(h), None),
+        Load::Capacitance(c) => (None, Some(c)),
+    };
+    Ok(Timing {
+        delay_model: DelayModel {
+            diffusion_ratio: options.diffusion_ratio,
+            fanout,
+            load_c,
+            tau_fall_rc: tau(sizing, Edge::Fall),
+            tau_rise_rc: tau(sizing, Edge::Rise),
+            process: units,
+        },
+        delays,
+        unavailable_delays: unavailable,
+        method_comparison: Vec::new(),
+        stack_order: None,
+    })
+}
+
+/// Size a read gate: the path methods through [`size_function`], the elmore method through its
+/// geometric program ([`program::size_for_delay`]).
+pub fn size_read_gate(
+    function: &GateFunction,
+    options: &GateOptions,
+    delay: &DelayOptions,
+) -> Result<SizedGate, Error> {
+    if options.sizing.method == Method::Elmore && options.fixed_widths.is_none() {
+        program::size_for_delay(function, options, delay)
+    } else {
+        size_function(function.clone(), options)
+    }
+}
+
+fn read(text: &str) -> Result<GateFunction, Error> {
+    read_gate(text).map_err(|error| Error::Expression { error, source_text: text.to_string() })
+}
+
+/// Size a gate with any method and stack order, without timing it (for the `paths` command).
+pub fn size_gate(text: &str, options: &GateOptions, delay: &DelayOptions) -> Result<SizedGate, Error> {
+    check_options(delay)?;
+    let function = read(text)?;
+    match delay.stack_order {
+        StackOrder::Default => size_read_gate(&function, options, delay),
+        StackOrder::Search => order::search(&function, options, delay).map(|(gate, _)| gate),
+    }
+}
+
+/// Size a gate, time it and set its [`SizedGate::timing`]: delays, the logical-effort view, the three
+/// methods side by side and, when asked, the stack-order search.
+pub fn size_and_time(
+    text: &str,
+    options: &GateOptions,
+    delay: &DelayOptions,
+    process: Option<&Process>,
+) -> Result<SizedGate, Error> {
+    check_options(delay)?;
+    let function = read(text)?;
+    let (mut gate, order_report) = match delay.stack_order {
+        StackOrder::Default => (size_read_gate(&function, options, delay)?, None),
+        StackOrder::Search => {
+            let (gate, report) = order::search(&function, options, delay)?;
+            (gate, Some(report))
+        }
+    };
+    let mut timing = analyse(&gate, delay, process)?;
+    timing.method_comparison = compare_methods(&function, options, delay, &gate, &timing)?;
+    timing.stack_order = order_report;
+    gate.timing = Some(timing);
+    Ok(gate)
+}
+
+/// Longest-path, min-area and elmore on the stack order of `gate` (whose own timing is `timing`),
+/// with their worst delay ratio.
+pub fn compare_methods(
+    function: &GateFunction,
+    options: &GateOptions,
+    delay: &DelayOptions,
+    gate: &SizedGate,
+    timing: &Timing,
+) -> Result<Vec<MethodDelay>, Error> {
+    let mut rows = Vec::new();
+    // Widths already timed, so that equal sizings (NAND, NOR ...) are timed once.
+    let mut timed: Vec<([Vec<f64>; 2], Timing)> = Vec::new();
+    for method in Method::ALL {
+        let sized = if method == gate.method {
+            Ok(gate.clone())
+        } else {
+            let mut own = options.clone();
+            own.sizing.method = method;
+            own.stack_order = Some(gate.trees.clone());
+            own.fixed_widths = None;
+            size_read_gate(function, &own, delay)
+        };
+        match sized {
+            Ok(sized) => {
+                let index = if sized.widths == gate.widths {
+                    None
+                } else if let Some(index) = timed.iter().position(|(w, _)| *w == sized.widths) {
+                    Some(index)
+                } else {
+                    timed.push((sized.widths.clone(), analyse(&sized, delay, None)?));
+                    Some(timed.len() - 1)
+                };
+                let own_timing = index.map_or(timing, |i| &timed[i].1);
+                let worst = own_timing.worst_ratio(None);
+                rows.push(MethodDelay {
+                    method,
+                    total_w_over_l: Some(sized.total_w_over_l),
+                    worst_delay_ratio: worst.map(|d| d.delay_ratio),
+                    worst_transition: worst.map(|d| format!("{} {}", d.input, d.edge.name())),
+                    meets_delay_bound: own_timing.delays.iter().all(|d| d.delay_ratio <= 1.0 + 1e-9),
+                    note: None,
+                });
+            }
+            Err(error) if method == Method::Elmore => rows.push(MethodDelay {
+                method,
+                total_w_over_l: None,
+                worst_delay_ratio: None,
+                worst_transition: None,
+                meets_delay_bound: false,
+                note: Some(error.to_string()),
+            }),
+            Err(error) => return Err(error),
+        }
+    }
+    Ok(rows)
+}

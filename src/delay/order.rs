@@ -1,0 +1,268 @@
+//! Stack order: choose each series stack's order (which member touches the output) to minimise the
+//! worst Elmore delay, or the worst of one named critical input, and report the gain against the
+//! default order of [`crate::network::Network::ordered`]. For the elmore method, whose delays all
+//! meet the bound whatever the order, the order that needs the least total W/L is chosen instead.
+//!
+//! Every combination is tried when there are few; otherwise a local search moves one member of one
+//! stack at a time to every other position and keeps any move that helps, until none does or the
+//! budget of evaluated orders is spent.
+
+use super::{DelayOptions, analyse, size_read_gate};
+use crate::error::Error;
+use crate::expr::GateFunction;
+use crate::gate::{GateOptions, SizedGate, device_name};
+use crate::network::{Network, NetworkKind, Node};
+use crate::sizing::Method;
+
+/// Which series-stack order to time.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, clap::ValueEnum)]
+#[serde(rename_all = "kebab-case")]
+pub enum StackOrder {
+    /// The default order: the critical input, then the least diffusion width, nearest the output.
+    #[default]
+    Default,
+    /// Search the orders for the least worst Elmore delay (the elmore method: the least total W/L).
+    Search,
+}
+
+/// What the search found.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct StackOrderReport {
+    /// What was minimised.
+    pub objective: String,
+    /// Its value in the default order (RC for delays, W/L for area).
+    pub default_value: f64,
+    /// Its value in the chosen order.
+    pub chosen_value: f64,
+    /// `(default - chosen) / default`, in percent.
+    pub gain_percent: f64,
+    /// How many orders were evaluated.
+    pub orders_tried: usize,
+    /// Whether every order was tried (else a local search).
+    pub exhaustive: bool,
+    /// The chosen networks: series members output side first (`-`), parallel branches `|`.
+    pub networks: Vec<String>,
+}
+
+/// Most combinations tried one by one (the elmore method solves a program for each, so fewer).
+const EXHAUSTIVE_LIMIT: usize = 720;
+const EXHAUSTIVE_LIMIT_ELMORE: usize = 24;
+/// Most rounds of the local search.
+const ROUNDS: usize = 10;
+/// Most orders evaluated in all (the elmore method: fewer, each is a program to solve).
+const BUDGET: usize = 2000;
+const BUDGET_ELMORE: usize = 200;
+/// Most input occurrences (transistors per network) of a gate whose orders are searched.
+pub const MAX_SEARCH_OCCURRENCES: usize = 64;
+
+/// The series stacks in pre-order: (network side, member count).
+fn stacks(node: &Node, side: usize, out: &mut Vec<(usize, usize)>) {
+    match node {
+        Node::Device(_) => {}
+        Node::Parallel(branches) => branches.iter().for_each(|b| stacks(b, side, out)),
+        Node::Series(members) => {
+            out.push((side, members.len()));
+            members.iter().for_each(|m| stacks(m, side, out));
+        }
+    }
+}
+
+/// `node` with stack `k` (pre-order) in the order `orders[k]` of its members.
+fn apply(node: &Node, orders: &[Vec<usize>], next: &mut usize) -> Node {
+    match node {
+        Node::Device(_) => node.clone(),
+        Node::Parallel(branches) => Node::Parallel(branches.iter().map(|b| apply(b, orders, next)).collect()),
+        Node::Series(members) => {
+            let id = *next;
+            *next += 1;
+            let rebuilt: Vec<Node> = members.iter().map(|m| apply(m, orders, next)).collect();
+            Node::Series(orders[id].iter().map(|&i| rebuilt[i].clone()).collect())
+        }
+    }
+}
+
+fn next_permutation(order: &mut [usize]) -> bool {
+    let Some(pivot) = (1..order.len()).rev().find(|&i| order[i - 1] < order[i]) else {
+        return false;
+    };
+    let successor = (pivot..order.len()).rev().find(|&i| order[i] > order[pivot - 1]).unwrap_or(pivot);
+    order.swap(pivot - 1, successor);
+    order[pivot..].reverse();
+    true
+}
+
+/// A network as text: series ` - ` (output side first), parallel ` | `, devices by name.
+pub fn describe(network: &Network) -> String {
+    fn walk(node: &Node, kind: NetworkKind, top: bool) -> String {
+        match node {
+            Node::Device(index) => device_name(kind, *index),
+            Node::Series(members) => {
+                let text = members.iter().map(|m| walk(m, kind, false)).collect::<Vec<_>>().join(" - ");
+                if top { text } else { format!("({text})") }
+            }
+            Node::Parallel(branches) => {
+                let text = branches.iter().map(|b| walk(b, kind, false)).collect::<Vec<_>>().join(" | ");
+                if top { text } else { format!("({text})") }
+            }
+        }
+    }
+    format!("{}: {}", network.kind.name(), walk(&network.root, network.kind, true))
+}
+
+struct Search<'a> {
+    function: &'a GateFunction,
+    options: &'a GateOptions,
+    delay: &'a DelayOptions,
+    base: [Network; 2],
+    tried: usize,
+}
+
+impl Search<'_> {
+    fn trees(&self, orders: &[Vec<usize>]) -> [Network; 2] {
+        let mut next = 0;
+        self.base.clone().map(|network| Network { kind: network.kind, root: apply(&network.root, orders, &mut next) })
+    }
+
+    /// The score of an order (lower is better) and its gate; `None` where the elmore method finds
+    /// no widths for it.
+    fn score(&mut self, orders: &[Vec<usize>]) -> Result<Option<(f64, SizedGate)>, Error> {
+        self.tried += 1;
+        let mut options = self.options.clone();
+        options.stack_order = Some(self.trees(orders));
+        options.fixed_widths = None;
+        let gate = match size_read_gate(self.function, &options, self.delay) {
+            Ok(gate) => gate,
+            Err(Error::CheckFailed(_)) if self.options.sizing.method == Method::Elmore => return Ok(None),
+            Err(error) => return Err(error),
+        };
+        if gate.method == Method::Elmore {
+            return Ok(Some((gate.total_w_over_l, gate)));
+        }
+        let timing = analyse(&gate, self.delay, None)?;
+        let worst = timing.worst_delay(self.options.critical.as_deref()).map_or(0.0, |d| d.elmore_rc);
+        Ok(Some((worst, gate)))
+    }
+}
+
+/// Size `function` in the best stack order found, with the report against the default order.
+pub fn search(
+    function: &GateFunction,
+    options: &GateOptions,
+    delay: &DelayOptions,
+) -> Result<(SizedGate, StackOrderReport), Error> {
+    let occurrences = function.literals.len();
+    if occurrences > MAX_SEARCH_OCCURRENCES {
+        return Err(Error::Usage(format!(
+            "the stack-order search handles gates of up to {MAX_SEARCH_OCCURRENCES} input occurrences; this one has \
+             {occurrences}"
+        )));
+    }
+    // The default order is the one the gate gets without a search.
+    let default_gate = size_read_gate(function, options, delay)?;
+    let base = default_gate.trees.clone();
+    let mut shape = Vec::new();
+    for (side, network) in base.iter().enumerate() {
+        stacks(&network.root, side, &mut shape);
+    }
+    let identity: Vec<Vec<usize>> = shape.iter().map(|&(_, len)| (0..len).collect()).collect();
+    let mut search = Search { function, options, delay, base, tried: 0 };
+    let Some((default_value, default_gate)) = search.score(&identity)? else { unreachable_default()? };
+    let mut best = (default_value, default_gate, identity.clone());
+    let elmore = options.sizing.method == Method::Elmore;
+    let limit = if elmore { EXHAUSTIVE_LIMIT_ELMORE } else { EXHAUSTIVE_LIMIT };
+    let mut combinations: usize = 1;
+    for &(_, len) in &shape {
+        combinations = combinations.saturating_mul((1..=len).product::<usize>().max(1));
+    }
+    let exhaustive = combinations <= limit;
+    let budget = if elmore { BUDGET_ELMORE } else { BUDGET };
+    let better = |value: f64, best: f64| value < best - 1e-12 * best.abs();
+    if exhaustive {
+        let mut orders = identity.clone();
+        loop {
+            // Odometer over the stacks' permutations.
+            let mut stack = 0;
+            while stack < orders.len() && !next_permutation(&mut orders[stack]) {
+                orders[stack].sort_unstable();
+                stack += 1;
+            }
+            if stack == orders.len() {
+                break;
+            }
+            if let Some((value, gate)) = search.score(&orders)?
+                && better(value, best.0)
+            {
+                best = (value, gate, orders.clone());
+            }
+        }
+    } else {
+        'rounds: for _ in 0..ROUNDS {
+            let mut improved = false;
+            for stack in 0..shape.len() {
+                let len = shape[stack].1;
+                for from in 0..len {
+                    for to in 0..len {
+                        if from == to {
+                            continue;
+                        }
+                        if search.tried >= budget {
+                            break 'rounds;
+                        }
+                        let mut orders = best.2.clone();
+                        let member = orders[stack].remove(from);
+                        orders[stack].insert(to, member);
+                        if let Some((value, gate)) = search.score(&orders)?
+                            && better(value, best.0)
+                        {
+                            best = (value, gate, orders);
+                            improved = true;
+                        }
+                    }
+                }
+            }
+            if !improved {
+                break;
+            }
+        }
+    }
+    let objective = if elmore {
+        "total W/L (elmore method)".to_string()
+    } else {
+        match &options.critical {
+            Some(input) => format!("worst Elmore delay of input {input}"),
+            None => "worst Elmore delay".to_string(),
+        }
+    };
+    let (chosen_value, gate, _) = best;
+    let report = StackOrderReport {
+        objective,
+        default_value,
+        chosen_value,
+        gain_percent: if default_value > 0.0 { (default_value - chosen_value) / default_value * 100.0 } else { 0.0 },
+        orders_tried: search.tried,
+        exhaustive,
+        networks: gate.trees.iter().map(describe).collect(),
+    };
+    Ok((gate, report))
+}
+
+/// The default order sized once already; a second failure is an inconsistency, reported as usage.
+fn unreachable_default<T>() -> Result<T, Error> {
+    Err(Error::Usage("the default stack order could not be sized twice the same way".into()))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn permutations_in_order() {
+        let mut order = vec![0, 1, 2];
+        let mut seen = vec![order.clone()];
+        while next_permutation(&mut order) {
+            seen.push(order.clone());
+        }
+        assert_eq!(seen.len(), 6);
+        assert_eq!(seen[5], vec![2, 1, 0]);
+    }
+}

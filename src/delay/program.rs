@@ -1,0 +1,306 @@
+//! The elmore method: the least total W/L such that every worst-case Elmore delay is at most the
+//! reference inverter's driving the same load, as a geometric program over the W/L of every device.
+//!
+//! A transition through one path that conducts alone has a chain of devices from the output to the
+//! rail, and whatever else conducts hangs off the output through the other network. Its Elmore delay
+//! is then `sum over chain nodes k of C_k x (resistance from k to the rail)` plus the hanging
+//! capacitance times the whole chain's resistance: with `r = u / w` and every capacitance linear in
+//! the widths (plus the load), a posynomial. The constraints are every such transition of every input
+//! on both edges (each conducting path that conducts alone, with each input on it), which include the
+//! worst cases the delay stage reports, whatever widths the optimum picks.
+
+use std::collections::BTreeMap;
+
+use super::geometric::{self, Monomial, Outcome, Posynomial, Program};
+use super::{
+    Circuit, Conducting, DelayError, DelayOptions, Edge, conducting, fanout_copies, load_for, reference_delay,
+};
+use crate::error::Error;
+use crate::expr::GateFunction;
+use crate::gate::{GateOptions, SizedGate, size_function};
+use crate::network::NetworkKind;
+use crate::paths::{self, MAX_LISTED_PATHS};
+use crate::sizing::{self, Method};
+
+/// Most transistors (both networks) a gate may have for the elmore method: its Newton steps are dense.
+pub const MAX_DEVICES: usize = 96;
+/// Every width stays within this factor of its longest-path width, either way.
+pub const BOX: f64 = 1e4;
+
+/// One transition with one conducting path.
+#[derive(Debug, Clone)]
+pub(crate) struct PathTransition {
+    pub input: usize,
+    pub edge: Edge,
+    pub shape: Conducting,
+    /// The path's devices (circuit indices), output side first.
+    pub chain: Vec<usize>,
+}
+
+/// Every transition through one path that conducts alone: each such path of each network, with
+/// each distinct input on it switching.
+pub(crate) fn path_transitions(gate: &SizedGate, circuit: &Circuit) -> Result<Vec<PathTransition>, DelayError> {
+    let count = circuit.count;
+    let input_of: Vec<usize> = gate.function.literals.iter().map(|l| l.input).collect();
+    let inputs = gate.function.inputs.len();
+    let mut out = Vec::new();
+    for edge in Edge::BOTH {
+        let kind = edge.network();
+        let side = usize::from(kind == NetworkKind::PullUp);
+        let network = &gate.trees[side];
+        let total = paths::count(network);
+        if total > MAX_LISTED_PATHS.into() {
+            return Err(DelayError::TooManyPaths {
+                network: kind.name(),
+                count: total.to_string(),
+                limit: MAX_LISTED_PATHS,
+            });
+        }
+        let resistance = gate.options.resistances(kind, &gate.widths[side]);
+        for path in paths::list(network, &resistance, MAX_LISTED_PATHS) {
+            let Some(after) = paths::sensitize(network, &path.devices, &input_of, inputs) else { continue };
+            let mut seen = Vec::new();
+            for &device in &path.devices {
+                let input = input_of[device];
+                if seen.contains(&input) {
+                    continue;
+                }
+                seen.push(input);
+                let shape = conducting(circuit, edge, input, &after).map_err(|why| DelayError::Network {
+                    input: gate.function.inputs[input].clone(),
+                    edge: edge.name(),
+                    why,
+                })?;
+                let chain = path.devices.iter().map(|&d| side * count + d).collect();
+                out.push(PathTransition { input, edge, shape, chain });
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// A transition's Elmore delay as a posynomial in the widths (variables: circuit devices), in RC.
+pub(crate) fn delay_posynomial(
+    circuit: &Circuit,
+    transition: &PathTransition,
+    load: f64,
+) -> Result<Posynomial, String> {
+    let chain = &transition.chain;
+    let shape = &transition.shape;
+    // The chain's nodes from the output: v0 = output, v_{j+1} = source of device j.
+    let mut chain_nodes = vec![super::OUTPUT];
+    for (position, &device) in chain.iter().enumerate() {
+        let d = &circuit.devices[device];
+        if d.drain != chain_nodes[position] {
+            return Err("the path is not a chain from the output".into());
+        }
+        chain_nodes.push(d.source);
+    }
+    if chain_nodes.last() != Some(&shape.rail) {
+        return Err("the path does not end on the rail".into());
+    }
+    let kind = circuit.devices[chain[0]].kind;
+    if shape.devices.iter().any(|d| circuit.devices[*d].kind == kind && !chain.contains(d)) {
+        return Err("more than the path conducts in the timed network".into());
+    }
+    let charged = |node: usize| shape.nodes.iter().zip(&shape.at_final).any(|(&n, &f)| n == node && !f);
+    // (resistor device, capacitor device or None for the load) -> coefficient.
+    let mut terms: BTreeMap<(usize, Option<usize>), f64> = BTreeMap::new();
+    let add_node = |node: usize, from: usize, terms: &mut BTreeMap<(usize, Option<usize>), f64>| {
+        for &resistor in &chain[from..] {
+            let unit = circuit.devices[resistor].unit_resistance;
+            for &(capacitor, coefficient) in &circuit.capacitance_terms[node] {
+                *terms.entry((resistor, Some(capacitor))).or_insert(0.0) += unit * coefficient;
+            }
+            if node == super::OUTPUT && load > 0.0 {
+                *terms.entry((resistor, None)).or_insert(0.0) += unit * load;
+            }
+        }
+    };
+    for (position, &node) in chain_nodes[..chain.len()].iter().enumerate() {
+        if charged(node) {
+            add_node(node, position, &mut terms);
+        }
+    }
+    for &node in &shape.nodes {
+        if !chain_nodes.contains(&node) && charged(node) {
+            add_node(node, 0, &mut terms);
+        }
+    }
+    let terms = terms
+        .into_iter()
+        .filter(|(_, c)| *c > 0.0)
+        .map(|((resistor, capacitor), coefficient)| {
+            let exponents = match capacitor {
+                Some(c) if c == resistor => Vec::new(),
+                Some(c) => vec![(resistor, -1.0), (c, 1.0)],
+                None => vec![(resistor, -1.0)],
+            };
+            Monomial { coefficient, exponents }
+        })
+        .collect();
+    Ok(Posynomial { terms })
+}
+
+/// Whether `a >= b` everywhere because every term of `b` is in `a` with at least its coefficient.
+fn dominates(a: &Posynomial, b: &Posynomial) -> bool {
+    b.terms.iter().all(|term| {
+        a.terms.iter().any(|other| other.exponents == term.exponents && other.coefficient >= term.coefficient)
+    })
+}
+
+/// The elmore method's program for a gate whose structure (stack order) is that of `gate`.
+/// Also gives, per constraint, its input and edge.
+pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program, Vec<(usize, Edge)>), DelayError> {
+    let circuit = Circuit::new(gate, delay.diffusion_ratio);
+    let devices = circuit.devices.len();
+    if devices > MAX_DEVICES {
+        return Err(DelayError::TooLarge { count: devices, limit: MAX_DEVICES });
+    }
+    let copies = fanout_copies(&gate.function, &gate.options);
+    for input in 0..gate.function.inputs.len() {
+        let load = load_for(delay.load, &copies, input);
+        if load.is_nan() || load <= 0.0 {
+            return Err(DelayError::Option {
+                what: "the load for the elmore method (with no load the delays do not depend on scale)",
+                rule: "positive",
+                value: load,
+            });
+        }
+        for edge in Edge::BOTH {
+            if gate.worst_case_for_input(input, edge.network()).is_none() {
+                return Err(DelayError::NoSinglePath { input: gate.function.inputs[input].clone(), edge: edge.name() });
+            }
+        }
+    }
+    let transitions = path_transitions(gate, &circuit)?;
+    let mut constraints: Vec<Posynomial> = Vec::with_capacity(transitions.len());
+    let mut labels = Vec::with_capacity(transitions.len());
+    let mut chains: Vec<(Edge, &[usize])> = Vec::with_capacity(transitions.len());
+    for transition in &transitions {
+        let load = load_for(delay.load, &copies, transition.input);
+        let bound = reference_delay(&gate.options, delay.diffusion_ratio, transition.edge, load);
+        let mut posynomial = delay_posynomial(&circuit, transition, load).map_err(|why| DelayError::Network {
+            input: gate.function.inputs[transition.input].clone(),
+            edge: transition.edge.name(),
+            why,
+        })?;
+        for term in &mut posynomial.terms {
+            term.coefficient /= bound;
+        }
+        // Of two transitions on one path, one whose every term another has, with at least its
+        // coefficient, never binds (typically: the input nearest the rail charges the most nodes).
+        let key = (transition.edge, transition.chain.as_slice());
+        let mut dominated = false;
+        let mut index = 0;
+        while index < constraints.len() {
+            if chains[index] == key {
+                if dominates(&constraints[index], &posynomial) {
+                    dominated = true;
+                    break;
+                }
+                if dominates(&posynomial, &constraints[index]) {
+                    constraints.swap_remove(index);
+                    labels.swap_remove(index);
+                    chains.swap_remove(index);
+                    continue;
+                }
+            }
+            index += 1;
+        }
+        if !dominated {
+            constraints.push(posynomial);
+            labels.push((transition.input, transition.edge));
+            chains.push(key);
+        }
+    }
+    let count = circuit.count;
+    let mut longest = Vec::with_capacity(devices);
+    let mut start = Vec::with_capacity(devices);
+    for network in crate::network::Network::pair(&gate.function) {
+        longest.extend(sizing::size(&network, count, Method::LongestPath, &gate.options));
+        start.extend(sizing::size(&network, count, Method::MinArea, &gate.options));
+    }
+    let program = Program {
+        variables: devices,
+        objective: Posynomial {
+            terms: (0..devices).map(|d| Monomial { coefficient: 1.0, exponents: vec![(d, 1.0)] }).collect(),
+        },
+        constraints,
+        lower: longest.iter().map(|w| w / BOX).collect(),
+        upper: longest.iter().map(|w| w * BOX).collect(),
+        start,
+    };
+    Ok((program, labels))
+}
+
+/// Size a gate by the elmore method: the program on the structure the longest-path sizing gives (or
+/// the stack order in `options`), then the gate with those widths.
+pub fn size_for_delay(
+    function: &GateFunction,
+    options: &GateOptions,
+    delay: &DelayOptions,
+) -> Result<SizedGate, Error> {
+    let devices = 2 * function.literals.len();
+    if devices > MAX_DEVICES {
+        return Err(DelayError::TooLarge { count: devices, limit: MAX_DEVICES }.into());
+    }
+    let mut structure = options.clone();
+    structure.sizing.method = Method::LongestPath;
+    structure.fixed_widths = None;
+    let longest = size_function(function.clone(), &structure)?;
+    let (program, labels) = elmore_program(&longest, delay)?;
+    let outcome = geometric::solve(&program).map_err(|e| DelayError::Solver(e.to_string()))?;
+    let widths = match outcome {
+        Outcome::Optimal { x, at_bound, .. } => {
+            if !at_bound.is_empty() {
+                return Err(DelayError::Unbounded { factor: BOX }.into());
+            }
+            x
+        }
+        Outcome::Infeasible { least_worst, worst_constraint } => {
+            let (input, edge) = labels[worst_constraint];
+            return Err(DelayError::Infeasible {
+                ratio: least_worst,
+                input: function.inputs[input].clone(),
+                edge: edge.name(),
+            }
+            .into());
+        }
+    };
+    let count = function.literals.len();
+    let mut sized = options.clone();
+    sized.sizing.method = Method::Elmore;
+    sized.stack_order = Some(longest.trees.clone());
+    sized.fixed_widths = Some([widths[..count].to_vec(), widths[count..].to_vec()]);
+    size_function(function.clone(), &sized)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::{elmore, flat_widths};
+    use super::*;
+    use crate::gate::size_text;
+    use crate::sizing::SizingOptions;
+
+    #[test]
+    fn posynomials_equal_the_network_solve_at_any_widths() {
+        // The posynomial form must give the same first moment as G m = C d (the two are derived
+        // apart; the solve is checked against a dense elimination and the tree formula in rc.rs).
+        for text in ["nand3", "nor3", "aoi21", "aoi22", "oai221", "!(a & (b | c) & d)"] {
+            let options = GateOptions::new(SizingOptions::new(Method::LongestPath, 2.5, 1.0, None));
+            let gate = size_text(text, &options).unwrap();
+            let circuit = Circuit::new(&gate, 0.8);
+            let mut widths = flat_widths(&gate);
+            for (index, w) in widths.iter_mut().enumerate() {
+                *w *= 1.0 + 0.37 * ((index * 7 % 5) as f64);
+            }
+            for transition in path_transitions(&gate, &circuit).unwrap() {
+                let posynomial = delay_posynomial(&circuit, &transition, 3.5).unwrap();
+                let (solved, _, _) = elmore(&circuit, &transition.shape, &widths, 3.5).unwrap();
+                let value = posynomial.value(&widths);
+                assert!((value - solved).abs() < 1e-9 * solved, "{text}: {value} vs {solved}");
+            }
+        }
+    }
+}

@@ -1,0 +1,207 @@
+//! The delay stage's part of the table and its CSV view: Elmore delays per input and edge, the
+//! logical-effort view, the three methods side by side and the stack-order search.
+
+use std::io::{self, Write};
+
+use super::number;
+use super::table::write_columns;
+use crate::delay::Timing;
+use crate::gate::SizedGate;
+
+fn strings<const N: usize>(cells: [&str; N]) -> Vec<String> {
+    cells.iter().map(|c| c.to_string()).collect()
+}
+
+fn list(names: &[String]) -> String {
+    if names.is_empty() { "-".to_string() } else { names.join(" ") }
+}
+
+/// The delay sections of one gate's table block.
+pub fn write_table(timing: &Timing, out: &mut dyn Write) -> io::Result<()> {
+    let model = &timing.delay_model;
+    let load = match (model.fanout, model.load_c) {
+        (Some(h), _) => format!("fan-out {} (copies of the longest-path gate)", number(h)),
+        (None, Some(c)) => format!("{} C", number(c)),
+        (None, None) => "none".to_string(),
+    };
+    writeln!(
+        out,
+        "\ndelays (Elmore, in RC: R = unit NMOS on-resistance, C = unit gate capacitance; diffusion ratio {}; load {load})",
+        number(model.diffusion_ratio)
+    )?;
+    if let Some(units) = &model.process {
+        writeln!(
+            out,
+            "  R = {} ohm, C = {} fF, RC = {} ps ({})",
+            number(units.unit_resistance_ohm),
+            number(units.unit_capacitance_ff),
+            number(units.rc_ps),
+            units.process
+        )?;
+    }
+    let mut rows = vec![strings([
+        "input",
+        "edge",
+        "Elmore",
+        "ps",
+        "load",
+        "reference",
+        "ratio",
+        "path",
+        "charged internal nodes",
+        "at final level",
+        "after",
+    ])];
+    for delay in &timing.delays {
+        rows.push(vec![
+            delay.input.clone(),
+            delay.edge.name().to_string(),
+            number(delay.elmore_rc),
+            delay.elmore_ps.map_or("-".to_string(), |ps| format!("{ps:.1}")),
+            number(delay.load_c),
+            number(delay.reference_elmore_rc),
+            number(delay.delay_ratio),
+            delay.path.join(" "),
+            list(&delay.internal_nodes),
+            list(&delay.nodes_at_final_level),
+            delay.vector.to_string(),
+        ]);
+    }
+    write_columns(&rows, out)?;
+    for missing in &timing.unavailable_delays {
+        writeln!(out, "  {} {}: no delay ({})", missing.input, missing.edge.name(), missing.why)?;
+    }
+    for delay in timing.delays.iter().filter(|d| d.search != "weakest path") {
+        writeln!(
+            out,
+            "  {} {}: the slowest over every vector (repeated inputs leave no single path)",
+            delay.input,
+            delay.edge.name()
+        )?;
+    }
+
+    writeln!(
+        out,
+        "\nlogical-effort view (d = g h + p in units of tau: {} RC falling, {} RC rising)",
+        number(model.tau_fall_rc),
+        number(model.tau_rise_rc)
+    )?;
+    let mut rows = vec![strings(["input", "edge", "g", "h", "p output node", "p Elmore", "d output node", "d Elmore"])];
+    for delay in &timing.delays {
+        let view = &delay.logical_effort_view;
+        rows.push(vec![
+            delay.input.clone(),
+            delay.edge.name().to_string(),
+            number(view.g),
+            number(view.h),
+            number(view.p_output_node),
+            number(view.p_elmore),
+            number(view.d_output_node),
+            number(view.d_elmore),
+        ]);
+    }
+    write_columns(&rows, out)?;
+
+    writeln!(out, "\nmethods (delay ratio: worst Elmore delay over the reference inverter's, same load)")?;
+    let mut rows = vec![strings(["method", "total W/L", "worst delay ratio", "at", "meets the bound"])];
+    for row in &timing.method_comparison {
+        match row.total_w_over_l {
+            Some(total) => rows.push(vec![
+                row.method.name().to_string(),
+                number(total),
+                row.worst_delay_ratio.map_or("-".to_string(), number),
+                row.worst_transition.clone().unwrap_or_default(),
+                if row.meets_delay_bound { "yes" } else { "no" }.to_string(),
+            ]),
+            None => rows.push(vec![
+                row.method.name().to_string(),
+                "-".to_string(),
+                "-".to_string(),
+                "-".to_string(),
+                row.note.clone().unwrap_or_default(),
+            ]),
+        }
+    }
+    write_columns(&rows, out)?;
+
+    if let Some(order) = &timing.stack_order {
+        let how = if order.exhaustive { "every order" } else { "a local search" };
+        writeln!(
+            out,
+            "\nstack order: {} {} -> {} ({}% less) over {} orders ({how})",
+            order.objective,
+            number(order.default_value),
+            number(order.chosen_value),
+            number(order.gain_percent),
+            order.orders_tried
+        )?;
+        for network in &order.networks {
+            writeln!(out, "  {network}")?;
+        }
+    }
+    Ok(())
+}
+
+/// Columns of the delays view, in order.
+pub const DELAY_COLUMNS: [&str; 21] = [
+    "gate",
+    "method",
+    "input",
+    "edge",
+    "elmore_rc",
+    "elmore_ps",
+    "load_c",
+    "reference_elmore_rc",
+    "delay_ratio",
+    "path",
+    "vector",
+    "internal_nodes",
+    "nodes_at_final_level",
+    "diffusion_ratio",
+    "g",
+    "h",
+    "p_output_node",
+    "p_elmore",
+    "d_output_node",
+    "d_elmore",
+    "fanout",
+];
+
+/// One row per input and edge of every timed gate.
+pub fn write_csv<W: Write>(gates: &[SizedGate], writer: &mut csv::Writer<W>) -> csv::Result<()> {
+    writer.write_record(DELAY_COLUMNS)?;
+    for gate in gates {
+        let Some(timing) = &gate.timing else { continue };
+        let fanout = match timing.delay_model.fanout {
+            Some(h) => h.to_string(),
+            None => String::new(),
+        };
+        for delay in &timing.delays {
+            let view = &delay.logical_effort_view;
+            writer.write_record([
+                gate.name.clone(),
+                gate.method.name().to_string(),
+                delay.input.clone(),
+                delay.edge.name().to_string(),
+                delay.elmore_rc.to_string(),
+                delay.elmore_ps.map(|v| v.to_string()).unwrap_or_default(),
+                delay.load_c.to_string(),
+                delay.reference_elmore_rc.to_string(),
+                delay.delay_ratio.to_string(),
+                delay.path.join(" "),
+                delay.vector.to_string(),
+                delay.internal_nodes.join(" "),
+                delay.nodes_at_final_level.join(" "),
+                timing.delay_model.diffusion_ratio.to_string(),
+                view.g.to_string(),
+                view.h.to_string(),
+                view.p_output_node.to_string(),
+                view.p_elmore.to_string(),
+                view.d_output_node.to_string(),
+                view.d_elmore.to_string(),
+                fanout.clone(),
+            ])?;
+        }
+    }
+    Ok(())
+}

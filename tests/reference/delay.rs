@@ -1,0 +1,373 @@
+//! Elmore delays against published worked examples, and the elmore sizing method against its
+//! closed-form special cases and against scipy on the same geometric program.
+
+use std::io::Write;
+use std::process::{Command, Stdio};
+
+use widthwise::delay::ProcessUnits;
+use widthwise::process::Process;
+
+use widthwise::delay::geometric::{self, Outcome, Program};
+use widthwise::delay::program::elmore_program;
+use widthwise::delay::{self, Delay, DelayOptions, Edge, Load, StackOrder, Timing};
+use widthwise::expr::read_gate;
+use widthwise::gate::{GateOptions, SizedGate, size_text};
+use widthwise::network::Network;
+use widthwise::sizing::{Method, SizingOptions};
+
+use super::support::{ngspice_available, scipy_available};
+
+fn options(method: Method) -> GateOptions {
+    GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None))
+}
+
+fn sized(text: &str) -> SizedGate {
+    size_text(text, &options(Method::LongestPath)).unwrap()
+}
+
+fn timed(gate: &SizedGate, load: Load, diffusion_ratio: f64) -> Timing {
+    let delay = DelayOptions { load, diffusion_ratio, stack_order: StackOrder::Default };
+    delay::analyse(gate, &delay, None).unwrap()
+}
+
+fn find<'a>(timing: &'a Timing, input: &str, edge: Edge) -> &'a Delay {
+    timing.delays.iter().find(|d| d.input == input && d.edge == edge).unwrap()
+}
+
+#[test]
+fn unit_nand3_driving_h_identical_gates() {
+    // Unit NAND3 (NMOS 3, PMOS 2) driving h identical gates, diffusion = gate capacitance per unit
+    // width, a shared series diffusion counted once: falling (12 + 5h) RC, rising (9 + 5h) RC
+    // (Weste & Harris, "CMOS VLSI Design", ch. 4, worked example of the 3-input NAND; from memory).
+    // Which transitions give these numbers: falling, the input nearest the rail (c, MN3 on vss)
+    // switches with a and b already on, so n1 and n2 sit charged at the output's level and discharge
+    // with it: 3 (R/3) + 3 (2R/3) + (9 + 5h) R. Rising, the input nearest the output (a, MN1 on y)
+    // switches: its NMOS turns off and cuts n1 and n2 from the output, so only the output charges
+    // through one PMOS of resistance R: (9 + 5h) R.
+    let gate = sized("nand3");
+    for h in [1.0, 4.0] {
+        let timing = timed(&gate, Load::Fanout(h), 1.0);
+        let fall = find(&timing, "c", Edge::Fall);
+        assert!((fall.elmore_rc - (12.0 + 5.0 * h)).abs() < 1e-9, "h = {h}: {}", fall.elmore_rc);
+        assert_eq!(fall.internal_nodes, ["n1", "n2"]);
+        let rise = find(&timing, "a", Edge::Rise);
+        assert!((rise.elmore_rc - (9.0 + 5.0 * h)).abs() < 1e-9, "h = {h}: {}", rise.elmore_rc);
+        assert!(rise.internal_nodes.is_empty());
+        // The load is h copies of the input's capacitance, 5 C each (g = 5/3 with C_inv = 3:
+        // Sutherland, Sproull & Harris, "Logical Effort", 1999, ch. 4).
+        assert!((fall.load_c - 5.0 * h).abs() < 1e-12);
+        // In units of tau = 3 RC: d = g h + p with g = 5/3 and p = 12/3 = 4 from the Elmore delay
+        // (internal nodes included) against p = 3 from the output node alone (the same chapter's
+        // parasitic delay of a NAND3; Weste & Harris, ch. 4, from memory).
+        let view = &fall.logical_effort_view;
+        assert!((view.p_elmore - 4.0).abs() < 1e-9 && (view.p_output_node - 3.0).abs() < 1e-9);
+        assert!((view.d_elmore - fall.elmore_rc / 3.0).abs() < 1e-9);
+        assert!((view.d_output_node - (5.0 / 3.0 * h + 3.0)).abs() < 1e-9);
+    }
+}
+
+#[test]
+fn unit_nand2_driving_h_identical_gates() {
+    // Unit NAND2 (NMOS 2, PMOS 2) driving h identical gates: falling (7 + 4h) RC, rising (6 + 4h) RC
+    // (Weste & Harris, "CMOS VLSI Design", ch. 4; from memory). Same convention as the NAND3: falling
+    // with the input nearest the rail (b) switching, n1 charged; rising with the input nearest the
+    // output (a) switching, n1 cut off.
+    let gate = sized("nand2");
+    for h in [1.0, 4.0] {
+        let timing = timed(&gate, Load::Fanout(h), 1.0);
+        assert!((find(&timing, "b", Edge::Fall).elmore_rc - (7.0 + 4.0 * h)).abs() < 1e-9);
+        assert!((find(&timing, "a", Edge::Rise).elmore_rc - (6.0 + 4.0 * h)).abs() < 1e-9);
+    }
+}
+
+#[test]
+fn nodes_already_at_the_final_level_add_nothing() {
+    // NAND3, the input nearest the output (a) falling: b and c were on, n1 and n2 already sat at
+    // ground, so only the output discharges, through R: (9 + 5h) RC. First moment of a linear RC
+    // network with initial voltages: a node starting at its final value adds no charge to move
+    // (common practice, no source).
+    let gate = sized("nand3");
+    let timing = timed(&gate, Load::Fanout(1.0), 1.0);
+    let fall = find(&timing, "a", Edge::Fall);
+    assert!((fall.elmore_rc - 14.0).abs() < 1e-9);
+    assert_eq!(fall.nodes_at_final_level, ["n1", "n2"]);
+}
+
+#[test]
+fn parallel_branches_are_solved_not_treed() {
+    // OAI21 = !((a | b) & c), longest-path sizing (NMOS 2, PMOS a, b 4, c 2), with c at the rail
+    // side of the pull-down stack. Input c rising: a = b = 1 keep both NMOS a and b on, so n1 hangs
+    // off the output through two parallel devices (not a tree) and was charged with it. The output's
+    // first moment is R_c x (all charged capacitance): 1 x (load 4 + output 10 + n1 6) = 20 RC
+    // (worked by hand from the Elmore model; parallel branches off the output's path do not change
+    // the resistance shared with it; common practice, no source).
+    // The written order of oai21's pull-down is (a | b) then c.
+    let written = Network::pair(&read_gate("oai21").unwrap());
+    assert_eq!(delay::order::describe(&written[0]), "pull-down: (MN1 | MN2) - MN3");
+    let gate = size_text("oai21", &GateOptions { stack_order: Some(written), ..options(Method::LongestPath) }).unwrap();
+    let timing = timed(&gate, Load::Fanout(1.0), 1.0);
+    let rise = find(&timing, "c", Edge::Rise);
+    assert!(!rise.tree);
+    assert!((rise.elmore_rc - 20.0).abs() < 1e-9, "{}", rise.elmore_rc);
+}
+
+#[test]
+fn stack_order_search_finds_the_faster_oai21() {
+    // OAI21, longest-path, fan-out 1. Default order puts MN3 (c, the least diffusion facing the
+    // output) at the output; the worst transition is b rising: output (load 6 + 8) x R + p1 4 x R/2
+    // + n1 (hanging through MN3, charged) 6 x R = 22 RC. With MN3 at the rail, n1 stays at ground
+    // for b rising (18 RC) and the worst becomes c rising, 20 RC (both worked by hand from the
+    // Elmore model; no published source): a gain of 2/22.
+    let function = read_gate("oai21").unwrap();
+    let delay = DelayOptions { stack_order: StackOrder::Search, ..DelayOptions::default() };
+    let (gate, report) = delay::order::search(&function, &options(Method::LongestPath), &delay).unwrap();
+    assert!((report.default_value - 22.0).abs() < 1e-9, "{}", report.default_value);
+    assert!((report.chosen_value - 20.0).abs() < 1e-9, "{}", report.chosen_value);
+    assert!((report.gain_percent - 100.0 * 2.0 / 22.0).abs() < 1e-9);
+    assert_eq!(delay::order::describe(&gate.trees[0]), "pull-down: (MN1 | MN2) - MN3");
+}
+
+const GATES: [&str; 8] = ["inv", "nand2", "nand3", "nor2", "nor3", "aoi21", "aoi22", "oai21"];
+
+fn elmore_sized(text: &str, load: Load, diffusion_ratio: f64) -> Result<SizedGate, widthwise::Error> {
+    let delay = DelayOptions { load, diffusion_ratio, stack_order: StackOrder::Default };
+    delay::size_gate(text, &options(Method::Elmore), &delay)
+}
+
+#[test]
+fn elmore_method_meets_every_bound_and_never_costs_more_than_a_feasible_longest_path() {
+    let mut feasible = 0;
+    for text in GATES {
+        for load in [Load::Capacitance(20.0), Load::Capacitance(60.0), Load::Fanout(4.0)] {
+            for ratio in [0.0, 0.5, 1.0] {
+                let longest = sized(text);
+                let longest_timing = timed(&longest, load, ratio);
+                let longest_meets = longest_timing.delays.iter().all(|d| d.delay_ratio <= 1.0 + 1e-9);
+                let gate = match elmore_sized(text, load, ratio) {
+                    Ok(gate) => gate,
+                    Err(widthwise::Error::CheckFailed(message)) => {
+                        // Infeasible: then longest-path cannot meet the bounds either.
+                        assert!(!longest_meets, "{text} {load:?} {ratio}: {message}");
+                        continue;
+                    }
+                    Err(error) => panic!("{text}: {error}"),
+                };
+                feasible += 1;
+                let timing = timed(&gate, load, ratio);
+                // The method's definition: every worst-case delay at most the reference inverter's.
+                for d in &timing.delays {
+                    assert!(d.elmore_rc <= d.reference_elmore_rc * (1.0 + 1e-6), "{text} {:?}", d);
+                }
+                if longest_meets {
+                    assert!(gate.total_w_over_l <= longest.total_w_over_l * (1.0 + 1e-6), "{text} {load:?} {ratio}");
+                }
+                if ratio == 0.0 && matches!(load, Load::Capacitance(_)) {
+                    // No parasitics and a fixed load: every delay is (path resistance) x load, so the
+                    // bound is the path constraint and the optimum is the min-area closed form
+                    // (series rule B_i = B sqrt(K_i) / sum sqrt(K_j), sizing-model section 5).
+                    let min_area = size_text(text, &options(Method::MinArea)).unwrap();
+                    let relative = (gate.total_w_over_l / min_area.total_w_over_l - 1.0).abs();
+                    assert!(relative < 1e-6, "{text}: {} vs {}", gate.total_w_over_l, min_area.total_w_over_l);
+                }
+            }
+        }
+    }
+    assert!(feasible > 20, "only {feasible} feasible cases");
+}
+
+#[test]
+fn the_inverter_needs_exactly_the_reference() {
+    // The reference inverter meets its own bound with equality, and no smaller one does: adding the
+    // two bounds (fall x n / (diff S + L), rise x p / mu (diff S + L)) gives S >= S_ref for the total
+    // S = n + p (worked by hand; no published source).
+    let gate = elmore_sized("inv", Load::Capacitance(10.0), 1.0).unwrap();
+    assert!((gate.total_w_over_l - 3.0).abs() < 1e-6, "{}", gate.total_w_over_l);
+}
+
+#[test]
+fn infeasible_bounds_say_so() {
+    // A unit NAND3 driving one copy of itself: the falling delay of c cannot come down to the
+    // reference inverter's (3 + 5) RC, whatever the widths, since its parasitic part alone stays
+    // above it as the widths grow (the output and internal diffusions grow with them).
+    let error = elmore_sized("nand3", Load::Fanout(1.0), 1.0).unwrap_err();
+    assert_eq!(error.exit_code(), 1);
+    assert!(error.to_string().contains("no widths make every Elmore delay"), "{error}");
+}
+
+/// Run scipy's SLSQP on each program (log variables, the same box), in one python3 process.
+/// `mode` "optimum" minimises the objective; "least-worst" minimises the largest constraint.
+fn scipy(programs: &[Program], mode: &str) -> Vec<serde_json::Value> {
+    const SCRIPT: &str = r#"
+import json, sys
+import numpy as np
+from scipy.optimize import minimize
+mode = sys.argv[1]
+out = []
+for p in json.load(sys.stdin):
+    n = p['variables']
+    def compile(poly):
+        b = np.array([np.log(t['coefficient']) for t in poly['terms']])
+        A = np.zeros((len(poly['terms']), n))
+        for i, t in enumerate(poly['terms']):
+            for k, e in t['exponents']:
+                A[i, k] += e
+        return A, b
+    def lse(A, b, y):
+        z = A @ y + b
+        m = z.max()
+        return m + np.log(np.exp(z - m).sum())
+    def grad(A, b, y):
+        z = A @ y + b
+        w = np.exp(z - z.max())
+        return A.T @ (w / w.sum())
+    objective = compile(p['objective'])
+    constraints = [compile(c) for c in p['constraints']]
+    bounds = list(zip(np.log(p['lower']), np.log(p['upper'])))
+    y0 = np.log(p['start'])
+    if mode == 'optimum':
+        cons = [{'type': 'ineq', 'fun': (lambda y, A=A, b=b: -lse(A, b, y)),
+                 'jac': (lambda y, A=A, b=b: -grad(A, b, y))} for A, b in constraints]
+        r = minimize(lambda y: lse(*objective, y), y0, jac=lambda y: grad(*objective, y),
+                     method='SLSQP', bounds=bounds, constraints=cons,
+                     options={'ftol': 1e-13, 'maxiter': 2000})
+        worst = max(lse(A, b, r.x) for A, b in constraints)
+        out.append({'success': bool(r.success), 'objective': float(np.exp(r.fun)), 'worst': float(np.exp(worst))})
+    else:
+        z0 = np.append(y0, max(lse(A, b, y0) for A, b in constraints))
+        cons = [{'type': 'ineq', 'fun': (lambda z, A=A, b=b: z[-1] - lse(A, b, z[:-1])),
+                 'jac': (lambda z, A=A, b=b: np.append(-grad(A, b, z[:-1]), 1.0))} for A, b in constraints]
+        last = np.zeros(n + 1)
+        last[-1] = 1.0
+        r = minimize(lambda z: z[-1], z0, jac=lambda z: last, method='SLSQP',
+                     bounds=bounds + [(None, None)], constraints=cons,
+                     options={'ftol': 1e-13, 'maxiter': 2000})
+        out.append({'success': bool(r.success), 'least_worst': float(np.exp(r.x[-1]))})
+print(json.dumps(out))
+"#;
+    let mut child = Command::new("python3")
+        .args(["-c", SCRIPT, mode])
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .spawn()
+        .expect("python3 runs");
+    let input = serde_json::to_vec(programs).unwrap();
+    child.stdin.take().unwrap().write_all(&input).unwrap();
+    let output = child.wait_with_output().unwrap();
+    assert!(output.status.success(), "scipy script failed");
+    serde_json::from_slice(&output.stdout).unwrap()
+}
+
+#[test]
+fn elmore_optimum_agrees_with_scipy() {
+    // Reference tool: scipy.optimize.minimize (SLSQP, from PyPI) on the same program in log
+    // variables, run by python3. The barrier method and SLSQP are independent solvers of one
+    // convex problem, so their optima must agree.
+    if !scipy_available("elmore_optimum_agrees_with_scipy") {
+        return;
+    }
+    let cases = [
+        ("nand2", Load::Capacitance(30.0), 1.0),
+        ("nand3", Load::Capacitance(50.0), 1.0),
+        ("nor2", Load::Fanout(4.0), 0.5),
+        ("aoi21", Load::Capacitance(40.0), 1.0),
+        ("aoi22", Load::Capacitance(60.0), 0.7),
+        ("oai21", Load::Fanout(6.0), 1.0),
+        // 27 paths down, each with three inputs: many near-identical constraints active at once.
+        ("!((a | b | c) & (d | e | f) & (g | h | i))", Load::Capacitance(150.0), 1.0),
+    ];
+    let mut programs = Vec::new();
+    let mut ours = Vec::new();
+    for (text, load, ratio) in cases {
+        let delay = DelayOptions { load, diffusion_ratio: ratio, stack_order: StackOrder::Default };
+        let (program, _) = elmore_program(&sized(text), &delay).unwrap();
+        let Outcome::Optimal { objective, .. } = geometric::solve(&program).unwrap() else {
+            panic!("{text} is feasible")
+        };
+        ours.push(objective);
+        programs.push(program);
+    }
+    let theirs = scipy(&programs, "optimum");
+    for ((case, objective), answer) in cases.iter().zip(&ours).zip(&theirs) {
+        assert!(answer["success"].as_bool().unwrap(), "{}: scipy did not converge", case.0);
+        assert!(answer["worst"].as_f64().unwrap() <= 1.0 + 1e-6, "{}: scipy's point is infeasible", case.0);
+        let scipy_objective = answer["objective"].as_f64().unwrap();
+        assert!(
+            (objective / scipy_objective - 1.0).abs() < 1e-6,
+            "{}: ours {objective}, scipy {scipy_objective}",
+            case.0
+        );
+    }
+}
+
+#[test]
+fn infeasibility_margin_agrees_with_scipy() {
+    // Reference tool: scipy SLSQP minimising the largest constraint value over the same box. Where
+    // our phase I says "infeasible", the least worst ratio it reports must be scipy's.
+    if !scipy_available("infeasibility_margin_agrees_with_scipy") {
+        return;
+    }
+    let mut programs = Vec::new();
+    let mut ours = Vec::new();
+    for text in ["nand3", "aoi22"] {
+        let (program, _) = elmore_program(&sized(text), &DelayOptions::default()).unwrap();
+        let Outcome::Infeasible { least_worst, .. } = geometric::solve(&program).unwrap() else {
+            panic!("{text} at fan-out 1 is infeasible")
+        };
+        ours.push(least_worst);
+        programs.push(program);
+    }
+    for (least_worst, answer) in ours.iter().zip(&scipy(&programs, "least-worst")) {
+        let theirs = answer["least_worst"].as_f64().unwrap();
+        assert!((least_worst / theirs - 1.0).abs() < 1e-4, "ours {least_worst}, scipy {theirs}");
+    }
+}
+
+#[test]
+fn unit_resistance_gives_the_level1_half_swing_time() {
+    // Reference tool: ngspice (Debian's package), run in batch mode on a level-1 (Shichman-Hodges)
+    // unit NMOS, no body effect or channel-length modulation, discharging C from VDD after a fast
+    // step on its gate. R is defined so that ln 2 x R x C is that time to VDD/2. Two processes: the
+    // built-in one (saturated, then linear) and a low-supply one whose threshold is above VDD/2
+    // (saturated all the way down to VDD/2).
+    if !ngspice_available("unit_resistance_gives_the_level1_half_swing_time") {
+        return;
+    }
+    let low_supply =
+        Process { supply_v: 1.2, nmos_threshold_v: 0.7, unit_width_nm: 500.0, length_nm: 250.0, ..Process::default() };
+    for process in [Process::default(), low_supply] {
+        let units = ProcessUnits::of(&process).unwrap();
+        let deck = format!(
+            "* unit NMOS discharging C\n\
+             .model nch nmos level=1 vto={vt} kp={kp}u gamma=0 lambda=0\n\
+             vg g 0 pulse(0 {vdd} 0 1f 1f 1 2)\n\
+             m1 d g 0 0 nch w={w}n l={l}n\n\
+             c1 d 0 {c}f\n\
+             .ic v(d)={vdd}\n\
+             .options reltol=1e-6\n\
+             .tran 0.001p {stop}p uic\n\
+             .meas tran tf when v(d)={half} fall=1\n\
+             .end\n",
+            vt = process.nmos_threshold_v,
+            kp = process.nmos_kp_ua_per_v2,
+            vdd = process.supply_v,
+            w = process.unit_width_nm,
+            l = process.length_nm,
+            c = units.unit_capacitance_ff,
+            stop = (units.rc_ps * 4.0).ceil(),
+            half = process.supply_v / 2.0,
+        );
+        let directory = tempfile::tempdir().unwrap();
+        let path = directory.path().join("unit.cir");
+        std::fs::write(&path, deck).unwrap();
+        let output = Command::new("ngspice").arg("-b").arg(&path).output().unwrap();
+        let text = String::from_utf8_lossy(&output.stdout);
+        let line = text.lines().find(|l| l.trim_start().starts_with("tf")).expect("ngspice measured tf");
+        let seconds: f64 = line.split('=').nth(1).unwrap().split_whitespace().next().unwrap().parse().unwrap();
+        let expected = std::f64::consts::LN_2 * units.rc_ps * 1e-12;
+        assert!(
+            (seconds / expected - 1.0).abs() < 1e-3,
+            "{}: ngspice {seconds}, ln 2 R C {expected}",
+            process.supply_v
+        );
+    }
+}
