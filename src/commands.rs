@@ -13,6 +13,7 @@ use crate::gate::{GateOptions, size_text};
 use crate::output::{self, Format};
 use crate::process::Process;
 use crate::sizing::SizingOptions;
+use crate::verify::{self, VerifyOptions};
 
 /// Run a parsed command line.
 pub fn run(cli: Cli) -> Result<(), Error> {
@@ -33,6 +34,19 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             let sized = size_text(&text, &gate_options(&gate))?;
             let listings = sized.list_paths(limit);
             write_output(&output, |out| output::write_paths(&sized, &listings, output.format, out))
+        }
+        Command::Verify { expression, gate, output, random_vectors, seed } => {
+            if output.format == Format::Spice {
+                return Err(Error::Usage("verification is written as table, csv or json, not spice".into()));
+            }
+            let text = expression_text(&expression)?;
+            let sized = size_text(&text, &gate_options(&gate))?;
+            let options = VerifyOptions { random_vectors, seed, ..VerifyOptions::default() };
+            let result = verify::verify(&sized, &options)?;
+            write_output(&output, |out| {
+                output::verify::write_verifications(std::slice::from_ref(&result), output.format, out)
+            })?;
+            result.outcome()
         }
     }
 }

@@ -214,6 +214,9 @@ pub enum Error {
     /// Writing the output failed (a closed pipe is handled by the binary).
     #[error("cannot write the output: {0}")]
     Output(#[from] std::io::Error),
+    /// A netlist that verification cannot simulate.
+    #[error("{0}")]
+    Verify(#[from] crate::verify::VerifyError),
     /// A check the user asked for failed; the message says which.
     #[error("{0}")]
     CheckFailed(String),

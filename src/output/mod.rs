@@ -4,6 +4,7 @@ pub mod csv;
 pub mod json;
 pub mod spice;
 pub mod table;
+pub mod verify;
 
 use std::io::{self, Write};
 

@@ -3,6 +3,7 @@
 
 mod paths;
 mod size;
+mod verify;
 
 use std::path::PathBuf;
 
