@@ -23,8 +23,10 @@ on-resistance; capacitances in unit-NMOS gate capacitances. Physical sizes use t
 (L = 1u, unit NMOS W = 1u, so W = W/L x 1u) unless a process file says otherwise.
 
 Limits: expressions up to 1 MiB and 256 levels of parentheses; up to 10000 input occurrences
-(transistors per network) and 10000 distinct inputs; up to 10000 listed paths; the exact worst case
-over input vectors (for repeated inputs) up to 16 inputs.
+(transistors per network) and 10000 distinct inputs; up to 10000 listed paths and 1000000 device
+names in one listing (paths x devices on the longest path); the exact worst case over input vectors
+(for repeated inputs) up to 16 inputs; verify checks every input vector up to 30 inputs, a stated
+pseudo-random sample (at most 2^30 vectors) past that; process files up to 1 MiB.
 
 Exit codes: 0 ok, 1 a check failed, 2 bad input or usage.
 

@@ -9,8 +9,10 @@ use std::path::Path;
 
 use crate::cli::{Cli, Command, GateArgs, OutputArgs};
 use crate::error::Error;
+use crate::expr::parser::MAX_EXPRESSION_BYTES;
 use crate::gate::{GateOptions, size_text};
 use crate::output::{self, Format};
+use crate::paths;
 use crate::process::Process;
 use crate::sizing::SizingOptions;
 use crate::verify::{self, VerifyOptions};
@@ -32,6 +34,18 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             }
             let text = expression_text(&expression)?;
             let sized = size_text(&text, &gate_options(&gate))?;
+            for network in &sized.trees {
+                let size = paths::listing_size(network, limit);
+                if size > paths::MAX_LISTED_DEVICES {
+                    return Err(Error::Usage(format!(
+                        "listing {limit} paths of the {} with up to {} devices each could name {size} devices; the \
+                         limit is {}: ask for fewer with --limit",
+                        network.kind.name(),
+                        paths::longest_path_devices(network),
+                        paths::MAX_LISTED_DEVICES
+                    )));
+                }
+            }
             let listings = sized.list_paths(limit);
             write_output(&output, |out| output::write_paths(&sized, &listings, output.format, out))
         }
@@ -64,12 +78,18 @@ pub fn gate_options(args: &GateArgs) -> GateOptions {
 /// first bad byte.
 pub fn expression_text(argument: &OsString) -> Result<String, Error> {
     let bytes = if argument == "-" {
+        // Read one byte past the limit, never the whole of an endless stream.
         let mut bytes = Vec::new();
-        io::stdin().lock().read_to_end(&mut bytes).map_err(|source| Error::File {
-            action: "read",
-            path: "standard input".into(),
-            source,
-        })?;
+        io::stdin()
+            .lock()
+            .take(MAX_EXPRESSION_BYTES as u64 + 1)
+            .read_to_end(&mut bytes)
+            .map_err(|source| Error::File { action: "read", path: "standard input".into(), source })?;
+        if bytes.len() > MAX_EXPRESSION_BYTES {
+            return Err(Error::Usage(format!(
+                "the expression on standard input is longer than {MAX_EXPRESSION_BYTES} bytes, the limit"
+            )));
+        }
         bytes
     } else {
         argument.as_encoded_bytes().to_vec()

@@ -133,41 +133,83 @@ pub fn count(network: &Network) -> BigUint {
 }
 
 /// The `limit` weakest paths, weakest first (ties in tree order), without enumerating the rest.
+///
+/// Partial paths are kept as pieces joined by reference (a device, or two partial paths in series),
+/// so a series stack of `m` members costs `O(m limit log limit)` however long its paths are; only the
+/// paths returned are written out, device by device.
 pub fn list(network: &Network, resistance: &[f64], limit: usize) -> Vec<Path> {
-    fn walk(node: &Node, resistance: &[f64], limit: usize) -> Vec<Path> {
+    fn walk(node: &Node, resistance: &[f64], limit: usize, pieces: &mut Vec<Piece>) -> Vec<(f64, u32)> {
         match node {
-            Node::Device(index) => vec![Path { resistance: resistance[*index], devices: vec![*index] }],
+            Node::Device(index) => {
+                pieces.push(Piece::Device(*index));
+                vec![(resistance[*index], (pieces.len() - 1) as u32)]
+            }
             Node::Parallel(branches) => {
-                let mut all: Vec<Path> = branches.iter().flat_map(|b| walk(b, resistance, limit)).collect();
-                all.sort_by_key(|p| Reverse(key(p.resistance)));
+                let mut all: Vec<(f64, u32)> =
+                    branches.iter().flat_map(|b| walk(b, resistance, limit, pieces)).collect();
+                all.sort_by_key(|p| Reverse(key(p.0)));
                 all.truncate(limit);
                 all
             }
             Node::Series(members) => {
-                let mut lists = members.iter().map(|m| walk(m, resistance, limit));
-                let first = lists.next().unwrap_or_default();
-                lists.fold(first, |upper, lower| combine(&upper, &lower, limit))
+                let mut upper = match members.first() {
+                    Some(first) => walk(first, resistance, limit, pieces),
+                    None => Vec::new(),
+                };
+                for member in &members[1..] {
+                    let lower = walk(member, resistance, limit, pieces);
+                    upper = combine(&upper, &lower, limit, pieces);
+                }
+                upper
             }
         }
     }
     if limit == 0 {
         return Vec::new();
     }
-    walk(&network.root, resistance, limit.min(MAX_LISTED_PATHS))
+    let mut pieces = Vec::new();
+    let partial = walk(&network.root, resistance, limit.min(MAX_LISTED_PATHS), &mut pieces);
+    let mut stack = Vec::new();
+    partial
+        .into_iter()
+        .map(|(resistance, piece)| {
+            let mut devices = Vec::new();
+            stack.push(piece);
+            while let Some(piece) = stack.pop() {
+                match pieces[piece as usize] {
+                    Piece::Device(index) => devices.push(index),
+                    Piece::Join(upper, lower) => {
+                        stack.push(lower);
+                        stack.push(upper);
+                    }
+                }
+            }
+            Path { resistance, devices }
+        })
+        .collect()
 }
 
-/// The `limit` largest sums of one path from each sorted list (the k-best pairs, by a heap).
-fn combine(upper: &[Path], lower: &[Path], limit: usize) -> Vec<Path> {
+/// Part of a listed path: one device, or an upper part followed by a lower part.
+#[derive(Debug, Clone, Copy)]
+enum Piece {
+    Device(usize),
+    Join(u32, u32),
+}
+
+/// The `limit` largest sums of one partial path from each sorted list (the k-best pairs, by a heap).
+fn combine(upper: &[(f64, u32)], lower: &[(f64, u32)], limit: usize, pieces: &mut Vec<Piece>) -> Vec<(f64, u32)> {
     let mut out = Vec::with_capacity(limit.min(upper.len() * lower.len()));
     let mut heap = BinaryHeap::new();
     let mut seen = std::collections::HashSet::new();
-    let sum = |i: usize, j: usize| upper[i].resistance + lower[j].resistance;
+    if upper.is_empty() || lower.is_empty() {
+        return out;
+    }
+    let sum = |i: usize, j: usize| upper[i].0 + lower[j].0;
     heap.push((key(sum(0, 0)), Reverse((0usize, 0usize))));
     seen.insert((0, 0));
     while let Some((_, Reverse((i, j)))) = heap.pop() {
-        let mut devices = upper[i].devices.clone();
-        devices.extend_from_slice(&lower[j].devices);
-        out.push(Path { resistance: sum(i, j), devices });
+        pieces.push(Piece::Join(upper[i].1, lower[j].1));
+        out.push((sum(i, j), (pieces.len() - 1) as u32));
         if out.len() == limit {
             break;
         }
@@ -178,6 +220,29 @@ fn combine(upper: &[Path], lower: &[Path], limit: usize) -> Vec<Path> {
         }
     }
     out
+}
+
+/// Most device names one listing may hold (paths listed x devices on the longest path), so that a
+/// request for many long paths is refused instead of writing gigabytes.
+pub const MAX_LISTED_DEVICES: u128 = 1_000_000;
+
+/// Devices on the longest path of the network.
+pub fn longest_path_devices(network: &Network) -> usize {
+    fn walk(node: &Node) -> usize {
+        match node {
+            Node::Device(_) => 1,
+            Node::Series(members) => members.iter().map(walk).sum(),
+            Node::Parallel(branches) => branches.iter().map(walk).max().unwrap_or(0),
+        }
+    }
+    walk(&network.root)
+}
+
+/// The most device names a listing of `limit` paths can hold: paths listed x the longest path.
+pub fn listing_size(network: &Network, limit: usize) -> u128 {
+    let paths = count(network).min(BigUint::from(limit));
+    let paths: u128 = paths.try_into().unwrap_or(u128::MAX);
+    paths.saturating_mul(longest_path_devices(network) as u128)
 }
 
 /// Resistances compared to 1e-9 R, so that equal paths tie whatever the rounding.
@@ -273,6 +338,10 @@ mod tests {
         assert_eq!(count(&down), BigUint::from(1u8) << 200);
         let listed = list(&down, &vec![1.0; 400], 5);
         assert_eq!(listed.len(), 5);
+        // each path takes one of every pair: 200 devices, one per group
+        assert!(listed.iter().all(|p| p.devices.len() == 200 && p.devices.iter().zip(0..).all(|(d, g)| d / 2 == g)));
+        assert_eq!(listing_size(&down, 5), 5 * 200);
+        assert_eq!(listing_size(&down, MAX_LISTED_PATHS), 10_000 * 200);
     }
 
     #[test]
@@ -281,6 +350,30 @@ mod tests {
         let r = [1.0, 3.0, 2.0, 5.0];
         let listed: Vec<f64> = list(&down, &r, 10).iter().map(|p| p.resistance).collect();
         assert_eq!(listed, vec![8.0, 6.0, 5.0, 3.0]);
+    }
+
+    #[test]
+    fn listing_equals_every_path_enumerated_and_sorted() {
+        fn every(node: &Node) -> Vec<Vec<usize>> {
+            match node {
+                Node::Device(index) => vec![vec![*index]],
+                Node::Parallel(branches) => branches.iter().flat_map(every).collect(),
+                Node::Series(members) => members.iter().fold(vec![Vec::new()], |paths, member| {
+                    let lower = every(member);
+                    paths.iter().flat_map(|p| lower.iter().map(move |q| [p.clone(), q.clone()].concat())).collect()
+                }),
+            }
+        }
+        let (down, _, _) = pull_down("!((a | b & c) & (d | e) | f & (g | h) & (i | j & k))");
+        // powers of two: every path has its own sum, so the order is unique
+        let r: Vec<f64> = (0..11).map(|k| f64::from(1 << k)).collect();
+        let mut expected: Vec<(f64, Vec<usize>)> =
+            every(&down.root).into_iter().map(|p| (p.iter().map(|&d| r[d]).sum(), p)).collect();
+        expected.sort_by(|x, y| y.0.total_cmp(&x.0));
+        let listed: Vec<(f64, Vec<usize>)> =
+            list(&down, &r, 100).into_iter().map(|p| (p.resistance, p.devices)).collect();
+        assert_eq!(listed, expected);
+        assert_eq!(list(&down, &r, 3), list(&down, &r, 100)[..3].to_vec());
     }
 
     #[test]

@@ -1,6 +1,7 @@
 //! The one integration binary: runs the real `widthwise` executable on arguments and fixture files,
 //! a module per command.
 
+mod limits;
 mod paths;
 mod size;
 mod verify;
