@@ -194,10 +194,18 @@ pub struct SizedGate {
 
 /// Name of device `index` (0-based literal occurrence) in a network.
 pub fn device_name(kind: NetworkKind, index: usize) -> String {
-    match kind {
-        NetworkKind::PullDown => format!("MN{}", index + 1),
-        NetworkKind::PullUp => format!("MP{}", index + 1),
+    let mut name = String::with_capacity(8);
+    name.push_str(match kind {
+        NetworkKind::PullDown => "MN",
+        NetworkKind::PullUp => "MP",
+    });
+    // Digits by hand: this runs for every device of every gate, and `format!` costs more than the rest.
+    let number = index + 1;
+    let digits = number.checked_ilog10().unwrap_or(0) + 1;
+    for place in (0..digits).rev() {
+        name.push(char::from(b'0' + (number / 10usize.pow(place) % 10) as u8));
     }
+    name
 }
 
 /// Read `text` and size it.
@@ -221,7 +229,7 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
     let count = function.literals.len();
     let input_of: Vec<usize> = function.literals.iter().map(|l| l.input).collect();
     let built = Network::pair(&function);
-    let widths = built.clone().map(|n| sizing::size(&n, count, sizing.method, &sizing));
+    let widths = [0, 1].map(|side| sizing::size(&built[side], count, sizing.method, &sizing));
     let other_total: f64 =
         built.iter().map(|n| sizing::size(n, count, sizing.method.other(), &sizing).iter().sum::<f64>()).sum();
     let trees = [0, 1].map(|side| built[side].ordered(&widths[side], &input_of, critical));
@@ -231,24 +239,12 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
     let terminals: [Vec<Terminals>; 2] = [("n", 0), ("p", 1)]
         .map(|(base, side)| trees[side].nodes(count, &function.output, &internal_prefix(base, &names)));
 
-    let mut transistors = Vec::with_capacity(2 * count);
     let mut loads = Vec::with_capacity(2 * count);
-    for (side, kind) in NetworkKind::BOTH.into_iter().enumerate() {
-        for device in 0..count {
-            let node = &terminals[side][device];
-            transistors.push(Transistor {
-                name: device_name(kind, device),
-                device_type: kind.device_type(),
-                network: kind,
-                input: function.inputs[input_of[device]].clone(),
-                drain: node.drain.clone(),
-                source: node.source.clone(),
-                w_over_l: widths[side][device],
-            });
+    for side in 0..2 {
+        for (device, node) in terminals[side].iter().enumerate() {
             loads.push(DeviceLoad { input: input_of[device], w_over_l: widths[side][device], terminals: node });
         }
     }
-
     let reference_capacitance = sizing.drive * sizing.reference.input_capacitance();
     let capacitance = figures::input_capacitance(&loads, function.inputs.len());
     let effort = figures::logical_effort(&capacitance, reference_capacitance);
@@ -259,6 +255,23 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
         .map(|(name, (&c, &g))| InputFigures { name: name.clone(), input_capacitance: c, logical_effort: g })
         .collect();
     let parasitic_delay = figures::parasitic_delay(&loads, &function.output, reference_capacitance);
+    drop(loads);
+
+    // The terminals move into the transistors (no copies of the node names).
+    let mut transistors = Vec::with_capacity(2 * count);
+    for ((side, kind), nodes) in NetworkKind::BOTH.into_iter().enumerate().zip(terminals) {
+        for (device, node) in nodes.into_iter().enumerate() {
+            transistors.push(Transistor {
+                name: device_name(kind, device),
+                device_type: kind.device_type(),
+                network: kind,
+                input: function.inputs[input_of[device]].clone(),
+                drain: node.drain,
+                source: node.source,
+                w_over_l: widths[side][device],
+            });
+        }
+    }
     let output_devices = transistors.iter().filter(|t| t.drain == function.output).map(|t| t.name.clone()).collect();
 
     let networks: Vec<NetworkFigures> =
@@ -321,7 +334,7 @@ fn network_figures(
         worst_vector,
         exact_worst,
         best_resistance: paths::best_case(network, &resistance),
-        path_count: paths::count(network).to_string(),
+        path_count: paths::count_text(network),
         total_w_over_l: widths.iter().sum(),
     }
 }
@@ -457,6 +470,13 @@ mod tests {
         let (path, vector) = gate.worst_case_for_input(2, NetworkKind::PullDown).unwrap();
         assert_eq!(path.devices, vec![2]);
         assert_eq!(vector.to_string(), "a=0 b=0 c=1");
+    }
+
+    #[test]
+    fn device_names_count_from_one() {
+        assert_eq!(device_name(NetworkKind::PullDown, 0), "MN1");
+        assert_eq!(device_name(NetworkKind::PullUp, 9), "MP10");
+        assert_eq!(device_name(NetworkKind::PullUp, 9_999), "MP10000");
     }
 
     #[test]

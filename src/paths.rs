@@ -101,8 +101,14 @@ pub fn weakest_through(network: &Network, resistance: &[f64], device: usize) -> 
 
 /// Resistance with every device on: series sum, parallel `1 / sum(1/r)`.
 pub fn best_case(network: &Network, resistance: &[f64]) -> f64 {
-    let on = vec![true; resistance.len()];
-    effective_resistance(network, resistance, &on).unwrap_or(f64::INFINITY)
+    fn walk(node: &Node, resistance: &[f64]) -> f64 {
+        match node {
+            Node::Device(index) => resistance[*index],
+            Node::Series(members) => members.iter().map(|m| walk(m, resistance)).sum(),
+            Node::Parallel(branches) => 1.0 / branches.iter().map(|b| 1.0 / walk(b, resistance)).sum::<f64>(),
+        }
+    }
+    walk(&network.root, resistance)
 }
 
 /// Resistance of what conducts when the devices in `on` are on; `None` when nothing conducts.
@@ -129,7 +135,27 @@ pub fn count(network: &Network) -> BigUint {
             Node::Parallel(branches) => branches.iter().map(walk).sum(),
         }
     }
-    walk(&network.root)
+    match count_small(&network.root) {
+        Some(count) => BigUint::from(count),
+        None => walk(&network.root),
+    }
+}
+
+/// The path count in machine integers, or `None` if it does not fit in 128 bits.
+fn count_small(node: &Node) -> Option<u128> {
+    match node {
+        Node::Device(_) => Some(1),
+        Node::Series(members) => members.iter().try_fold(1u128, |product, m| product.checked_mul(count_small(m)?)),
+        Node::Parallel(branches) => branches.iter().try_fold(0u128, |sum, b| sum.checked_add(count_small(b)?)),
+    }
+}
+
+/// The path count as decimal text (what reports show), without big integers when it fits in 128 bits.
+pub fn count_text(network: &Network) -> String {
+    match count_small(&network.root) {
+        Some(count) => count.to_string(),
+        None => count(network).to_string(),
+    }
 }
 
 /// The `limit` weakest paths, weakest first (ties in tree order), without enumerating the rest.
@@ -336,6 +362,10 @@ mod tests {
         let group: Vec<String> = (0..200).map(|i| format!("(a{i} | b{i})")).collect();
         let (down, _, _) = pull_down(&format!("!({})", group.join(" & ")));
         assert_eq!(count(&down), BigUint::from(1u8) << 200);
+        assert_eq!(count_text(&down), (BigUint::from(1u8) << 200usize).to_string());
+        let (small, _, _) = pull_down("!((a | b | c) & (d | e) & f | g)");
+        // (3 x 2 x 1) + 1 = 7 paths (series multiply, parallel add)
+        assert_eq!((count(&small), count_text(&small)), (BigUint::from(7u8), "7".to_string()));
         let listed = list(&down, &vec![1.0; 400], 5);
         assert_eq!(listed.len(), 5);
         // each path takes one of every pair: 200 devices, one per group

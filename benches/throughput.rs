@@ -1,0 +1,239 @@
+//! The performance figures of doc-drafts/performance.md, measured in-process with `Instant`:
+//! sizing throughput per core for typical library gates (both methods), one 2,000-literal
+//! expression, and `verify` of 24-input gates. Run with `cargo bench --bench throughput`.
+//!
+//! Each figure is the best of many short timed rounds (the least disturbed by other work on the
+//! machine), after a warm-up round.
+
+#![forbid(unsafe_code)]
+
+use std::hint::black_box;
+use std::time::{Duration, Instant};
+
+use widthwise::gate::{GateOptions, size_text};
+use widthwise::sizing::{Method, SizingOptions};
+use widthwise::verify::{VerifyOptions, verify};
+
+/// Typical library gates of 2 to 8 inputs: shorthands and written expressions.
+const LIBRARY: [&str; 24] = [
+    "nand2",
+    "nand3",
+    "nand4",
+    "nand8",
+    "nor2",
+    "nor3",
+    "nor4",
+    "nor8",
+    "aoi21",
+    "aoi22",
+    "aoi211",
+    "aoi221",
+    "aoi222",
+    "aoi33",
+    "oai21",
+    "oai22",
+    "oai211",
+    "oai222",
+    "!(a & (b | c))",
+    "y = !(a*b + c*(d + e))",
+    "!((a | b) & (c | d) & e)",
+    "(a b + c d + e f g)'",
+    "!a & !b | !c",
+    "!(a & b | a & c | d)",
+];
+
+fn options(method: Method) -> GateOptions {
+    GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None))
+}
+
+/// Best time of `rounds` calls of `work`, after one warm-up call.
+fn best_of(rounds: usize, mut work: impl FnMut()) -> Duration {
+    work();
+    (0..rounds)
+        .map(|_| {
+            let start = Instant::now();
+            work();
+            start.elapsed()
+        })
+        .min()
+        .unwrap_or_default()
+}
+
+fn sizing_throughput() {
+    println!("sizing throughput, one thread, {} library gates (2 to 8 inputs) in turn", LIBRARY.len());
+    for method in Method::ALL {
+        let options = options(method);
+        let passes = 200;
+        let time = best_of(40, || {
+            for _ in 0..passes {
+                for text in LIBRARY {
+                    black_box(size_text(black_box(text), &options).expect("a library gate sizes"));
+                }
+            }
+        });
+        let gates = (passes * LIBRARY.len()) as f64;
+        println!(
+            "  {:<13} {:>9.0} gates/s per core ({:.2} us per gate; target 200000 gates/s)",
+            method.name(),
+            gates / time.as_secs_f64(),
+            time.as_secs_f64() * 1e6 / gates
+        );
+    }
+    // Both cores at once, each sizing the library on its own.
+    let threads = std::thread::available_parallelism().map_or(1, |n| n.get());
+    let passes = 200;
+    let options = options(Method::LongestPath);
+    let time = best_of(40, || {
+        std::thread::scope(|scope| {
+            for _ in 0..threads {
+                scope.spawn(|| {
+                    for _ in 0..passes {
+                        for text in LIBRARY {
+                            black_box(size_text(black_box(text), &options).expect("a library gate sizes"));
+                        }
+                    }
+                });
+            }
+        });
+    });
+    let gates = (threads * passes * LIBRARY.len()) as f64;
+    println!("  longest-path on {threads} threads: {:.0} gates/s in all", gates / time.as_secs_f64());
+}
+
+/// A deterministic AND/OR tree of `literals` literal occurrences over `inputs` names, as text.
+fn big_expression(literals: usize, inputs: usize) -> String {
+    let mut state = 0x2545_F491_4F6C_DD1Du64;
+    let mut next = move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        state
+    };
+    // Build groups bottom-up: leaves, then AND/OR nodes of 2 to 4 children, alternating by level.
+    // The first `inputs` leaves name every input once; the rest repeat them at random.
+    let mut level: Vec<String> =
+        (0..literals).map(|i| format!("x{}", if i < inputs { i } else { next() as usize % inputs })).collect();
+    let mut and = true;
+    while level.len() > 1 {
+        let mut upper = Vec::new();
+        let mut rest = level.as_slice();
+        while !rest.is_empty() {
+            let take = (2 + next() as usize % 3).min(rest.len());
+            let (group, tail) = rest.split_at(take);
+            upper.push(if group.len() == 1 {
+                group[0].clone()
+            } else {
+                format!("({})", group.join(if and { " & " } else { " | " }))
+            });
+            rest = tail;
+        }
+        level = upper;
+        and = !and;
+    }
+    format!("!{}", level[0])
+}
+
+fn large_expression() {
+    println!("\none expression of 2000 literal occurrences: size, worst case, path count (target < 50 ms)");
+    for (inputs, label) in [(2000, "2000 distinct inputs"), (200, "200 inputs, repeated"), (16, "16 inputs, repeated")]
+    {
+        let text = big_expression(2000, inputs);
+        for method in Method::ALL {
+            let options = options(method);
+            let mut counts = (String::new(), String::new());
+            let time = best_of(5, || {
+                let gate = size_text(&text, &options).expect("the expression sizes");
+                counts = (gate.networks[0].path_count.clone(), gate.networks[1].path_count.clone());
+                black_box(gate);
+            });
+            let digits =
+                |count: &str| if count.len() > 12 { format!("{} digits", count.len()) } else { count.to_string() };
+            println!(
+                "  {label:<22} {:<13} {:>8.2} ms  (paths: pull-down {}, pull-up {})",
+                method.name(),
+                time.as_secs_f64() * 1e3,
+                digits(&counts.0),
+                digits(&counts.1)
+            );
+        }
+    }
+}
+
+fn verify_24_inputs() {
+    println!("\nverify of 24-input gates, all 2^24 vectors (target < 1 s)");
+    let groups = |size: usize, inner: &str, outer: &str| {
+        let groups: Vec<String> = (0..24 / size)
+            .map(|g| format!("({})", (0..size).map(|i| format!("x{}", g * size + i)).collect::<Vec<_>>().join(inner)))
+            .collect();
+        format!("!({})", groups.join(outer))
+    };
+    let gates = [
+        ("8 AND3 groups ORed (aoi333...)", groups(3, " & ", " | ")),
+        ("12 OR2 groups ANDed (oai22...)", groups(2, " | ", " & ")),
+        ("24-input random tree, 48 literals", big_expression(48, 24)),
+    ];
+    let threads = VerifyOptions::default().threads;
+    for (label, text) in gates {
+        let gate = size_text(&text, &options(Method::LongestPath)).expect("sizes");
+        assert_eq!(gate.function.inputs.len(), 24, "{label}");
+        for use_threads in [1, threads] {
+            let options = VerifyOptions { threads: use_threads, ..VerifyOptions::default() };
+            let time = best_of(3, || {
+                let result = verify(&gate, &options).expect("verifies");
+                assert!(result.passed && result.vectors_checked == 1 << 24);
+            });
+            println!(
+                "  {label:<36} {:>3} transistors, {use_threads} thread(s): {:>7.1} ms",
+                gate.transistor_count,
+                time.as_secs_f64() * 1e3
+            );
+        }
+    }
+}
+
+fn batch_placeholder() {
+    // ==== BATCH (20,000-gate TOML file, < 1 s wall end to end, < 100 MB peak) ====
+    // The batch command is built on another branch. Once merged, time it here end to end: write a
+    // 20,000-gate TOML file to a temporary directory, run the built binary
+    // (env!("CARGO_BIN_EXE_widthwise") is not set for benches: use target/release/widthwise) under
+    // `/usr/bin/time -v` or read its peak resident size from /proc/self/status of a child, and print
+    // the wall time and the peak memory next to the figures above.
+    println!("\nbatch of 20,000 gates: not measured here yet (the batch command is not on this branch)");
+}
+
+fn main() {
+    let cpu = std::fs::read_to_string("/proc/cpuinfo")
+        .ok()
+        .and_then(|info| info.lines().find(|l| l.starts_with("model name")).map(|l| l.to_string()))
+        .unwrap_or_default();
+    println!(
+        "machine: {} logical cores; {}\n",
+        std::thread::available_parallelism().map_or(1, |n| n.get()),
+        cpu.split(':').nth(1).unwrap_or("unknown CPU").trim()
+    );
+    let filter = std::env::args().skip(1).find(|a| !a.starts_with('-'));
+    let run = |name: &str| filter.as_deref().is_none_or(|f| name.contains(f) && f != "profile");
+    if run("sizing") {
+        sizing_throughput();
+    }
+    if run("large") {
+        large_expression();
+    }
+    if run("verify") {
+        verify_24_inputs();
+    }
+    if filter.as_deref() == Some("profile") {
+        // A short fixed run for profilers (valgrind, perf): the library 1000 times, both methods.
+        for method in Method::ALL {
+            for _ in 0..500 {
+                for text in LIBRARY {
+                    black_box(size_text(text, &options(method)).expect("sizes"));
+                }
+            }
+        }
+        return;
+    }
+    if run("batch") {
+        batch_placeholder();
+    }
+}
