@@ -299,6 +299,14 @@ pub fn sensitize(kind: NetworkKind, path: &[usize], input_of: &[usize], input_co
 
 /// The exact worst case: the highest resistance of what conducts over every input vector for which
 /// the network conducts, with that vector. `None` past [`EXACT_WORST_MAX_INPUTS`] inputs.
+///
+/// Turning a device on never raises the resistance of what conducts (a series sum or a parallel
+/// combination only falls when a branch's resistance falls from infinity to `r`), so the worst
+/// case is reached where the set of inputs holding devices on is minimal: the network conducts, and
+/// would not with any one of those inputs turned off. Which vectors conduct, and which are minimal,
+/// is found 64 vectors per machine word; the resistance is evaluated only at the minimal ones. Of
+/// several vectors with the same worst resistance, the lowest-numbered minimal one is given (input
+/// 0 is bit 0).
 pub fn exact_worst(
     network: &Network,
     resistance: &[f64],
@@ -308,19 +316,96 @@ pub fn exact_worst(
     if input_count > EXACT_WORST_MAX_INPUTS {
         return None;
     }
+    let vectors = 1u64 << input_count;
+    // Over "on-sets" u: bit i of u says input i holds its devices on (1 for NMOS, 0 for PMOS).
+    let conducts = conduction_by_on_set(network, input_of, input_count);
+    let mut minimal = conducts.clone();
+    for input in 0..input_count {
+        for (word, bits) in minimal.iter_mut().enumerate() {
+            // Where input is on, the network must stop conducting with it off.
+            let without = if input < 6 {
+                let shift = 1 << input;
+                let mask = ON_SET_PATTERNS[input];
+                ((conducts[word] & mask) >> shift) | ((conducts[word] & !mask) << shift)
+            } else {
+                conducts[word ^ (1 << (input - 6))]
+            };
+            *bits &= !(on_set_word(word as u64, input) & without);
+        }
+    }
     let mut worst: Option<(f64, u64)> = None;
     let mut on = vec![false; input_of.len()];
-    for vector in 0..(1u64 << input_count) {
-        for (device, &input) in input_of.iter().enumerate() {
-            on[device] = network.kind.conducts(vector >> input & 1 == 1);
-        }
-        if let Some(r) = effective_resistance(network, resistance, &on)
-            && worst.is_none_or(|(w, _)| key(r) > key(w))
-        {
-            worst = Some((r, vector));
+    for (word, &bits) in minimal.iter().enumerate() {
+        let mut bits = bits;
+        while bits != 0 {
+            let on_set = word as u64 * 64 + u64::from(bits.trailing_zeros());
+            bits &= bits - 1;
+            for (device, &input) in input_of.iter().enumerate() {
+                on[device] = on_set >> input & 1 == 1;
+            }
+            let Some(r) = effective_resistance(network, resistance, &on) else { continue };
+            let vector = match network.kind {
+                NetworkKind::PullDown => on_set,
+                NetworkKind::PullUp => !on_set & (vectors - 1),
+            };
+            if worst.is_none_or(|(w, v)| key(r) > key(w) || (key(r) == key(w) && vector < v)) {
+                worst = Some((r, vector));
+            }
         }
     }
     worst.map(|(r, vector)| (r, (0..input_count).map(|i| vector >> i & 1 == 1).collect()))
+}
+
+/// Bit `b` of word `w` is bit `i` of on-set `64 w + b`, for `i < 6`.
+const ON_SET_PATTERNS: [u64; 6] = [
+    0xAAAA_AAAA_AAAA_AAAA,
+    0xCCCC_CCCC_CCCC_CCCC,
+    0xF0F0_F0F0_F0F0_F0F0,
+    0xFF00_FF00_FF00_FF00,
+    0xFFFF_0000_FFFF_0000,
+    0xFFFF_FFFF_0000_0000,
+];
+
+/// Which of the on-sets `64 word ..` have input `input` on.
+fn on_set_word(word: u64, input: usize) -> u64 {
+    if input < 6 { ON_SET_PATTERNS[input] } else { 0u64.wrapping_sub(word >> (input - 6) & 1) }
+}
+
+/// Words per block of the conduction evaluation: the tree is walked once per block.
+const BLOCK: usize = 8;
+
+/// Whether the network conducts, for every on-set of `input_count` inputs, as a bit set.
+fn conduction_by_on_set(network: &Network, input_of: &[usize], input_count: usize) -> Vec<u64> {
+    fn walk(node: &Node, input_of: &[usize], inputs: &[[u64; BLOCK]]) -> [u64; BLOCK] {
+        match node {
+            Node::Device(index) => inputs[input_of[*index]],
+            Node::Series(members) => members.iter().fold([u64::MAX; BLOCK], |acc, m| {
+                let w = walk(m, input_of, inputs);
+                std::array::from_fn(|k| acc[k] & w[k])
+            }),
+            Node::Parallel(branches) => branches.iter().fold([0; BLOCK], |acc, b| {
+                let w = walk(b, input_of, inputs);
+                std::array::from_fn(|k| acc[k] | w[k])
+            }),
+        }
+    }
+    let vectors = 1u64 << input_count;
+    let words = vectors.div_ceil(64) as usize;
+    let mut out = vec![0u64; words];
+    let mut inputs = vec![[0u64; BLOCK]; input_count];
+    for first in (0..words).step_by(BLOCK) {
+        for (input, block) in inputs.iter_mut().enumerate() {
+            *block = std::array::from_fn(|k| on_set_word((first + k) as u64, input));
+        }
+        let block = walk(&network.root, input_of, &inputs);
+        for (k, bits) in block.into_iter().enumerate().take(words - first) {
+            out[first + k] = bits;
+        }
+    }
+    if vectors < 64 {
+        out[0] &= (1u64 << vectors) - 1;
+    }
+    out
 }
 
 #[cfg(test)]
@@ -404,6 +489,44 @@ mod tests {
             list(&down, &r, 100).into_iter().map(|p| (p.resistance, p.devices)).collect();
         assert_eq!(listed, expected);
         assert_eq!(list(&down, &r, 3), list(&down, &r, 100)[..3].to_vec());
+    }
+
+    /// The plain definition: over every vector, the highest resistance of what conducts.
+    fn exact_by_every_vector(network: &Network, r: &[f64], input_of: &[usize], inputs: usize) -> Option<f64> {
+        let mut worst: Option<f64> = None;
+        for vector in 0..1u64 << inputs {
+            let on: Vec<bool> = input_of.iter().map(|&i| network.kind.conducts(vector >> i & 1 == 1)).collect();
+            if let Some(value) = effective_resistance(network, r, &on) {
+                worst = Some(worst.map_or(value, |w: f64| w.max(value)));
+            }
+        }
+        worst
+    }
+
+    #[test]
+    fn exact_worst_equals_the_plain_definition() {
+        let cases = [
+            "!(a & b | b & c | a & c)",
+            "!(a & (b | a) | c & a)",
+            "!((a | b) & (a | c) & (b | d | a))",
+            "!(a & b & c & d & e & f & g | a & h | b & (c | h))",
+            "!(a | a | a)",
+            "!(x0 & x1 & x2 & x3 & x4 & x5 & x6 & x7 | x0 & x8 | (x1 | x2) & x3 & (x4 | x9 | x0))",
+        ];
+        for text in cases {
+            let gate = read_gate(text).unwrap();
+            let input_of: Vec<usize> = gate.literals.iter().map(|l| l.input).collect();
+            for network in Network::pair(&gate) {
+                // uneven resistances, so that ties are rare
+                let r: Vec<f64> = (0..input_of.len()).map(|k| 1.0 + (k as f64 * 0.37) % 1.3).collect();
+                let (value, vector) = exact_worst(&network, &r, &input_of, gate.inputs.len()).unwrap();
+                let plain = exact_by_every_vector(&network, &r, &input_of, gate.inputs.len()).unwrap();
+                assert!((value - plain).abs() < 1e-12, "{text} {:?}: {value} vs {plain}", network.kind);
+                let on: Vec<bool> = input_of.iter().map(|&i| network.kind.conducts(vector[i])).collect();
+                let at_vector = effective_resistance(&network, &r, &on).unwrap();
+                assert!((at_vector - value).abs() < 1e-12, "{text}: the vector reaches it");
+            }
+        }
     }
 
     #[test]
