@@ -191,6 +191,45 @@ fn verify_24_inputs() {
     }
 }
 
+/// The gates of benches/scipy_min_area.py, in the same order.
+const SCIPY_SET: [&str; 15] = [
+    "nand3",
+    "nor3",
+    "aoi21",
+    "aoi22",
+    "aoi221",
+    "aoi32",
+    "oai21",
+    "oai22",
+    "oai321",
+    "!(a & (b | c))",
+    "!(a & b | c & (d | e))",
+    "!((a | b) & (c | d) & e)",
+    "!(a & (b | c & (d | e)))",
+    "!((a | b & c) & (d | e & (f | g)))",
+    "!(a & b | a & c)",
+];
+
+fn scipy_set() {
+    println!(
+        "
+min-area sizing in-process, the gates of benches/scipy_min_area.py (compare its scipy solve times)"
+    );
+    let options = options(Method::MinArea);
+    let mut times = Vec::new();
+    for text in SCIPY_SET {
+        let time = best_of(20, || {
+            for _ in 0..100 {
+                black_box(size_text(black_box(text), &options).expect("sizes"));
+            }
+        }) / 100;
+        times.push(time);
+        println!("  {text:<40} {:>7.2} us", time.as_secs_f64() * 1e6);
+    }
+    times.sort();
+    println!("  median {:.2} us per gate", times[times.len() / 2].as_secs_f64() * 1e6);
+}
+
 fn batch_placeholder() {
     // ==== BATCH (20,000-gate TOML file, < 1 s wall end to end, < 100 MB peak) ====
     // The batch command is built on another branch. Once merged, time it here end to end: write a
@@ -221,6 +260,9 @@ fn main() {
     }
     if run("verify") {
         verify_24_inputs();
+    }
+    if run("scipy") {
+        scipy_set();
     }
     if filter.as_deref() == Some("profile") {
         // A short fixed run for profilers (valgrind, perf): the library 1000 times, both methods.

@@ -2,6 +2,7 @@
 //! a module per command.
 
 mod limits;
+mod min_area_reference;
 mod paths;
 mod size;
 mod verify;
