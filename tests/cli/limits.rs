@@ -131,3 +131,21 @@ fn help_lists_every_limit() {
         assert!(help.contains(limit), "{limit}");
     }
 }
+
+#[test]
+fn library_limits_past_the_command_line() {
+    use widthwise::expr::parser::{MAX_EXPRESSION_BYTES, parse};
+    use widthwise::process::{MAX_PROCESS_FILE_BYTES, Process};
+    // Expression text through the library (an argument cannot be this long; standard input is
+    // checked before parsing, above).
+    let padded = |text: &str, length: usize| format!("{text}{}", " ".repeat(length - text.len()));
+    let error = parse(&padded("nand2", MAX_EXPRESSION_BYTES + 1)).unwrap_err();
+    assert!(error.to_string().contains("1048577 bytes long; the limit is 1048576"), "{error}");
+    assert!(parse(&padded("nand2", MAX_EXPRESSION_BYTES)).is_ok());
+    // A process file: a comment pads the default file past the limit, then to it exactly.
+    let file = Process::default().to_commented_toml();
+    let pad = |length: usize| format!("{file}#{}", "x".repeat(length - file.len() - 1));
+    let error = Process::from_toml(&pad(MAX_PROCESS_FILE_BYTES + 1)).unwrap_err();
+    assert!(error.to_string().contains("the limit is 1048576"), "{error}");
+    assert_eq!(Process::from_toml(&pad(MAX_PROCESS_FILE_BYTES)).unwrap(), Process::default());
+}
