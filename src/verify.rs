@@ -1079,7 +1079,7 @@ mod tests {
     }
 
     proptest! {
-        #![proptest_config(ProptestConfig::with_cases(48))]
+        #![proptest_config(ProptestConfig::with_cases(128))]
 
         #[test]
         fn every_sized_gate_verifies(text in gate_text(), min_area in any::<bool>()) {
