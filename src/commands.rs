@@ -10,11 +10,14 @@ use std::path::Path;
 use crate::cli::{Cli, Command, DeckArgs, GateArgs, OutputArgs};
 use crate::delay::{self, DelayOptions};
 use crate::error::Error;
+use crate::expr::parser::MAX_EXPRESSION_BYTES;
 use crate::gate::{GateOptions, size_text};
 use crate::output::deck::{DeckOptions, Models};
 use crate::output::{self, Format, Rows};
+use crate::paths;
 use crate::process::Process;
 use crate::sizing::{Method, SizingOptions};
+use crate::verify::{self, VerifyOptions};
 
 /// Run a parsed command line.
 pub fn run(cli: Cli) -> Result<(), Error> {
@@ -38,6 +41,18 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             let options = gate_options(&gate)?;
             let text = expression_text(&expression)?;
             let sized = delay::size_gate(&text, &options, &DelayOptions::default())?;
+            for network in &sized.trees {
+                let size = paths::listing_size(network, limit);
+                if size > paths::MAX_LISTED_DEVICES {
+                    return Err(Error::Usage(format!(
+                        "listing {limit} paths of the {} with up to {} devices each could name {size} devices; the \
+                         limit is {}: ask for fewer with --limit",
+                        network.kind.name(),
+                        paths::longest_path_devices(network),
+                        paths::MAX_LISTED_DEVICES
+                    )));
+                }
+            }
             let listings = sized.list_paths(limit);
             write_output(&output, |out| output::write_paths(&sized, &listings, output.format, out))
         }
@@ -56,6 +71,19 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             write_output(&target, |out| out.write_all(Process::default().to_commented_toml().as_bytes()))
         }
         Command::Batch { library, output, rows } => crate::batch::run(&library, &output, rows),
+        Command::Verify { expression, gate, output, random_vectors, seed } => {
+            if output.format == Format::Spice {
+                return Err(Error::Usage("verification is written as table, csv or json, not spice".into()));
+            }
+            let text = expression_text(&expression)?;
+            let sized = delay::size_gate(&text, &gate_options(&gate)?, &DelayOptions::default())?;
+            let options = VerifyOptions { random_vectors, seed, ..VerifyOptions::default() };
+            let result = verify::verify(&sized, &options)?;
+            write_output(&output, |out| {
+                output::verify::write_verifications(std::slice::from_ref(&result), output.format, out)
+            })?;
+            result.outcome()
+        }
     }
 }
 
@@ -115,12 +143,18 @@ pub fn deck_options(args: &DeckArgs, process: &Process) -> Result<DeckOptions, E
 /// first bad byte.
 pub fn expression_text(argument: &OsString) -> Result<String, Error> {
     let bytes = if argument == "-" {
+        // Read one byte past the limit, never the whole of an endless stream.
         let mut bytes = Vec::new();
-        io::stdin().lock().read_to_end(&mut bytes).map_err(|source| Error::File {
-            action: "read",
-            path: "standard input".into(),
-            source,
-        })?;
+        io::stdin()
+            .lock()
+            .take(MAX_EXPRESSION_BYTES as u64 + 1)
+            .read_to_end(&mut bytes)
+            .map_err(|source| Error::File { action: "read", path: "standard input".into(), source })?;
+        if bytes.len() > MAX_EXPRESSION_BYTES {
+            return Err(Error::Usage(format!(
+                "the expression on standard input is longer than {MAX_EXPRESSION_BYTES} bytes, the limit"
+            )));
+        }
         bytes
     } else {
         argument.as_encoded_bytes().to_vec()

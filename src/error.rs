@@ -226,6 +226,9 @@ pub enum Error {
         /// The file's text.
         source_text: String,
     },
+    /// A netlist that verification cannot simulate.
+    #[error("{0}")]
+    Verify(#[from] crate::verify::VerifyError),
     /// A check the user asked for failed; the message says which.
     #[error("{0}")]
     CheckFailed(String),

@@ -235,10 +235,18 @@ pub struct SizedGate {
 
 /// Name of device `index` (0-based literal occurrence) in a network.
 pub fn device_name(kind: NetworkKind, index: usize) -> String {
-    match kind {
-        NetworkKind::PullDown => format!("MN{}", index + 1),
-        NetworkKind::PullUp => format!("MP{}", index + 1),
+    let mut name = String::with_capacity(8);
+    name.push_str(match kind {
+        NetworkKind::PullDown => "MN",
+        NetworkKind::PullUp => "MP",
+    });
+    // Digits by hand: this runs for every device of every gate, and `format!` costs more than the rest.
+    let number = index + 1;
+    let digits = number.checked_ilog10().unwrap_or(0) + 1;
+    for place in (0..digits).rev() {
+        name.push(char::from(b'0' + (number / 10usize.pow(place) % 10) as u8));
     }
+    name
 }
 
 /// Read `text` and size it.
@@ -274,7 +282,7 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
                 "the elmore method sets widths from delays and needs a load: size it through the delay stage".into(),
             ));
         }
-        None => built.clone().map(|n| sizing::size(&n, count, sizing.method, &sizing)),
+        None => [0, 1].map(|side| sizing::size(&built[side], count, sizing.method, &sizing)),
     };
     let other_total: f64 =
         built.iter().map(|n| sizing::size(n, count, sizing.method.other(), &sizing).iter().sum::<f64>()).sum();
@@ -297,30 +305,12 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
     let terminals: [Vec<Terminals>; 2] = [("n", 0), ("p", 1)]
         .map(|(base, side)| trees[side].nodes(count, &function.output, &internal_prefix(base, &names)));
 
-    let mut transistors = Vec::with_capacity(2 * count);
     let mut loads = Vec::with_capacity(2 * count);
-    for (side, kind) in NetworkKind::BOTH.into_iter().enumerate() {
-        for device in 0..count {
-            let node = &terminals[side][device];
-            transistors.push(Transistor {
-                name: device_name(kind, device),
-                device_type: kind.device_type(),
-                network: kind,
-                input: function.inputs[input_of[device]].clone(),
-                drain: node.drain.clone(),
-                source: node.source.clone(),
-                w_over_l: widths[side][device],
-                width_um: process.width_nm(widths[side][device]) / 1000.0,
-                length_um: process.length_nm / 1000.0,
-                drawn_width_um: drawn[side][device].width_nm() / 1000.0,
-                finger_width_um: drawn[side][device].finger_width_nm / 1000.0,
-                fingers: drawn[side][device].fingers,
-                drawn_w_over_l: drawn_widths[side][device],
-            });
+    for side in 0..2 {
+        for (device, node) in terminals[side].iter().enumerate() {
             loads.push(DeviceLoad { input: input_of[device], w_over_l: widths[side][device], terminals: node });
         }
     }
-
     let reference_capacitance = sizing.drive * sizing.reference.input_capacitance();
     let capacitance = figures::input_capacitance(&loads, function.inputs.len());
     let effort = figures::logical_effort(&capacitance, reference_capacitance);
@@ -331,6 +321,29 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
         .map(|(name, (&c, &g))| InputFigures { name: name.clone(), input_capacitance: c, logical_effort: g })
         .collect();
     let parasitic_delay = figures::parasitic_delay(&loads, &function.output, reference_capacitance);
+    drop(loads);
+
+    // The terminals move into the transistors (no copies of the node names).
+    let mut transistors = Vec::with_capacity(2 * count);
+    for ((side, kind), nodes) in NetworkKind::BOTH.into_iter().enumerate().zip(terminals) {
+        for (device, node) in nodes.into_iter().enumerate() {
+            transistors.push(Transistor {
+                name: device_name(kind, device),
+                device_type: kind.device_type(),
+                network: kind,
+                input: function.inputs[input_of[device]].clone(),
+                drain: node.drain,
+                source: node.source,
+                w_over_l: widths[side][device],
+                width_um: process.width_nm(widths[side][device]) / 1000.0,
+                length_um: process.length_nm / 1000.0,
+                drawn_width_um: drawn[side][device].width_nm() / 1000.0,
+                finger_width_um: drawn[side][device].finger_width_nm / 1000.0,
+                fingers: drawn[side][device].fingers,
+                drawn_w_over_l: drawn_widths[side][device],
+            });
+        }
+    }
     let output_devices = transistors.iter().filter(|t| t.drain == function.output).map(|t| t.name.clone()).collect();
 
     let networks: Vec<NetworkFigures> = (0..2)
@@ -400,7 +413,7 @@ fn network_figures(
         worst_vector,
         exact_worst,
         best_resistance: paths::best_case(network, &resistance),
-        path_count: paths::count(network).to_string(),
+        path_count: paths::count_text(network),
         total_w_over_l: widths.iter().sum(),
         drawn_worst_resistance: drawn_worst,
         drawn_error_percent: (drawn_worst / sizing.target(kind) - 1.0) * 100.0,
@@ -542,6 +555,13 @@ mod tests {
         let (path, vector) = gate.worst_case_for_input(2, NetworkKind::PullDown).unwrap();
         assert_eq!(path.devices, vec![2]);
         assert_eq!(vector.to_string(), "a=0 b=0 c=1");
+    }
+
+    #[test]
+    fn device_names_count_from_one() {
+        assert_eq!(device_name(NetworkKind::PullDown, 0), "MN1");
+        assert_eq!(device_name(NetworkKind::PullUp, 9), "MP10");
+        assert_eq!(device_name(NetworkKind::PullUp, 9_999), "MP10000");
     }
 
     #[test]

@@ -22,6 +22,7 @@ pub mod output;
 pub mod paths;
 pub mod process;
 pub mod sizing;
+pub mod verify;
 
 pub use error::{Error, ExprError, Span};
 pub use gate::{GateOptions, SizedGate, size_text};

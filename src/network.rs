@@ -150,15 +150,26 @@ impl Network {
                     }
                 }
                 Node::Series(members) => {
-                    let mut upper = top.to_string();
+                    // Only the internal nodes are new names; the ends are borrowed.
+                    let mut upper: Option<String> = None;
                     for (position, member) in members.iter().enumerate() {
                         let lower = if position + 1 == members.len() {
-                            bottom.to_string()
+                            None
                         } else {
                             *counter += 1;
-                            format!("{prefix}{counter}")
+                            let mut name = String::with_capacity(prefix.len() + 4);
+                            name.push_str(prefix);
+                            name.push_str(&counter.to_string());
+                            Some(name)
                         };
-                        walk(member, &upper, &lower, prefix, counter, out);
+                        walk(
+                            member,
+                            upper.as_deref().unwrap_or(top),
+                            lower.as_deref().unwrap_or(bottom),
+                            prefix,
+                            counter,
+                            out,
+                        );
                         upper = lower;
                     }
                 }
@@ -218,8 +229,9 @@ pub fn internal_prefix(base: &str, names: &[&str]) -> String {
     let mut prefix = base.to_string();
     let taken = |prefix: &str| {
         names.iter().any(|name| {
-            let lower = name.to_ascii_lowercase();
-            lower.strip_prefix(prefix).is_some_and(|rest| !rest.is_empty() && rest.bytes().all(|b| b.is_ascii_digit()))
+            name.len() > prefix.len()
+                && name.as_bytes()[..prefix.len()].eq_ignore_ascii_case(prefix.as_bytes())
+                && name.as_bytes()[prefix.len()..].iter().all(u8::is_ascii_digit)
         })
     };
     while taken(&prefix) {

@@ -101,8 +101,14 @@ pub fn weakest_through(network: &Network, resistance: &[f64], device: usize) -> 
 
 /// Resistance with every device on: series sum, parallel `1 / sum(1/r)`.
 pub fn best_case(network: &Network, resistance: &[f64]) -> f64 {
-    let on = vec![true; resistance.len()];
-    effective_resistance(network, resistance, &on).unwrap_or(f64::INFINITY)
+    fn walk(node: &Node, resistance: &[f64]) -> f64 {
+        match node {
+            Node::Device(index) => resistance[*index],
+            Node::Series(members) => members.iter().map(|m| walk(m, resistance)).sum(),
+            Node::Parallel(branches) => 1.0 / branches.iter().map(|b| 1.0 / walk(b, resistance)).sum::<f64>(),
+        }
+    }
+    walk(&network.root, resistance)
 }
 
 /// Resistance of what conducts when the devices in `on` are on; `None` when nothing conducts.
@@ -129,45 +135,107 @@ pub fn count(network: &Network) -> BigUint {
             Node::Parallel(branches) => branches.iter().map(walk).sum(),
         }
     }
-    walk(&network.root)
+    match count_small(&network.root) {
+        Some(count) => BigUint::from(count),
+        None => walk(&network.root),
+    }
+}
+
+/// The path count in machine integers, or `None` if it does not fit in 128 bits.
+fn count_small(node: &Node) -> Option<u128> {
+    match node {
+        Node::Device(_) => Some(1),
+        Node::Series(members) => members.iter().try_fold(1u128, |product, m| product.checked_mul(count_small(m)?)),
+        Node::Parallel(branches) => branches.iter().try_fold(0u128, |sum, b| sum.checked_add(count_small(b)?)),
+    }
+}
+
+/// The path count as decimal text (what reports show), without big integers when it fits in 128 bits.
+pub fn count_text(network: &Network) -> String {
+    match count_small(&network.root) {
+        Some(count) => count.to_string(),
+        None => count(network).to_string(),
+    }
 }
 
 /// The `limit` weakest paths, weakest first (ties in tree order), without enumerating the rest.
+///
+/// Partial paths are kept as pieces joined by reference (a device, or two partial paths in series),
+/// so a series stack of `m` members costs `O(m limit log limit)` however long its paths are; only the
+/// paths returned are written out, device by device.
 pub fn list(network: &Network, resistance: &[f64], limit: usize) -> Vec<Path> {
-    fn walk(node: &Node, resistance: &[f64], limit: usize) -> Vec<Path> {
+    fn walk(node: &Node, resistance: &[f64], limit: usize, pieces: &mut Vec<Piece>) -> Vec<(f64, u32)> {
         match node {
-            Node::Device(index) => vec![Path { resistance: resistance[*index], devices: vec![*index] }],
+            Node::Device(index) => {
+                pieces.push(Piece::Device(*index));
+                vec![(resistance[*index], (pieces.len() - 1) as u32)]
+            }
             Node::Parallel(branches) => {
-                let mut all: Vec<Path> = branches.iter().flat_map(|b| walk(b, resistance, limit)).collect();
-                all.sort_by_key(|p| Reverse(key(p.resistance)));
+                let mut all: Vec<(f64, u32)> =
+                    branches.iter().flat_map(|b| walk(b, resistance, limit, pieces)).collect();
+                all.sort_by_key(|p| Reverse(key(p.0)));
                 all.truncate(limit);
                 all
             }
             Node::Series(members) => {
-                let mut lists = members.iter().map(|m| walk(m, resistance, limit));
-                let first = lists.next().unwrap_or_default();
-                lists.fold(first, |upper, lower| combine(&upper, &lower, limit))
+                let mut upper = match members.first() {
+                    Some(first) => walk(first, resistance, limit, pieces),
+                    None => Vec::new(),
+                };
+                for member in &members[1..] {
+                    let lower = walk(member, resistance, limit, pieces);
+                    upper = combine(&upper, &lower, limit, pieces);
+                }
+                upper
             }
         }
     }
     if limit == 0 {
         return Vec::new();
     }
-    walk(&network.root, resistance, limit.min(MAX_LISTED_PATHS))
+    let mut pieces = Vec::new();
+    let partial = walk(&network.root, resistance, limit.min(MAX_LISTED_PATHS), &mut pieces);
+    let mut stack = Vec::new();
+    partial
+        .into_iter()
+        .map(|(resistance, piece)| {
+            let mut devices = Vec::new();
+            stack.push(piece);
+            while let Some(piece) = stack.pop() {
+                match pieces[piece as usize] {
+                    Piece::Device(index) => devices.push(index),
+                    Piece::Join(upper, lower) => {
+                        stack.push(lower);
+                        stack.push(upper);
+                    }
+                }
+            }
+            Path { resistance, devices }
+        })
+        .collect()
 }
 
-/// The `limit` largest sums of one path from each sorted list (the k-best pairs, by a heap).
-fn combine(upper: &[Path], lower: &[Path], limit: usize) -> Vec<Path> {
+/// Part of a listed path: one device, or an upper part followed by a lower part.
+#[derive(Debug, Clone, Copy)]
+enum Piece {
+    Device(usize),
+    Join(u32, u32),
+}
+
+/// The `limit` largest sums of one partial path from each sorted list (the k-best pairs, by a heap).
+fn combine(upper: &[(f64, u32)], lower: &[(f64, u32)], limit: usize, pieces: &mut Vec<Piece>) -> Vec<(f64, u32)> {
     let mut out = Vec::with_capacity(limit.min(upper.len() * lower.len()));
     let mut heap = BinaryHeap::new();
     let mut seen = std::collections::HashSet::new();
-    let sum = |i: usize, j: usize| upper[i].resistance + lower[j].resistance;
+    if upper.is_empty() || lower.is_empty() {
+        return out;
+    }
+    let sum = |i: usize, j: usize| upper[i].0 + lower[j].0;
     heap.push((key(sum(0, 0)), Reverse((0usize, 0usize))));
     seen.insert((0, 0));
     while let Some((_, Reverse((i, j)))) = heap.pop() {
-        let mut devices = upper[i].devices.clone();
-        devices.extend_from_slice(&lower[j].devices);
-        out.push(Path { resistance: sum(i, j), devices });
+        pieces.push(Piece::Join(upper[i].1, lower[j].1));
+        out.push((sum(i, j), (pieces.len() - 1) as u32));
         if out.len() == limit {
             break;
         }
@@ -178,6 +246,29 @@ fn combine(upper: &[Path], lower: &[Path], limit: usize) -> Vec<Path> {
         }
     }
     out
+}
+
+/// Most device names one listing may hold (paths listed x devices on the longest path), so that a
+/// request for many long paths is refused instead of writing gigabytes.
+pub const MAX_LISTED_DEVICES: u128 = 1_000_000;
+
+/// Devices on the longest path of the network.
+pub fn longest_path_devices(network: &Network) -> usize {
+    fn walk(node: &Node) -> usize {
+        match node {
+            Node::Device(_) => 1,
+            Node::Series(members) => members.iter().map(walk).sum(),
+            Node::Parallel(branches) => branches.iter().map(walk).max().unwrap_or(0),
+        }
+    }
+    walk(&network.root)
+}
+
+/// The most device names a listing of `limit` paths can hold: paths listed x the longest path.
+pub fn listing_size(network: &Network, limit: usize) -> u128 {
+    let paths = count(network).min(BigUint::from(limit));
+    let paths: u128 = paths.try_into().unwrap_or(u128::MAX);
+    paths.saturating_mul(longest_path_devices(network) as u128)
 }
 
 /// Resistances compared to 1e-9 R, so that equal paths tie whatever the rounding.
@@ -214,6 +305,14 @@ fn conducting_paths(node: &Node, on: &[bool]) -> u64 {
 
 /// The exact worst case: the highest resistance of what conducts over every input vector for which
 /// the network conducts, with that vector. `None` past [`EXACT_WORST_MAX_INPUTS`] inputs.
+///
+/// Turning a device on never raises the resistance of what conducts (a series sum or a parallel
+/// combination only falls when a branch's resistance falls from infinity to `r`), so the worst
+/// case is reached where the set of inputs holding devices on is minimal: the network conducts, and
+/// would not with any one of those inputs turned off. Which vectors conduct, and which are minimal,
+/// is found 64 vectors per machine word; the resistance is evaluated only at the minimal ones. Of
+/// several vectors with the same worst resistance, the lowest-numbered minimal one is given (input
+/// 0 is bit 0).
 pub fn exact_worst(
     network: &Network,
     resistance: &[f64],
@@ -223,19 +322,96 @@ pub fn exact_worst(
     if input_count > EXACT_WORST_MAX_INPUTS {
         return None;
     }
+    let vectors = 1u64 << input_count;
+    // Over "on-sets" u: bit i of u says input i holds its devices on (1 for NMOS, 0 for PMOS).
+    let conducts = conduction_by_on_set(network, input_of, input_count);
+    let mut minimal = conducts.clone();
+    for input in 0..input_count {
+        for (word, bits) in minimal.iter_mut().enumerate() {
+            // Where input is on, the network must stop conducting with it off.
+            let without = if input < 6 {
+                let shift = 1 << input;
+                let mask = ON_SET_PATTERNS[input];
+                ((conducts[word] & mask) >> shift) | ((conducts[word] & !mask) << shift)
+            } else {
+                conducts[word ^ (1 << (input - 6))]
+            };
+            *bits &= !(on_set_word(word as u64, input) & without);
+        }
+    }
     let mut worst: Option<(f64, u64)> = None;
     let mut on = vec![false; input_of.len()];
-    for vector in 0..(1u64 << input_count) {
-        for (device, &input) in input_of.iter().enumerate() {
-            on[device] = network.kind.conducts(vector >> input & 1 == 1);
-        }
-        if let Some(r) = effective_resistance(network, resistance, &on)
-            && worst.is_none_or(|(w, _)| key(r) > key(w))
-        {
-            worst = Some((r, vector));
+    for (word, &bits) in minimal.iter().enumerate() {
+        let mut bits = bits;
+        while bits != 0 {
+            let on_set = word as u64 * 64 + u64::from(bits.trailing_zeros());
+            bits &= bits - 1;
+            for (device, &input) in input_of.iter().enumerate() {
+                on[device] = on_set >> input & 1 == 1;
+            }
+            let Some(r) = effective_resistance(network, resistance, &on) else { continue };
+            let vector = match network.kind {
+                NetworkKind::PullDown => on_set,
+                NetworkKind::PullUp => !on_set & (vectors - 1),
+            };
+            if worst.is_none_or(|(w, v)| key(r) > key(w) || (key(r) == key(w) && vector < v)) {
+                worst = Some((r, vector));
+            }
         }
     }
     worst.map(|(r, vector)| (r, (0..input_count).map(|i| vector >> i & 1 == 1).collect()))
+}
+
+/// Bit `b` of word `w` is bit `i` of on-set `64 w + b`, for `i < 6`.
+const ON_SET_PATTERNS: [u64; 6] = [
+    0xAAAA_AAAA_AAAA_AAAA,
+    0xCCCC_CCCC_CCCC_CCCC,
+    0xF0F0_F0F0_F0F0_F0F0,
+    0xFF00_FF00_FF00_FF00,
+    0xFFFF_0000_FFFF_0000,
+    0xFFFF_FFFF_0000_0000,
+];
+
+/// Which of the on-sets `64 word ..` have input `input` on.
+fn on_set_word(word: u64, input: usize) -> u64 {
+    if input < 6 { ON_SET_PATTERNS[input] } else { 0u64.wrapping_sub(word >> (input - 6) & 1) }
+}
+
+/// Words per block of the conduction evaluation: the tree is walked once per block.
+const BLOCK: usize = 8;
+
+/// Whether the network conducts, for every on-set of `input_count` inputs, as a bit set.
+fn conduction_by_on_set(network: &Network, input_of: &[usize], input_count: usize) -> Vec<u64> {
+    fn walk(node: &Node, input_of: &[usize], inputs: &[[u64; BLOCK]]) -> [u64; BLOCK] {
+        match node {
+            Node::Device(index) => inputs[input_of[*index]],
+            Node::Series(members) => members.iter().fold([u64::MAX; BLOCK], |acc, m| {
+                let w = walk(m, input_of, inputs);
+                std::array::from_fn(|k| acc[k] & w[k])
+            }),
+            Node::Parallel(branches) => branches.iter().fold([0; BLOCK], |acc, b| {
+                let w = walk(b, input_of, inputs);
+                std::array::from_fn(|k| acc[k] | w[k])
+            }),
+        }
+    }
+    let vectors = 1u64 << input_count;
+    let words = vectors.div_ceil(64) as usize;
+    let mut out = vec![0u64; words];
+    let mut inputs = vec![[0u64; BLOCK]; input_count];
+    for first in (0..words).step_by(BLOCK) {
+        for (input, block) in inputs.iter_mut().enumerate() {
+            *block = std::array::from_fn(|k| on_set_word((first + k) as u64, input));
+        }
+        let block = walk(&network.root, input_of, &inputs);
+        for (k, bits) in block.into_iter().enumerate().take(words - first) {
+            out[first + k] = bits;
+        }
+    }
+    if vectors < 64 {
+        out[0] &= (1u64 << vectors) - 1;
+    }
+    out
 }
 
 #[cfg(test)]
@@ -277,8 +453,16 @@ mod tests {
         let group: Vec<String> = (0..200).map(|i| format!("(a{i} | b{i})")).collect();
         let (down, _, _) = pull_down(&format!("!({})", group.join(" & ")));
         assert_eq!(count(&down), BigUint::from(1u8) << 200);
+        assert_eq!(count_text(&down), (BigUint::from(1u8) << 200usize).to_string());
+        let (small, _, _) = pull_down("!((a | b | c) & (d | e) & f | g)");
+        // (3 x 2 x 1) + 1 = 7 paths (series multiply, parallel add)
+        assert_eq!((count(&small), count_text(&small)), (BigUint::from(7u8), "7".to_string()));
         let listed = list(&down, &vec![1.0; 400], 5);
         assert_eq!(listed.len(), 5);
+        // each path takes one of every pair: 200 devices, one per group
+        assert!(listed.iter().all(|p| p.devices.len() == 200 && p.devices.iter().zip(0..).all(|(d, g)| d / 2 == g)));
+        assert_eq!(listing_size(&down, 5), 5 * 200);
+        assert_eq!(listing_size(&down, MAX_LISTED_PATHS), 10_000 * 200);
     }
 
     #[test]
@@ -287,6 +471,68 @@ mod tests {
         let r = [1.0, 3.0, 2.0, 5.0];
         let listed: Vec<f64> = list(&down, &r, 10).iter().map(|p| p.resistance).collect();
         assert_eq!(listed, vec![8.0, 6.0, 5.0, 3.0]);
+    }
+
+    #[test]
+    fn listing_equals_every_path_enumerated_and_sorted() {
+        fn every(node: &Node) -> Vec<Vec<usize>> {
+            match node {
+                Node::Device(index) => vec![vec![*index]],
+                Node::Parallel(branches) => branches.iter().flat_map(every).collect(),
+                Node::Series(members) => members.iter().fold(vec![Vec::new()], |paths, member| {
+                    let lower = every(member);
+                    paths.iter().flat_map(|p| lower.iter().map(move |q| [p.clone(), q.clone()].concat())).collect()
+                }),
+            }
+        }
+        let (down, _, _) = pull_down("!((a | b & c) & (d | e) | f & (g | h) & (i | j & k))");
+        // powers of two: every path has its own sum, so the order is unique
+        let r: Vec<f64> = (0..11).map(|k| f64::from(1 << k)).collect();
+        let mut expected: Vec<(f64, Vec<usize>)> =
+            every(&down.root).into_iter().map(|p| (p.iter().map(|&d| r[d]).sum(), p)).collect();
+        expected.sort_by(|x, y| y.0.total_cmp(&x.0));
+        let listed: Vec<(f64, Vec<usize>)> =
+            list(&down, &r, 100).into_iter().map(|p| (p.resistance, p.devices)).collect();
+        assert_eq!(listed, expected);
+        assert_eq!(list(&down, &r, 3), list(&down, &r, 100)[..3].to_vec());
+    }
+
+    /// The plain definition: over every vector, the highest resistance of what conducts.
+    fn exact_by_every_vector(network: &Network, r: &[f64], input_of: &[usize], inputs: usize) -> Option<f64> {
+        let mut worst: Option<f64> = None;
+        for vector in 0..1u64 << inputs {
+            let on: Vec<bool> = input_of.iter().map(|&i| network.kind.conducts(vector >> i & 1 == 1)).collect();
+            if let Some(value) = effective_resistance(network, r, &on) {
+                worst = Some(worst.map_or(value, |w: f64| w.max(value)));
+            }
+        }
+        worst
+    }
+
+    #[test]
+    fn exact_worst_equals_the_plain_definition() {
+        let cases = [
+            "!(a & b | b & c | a & c)",
+            "!(a & (b | a) | c & a)",
+            "!((a | b) & (a | c) & (b | d | a))",
+            "!(a & b & c & d & e & f & g | a & h | b & (c | h))",
+            "!(a | a | a)",
+            "!(x0 & x1 & x2 & x3 & x4 & x5 & x6 & x7 | x0 & x8 | (x1 | x2) & x3 & (x4 | x9 | x0))",
+        ];
+        for text in cases {
+            let gate = read_gate(text).unwrap();
+            let input_of: Vec<usize> = gate.literals.iter().map(|l| l.input).collect();
+            for network in Network::pair(&gate) {
+                // uneven resistances, so that ties are rare
+                let r: Vec<f64> = (0..input_of.len()).map(|k| 1.0 + (k as f64 * 0.37) % 1.3).collect();
+                let (value, vector) = exact_worst(&network, &r, &input_of, gate.inputs.len()).unwrap();
+                let plain = exact_by_every_vector(&network, &r, &input_of, gate.inputs.len()).unwrap();
+                assert!((value - plain).abs() < 1e-12, "{text} {:?}: {value} vs {plain}", network.kind);
+                let on: Vec<bool> = input_of.iter().map(|&i| network.kind.conducts(vector[i])).collect();
+                let at_vector = effective_resistance(&network, &r, &on).unwrap();
+                assert!((at_vector - value).abs() < 1e-12, "{text}: the vector reaches it");
+            }
+        }
     }
 
     #[test]

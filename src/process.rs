@@ -276,9 +276,21 @@ impl ProcessFile {
     }
 }
 
+/// Longest process file read, in bytes (a real one is about a kilobyte).
+pub const MAX_PROCESS_FILE_BYTES: usize = 1 << 20;
+
 impl Process {
     /// Read a process file's text.
     pub fn from_toml(text: &str) -> Result<Process, ProcessError> {
+        if text.len() > MAX_PROCESS_FILE_BYTES {
+            return Err(ProcessError::Syntax {
+                message: format!(
+                    "the process file is {} bytes long; the limit is {MAX_PROCESS_FILE_BYTES}",
+                    text.len()
+                ),
+                span: None,
+            });
+        }
         let file: ProcessFile = toml::from_str(text).map_err(|error| {
             let span = error.span().map(|r| Span::new(r.start, r.end));
             let mut message = error.message().trim().to_string();
@@ -333,7 +345,7 @@ impl Process {
         let mut line = |comment: &str, key: &str, value: String| {
             let _ = writeln!(out, "# {comment}\n{key} = {value}\n");
         };
-        line("A label for reports.", "name", format!("{:?}", self.name));
+        line("A label for reports.", "name", toml_string(&self.name));
         line(
             "Mobility ratio mu_n / mu_p used for sizing; must equal nmos_kp / pmos_kp.",
             "mobility_ratio",
@@ -353,8 +365,8 @@ impl Process {
             float(self.max_finger_width_nm),
         );
         line("Supply voltage, V.", "supply_v", float(self.supply_v));
-        line("NMOS model name in netlists and decks.", "nmos_model", format!("{:?}", self.nmos_model));
-        line("PMOS model name in netlists and decks.", "pmos_model", format!("{:?}", self.pmos_model));
+        line("NMOS model name in netlists and decks.", "nmos_model", toml_string(&self.nmos_model));
+        line("PMOS model name in netlists and decks.", "pmos_model", toml_string(&self.pmos_model));
         line("NMOS threshold voltage (level-1 VTO), V.", "nmos_threshold_v", float(self.nmos_threshold_v));
         line("PMOS threshold voltage magnitude, V.", "pmos_threshold_v", float(self.pmos_threshold_v));
         line(
@@ -417,6 +429,28 @@ impl Drawn {
     }
 }
 
+/// A TOML basic string: quotes and backslashes escaped, control characters as `\uXXXX`, the rest
+/// as written (Rust's `{:?}` is not TOML: it writes `\u{feff}`).
+fn toml_string(text: &str) -> String {
+    let mut out = String::with_capacity(text.len() + 2);
+    out.push('"');
+    for character in text.chars() {
+        match character {
+            '"' => out.push_str("\\\""),
+            '\\' => out.push_str("\\\\"),
+            '\n' => out.push_str("\\n"),
+            '\t' => out.push_str("\\t"),
+            '\r' => out.push_str("\\r"),
+            c if c.is_control() => {
+                let _ = write!(out, "\\u{:04X}", u32::from(c));
+            }
+            c => out.push(c),
+        }
+    }
+    out.push('"');
+    out
+}
+
 /// A float as TOML writes it (always with a decimal point).
 fn float(value: f64) -> String {
     let text = value.to_string();
@@ -431,6 +465,17 @@ mod tests {
     fn the_default_round_trips_through_its_commented_file() {
         let text = Process::default().to_commented_toml();
         assert_eq!(Process::from_toml(&text).unwrap(), Process::default());
+    }
+
+    #[test]
+    fn any_name_round_trips() {
+        // Found by fuzzing: a byte-order mark in the name was written as Rust's `\u{feff}`, not TOML.
+        for name in
+            ["plain", "with \"quotes\" and \\", "bom\u{feff}", "tab\tnew\nline\r", "bell\u{7}del\u{7f}", "\u{1F600}"]
+        {
+            let process = Process { name: name.to_string(), ..Process::default() };
+            assert_eq!(Process::from_toml(&process.to_commented_toml()).unwrap(), process, "{name:?}");
+        }
     }
 
     fn with(key: &str, value: &str) -> String {

@@ -148,10 +148,9 @@ fn longest_path(node: &Node, outside: usize, reference: f64, widths: &mut [f64])
         Node::Device(index) => widths[*index] = reference * (outside + 1) as f64,
         Node::Parallel(branches) => branches.iter().for_each(|b| longest_path(b, outside, reference, widths)),
         Node::Series(members) => {
-            let depths: Vec<usize> = members.iter().map(depth).collect();
-            let total: usize = depths.iter().sum();
-            for (member, own) in members.iter().zip(&depths) {
-                longest_path(member, outside + total - own, reference, widths);
+            let total: usize = members.iter().map(depth).sum();
+            for member in members {
+                longest_path(member, outside + total - depth(member), reference, widths);
             }
         }
     }
@@ -176,10 +175,9 @@ fn min_area(node: &Node, budget: f64, reference: f64, widths: &mut [f64]) -> f64
         }
         Node::Parallel(branches) => branches.iter().map(|b| min_area(b, budget, reference, widths)).sum(),
         Node::Series(members) => {
-            let roots: Vec<f64> = members.iter().map(|m| area_constant(m).sqrt()).collect();
-            let total: f64 = roots.iter().sum();
-            for (member, root) in members.iter().zip(&roots) {
-                min_area(member, budget * root / total, reference, widths);
+            let total: f64 = members.iter().map(|m| area_constant(m).sqrt()).sum();
+            for member in members {
+                min_area(member, budget * area_constant(member).sqrt() / total, reference, widths);
             }
             total * total
         }

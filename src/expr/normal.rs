@@ -85,8 +85,12 @@ pub fn normalize(
     })
 }
 
+/// Up to this many inputs, names are looked up by a plain scan; past it, through a hash map.
+const SCAN_INPUTS: usize = 16;
+
 struct Builder {
     inputs: Vec<String>,
+    /// Input index by name, filled once there are more than [`SCAN_INPUTS`] inputs.
     index: HashMap<String, usize>,
     /// Literals in f, with the polarity check passed (true) or not.
     literals: Vec<(Literal, bool)>,
@@ -103,8 +107,16 @@ impl Builder {
     fn push(&mut self, expr: &Expr, negate: bool) -> Result<Function, ExprError> {
         match &expr.kind {
             ExprKind::Input(name) => {
-                let input = match self.index.get(name) {
-                    Some(&index) => index,
+                let found = if self.inputs.len() <= SCAN_INPUTS {
+                    self.inputs.iter().position(|known| known == name)
+                } else {
+                    if self.index.is_empty() {
+                        self.index.extend(self.inputs.iter().cloned().zip(0..));
+                    }
+                    self.index.get(name).copied()
+                };
+                let input = match found {
+                    Some(index) => index,
                     None => {
                         if self.inputs.len() == MAX_INPUTS {
                             return Err(ExprError::TooManyInputs {
@@ -113,7 +125,9 @@ impl Builder {
                                 span: expr.span,
                             });
                         }
-                        self.index.insert(name.clone(), self.inputs.len());
+                        if !self.index.is_empty() {
+                            self.index.insert(name.clone(), self.inputs.len());
+                        }
                         self.inputs.push(name.clone());
                         self.inputs.len() - 1
                     }
@@ -190,31 +204,40 @@ fn check_names(builder: &Builder, output: &str, output_span: Span) -> Result<(),
             span: output_span,
         });
     }
+    let output_clash = |name: &str| name.eq_ignore_ascii_case(output);
+    let rail_clash = |name: &str| RAILS.iter().any(|rail| rail.eq_ignore_ascii_case(name));
+    // Inputs equal but for case: a plain scan for few inputs, a hash map of lower-case names past that.
     let mut seen: HashMap<String, usize> = HashMap::new();
     for (index, name) in builder.inputs.iter().enumerate() {
-        let lower = name.to_ascii_lowercase();
-        if lower == output.to_ascii_lowercase() {
+        if output_clash(name) {
             return Err(ExprError::NameClash {
                 name: name.clone(),
                 what: format!("the output '{output}' (a gate cannot take its own output as an input)"),
                 span: span_of(index),
             });
         }
-        if RAILS.contains(&lower.as_str()) {
+        if rail_clash(name) {
             return Err(ExprError::NameClash {
                 name: name.clone(),
                 what: "a supply rail name (vdd, vss)".into(),
                 span: span_of(index),
             });
         }
-        if let Some(&other) = seen.get(&lower) {
+        let other = if builder.inputs.len() <= SCAN_INPUTS {
+            builder.inputs[..index].iter().position(|earlier| earlier.eq_ignore_ascii_case(name))
+        } else {
+            let lower = name.to_ascii_lowercase();
+            let other = seen.get(&lower).copied();
+            seen.insert(lower, index);
+            other
+        };
+        if let Some(other) = other {
             return Err(ExprError::NameClash {
                 name: name.clone(),
                 what: format!("input '{}' (netlist names ignore case)", builder.inputs[other]),
                 span: span_of(index),
             });
         }
-        seen.insert(lower, index);
     }
     Ok(())
 }

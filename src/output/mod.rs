@@ -7,6 +7,7 @@ pub mod json;
 pub mod spice;
 pub mod summary;
 pub mod table;
+pub mod verify;
 
 use std::io::{self, Write};
 

@@ -4,9 +4,11 @@
 mod batch;
 mod deck;
 mod delay;
+mod limits;
 mod paths;
 mod process;
 mod size;
+mod verify;
 
 use std::path::PathBuf;
 

@@ -1,0 +1,342 @@
+//! The performance figures of doc-drafts/performance.md, measured in-process with `Instant`:
+//! sizing throughput per core for typical library gates (both methods), one 2,000-literal
+//! expression, and `verify` of 24-input gates. Run with `cargo bench --bench throughput`.
+//!
+//! Each figure is the best of many short timed rounds (the least disturbed by other work on the
+//! machine), after a warm-up round.
+
+#![forbid(unsafe_code)]
+
+use std::hint::black_box;
+use std::time::{Duration, Instant};
+
+use widthwise::gate::{GateOptions, size_text};
+use widthwise::sizing::{Method, SizingOptions};
+use widthwise::verify::{VerifyOptions, verify};
+
+/// Typical library gates of 2 to 8 inputs: shorthands and written expressions.
+const LIBRARY: [&str; 24] = [
+    "nand2",
+    "nand3",
+    "nand4",
+    "nand8",
+    "nor2",
+    "nor3",
+    "nor4",
+    "nor8",
+    "aoi21",
+    "aoi22",
+    "aoi211",
+    "aoi221",
+    "aoi222",
+    "aoi33",
+    "oai21",
+    "oai22",
+    "oai211",
+    "oai222",
+    "!(a & (b | c))",
+    "y = !(a*b + c*(d + e))",
+    "!((a | b) & (c | d) & e)",
+    "(a b + c d + e f g)'",
+    "!a & !b | !c",
+    "!(a & b | a & c | d)",
+];
+
+fn options(method: Method) -> GateOptions {
+    GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None))
+}
+
+/// Best time of `rounds` calls of `work`, after one warm-up call.
+fn best_of(rounds: usize, mut work: impl FnMut()) -> Duration {
+    work();
+    (0..rounds)
+        .map(|_| {
+            let start = Instant::now();
+            work();
+            start.elapsed()
+        })
+        .min()
+        .unwrap_or_default()
+}
+
+fn sizing_throughput() {
+    println!("sizing throughput, one thread, {} library gates (2 to 8 inputs) in turn", LIBRARY.len());
+    for method in [Method::LongestPath, Method::MinArea] {
+        let options = options(method);
+        let passes = 200;
+        let time = best_of(40, || {
+            for _ in 0..passes {
+                for text in LIBRARY {
+                    black_box(size_text(black_box(text), &options).expect("a library gate sizes"));
+                }
+            }
+        });
+        let gates = (passes * LIBRARY.len()) as f64;
+        println!(
+            "  {:<13} {:>9.0} gates/s per core ({:.2} us per gate; target 200000 gates/s)",
+            method.name(),
+            gates / time.as_secs_f64(),
+            time.as_secs_f64() * 1e6 / gates
+        );
+    }
+    // Both cores at once, each sizing the library on its own.
+    let threads = std::thread::available_parallelism().map_or(1, |n| n.get());
+    let passes = 200;
+    let options = options(Method::LongestPath);
+    let time = best_of(40, || {
+        std::thread::scope(|scope| {
+            for _ in 0..threads {
+                scope.spawn(|| {
+                    for _ in 0..passes {
+                        for text in LIBRARY {
+                            black_box(size_text(black_box(text), &options).expect("a library gate sizes"));
+                        }
+                    }
+                });
+            }
+        });
+    });
+    let gates = (threads * passes * LIBRARY.len()) as f64;
+    println!("  longest-path on {threads} threads: {:.0} gates/s in all", gates / time.as_secs_f64());
+}
+
+/// A deterministic AND/OR tree of `literals` literal occurrences over `inputs` names, as text.
+fn big_expression(literals: usize, inputs: usize) -> String {
+    let mut state = 0x2545_F491_4F6C_DD1Du64;
+    let mut next = move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        state
+    };
+    // Build groups bottom-up: leaves, then AND/OR nodes of 2 to 4 children, alternating by level.
+    // The first `inputs` leaves name every input once; the rest repeat them at random.
+    let mut level: Vec<String> =
+        (0..literals).map(|i| format!("x{}", if i < inputs { i } else { next() as usize % inputs })).collect();
+    let mut and = true;
+    while level.len() > 1 {
+        let mut upper = Vec::new();
+        let mut rest = level.as_slice();
+        while !rest.is_empty() {
+            let take = (2 + next() as usize % 3).min(rest.len());
+            let (group, tail) = rest.split_at(take);
+            upper.push(if group.len() == 1 {
+                group[0].clone()
+            } else {
+                format!("({})", group.join(if and { " & " } else { " | " }))
+            });
+            rest = tail;
+        }
+        level = upper;
+        and = !and;
+    }
+    format!("!{}", level[0])
+}
+
+fn large_expression() {
+    println!("\none expression of 2000 literal occurrences: size, worst case, path count (target < 50 ms)");
+    for (inputs, label) in [(2000, "2000 distinct inputs"), (200, "200 inputs, repeated"), (16, "16 inputs, repeated")]
+    {
+        let text = big_expression(2000, inputs);
+        for method in [Method::LongestPath, Method::MinArea] {
+            let options = options(method);
+            let mut counts = (String::new(), String::new());
+            let time = best_of(5, || {
+                let gate = size_text(&text, &options).expect("the expression sizes");
+                counts = (gate.networks[0].path_count.clone(), gate.networks[1].path_count.clone());
+                black_box(gate);
+            });
+            let digits =
+                |count: &str| if count.len() > 12 { format!("{} digits", count.len()) } else { count.to_string() };
+            println!(
+                "  {label:<22} {:<13} {:>8.2} ms  (paths: pull-down {}, pull-up {})",
+                method.name(),
+                time.as_secs_f64() * 1e3,
+                digits(&counts.0),
+                digits(&counts.1)
+            );
+        }
+    }
+}
+
+fn verify_24_inputs() {
+    println!("\nverify of 24-input gates, all 2^24 vectors (target < 1 s)");
+    let groups = |size: usize, inner: &str, outer: &str| {
+        let groups: Vec<String> = (0..24 / size)
+            .map(|g| format!("({})", (0..size).map(|i| format!("x{}", g * size + i)).collect::<Vec<_>>().join(inner)))
+            .collect();
+        format!("!({})", groups.join(outer))
+    };
+    let gates = [
+        ("8 AND3 groups ORed (aoi333...)", groups(3, " & ", " | ")),
+        ("12 OR2 groups ANDed (oai22...)", groups(2, " | ", " & ")),
+        ("24-input random tree, 48 literals", big_expression(48, 24)),
+    ];
+    let threads = VerifyOptions::default().threads;
+    for (label, text) in gates {
+        let gate = size_text(&text, &options(Method::LongestPath)).expect("sizes");
+        assert_eq!(gate.function.inputs.len(), 24, "{label}");
+        for use_threads in [1, threads] {
+            let options = VerifyOptions { threads: use_threads, ..VerifyOptions::default() };
+            let time = best_of(3, || {
+                let result = verify(&gate, &options).expect("verifies");
+                assert!(result.passed && result.vectors_checked == 1 << 24);
+            });
+            println!(
+                "  {label:<36} {:>3} transistors, {use_threads} thread(s): {:>7.1} ms",
+                gate.transistor_count,
+                time.as_secs_f64() * 1e3
+            );
+        }
+    }
+}
+
+/// The gates of benches/scipy_min_area.py, in the same order.
+const SCIPY_SET: [&str; 15] = [
+    "nand3",
+    "nor3",
+    "aoi21",
+    "aoi22",
+    "aoi221",
+    "aoi32",
+    "oai21",
+    "oai22",
+    "oai321",
+    "!(a & (b | c))",
+    "!(a & b | c & (d | e))",
+    "!((a | b) & (c | d) & e)",
+    "!(a & (b | c & (d | e)))",
+    "!((a | b & c) & (d | e & (f | g)))",
+    "!(a & b | a & c)",
+];
+
+fn scipy_set() {
+    println!(
+        "
+min-area sizing in-process, the gates of benches/scipy_min_area.py (compare its scipy solve times)"
+    );
+    let options = options(Method::MinArea);
+    let mut times = Vec::new();
+    for text in SCIPY_SET {
+        let time = best_of(20, || {
+            for _ in 0..100 {
+                black_box(size_text(black_box(text), &options).expect("sizes"));
+            }
+        }) / 100;
+        times.push(time);
+        println!("  {text:<40} {:>7.2} us", time.as_secs_f64() * 1e6);
+    }
+    times.sort();
+    println!("  median {:.2} us per gate", times[times.len() / 2].as_secs_f64() * 1e6);
+}
+
+/// The 20,000-gate library of the batch figures: shorthands and expressions, a third of the gates in
+/// three drives (invented, generated; the same file on every run).
+fn batch_library() -> String {
+    const EXPRESSIONS: [&str; 12] = [
+        "inv",
+        "nand2",
+        "nand3",
+        "nor2",
+        "aoi21",
+        "aoi22",
+        "oai21",
+        "oai221",
+        "!(a & (b | c))",
+        "co_n = !(a & b | ci & (a | b))",
+        "!((a | b) & (c | d) & e)",
+        "(p q + r)'",
+    ];
+    let mut text = String::from("[defaults]\nmethod = \"longest-path\"\n\n");
+    for index in 0..20_000 {
+        let expression = EXPRESSIONS[index % EXPRESSIONS.len()];
+        let method = if index % 5 == 0 { "method = \"min-area\"\n" } else { "" };
+        let drive = if index % 3 == 0 { "drive = [1, 2, 4]\n" } else { "" };
+        text.push_str(&format!("[[gate]]\nname = \"g{index}\"\nexpr = \"{expression}\"\n{method}{drive}\n"));
+    }
+    text
+}
+
+/// The batch command on 20,000 gates, end to end as a user runs it: wall time and peak resident
+/// memory of the process (GNU time's %e and %M), per output format.
+fn batch_end_to_end() {
+    println!("\nbatch of 20,000 gates (33,334 variants), the release binary end to end, output to a file");
+    let directory = std::env::temp_dir().join(format!("widthwise-bench-{}", std::process::id()));
+    std::fs::create_dir_all(&directory).expect("a temporary directory");
+    let library = directory.join("library.toml");
+    std::fs::write(&library, batch_library()).expect("the library is written");
+    let output = directory.join("out");
+    let binary = env!("CARGO_BIN_EXE_widthwise");
+    for (format, rows) in
+        [("csv", "gates"), ("csv", "devices"), ("json", "gates"), ("table", "gates"), ("spice", "gates")]
+    {
+        let mut best: Option<(f64, f64)> = None;
+        for _ in 0..3 {
+            let run = std::process::Command::new("/usr/bin/time")
+                .args(["-f", "%e %M", binary, "batch"])
+                .arg(&library)
+                .args(["--format", format, "--rows", rows, "-o"])
+                .arg(&output)
+                .output();
+            let Ok(run) = run else {
+                println!("  /usr/bin/time (GNU time) is not installed: batch figures skipped");
+                return;
+            };
+            assert!(run.status.success(), "{}", String::from_utf8_lossy(&run.stderr));
+            let stderr = String::from_utf8_lossy(&run.stderr);
+            let mut figures = stderr.lines().last().unwrap_or("").split_whitespace();
+            let wall: f64 = figures.next().and_then(|f| f.parse().ok()).unwrap_or(f64::NAN);
+            let peak_mb = figures.next().and_then(|f| f.parse::<f64>().ok()).unwrap_or(f64::NAN) / 1024.0;
+            if best.is_none_or(|(w, _)| wall < w) {
+                best = Some((wall, peak_mb));
+            }
+        }
+        let (wall, peak_mb) = best.expect("three runs");
+        let size = std::fs::metadata(&output).map_or(0, |m| m.len());
+        println!(
+            "  {format:<5} {rows:<8} {wall:>6.2} s wall, peak {peak_mb:>5.1} MB, {:>6.1} MB written",
+            size as f64 / 1e6
+        );
+    }
+    let _ = std::fs::remove_dir_all(&directory);
+}
+
+fn main() {
+    let cpu = std::fs::read_to_string("/proc/cpuinfo")
+        .ok()
+        .and_then(|info| info.lines().find(|l| l.starts_with("model name")).map(|l| l.to_string()))
+        .unwrap_or_default();
+    println!(
+        "machine: {} logical cores; {}\n",
+        std::thread::available_parallelism().map_or(1, |n| n.get()),
+        cpu.split(':').nth(1).unwrap_or("unknown CPU").trim()
+    );
+    let filter = std::env::args().skip(1).find(|a| !a.starts_with('-'));
+    let run = |name: &str| filter.as_deref().is_none_or(|f| name.contains(f) && f != "profile");
+    if run("sizing") {
+        sizing_throughput();
+    }
+    if run("large") {
+        large_expression();
+    }
+    if run("verify") {
+        verify_24_inputs();
+    }
+    if run("scipy") {
+        scipy_set();
+    }
+    if filter.as_deref() == Some("profile") {
+        // A short fixed run for profilers (valgrind, perf): the library 1000 times, both methods.
+        for method in [Method::LongestPath, Method::MinArea] {
+            for _ in 0..500 {
+                for text in LIBRARY {
+                    black_box(size_text(text, &options(method)).expect("sizes"));
+                }
+            }
+        }
+        return;
+    }
+    if run("batch") {
+        batch_end_to_end();
+    }
+}

@@ -1,0 +1,59 @@
+//! What each fuzz target asserts, kept here so that a target is one short file and a new one is a
+//! copy of it. Every function takes arbitrary text and must return; a panic is the failure.
+
+#![forbid(unsafe_code)]
+
+use widthwise::gate::size_text;
+use widthwise::output::{self, Format, Rows};
+use widthwise::process::Process;
+use widthwise::sizing::{Method, SizingOptions};
+use widthwise::verify::{VerifyOptions, verify};
+use widthwise::{GateOptions, expr};
+
+/// Inputs up to which an accepted gate is also verified on every vector (fast enough per run).
+const VERIFY_INPUTS: usize = 10;
+
+/// Read a gate, size it both ways, write it in every format and, when small, verify it: an accepted
+/// expression must give a netlist that passes every check.
+pub fn expression(text: &str) {
+    let read = expr::read_gate(text);
+    for method in Method::ALL {
+        let sized = size_text(text, &GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None)));
+        assert_eq!(read.is_ok(), sized.is_ok(), "read_gate and size_text disagree on {text:?}");
+        let gate = match sized {
+            Ok(gate) => gate,
+            Err(error) => {
+                assert!(error.render().starts_with("error: "));
+                continue;
+            }
+        };
+        let process = Process::default();
+        for format in [Format::Table, Format::Csv, Format::Json, Format::Spice] {
+            output::write_gates(std::slice::from_ref(&gate), format, Rows::Devices, &process, &mut std::io::sink())
+                .expect("writing to a sink succeeds");
+        }
+        let listings = gate.list_paths(8);
+        output::write_paths(&gate, &listings, Format::Table, &mut std::io::sink()).expect("sink");
+        if gate.function.inputs.len() <= VERIFY_INPUTS {
+            let options = VerifyOptions { threads: 1, ..VerifyOptions::default() };
+            let result = verify(&gate, &options).expect("a sized gate's netlist reads");
+            assert!(result.passed, "{text:?} fails verification: {:?}", result.failure);
+        }
+    }
+}
+
+/// Read a process file; an accepted one must write back as a file that reads as itself.
+pub fn process_file(text: &str) {
+    match Process::from_toml(text) {
+        Ok(process) => {
+            let again = Process::from_toml(&process.to_commented_toml()).expect("the written file reads back");
+            assert_eq!(again, process, "round trip of {text:?}");
+        }
+        Err(error) => {
+            if let Some(span) = error.span() {
+                let shown = widthwise::error::render_at(&error.to_string(), "process.toml", text, span);
+                assert!(shown.starts_with("error: "));
+            }
+        }
+    }
+}

@@ -1,0 +1,1115 @@
+//! Verification: prove a sized gate's netlist right by switch-level simulation of every input
+//! vector (or, past [`MAX_EXHAUSTIVE_INPUTS`] inputs, of a fixed pseudo-random sample).
+//!
+//! The check reads the gate the way a netlist reader would: the transistor list with its drain,
+//! source, gate input and device type, never the series-parallel trees it was built from. An NMOS
+//! conducts when its input is 1, a PMOS when it is 0; what is connected to each rail is found by
+//! bit-parallel reachability over the conducting devices until nothing changes, 64 input vectors per
+//! machine word. The expected output comes from the expression itself (the canonical text parsed
+//! again, NOTs and all, so the negation-normal form is checked too), evaluated on the same words.
+//! For every vector: the output must not be tied to both rails (the networks overlap), must be tied
+//! to one (they leave a gap), the rails must never meet, and the level must equal the expression.
+
+use std::collections::HashMap;
+use std::sync::atomic::{AtomicU64, Ordering};
+
+use thiserror::Error;
+
+use crate::error::ExprError;
+use crate::expr::{Expr, ExprKind, parser};
+use crate::gate::{SizedGate, Vector};
+use crate::network::NetworkKind;
+use crate::paths::EXACT_WORST_MAX_INPUTS;
+
+/// Most inputs checked exhaustively (2^30 vectors, about a billion); past it a pseudo-random sample.
+pub const MAX_EXHAUSTIVE_INPUTS: usize = 30;
+/// Pseudo-random vectors checked past [`MAX_EXHAUSTIVE_INPUTS`] inputs, unless asked otherwise.
+pub const DEFAULT_RANDOM_VECTORS: u64 = 1 << 20;
+/// Most pseudo-random vectors one may ask for (as many as the largest exhaustive check).
+pub const MAX_RANDOM_VECTORS: u64 = 1 << MAX_EXHAUSTIVE_INPUTS;
+/// The fixed seed of the pseudo-random sample, so that a run can be repeated.
+pub const DEFAULT_SEED: u64 = 0x005e_ed0f_ca11_ab1e;
+
+/// Vectors per machine word.
+const WORD: u64 = 64;
+/// Words per unit of work handed to a thread.
+const CHUNK_WORDS: u64 = 1024;
+
+/// How to verify.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct VerifyOptions {
+    /// How many pseudo-random vectors to check past the exhaustive limit.
+    pub random_vectors: u64,
+    /// Seed of the pseudo-random sample.
+    pub seed: u64,
+    /// Threads to use (at least 1); small vector spaces use one whatever this says.
+    pub threads: usize,
+}
+
+impl Default for VerifyOptions {
+    fn default() -> VerifyOptions {
+        VerifyOptions {
+            random_vectors: DEFAULT_RANDOM_VECTORS,
+            seed: DEFAULT_SEED,
+            threads: std::thread::available_parallelism().map_or(1, |n| n.get()),
+        }
+    }
+}
+
+/// A netlist that cannot be simulated: it names something the gate does not have.
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum VerifyError {
+    /// A transistor gated by a name that is not an input of the gate.
+    #[error("transistor '{device}' is gated by '{input}', which is not an input of the gate")]
+    UnknownInput {
+        /// The transistor.
+        device: String,
+        /// Its gate input.
+        input: String,
+    },
+    /// A transistor of a type other than nmos or pmos.
+    #[error("transistor '{device}' has type '{device_type}'; expected nmos or pmos")]
+    UnknownType {
+        /// The transistor.
+        device: String,
+        /// Its type.
+        device_type: String,
+    },
+    /// The gate's canonical expression does not read back.
+    #[error("the gate's expression '{text}' does not read back: {error}")]
+    Expression {
+        /// The text.
+        text: String,
+        /// Why.
+        error: ExprError,
+    },
+    /// An input of the expression that the gate does not list.
+    #[error("the expression names '{input}', which is not an input of the gate")]
+    ExpressionInput {
+        /// The name.
+        input: String,
+    },
+    /// More pseudo-random vectors than allowed.
+    #[error("{requested} random vectors asked for; the limit is {limit}")]
+    TooManyVectors {
+        /// What was asked.
+        requested: u64,
+        /// The limit.
+        limit: u64,
+    },
+}
+
+/// Which check a vector failed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Check {
+    /// The output is tied to both rails: pull-up and pull-down conduct together.
+    BothConduct,
+    /// A path of conducting devices joins vdd and vss without the output being tied to them.
+    RailsShorted,
+    /// The output is tied to neither rail: both networks are off and it floats.
+    NeitherConducts,
+    /// The output is driven to the wrong level.
+    WrongOutput,
+}
+
+impl Check {
+    /// Every check, in the order they are judged for one vector.
+    pub const ALL: [Check; 4] = [Check::BothConduct, Check::RailsShorted, Check::NeitherConducts, Check::WrongOutput];
+
+    /// What the check asks, for reports.
+    pub fn describe(self) -> &'static str {
+        match self {
+            Check::BothConduct => "pull-up and pull-down never both conduct",
+            Check::RailsShorted => "no conducting path joins vdd and vss",
+            Check::NeitherConducts => "pull-up and pull-down are never both off",
+            Check::WrongOutput => "the output equals the expression",
+        }
+    }
+
+    /// The short name used in JSON and CSV.
+    pub fn name(self) -> &'static str {
+        match self {
+            Check::RailsShorted => "rails-shorted",
+            Check::BothConduct => "both-conduct",
+            Check::NeitherConducts => "neither-conducts",
+            Check::WrongOutput => "wrong-output",
+        }
+    }
+}
+
+/// How the vectors were chosen.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "kebab-case", tag = "kind")]
+pub enum Coverage {
+    /// Every one of the 2^n input vectors.
+    Exhaustive,
+    /// A pseudo-random sample (more inputs than [`MAX_EXHAUSTIVE_INPUTS`]): vector 0 is all zeros,
+    /// vector 1 all ones, the rest from a counter-based generator with this seed.
+    Random {
+        /// The seed.
+        seed: u64,
+    },
+}
+
+/// The first vector that failed, and what the switches did there.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Failure {
+    /// Which check.
+    pub check: Check,
+    /// The input vector.
+    pub vector: Vector,
+    /// Its place in the order vectors are checked (for exhaustive checks, the vector read as a
+    /// binary number with the first input as bit 0).
+    pub index: u64,
+    /// Whether the output is tied to vss.
+    pub pull_down_conducts: bool,
+    /// Whether the output is tied to vdd.
+    pub pull_up_conducts: bool,
+    /// The output the expression gives.
+    pub expected_output: bool,
+}
+
+/// The path bound and the exact worst case of one network.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct NetworkBound {
+    /// Which network.
+    pub network: NetworkKind,
+    /// The weakest path's resistance (an upper bound on the worst case), in units of R.
+    pub path_bound: f64,
+    /// The exact worst case over input vectors, where known, in units of R.
+    pub exact_worst: Option<f64>,
+    /// A vector that reaches it, where it was computed by enumeration.
+    pub exact_worst_vector: Option<Vector>,
+    /// Whether the exact worst case is below the path bound (only repeated inputs make it so).
+    pub below_bound: bool,
+    /// How the exact worst case was found, or why it was not.
+    pub note: String,
+}
+
+/// The outcome of verifying one gate.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Verification {
+    /// Cell name.
+    pub name: String,
+    /// The expression in canonical form.
+    pub expression: String,
+    /// Output node.
+    pub output: String,
+    /// Number of distinct inputs.
+    pub input_count: usize,
+    /// Number of transistors simulated.
+    pub transistor_count: usize,
+    /// How the vectors were chosen.
+    pub coverage: Coverage,
+    /// The most inputs checked exhaustively.
+    pub exhaustive_limit: usize,
+    /// Vectors the check covers: all of them when it passed, up to and including the failing one
+    /// otherwise (every vector before it passed).
+    pub vectors_checked: u64,
+    /// Vectors planned (2^n, or the sample size).
+    pub vectors_planned: u64,
+    /// Whether every check held for every vector checked.
+    pub passed: bool,
+    /// The first failing vector, if any.
+    pub failure: Option<Failure>,
+    /// Path bound and exact worst case, pull-down then pull-up.
+    pub networks: Vec<NetworkBound>,
+}
+
+impl Verification {
+    /// `Ok` when every check held, else [`Error::CheckFailed`](crate::Error::CheckFailed) (exit code 1)
+    /// naming the check and the first failing vector.
+    pub fn outcome(&self) -> Result<(), crate::Error> {
+        match &self.failure {
+            None => Ok(()),
+            Some(failure) => Err(crate::Error::CheckFailed(format!(
+                "'{}' fails verification: {} does not hold at vector {} ({})",
+                self.name,
+                failure.check.describe(),
+                failure.index,
+                failure.vector
+            ))),
+        }
+    }
+}
+
+/// What turns one switch on: its input word, XORed with `flip` (0 for NMOS, on at 1; all ones for
+/// PMOS, on at 0).
+#[derive(Debug, Clone, Copy)]
+struct Gating {
+    input: u32,
+    flip: u64,
+}
+
+/// A switch between nodes `a` and `b`, on where word `slot` has a 1.
+#[derive(Debug, Clone, Copy)]
+struct Edge {
+    a: u32,
+    b: u32,
+    slot: u32,
+}
+
+/// A word computed from two others: a series pair conducts where both do (AND), a parallel pair
+/// where either does (OR).
+#[derive(Debug, Clone, Copy)]
+struct Combine {
+    x: u32,
+    y: u32,
+    series: bool,
+}
+
+/// Node numbers of the rails and the output in the reduced netlist.
+const VDD: usize = 0;
+const VSS: usize = 1;
+const OUTPUT: usize = 2;
+
+/// The gate as a switch netlist, reduced once for fast simulation.
+///
+/// Reduction keeps exactly the connectivity between the rails and the output: two switches between
+/// the same nodes become one that conducts where either does; a node other than the rails and the
+/// output with two switches becomes one switch that conducts where both do; one with a single switch
+/// is a dead end and goes. A correct static gate reduces to one switch per network; whatever does not
+/// reduce (a bridge, a broken netlist) stays as switches, and reachability from each rail is swept
+/// over them until nothing changes.
+struct Netlist {
+    /// The gating of every transistor: words `0..gating.len()`.
+    gating: Vec<Gating>,
+    /// Reductions, in order: word `gating.len() + k` is `combine[k]`.
+    combine: Vec<Combine>,
+    /// What remains after reduction, between nodes numbered from [`VDD`], [`VSS`], [`OUTPUT`].
+    edges: Vec<Edge>,
+    /// Nodes of the reduced netlist.
+    node_count: usize,
+    /// Edge indices by breadth-first distance from vdd, then from vss.
+    order: [Vec<u32>; 2],
+}
+
+impl Netlist {
+    fn new(gate: &SizedGate, input_index: &HashMap<&str, usize>) -> Result<Netlist, VerifyError> {
+        fn node<'a>(name: &'a str, nodes: &mut HashMap<&'a str, u32>) -> u32 {
+            let next = nodes.len() as u32;
+            *nodes.entry(name).or_insert(next)
+        }
+        let mut nodes: HashMap<&str, u32> = HashMap::new();
+        for (name, number) in
+            [(NetworkKind::PullUp.rail(), VDD), (NetworkKind::PullDown.rail(), VSS), (&gate.output, OUTPUT)]
+        {
+            let given = node(name, &mut nodes);
+            debug_assert_eq!(given as usize, number);
+        }
+        let mut gating = Vec::with_capacity(gate.transistors.len());
+        let mut ends = Vec::with_capacity(gate.transistors.len());
+        for transistor in &gate.transistors {
+            let input = *input_index.get(transistor.input.as_str()).ok_or_else(|| VerifyError::UnknownInput {
+                device: transistor.name.clone(),
+                input: transistor.input.clone(),
+            })?;
+            let flip = match transistor.device_type {
+                "nmos" => 0,
+                "pmos" => u64::MAX,
+                other => {
+                    return Err(VerifyError::UnknownType {
+                        device: transistor.name.clone(),
+                        device_type: other.to_string(),
+                    });
+                }
+            };
+            gating.push(Gating { input: input as u32, flip });
+            ends.push((node(&transistor.drain, &mut nodes), node(&transistor.source, &mut nodes)));
+        }
+        let (combine, remaining) = reduce(nodes.len(), &ends);
+        // Number the nodes that remain compactly, rails and output first.
+        let mut number: HashMap<u32, u32> = (0..3).map(|n| (n, n)).collect();
+        let mut edges = Vec::with_capacity(remaining.len());
+        for edge in remaining {
+            let mut renumber = |n: u32| {
+                let next = number.len() as u32;
+                *number.entry(n).or_insert(next)
+            };
+            edges.push(Edge { a: renumber(edge.a), b: renumber(edge.b), slot: edge.slot });
+        }
+        let node_count = number.len();
+        let order = [VDD, VSS].map(|rail| breadth_first_order(node_count, &edges, rail as u32));
+        Ok(Netlist { gating, combine, edges, node_count, order })
+    }
+
+    /// Nodes reached from `rail` over the conducting edges (`words[slot]`), 64 vectors at a time,
+    /// swept in breadth-first order forwards and backwards until nothing changes.
+    fn reach(&self, rail: usize, words: &[u64], reach: &mut [u64]) {
+        reach.fill(0);
+        reach[rail] = u64::MAX;
+        let order = &self.order[usize::from(rail == VSS)];
+        let mut forward = true;
+        loop {
+            let mut changed = 0;
+            let mut step = |k: &u32| {
+                let edge = self.edges[*k as usize];
+                let (a, b) = (reach[edge.a as usize], reach[edge.b as usize]);
+                let joined = (a | b) & words[edge.slot as usize];
+                changed |= (joined & !a) | (joined & !b);
+                reach[edge.a as usize] = a | joined;
+                reach[edge.b as usize] = b | joined;
+            };
+            if forward {
+                order.iter().for_each(&mut step);
+            } else {
+                order.iter().rev().for_each(&mut step);
+            }
+            if changed == 0 {
+                break;
+            }
+            forward = !forward;
+        }
+    }
+}
+
+/// Series-parallel reduction of switches `ends[k]` (word `k` each) over `node_count` nodes, keeping
+/// the connectivity between nodes 0, 1 and 2: the combinations made and the edges that remain.
+fn reduce(node_count: usize, ends: &[(u32, u32)]) -> (Vec<Combine>, Vec<Edge>) {
+    struct State {
+        edges: Vec<Option<Edge>>,
+        between: HashMap<(u32, u32), usize>,
+        incident: Vec<Vec<usize>>,
+        combine: Vec<Combine>,
+        first_combined: u32,
+    }
+    impl State {
+        fn word(&mut self, x: u32, y: u32, series: bool) -> u32 {
+            self.combine.push(Combine { x, y, series });
+            self.first_combined + self.combine.len() as u32 - 1
+        }
+        fn add(&mut self, a: u32, b: u32, slot: u32) {
+            if a == b {
+                return; // a switch from a node to itself joins nothing
+            }
+            let key = (a.min(b), a.max(b));
+            if let Some(&existing) = self.between.get(&key) {
+                let old = self.edges[existing].expect("live edge").slot;
+                let merged = self.word(old, slot, false);
+                if let Some(edge) = self.edges[existing].as_mut() {
+                    edge.slot = merged;
+                }
+                return;
+            }
+            self.edges.push(Some(Edge { a, b, slot }));
+            let index = self.edges.len() - 1;
+            self.between.insert(key, index);
+            self.incident[a as usize].push(index);
+            self.incident[b as usize].push(index);
+        }
+        fn remove(&mut self, index: usize) -> Edge {
+            let edge = self.edges[index].take().expect("live edge");
+            self.between.remove(&(edge.a.min(edge.b), edge.a.max(edge.b)));
+            for end in [edge.a, edge.b] {
+                let list = &mut self.incident[end as usize];
+                if let Some(position) = list.iter().position(|&e| e == index) {
+                    list.swap_remove(position);
+                }
+            }
+            edge
+        }
+    }
+    let mut state = State {
+        edges: Vec::with_capacity(ends.len()),
+        between: HashMap::new(),
+        incident: vec![Vec::new(); node_count],
+        combine: Vec::new(),
+        first_combined: ends.len() as u32,
+    };
+    for (slot, &(a, b)) in ends.iter().enumerate() {
+        state.add(a, b, slot as u32);
+    }
+    let mut queue: Vec<u32> = (3..node_count as u32).collect();
+    while let Some(node) = queue.pop() {
+        if node < 3 {
+            continue;
+        }
+        match state.incident[node as usize].len() {
+            1 => {
+                let edge = state.remove(state.incident[node as usize][0]);
+                queue.push(if edge.a == node { edge.b } else { edge.a });
+            }
+            2 => {
+                let [first, second] = [0, 1].map(|i| state.incident[node as usize][i]);
+                let (first, second) = (state.remove(first), state.remove(second));
+                let far = |edge: Edge| if edge.a == node { edge.b } else { edge.a };
+                let (a, b) = (far(first), far(second));
+                if a != b {
+                    let slot = state.word(first.slot, second.slot, true);
+                    state.add(a, b, slot);
+                }
+                queue.extend([a, b]);
+            }
+            _ => {}
+        }
+    }
+    (state.combine, state.edges.into_iter().flatten().collect())
+}
+
+/// Edges sorted by the breadth-first distance of their nearer end from `start`, so that one
+/// forward sweep carries reachability outwards along every shortest path.
+fn breadth_first_order(node_count: usize, edges: &[Edge], start: u32) -> Vec<u32> {
+    let mut adjacent: Vec<Vec<u32>> = vec![Vec::new(); node_count];
+    for edge in edges {
+        adjacent[edge.a as usize].push(edge.b);
+        adjacent[edge.b as usize].push(edge.a);
+    }
+    let mut distance = vec![u32::MAX; node_count];
+    distance[start as usize] = 0;
+    let mut queue = std::collections::VecDeque::from([start]);
+    while let Some(node) = queue.pop_front() {
+        for &next in &adjacent[node as usize] {
+            if distance[next as usize] == u32::MAX {
+                distance[next as usize] = distance[node as usize] + 1;
+                queue.push_back(next);
+            }
+        }
+    }
+    let mut order: Vec<u32> = (0..edges.len() as u32).collect();
+    order.sort_by_key(|&k| {
+        let edge = edges[k as usize];
+        (distance[edge.a as usize].min(distance[edge.b as usize]), k)
+    });
+    order
+}
+
+/// One step of the expression, in postfix order over a stack of words.
+#[derive(Debug, Clone, Copy)]
+enum Step {
+    Input(u32),
+    Not,
+    And(u32),
+    Or(u32),
+    ExclusiveOr(u32),
+}
+
+/// The expression compiled to postfix steps, evaluated 64 vectors at a time.
+struct Program {
+    steps: Vec<Step>,
+}
+
+impl Program {
+    fn new(expr: &Expr, input_index: &HashMap<&str, usize>) -> Result<Program, VerifyError> {
+        fn walk(expr: &Expr, index: &HashMap<&str, usize>, steps: &mut Vec<Step>) -> Result<(), VerifyError> {
+            match &expr.kind {
+                ExprKind::Input(name) => {
+                    let input = *index
+                        .get(name.as_str())
+                        .ok_or_else(|| VerifyError::ExpressionInput { input: name.clone() })?;
+                    steps.push(Step::Input(input as u32));
+                }
+                ExprKind::Not(inner) => {
+                    walk(inner, index, steps)?;
+                    steps.push(Step::Not);
+                }
+                ExprKind::And(operands) | ExprKind::Or(operands) => {
+                    for operand in operands {
+                        walk(operand, index, steps)?;
+                    }
+                    let count = operands.len() as u32;
+                    steps.push(if matches!(expr.kind, ExprKind::And(_)) { Step::And(count) } else { Step::Or(count) });
+                }
+                ExprKind::ExclusiveOr { operands, .. } => {
+                    // Never reaches a sized gate (no single stage builds it); evaluated all the same.
+                    for operand in operands {
+                        walk(operand, index, steps)?;
+                    }
+                    steps.push(Step::ExclusiveOr(operands.len() as u32));
+                }
+            }
+            Ok(())
+        }
+        let mut steps = Vec::new();
+        walk(expr, input_index, &mut steps)?;
+        Ok(Program { steps })
+    }
+
+    fn evaluate(&self, inputs: &[u64], stack: &mut Vec<u64>) -> u64 {
+        stack.clear();
+        for step in &self.steps {
+            match *step {
+                Step::Input(i) => stack.push(inputs[i as usize]),
+                Step::Not => {
+                    let top = stack.len() - 1;
+                    stack[top] = !stack[top];
+                }
+                Step::And(count) => {
+                    let start = stack.len() - count as usize;
+                    let value = stack[start..].iter().fold(u64::MAX, |acc, w| acc & w);
+                    stack.truncate(start);
+                    stack.push(value);
+                }
+                Step::Or(count) => {
+                    let start = stack.len() - count as usize;
+                    let value = stack[start..].iter().fold(0, |acc, w| acc | w);
+                    stack.truncate(start);
+                    stack.push(value);
+                }
+                Step::ExclusiveOr(count) => {
+                    let start = stack.len() - count as usize;
+                    let value = stack[start..].iter().fold(0, |acc, w| acc ^ w);
+                    stack.truncate(start);
+                    stack.push(value);
+                }
+            }
+        }
+        stack.pop().unwrap_or(0)
+    }
+}
+
+/// What one word of vectors did.
+#[derive(Debug, Clone, Copy, Default)]
+struct WordOutcome {
+    up: u64,
+    down: u64,
+    shorted: u64,
+    expected: u64,
+}
+
+impl WordOutcome {
+    /// Bits failing each check, in [`Check::ALL`] order.
+    fn failing(&self) -> [u64; 4] {
+        let both = self.up & self.down;
+        let neither = !self.up & !self.down;
+        let wrong = (self.up & !self.down & !self.expected) | (self.down & !self.up & self.expected);
+        [both, self.shorted & !both, neither, wrong]
+    }
+}
+
+/// Reusable buffers of one thread.
+struct Workspace {
+    inputs: Vec<u64>,
+    words: Vec<u64>,
+    reach: Vec<u64>,
+    stack: Vec<u64>,
+}
+
+struct Simulator<'a> {
+    netlist: &'a Netlist,
+    program: &'a Program,
+    input_count: usize,
+    coverage: Coverage,
+}
+
+impl Simulator<'_> {
+    fn workspace(&self) -> Workspace {
+        Workspace {
+            inputs: vec![0; self.input_count],
+            words: vec![0; self.netlist.gating.len() + self.netlist.combine.len()],
+            reach: vec![0; self.netlist.node_count],
+            stack: Vec::with_capacity(self.program.steps.len()),
+        }
+    }
+
+    /// Fill the input words of word `word` (vectors `64 word ..`).
+    fn inputs(&self, word: u64, inputs: &mut [u64]) {
+        match self.coverage {
+            Coverage::Exhaustive => {
+                // Bit b of the word is vector 64 word + b; input i is bit i of the vector.
+                const PATTERNS: [u64; 6] = [
+                    0xAAAA_AAAA_AAAA_AAAA,
+                    0xCCCC_CCCC_CCCC_CCCC,
+                    0xF0F0_F0F0_F0F0_F0F0,
+                    0xFF00_FF00_FF00_FF00,
+                    0xFFFF_0000_FFFF_0000,
+                    0xFFFF_FFFF_0000_0000,
+                ];
+                for (i, value) in inputs.iter_mut().enumerate() {
+                    *value = if i < 6 { PATTERNS[i] } else { 0u64.wrapping_sub(word >> (i - 6) & 1) };
+                }
+            }
+            Coverage::Random { seed } => {
+                let base = seed ^ word.wrapping_mul(0x9E37_79B9_7F4A_7C15);
+                for (i, value) in inputs.iter_mut().enumerate() {
+                    *value = mix(base.wrapping_add((i as u64 + 1).wrapping_mul(0xD1B5_4A32_D192_ED03)));
+                    if word == 0 {
+                        // vector 0: all zeros; vector 1: all ones.
+                        *value = (*value & !0b11) | 0b10;
+                    }
+                }
+            }
+        }
+    }
+
+    fn word(&self, word: u64, space: &mut Workspace) -> WordOutcome {
+        self.inputs(word, &mut space.inputs);
+        let netlist = self.netlist;
+        let (gated, combined) = space.words.split_at_mut(netlist.gating.len());
+        for (on, gating) in gated.iter_mut().zip(&netlist.gating) {
+            *on = space.inputs[gating.input as usize] ^ gating.flip;
+        }
+        for (k, combine) in netlist.combine.iter().enumerate() {
+            let word = |slot: u32| {
+                let slot = slot as usize;
+                if slot < gated.len() { gated[slot] } else { combined[slot - gated.len()] }
+            };
+            let (x, y) = (word(combine.x), word(combine.y));
+            combined[k] = if combine.series { x & y } else { x | y };
+        }
+        netlist.reach(VDD, &space.words, &mut space.reach);
+        let up = space.reach[OUTPUT];
+        let shorted = space.reach[VSS];
+        netlist.reach(VSS, &space.words, &mut space.reach);
+        let down = space.reach[OUTPUT];
+        // The gate computes the expression: high when it is true.
+        let expected = self.program.evaluate(&space.inputs, &mut space.stack);
+        WordOutcome { up, down, shorted, expected }
+    }
+}
+
+/// SplitMix64's output function: a fast, well-mixed 64-bit hash (common practice, no source).
+fn mix(mut z: u64) -> u64 {
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
+}
+
+/// Verify a sized gate: simulate its netlist on every input vector (or a pseudo-random sample past
+/// [`MAX_EXHAUSTIVE_INPUTS`] inputs) and compare with the expression.
+pub fn verify(gate: &SizedGate, options: &VerifyOptions) -> Result<Verification, VerifyError> {
+    if options.random_vectors > MAX_RANDOM_VECTORS {
+        return Err(VerifyError::TooManyVectors { requested: options.random_vectors, limit: MAX_RANDOM_VECTORS });
+    }
+    let inputs = &gate.function.inputs;
+    let input_index: HashMap<&str, usize> = inputs.iter().enumerate().map(|(i, n)| (n.as_str(), i)).collect();
+    let netlist = Netlist::new(gate, &input_index)?;
+    let text = &gate.function.text;
+    let parsed = parser::parse(text).map_err(|error| VerifyError::Expression { text: text.clone(), error })?;
+    let program = Program::new(&parsed.expr, &input_index)?;
+
+    let (coverage, planned) = if inputs.len() <= MAX_EXHAUSTIVE_INPUTS {
+        (Coverage::Exhaustive, 1u64 << inputs.len())
+    } else {
+        (Coverage::Random { seed: options.seed }, options.random_vectors)
+    };
+    let simulator = Simulator { netlist: &netlist, program: &program, input_count: inputs.len(), coverage };
+    let first = first_failure(&simulator, planned, options.threads.max(1));
+
+    let failure = first.map(|(index, check, outcome)| {
+        let bit = index % WORD;
+        let mut words = vec![0; inputs.len()];
+        simulator.inputs(index / WORD, &mut words);
+        let values: Vec<(String, bool)> =
+            inputs.iter().zip(&words).map(|(name, w)| (name.clone(), w >> bit & 1 == 1)).collect();
+        Failure {
+            check,
+            vector: Vector { values },
+            index,
+            pull_down_conducts: outcome.down >> bit & 1 == 1,
+            pull_up_conducts: outcome.up >> bit & 1 == 1,
+            expected_output: outcome.expected >> bit & 1 == 1,
+        }
+    });
+    Ok(Verification {
+        name: gate.name.clone(),
+        expression: gate.expression.clone(),
+        output: gate.output.clone(),
+        input_count: inputs.len(),
+        transistor_count: gate.transistors.len(),
+        coverage,
+        exhaustive_limit: MAX_EXHAUSTIVE_INPUTS,
+        vectors_checked: failure.as_ref().map_or(planned, |f| f.index + 1),
+        vectors_planned: planned,
+        passed: failure.is_none(),
+        failure,
+        networks: bounds(gate),
+    })
+}
+
+/// The lowest-indexed failing vector among the first `planned`, with its check and word outcome.
+fn first_failure(simulator: &Simulator, planned: u64, threads: usize) -> Option<(u64, Check, WordOutcome)> {
+    let words = planned.div_ceil(WORD);
+    let chunks = words.div_ceil(CHUNK_WORDS);
+    let next_chunk = AtomicU64::new(0);
+    let first_bad = AtomicU64::new(u64::MAX);
+    let found: std::sync::Mutex<Option<(u64, Check, WordOutcome)>> = std::sync::Mutex::new(None);
+    let work = || {
+        let mut space = simulator.workspace();
+        loop {
+            let chunk = next_chunk.fetch_add(1, Ordering::Relaxed);
+            if chunk >= chunks || chunk * CHUNK_WORDS * WORD > first_bad.load(Ordering::Relaxed) {
+                break;
+            }
+            for word in chunk * CHUNK_WORDS..((chunk + 1) * CHUNK_WORDS).min(words) {
+                let outcome = simulator.word(word, &mut space);
+                let valid = if (word + 1) * WORD > planned { (1u64 << (planned - word * WORD)) - 1 } else { u64::MAX };
+                let failing = outcome.failing().map(|bits| bits & valid);
+                let any = failing.iter().fold(0, |acc, bits| acc | bits);
+                if any != 0 {
+                    let bit = any.trailing_zeros() as u64;
+                    let check = Check::ALL[failing.iter().position(|bits| bits >> bit & 1 == 1).unwrap_or(0)];
+                    let index = word * WORD + bit;
+                    first_bad.fetch_min(index, Ordering::Relaxed);
+                    let mut found = found.lock().unwrap_or_else(|e| e.into_inner());
+                    if found.is_none_or(|(other, _, _)| index < other) {
+                        *found = Some((index, check, outcome));
+                    }
+                    break;
+                }
+            }
+        }
+    };
+    let threads = threads.min(chunks as usize).max(1);
+    if threads == 1 {
+        work();
+    } else {
+        std::thread::scope(|scope| {
+            for _ in 0..threads {
+                scope.spawn(work);
+            }
+        });
+    }
+    found.into_inner().unwrap_or_else(|e| e.into_inner())
+}
+
+/// Path bound and exact worst case of each network, from the sized gate.
+fn bounds(gate: &SizedGate) -> Vec<NetworkBound> {
+    let repeated = gate.function.has_repeated_inputs();
+    gate.networks
+        .iter()
+        .map(|network| {
+            let path_bound = network.worst_resistance;
+            let (exact_worst, exact_worst_vector, note) = match (&network.exact_worst, repeated) {
+                (_, false) => (
+                    Some(path_bound),
+                    network.worst_vector.clone(),
+                    "no repeated inputs: the weakest path conducts alone, so the bound is exact".to_string(),
+                ),
+                (Some(exact), true) => (
+                    Some(exact.resistance),
+                    Some(exact.vector.clone()),
+                    format!("repeated inputs: every input vector enumerated (up to {EXACT_WORST_MAX_INPUTS} inputs)"),
+                ),
+                (None, true) => (
+                    None,
+                    None,
+                    format!(
+                        "repeated inputs, but more than {EXACT_WORST_MAX_INPUTS} inputs: exact worst case not computed; \
+                         the path bound holds"
+                    ),
+                ),
+            };
+            let below_bound = exact_worst.is_some_and(|exact| exact < path_bound - 1e-9 * path_bound.max(1.0));
+            NetworkBound { network: network.network, path_bound, exact_worst, exact_worst_vector, below_bound, note }
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::gate::{GateOptions, Transistor, size_text};
+    use crate::sizing::{Method, SizingOptions};
+    use proptest::prelude::*;
+
+    fn sized(text: &str, method: Method) -> SizedGate {
+        size_text(text, &GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None))).unwrap()
+    }
+
+    fn options(threads: usize) -> VerifyOptions {
+        VerifyOptions { random_vectors: 4096, seed: DEFAULT_SEED, threads }
+    }
+
+    fn transistor<'a>(gate: &'a mut SizedGate, name: &str) -> &'a mut Transistor {
+        gate.transistors.iter_mut().find(|t| t.name == name).expect("the transistor exists")
+    }
+
+    /// The netlist as the tests expect it, so that each mutation below means what its comment says.
+    fn terminals(gate: &SizedGate) -> Vec<(String, String, String, String)> {
+        gate.transistors.iter().map(|t| (t.name.clone(), t.input.clone(), t.drain.clone(), t.source.clone())).collect()
+    }
+
+    #[test]
+    fn the_trade_s_gates_pass_on_every_vector() {
+        for text in ["inv", "nand2", "nand8", "nor2", "nor8", "aoi21", "aoi222", "oai33", "!(a & b | a & c)", "!a & !b"]
+        {
+            for method in [Method::LongestPath, Method::MinArea] {
+                let result = verify(&sized(text, method), &options(2)).unwrap();
+                assert!(result.passed, "{text}: {:?}", result.failure);
+                assert_eq!(result.coverage, Coverage::Exhaustive);
+                // n inputs have 2^n vectors (common practice, no source)
+                assert_eq!(result.vectors_checked, 1 << result.input_count, "{text}");
+            }
+        }
+    }
+
+    #[test]
+    fn a_pull_up_device_on_the_wrong_input_leaves_the_output_floating() {
+        let mut gate = sized("nand2", Method::LongestPath);
+        assert_eq!(
+            terminals(&gate)[..2],
+            [
+                ("MN1".into(), "a".into(), "y".into(), "n1".into()),
+                ("MN2".into(), "b".into(), "n1".into(), "vss".into())
+            ]
+        );
+        transistor(&mut gate, "MP2").input = "a".into();
+        // Derived by hand: at a=1 b=0 (vector 1) MP1 and MP2 (now on a) are off, MN2 is off: y floats.
+        let result = verify(&gate, &options(1)).unwrap();
+        let failure = result.failure.clone().expect("the mutation is caught");
+        assert_eq!(failure.check, Check::NeitherConducts);
+        assert_eq!(failure.index, 1);
+        assert_eq!(failure.vector.to_string(), "a=1 b=0");
+        assert!(!failure.pull_up_conducts && !failure.pull_down_conducts && failure.expected_output);
+        assert_eq!(result.vectors_checked, 2);
+        let error = result.outcome().unwrap_err();
+        assert_eq!(error.exit_code(), crate::error::EXIT_CHECK_FAILED);
+        assert!(error.to_string().contains("never both off"), "{error}");
+        assert!(error.to_string().contains("a=1 b=0"), "{error}");
+    }
+
+    #[test]
+    fn a_series_device_moved_to_the_rail_ties_the_output_to_both() {
+        let mut gate = sized("nand2", Method::LongestPath);
+        transistor(&mut gate, "MN1").source = "vss".into();
+        // Derived by hand: MN1 now alone from y to vss; at a=1 b=0 it and MP2 conduct together.
+        let failure = verify(&gate, &options(1)).unwrap().failure.expect("caught");
+        assert_eq!((failure.check, failure.index), (Check::BothConduct, 1));
+        assert!(failure.pull_up_conducts && failure.pull_down_conducts);
+    }
+
+    #[test]
+    fn complementary_networks_of_the_wrong_function_are_caught() {
+        let mut gate = sized("nand2", Method::LongestPath);
+        transistor(&mut gate, "MN1").input = "b".into();
+        transistor(&mut gate, "MP1").input = "b".into();
+        // Derived by hand: the netlist is now !(b & b) = !b; at a=0 b=1 (vector 2) it gives 0, NAND gives 1.
+        let failure = verify(&gate, &options(1)).unwrap().failure.expect("caught");
+        assert_eq!((failure.check, failure.index), (Check::WrongOutput, 2));
+        assert!(failure.expected_output && failure.pull_down_conducts && !failure.pull_up_conducts);
+    }
+
+    #[test]
+    fn a_path_between_the_rails_is_caught_even_with_the_output_floating() {
+        let mut gate = sized("nand2", Method::LongestPath);
+        transistor(&mut gate, "MN1").drain = "vdd".into();
+        // Derived by hand: MN1 and MN2 now join vdd to vss at a=b=1, where both PMOS are off and y floats.
+        let failure = verify(&gate, &options(1)).unwrap().failure.expect("caught");
+        assert_eq!((failure.check, failure.index), (Check::RailsShorted, 3));
+    }
+
+    #[test]
+    fn a_wrong_device_type_is_caught() {
+        let mut gate = sized("inv", Method::LongestPath);
+        transistor(&mut gate, "MP1").device_type = "nmos";
+        // Derived by hand: two NMOS on a: at a=0 nothing conducts.
+        let failure = verify(&gate, &options(1)).unwrap().failure.expect("caught");
+        assert_eq!((failure.check, failure.index), (Check::NeitherConducts, 0));
+        transistor(&mut gate, "MP1").device_type = "bjt";
+        assert!(matches!(verify(&gate, &options(1)), Err(VerifyError::UnknownType { .. })));
+        transistor(&mut gate, "MP1").input = "q".into();
+        assert!(matches!(verify(&gate, &options(1)), Err(VerifyError::UnknownInput { .. })));
+    }
+
+    #[test]
+    fn a_bridge_that_does_not_reduce_is_simulated_to_a_fixpoint() {
+        // The bridge pull-down y-n1 (a), y-n2 (b), n1-n2 (c), n1-vss (d), n2-vss (e) conducts for
+        // ad | be | ace | bcd (the classic bridge network; common practice, no source). Put it in
+        // place of the series-parallel pull-down of the same function.
+        let mut gate = sized("!(a & d | b & e | a & c & e | b & c & d)", Method::LongestPath);
+        let template = gate.transistors[0].clone();
+        gate.transistors.retain(|t| t.device_type == "pmos");
+        for (name, input, drain, source) in [
+            ("MB1", "a", "y", "n1"),
+            ("MB2", "b", "y", "n2"),
+            ("MB3", "c", "n1", "n2"),
+            ("MB4", "d", "n1", "vss"),
+            ("MB5", "e", "n2", "vss"),
+        ] {
+            gate.transistors.push(Transistor {
+                name: name.into(),
+                input: input.into(),
+                drain: drain.into(),
+                source: source.into(),
+                ..template.clone()
+            });
+        }
+        let input_index: HashMap<&str, usize> =
+            gate.function.inputs.iter().enumerate().map(|(i, n)| (n.as_str(), i)).collect();
+        let netlist = Netlist::new(&gate, &input_index).unwrap();
+        assert!(netlist.node_count > 3 && netlist.edges.len() >= 5, "the bridge stays unreduced");
+        let result = verify(&gate, &options(1)).unwrap();
+        assert!(result.passed, "{:?}", result.failure);
+        assert_eq!(reference_first_failure(&gate), None);
+        // With the bridging device on b instead of c: inputs are a, d, b, e, c (first appearance), so
+        // vector 6 is d=1 b=1; MB2, MB3 and MB4 then join y to vss while f = 0 keeps the pull-up on
+        // (derived by hand).
+        transistor(&mut gate, "MB3").input = "b".into();
+        let failure = verify(&gate, &options(1)).unwrap().failure.expect("caught");
+        assert_eq!(Some((failure.index, failure.check)), reference_first_failure(&gate));
+        assert_eq!((failure.index, failure.check), (6, Check::BothConduct));
+    }
+
+    #[test]
+    fn the_first_failure_is_the_lowest_vector_whatever_the_threads() {
+        // 20 inputs: a fault seen only when every input is 1, the last of 2^20 vectors.
+        let names: Vec<String> = (0..20).map(|i| format!("x{i}")).collect();
+        let mut gate = sized(&format!("!({})", names.join(" & ")), Method::LongestPath);
+        let last = gate.transistors.iter().position(|t| t.source == "vss").unwrap();
+        gate.transistors[last].source = "nowhere".into();
+        for threads in [1, 2, 3] {
+            let result = verify(&gate, &options(threads)).unwrap();
+            let failure = result.failure.expect("caught");
+            assert_eq!((failure.check, failure.index), (Check::NeitherConducts, (1 << 20) - 1), "{threads}");
+            assert_eq!(result.vectors_checked, 1 << 20);
+        }
+    }
+
+    #[test]
+    fn past_the_limit_a_stated_sample_is_checked() {
+        let names: Vec<String> = (0..=MAX_EXHAUSTIVE_INPUTS).map(|i| format!("x{i}")).collect();
+        let mut gate = sized(&format!("!({})", names.join(" & ")), Method::LongestPath);
+        let result = verify(&gate, &options(2)).unwrap();
+        assert!(result.passed);
+        assert_eq!(result.coverage, Coverage::Random { seed: DEFAULT_SEED });
+        assert_eq!((result.vectors_checked, result.vectors_planned), (4096, 4096));
+        // A pull-down that never reaches vss shows only at all ones, which the sample always holds.
+        let last = gate.transistors.iter().position(|t| t.source == "vss").unwrap();
+        gate.transistors[last].source = "nowhere".into();
+        let first = verify(&gate, &options(1)).unwrap().failure.expect("caught");
+        assert_eq!((first.check, first.index), (Check::NeitherConducts, 1));
+        assert!(first.vector.values.iter().all(|(_, v)| *v));
+        let too_many = VerifyOptions { random_vectors: MAX_RANDOM_VECTORS + 1, ..options(1) };
+        assert!(matches!(verify(&gate, &too_many), Err(VerifyError::TooManyVectors { .. })));
+    }
+
+    #[test]
+    fn random_vectors_are_repeatable_and_spread() {
+        let names: Vec<String> = (0..40).map(|i| format!("x{i}")).collect();
+        let gate = sized(&format!("!({})", names.join(" | ")), Method::LongestPath);
+        let simulator_inputs = |word| {
+            let input_index: HashMap<&str, usize> =
+                gate.function.inputs.iter().enumerate().map(|(i, n)| (n.as_str(), i)).collect();
+            let netlist = Netlist::new(&gate, &input_index).unwrap();
+            let program = Program::new(&parser::parse(&gate.function.text).unwrap().expr, &input_index).unwrap();
+            let simulator = Simulator {
+                netlist: &netlist,
+                program: &program,
+                input_count: 40,
+                coverage: Coverage::Random { seed: 7 },
+            };
+            let mut words = vec![0; 40];
+            simulator.inputs(word, &mut words);
+            words
+        };
+        assert_eq!(simulator_inputs(5), simulator_inputs(5));
+        let ones: u32 = (1..64).map(|w| simulator_inputs(w).iter().map(|x| x.count_ones()).sum::<u32>()).sum();
+        // About half the bits set: 63 words x 40 inputs x 64 bits / 2 = 80640 (fair coin; common practice)
+        assert!((78_000..83_000).contains(&ones), "{ones}");
+    }
+
+    #[test]
+    fn the_exact_worst_case_is_reported_where_it_is_below_the_bound() {
+        // Majority-like !(ab | bc | ac), longest-path: every pull-up path of three 1/3 R devices has one
+        // device doubled by its parallel partner on the same input, so the exact worst is 2.5 / 3 R
+        // (derived by hand from the series-parallel rules).
+        let result = verify(&sized("!(a & b | b & c | a & c)", Method::LongestPath), &options(1)).unwrap();
+        let up = &result.networks[1];
+        assert!((up.path_bound - 1.0).abs() < 1e-12);
+        assert!((up.exact_worst.unwrap() - 2.5 / 3.0).abs() < 1e-12);
+        assert!(up.below_bound && !result.networks[0].below_bound);
+    }
+
+    /// The plain reference: per vector, components of the conducting switches (union-find) and the
+    /// expression from the gate function's tree (not the parsed text verify uses).
+    fn reference_first_failure(gate: &SizedGate) -> Option<(u64, Check)> {
+        fn find(parent: &mut [usize], mut x: usize) -> usize {
+            while parent[x] != x {
+                parent[x] = parent[parent[x]];
+                x = parent[x];
+            }
+            x
+        }
+        let mut names: Vec<&str> = vec!["vdd", "vss", &gate.output];
+        for t in &gate.transistors {
+            for node in [&t.drain, &t.source] {
+                if !names.contains(&node.as_str()) {
+                    names.push(node);
+                }
+            }
+        }
+        let index = |name: &str| names.iter().position(|n| *n == name).unwrap();
+        let inputs = &gate.function.inputs;
+        for vector in 0..1u64 << inputs.len() {
+            let values: Vec<bool> = (0..inputs.len()).map(|i| vector >> i & 1 == 1).collect();
+            let mut parent: Vec<usize> = (0..names.len()).collect();
+            for t in &gate.transistors {
+                let value = values[inputs.iter().position(|n| *n == t.input).unwrap()];
+                if value == (t.device_type == "nmos") {
+                    let (a, b) = (find(&mut parent, index(&t.drain)), find(&mut parent, index(&t.source)));
+                    parent[a] = b;
+                }
+            }
+            let [vdd, vss, y] = [0, 1, 2].map(|n| find(&mut parent, n));
+            let (up, down, expected) = (y == vdd, y == vss, !gate.function.evaluate(&values));
+            let check = if up && down {
+                Some(Check::BothConduct)
+            } else if vdd == vss {
+                Some(Check::RailsShorted)
+            } else if !up && !down {
+                Some(Check::NeitherConducts)
+            } else if up != expected {
+                Some(Check::WrongOutput)
+            } else {
+                None
+            };
+            if let Some(check) = check {
+                return Some((vector, check));
+            }
+        }
+        None
+    }
+
+    /// A random AND/OR tree over up to `inputs` names, as text.
+    fn tree(inputs: usize) -> impl Strategy<Value = String> {
+        let leaf = (0..inputs).prop_map(|i| format!("x{i}"));
+        leaf.prop_recursive(4, 24, 4, |inner| {
+            (prop::collection::vec(inner, 2..4), any::<bool>())
+                .prop_map(|(children, and)| format!("({})", children.join(if and { " & " } else { " | " })))
+        })
+    }
+
+    /// `!(t)`, or its De Morgan form with the NOTs pushed to the inputs.
+    fn gate_text() -> impl Strategy<Value = String> {
+        (1usize..=12).prop_flat_map(tree).prop_flat_map(|t| {
+            let pushed = t.replace('&', "#").replace('|', "&").replace('#', "|").replace('x', "!x");
+            prop_oneof![Just(format!("!{t}")), Just(pushed)]
+        })
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(128))]
+
+        #[test]
+        fn every_sized_gate_verifies(text in gate_text(), min_area in any::<bool>()) {
+            let method = if min_area { Method::MinArea } else { Method::LongestPath };
+            let gate = sized(&text, method);
+            let result = verify(&gate, &options(2)).unwrap();
+            prop_assert!(result.passed, "{}: {:?}", text, result.failure);
+            prop_assert_eq!(result.vectors_checked, 1u64 << gate.function.inputs.len());
+        }
+
+        #[test]
+        fn a_mutated_netlist_fails_where_the_plain_reference_says(
+            text in gate_text(),
+            device in any::<prop::sample::Index>(),
+            other in any::<prop::sample::Index>(),
+            kind in 0..4u8,
+        ) {
+            let mut gate = sized(&text, Method::LongestPath);
+            let count = gate.transistors.len();
+            let donor = gate.transistors[other.index(count)].clone();
+            let target = &mut gate.transistors[device.index(count)];
+            match kind {
+                0 => target.input = donor.input,
+                1 => target.drain = donor.source,
+                2 => target.source = donor.drain,
+                _ => target.device_type = if target.device_type == "nmos" { "pmos" } else { "nmos" },
+            }
+            let result = verify(&gate, &options(2)).unwrap();
+            let found = result.failure.as_ref().map(|f| (f.index, f.check));
+            prop_assert_eq!(found, reference_first_failure(&gate), "{}", text);
+        }
+    }
+}

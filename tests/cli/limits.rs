@@ -1,0 +1,151 @@
+//! Every hard limit, in one table: just past it the command refuses with a clear message (exit 2)
+//! or says what it does instead; at it, the command works. The limits are documented in --help.
+
+use predicates::prelude::*;
+
+use super::widthwise;
+
+/// `!(x0 & x1 & ...)` with `count` literals over `distinct` inputs.
+fn and_of(count: usize, distinct: usize) -> String {
+    let names: Vec<String> = (0..count).map(|i| format!("x{}", i % distinct)).collect();
+    format!("!({})", names.join(" & "))
+}
+
+/// `count` parallel pairs in series: 2^count paths of `count` devices in the pull-down.
+fn pairs(count: usize) -> String {
+    let groups: Vec<String> = (0..count).map(|i| format!("(a{i} | b{i})")).collect();
+    format!("!({})", groups.join(" & "))
+}
+
+struct Case {
+    limit: &'static str,
+    /// Arguments after the command name; the expression comes on standard input.
+    args: &'static [&'static str],
+    over: String,
+    at: String,
+    message: &'static str,
+}
+
+#[test]
+fn table_of_limits() {
+    let mebibyte = 1 << 20;
+    let padded = |text: &str, length: usize| format!("{text}{}", " ".repeat(length - text.len()));
+    let cases = [
+        Case {
+            limit: "expression length, 1 MiB",
+            args: &["size"],
+            over: padded("nand2", mebibyte + 1),
+            at: padded("nand2", mebibyte),
+            message: "longer than 1048576 bytes",
+        },
+        Case {
+            limit: "nesting, 256 levels of parentheses",
+            args: &["size"],
+            over: format!("!{}a & b{}", "(".repeat(257), ")".repeat(257)),
+            at: format!("!{}a & b{}", "(".repeat(256), ")".repeat(256)),
+            message: "nesting deeper than 256",
+        },
+        Case {
+            limit: "input occurrences (transistors per network), 10000",
+            args: &["size", "--format", "csv", "--rows", "gates"],
+            over: and_of(10_001, 3),
+            at: and_of(10_000, 3),
+            message: "10001 input occurrences; the limit is 10000",
+        },
+        Case {
+            limit: "distinct inputs, 10000",
+            args: &["size", "--format", "csv", "--rows", "gates"],
+            over: and_of(10_001, 10_001),
+            at: and_of(10_000, 10_000),
+            message: "10001 distinct inputs; the limit is 10000",
+        },
+        Case {
+            limit: "device names in one path listing, 1000000",
+            args: &["paths", "--limit", "10000", "--format", "csv"],
+            over: pairs(101),
+            at: pairs(100),
+            message: "could name 1010000 devices; the limit is 1000000",
+        },
+        Case {
+            limit: "shorthand stack, 8",
+            args: &["size"],
+            over: "nand9".into(),
+            at: "nand8".into(),
+            message: "nand takes 2 to 8 inputs",
+        },
+        Case {
+            limit: "shorthand groups, 8",
+            args: &["size"],
+            over: "aoi222222222".into(),
+            at: "aoi22222222".into(),
+            message: "2 to 8 group sizes",
+        },
+    ];
+    for case in cases {
+        let mut args = case.args.to_vec();
+        args.insert(1, "-");
+        widthwise()
+            .args(&args)
+            .write_stdin(case.over.clone())
+            .assert()
+            .code(2)
+            .stderr(predicate::str::contains(case.message).from_utf8())
+            .stdout(predicate::str::is_empty());
+        let at = widthwise().args(&args).write_stdin(case.at.clone()).output().unwrap();
+        assert!(at.status.success(), "{}: {}", case.limit, String::from_utf8_lossy(&at.stderr));
+    }
+}
+
+#[test]
+fn limits_that_change_what_is_done_say_so() {
+    // Past 16 inputs the exact worst case over vectors is not enumerated: JSON says null.
+    let output = widthwise().args(["size", &and_of(18, 17), "--format", "json"]).output().unwrap();
+    let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert!(json["networks"][0]["exact_worst"].is_null());
+    let output = widthwise().args(["size", &and_of(17, 16), "--format", "json"]).output().unwrap();
+    let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert!(json["networks"][0]["exact_worst"].is_object());
+    widthwise()
+        .args(["verify", &and_of(18, 17)])
+        .assert()
+        .success()
+        .stdout(predicate::str::contains("more than 16 inputs: exact worst case not computed"));
+    // Past 30 inputs verify samples instead of checking every vector (see verify.rs for the rest).
+    widthwise()
+        .args(["verify", &and_of(31, 31), "--random-vectors", "64"])
+        .assert()
+        .success()
+        .stdout(predicate::str::contains("past the limit of 30"));
+    widthwise().args(["paths", "nand2", "--limit", "10001"]).assert().code(2);
+    widthwise().args(["paths", "nand2", "--limit", "10000"]).assert().success();
+}
+
+#[test]
+fn help_lists_every_limit() {
+    let output = widthwise().args(["size", "--help"]).output().unwrap();
+    let help = String::from_utf8(output.stdout).unwrap().replace('\n', " ");
+    for limit in ["1 MiB", "256 levels", "10000 input occurrences", "10000 distinct inputs", "10000 listed paths"] {
+        assert!(help.contains(limit), "{limit}");
+    }
+    for limit in ["1000000 device names", "16 inputs", "30 inputs"] {
+        assert!(help.contains(limit), "{limit}");
+    }
+}
+
+#[test]
+fn library_limits_past_the_command_line() {
+    use widthwise::expr::parser::{MAX_EXPRESSION_BYTES, parse};
+    use widthwise::process::{MAX_PROCESS_FILE_BYTES, Process};
+    // Expression text through the library (an argument cannot be this long; standard input is
+    // checked before parsing, above).
+    let padded = |text: &str, length: usize| format!("{text}{}", " ".repeat(length - text.len()));
+    let error = parse(&padded("nand2", MAX_EXPRESSION_BYTES + 1)).unwrap_err();
+    assert!(error.to_string().contains("1048577 bytes long; the limit is 1048576"), "{error}");
+    assert!(parse(&padded("nand2", MAX_EXPRESSION_BYTES)).is_ok());
+    // A process file: a comment pads the default file past the limit, then to it exactly.
+    let file = Process::default().to_commented_toml();
+    let pad = |length: usize| format!("{file}#{}", "x".repeat(length - file.len() - 1));
+    let error = Process::from_toml(&pad(MAX_PROCESS_FILE_BYTES + 1)).unwrap_err();
+    assert!(error.to_string().contains("the limit is 1048576"), "{error}");
+    assert_eq!(Process::from_toml(&pad(MAX_PROCESS_FILE_BYTES)).unwrap(), Process::default());
+}
