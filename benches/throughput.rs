@@ -7,6 +7,10 @@
 
 #![forbid(unsafe_code)]
 
+/// The binary's allocator, so that the figures are the binary's.
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use std::hint::black_box;
 use std::time::{Duration, Instant};
 

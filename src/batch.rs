@@ -12,10 +12,10 @@ use std::fmt;
 use std::io::{self, Read, Write};
 use std::ops::Range;
 use std::path::{Path, PathBuf};
+use std::sync::Arc;
 
 use serde::Deserialize;
 use serde::de::{SeqAccess, Visitor};
-use serde::ser::{SerializeSeq, Serializer as _};
 use toml::Spanned;
 use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
@@ -264,7 +264,7 @@ impl GatePlan {
     }
 
     /// Options for one variant.
-    fn options(&self, drive: f64, process: &Process) -> GateOptions {
+    fn options(&self, drive: f64, process: &Arc<Process>) -> GateOptions {
         gate_options(self.method, self.mobility_ratio, drive, self.critical.clone(), self.variant_name(drive), process)
     }
 
@@ -290,13 +290,13 @@ pub fn gate_options(
     drive: f64,
     critical: Option<String>,
     name: String,
-    process: &Process,
+    process: &Arc<Process>,
 ) -> GateOptions {
     GateOptions {
         sizing: SizingOptions::new(method, mobility_ratio, drive, None),
         critical,
         name: Some(name),
-        process: process.clone(),
+        process: Arc::clone(process),
         stack_order: None,
         fixed_widths: None,
     }
@@ -361,7 +361,7 @@ impl GateProblem {
 #[derive(Debug, Clone)]
 pub struct Library {
     /// The process: physical sizes and, unless `[defaults]` says otherwise, the mobility ratio.
-    pub process: Process,
+    pub process: Arc<Process>,
     /// The mobility ratio every gate is sized with: `[defaults]`, else the process's.
     pub mobility_ratio: f64,
     /// Every gate in file order.
@@ -494,7 +494,7 @@ impl Library {
             .enumerate()
             .map(|(index, entry)| read_gate_entry(source, &common, index + 1, std::mem::replace(entry, taken())))
             .collect();
-        Ok(Library { process, mobility_ratio, gates })
+        Ok(Library { process: Arc::new(process), mobility_ratio, gates })
     }
 
     /// Names that would clash in the output, each reported at its second use: a gate name used
@@ -638,7 +638,7 @@ pub struct Outcome {
 }
 
 /// Size one gate in each of its drives, or say why it cannot be.
-pub fn size_plan(plan: &GatePlan, process: &Process) -> Result<Vec<SizedGate>, GateProblem> {
+pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedGate>, GateProblem> {
     let function =
         read_gate(&plan.expression).map_err(|error| plan.expression_problem(error.to_string(), error.span()))?;
     if let Some(critical) = &plan.critical
@@ -748,13 +748,19 @@ pub fn write_batch(
             Ok(outcome)
         }
         Format::Json => {
-            let mut serializer = serde_json::Serializer::pretty(&mut *out);
-            let mut sequence = serializer.serialize_seq(None)?;
+            // One array, one compact gate object per line: a library is read by scripts, and a
+            // line per variant keeps it greppable.
+            out.write_all(b"[")?;
+            let mut first = true;
             let outcome = size_all(library, &mut report, &mut |chunk| {
-                chunk.iter().try_for_each(|gate| sequence.serialize_element(gate)).map_err(io::Error::from)
+                for gate in chunk {
+                    out.write_all(if first { b"\n" } else { b",\n" })?;
+                    first = false;
+                    serde_json::to_writer(&mut *out, gate)?;
+                }
+                Ok(())
             })?;
-            sequence.end()?;
-            writeln!(out)?;
+            out.write_all(if first { b"]\n" } else { b"\n]\n" })?;
             Ok(outcome)
         }
         Format::Spice => {
@@ -838,7 +844,7 @@ mod tests {
         let library = Library::read(&source).unwrap();
         let problem = match &library.gates[index] {
             Err(problem) => problem.clone(),
-            Ok(plan) => size_plan(plan, &Process::default()).unwrap_err(),
+            Ok(plan) => size_plan(plan, &Arc::new(Process::default())).unwrap_err(),
         };
         problem.render(&source)
     }

@@ -6,6 +6,7 @@ use std::ffi::OsString;
 use std::fs;
 use std::io::{self, BufWriter, Read, Write};
 use std::path::Path;
+use std::sync::Arc;
 
 use crate::cli::{Cli, Command, DeckArgs, GateArgs, OutputArgs};
 use crate::delay::{self, DelayOptions};
@@ -99,7 +100,7 @@ pub fn gate_options(args: &GateArgs) -> Result<GateOptions, Error> {
         sizing: SizingOptions::new(args.method, mobility_ratio, args.drive, args.reference),
         critical: args.critical.clone(),
         name: args.name.clone(),
-        process,
+        process: Arc::new(process),
         stack_order: None,
         fixed_widths: None,
     })

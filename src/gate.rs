@@ -3,6 +3,8 @@
 //!
 //! [`SizedGate`] is what every writer in `output` takes; its serde form is the JSON output.
 
+use std::sync::Arc;
+
 use num_bigint::BigUint;
 use serde::ser::{SerializeMap, Serializer};
 
@@ -24,7 +26,7 @@ pub struct GateOptions {
     /// The cell name (defaults to the shorthand, or `cell`).
     pub name: Option<String>,
     /// The process that turns relative sizes into drawn widths (snapping, fingers).
-    pub process: Process,
+    pub process: Arc<Process>,
     /// Series-stack order chosen by a later stage (the delay stage's order search, the elmore
     /// method), pull-down first: used in place of [`Network::ordered`]. Same devices and structure.
     pub stack_order: Option<[Network; 2]>,
@@ -39,7 +41,7 @@ impl GateOptions {
             sizing,
             critical: None,
             name: None,
-            process: Process::default(),
+            process: Arc::new(Process::default()),
             stack_order: None,
             fixed_widths: None,
         }
@@ -212,7 +214,7 @@ pub struct SizedGate {
     /// Sum of all drawn widths, um.
     pub total_drawn_width_um: f64,
     /// The process the drawn sizes come from.
-    pub process: Process,
+    pub process: Arc<Process>,
     /// Delays, the logical-effort view and the three methods side by side, once the delay stage ran.
     #[serde(flatten)]
     pub timing: Option<crate::delay::Timing>,
@@ -375,7 +377,7 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
             change_percent: (other_total / total - 1.0) * 100.0,
         },
         total_drawn_width_um,
-        process: process.clone(),
+        process: Arc::clone(process),
         timing: None,
         function,
         trees,

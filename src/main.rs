@@ -9,6 +9,11 @@ use clap::Parser;
 use widthwise::cli::Cli;
 use widthwise::error::{EXIT_BAD_INPUT, EXIT_OK, Error};
 
+/// The binary allocates many small strings per gate (names, nodes, vectors); mimalloc serves them
+/// about twice as fast as the system allocator, which is most of a batch's run time.
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
         Ok(cli) => cli,

@@ -120,7 +120,7 @@ fn simulate(text: &str, method: Method, process_path: &str, process: &Process, e
     let measured = measurements(&output);
     let summary = summary_ratios(&output);
     let mut options = GateOptions::new(SizingOptions::new(method, process.mobility_ratio, 1.0, None));
-    options.process = process.clone();
+    options.process = std::sync::Arc::new(process.clone());
     let gate: SizedGate = size_text(text, &options).expect("the gate sizes");
     let found = |name: &str| -> f64 {
         *measured.get(name).unwrap_or_else(|| panic!("{text} ({}): no measurement {name} in\n{output}", method.name()))
