@@ -103,6 +103,19 @@ impl Default for DelayOptions {
     }
 }
 
+/// The diffusion ratio when none is given: with a process file, its diffusion capacitance over its
+/// gate capacitance per um of width (`diffusion_cap_ff_per_um / gate_cap_ff_per_um`), so that the
+/// delays see the capacitors of that process's simulation deck; without one, 1, as in the published
+/// worked examples (the built-in process is not used for it).
+pub fn default_diffusion_ratio(process_file: Option<&Process>) -> Result<f64, DelayError> {
+    let Some(process) = process_file else { return Ok(1.0) };
+    let ratio = process.diffusion_cap_ff_per_um / process.gate_cap_ff_per_um;
+    if !ratio.is_finite() {
+        return Err(DelayError::NoDefaultRatio { gate_cap_ff_per_um: process.gate_cap_ff_per_um });
+    }
+    Ok(ratio)
+}
+
 /// Why delays or the elmore method could not be worked out.
 #[derive(Debug, Clone, PartialEq, Error)]
 pub enum DelayError {
@@ -126,6 +139,15 @@ pub enum DelayError {
         supply_v: f64,
         /// NMOS threshold.
         threshold_v: f64,
+    },
+    /// A process file whose gate capacitance gives no diffusion ratio.
+    #[error(
+        "the process's gate_cap_ff_per_um is '{gate_cap_ff_per_um}', so the diffusion ratio has no default: \
+         give --diffusion-ratio"
+    )]
+    NoDefaultRatio {
+        /// The process's gate capacitance per um.
+        gate_cap_ff_per_um: f64,
     },
     /// A gate too large to time: every input's report lists its vector and nodes.
     #[error("delays are worked out for gates of up to {limit} input occurrences per network; this one has {count}")]
