@@ -5,7 +5,7 @@ use std::path::PathBuf;
 
 use clap::{Args, Parser, Subcommand};
 
-use crate::delay::{DelayOptions, Load, StackOrder};
+use crate::delay::{DelayError, DelayOptions, Load, StackOrder};
 use crate::output::{Format, Rows};
 use crate::paths::MAX_LISTED_PATHS;
 use crate::sizing::{Method, Reference};
@@ -233,11 +233,13 @@ pub struct DelayArgs {
     /// timed input's capacitance [default: 1].
     #[arg(long, value_name = "H", value_parser = non_negative_number, conflicts_with = "load")]
     pub fanout: Option<f64>,
-    /// Load: a fixed capacitance in units of C, the gate capacitance of a unit transistor.
+    /// Load: a fixed capacitance in units of C, the gate capacitance of a unit transistor
+    /// (gate_cap_ff_per_um x unit_width_nm; a deck's load is load_ff / C of them).
     #[arg(long, value_name = "C", value_parser = non_negative_number)]
     pub load: Option<f64>,
     /// Diffusion capacitance of one source or drain per unit W/L, over the gate capacitance per unit
-    /// W/L [default: 1].
+    /// W/L [default: with --process, the file's diffusion_cap_ff_per_um / gate_cap_ff_per_um, the ratio
+    /// of its deck's capacitors; without, 1, as in the published worked examples].
     #[arg(long, value_name = "RATIO", value_parser = non_negative_number)]
     pub diffusion_ratio: Option<f64>,
     /// Series-stack order: default, or search (the order with the least worst Elmore delay, or least
@@ -256,18 +258,23 @@ impl DelayArgs {
             || self.stack_order.is_some()
     }
 
-    /// The delay options these arguments give.
-    pub fn options(&self) -> DelayOptions {
+    /// The delay options these arguments give; `process_file` is the `--process` file's process,
+    /// if one was given (it sets the default diffusion ratio, [`crate::delay::default_diffusion_ratio`]).
+    pub fn options(&self, process_file: Option<&crate::process::Process>) -> Result<DelayOptions, DelayError> {
         let defaults = DelayOptions::default();
-        DelayOptions {
+        let diffusion_ratio = match self.diffusion_ratio {
+            Some(ratio) => ratio,
+            None => crate::delay::default_diffusion_ratio(process_file)?,
+        };
+        Ok(DelayOptions {
             load: match (self.load, self.fanout) {
                 (Some(c), _) => Load::Capacitance(c),
                 (None, Some(h)) => Load::Fanout(h),
                 (None, None) => defaults.load,
             },
-            diffusion_ratio: self.diffusion_ratio.unwrap_or(defaults.diffusion_ratio),
+            diffusion_ratio,
             stack_order: self.stack_order.unwrap_or(defaults.stack_order),
-        }
+        })
     }
 }
 

@@ -27,7 +27,8 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             let options = gate_options(&gate)?;
             let text = expression_text(&expression)?;
             let sized = if delay.wanted() || gate.method == Method::Elmore || rows == Rows::Delays {
-                delay::size_and_time(&text, &options, &delay.options(), Some(&options.process))?
+                let delay = delay.options(process_file(&gate, &options))?;
+                delay::size_and_time(&text, &options, &delay, Some(&options.process))?
             } else {
                 size_text(&text, &options)?
             };
@@ -41,7 +42,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             }
             let options = gate_options(&gate)?;
             let text = expression_text(&expression)?;
-            let sized = delay::size_gate(&text, &options, &DelayOptions::default())?;
+            let sized = delay::size_gate(&text, &options, &sizing_delay(&gate, &options)?)?;
             for network in &sized.trees {
                 let size = paths::listing_size(network, limit);
                 if size > paths::MAX_LISTED_DEVICES {
@@ -62,8 +63,8 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             // Every input is checked before anything is written.
             let deck = deck_options(&deck, &options.process)?;
             let text = expression_text(&expression)?;
-            // The elmore method sizes at the default load (fan-out 1), as `paths` does.
-            let sized = delay::size_gate(&text, &options, &DelayOptions::default())?;
+            // The elmore method sizes at the default load (fan-out 1) and ratio, as `paths` does.
+            let sized = delay::size_gate(&text, &options, &sizing_delay(&gate, &options)?)?;
             let target = OutputArgs { format: Format::Spice, output };
             write_output(&target, |out| output::deck::write_deck(&sized, &deck, out))
         }
@@ -77,7 +78,8 @@ pub fn run(cli: Cli) -> Result<(), Error> {
                 return Err(Error::Usage("verification is written as table, csv or json, not spice".into()));
             }
             let text = expression_text(&expression)?;
-            let sized = delay::size_gate(&text, &gate_options(&gate)?, &DelayOptions::default())?;
+            let options = gate_options(&gate)?;
+            let sized = delay::size_gate(&text, &options, &sizing_delay(&gate, &options)?)?;
             let options = VerifyOptions { random_vectors, seed, ..VerifyOptions::default() };
             let result = verify::verify(&sized, &options)?;
             write_output(&output, |out| {
@@ -104,6 +106,21 @@ pub fn gate_options(args: &GateArgs) -> Result<GateOptions, Error> {
         stack_order: None,
         fixed_widths: None,
     })
+}
+
+/// The process of `--process`, if it was given (the built-in one is not a process file).
+fn process_file<'a>(args: &GateArgs, options: &'a GateOptions) -> Option<&'a Process> {
+    args.process.as_ref().map(|_| &*options.process)
+}
+
+/// What `paths` and `deck` size the elmore method with: fan-out 1 and the default diffusion ratio
+/// (the `--process` file's, else 1); the other methods need no delay options.
+fn sizing_delay(args: &GateArgs, options: &GateOptions) -> Result<DelayOptions, Error> {
+    let mut delay = DelayOptions::default();
+    if args.method == Method::Elmore {
+        delay.diffusion_ratio = delay::default_diffusion_ratio(process_file(args, options))?;
+    }
+    Ok(delay)
 }
 
 /// Read and check a process file; errors name the key and its line and column.

@@ -5,7 +5,8 @@
 //! Units: delays in RC, where R is the on-resistance of the unit NMOS (W/L = 1) and C the gate
 //! capacitance of a unit transistor; every diffusion terminal adds `diffusion_ratio x C` per unit
 //! W/L, and a diffusion shared by two series devices (an internal node joining exactly two devices)
-//! counts once, half of each device's W/L. A process turns RC into picoseconds.
+//! counts once, as wide as the wider device ([`NodeDiffusion`], the rule the simulation deck uses
+//! too). A process turns RC into picoseconds.
 //!
 //! A transition is an input vector (from [`SizedGate::worst_case_for_input`]) with the timed input
 //! switching to the level that turns its devices in the timed network on. The conducting network is
@@ -25,6 +26,7 @@ use thiserror::Error;
 
 use crate::error::Error;
 use crate::expr::{GateFunction, read_gate};
+use crate::figures::NodeDiffusion;
 use crate::gate::{GateOptions, SizedGate, Vector, device_name, size_function};
 use crate::network::{Network, NetworkKind};
 use crate::paths::EXACT_WORST_MAX_INPUTS;
@@ -101,6 +103,19 @@ impl Default for DelayOptions {
     }
 }
 
+/// The diffusion ratio when none is given: with a process file, its diffusion capacitance over its
+/// gate capacitance per um of width (`diffusion_cap_ff_per_um / gate_cap_ff_per_um`), so that the
+/// delays see the capacitors of that process's simulation deck; without one, 1, as in the published
+/// worked examples (the built-in process is not used for it).
+pub fn default_diffusion_ratio(process_file: Option<&Process>) -> Result<f64, DelayError> {
+    let Some(process) = process_file else { return Ok(1.0) };
+    let ratio = process.diffusion_cap_ff_per_um / process.gate_cap_ff_per_um;
+    if !ratio.is_finite() {
+        return Err(DelayError::NoDefaultRatio { gate_cap_ff_per_um: process.gate_cap_ff_per_um });
+    }
+    Ok(ratio)
+}
+
 /// Why delays or the elmore method could not be worked out.
 #[derive(Debug, Clone, PartialEq, Error)]
 pub enum DelayError {
@@ -124,6 +139,15 @@ pub enum DelayError {
         supply_v: f64,
         /// NMOS threshold.
         threshold_v: f64,
+    },
+    /// A process file whose gate capacitance gives no diffusion ratio.
+    #[error(
+        "the process's gate_cap_ff_per_um is '{gate_cap_ff_per_um}', so the diffusion ratio has no default: \
+         give --diffusion-ratio"
+    )]
+    NoDefaultRatio {
+        /// The process's gate capacitance per um.
+        gate_cap_ff_per_um: f64,
     },
     /// A gate too large to time: every input's report lists its vector and nodes.
     #[error("delays are worked out for gates of up to {limit} input occurrences per network; this one has {count}")]
@@ -425,8 +449,10 @@ pub(crate) struct Circuit {
     pub names: Vec<String>,
     pub devices: Vec<Device>,
     pub incident: Vec<Vec<usize>>,
-    /// Per node: (device, coefficient) with capacitance = sum coefficient x W/L, in C.
-    pub capacitance_terms: Vec<Vec<(usize, f64)>>,
+    /// Per node: which device diffusions make its capacitance (the rule the deck uses too).
+    pub diffusion: Vec<NodeDiffusion>,
+    /// Diffusion capacitance per unit W/L of one terminal, in C.
+    pub diffusion_ratio: f64,
     pub count: usize,
     pub input_count: usize,
 }
@@ -463,25 +489,17 @@ impl Circuit {
             incident[device.drain].push(index);
             incident[device.source].push(index);
         }
-        let capacitance_terms = incident
+        let diffusion = incident
             .iter()
             .enumerate()
-            .map(|(node, touching)| {
-                if node == VSS || node == VDD {
-                    Vec::new()
-                } else if node != OUTPUT && touching.len() == 2 {
-                    // A diffusion shared by two series devices counts once: half of each device's.
-                    touching.iter().map(|&d| (d, 0.5 * diffusion_ratio)).collect()
-                } else {
-                    touching.iter().map(|&d| (d, diffusion_ratio)).collect()
-                }
-            })
+            .map(|(node, touching)| NodeDiffusion::of(touching, node == VSS || node == VDD, node == OUTPUT))
             .collect();
-        Circuit { names, devices, incident, capacitance_terms, count, input_count: gate.function.inputs.len() }
+        Circuit { names, devices, incident, diffusion, diffusion_ratio, count, input_count: gate.function.inputs.len() }
     }
 
-    fn node_capacitance(&self, node: usize, widths: &[f64]) -> f64 {
-        self.capacitance_terms[node].iter().map(|&(d, coefficient)| coefficient * widths[d]).sum()
+    /// A node's diffusion capacitance at `widths`, in C.
+    pub fn node_capacitance(&self, node: usize, widths: &[f64]) -> f64 {
+        self.diffusion_ratio * self.diffusion[node].width(widths)
     }
 
     fn on(&self, device: usize, values: &[bool]) -> bool {
@@ -742,8 +760,7 @@ pub fn analyse(gate: &SizedGate, options: &DelayOptions, process: Option<&Proces
     let widths = flat_widths(gate);
     let copies = fanout_copies(&gate.function, sizing);
     let reference_capacitance = sizing.drive * sizing.reference.input_capacitance();
-    let output_diffusion: f64 = circuit.capacitance_terms[OUTPUT].iter().map(|&(d, c)| c * widths[d]).sum();
-    let p_output_node = output_diffusion / reference_capacitance;
+    let p_output_node = circuit.node_capacitance(OUTPUT, &widths) / reference_capacitance;
     let mut delays = Vec::new();
     let mut unavailable = Vec::new();
     for input in 0..gate.function.inputs.len() {
@@ -939,4 +956,59 @@ pub fn compare_methods(
         }
     }
     Ok(rows)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::gate::size_text;
+
+    #[test]
+    fn a_shared_series_diffusion_counts_as_wide_as_the_wider_device() {
+        // NAND2 with a tapered pull-down, MN1 (a) W/L 3 and MN2 (b) W/L 1, PMOS 2 and 2, diffusion
+        // ratio 1, no load. The default order puts the narrower MN2 at the output (y - MN2 - n1 - MN1 -
+        // vss). Input a rising with b on: y (drains 1 + 2 + 2 = 5 C) and n1 (one region shared by MN2
+        // and MN1, as wide as the wider: 3 C) discharge through MN1 (R/3) and, for y, MN2 (R):
+        // (1 + 1/3) 5 + (1/3) 3 = 7.667 RC (the Elmore tree sum; the rule for the shared region is
+        // common practice, no source; half of each device would give 7.333).
+        let mut options = GateOptions::new(SizingOptions::new(Method::LongestPath, 2.0, 1.0, None));
+        options.fixed_widths = Some([vec![3.0, 1.0], vec![2.0, 2.0]]);
+        let gate = size_text("nand2", &options).unwrap();
+        let terminals: Vec<(&str, &str)> =
+            gate.transistors.iter().map(|t| (t.drain.as_str(), t.source.as_str())).take(2).collect();
+        assert_eq!(terminals, [("n1", "vss"), ("y", "n1")]);
+        let delay = DelayOptions { load: Load::Capacitance(0.0), ..DelayOptions::default() };
+        let timing = analyse(&gate, &delay, None).unwrap();
+        let fall = timing.delays.iter().find(|d| d.input == "a" && d.edge == Edge::Fall).unwrap();
+        assert_eq!(fall.internal_nodes, ["n1"]);
+        assert!((fall.elmore_rc - (5.0 * 4.0 / 3.0 + 1.0)).abs() < 1e-9, "{}", fall.elmore_rc);
+    }
+
+    #[test]
+    fn the_deck_and_the_delay_stage_see_the_same_diffusion() {
+        // One rule for both (NodeDiffusion): on a gate with tapered stacks (the elmore method, NAND3 and
+        // AOI21 with a load), each node's deck capacitor over the unit gate capacitance is the delay
+        // stage's node capacitance at the process's diffusion ratio, to the drawing grid.
+        let process = Process::default();
+        let unit_um = process.unit_width_nm / 1000.0;
+        let ratio = process.diffusion_cap_ff_per_um / process.gate_cap_ff_per_um;
+        for text in ["nand3", "aoi21"] {
+            let options = GateOptions::new(SizingOptions::new(Method::Elmore, 2.0, 1.0, None));
+            let delay =
+                DelayOptions { load: Load::Capacitance(50.0), diffusion_ratio: ratio, ..DelayOptions::default() };
+            let gate = size_gate(text, &options, &delay).unwrap();
+            let circuit = Circuit::new(&gate, ratio);
+            let widths = flat_widths(&gate);
+            let devices: Vec<(&str, &str, f64)> =
+                gate.transistors.iter().map(|t| (t.drain.as_str(), t.source.as_str(), t.drawn_width_um)).collect();
+            let deck = crate::output::deck::node_diffusion_um(&devices, &gate.output);
+            assert!(deck.iter().any(|(name, _)| name != &gate.output), "{text}: no internal node");
+            for (name, width_um) in deck {
+                let node = circuit.names.iter().position(|n| *n == name).unwrap();
+                let deck_c = width_um * process.diffusion_cap_ff_per_um / (process.gate_cap_ff_per_um * unit_um);
+                let stage_c = circuit.node_capacitance(node, &widths);
+                assert!((deck_c / stage_c - 1.0).abs() < 2e-3, "{text} {name}: deck {deck_c} C, delays {stage_c} C");
+            }
+        }
+    }
 }

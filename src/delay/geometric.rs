@@ -5,6 +5,8 @@
 //! the objective. Both are primal-dual (Boyd & Vandenberghe, "Convex Optimization", 2004, section
 //! 11.7): Newton steps on the perturbed KKT conditions, a dense Cholesky factorisation of the reduced
 //! system, and a backtracking line search on the residual that keeps every iterate strictly inside.
+//! Hard constraints hold strictly at the start and phase I keeps them at `<= 1` rather than relaxing
+//! them, so the least worst value it reports is over the points that meet them.
 
 // Dense linear algebra reads best with explicit indices.
 #![allow(clippy::needless_range_loop)]
@@ -42,6 +44,10 @@ pub struct Program {
     pub objective: Posynomial,
     /// Each must be at most 1.
     pub constraints: Vec<Posynomial>,
+    /// Each must be at most 1 too, and already is (strictly) at the start: phase I keeps them so
+    /// instead of relaxing them with the others, and an infeasible program's least worst value is
+    /// over `constraints` alone.
+    pub hard: Vec<Posynomial>,
     /// Lower bound of each variable, positive.
     pub lower: Vec<f64>,
     /// Upper bound of each variable.
@@ -151,6 +157,8 @@ impl LogSum {
 struct Problem<'a> {
     objective: &'a LogSum,
     constraints: &'a [LogSum],
+    /// How many of `constraints` (the first ones) phase I relaxes by `s`; the rest are hard.
+    soft: usize,
     lower: &'a [f64],
     upper: &'a [f64],
     phase_one: bool,
@@ -182,7 +190,12 @@ impl Problem<'_> {
     /// domain is where all are negative.
     fn values(&self, z: &[f64]) -> Vec<f64> {
         let s = self.slack(z);
-        let mut values: Vec<f64> = self.constraints.iter().map(|c| c.value(z) - s).collect();
+        let mut values: Vec<f64> = self
+            .constraints
+            .iter()
+            .enumerate()
+            .map(|(i, c)| c.value(z) - if i < self.soft { s } else { 0.0 })
+            .collect();
         values.extend((0..self.n).map(|j| z[j] - self.upper[j]));
         values.extend((0..self.n).map(|j| self.lower[j] - z[j]));
         values
@@ -205,14 +218,16 @@ impl Problem<'_> {
         }
     }
 
-    /// Gradients and term weights of the posynomial constraints (with -1 on `s` in phase I).
+    /// Gradients and term weights of the posynomial constraints (with -1 on `s` in phase I, soft
+    /// constraints only).
     fn constraint_gradients(&self, z: &[f64]) -> Vec<(Vec<f64>, Vec<f64>)> {
         let size = self.size();
         self.constraints
             .iter()
-            .map(|c| {
+            .enumerate()
+            .map(|(i, c)| {
                 let (_, mut gradient, weights) = c.derivatives(z, size);
-                if self.phase_one {
+                if self.phase_one && i < self.soft {
                     gradient[self.n] = -1.0;
                 }
                 (gradient, weights)
@@ -254,7 +269,7 @@ impl Problem<'_> {
             let distance = -values[i];
             let outer = lambda[i] / distance;
             c.add_hessian(weights, gradient, lambda[i], outer, &mut hessian, size);
-            if self.phase_one {
+            if self.phase_one && i < self.soft {
                 for &k in &c.touched {
                     hessian[k * size + n] -= outer * gradient[k];
                     hessian[n * size + k] -= outer * gradient[k];
@@ -416,7 +431,9 @@ pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
             t.coefficient > 0.0 && t.coefficient.is_finite() && t.exponents.iter().all(|&(k, e)| k < n && e.is_finite())
         })
     };
-    if !positive(&program.objective) || !program.constraints.iter().all(positive) || program.objective.terms.is_empty()
+    if !positive(&program.objective)
+        || !program.constraints.iter().chain(&program.hard).all(positive)
+        || program.objective.terms.is_empty()
     {
         return Err(SolveError::Bad("coefficients must be positive and finite, variables in range".into()));
     }
@@ -427,9 +444,14 @@ pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
         return Err(SolveError::Bad("the start must lie strictly inside the box".into()));
     }
     let objective = LogSum::new(&program.objective);
-    let constraints: Vec<LogSum> = program.constraints.iter().map(LogSum::new).collect();
+    let soft = program.constraints.len();
+    let constraints: Vec<LogSum> = program.constraints.iter().chain(&program.hard).map(LogSum::new).collect();
+    if constraints[soft..].iter().map(|c| c.value(&y)).any(|v| v.is_nan() || v >= 0.0) {
+        return Err(SolveError::Bad("the start must meet every hard constraint strictly".into()));
+    }
+    // The largest soft constraint and its index.
     let worst = |y: &[f64]| {
-        constraints
+        constraints[..soft]
             .iter()
             .enumerate()
             .map(|(i, c)| (i, c.value(y)))
@@ -437,10 +459,11 @@ pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
     };
 
     // Phase I: minimise s with F_i(y) <= s, until some y has every F_i clearly below 0.
-    if !constraints.is_empty() && worst(&y).1 >= -MARGIN {
+    if soft > 0 && worst(&y).1 >= -MARGIN {
         let phase = Problem {
             objective: &objective,
             constraints: &constraints,
+            soft,
             lower: &lower,
             upper: &upper,
             phase_one: true,
@@ -460,8 +483,15 @@ pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
     }
 
     // Phase II.
-    let phase =
-        Problem { objective: &objective, constraints: &constraints, lower: &lower, upper: &upper, phase_one: false, n };
+    let phase = Problem {
+        objective: &objective,
+        constraints: &constraints,
+        soft,
+        lower: &lower,
+        upper: &upper,
+        phase_one: false,
+        n,
+    };
     phase.run(&mut y, |_| false)?;
     let x: Vec<f64> = y.iter().map(|v| v.exp()).collect();
     let at_bound = (0..n).filter(|&j| y[j] - lower[j] < 1e-6 || upper[j] - y[j] < 1e-6).collect();
@@ -490,6 +520,7 @@ mod tests {
             lower: vec![1e-3; 2],
             upper: vec![1e3; 2],
             start: vec![0.1, 5.0],
+            hard: Vec::new(),
         };
         let Outcome::Optimal { x, objective, at_bound } = solve(&program).unwrap() else { panic!("feasible") };
         assert!((x[0] - 1.0).abs() < 1e-6 && (x[1] - 1.0).abs() < 1e-6, "{x:?}");
@@ -508,6 +539,7 @@ mod tests {
             lower: vec![1e-3; 2],
             upper: vec![1e3; 2],
             start: vec![1.0, 1.0],
+            hard: Vec::new(),
         };
         let Outcome::Optimal { objective, .. } = solve(&program).unwrap() else { panic!("feasible") };
         assert!((objective - (1.0 + 2f64.sqrt()).powi(2)).abs() < 1e-7, "{objective}");
@@ -523,11 +555,37 @@ mod tests {
             lower: vec![1e-3],
             upper: vec![1e3],
             start: vec![1.0],
+            hard: Vec::new(),
         };
         let Outcome::Infeasible { least_worst, worst_constraint } = solve(&program).unwrap() else {
             panic!("infeasible")
         };
         assert_eq!(worst_constraint, 0);
         assert!((least_worst - 2.001).abs() < 1e-4, "{least_worst}");
+    }
+
+    #[test]
+    fn hard_constraints_are_not_relaxed_in_phase_one() {
+        // 2 t / x <= 1 cannot hold for any x <= 1, so the program is infeasible; with t >= 1 hard
+        // (1 / t <= 1) the least worst value of the soft constraint over x in the box [1e-3, 1] is
+        // 2 t / x at x = 1 and t = 1: 2. Relaxing the hard one too would let t drop to sqrt(1/2) and
+        // report sqrt 2 instead (worked by hand; no published source).
+        let program = Program {
+            variables: 2,
+            objective: Posynomial { terms: vec![monomial(1.0, &[(0, 1.0)])] },
+            constraints: vec![Posynomial { terms: vec![monomial(2.0, &[(1, 1.0), (0, -1.0)])] }],
+            hard: vec![Posynomial { terms: vec![monomial(1.0, &[(1, -1.0)])] }],
+            lower: vec![1e-3, 1e-3],
+            upper: vec![1.0, 1e3],
+            start: vec![0.5, 2.0],
+        };
+        let Outcome::Infeasible { least_worst, worst_constraint } = solve(&program).unwrap() else {
+            panic!("infeasible")
+        };
+        assert_eq!(worst_constraint, 0);
+        assert!((least_worst - 2.0).abs() < 1e-3, "{least_worst}");
+        // A start that breaks a hard constraint is refused.
+        let broken = Program { start: vec![0.5, 0.5], ..program };
+        assert!(matches!(solve(&broken), Err(SolveError::Bad(_))));
     }
 }

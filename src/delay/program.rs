@@ -4,10 +4,16 @@
 //! A transition through one path that conducts alone has a chain of devices from the output to the
 //! rail, and whatever else conducts hangs off the output through the other network. Its Elmore delay
 //! is then `sum over chain nodes k of C_k x (resistance from k to the rail)` plus the hanging
-//! capacitance times the whole chain's resistance: with `r = u / w` and every capacitance linear in
-//! the widths (plus the load), a posynomial. The constraints are every such transition of every input
-//! on both edges (each conducting path that conducts alone, with each input on it), which include the
-//! worst cases the delay stage reports, whatever widths the optimum picks.
+//! capacitance times the whole chain's resistance. The constraints are every such transition of
+//! every input on both edges (each conducting path that conducts alone, with each input on it), which
+//! include the worst cases the delay stage reports, whatever widths the optimum picks.
+//!
+//! A node's capacitance is a sum of device widths, except a diffusion shared by two series devices,
+//! which is as wide as the wider ([`NodeDiffusion::Shared`]): a maximum, not a posynomial. Each such
+//! node gets a variable `t` of its own with the hard constraints `w_a / t <= 1` and `w_b / t <= 1`,
+//! and its capacitance is `ratio x t`. Every delay grows with `t`, so wherever the widths meet the
+//! delays with some `t` they meet them with `t = max(w_a, w_b)`: the program's optimum in the widths
+//! is the one with the maximum. With `r = u / w`, every delay is then a posynomial.
 
 use std::collections::BTreeMap;
 
@@ -17,6 +23,7 @@ use super::{
 };
 use crate::error::Error;
 use crate::expr::GateFunction;
+use crate::figures::NodeDiffusion;
 use crate::gate::{GateOptions, SizedGate, size_function};
 use crate::network::NetworkKind;
 use crate::paths::{self, MAX_LISTED_PATHS};
@@ -79,9 +86,73 @@ pub(crate) fn path_transitions(gate: &SizedGate, circuit: &Circuit) -> Result<Ve
     Ok(out)
 }
 
-/// A transition's Elmore delay as a posynomial in the widths (variables: circuit devices), in RC.
+/// The program's variables: every circuit device's W/L, then one per shared diffusion standing
+/// for the wider of its two devices.
+#[derive(Debug, Clone)]
+pub(crate) struct Variables {
+    /// Circuit devices (the first variables).
+    pub devices: usize,
+    /// Per circuit node: its shared-diffusion variable, if it is one.
+    pub shared: Vec<Option<usize>>,
+    /// Every shared diffusion: (its variable, its two devices).
+    pub pairs: Vec<(usize, usize, usize)>,
+}
+
+impl Variables {
+    /// The variables of a circuit.
+    pub fn of(circuit: &Circuit) -> Variables {
+        let devices = circuit.devices.len();
+        let mut shared = vec![None; circuit.diffusion.len()];
+        let mut pairs = Vec::new();
+        for (node, rule) in circuit.diffusion.iter().enumerate() {
+            if let NodeDiffusion::Shared(first, second) = *rule {
+                let variable = devices + pairs.len();
+                shared[node] = Some(variable);
+                pairs.push((variable, first, second));
+            }
+        }
+        Variables { devices, shared, pairs }
+    }
+
+    /// How many there are.
+    pub fn count(&self) -> usize {
+        self.devices + self.pairs.len()
+    }
+
+    /// Every variable at these device widths: the widths, then each shared diffusion's wider device.
+    pub fn at(&self, widths: &[f64]) -> Vec<f64> {
+        let mut values = widths[..self.devices].to_vec();
+        values.extend(self.pairs.iter().map(|&(_, first, second)| widths[first].max(widths[second])));
+        values
+    }
+
+    /// A node's capacitance as (variable, coefficient) terms, in C.
+    fn capacitance(&self, circuit: &Circuit, node: usize) -> Vec<(usize, f64)> {
+        let ratio = circuit.diffusion_ratio;
+        match (&circuit.diffusion[node], self.shared[node]) {
+            (NodeDiffusion::Separate(devices), _) => devices.iter().map(|&d| (d, ratio)).collect(),
+            (NodeDiffusion::Shared(..), Some(variable)) => vec![(variable, ratio)],
+            _ => Vec::new(),
+        }
+    }
+
+    /// The hard constraints `w / t <= 1` of every shared diffusion.
+    fn bounds(&self) -> Vec<Posynomial> {
+        self.pairs
+            .iter()
+            .flat_map(|&(variable, first, second)| {
+                [first, second].map(|device| Posynomial {
+                    terms: vec![Monomial { coefficient: 1.0, exponents: vec![(device, 1.0), (variable, -1.0)] }],
+                })
+            })
+            .collect()
+    }
+}
+
+/// A transition's Elmore delay as a posynomial in the [`Variables`], in RC.
 pub(crate) fn delay_posynomial(
     circuit: &Circuit,
+    variables: &Variables,
     transition: &PathTransition,
     load: f64,
 ) -> Result<Posynomial, String> {
@@ -109,7 +180,7 @@ pub(crate) fn delay_posynomial(
     let add_node = |node: usize, from: usize, terms: &mut BTreeMap<(usize, Option<usize>), f64>| {
         for &resistor in &chain[from..] {
             let unit = circuit.devices[resistor].unit_resistance;
-            for &(capacitor, coefficient) in &circuit.capacitance_terms[node] {
+            for (capacitor, coefficient) in variables.capacitance(circuit, node) {
                 *terms.entry((resistor, Some(capacitor))).or_insert(0.0) += unit * coefficient;
             }
             if node == super::OUTPUT && load > 0.0 {
@@ -157,6 +228,7 @@ pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program
     if devices > MAX_DEVICES {
         return Err(DelayError::TooLarge { count: devices, limit: MAX_DEVICES });
     }
+    let variables = Variables::of(&circuit);
     let copies = fanout_copies(&gate.function, &gate.options);
     for input in 0..gate.function.inputs.len() {
         let load = load_for(delay.load, &copies, input);
@@ -180,11 +252,12 @@ pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program
     for transition in &transitions {
         let load = load_for(delay.load, &copies, transition.input);
         let bound = reference_delay(&gate.options, delay.diffusion_ratio, transition.edge, load);
-        let mut posynomial = delay_posynomial(&circuit, transition, load).map_err(|why| DelayError::Network {
-            input: gate.function.inputs[transition.input].clone(),
-            edge: transition.edge.name(),
-            why,
-        })?;
+        let mut posynomial =
+            delay_posynomial(&circuit, &variables, transition, load).map_err(|why| DelayError::Network {
+                input: gate.function.inputs[transition.input].clone(),
+                edge: transition.edge.name(),
+                why,
+            })?;
         for term in &mut posynomial.terms {
             term.coefficient /= bound;
         }
@@ -221,14 +294,25 @@ pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program
         longest.extend(sizing::size(&network, count, Method::LongestPath, &gate.options));
         start.extend(sizing::size(&network, count, Method::MinArea, &gate.options));
     }
+    let mut lower: Vec<f64> = longest.iter().map(|w| w / BOX).collect();
+    let mut upper: Vec<f64> = longest.iter().map(|w| w * BOX).collect();
+    // A shared diffusion's variable starts above its wider device and may go anywhere its devices
+    // may (and a little beyond, so that the box never holds it).
+    for &(_, first, second) in &variables.pairs {
+        lower.push(lower[first].min(lower[second]));
+        upper.push(2.0 * upper[first].max(upper[second]));
+    }
+    let mut start = variables.at(&start);
+    start[devices..].iter_mut().for_each(|t| *t *= 1.25);
     let program = Program {
-        variables: devices,
+        variables: variables.count(),
         objective: Posynomial {
             terms: (0..devices).map(|d| Monomial { coefficient: 1.0, exponents: vec![(d, 1.0)] }).collect(),
         },
         constraints,
-        lower: longest.iter().map(|w| w / BOX).collect(),
-        upper: longest.iter().map(|w| w * BOX).collect(),
+        hard: variables.bounds(),
+        lower,
+        upper,
         start,
     };
     Ok((program, labels))
@@ -253,7 +337,8 @@ pub fn size_for_delay(
     let outcome = geometric::solve(&program).map_err(|e| DelayError::Solver(e.to_string()))?;
     let widths = match outcome {
         Outcome::Optimal { x, at_bound, .. } => {
-            if !at_bound.is_empty() {
+            // Only the widths' box counts (a shared diffusion's variable follows its devices).
+            if at_bound.iter().any(|&variable| variable < devices) {
                 return Err(DelayError::Unbounded { factor: BOX }.into());
             }
             x
@@ -272,7 +357,7 @@ pub fn size_for_delay(
     let mut sized = options.clone();
     sized.sizing.method = Method::Elmore;
     sized.stack_order = Some(longest.trees.clone());
-    sized.fixed_widths = Some([widths[..count].to_vec(), widths[count..].to_vec()]);
+    sized.fixed_widths = Some([widths[..count].to_vec(), widths[count..2 * count].to_vec()]);
     size_function(function.clone(), &sized)
 }
 
@@ -295,10 +380,11 @@ mod tests {
             for (index, w) in widths.iter_mut().enumerate() {
                 *w *= 1.0 + 0.37 * ((index * 7 % 5) as f64);
             }
+            let variables = Variables::of(&circuit);
             for transition in path_transitions(&gate, &circuit).unwrap() {
-                let posynomial = delay_posynomial(&circuit, &transition, 3.5).unwrap();
+                let posynomial = delay_posynomial(&circuit, &variables, &transition, 3.5).unwrap();
                 let (solved, _, _) = elmore(&circuit, &transition.shape, &widths, 3.5).unwrap();
-                let value = posynomial.value(&widths);
+                let value = posynomial.value(&variables.at(&widths));
                 assert!((value - solved).abs() < 1e-9 * solved, "{text}: {value} vs {solved}");
             }
         }

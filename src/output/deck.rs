@@ -9,6 +9,7 @@
 
 use std::io::{self, Write};
 
+use crate::figures::node_diffusions;
 use crate::gate::SizedGate;
 use crate::network::NetworkKind;
 use crate::paths::{self, EXACT_WORST_MAX_INPUTS};
@@ -145,32 +146,15 @@ fn exact_transition(gate: &SizedGate, input: usize, kind: NetworkKind) -> Option
     best
 }
 
-/// Diffusion width on every node that is not a rail, in um, in order of first appearance. Each
-/// device has a drain and a source diffusion as wide as its drawn width; a node joining exactly two
-/// devices of one series stack (not the output) is one shared diffusion and counts once, as wide as
-/// the wider device; any other node counts every diffusion on it.
-/// `devices` are `(drain, source, drawn width in um)`.
+/// Diffusion width on every node that is not a rail, in um, in order of first appearance, by the
+/// rule the delay stage uses too ([`crate::figures::NodeDiffusion`]): each device has a drain and a
+/// source diffusion as wide as its drawn width; a node joining exactly two devices (not the output)
+/// is one diffusion shared by the two series devices and counts once, as wide as the wider; any
+/// other node counts every diffusion on it. `devices` are `(drain, source, drawn width in um)`.
 pub fn node_diffusion_um(devices: &[(&str, &str, f64)], output: &str) -> Vec<(String, f64)> {
-    let mut nodes: Vec<(String, Vec<f64>)> = Vec::new();
-    for &(drain, source, width) in devices {
-        for node in [drain, source] {
-            if node == "vdd" || node == "vss" {
-                continue;
-            }
-            match nodes.iter_mut().find(|(name, _)| name == node) {
-                Some((_, widths)) => widths.push(width),
-                None => nodes.push((node.to_string(), vec![width])),
-            }
-        }
-    }
-    nodes
-        .into_iter()
-        .map(|(name, widths)| {
-            let total =
-                if name != output && widths.len() == 2 { widths[0].max(widths[1]) } else { widths.iter().sum() };
-            (name, total)
-        })
-        .collect()
+    let terminals: Vec<(&str, &str)> = devices.iter().map(|&(drain, source, _)| (drain, source)).collect();
+    let widths: Vec<f64> = devices.iter().map(|&(_, _, width)| width).collect();
+    node_diffusions(&terminals, output).into_iter().map(|(name, rule)| (name, rule.width(&widths))).collect()
 }
 
 /// The reference inverter as drawn: NMOS and PMOS (fingers, finger width nm).
@@ -447,5 +431,8 @@ mod tests {
         assert_eq!(nodes, vec![("y".to_string(), 6.0), ("n1".to_string(), 2.0)]);
         // An inverter's output joins two devices but they are not one series stack.
         assert_eq!(node_diffusion_um(&[("y", "vss", 1.0), ("y", "vdd", 2.0)], "y"), vec![("y".to_string(), 3.0)]);
+        // Unequal series devices: the shared region is as wide as the wider (3 um, not the mean 2.5).
+        let tapered = [("y", "n1", 3.0), ("n1", "vss", 2.0), ("y", "vdd", 2.0), ("y", "vdd", 2.0)];
+        assert_eq!(node_diffusion_um(&tapered, "y"), vec![("y".to_string(), 7.0), ("n1".to_string(), 3.0)]);
     }
 }

@@ -97,3 +97,57 @@ fn paths_accept_the_elmore_method() {
         .success()
         .stdout(predicate::str::contains("\"resistance\""));
 }
+
+/// The built-in process as a file, with `key` set to `value`, written under `directory`.
+fn process_file(directory: &std::path::Path, key: &str, value: &str) -> String {
+    let output = widthwise().arg("process").output().unwrap();
+    let text: String = String::from_utf8(output.stdout)
+        .unwrap()
+        .lines()
+        .map(
+            |line| {
+                if line.starts_with(&format!("{key} =")) { format!("{key} = {value}\n") } else { format!("{line}\n") }
+            },
+        )
+        .collect();
+    let path = directory.join(format!("{key}.toml"));
+    std::fs::write(&path, text).unwrap();
+    path.to_str().unwrap().to_string()
+}
+
+#[test]
+fn with_a_process_file_the_diffusion_ratio_is_its_decks() {
+    // The delay stage's capacitances must be the deck's capacitors in units of C (the unit gate
+    // capacitance, gate_cap_ff_per_um x unit width): NAND2 with a 0.75 fF/um diffusion against the
+    // built-in 1.7 fF/um gate capacitance. The deck's n1 capacitor (one shared diffusion of the 2 um
+    // NMOS: 1.5 fF) over C = 1.7 fF must equal ratio x W/L = ratio x 2 (the rule both use:
+    // src/figures.rs NodeDiffusion; units as the sizing model defines them).
+    let directory = tempfile::tempdir().unwrap();
+    let process = process_file(directory.path(), "diffusion_cap_ff_per_um", "0.75");
+    let gate = json(&["size", "nand2", "--delays", "--process", &process, "--format", "json"]);
+    let ratio = gate["delay_model"]["diffusion_ratio"].as_f64().unwrap();
+    assert!((ratio - 0.75 / 1.7).abs() < 1e-12, "{ratio}");
+    let unit_ff = gate["delay_model"]["process"]["unit_capacitance_ff"].as_f64().unwrap();
+    let deck = widthwise().args(["deck", "nand2", "--process", &process, "--diffusion-capacitance"]).output().unwrap();
+    let deck = String::from_utf8(deck.stdout).unwrap();
+    let line = deck.lines().find(|l| l.starts_with("CD") && l.contains(" n1 ")).expect("a capacitor on n1");
+    let deck_ff: f64 = line.split_whitespace().last().unwrap().trim_end_matches('f').parse().unwrap();
+    assert!((deck_ff / unit_ff - ratio * 2.0).abs() < 1e-9, "{line}: {deck_ff} fF, C = {unit_ff} fF");
+    // An explicit ratio wins; without a process file the ratio stays 1 (the published examples').
+    let given =
+        json(&["size", "nand2", "--delays", "--process", &process, "--diffusion-ratio", "1", "--format", "json"]);
+    assert_eq!(given["delay_model"]["diffusion_ratio"], 1.0);
+    assert_eq!(json(&["size", "nand2", "--delays", "--format", "json"])["delay_model"]["diffusion_ratio"], 1.0);
+    // A process with no gate capacitance gives no ratio: say so, unless one is given.
+    let no_gate = process_file(directory.path(), "gate_cap_ff_per_um", "0.0");
+    widthwise()
+        .args(["size", "nand2", "--delays", "--process", &no_gate])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("give --diffusion-ratio"));
+    widthwise()
+        .args(["size", "nand2", "--delays", "--process", &no_gate, "--diffusion-ratio", "0.5"])
+        .assert()
+        .success();
+    widthwise().args(["size", "nand2", "--process", &no_gate]).assert().success();
+}

@@ -195,7 +195,8 @@ fn infeasible_bounds_say_so() {
 }
 
 /// Run scipy's SLSQP on each program (log variables, the same box), in one python3 process.
-/// `mode` "optimum" minimises the objective; "least-worst" minimises the largest constraint.
+/// `mode` "optimum" minimises the objective; "least-worst" minimises the largest constraint, the
+/// hard ones (a shared diffusion's variable above each of its devices) held at `<= 1`.
 fn scipy(programs: &[Program], mode: &str) -> Vec<serde_json::Value> {
     const SCRIPT: &str = r#"
 import json, sys
@@ -222,11 +223,12 @@ for p in json.load(sys.stdin):
         return A.T @ (w / w.sum())
     objective = compile(p['objective'])
     constraints = [compile(c) for c in p['constraints']]
+    hard = [compile(c) for c in p['hard']]
     bounds = list(zip(np.log(p['lower']), np.log(p['upper'])))
     y0 = np.log(p['start'])
     if mode == 'optimum':
         cons = [{'type': 'ineq', 'fun': (lambda y, A=A, b=b: -lse(A, b, y)),
-                 'jac': (lambda y, A=A, b=b: -grad(A, b, y))} for A, b in constraints]
+                 'jac': (lambda y, A=A, b=b: -grad(A, b, y))} for A, b in constraints + hard]
         r = minimize(lambda y: lse(*objective, y), y0, jac=lambda y: grad(*objective, y),
                      method='SLSQP', bounds=bounds, constraints=cons,
                      options={'ftol': 1e-13, 'maxiter': 2000})
@@ -236,6 +238,8 @@ for p in json.load(sys.stdin):
         z0 = np.append(y0, max(lse(A, b, y0) for A, b in constraints))
         cons = [{'type': 'ineq', 'fun': (lambda z, A=A, b=b: z[-1] - lse(A, b, z[:-1])),
                  'jac': (lambda z, A=A, b=b: np.append(-grad(A, b, z[:-1]), 1.0))} for A, b in constraints]
+        cons += [{'type': 'ineq', 'fun': (lambda z, A=A, b=b: -lse(A, b, z[:-1])),
+                  'jac': (lambda z, A=A, b=b: np.append(-grad(A, b, z[:-1]), 0.0))} for A, b in hard]
         last = np.zeros(n + 1)
         last[-1] = 1.0
         r = minimize(lambda z: z[-1], z0, jac=lambda z: last, method='SLSQP',

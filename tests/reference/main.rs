@@ -4,6 +4,7 @@
 
 mod deck_simulation;
 mod delay;
+mod delay_ranking;
 mod published;
 mod scipy;
 mod support;
