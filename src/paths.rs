@@ -336,7 +336,7 @@ pub fn exact_worst(
             } else {
                 conducts[word ^ (1 << (input - 6))]
             };
-            *bits &= !(on_set_word(word as u64, input) & without);
+            *bits &= !(vector_word(word as u64, input) & without);
         }
     }
     let mut worst: Option<(f64, u64)> = None;
@@ -372,8 +372,9 @@ const ON_SET_PATTERNS: [u64; 6] = [
     0xFFFF_FFFF_0000_0000,
 ];
 
-/// Which of the on-sets `64 word ..` have input `input` on.
-fn on_set_word(word: u64, input: usize) -> u64 {
+/// Bit-parallel input values: bit `b` of the result is input `input` of vector `64 word + b`, where
+/// input `i` is bit `i` of a vector's number (so 64 consecutive vectors fill one word).
+pub fn vector_word(word: u64, input: usize) -> u64 {
     if input < 6 { ON_SET_PATTERNS[input] } else { 0u64.wrapping_sub(word >> (input - 6) & 1) }
 }
 
@@ -401,7 +402,7 @@ fn conduction_by_on_set(network: &Network, input_of: &[usize], input_count: usiz
     let mut inputs = vec![[0u64; BLOCK]; input_count];
     for first in (0..words).step_by(BLOCK) {
         for (input, block) in inputs.iter_mut().enumerate() {
-            *block = std::array::from_fn(|k| on_set_word((first + k) as u64, input));
+            *block = std::array::from_fn(|k| vector_word((first + k) as u64, input));
         }
         let block = walk(&network.root, input_of, &inputs);
         for (k, bits) in block.into_iter().enumerate().take(words - first) {

@@ -19,7 +19,7 @@ use crate::error::ExprError;
 use crate::expr::{Expr, ExprKind, parser};
 use crate::gate::{SizedGate, Vector};
 use crate::network::NetworkKind;
-use crate::paths::EXACT_WORST_MAX_INPUTS;
+use crate::paths::{self, EXACT_WORST_MAX_INPUTS};
 
 /// Most inputs checked exhaustively (2^30 vectors, about a billion); past it a pseudo-random sample.
 pub const MAX_EXHAUSTIVE_INPUTS: usize = 30;
@@ -606,17 +606,8 @@ impl Simulator<'_> {
     fn inputs(&self, word: u64, inputs: &mut [u64]) {
         match self.coverage {
             Coverage::Exhaustive => {
-                // Bit b of the word is vector 64 word + b; input i is bit i of the vector.
-                const PATTERNS: [u64; 6] = [
-                    0xAAAA_AAAA_AAAA_AAAA,
-                    0xCCCC_CCCC_CCCC_CCCC,
-                    0xF0F0_F0F0_F0F0_F0F0,
-                    0xFF00_FF00_FF00_FF00,
-                    0xFFFF_0000_FFFF_0000,
-                    0xFFFF_FFFF_0000_0000,
-                ];
                 for (i, value) in inputs.iter_mut().enumerate() {
-                    *value = if i < 6 { PATTERNS[i] } else { 0u64.wrapping_sub(word >> (i - 6) & 1) };
+                    *value = paths::vector_word(word, i);
                 }
             }
             Coverage::Random { seed } => {
