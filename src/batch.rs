@@ -21,6 +21,7 @@ use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
 use crate::cli::{OutputArgs, cell_name};
 use crate::commands::write_output;
+use crate::delay::{self, StackOrder};
 use crate::error::{Error, Span, render_at};
 use crate::expr::read_gate;
 use crate::gate::{GateOptions, SizedGate, size_function};
@@ -35,10 +36,11 @@ The library file (TOML):
   process = \"PATH\"          optional: a process file, relative to the library file; or a [process]
                             table with the process file's keys. Default: the built-in process.
   [defaults]                optional: method, drive (a number or a list such as [1, 2, 4]),
-                            mobility_ratio (default: the process's).
+                            stack_order (\"default\" or \"written\"), mobility_ratio (default: the
+                            process's).
   [[gate]]                  one per cell: name (an identifier), expr (an expression or a shorthand
                             such as nand2), and optional method, drive (number or list), critical
-                            (the input to place nearest the output).
+                            (the input to place nearest the output), stack_order.
 Each drive of a gate is one variant, named <name>_x<drive> with p for a decimal point (nand2_x1p5).
 
 Rows: --rows gates (default), devices or inputs choose the table's and the CSV's rows; JSON has
@@ -209,6 +211,7 @@ fn repeated_drive(drives: &[(f64, Span)]) -> Option<(f64, Span)> {
 #[serde(deny_unknown_fields)]
 struct DefaultsEntry {
     method: Option<Method>,
+    stack_order: Option<Spanned<StackOrder>>,
     drive: Option<Spanned<Drives>>,
     mobility_ratio: Option<Spanned<f64>>,
 }
@@ -220,6 +223,7 @@ struct GateEntry {
     name: Spanned<String>,
     expr: Spanned<String>,
     method: Option<Method>,
+    stack_order: Option<Spanned<StackOrder>>,
     drive: Option<Spanned<Drives>>,
     critical: Option<Spanned<String>>,
 }
@@ -252,6 +256,8 @@ pub struct GatePlan {
     drive_spans: Vec<Span>,
     /// The input to place nearest the output.
     pub critical: Option<String>,
+    /// Series-stack order: the default rule or as written.
+    pub stack_order: StackOrder,
     name_span: Span,
     expression_place: ExpressionPlace,
     critical_span: Option<Span>,
@@ -475,8 +481,19 @@ impl Library {
                 drives
             }
         };
-        let common =
-            Common { method: defaults.method.unwrap_or(DEFAULT_METHOD), mobility_ratio, drives: default_drives };
+        let stack_order = match &defaults.stack_order {
+            Some(order) => {
+                check_stack_order(order).map_err(|message| source.error(message, Some(order.span())))?;
+                *order.get_ref()
+            }
+            None => StackOrder::Default,
+        };
+        let common = Common {
+            method: defaults.method.unwrap_or(DEFAULT_METHOD),
+            stack_order,
+            mobility_ratio,
+            drives: default_drives,
+        };
 
         let mut entries = match gates {
             None => DeArray::new(),
@@ -540,6 +557,7 @@ impl Library {
 /// What `[defaults]` and the process give every gate.
 struct Common {
     method: Method,
+    stack_order: StackOrder,
     mobility_ratio: f64,
     drives: Vec<(f64, Span)>,
 }
@@ -606,6 +624,13 @@ fn read_gate_entry(
         None => common.drives.iter().copied().unzip(),
         Some(written) => check_drives(written).map_err(|(message, span)| problem(message, span))?.into_iter().unzip(),
     };
+    let stack_order = match &gate.stack_order {
+        Some(order) => {
+            check_stack_order(order).map_err(|message| problem(message, to_span(order.span())))?;
+            *order.get_ref()
+        }
+        None => common.stack_order,
+    };
     let expression = gate.expr.get_ref().clone();
     let expression_place = ExpressionPlace {
         string: to_span(gate.expr.span()),
@@ -621,9 +646,21 @@ fn read_gate_entry(
         drive_spans,
         critical_span: gate.critical.as_ref().map(|c| to_span(c.span())),
         critical: gate.critical.map(Spanned::into_inner),
+        stack_order,
         name_span,
         expression_place,
     })
+}
+
+/// A library sizes by the default order or as written; the search times every order, which is a
+/// job for `widthwise size` one gate at a time.
+fn check_stack_order(order: &Spanned<StackOrder>) -> Result<(), String> {
+    match order.get_ref() {
+        StackOrder::Search => Err("stack_order = \"search\" times every order of a gate: a library takes \"default\" \
+                                   or \"written\"; search one gate with 'widthwise size --stack-order search'"
+            .to_string()),
+        StackOrder::Default | StackOrder::Written => Ok(()),
+    }
 }
 
 /// How a batch went.
@@ -655,7 +692,12 @@ pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedGat
     }
     let mut variants = Vec::with_capacity(plan.drives.len());
     for &drive in &plan.drives {
-        let sized = size_function(function.clone(), &plan.options(drive, process))
+        let mut options = plan.options(drive, process);
+        if plan.stack_order == StackOrder::Written {
+            options = delay::written_order(&function, &options)
+                .map_err(|error| plan.problem(error.to_string(), Place::File(plan.name_span)))?;
+        }
+        let sized = size_function(function.clone(), &options)
             .map_err(|error| plan.problem(error.to_string(), Place::File(plan.name_span)))?;
         variants.push(sized);
     }

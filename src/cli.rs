@@ -242,8 +242,10 @@ pub struct DelayArgs {
     /// of its deck's capacitors; without, 1, as in the published worked examples].
     #[arg(long, value_name = "RATIO", value_parser = non_negative_number)]
     pub diffusion_ratio: Option<f64>,
-    /// Series-stack order: default, or search (the order with the least worst Elmore delay, or least
-    /// worst delay of --critical's input; with --method elmore the least total W/L).
+    /// Series-stack order: default (--critical's input, then the least diffusion width facing the
+    /// output, nearest the output), written (as the expression lists them, the first nearest the
+    /// output), or search (the order with the least worst Elmore delay, or least worst delay of
+    /// --critical's input; with --method elmore the least total W/L; turns delays on).
     #[arg(long, value_enum, value_name = "ORDER")]
     pub stack_order: Option<StackOrder>,
 }
@@ -255,7 +257,7 @@ impl DelayArgs {
             || self.fanout.is_some()
             || self.load.is_some()
             || self.diffusion_ratio.is_some()
-            || self.stack_order.is_some()
+            || self.stack_order == Some(StackOrder::Search)
     }
 
     /// The delay options these arguments give; `process_file` is the `--process` file's process,

@@ -12,7 +12,7 @@ use crate::cli::{Cli, Command, DeckArgs, GateArgs, OutputArgs};
 use crate::delay::{self, DelayOptions};
 use crate::error::Error;
 use crate::expr::parser::MAX_EXPRESSION_BYTES;
-use crate::gate::{GateOptions, size_text};
+use crate::gate::GateOptions;
 use crate::output::deck::{DeckOptions, Models};
 use crate::output::{self, Format, Rows};
 use crate::paths;
@@ -30,7 +30,10 @@ pub fn run(cli: Cli) -> Result<(), Error> {
                 let delay = delay.options(process_file(&gate, &options))?;
                 delay::size_and_time(&text, &options, &delay, Some(&options.process))?
             } else {
-                size_text(&text, &options)?
+                // Untimed: only the stack order of the delay options matters.
+                let order =
+                    DelayOptions { stack_order: delay.stack_order.unwrap_or_default(), ..DelayOptions::default() };
+                delay::size_gate(&text, &options, &order)?
             };
             write_output(&output, |out| {
                 output::write_gates(std::slice::from_ref(&sized), output.format, rows, &options.process, out)

@@ -863,6 +863,17 @@ pub fn size_read_gate(
     }
 }
 
+/// The options with every series stack in written order (the first member nearest the output).
+pub fn written_order(function: &GateFunction, options: &GateOptions) -> Result<GateOptions, Error> {
+    if let Some(critical) = &options.critical {
+        return Err(Error::Usage(format!(
+            "--critical {critical} and the written stack order both choose the order: write '{critical}' first in \
+             its stacks, or drop one of them"
+        )));
+    }
+    Ok(GateOptions { stack_order: Some(Network::pair(function)), ..options.clone() })
+}
+
 fn read(text: &str) -> Result<GateFunction, Error> {
     read_gate(text).map_err(|error| Error::Expression { error, source_text: text.to_string() })
 }
@@ -873,6 +884,7 @@ pub fn size_gate(text: &str, options: &GateOptions, delay: &DelayOptions) -> Res
     let function = read(text)?;
     match delay.stack_order {
         StackOrder::Default => size_read_gate(&function, options, delay),
+        StackOrder::Written => size_read_gate(&function, &written_order(&function, options)?, delay),
         StackOrder::Search => order::search(&function, options, delay).map(|(gate, _)| gate),
     }
 }
@@ -889,6 +901,7 @@ pub fn size_and_time(
     let function = read(text)?;
     let (mut gate, order_report) = match delay.stack_order {
         StackOrder::Default => (size_read_gate(&function, options, delay)?, None),
+        StackOrder::Written => (size_read_gate(&function, &written_order(&function, options)?, delay)?, None),
         StackOrder::Search => {
             let (gate, report) = order::search(&function, options, delay)?;
             (gate, Some(report))

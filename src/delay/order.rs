@@ -15,12 +15,14 @@ use crate::network::{Network, NetworkKind, Node};
 use crate::sizing::Method;
 
 /// Which series-stack order to time.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, clap::ValueEnum)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize, clap::ValueEnum)]
 #[serde(rename_all = "kebab-case")]
 pub enum StackOrder {
     /// The default order: the critical input, then the least diffusion width, nearest the output.
     #[default]
     Default,
+    /// Series members as the expression writes them, the first nearest the output.
+    Written,
     /// Search the orders for the least worst Elmore delay (the elmore method: the least total W/L).
     Search,
 }

@@ -507,3 +507,36 @@ fn the_spice_library_loads_in_ngspice_and_every_gate_inverts() {
         assert!(voltage(&format!("high{index}")).abs() < 1e-6, "{line}: inputs high");
     }
 }
+
+#[test]
+fn stack_order_in_a_library_matches_single_gate_sizing() {
+    let directory = tempfile::tempdir().unwrap();
+    let library = directory.path().join("cells.toml");
+    std::fs::write(
+        &library,
+        "[defaults]\nstack_order = \"written\"\n\n[[gate]]\nname = \"w\"\nexpr = \"aoi21\"\n\n\
+         [[gate]]\nname = \"d\"\nexpr = \"aoi21\"\nstack_order = \"default\"\n",
+    )
+    .unwrap();
+    let (_, rows) = batch_csv(&library, "gates");
+    let single = |order: &str| {
+        let output = widthwise()
+            .args(["size", "aoi21", "--stack-order", order, "--format", "csv", "--rows", "gates"])
+            .output()
+            .unwrap();
+        records(&output.stdout).1.remove(0)
+    };
+    assert_eq!(rows[0]["parasitic_delay"], single("written")["parasitic_delay"]);
+    assert_eq!(rows[1]["parasitic_delay"], single("default")["parasitic_delay"]);
+    assert_ne!(rows[0]["parasitic_delay"], rows[1]["parasitic_delay"]);
+
+    std::fs::write(&library, "[defaults]\nstack_order = \"search\"\n\n[[gate]]\nname = \"g\"\nexpr = \"nand2\"\n")
+        .unwrap();
+    widthwise()
+        .arg("batch")
+        .arg(&library)
+        .assert()
+        .code(2)
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("line 2").and(predicate::str::contains("search one gate")));
+}

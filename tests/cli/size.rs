@@ -139,3 +139,20 @@ fn readme_example_is_what_the_tool_prints() {
     let output = widthwise().args(["size", "aoi21"]).output().unwrap();
     assert_eq!(String::from_utf8(output.stdout).unwrap(), &readme[start..end]);
 }
+
+#[test]
+fn written_stack_order_keeps_the_expression_order() {
+    // AOI21 as written: the pull-up pair (a || b) touches the output, so its diffusion is
+    // NMOS 2 (a) + 1 (c) + PMOS 4 + 4 = 11, over C_inv 3 (by hand; the default order gives 7/3).
+    let output = widthwise().args(["size", "aoi21", "--stack-order", "written", "--format", "json"]).output().unwrap();
+    assert!(output.status.success());
+    let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert!((json["parasitic_delay"].as_f64().unwrap() - 11.0 / 3.0).abs() < 1e-12);
+    assert_eq!(json["output_devices"], serde_json::json!(["MN1", "MN3", "MP1", "MP2"]));
+    assert!(json.get("delays").is_none(), "the written order alone does not time the gate");
+    widthwise()
+        .args(["size", "aoi21", "--stack-order", "written", "--critical", "c"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("both choose the order"));
+}
