@@ -29,6 +29,7 @@ use crate::output::summary::SummaryTable;
 use crate::output::{self, Format, Rows};
 use crate::process::{Process, ProcessFile};
 use crate::sizing::{Method, SizingOptions};
+use crate::verify::{self, VerifyOptions};
 
 /// Help shown after `widthwise batch --help`.
 pub const AFTER_HELP: &str = "\
@@ -672,6 +673,10 @@ pub struct Outcome {
     pub failed: usize,
     /// Variants sized and written.
     pub variants: usize,
+    /// Variants that passed verification (with `--verify`).
+    pub verified: usize,
+    /// Variants that failed verification (with `--verify`; still written).
+    pub unverified: usize,
 }
 
 /// Size one gate in each of its drives, or say why it cannot be.
@@ -706,16 +711,36 @@ pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedGat
 
 /// Size every gate in file order, reporting each bad one as it is found and handing the sized
 /// variants on in chunks.
+///
+/// With `verify`, every variant is also checked switch by switch on its input vectors
+/// ([`verify::verify`]); a variant that fails is still written, and reported like a bad gate.
 pub fn size_all(
     library: &Library,
+    verify: Option<&VerifyOptions>,
     report: &mut dyn FnMut(&GateProblem) -> io::Result<()>,
     emit: &mut dyn FnMut(&[SizedGate]) -> io::Result<()>,
 ) -> io::Result<Outcome> {
     let mut outcome = Outcome { gates: library.gates.len(), ..Outcome::default() };
     let mut chunk: Vec<SizedGate> = Vec::with_capacity(CHUNK + 8);
     for gate in &library.gates {
-        match gate.as_ref().map_err(Clone::clone).and_then(|plan| size_plan(plan, &library.process)) {
-            Ok(variants) => {
+        match gate.as_ref().map_err(Clone::clone).and_then(|plan| size_plan(plan, &library.process).map(|v| (plan, v)))
+        {
+            Ok((plan, variants)) => {
+                if let Some(options) = verify {
+                    for variant in &variants {
+                        let failure = match verify::verify(variant, options) {
+                            Ok(result) => result.outcome().err().map(|error| error.to_string()),
+                            Err(error) => Some(format!("'{}' cannot be verified: {error}", variant.name)),
+                        };
+                        match failure {
+                            None => outcome.verified += 1,
+                            Some(message) => {
+                                outcome.unverified += 1;
+                                report(&plan.problem(message, Place::File(plan.name_span)))?;
+                            }
+                        }
+                    }
+                }
                 outcome.variants += variants.len();
                 chunk.extend(variants);
                 if chunk.len() >= CHUNK {
@@ -768,6 +793,7 @@ pub fn write_batch(
     source: &Source,
     format: Format,
     rows: Rows,
+    verify: Option<&VerifyOptions>,
     out: &mut dyn Write,
     diagnostics: &mut dyn Write,
 ) -> io::Result<Outcome> {
@@ -776,7 +802,7 @@ pub fn write_batch(
     match format {
         Format::Csv => {
             let mut header_written = false;
-            let outcome = size_all(library, &mut report, &mut |chunk| {
+            let outcome = size_all(library, verify, &mut report, &mut |chunk| {
                 if header_written {
                     output::csv::write_gates(chunk, rows, process, &mut SkipFirstLine { inner: out, skipping: true })
                 } else {
@@ -794,7 +820,7 @@ pub fn write_batch(
             // line per variant keeps it greppable.
             out.write_all(b"[")?;
             let mut first = true;
-            let outcome = size_all(library, &mut report, &mut |chunk| {
+            let outcome = size_all(library, verify, &mut report, &mut |chunk| {
                 for gate in chunk {
                     out.write_all(if first { b"\n" } else { b",\n" })?;
                     first = false;
@@ -807,7 +833,7 @@ pub fn write_batch(
         }
         Format::Spice => {
             output::spice::write_library(&[], process, out)?;
-            size_all(library, &mut report, &mut |chunk| {
+            size_all(library, verify, &mut report, &mut |chunk| {
                 for gate in chunk {
                     writeln!(out)?;
                     output::spice::write_subcircuit(gate, process, out)?;
@@ -817,7 +843,7 @@ pub fn write_batch(
         }
         Format::Table => {
             let mut table = SummaryTable::new(rows);
-            let outcome = size_all(library, &mut report, &mut |chunk| {
+            let outcome = size_all(library, verify, &mut report, &mut |chunk| {
                 table.add(chunk);
                 Ok(())
             })?;
@@ -841,7 +867,7 @@ pub fn write_batch(
 }
 
 /// `widthwise batch`: read the library, refuse name clashes before any output, size and write.
-pub fn run(library_path: &Path, output_args: &OutputArgs, rows: Rows) -> Result<(), Error> {
+pub fn run(library_path: &Path, output_args: &OutputArgs, rows: Rows, verify: bool) -> Result<(), Error> {
     if rows == Rows::Delays {
         return Err(Error::Usage(
             "a library has gates, devices and inputs views; delays are timed per gate with 'widthwise size --delays'"
@@ -860,11 +886,23 @@ pub fn run(library_path: &Path, output_args: &OutputArgs, rows: Rows) -> Result<
     }
     let mut outcome = Outcome::default();
     write_output(output_args, |out| {
-        outcome = write_batch(&library, &source, output_args.format, rows, out, &mut io::stderr().lock())?;
+        // Gates are sized one after another, so each verification may use every core.
+        let options = verify.then(VerifyOptions::default);
+        outcome =
+            write_batch(&library, &source, output_args.format, rows, options.as_ref(), out, &mut io::stderr().lock())?;
         Ok(())
     })?;
     if outcome.failed > 0 {
         return Err(Error::GatesFailed { failed: outcome.failed, total: outcome.gates });
+    }
+    if verify {
+        if outcome.unverified > 0 {
+            return Err(Error::CheckFailed(format!(
+                "{} of {} variants fail verification (each named above); they are still written",
+                outcome.unverified, outcome.variants
+            )));
+        }
+        eprintln!("verified: all {} variants pass every check on their input vectors", outcome.verified);
     }
     Ok(())
 }
@@ -1008,7 +1046,8 @@ mod tests {
         }
         let lib = library("[[gate]]\nname = \"g\"\nexpr = \"nand8\"\ndrive = [1, 2, 3, 4, 5, 6, 7, 8]\n");
         let source = Source::new("lib.toml", "", ".");
-        let error = write_batch(&lib, &source, Format::Csv, Rows::Devices, &mut Closed, &mut io::sink()).unwrap_err();
+        let error =
+            write_batch(&lib, &source, Format::Csv, Rows::Devices, None, &mut Closed, &mut io::sink()).unwrap_err();
         assert_eq!(error.kind(), io::ErrorKind::BrokenPipe);
     }
 

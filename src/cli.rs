@@ -132,6 +132,10 @@ pub enum Command {
         /// Rows of the table and the CSV: one per gate variant, per transistor or per input.
         #[arg(long, value_enum, default_value_t = Rows::Gates)]
         rows: Rows,
+        /// Also prove every variant's netlist on its input vectors, as 'widthwise verify' does; a
+        /// variant that fails is reported on stderr (and still written), and the exit code is 1.
+        #[arg(long)]
+        verify: bool,
     },
     /// Prove the sized netlist right: simulate its switches on every input vector and check that
     /// pull-up and pull-down never both conduct, are never both off, and give the expression.

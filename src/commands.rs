@@ -75,7 +75,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             let target = OutputArgs { format: Format::Table, output };
             write_output(&target, |out| out.write_all(Process::default().to_commented_toml().as_bytes()))
         }
-        Command::Batch { library, output, rows } => crate::batch::run(&library, &output, rows),
+        Command::Batch { library, output, rows, verify } => crate::batch::run(&library, &output, rows, verify),
         Command::Verify { expression, gate, output, random_vectors, seed } => {
             if output.format == Format::Spice {
                 return Err(Error::Usage("verification is written as table, csv or json, not spice".into()));

@@ -1,10 +1,12 @@
-//! Arbitrary text never panics the readers: an expression or a process file gives a result or an
-//! error, and an accepted gate verifies. Also the regression inputs found by fuzzing (fuzz/).
+//! Arbitrary text never panics the readers: an expression, a process file or a library file gives a
+//! result or an error, and an accepted gate verifies. Also the regression inputs found by fuzzing (fuzz/).
 
 use proptest::prelude::*;
+use widthwise::batch::{Library, Source, write_batch};
 use widthwise::error::render_at;
 use widthwise::expr::read_gate;
 use widthwise::gate::{GateOptions, size_text};
+use widthwise::output::{Format, Rows};
 use widthwise::process::Process;
 use widthwise::sizing::{Method, SizingOptions};
 use widthwise::verify::{VerifyOptions, verify};
@@ -103,8 +105,46 @@ fn toml_text() -> impl Strategy<Value = String> {
     })
 }
 
+/// Read a library file and size it: it is read or refused with a rendered message; every gate of a
+/// read file is sized or reported.
+fn read_library(text: &str) {
+    let source = Source::new("library.toml", text, "/nonexistent/widthwise-robustness");
+    match Library::read(&source) {
+        Ok(library) => {
+            let mut diagnostics = Vec::new();
+            let outcome =
+                write_batch(&library, &source, Format::Csv, Rows::Gates, None, &mut std::io::sink(), &mut diagnostics)
+                    .unwrap();
+            assert_eq!(outcome.failed == 0, diagnostics.is_empty(), "{text:?}");
+        }
+        Err(error) => assert!(error.render().starts_with("error"), "{text:?}"),
+    }
+}
+
+/// Library-file-like text: lines drawn from the schema's keys with good, bad and odd values.
+fn library_text() -> impl Strategy<Value = String> {
+    let line = prop_oneof![
+        Just("[defaults]".to_string()),
+        Just("[[gate]]".to_string()),
+        Just("[process]".to_string()),
+        "(name|expr|method|drive|critical|stack_order|mobility_ratio|process|unknown) = \
+         (\"[a-z!&|() =]{0,12}\"|-?[0-9]{1,3}(\\.[0-9])?|\\[[0-9, .]{0,8}\\]|nan|true|\"nand2\"|\"min-area\"|\"written\")",
+    ];
+    prop::collection::vec(line, 0..14).prop_map(|lines| lines.join("\n"))
+}
+
 proptest! {
     #![proptest_config(ProptestConfig::with_cases(256))]
+
+    #[test]
+    fn any_string_is_a_library_or_an_error(text in any::<String>()) {
+        read_library(&text);
+    }
+
+    #[test]
+    fn library_like_text_is_sized_or_refused(text in library_text()) {
+        read_library(&text);
+    }
 
     #[test]
     fn any_string_is_read_or_refused(text in any::<String>()) {
@@ -139,6 +179,8 @@ fn fuzz_regressions() {
             read_everything(&text);
         } else if name.starts_with("process_file") {
             read_process(&text);
+        } else if name.starts_with("batch_file") {
+            read_library(&text);
         } else {
             panic!("{name}: a regression input's name starts with its target");
         }

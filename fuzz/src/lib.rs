@@ -3,6 +3,7 @@
 
 #![forbid(unsafe_code)]
 
+use widthwise::batch::{Library, Source, write_batch};
 use widthwise::gate::size_text;
 use widthwise::output::{self, Format, Rows};
 use widthwise::process::Process;
@@ -17,7 +18,7 @@ const VERIFY_INPUTS: usize = 10;
 /// expression must give a netlist that passes every check.
 pub fn expression(text: &str) {
     let read = expr::read_gate(text);
-    for method in Method::ALL {
+    for method in [Method::LongestPath, Method::MinArea] {
         let sized = size_text(text, &GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None)));
         assert_eq!(read.is_ok(), sized.is_ok(), "read_gate and size_text disagree on {text:?}");
         let gate = match sized {
@@ -55,5 +56,23 @@ pub fn process_file(text: &str) {
                 assert!(shown.starts_with("error: "));
             }
         }
+    }
+}
+
+/// Read a library file and size it: the file is read or refused with a rendered message, and every
+/// gate of a read file is sized and written, or reported with its place.
+pub fn batch_file(text: &str) {
+    // A directory that does not exist, so a `process = "..."` path reads no file of the machine's.
+    let source = Source::new("library.toml", text, "/nonexistent/widthwise-fuzz");
+    match Library::read(&source) {
+        Ok(library) => {
+            let mut diagnostics = Vec::new();
+            let outcome =
+                write_batch(&library, &source, Format::Csv, Rows::Gates, None, &mut std::io::sink(), &mut diagnostics)
+                    .expect("writing to a sink succeeds");
+            assert_eq!(outcome.failed == 0, diagnostics.is_empty(), "{text:?}");
+            assert!(outcome.failed <= outcome.gates);
+        }
+        Err(error) => assert!(error.render().starts_with("error"), "{text:?}"),
     }
 }
