@@ -9,7 +9,7 @@
 use std::cell::OnceCell;
 use std::collections::{HashMap, HashSet};
 use std::fmt;
-use std::io::{self, Read, Write};
+use std::io::{self, Write};
 use std::ops::Range;
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
@@ -20,7 +20,7 @@ use toml::Spanned;
 use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
 use crate::cli::{OutputArgs, cell_name};
-use crate::commands::write_output;
+use crate::commands::{read_bounded, write_output};
 use crate::delay::{self, StackOrder};
 use crate::error::{Error, Span, render_at};
 use crate::expr::read_gate;
@@ -58,6 +58,14 @@ design rules and licensed practice.";
 
 /// The drive of a gate that neither it nor `[defaults]` sets.
 pub const DEFAULT_DRIVE: f64 = 1.0;
+/// Why a library sizes by longest-path or min-area only.
+const ELMORE_IN_A_LIBRARY: &str = "method = \"elmore\" sizes against a load, which a library does not give: \
+                                   use \"longest-path\" or \"min-area\", or size the gate with \
+                                   'widthwise size --method elmore --fanout H'";
+
+/// Longest library file read, in bytes (a 20,000-gate library is about 1.2 MB).
+pub const MAX_LIBRARY_BYTES: usize = 64 << 20;
+
 /// The method of a gate that neither it nor `[defaults]` sets.
 pub const DEFAULT_METHOD: Method = Method::LongestPath;
 /// How many sized variants are held before they are written.
@@ -86,12 +94,11 @@ impl Source {
         let from_stdin = path.as_os_str() == "-";
         let origin = if from_stdin { "standard input".to_string() } else { path.display().to_string() };
         let file_error = |source| Error::File { action: "read", path: PathBuf::from(&origin), source };
+        let what = format!("the library file '{origin}'");
         let bytes = if from_stdin {
-            let mut bytes = Vec::new();
-            io::stdin().lock().read_to_end(&mut bytes).map_err(file_error)?;
-            bytes
+            read_bounded(io::stdin().lock(), MAX_LIBRARY_BYTES, &what, path)?
         } else {
-            std::fs::read(path).map_err(file_error)?
+            read_bounded(std::fs::File::open(path).map_err(file_error)?, MAX_LIBRARY_BYTES, &what, path)?
         };
         let text = String::from_utf8(bytes).map_err(|error| Error::NotUtf8 {
             what: format!("the library file '{origin}'"),
@@ -194,8 +201,14 @@ fn check_drives(written: &Spanned<Drives>) -> Result<Vec<(f64, Span)>, (String, 
         Drives::Many(list) => list.iter().map(|d| (*d.get_ref(), to_span(d.span()))).collect(),
     };
     for &(drive, span) in &drives {
-        if !drive.is_finite() || drive <= 0.0 {
-            return Err((format!("drive {drive}: a drive must be a positive finite number"), span));
+        if !drive.is_finite() || drive <= 0.0 || drive > crate::cli::MAX_SIZING_VALUE {
+            return Err((
+                format!(
+                    "drive {drive}: a drive must be a positive finite number up to {:e}",
+                    crate::cli::MAX_SIZING_VALUE
+                ),
+                span,
+            ));
         }
     }
     Ok(drives)
@@ -454,9 +467,12 @@ impl Library {
             None => process.mobility_ratio,
             Some(written) => {
                 let value = *written.get_ref();
-                if !value.is_finite() || value <= 0.0 {
+                if !value.is_finite() || value <= 0.0 || value > crate::cli::MAX_SIZING_VALUE {
                     return Err(source.error(
-                        format!("[defaults]: mobility_ratio = {value}: must be a positive finite number"),
+                        format!(
+                            "[defaults]: mobility_ratio = {value}: must be a positive finite number up to {:e}",
+                            crate::cli::MAX_SIZING_VALUE
+                        ),
                         Some(written.span()),
                     ));
                 }
@@ -519,7 +535,8 @@ impl Library {
     /// twice, or a drive listed twice in one gate (two variants of one name). Variants of distinct
     /// gates cannot clash: `<name>_x<drive>` is unique for distinct names (see [`drive_suffix`]).
     pub fn name_clashes(&self) -> Vec<GateProblem> {
-        let mut first: HashMap<&str, usize> = HashMap::with_capacity(self.gates.len());
+        // Netlists ignore case, so `Nand2` and `nand2` would be one subcircuit.
+        let mut first: HashMap<String, (usize, &str)> = HashMap::with_capacity(self.gates.len());
         let mut clashes = Vec::new();
         for plan in self.gates.iter().flatten() {
             let repeated = if plan.drives.len() > 1 {
@@ -539,16 +556,19 @@ impl Library {
                     Place::File(span),
                 ));
             }
-            if let Some(&number) = first.get(plan.name.as_str()) {
+            let key = plan.name.to_ascii_lowercase();
+            if let Some(&(number, name)) = first.get(&key) {
+                let how =
+                    if name == plan.name { String::new() } else { format!(" as '{name}' (netlists ignore case)") };
                 clashes.push(plan.problem(
                     format!(
-                        "the name is already used by gate {number}; names must be unique, since each becomes a \
+                        "the name is already used by gate {number}{how}; names must be unique, since each becomes a \
                          subcircuit and a spreadsheet key"
                     ),
                     Place::File(plan.name_span),
                 ));
             } else {
-                first.insert(&plan.name, plan.number);
+                first.insert(key, (plan.number, &plan.name));
             }
         }
         clashes
@@ -568,9 +588,8 @@ fn read_process(source: &Source, value: Spanned<DeValue<'_>>) -> Result<Process,
     match value.get_ref() {
         DeValue::String(path) => {
             let path = source.directory.join(path.as_ref());
-            let text = std::fs::read_to_string(&path).map_err(|error| {
-                source.error(format!("cannot read the process file '{}': {error}", path.display()), Some(span.clone()))
-            })?;
+            let text = crate::commands::read_text(&path, crate::process::MAX_PROCESS_FILE_BYTES)
+                .map_err(|error| source.error(format!("cannot read the process file: {error}"), Some(span.clone())))?;
             Process::from_toml(&text).map_err(|error| Error::InFile {
                 message: error.to_string(),
                 origin: path.display().to_string(),
@@ -625,6 +644,10 @@ fn read_gate_entry(
         None => common.drives.iter().copied().unzip(),
         Some(written) => check_drives(written).map_err(|(message, span)| problem(message, span))?.into_iter().unzip(),
     };
+    let method = gate.method.unwrap_or(common.method);
+    if method == Method::Elmore {
+        return Err(problem(ELMORE_IN_A_LIBRARY.to_string(), name_span));
+    }
     let stack_order = match &gate.stack_order {
         Some(order) => {
             check_stack_order(order).map_err(|message| problem(message, to_span(order.span())))?;
@@ -641,7 +664,7 @@ fn read_gate_entry(
         number,
         name: gate.name.into_inner(),
         expression,
-        method: gate.method.unwrap_or(common.method),
+        method,
         mobility_ratio: common.mobility_ratio,
         drives,
         drive_spans,

@@ -295,11 +295,15 @@ pub struct OutputArgs {
     pub output: Option<PathBuf>,
 }
 
-/// A positive, finite number.
+/// Largest drive, mobility ratio or reference W/L taken: far past any real cell, and small enough
+/// that widths, resistances and finger counts stay well inside floating-point range.
+pub const MAX_SIZING_VALUE: f64 = 1e6;
+
+/// A positive, finite number, at most [`MAX_SIZING_VALUE`].
 pub fn positive_number(text: &str) -> Result<f64, String> {
     let value: f64 = text.trim().parse().map_err(|_| format!("'{text}' is not a number"))?;
-    if !value.is_finite() || value <= 0.0 {
-        return Err(format!("must be a positive finite number, found '{text}'"));
+    if !value.is_finite() || value <= 0.0 || value > MAX_SIZING_VALUE {
+        return Err(format!("must be a positive finite number up to {MAX_SIZING_VALUE:e}, found '{text}'"));
     }
     Ok(value)
 }
@@ -352,7 +356,7 @@ mod tests {
     #[test]
     fn numbers_must_be_positive_and_finite() {
         assert_eq!(positive_number("2.5"), Ok(2.5));
-        for bad in ["-1", "0", "nan", "NaN", "inf", "x", ""] {
+        for bad in ["-1", "0", "nan", "NaN", "inf", "x", "", "1e7"] {
             assert!(positive_number(bad).is_err(), "{bad}");
         }
     }

@@ -47,6 +47,15 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             let text = expression_text(&expression)?;
             let sized = delay::size_gate(&text, &options, &sizing_delay(&gate, &options)?)?;
             for network in &sized.trees {
+                let work = paths::listing_work(network, limit);
+                if work > paths::MAX_LISTING_WORK {
+                    return Err(Error::Usage(format!(
+                        "listing {limit} paths of the {} would build {work} partial paths; the limit is {}: ask for \
+                         fewer with --limit",
+                        network.kind.name(),
+                        paths::MAX_LISTING_WORK
+                    )));
+                }
                 let size = paths::listing_size(network, limit);
                 if size > paths::MAX_LISTED_DEVICES {
                     return Err(Error::Usage(format!(
@@ -68,6 +77,14 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             let text = expression_text(&expression)?;
             // The elmore method sizes at the default load (fan-out 1) and ratio, as `paths` does.
             let sized = delay::size_gate(&text, &options, &sizing_delay(&gate, &options)?)?;
+            let occurrences = sized.function.literals.len();
+            if occurrences > output::deck::MAX_DECK_OCCURRENCES {
+                return Err(Error::Usage(format!(
+                    "a deck holds every transition with a source per input, so it is written for gates of up to {} \
+                     input occurrences per network; this one has {occurrences}",
+                    output::deck::MAX_DECK_OCCURRENCES
+                )));
+            }
             let target = OutputArgs { format: Format::Spice, output };
             write_output(&target, |out| output::deck::write_deck(&sized, &deck, out))
         }
@@ -128,7 +145,7 @@ fn sizing_delay(args: &GateArgs, options: &GateOptions) -> Result<DelayOptions, 
 
 /// Read and check a process file; errors name the key and its line and column.
 pub fn read_process(path: &Path) -> Result<Process, Error> {
-    let text = read_text(path)?;
+    let text = read_text(path, crate::process::MAX_PROCESS_FILE_BYTES)?;
     Process::from_toml(&text).map_err(|error| Error::Process {
         error: Box::new(error),
         path: path.to_path_buf(),
@@ -164,19 +181,7 @@ pub fn deck_options(args: &DeckArgs, process: &Process) -> Result<DeckOptions, E
 /// first bad byte.
 pub fn expression_text(argument: &OsString) -> Result<String, Error> {
     let bytes = if argument == "-" {
-        // Read one byte past the limit, never the whole of an endless stream.
-        let mut bytes = Vec::new();
-        io::stdin()
-            .lock()
-            .take(MAX_EXPRESSION_BYTES as u64 + 1)
-            .read_to_end(&mut bytes)
-            .map_err(|source| Error::File { action: "read", path: "standard input".into(), source })?;
-        if bytes.len() > MAX_EXPRESSION_BYTES {
-            return Err(Error::Usage(format!(
-                "the expression on standard input is longer than {MAX_EXPRESSION_BYTES} bytes, the limit"
-            )));
-        }
-        bytes
+        read_bounded(io::stdin().lock(), MAX_EXPRESSION_BYTES, "the expression on standard input", Path::new("-"))?
     } else {
         argument.as_encoded_bytes().to_vec()
     };
@@ -214,7 +219,28 @@ pub fn write_atomically(path: &Path, write: impl FnOnce(&mut dyn Write) -> io::R
     Ok(())
 }
 
-/// Read a whole file as UTF-8 text.
-pub fn read_text(path: &Path) -> Result<String, Error> {
-    fs::read_to_string(path).map_err(|source| Error::File { action: "read", path: path.to_path_buf(), source })
+/// Read at most `limit` bytes: one byte past it is an error naming `what`, so an endless stream
+/// (`/dev/zero`, a runaway pipe) never fills memory.
+pub fn read_bounded(reader: impl Read, limit: usize, what: &str, path: &Path) -> Result<Vec<u8>, Error> {
+    let mut bytes = Vec::new();
+    reader.take(limit as u64 + 1).read_to_end(&mut bytes).map_err(|source| Error::File {
+        action: "read",
+        path: path.to_path_buf(),
+        source,
+    })?;
+    if bytes.len() > limit {
+        return Err(Error::Usage(format!("{what} is longer than {limit} bytes, the limit")));
+    }
+    Ok(bytes)
+}
+
+/// Read a file of at most `limit` bytes as UTF-8 text.
+pub fn read_text(path: &Path, limit: usize) -> Result<String, Error> {
+    let file =
+        fs::File::open(path).map_err(|source| Error::File { action: "read", path: path.to_path_buf(), source })?;
+    let bytes = read_bounded(file, limit, &format!("'{}'", path.display()), path)?;
+    String::from_utf8(bytes).map_err(|error| Error::NotUtf8 {
+        what: format!("'{}'", path.display()),
+        byte: error.utf8_error().valid_up_to(),
+    })
 }

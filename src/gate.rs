@@ -489,17 +489,20 @@ impl SizedGate {
         let resistance = self.options.resistances(kind, &self.widths[side]);
         let input_of: Vec<usize> = self.function.literals.iter().map(|l| l.input).collect();
         let mut best: Option<(paths::Path, Vec<bool>)> = None;
+        // Repeated inputs can block the weakest path through a device; then the weakest few paths of
+        // the network are searched (listed once, a bounded number).
+        let mut listing: Option<Vec<paths::Path>> = None;
         for device in (0..input_of.len()).filter(|&d| input_of[d] == input) {
             let mut candidates = match paths::weakest_through(network, &resistance, device) {
                 Some(path) => vec![path],
                 None => continue,
             };
             if paths::sensitize(network, &candidates[0].devices, &input_of, self.function.inputs.len()).is_none() {
-                // Repeated inputs: look further down the listing for one that conducts alone.
-                candidates = paths::list(network, &resistance, paths::MAX_LISTED_PATHS)
-                    .into_iter()
-                    .filter(|p| p.devices.contains(&device))
-                    .collect();
+                let listed = listing.get_or_insert_with(|| {
+                    let limit = (paths::MAX_LISTING_WORK / paths::listing_work(network, 1).max(1)) as usize;
+                    paths::list(network, &resistance, limit.clamp(1, paths::MAX_LISTED_PATHS))
+                });
+                candidates = listed.iter().filter(|p| p.devices.contains(&device)).cloned().collect();
             }
             for path in candidates {
                 if let Some(values) = paths::sensitize(network, &path.devices, &input_of, self.function.inputs.len()) {

@@ -254,14 +254,23 @@ pub const MAX_LISTED_DEVICES: u128 = 1_000_000;
 
 /// Devices on the longest path of the network.
 pub fn longest_path_devices(network: &Network) -> usize {
-    fn walk(node: &Node) -> usize {
+    crate::sizing::depth(&network.root)
+}
+
+/// Most partial paths a listing may build (paths kept per series member x series members), so that
+/// the work of a listing is bounded as well as its output.
+pub const MAX_LISTING_WORK: u128 = 5_000_000;
+
+/// The partial paths a listing of `limit` paths builds: up to `limit` per member of every series stack.
+pub fn listing_work(network: &Network, limit: usize) -> u128 {
+    fn members(node: &Node) -> u128 {
         match node {
             Node::Device(_) => 1,
-            Node::Series(members) => members.iter().map(walk).sum(),
-            Node::Parallel(branches) => branches.iter().map(walk).max().unwrap_or(0),
+            Node::Series(children) => children.len() as u128 + children.iter().map(members).sum::<u128>(),
+            Node::Parallel(children) => children.iter().map(members).sum(),
         }
     }
-    walk(&network.root)
+    members(&network.root).saturating_mul(limit as u128)
 }
 
 /// The most device names a listing of `limit` paths can hold: paths listed x the longest path.
@@ -271,9 +280,10 @@ pub fn listing_size(network: &Network, limit: usize) -> u128 {
     paths.saturating_mul(longest_path_devices(network) as u128)
 }
 
-/// Resistances compared to 1e-9 R, so that equal paths tie whatever the rounding.
+/// Resistances compared to a relative 1e-9 (on a log scale), so that equal paths tie whatever the
+/// rounding and whatever the drive or units make their size.
 fn key(resistance: f64) -> i64 {
-    (resistance * 1e9).round() as i64
+    if resistance > 0.0 { (resistance.ln() * 1e9).round() as i64 } else { i64::MIN }
 }
 
 /// The input vector that makes `path` the only conducting path of the network, or `None` where

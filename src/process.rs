@@ -182,6 +182,24 @@ fn check(key: &'static str, value: &Spanned<f64>, rule: Rule) -> Result<f64, Pro
     }
 }
 
+/// A process name goes into reports and into a CSV column: no control characters, and no first
+/// character a spreadsheet would read as the start of a formula.
+fn label(value: &Spanned<String>) -> Result<String, ProcessError> {
+    let text = value.get_ref();
+    let formula = text.starts_with(['=', '+', '-', '@']);
+    if formula || text.chars().any(char::is_control) {
+        return Err(ProcessError::Value {
+            key: "name",
+            value: format!("{text:?}"),
+            why: "a process name may not start with =, +, - or @ (a spreadsheet would read its CSV cell as a \
+                  formula) nor hold control characters"
+                .into(),
+            span: span_of(value),
+        });
+    }
+    Ok(text.clone())
+}
+
 fn model_name(key: &'static str, value: &Spanned<String>) -> Result<String, ProcessError> {
     let text = value.get_ref();
     let valid = text.chars().next().is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
@@ -202,7 +220,10 @@ impl ProcessFile {
     pub fn validate(&self) -> Result<Process, ProcessError> {
         use Rule::*;
         let process = Process {
-            name: self.name.as_ref().map_or_else(|| "unnamed process".to_string(), |n| n.get_ref().clone()),
+            name: match &self.name {
+                Some(name) => label(name)?,
+                None => "unnamed process".to_string(),
+            },
             mobility_ratio: check("mobility_ratio", &self.mobility_ratio, Positive)?,
             length_nm: check("length_nm", &self.length_nm, Positive)?,
             unit_width_nm: check("unit_width_nm", &self.unit_width_nm, Positive)?,
@@ -470,11 +491,15 @@ mod tests {
     #[test]
     fn any_name_round_trips() {
         // Found by fuzzing: a byte-order mark in the name was written as Rust's `\u{feff}`, not TOML.
-        for name in
-            ["plain", "with \"quotes\" and \\", "bom\u{feff}", "tab\tnew\nline\r", "bell\u{7}del\u{7f}", "\u{1F600}"]
-        {
+        for name in ["plain", "with \"quotes\" and \\", "bom\u{feff}", "\u{1F600}", "a=b+c"] {
             let process = Process { name: name.to_string(), ..Process::default() };
             assert_eq!(Process::from_toml(&process.to_commented_toml()).unwrap(), process, "{name:?}");
+        }
+        // Control characters, and a first character a spreadsheet reads as a formula, are refused.
+        for name in ["tab\tnew\nline\r", "bell\u{7}del\u{7f}", "=HYPERLINK(1)", "+1", "-x", "@x"] {
+            let process = Process { name: name.to_string(), ..Process::default() };
+            let error = Process::from_toml(&process.to_commented_toml()).unwrap_err();
+            assert!(error.to_string().starts_with("name = "), "{name:?}: {error}");
         }
     }
 

@@ -134,7 +134,7 @@ pub fn size(network: &Network, device_count: usize, method: Method, options: &Si
 }
 
 /// Devices on the longest path through the node's subtree.
-fn depth(node: &Node) -> usize {
+pub fn depth(node: &Node) -> usize {
     match node {
         Node::Device(_) => 1,
         Node::Series(members) => members.iter().map(depth).sum(),

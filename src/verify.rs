@@ -666,7 +666,9 @@ pub fn verify(gate: &SizedGate, options: &VerifyOptions) -> Result<Verification,
     let input_index: HashMap<&str, usize> = inputs.iter().enumerate().map(|(i, n)| (n.as_str(), i)).collect();
     let netlist = Netlist::new(gate, &input_index)?;
     let text = &gate.function.text;
-    let parsed = parser::parse(text).map_err(|error| VerifyError::Expression { text: text.clone(), error })?;
+    // The canonical text of an accepted gate: its spaces may take it past the limit written text has.
+    let parsed = parser::parse_within(text, text.len())
+        .map_err(|error| VerifyError::Expression { text: text.clone(), error })?;
     let program = Program::new(&parsed.expr, &input_index)?;
 
     let (coverage, planned) = if inputs.len() <= MAX_EXHAUSTIVE_INPUTS {

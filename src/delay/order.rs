@@ -174,7 +174,7 @@ pub fn search(
     let limit = if elmore { EXHAUSTIVE_LIMIT_ELMORE } else { EXHAUSTIVE_LIMIT };
     let mut combinations: usize = 1;
     for &(_, len) in &shape {
-        combinations = combinations.saturating_mul((1..=len).product::<usize>().max(1));
+        combinations = (1..=len).fold(combinations, usize::saturating_mul);
     }
     let exhaustive = combinations <= limit;
     let budget = if elmore { BUDGET_ELMORE } else { BUDGET };

@@ -27,12 +27,14 @@ const OPERAND: &str = "an input name, a NOT or '('";
 
 /// Parse `source` into an expression, with an optional `name =` output prefix.
 pub fn parse(source: &str) -> Result<Parsed, ExprError> {
-    if source.len() > MAX_EXPRESSION_BYTES {
-        return Err(ExprError::TooLong {
-            length: source.len(),
-            limit: MAX_EXPRESSION_BYTES,
-            span: Span::new(0, source.len()),
-        });
+    parse_within(source, MAX_EXPRESSION_BYTES)
+}
+
+/// Parse text of at most `limit` bytes: [`parse`] with another length limit, for text the program
+/// wrote itself (a canonical form of an accepted expression may be longer than what was written).
+pub fn parse_within(source: &str, limit: usize) -> Result<Parsed, ExprError> {
+    if source.len() > limit {
+        return Err(ExprError::TooLong { length: source.len(), limit, span: Span::new(0, source.len()) });
     }
     let tokens = tokenize(source)?;
     if tokens.is_empty() {

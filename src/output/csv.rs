@@ -142,9 +142,10 @@ fn gates_view(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut dyn 
         Rows::Devices => {
             writer.write_record(DEVICE_COLUMNS)?;
             for gate in gates {
-                for transistor in &gate.transistors {
-                    let input =
-                        gate.inputs.iter().find(|i| i.name == transistor.input).expect("device input is an input");
+                let literals = &gate.function.literals;
+                // Transistors come NMOS then PMOS, each in literal order: transistor k is literal k mod n.
+                for (index, transistor) in gate.transistors.iter().enumerate() {
+                    let input = &gate.inputs[literals[index % literals.len()].input];
                     let mut record = vec![
                         gate.name.clone(),
                         value(gate.drive),

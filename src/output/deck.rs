@@ -64,6 +64,10 @@ pub struct Transition {
     pub path: Option<Vec<String>>,
 }
 
+/// Most input occurrences per network a deck is written for: each of the 2n transitions holds a
+/// source per input, so the deck grows with the square of the gate (256 occurrences: about 5 MB).
+pub const MAX_DECK_OCCURRENCES: usize = 256;
+
 /// The output's edge through a network: `"fall"` (pull-down) or `"rise"` (pull-up).
 pub fn edge(kind: NetworkKind) -> &'static str {
     match kind {

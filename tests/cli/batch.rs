@@ -552,3 +552,29 @@ fn verify_proves_every_variant() {
         .success()
         .stderr(predicate::str::contains("verified: all 25 variants pass"));
 }
+
+#[test]
+fn names_that_differ_only_in_case_clash_and_elmore_is_refused() {
+    let directory = tempfile::tempdir().unwrap();
+    let library = directory.path().join("cells.toml");
+    // Netlists ignore case (SPICE names; common practice, no source): Nand2 and nand2 are one subcircuit.
+    std::fs::write(
+        &library,
+        "[[gate]]\nname = \"Nand2\"\nexpr = \"nand2\"\n\n[[gate]]\nname = \"nand2\"\nexpr = \"nand2\"\n",
+    )
+    .unwrap();
+    widthwise()
+        .arg("batch")
+        .arg(&library)
+        .assert()
+        .code(2)
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("netlists ignore case"));
+    std::fs::write(&library, "[[gate]]\nname = \"g\"\nexpr = \"nand2\"\nmethod = \"elmore\"\n").unwrap();
+    widthwise()
+        .arg("batch")
+        .arg(&library)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("--method elmore --fanout"));
+}

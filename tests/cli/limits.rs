@@ -149,3 +149,71 @@ fn library_limits_past_the_command_line() {
     assert!(error.to_string().contains("the limit is 1048576"), "{error}");
     assert_eq!(Process::from_toml(&pad(MAX_PROCESS_FILE_BYTES)).unwrap(), Process::default());
 }
+
+#[test]
+fn listing_work_is_bounded_before_it_starts() {
+    // 50 branches of 100 parallel pairs in series: 10,000 devices, within every expression limit, but
+    // 10,000 paths would build about 5e7 partial paths. Refused at once; 100 paths are fine.
+    let branches: Vec<String> = (0..50)
+        .map(|b| {
+            let pairs: Vec<String> = (0..100).map(|i| format!("(x{b}_{i}a | x{b}_{i}b)")).collect();
+            pairs.join(" & ")
+        })
+        .collect();
+    let text = format!("!({})", branches.join(" | "));
+    widthwise()
+        .args(["paths", "-", "--limit", "10000"])
+        .write_stdin(text.clone())
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("partial paths"));
+    widthwise().args(["paths", "-", "--limit", "10", "--format", "csv"]).write_stdin(text).assert().success();
+}
+
+#[test]
+fn endless_files_are_refused_not_read_whole() {
+    // /dev/zero never ends: the readers stop one byte past their limit.
+    widthwise().args(["batch", "/dev/zero"]).assert().code(2).stderr(predicate::str::contains("the limit"));
+    widthwise()
+        .args(["size", "nand2", "--process", "/dev/zero"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("the limit"));
+}
+
+#[test]
+fn deck_size_is_bounded() {
+    // A deck has 2n transitions with a source per input: written up to 256 occurrences per network.
+    widthwise()
+        .args(["deck", "-"])
+        .write_stdin(and_of(257, 257))
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("256"));
+    widthwise().args(["deck", "-", "-o", "/dev/null"]).write_stdin(and_of(40, 40)).assert().success();
+}
+
+#[test]
+fn sizing_values_are_bounded() {
+    for args in [["--drive", "1e7"], ["--mobility-ratio", "2e6"], ["--reference", "1:1e9"]] {
+        widthwise().args(["size", "nand2"]).args(args).assert().code(2).stderr(predicate::str::contains("up to 1e6"));
+    }
+    // Far from unit size the worst path is still found: ties are relative, not absolute.
+    let output =
+        widthwise().args(["size", "!(a & (b | c & d))", "--drive", "1e6", "--format", "json"]).output().unwrap();
+    let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert_eq!(json["networks"][0]["worst_path"], serde_json::json!(["MN1", "MN3", "MN4"]));
+}
+
+#[test]
+fn a_long_stack_order_search_does_not_overflow() {
+    // 22 members in one stack: 22! orders, more than a 64-bit count; the search is then local, and says so.
+    let output = widthwise()
+        .args(["size", "-", "--stack-order", "search", "--format", "json"])
+        .write_stdin(and_of(22, 22))
+        .output()
+        .unwrap();
+    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
+    let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert_eq!(json["stack_order"]["exhaustive"], false);
+}
