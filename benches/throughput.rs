@@ -1,4 +1,4 @@
-//! The performance figures of doc-drafts/performance.md, measured in-process with `Instant`:
+//! The performance figures the README quotes, measured in-process with `Instant`:
 //! sizing throughput per core for typical library gates (both methods), one 2,000-literal
 //! expression, and `verify` of 24-input gates. Run with `cargo bench --bench throughput`.
 //!

@@ -4,7 +4,8 @@
 //! The file is TOML: an optional `process` (a path or a table), optional `[defaults]` and
 //! `[[gate]]` entries. It is parsed once into a spanned tree; each gate entry is then read on its
 //! own, so a wrong key or value in one gate is reported with its place while the rest go on.
-//! Sized gates are written in chunks as they come, so memory stays flat however long the file.
+//! Sized gates are written in chunks as they come, so memory grows with the file, not with the
+//! output (the table view alone keeps its rows, as text, to align them).
 
 use std::cell::OnceCell;
 use std::collections::{HashMap, HashSet};

@@ -30,7 +30,9 @@ Limits: expressions up to 1 MiB and 256 levels of parentheses; up to 10000 input
 (transistors per network) and 10000 distinct inputs; up to 10000 listed paths and 1000000 device
 names in one listing (paths x devices on the longest path); the exact worst case over input vectors
 (for repeated inputs) up to 16 inputs; verify checks every input vector up to 30 inputs, a stated
-pseudo-random sample (at most 2^30 vectors) past that; process files up to 1 MiB; delays up to 1000
+pseudo-random sample (at most 2^30 vectors) past that; process files up to 1 MiB, library files up to
+64 MiB; drive, mobility ratio and reference W/L up to 1e6; one path listing builds at most 5000000
+partial paths; decks up to 256 input occurrences per network; delays up to 1000
 input occurrences per network, the stack-order search up to 64, the elmore method up to 96 transistors
 and 10000 paths per network.
 

@@ -72,7 +72,7 @@ pub enum ExprError {
         span: Span,
     },
     /// Deeper nesting than the parser allows.
-    #[error("nesting deeper than {limit} levels of parentheses and NOTs")]
+    #[error("nesting deeper than {limit} levels of parentheses")]
     TooDeep {
         /// The limit.
         limit: usize,

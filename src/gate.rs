@@ -5,7 +5,6 @@
 
 use std::sync::Arc;
 
-use num_bigint::BigUint;
 use serde::ser::{SerializeMap, Serializer};
 
 use crate::error::Error;
@@ -515,11 +514,6 @@ impl SizedGate {
         }
         best.map(|(path, values)| (path, Vector::new(&self.function.inputs, &values)))
     }
-
-    /// Path count of a network as a number, for callers that need arithmetic.
-    pub fn path_count(&self, kind: NetworkKind) -> BigUint {
-        paths::count(&self.trees[usize::from(kind == NetworkKind::PullUp)])
-    }
 }
 
 #[cfg(test)]
@@ -581,6 +575,8 @@ mod tests {
     fn min_area_comparison_is_reported() {
         let gate = sized("!(a & (b | c))", Method::LongestPath);
         let min = sized("!(a & (b | c))", Method::MinArea);
+        // Pull-down K = (1 + sqrt 2)^2, pull-up a || (b - c): 2 + 4 + 4 (the closed form, by hand).
+        assert_relative_eq!(min.total_w_over_l, (1.0 + 2f64.sqrt()).powi(2) + 10.0, epsilon = 1e-12);
         assert_relative_eq!(gate.comparison.total_w_over_l, min.total_w_over_l, epsilon = 1e-12);
         assert!(gate.comparison.change_percent < 0.0);
     }

@@ -181,19 +181,6 @@ impl Network {
         out
     }
 
-    /// Devices in tree order (output side first).
-    pub fn devices(&self) -> Vec<usize> {
-        fn walk(node: &Node, out: &mut Vec<usize>) {
-            match node {
-                Node::Device(index) => out.push(*index),
-                Node::Series(children) | Node::Parallel(children) => children.iter().for_each(|c| walk(c, out)),
-            }
-        }
-        let mut out = Vec::new();
-        walk(&self.root, &mut out);
-        out
-    }
-
     /// Whether `other` is this network with series and parallel members in some other order.
     pub fn same_up_to_order(&self, other: &Network) -> bool {
         fn canonical(node: &Node) -> String {

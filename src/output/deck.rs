@@ -315,6 +315,21 @@ pub fn write_deck(gate: &SizedGate, options: &DeckOptions, out: &mut dyn Write) 
     let direction = |rising: bool| if rising { "RISE=1" } else { "FALL=1" };
     let mut measures: Vec<(String, String)> = Vec::new();
 
+    // An input whose toggle never moves the output on an edge (repeated inputs can make it
+    // redundant, e.g. b in !(a & (a | b))) has no transition there: say so rather than leave it out.
+    for (input, name) in gate.inputs.iter().enumerate() {
+        for kind in NetworkKind::BOTH {
+            if !transitions.iter().any(|t| t.input == input && t.kind == kind) {
+                writeln!(
+                    out,
+                    "* {}: no transition on the output's {} edge: no side inputs let its toggle move the output",
+                    name.name,
+                    edge(kind)
+                )?;
+            }
+        }
+    }
+
     for (index, transition) in transitions.iter().enumerate() {
         let tag = format!("t{}", index + 1);
         let name = &gate.inputs[transition.input].name;

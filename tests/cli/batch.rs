@@ -248,7 +248,7 @@ fn published_figures_come_through_the_batch() {
 #[test]
 fn csv_views_have_the_documented_columns() {
     let library = fixture("batch-published.toml");
-    // The stable column order of each view, as doc-drafts/batch.md lists it.
+    // The stable column order of each view, as the README lists it.
     let gates = "gate,expression,output,drive,method,mobility_ratio,transistors,total_w_over_l,total_width_um,\
                  parasitic_delay,pull_down_target_r,worst_pull_down_r,pull_down_vector,best_pull_down_r,\
                  pull_down_paths,pull_up_target_r,worst_pull_up_r,pull_up_vector,best_pull_up_r,pull_up_paths,\

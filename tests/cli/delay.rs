@@ -90,12 +90,15 @@ fn bad_delay_options_exit_2() {
 
 #[test]
 fn paths_accept_the_elmore_method() {
-    // The inverter meets its own bound exactly: the elmore widths are the reference's.
-    widthwise()
-        .args(["paths", "inv", "--method", "elmore", "--format", "json"])
-        .assert()
-        .success()
-        .stdout(predicate::str::contains("\"resistance\""));
+    // The inverter meets its own bound exactly: the elmore widths are the reference's, so each
+    // network's one path has the reference's resistance, R (the sizing model, section 2).
+    let output = widthwise().args(["paths", "inv", "--method", "elmore", "--format", "json"]).output().unwrap();
+    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
+    let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    for network in json["networks"].as_array().unwrap() {
+        let resistance = network["paths"][0]["resistance"].as_f64().unwrap();
+        assert!((resistance - 1.0).abs() < 1e-6, "{network}");
+    }
 }
 
 /// The built-in process as a file, with `key` set to `value`, written under `directory`.

@@ -6,6 +6,8 @@ use std::process::{Command, Stdio};
 
 use widthwise::{GateOptions, Method, SizingOptions, size_text};
 
+use super::support::{note, scipy_available};
+
 /// Gates whose min-area optimum differs from longest-path (unequal parallel structure in series),
 /// and some where they agree.
 const GATES: [&str; 10] = [
@@ -21,33 +23,20 @@ const GATES: [&str; 10] = [
     "!(a & (b | c) | d & (e | f | g))",
 ];
 
-fn require_scipy() -> bool {
-    std::env::var("WIDTHWISE_REQUIRE_SCIPY").is_ok_and(|v| v == "1")
-}
-
 #[test]
 fn min_area_matches_slsqp() {
+    if !scipy_available("min_area_matches_slsqp") {
+        return;
+    }
     let options = GateOptions::new(SizingOptions::new(Method::MinArea, 2.0, 1.0, None));
     let gates: Vec<_> = GATES.iter().map(|text| size_text(text, &options).unwrap()).collect();
     let input = serde_json::to_vec(&gates).unwrap();
     let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/scipy_min_area.py");
     let child =
         Command::new("python3").arg(script).stdin(Stdio::piped()).stdout(Stdio::piped()).stderr(Stdio::piped()).spawn();
-    let mut child = match child {
-        Ok(child) => child,
-        Err(error) => {
-            assert!(!require_scipy(), "python3 is required (WIDTHWISE_REQUIRE_SCIPY=1): {error}");
-            eprintln!("skipping the scipy check: python3 not found ({error})");
-            return;
-        }
-    };
+    let mut child = child.expect("python3 runs (it imported scipy above)");
     child.stdin.take().unwrap().write_all(&input).unwrap();
     let output = child.wait_with_output().unwrap();
-    if output.status.code() == Some(3) {
-        assert!(!require_scipy(), "scipy is required (WIDTHWISE_REQUIRE_SCIPY=1)");
-        eprintln!("skipping the scipy check: {}", String::from_utf8_lossy(&output.stderr).trim());
-        return;
-    }
     assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
     let lines: Vec<serde_json::Value> =
         String::from_utf8(output.stdout).unwrap().lines().map(|l| serde_json::from_str(l).unwrap()).collect();
@@ -67,5 +56,5 @@ fn min_area_matches_slsqp() {
         // Its path count, found from the netlist, matches ours.
         assert_eq!(line["paths"].as_u64().unwrap().to_string(), network.path_count);
     }
-    eprintln!("min-area against scipy SLSQP: {} networks, largest relative difference {largest:.2e}", lines.len());
+    note(&format!("min-area against scipy SLSQP: {} networks, largest relative difference {largest:.2e}", lines.len()));
 }
