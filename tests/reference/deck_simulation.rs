@@ -22,24 +22,11 @@ use widthwise::output::deck::{edge, gate_measure, reference_measure, transitions
 use widthwise::process::Process;
 use widthwise::sizing::{Method, SizingOptions};
 
-use crate::support::{measurements, ngspice_available, note, run_ngspice, summary_ratios, widthwise};
+use crate::support::{measurements, ngspice_available, note, process_with, run_ngspice, summary_ratios, widthwise};
 
 /// The built-in process with a grid too fine to matter and the given body-effect coefficient.
 fn fine_process(body_effect: f64) -> String {
-    widthwise(&["process"])
-        .lines()
-        .map(|line| {
-            if line.starts_with("grid_nm =") {
-                "grid_nm = 0.001".to_string()
-            } else if line.starts_with("body_effect_sqrt_v =") {
-                format!("body_effect_sqrt_v = {body_effect:?}")
-            } else {
-                line.to_string()
-            }
-        })
-        .collect::<Vec<_>>()
-        .join("\n")
-        + "\n"
+    process_with(&[("grid_nm", "0.001".into()), ("body_effect_sqrt_v", format!("{body_effect:?}"))])
 }
 
 /// A small deterministic generator (xorshift64*), so the random gates are the same on every run.

@@ -26,7 +26,7 @@ use widthwise::output::deck::{edge, gate_measure, transitions};
 use widthwise::process::Process;
 use widthwise::sizing::{Method, SizingOptions};
 
-use crate::support::{measurements, ngspice_available, note, run_ngspice, widthwise};
+use crate::support::{measurements, ngspice_available, note, process_with, run_ngspice, widthwise};
 
 /// Delays within this relative difference of each other are tied.
 const TIE: f64 = 0.02;
@@ -38,22 +38,11 @@ const LOAD_FF: f64 = 10.0;
 /// The built-in process with a grid too fine to matter (0.001 nm), no body effect (the deck's
 /// models have LAMBDA = 0 always) and a [`LOAD_FF`] load.
 fn test_process() -> String {
-    widthwise(&["process"])
-        .lines()
-        .map(|line| {
-            if line.starts_with("grid_nm =") {
-                "grid_nm = 0.001".to_string()
-            } else if line.starts_with("body_effect_sqrt_v =") {
-                "body_effect_sqrt_v = 0.0".to_string()
-            } else if line.starts_with("load_ff =") {
-                format!("load_ff = {LOAD_FF:?}")
-            } else {
-                line.to_string()
-            }
-        })
-        .collect::<Vec<_>>()
-        .join("\n")
-        + "\n"
+    process_with(&[
+        ("grid_nm", "0.001".into()),
+        ("body_effect_sqrt_v", "0.0".into()),
+        ("load_ff", format!("{LOAD_FF:?}")),
+    ])
 }
 
 /// One input on one edge, by both.

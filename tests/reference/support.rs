@@ -99,3 +99,19 @@ pub fn summary_ratios(output: &str) -> BTreeMap<String, f64> {
         })
         .collect()
 }
+
+/// The built-in process file (`widthwise process`) with the given keys set to the given values.
+pub fn process_with(values: &[(&str, String)]) -> String {
+    widthwise(&["process"])
+        .lines()
+        .map(|line| {
+            let key = line.split(" =").next().unwrap_or("");
+            match values.iter().find(|(k, _)| *k == key) {
+                Some((key, value)) => format!("{key} = {value}"),
+                None => line.to_string(),
+            }
+        })
+        .collect::<Vec<_>>()
+        .join("\n")
+        + "\n"
+}
