@@ -28,26 +28,28 @@ pub struct Path {
 
 /// The weakest (highest-resistance) path; ties go to the first branch.
 pub fn weakest(network: &Network, resistance: &[f64]) -> Path {
-    fn walk(node: &Node, resistance: &[f64], devices: &mut Vec<usize>) -> f64 {
-        match node {
-            Node::Device(index) => {
-                devices.push(*index);
-                resistance[*index]
-            }
-            Node::Series(members) => members.iter().map(|m| walk(m, resistance, devices)).sum(),
-            Node::Parallel(branches) => {
-                let best = branches
-                    .iter()
-                    .enumerate()
-                    .map(|(i, b)| (i, highest(b, resistance)))
-                    .fold((0, f64::NEG_INFINITY), |acc, (i, r)| if key(r) > key(acc.1) { (i, r) } else { acc });
-                walk(&branches[best.0], resistance, devices)
-            }
+    let mut devices = Vec::new();
+    let resistance = weakest_in(&network.root, resistance, &mut devices);
+    Path { resistance, devices }
+}
+
+/// The weakest path of a subtree: its devices pushed onto `devices`, its resistance returned.
+fn weakest_in(node: &Node, resistance: &[f64], devices: &mut Vec<usize>) -> f64 {
+    match node {
+        Node::Device(index) => {
+            devices.push(*index);
+            resistance[*index]
+        }
+        Node::Series(members) => members.iter().map(|m| weakest_in(m, resistance, devices)).sum(),
+        Node::Parallel(branches) => {
+            let best = branches
+                .iter()
+                .enumerate()
+                .map(|(i, b)| (i, highest(b, resistance)))
+                .fold((0, f64::NEG_INFINITY), |acc, (i, r)| if key(r) > key(acc.1) { (i, r) } else { acc });
+            weakest_in(&branches[best.0], resistance, devices)
         }
     }
-    let mut devices = Vec::new();
-    let resistance = walk(&network.root, resistance, &mut devices);
-    Path { resistance, devices }
 }
 
 /// The weakest path's resistance alone.
@@ -79,9 +81,7 @@ pub fn weakest_through(network: &Network, resistance: &[f64], device: usize) -> 
                     if contains(m, device) {
                         walk(m, resistance, device, devices)
                     } else {
-                        let path = weakest(&Network { kind: NetworkKind::PullDown, root: m.clone() }, resistance);
-                        devices.extend(path.devices);
-                        path.resistance
+                        weakest_in(m, resistance, devices)
                     }
                 })
                 .sum(),
