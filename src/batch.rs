@@ -828,14 +828,14 @@ pub fn write_batch(
             let mut header_written = false;
             let outcome = size_all(library, verify, &mut report, &mut |chunk| {
                 if header_written {
-                    output::csv::write_gates(chunk, rows, process, &mut SkipFirstLine { inner: out, skipping: true })
+                    output::csv::write_gates(chunk, rows, &mut SkipFirstLine { inner: out, skipping: true })
                 } else {
                     header_written = true;
-                    output::csv::write_gates(chunk, rows, process, out)
+                    output::csv::write_gates(chunk, rows, out)
                 }
             })?;
             if !header_written {
-                output::csv::write_gates(&[], rows, process, out)?;
+                output::csv::write_gates(&[], rows, out)?;
             }
             Ok(outcome)
         }

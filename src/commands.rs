@@ -35,9 +35,7 @@ pub fn run(cli: Cli) -> Result<(), Error> {
                     DelayOptions { stack_order: delay.stack_order.unwrap_or_default(), ..DelayOptions::default() };
                 delay::size_gate(&text, &options, &order)?
             };
-            write_output(&output, |out| {
-                output::write_gates(std::slice::from_ref(&sized), output.format, rows, &options.process, out)
-            })
+            write_output(&output, |out| output::write_gates(std::slice::from_ref(&sized), output.format, rows, out))
         }
         Command::Paths { expression, gate, output, limit } => {
             if output.format == Format::Spice {

@@ -28,9 +28,8 @@ pub fn expression(text: &str) {
                 continue;
             }
         };
-        let process = Process::default();
         for format in [Format::Table, Format::Csv, Format::Json, Format::Spice] {
-            output::write_gates(std::slice::from_ref(&gate), format, Rows::Devices, &process, &mut std::io::sink())
+            output::write_gates(std::slice::from_ref(&gate), format, Rows::Devices, &mut std::io::sink())
                 .expect("writing to a sink succeeds");
         }
         let listings = gate.list_paths(8);

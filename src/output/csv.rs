@@ -4,7 +4,6 @@
 use std::io::{self, Write};
 
 use crate::gate::{NetworkFigures, PathListing, SizedGate};
-use crate::process::Process;
 
 use super::Rows;
 
@@ -99,8 +98,8 @@ fn drawn_cells(gate: &SizedGate) -> Vec<String> {
 }
 
 /// Write the gates in the chosen view.
-pub fn write_gates(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut dyn Write) -> io::Result<()> {
-    gates_view(gates, rows, process, out).map_err(into_io)
+pub fn write_gates(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> io::Result<()> {
+    gates_view(gates, rows, out).map_err(into_io)
 }
 
 /// The `csv` crate wraps a failed write in its own error; give back the write's own error, so a
@@ -112,7 +111,7 @@ fn into_io(error: csv::Error) -> io::Error {
     }
 }
 
-fn gates_view(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut dyn Write) -> csv::Result<()> {
+fn gates_view(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> csv::Result<()> {
     let mut writer = csv::Writer::from_writer(out);
     match rows {
         Rows::Gates => {
@@ -127,7 +126,7 @@ fn gates_view(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut dyn 
                     value(gate.mobility_ratio),
                     gate.transistor_count.to_string(),
                     value(gate.total_w_over_l),
-                    micrometres(process.width_nm(gate.total_w_over_l)),
+                    micrometres(gate.process.width_nm(gate.total_w_over_l)),
                     value(gate.parasitic_delay),
                 ];
                 for network in &gate.networks {
@@ -157,8 +156,8 @@ fn gates_view(gates: &[SizedGate], rows: Rows, process: &Process, out: &mut dyn 
                         transistor.drain.clone(),
                         transistor.source.clone(),
                         value(transistor.w_over_l),
-                        micrometres(process.width_nm(transistor.w_over_l)),
-                        micrometres(process.length_nm),
+                        micrometres(gate.process.width_nm(transistor.w_over_l)),
+                        micrometres(gate.process.length_nm),
                         value(input.input_capacitance),
                         value(input.logical_effort),
                         value(gate.parasitic_delay),

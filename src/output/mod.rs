@@ -12,7 +12,6 @@ pub mod verify;
 use std::io::{self, Write};
 
 use crate::gate::{PathListing, SizedGate};
-use crate::process::Process;
 
 /// Output format, chosen once per run.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum)]
@@ -43,18 +42,16 @@ pub enum Rows {
 }
 
 /// Write sized gates in `format`.
-pub fn write_gates(
-    gates: &[SizedGate],
-    format: Format,
-    rows: Rows,
-    process: &Process,
-    out: &mut dyn Write,
-) -> io::Result<()> {
+pub fn write_gates(gates: &[SizedGate], format: Format, rows: Rows, out: &mut dyn Write) -> io::Result<()> {
     match format {
         Format::Table => table::write_gates(gates, out),
-        Format::Csv => csv::write_gates(gates, rows, process, out),
+        Format::Csv => csv::write_gates(gates, rows, out),
         Format::Json => json::write_gates(gates, out),
-        Format::Spice => spice::write_library(gates, process, out),
+        // The library's header names the process the gates were drawn in.
+        Format::Spice => match gates.first() {
+            Some(first) => spice::write_library(gates, &first.process, out),
+            None => Ok(()),
+        },
     }
 }
 
