@@ -68,10 +68,6 @@ impl Edge {
             Edge::Rise => NetworkKind::PullUp,
         }
     }
-
-    fn side(self) -> usize {
-        usize::from(self == Edge::Rise)
-    }
 }
 
 /// The load on the output.
@@ -718,26 +714,9 @@ fn measure(
         let after: Vec<bool> = vector.values.iter().map(|(_, v)| *v).collect();
         return measure_vector(after, "weakest path").map(Some);
     }
-    let inputs = circuit.input_count;
-    if inputs > EXACT_WORST_MAX_INPUTS {
-        return Ok(None);
-    }
-    let on_level = edge.network().conducts(true);
-    let tree = &gate.trees[edge.side()];
-    let timed_on = |values: &[bool]| -> Vec<bool> {
-        (0..circuit.count).map(|k| circuit.on(edge.side() * circuit.count + k, values)).collect()
-    };
+    let Some(vectors) = gate.switching_vectors(input, edge.network()) else { return Ok(None) };
     let mut worst: Option<Measured> = None;
-    for bits in 0..(1u64 << inputs) {
-        let after: Vec<bool> = (0..inputs).map(|i| bits >> i & 1 == 1).collect();
-        if after[input] != on_level {
-            continue;
-        }
-        let mut before = after.clone();
-        before[input] = !on_level;
-        if !tree.conducts(&timed_on(&after)) || tree.conducts(&timed_on(&before)) {
-            continue;
-        }
+    for after in vectors {
         let measured = measure_vector(after, "every vector")?;
         if worst.as_ref().is_none_or(|w| measured.elmore > w.elmore) {
             worst = Some(measured);

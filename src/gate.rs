@@ -478,6 +478,38 @@ impl SizedGate {
             .collect()
     }
 
+    /// Every input vector (the values after the switch) under which `input`, going to its on-level,
+    /// turns `kind`'s network from off to on: the transitions of that input on that edge, for when
+    /// repeated inputs leave no path through it that conducts alone. `None` past
+    /// [`paths::EXACT_WORST_MAX_INPUTS`] inputs.
+    pub fn switching_vectors(&self, input: usize, kind: NetworkKind) -> Option<Vec<Vec<bool>>> {
+        let count = self.function.inputs.len();
+        if count > paths::EXACT_WORST_MAX_INPUTS {
+            return None;
+        }
+        let network = &self.trees[usize::from(kind == NetworkKind::PullUp)];
+        let input_of: Vec<usize> = self.function.literals.iter().map(|l| l.input).collect();
+        let conducts = |values: &[bool]| {
+            let on: Vec<bool> = input_of.iter().map(|&i| kind.conducts(values[i])).collect();
+            network.conducts(&on)
+        };
+        let on_level = kind.conducts(true);
+        let mut vectors = Vec::new();
+        for bits in 0..(1u64 << count) {
+            let mut values: Vec<bool> = (0..count).map(|i| bits >> i & 1 == 1).collect();
+            if values[input] != on_level || !conducts(&values) {
+                continue;
+            }
+            values[input] = !on_level;
+            if conducts(&values) {
+                continue;
+            }
+            values[input] = on_level;
+            vectors.push(values);
+        }
+        Some(vectors)
+    }
+
     /// The worst-case transition of `input` through `kind`'s network: the weakest path through one
     /// of the input's devices that can conduct alone, with the vector that makes it the only
     /// conducting path (the input itself at its on-level). `None` where no such path exists
@@ -561,6 +593,18 @@ mod tests {
         assert_eq!(device_name(NetworkKind::PullDown, 0), "MN1");
         assert_eq!(device_name(NetworkKind::PullUp, 9), "MP10");
         assert_eq!(device_name(NetworkKind::PullUp, 9_999), "MP10000");
+    }
+
+    #[test]
+    fn switching_vectors_are_the_transitions_of_an_input() {
+        // !(a & (a | b)) is !a: a switches the pull-down whatever b is, b never does (Boolean
+        // algebra, absorption; common practice, no source).
+        let gate = sized("!(a & (a | b))", Method::LongestPath);
+        let a = gate.switching_vectors(0, NetworkKind::PullDown).unwrap();
+        assert_eq!(a, vec![vec![true, false], vec![true, true]]);
+        assert!(gate.switching_vectors(1, NetworkKind::PullDown).unwrap().is_empty());
+        assert!(gate.switching_vectors(1, NetworkKind::PullUp).unwrap().is_empty());
+        assert_eq!(gate.switching_vectors(0, NetworkKind::PullUp).unwrap().len(), 2);
     }
 
     #[test]

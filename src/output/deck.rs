@@ -12,7 +12,7 @@ use std::io::{self, Write};
 use crate::figures::node_diffusions;
 use crate::gate::SizedGate;
 use crate::network::NetworkKind;
-use crate::paths::{self, EXACT_WORST_MAX_INPUTS};
+use crate::paths;
 use crate::process::Process;
 
 use super::number;
@@ -115,34 +115,16 @@ pub fn transitions(gate: &SizedGate) -> Vec<Transition> {
     out
 }
 
-/// The side-input vector that makes `input`'s toggle switch `kind`'s network on with the highest
-/// resistance, by enumeration (at most [`EXACT_WORST_MAX_INPUTS`] inputs).
+/// Where repeated inputs leave no path through `input` that conducts alone: the transition of
+/// that input with the highest resistance after the switch, over every side-input vector.
 fn exact_transition(gate: &SizedGate, input: usize, kind: NetworkKind) -> Option<(f64, Vec<bool>)> {
-    let count = gate.inputs.len();
-    if count > EXACT_WORST_MAX_INPUTS {
-        return None;
-    }
     let side = usize::from(kind == NetworkKind::PullUp);
-    let network = &gate.trees[side];
     let resistance = gate.options.resistances(kind, &gate.widths[side]);
     let input_of: Vec<usize> = gate.function.literals.iter().map(|l| l.input).collect();
-    let on_level = kind.conducts(true);
     let mut best: Option<(f64, Vec<bool>)> = None;
-    for bits in 0..(1u64 << count) {
-        let mut values: Vec<bool> = (0..count).map(|i| bits >> i & 1 == 1).collect();
-        if values[input] != on_level {
-            continue;
-        }
-        let conducting = |values: &[bool]| {
-            let on: Vec<bool> = input_of.iter().map(|&i| kind.conducts(values[i])).collect();
-            paths::effective_resistance(network, &resistance, &on)
-        };
-        let Some(after) = conducting(&values) else { continue };
-        values[input] = !on_level;
-        if conducting(&values).is_some() {
-            continue;
-        }
-        values[input] = on_level;
+    for values in gate.switching_vectors(input, kind)? {
+        let on: Vec<bool> = input_of.iter().map(|&i| kind.conducts(values[i])).collect();
+        let Some(after) = paths::effective_resistance(&gate.trees[side], &resistance, &on) else { continue };
         if best.as_ref().is_none_or(|(r, _)| after > r + 1e-12) {
             best = Some((after, values));
         }
