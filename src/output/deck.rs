@@ -214,16 +214,7 @@ pub fn write_deck(gate: &SizedGate, options: &DeckOptions, out: &mut dyn Write) 
 
     let transitions = transitions(gate);
     writeln!(out, "* widthwise simulation deck: {}: {} = {}", gate.name, gate.output, gate.expression)?;
-    writeln!(
-        out,
-        "* {} sizing, mobility ratio {}, drive {}, reference inverter NMOS {} PMOS {} (W/L); process: {}",
-        gate.method.name(),
-        number(gate.mobility_ratio),
-        number(gate.drive),
-        number(gate.reference_nmos_w_over_l),
-        number(gate.reference_pmos_w_over_l),
-        process.name
-    )?;
+    writeln!(out, "* {}; process: {}", super::sizing_line(gate), process.name)?;
     writeln!(out, "* One copy of the gate per worst-case transition and one of the reference inverter per output")?;
     writeln!(
         out,

@@ -64,6 +64,19 @@ pub fn write_paths(gate: &SizedGate, listings: &[PathListing], format: Format, o
     }
 }
 
+/// How a gate was sized, in one line for headers and comments: method, mobility ratio, drive and
+/// the reference inverter at that drive.
+pub fn sizing_line(gate: &SizedGate) -> String {
+    format!(
+        "{} sizing, mobility ratio {}, drive {}, reference inverter NMOS {} PMOS {} (W/L)",
+        gate.method.name(),
+        number(gate.mobility_ratio),
+        number(gate.drive),
+        number(gate.reference_nmos_w_over_l),
+        number(gate.reference_pmos_w_over_l),
+    )
+}
+
 /// A number for people: at most four decimals, trailing zeros dropped.
 pub fn number(value: f64) -> String {
     if !value.is_finite() {

@@ -10,8 +10,6 @@ use crate::gate::{SizedGate, Transistor};
 use crate::network::NetworkKind;
 use crate::process::Process;
 
-use super::number;
-
 /// A length in nm as a SPICE value in micrometres (`1.5u`), to 1 pm.
 pub fn micrometres(nanometres: f64) -> String {
     let text = format!("{:.6}", nanometres / 1000.0);
@@ -33,13 +31,7 @@ pub fn write_library(gates: &[SizedGate], process: &Process, out: &mut dyn Write
 /// One gate's `.subckt ... .ends`.
 pub fn write_subcircuit(gate: &SizedGate, process: &Process, out: &mut dyn Write) -> io::Result<()> {
     writeln!(out, "* {}: {} = {}", gate.name, gate.output, gate.expression)?;
-    writeln!(
-        out,
-        "* {} sizing, mobility ratio {}, drive {}",
-        gate.method.name(),
-        number(gate.mobility_ratio),
-        number(gate.drive)
-    )?;
+    writeln!(out, "* {}", super::sizing_line(gate))?;
     let inputs: Vec<&str> = gate.inputs.iter().map(|i| i.name.as_str()).collect();
     writeln!(out, ".subckt {} {} {} vdd vss", gate.name, inputs.join(" "), gate.output)?;
     for transistor in &gate.transistors {

@@ -44,14 +44,7 @@ pub fn write_gates(gates: &[SizedGate], out: &mut dyn Write) -> io::Result<()> {
 
 fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
     writeln!(out, "{}: {} = {}", gate.name, gate.output, gate.expression)?;
-    let mut settings = format!(
-        "  {} sizing, mobility ratio {}, drive {}, reference inverter NMOS {} PMOS {} (W/L)",
-        gate.method.name(),
-        number(gate.mobility_ratio),
-        number(gate.drive),
-        number(gate.reference_nmos_w_over_l),
-        number(gate.reference_pmos_w_over_l),
-    );
+    let mut settings = format!("  {}", super::sizing_line(gate));
     if let Some(critical) = &gate.critical_input {
         settings.push_str(&format!(", critical input {critical} nearest the output"));
     }
