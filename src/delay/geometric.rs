@@ -458,17 +458,19 @@ pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
             .fold((0, f64::NEG_INFINITY), |a, b| if b.1 > a.1 { b } else { a })
     };
 
+    let problem = |phase_one| Problem {
+        objective: &objective,
+        constraints: &constraints,
+        soft,
+        lower: &lower,
+        upper: &upper,
+        phase_one,
+        n,
+    };
+
     // Phase I: minimise s with F_i(y) <= s, until some y has every F_i clearly below 0.
     if soft > 0 && worst(&y).1 >= -MARGIN {
-        let phase = Problem {
-            objective: &objective,
-            constraints: &constraints,
-            soft,
-            lower: &lower,
-            upper: &upper,
-            phase_one: true,
-            n,
-        };
+        let phase = problem(true);
         let mut z = y.clone();
         z.push(worst(&y).1.max(0.0) + 1.0);
         let finish = phase.run(&mut z, |z| worst(&z[..n]).1 < -MARGIN)?;
@@ -483,16 +485,7 @@ pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
     }
 
     // Phase II.
-    let phase = Problem {
-        objective: &objective,
-        constraints: &constraints,
-        soft,
-        lower: &lower,
-        upper: &upper,
-        phase_one: false,
-        n,
-    };
-    phase.run(&mut y, |_| false)?;
+    problem(false).run(&mut y, |_| false)?;
     let x: Vec<f64> = y.iter().map(|v| v.exp()).collect();
     let at_bound = (0..n).filter(|&j| y[j] - lower[j] < 1e-6 || upper[j] - y[j] < 1e-6).collect();
     Ok(Outcome::Optimal { objective: program.objective.value(&x), x, at_bound })
