@@ -269,7 +269,7 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
         })?),
     };
     let count = function.literals.len();
-    let input_of: Vec<usize> = function.literals.iter().map(|l| l.input).collect();
+    let input_of = function.input_of();
     let built = Network::pair(&function);
     let widths = match &options.fixed_widths {
         Some(given) => {
@@ -450,7 +450,7 @@ pub struct PathListing {
 impl SizedGate {
     /// The `limit` weakest paths of each network, with their vectors.
     pub fn list_paths(&self, limit: usize) -> Vec<PathListing> {
-        let input_of: Vec<usize> = self.function.literals.iter().map(|l| l.input).collect();
+        let input_of = self.function.input_of();
         NetworkKind::BOTH
             .into_iter()
             .enumerate()
@@ -488,7 +488,7 @@ impl SizedGate {
             return None;
         }
         let network = &self.trees[usize::from(kind == NetworkKind::PullUp)];
-        let input_of: Vec<usize> = self.function.literals.iter().map(|l| l.input).collect();
+        let input_of = self.function.input_of();
         let conducts = |values: &[bool]| {
             let on: Vec<bool> = input_of.iter().map(|&i| kind.conducts(values[i])).collect();
             network.conducts(&on)
@@ -518,7 +518,7 @@ impl SizedGate {
         let side = usize::from(kind == NetworkKind::PullUp);
         let network = &self.trees[side];
         let resistance = self.options.resistances(kind, &self.widths[side]);
-        let input_of: Vec<usize> = self.function.literals.iter().map(|l| l.input).collect();
+        let input_of = self.function.input_of();
         let mut best: Option<(paths::Path, Vec<bool>)> = None;
         // Repeated inputs can block the weakest path through a device; then the weakest few paths of
         // the network are searched (listed once, a bounded number).

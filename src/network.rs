@@ -253,7 +253,7 @@ mod tests {
     fn ordering_puts_least_facing_width_at_the_output() {
         let gate = read_gate("aoi21").unwrap();
         let [_, up] = Network::pair(&gate);
-        let input_of: Vec<usize> = gate.literals.iter().map(|l| l.input).collect();
+        let input_of = gate.input_of();
         let ordered = up.ordered(&[4.0, 4.0, 4.0], &input_of, None);
         assert_eq!(tree(&ordered.root), "S(2 P(0 1))");
         let critical = up.ordered(&[4.0, 4.0, 4.0], &input_of, Some(0));

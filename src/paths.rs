@@ -433,7 +433,7 @@ mod tests {
     fn pull_down(text: &str) -> (Network, Vec<usize>, usize) {
         let gate = read_gate(text).unwrap();
         let [down, _] = Network::pair(&gate);
-        (down, gate.literals.iter().map(|l| l.input).collect(), gate.inputs.len())
+        (down, gate.input_of(), gate.inputs.len())
     }
 
     #[test]
@@ -532,7 +532,7 @@ mod tests {
         ];
         for text in cases {
             let gate = read_gate(text).unwrap();
-            let input_of: Vec<usize> = gate.literals.iter().map(|l| l.input).collect();
+            let input_of = gate.input_of();
             for network in Network::pair(&gate) {
                 // uneven resistances, so that ties are rare
                 let r: Vec<f64> = (0..input_of.len()).map(|k| 1.0 + (k as f64 * 0.37) % 1.3).collect();

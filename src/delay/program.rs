@@ -48,7 +48,7 @@ pub(crate) struct PathTransition {
 /// each distinct input on it switching.
 pub(crate) fn path_transitions(gate: &SizedGate, circuit: &Circuit) -> Result<Vec<PathTransition>, DelayError> {
     let count = circuit.count;
-    let input_of: Vec<usize> = gate.function.literals.iter().map(|l| l.input).collect();
+    let input_of = gate.function.input_of();
     let inputs = gate.function.inputs.len();
     let mut out = Vec::new();
     for edge in Edge::BOTH {

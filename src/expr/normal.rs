@@ -174,6 +174,11 @@ impl GateFunction {
         result
     }
 
+    /// The input of every device (literal occurrence), by device index.
+    pub fn input_of(&self) -> Vec<usize> {
+        self.literals.iter().map(|l| l.input).collect()
+    }
+
     /// Whether some input has more than one occurrence.
     pub fn has_repeated_inputs(&self) -> bool {
         self.literals.len() > self.inputs.len()

@@ -90,7 +90,7 @@ pub fn reference_measure(kind: NetworkKind) -> String {
 /// whose every path is blocked by repeated inputs gets the exact worst over its side inputs (up to
 /// 16 inputs); an input with no transition at all (its toggling never moves the output) is left out.
 pub fn transitions(gate: &SizedGate) -> Vec<Transition> {
-    let input_of: Vec<usize> = gate.function.literals.iter().map(|l| l.input).collect();
+    let input_of = gate.function.input_of();
     let mut out = Vec::new();
     for input in 0..gate.inputs.len() {
         for kind in NetworkKind::BOTH {
@@ -120,7 +120,7 @@ pub fn transitions(gate: &SizedGate) -> Vec<Transition> {
 fn exact_transition(gate: &SizedGate, input: usize, kind: NetworkKind) -> Option<(f64, Vec<bool>)> {
     let side = usize::from(kind == NetworkKind::PullUp);
     let resistance = gate.options.resistances(kind, &gate.widths[side]);
-    let input_of: Vec<usize> = gate.function.literals.iter().map(|l| l.input).collect();
+    let input_of = gate.function.input_of();
     let mut best: Option<(f64, Vec<bool>)> = None;
     for values in gate.switching_vectors(input, kind)? {
         let on: Vec<bool> = input_of.iter().map(|&i| kind.conducts(values[i])).collect();
