@@ -21,7 +21,7 @@ use toml::Spanned;
 use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
 use crate::cli::{OutputArgs, cell_name};
-use crate::commands::{read_bounded, write_output};
+use crate::commands::{Diagnostics, diagnose, read_bounded, write_output};
 use crate::delay::{self, StackOrder};
 use crate::error::{Error, Span, render_at};
 use crate::expr::read_gate;
@@ -902,9 +902,8 @@ pub fn run(library_path: &Path, output_args: &OutputArgs, rows: Rows, verify: bo
     let library = Library::read(&source)?;
     let clashes = library.name_clashes();
     if !clashes.is_empty() {
-        let mut stderr = io::stderr().lock();
         for clash in &clashes {
-            stderr.write_all(clash.render(&source).as_bytes())?;
+            diagnose(&clash.render(&source));
         }
         return Err(Error::NameClashes { count: clashes.len() });
     }
@@ -912,8 +911,7 @@ pub fn run(library_path: &Path, output_args: &OutputArgs, rows: Rows, verify: bo
     write_output(output_args, |out| {
         // Gates are sized one after another, so each verification may use every core.
         let options = verify.then(VerifyOptions::default);
-        outcome =
-            write_batch(&library, &source, output_args.format, rows, options.as_ref(), out, &mut io::stderr().lock())?;
+        outcome = write_batch(&library, &source, output_args.format, rows, options.as_ref(), out, &mut Diagnostics)?;
         Ok(())
     })?;
     if outcome.failed > 0 {
@@ -926,7 +924,7 @@ pub fn run(library_path: &Path, output_args: &OutputArgs, rows: Rows, verify: bo
                 outcome.unverified, outcome.variants
             )));
         }
-        eprintln!("verified: all {} variants pass every check on their input vectors", outcome.verified);
+        diagnose(&format!("verified: all {} variants pass every check on their input vectors\n", outcome.verified));
     }
     Ok(())
 }

@@ -187,6 +187,28 @@ pub fn expression_text(argument: &OsString) -> Result<String, Error> {
         .map_err(|error| Error::NotUtf8 { what: "the expression".to_string(), byte: error.utf8_error().valid_up_to() })
 }
 
+/// Standard error for diagnostics. A write that fails (the reader closed the pipe) is dropped: there
+/// is nowhere left to report it, and a diagnostic never costs the output or changes the exit code.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Diagnostics;
+
+impl Write for Diagnostics {
+    fn write(&mut self, buffer: &[u8]) -> io::Result<usize> {
+        let _ = io::stderr().lock().write_all(buffer);
+        Ok(buffer.len())
+    }
+
+    fn flush(&mut self) -> io::Result<()> {
+        let _ = io::stderr().lock().flush();
+        Ok(())
+    }
+}
+
+/// Write `text` to standard error through [`Diagnostics`]: never fails, never panics.
+pub fn diagnose(text: &str) {
+    let _ = Diagnostics.write_all(text.as_bytes());
+}
+
 /// Write to standard output, or atomically to `-o FILE`: a temporary file beside it, then a rename.
 pub fn write_output(args: &OutputArgs, write: impl FnOnce(&mut dyn Write) -> io::Result<()>) -> Result<(), Error> {
     match &args.output {

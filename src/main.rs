@@ -27,7 +27,8 @@ fn main() -> ExitCode {
         // A reader that closed the pipe early (`| head`) is not an error.
         Err(Error::Output(error)) if error.kind() == ErrorKind::BrokenPipe => ExitCode::from(EXIT_OK),
         Err(error) => {
-            eprint!("{}", error.render());
+            // Through a writer that ignores a closed stderr: `eprint!` would panic (exit 101).
+            widthwise::commands::diagnose(&error.render());
             ExitCode::from(error.exit_code())
         }
     }

@@ -8,6 +8,7 @@ mod limits;
 mod paths;
 mod process;
 mod size;
+mod streams;
 mod verify;
 
 use std::path::PathBuf;
