@@ -21,7 +21,7 @@ use toml::Spanned;
 use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
 use crate::cli::{OutputArgs, cell_name};
-use crate::commands::{Diagnostics, diagnose, read_bounded, write_output};
+use crate::commands::{Diagnostics, diagnose, open_regular, read_bounded, write_output};
 use crate::delay::{self, StackOrder};
 use crate::error::{Error, Span, render_at};
 use crate::expr::read_gate;
@@ -94,12 +94,12 @@ impl Source {
     pub fn read(path: &Path) -> Result<Source, Error> {
         let from_stdin = path.as_os_str() == "-";
         let origin = if from_stdin { "standard input".to_string() } else { path.display().to_string() };
-        let file_error = |source| Error::File { action: "read", path: PathBuf::from(&origin), source };
         let what = format!("the library file '{origin}'");
         let bytes = if from_stdin {
             read_bounded(io::stdin().lock(), MAX_LIBRARY_BYTES, &what, path)?
         } else {
-            read_bounded(std::fs::File::open(path).map_err(file_error)?, MAX_LIBRARY_BYTES, &what, path)?
+            let hint = "; give '-' to read the library from standard input";
+            read_bounded(open_regular(path, "the library file", hint)?, MAX_LIBRARY_BYTES, &what, path)?
         };
         let text = String::from_utf8(bytes).map_err(|error| Error::NotUtf8 {
             what: format!("the library file '{origin}'"),
@@ -589,7 +589,7 @@ fn read_process(source: &Source, value: Spanned<DeValue<'_>>) -> Result<Process,
     match value.get_ref() {
         DeValue::String(path) => {
             let path = source.directory.join(path.as_ref());
-            let text = crate::commands::read_text(&path, crate::process::MAX_PROCESS_FILE_BYTES)
+            let text = crate::commands::read_text(&path, crate::process::MAX_PROCESS_FILE_BYTES, "the process file")
                 .map_err(|error| source.error(format!("cannot read the process file: {error}"), Some(span.clone())))?;
             Process::from_toml(&text).map_err(|error| Error::InFile {
                 message: error.to_string(),

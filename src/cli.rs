@@ -125,8 +125,9 @@ pub enum Command {
     /// SPICE library.
     #[command(after_help = crate::batch::AFTER_HELP)]
     Batch {
-        /// The library file: TOML with an optional process and [defaults], then [[gate]] entries;
-        /// - reads it from standard input.
+        /// The library file: TOML with an optional process and [defaults], then [[gate]] entries; a
+        /// regular file (a FIFO, a device or process substitution, <(...), is refused), or - to read
+        /// it from standard input.
         library: PathBuf,
         /// Where and how to write.
         #[command(flatten)]
@@ -164,7 +165,7 @@ pub enum Command {
 #[derive(Debug, Clone, Args)]
 pub struct DeckArgs {
     /// Include this model library (`.include`, written as an absolute path) instead of writing level-1
-    /// models from the process.
+    /// models from the process. It must be a regular file.
     #[arg(long, value_name = "FILE")]
     pub models: Option<PathBuf>,
     /// The NMOS model's name in the --models library (default: the process's nmos_model).
@@ -223,7 +224,8 @@ pub struct GateArgs {
     #[arg(long, value_name = "NAME", value_parser = cell_name)]
     pub name: Option<String>,
     /// A process file (TOML): length, unit width, grid, minimum and maximum finger width, mobility
-    /// ratio and device values (default: the built-in process; 'widthwise process' prints it).
+    /// ratio and device values (default: the built-in process; 'widthwise process' prints it). A
+    /// regular file: a FIFO, a device or process substitution <(...) is refused.
     #[arg(long, value_name = "FILE")]
     pub process: Option<PathBuf>,
 }
@@ -292,7 +294,9 @@ pub struct OutputArgs {
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
-    /// Write to FILE (atomically: a temporary file, then a rename) instead of standard output.
+    /// Write to FILE (atomically: a temporary file, then a rename) instead of standard output. A
+    /// symbolic link is written through; FILE must be a regular file or not exist (a FIFO, device or
+    /// directory is refused); a new file gets 0666 less the umask, an existing one keeps its mode.
     #[arg(short, long, value_name = "FILE")]
     pub output: Option<PathBuf>,
 }

@@ -172,10 +172,18 @@ fn listing_work_is_bounded_before_it_starts() {
 
 #[test]
 fn endless_files_are_refused_not_read_whole() {
-    // /dev/zero never ends: the readers stop one byte past their limit.
-    widthwise().args(["batch", "/dev/zero"]).assert().code(2).stderr(predicate::str::contains("the limit"));
+    // /dev/zero never ends: a device is not read at all (only regular files are), and standard input
+    // is read one byte past its limit and no further.
+    widthwise().args(["batch", "/dev/zero"]).assert().code(2).stderr(predicate::str::contains("a device node"));
     widthwise()
         .args(["size", "nand2", "--process", "/dev/zero"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("a device node"));
+    let endless = "#".repeat(widthwise::batch::MAX_LIBRARY_BYTES + 1);
+    widthwise()
+        .args(["batch", "-"])
+        .write_stdin(endless)
         .assert()
         .code(2)
         .stderr(predicate::str::contains("the limit"));
@@ -190,7 +198,9 @@ fn deck_size_is_bounded() {
         .assert()
         .code(2)
         .stderr(predicate::str::contains("256"));
-    widthwise().args(["deck", "-", "-o", "/dev/null"]).write_stdin(and_of(40, 40)).assert().success();
+    let directory = tempfile::tempdir().unwrap();
+    let deck = directory.path().join("deck.sp");
+    widthwise().args(["deck", "-", "-o"]).arg(&deck).write_stdin(and_of(40, 40)).assert().success();
 }
 
 #[test]
