@@ -23,9 +23,10 @@ use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 use crate::cli::{OutputArgs, cell_name};
 use crate::commands::{Diagnostics, diagnose, open_regular, read_bounded, write_output};
 use crate::delay::{self, StackOrder};
-use crate::error::{Error, Span, render_at};
-use crate::expr::read_gate;
+use crate::error::{Error, Span, escaped, render_at};
+use crate::expr::read_gate_with_models;
 use crate::gate::{GateOptions, SizedGate, size_function};
+use crate::names::is_identifier;
 use crate::output::summary::SummaryTable;
 use crate::output::{self, Format, Rows};
 use crate::process::{Process, ProcessFile};
@@ -620,7 +621,7 @@ fn read_gate_entry(
     let written_name = entry.get_ref().get("name").and_then(|n| n.get_ref().as_str()).map(str::to_string);
     let problem = |message: String, span: Span| GateProblem {
         number,
-        name: written_name.clone().filter(|n| cell_name(n).is_ok()),
+        name: written_name.clone().filter(|n| is_identifier(n)),
         message,
         place: Place::File(span),
     };
@@ -630,13 +631,16 @@ fn read_gate_entry(
     let gate = GateEntry::deserialize(ValueDeserializer::from(entry))
         .map_err(|e| problem(e.message().trim().to_string(), e.span().map_or(whole, to_span)))?;
     let name_span = to_span(gate.name.span());
-    if cell_name(gate.name.get_ref()).is_err() {
+    if let Err(why) = cell_name(gate.name.get_ref()) {
+        if crate::names::reserved_reason(gate.name.get_ref(), &[]).is_some() {
+            return Err(problem(why, name_span));
+        }
         return Err(problem(
             format!(
                 "name '{}' is refused: a gate name is an identifier (a letter or '_', then letters, digits and \
                  '_') so that netlists take it and no spreadsheet reads its cell as a formula (a cell starting \
                  with '=', '+', '-' or '@')",
-                gate.name.get_ref()
+                escaped(gate.name.get_ref())
             ),
             name_span,
         ));
@@ -705,8 +709,8 @@ pub struct Outcome {
 
 /// Size one gate in each of its drives, or say why it cannot be.
 pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedGate>, GateProblem> {
-    let function =
-        read_gate(&plan.expression).map_err(|error| plan.expression_problem(error.to_string(), error.span()))?;
+    let function = read_gate_with_models(&plan.expression, &process.model_names())
+        .map_err(|error| plan.expression_problem(error.to_string(), error.span()))?;
     if let Some(critical) = &plan.critical
         && !function.inputs.contains(critical)
     {

@@ -17,7 +17,9 @@ const AFTER_HELP: &str = "\
 Expressions: NOT as !, ~ or postfix '; AND as &, *, . or juxtaposition; OR as | or +; parentheses;
 an optional 'name =' prefix names the output (default y). Precedence NOT > AND > OR. Any expression
 whose negation-normal form is one inverting stage is accepted (!a & !b is a NOR). Shorthands: inv,
-nand2..nand8, nor2..nor8, aoi21, aoi22, aoi211 ..., oai21, oai22 ... (inputs a, b, c, ...).
+nand2..nand8, nor2..nor8, aoi21, aoi22, aoi211 ..., oai21, oai22 ... (inputs a, b, c ... z, a1 ...,
+skipping the output's name). Reserved, compared without case, for inputs, the output and the cell
+name: vdd, vss, gnd, 0 and the model names in use (the process's nmos_model and pmos_model).
 
 Units: sizes are relative W/L, 1 = the unit NMOS; resistances are in units of R, the unit NMOS's
 on-resistance; capacitances in unit-NMOS gate capacitances. Physical sizes use the built-in process
@@ -169,10 +171,10 @@ pub struct DeckArgs {
     #[arg(long, value_name = "FILE")]
     pub models: Option<PathBuf>,
     /// The NMOS model's name in the --models library (default: the process's nmos_model).
-    #[arg(long, value_name = "NAME", requires = "models", value_parser = cell_name)]
+    #[arg(long, value_name = "NAME", requires = "models", value_parser = model_name)]
     pub nmos_model: Option<String>,
     /// The PMOS model's name in the --models library (default: the process's pmos_model).
-    #[arg(long, value_name = "NAME", requires = "models", value_parser = cell_name)]
+    #[arg(long, value_name = "NAME", requires = "models", value_parser = model_name)]
     pub pmos_model: Option<String>,
     /// Add a capacitor to ground on every node of the gate and the reference inverter for its
     /// diffusions: diffusion_cap_ff_per_um x drawn width, a diffusion shared by two series devices
@@ -220,7 +222,8 @@ pub struct GateArgs {
     /// diffusion width facing the output goes there; ties keep the written order).
     #[arg(long, value_name = "INPUT")]
     pub critical: Option<String>,
-    /// The cell name in netlists and tables (default: the shorthand, or "cell").
+    /// The cell name in netlists and tables (default: the shorthand, or "cell"); not a reserved name
+    /// (vdd, vss, gnd, 0, the model names in use).
     #[arg(long, value_name = "NAME", value_parser = cell_name)]
     pub name: Option<String>,
     /// A process file (TOML): length, unit width, grid, minimum and maximum finger width, mobility
@@ -345,13 +348,24 @@ fn random_vectors(text: &str) -> Result<u64, String> {
     Ok(value)
 }
 
-/// A cell name: an identifier, so that netlists take it and spreadsheets never read it as a formula.
+/// A cell name: an identifier, so that netlists take it and spreadsheets never read it as a formula,
+/// and not a reserved name (a rail or ground; the models in use are checked when the gate is sized).
 pub fn cell_name(text: &str) -> Result<String, String> {
-    let mut characters = text.chars();
-    let first_ok = characters.next().is_some_and(|c| c.is_ascii_alphabetic() || c == '_');
-    if !first_ok || !characters.all(|c| c.is_ascii_alphanumeric() || c == '_') {
-        return Err(format!("a cell name is a letter or '_' followed by letters, digits and '_', found '{text}'"));
+    if !crate::names::is_identifier(text) {
+        return Err(format!(
+            "a cell name is a letter or '_' followed by letters, digits and '_', found '{}'",
+            crate::error::escaped(text)
+        ));
     }
+    if let Some(why) = crate::names::reserved_reason(text, &[]) {
+        return Err(format!("the cell name '{text}' is reserved: {why}"));
+    }
+    Ok(text.to_string())
+}
+
+/// A device model's name ([`crate::process::check_model_name`]).
+fn model_name(text: &str) -> Result<String, String> {
+    crate::process::check_model_name(text).map_err(|why| format!("{why}, found '{}'", crate::error::escaped(text)))?;
     Ok(text.to_string())
 }
 

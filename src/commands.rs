@@ -69,9 +69,15 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             write_output(&output, |out| output::write_paths(&sized, &listings, output.format, out))
         }
         Command::Deck { expression, gate, deck, output } => {
-            let options = gate_options(&gate)?;
+            let mut options = gate_options(&gate)?;
             // Every input is checked before anything is written.
             let deck = deck_options(&deck, &options.process)?;
+            if let Models::Library { nmos, pmos, .. } = &deck.models {
+                // The deck's models are the ones in use: no name of the gate may take theirs.
+                let process =
+                    Process { nmos_model: nmos.clone(), pmos_model: pmos.clone(), ..(*options.process).clone() };
+                options.process = Arc::new(process);
+            }
             let text = expression_text(&expression)?;
             // The elmore method sizes at the default load (fan-out 1) and ratio, as `paths` does.
             let sized = delay::size_gate(&text, &options, &sizing_delay(&gate, &options)?)?;
@@ -162,11 +168,15 @@ pub fn deck_options(args: &DeckArgs, process: &Process) -> Result<DeckOptions, E
             let include = String::from_utf8(absolute.into_os_string().into_encoded_bytes()).map_err(|error| {
                 Error::NotUtf8 { what: "the --models path".to_string(), byte: error.utf8_error().valid_up_to() }
             })?;
-            Models::Library {
-                include,
-                nmos: args.nmos_model.clone().unwrap_or_else(|| process.nmos_model.clone()),
-                pmos: args.pmos_model.clone().unwrap_or_else(|| process.pmos_model.clone()),
+            let nmos = args.nmos_model.clone().unwrap_or_else(|| process.nmos_model.clone());
+            let pmos = args.pmos_model.clone().unwrap_or_else(|| process.pmos_model.clone());
+            if nmos.eq_ignore_ascii_case(&pmos) {
+                return Err(Error::Usage(format!(
+                    "the NMOS and PMOS models must differ (netlists ignore case): both are '{nmos}'; give \
+                     --nmos-model and --pmos-model"
+                )));
             }
+            Models::Library { include, nmos, pmos }
         }
     };
     Ok(DeckOptions { models, diffusion_capacitance: args.diffusion_capacitance, summary: args.summary })

@@ -25,7 +25,7 @@ pub mod rc;
 use thiserror::Error;
 
 use crate::error::Error;
-use crate::expr::{GateFunction, read_gate};
+use crate::expr::{GateFunction, read_gate_with_models};
 use crate::figures::NodeDiffusion;
 use crate::gate::{GateOptions, SizedGate, Vector, device_name, size_function};
 use crate::network::{Network, NetworkKind};
@@ -853,14 +853,16 @@ pub fn written_order(function: &GateFunction, options: &GateOptions) -> Result<G
     Ok(GateOptions { stack_order: Some(Network::pair(function)), ..options.clone() })
 }
 
-fn read(text: &str) -> Result<GateFunction, Error> {
-    read_gate(text).map_err(|error| Error::Expression { error, source_text: text.to_string() })
+/// Read a gate, the process's model names reserved.
+fn read(text: &str, options: &GateOptions) -> Result<GateFunction, Error> {
+    read_gate_with_models(text, &options.process.model_names())
+        .map_err(|error| Error::Expression { error, source_text: text.to_string() })
 }
 
 /// Size a gate with any method and stack order, without timing it (for the `paths` command).
 pub fn size_gate(text: &str, options: &GateOptions, delay: &DelayOptions) -> Result<SizedGate, Error> {
     check_options(delay)?;
-    let function = read(text)?;
+    let function = read(text, options)?;
     match delay.stack_order {
         StackOrder::Default => size_read_gate(&function, options, delay),
         StackOrder::Written => size_read_gate(&function, &written_order(&function, options)?, delay),
@@ -877,7 +879,7 @@ pub fn size_and_time(
     process: Option<&Process>,
 ) -> Result<SizedGate, Error> {
     check_options(delay)?;
-    let function = read(text)?;
+    let function = read(text, options)?;
     let (mut gate, order_report) = match delay.stack_order {
         StackOrder::Default => (size_read_gate(&function, options, delay)?, None),
         StackOrder::Written => (size_read_gate(&function, &written_order(&function, options)?, delay)?, None),

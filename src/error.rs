@@ -148,7 +148,19 @@ pub enum ExprError {
         /// Where.
         span: Span,
     },
-    /// An input named like a node the gate itself uses.
+    /// An input or the output named with a reserved name: a rail, ground or a device model.
+    #[error("{role} '{name}' takes a reserved name: {why}")]
+    ReservedName {
+        /// `input` or `the output`.
+        role: &'static str,
+        /// The name.
+        name: String,
+        /// Why it is reserved.
+        why: String,
+        /// Where.
+        span: Span,
+    },
+    /// An input named like the output or like another input.
     #[error("input '{name}' clashes with {what}")]
     NameClash {
         /// The input.
@@ -176,6 +188,7 @@ impl ExprError {
             | ExprError::Binate { span, .. }
             | ExprError::ExclusiveOr { span }
             | ExprError::UnknownShorthand { span, .. }
+            | ExprError::ReservedName { span, .. }
             | ExprError::NameClash { span, .. } => *span,
         }
     }
@@ -288,6 +301,20 @@ impl Error {
             other => format!("error: {other}\n"),
         }
     }
+}
+
+/// `text` with every control character escaped (`\0`, `\u{7f}` ...), so that a message never
+/// echoes a NUL, an escape sequence or a line break from its input; everything else as it is.
+pub fn escaped(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for character in text.chars() {
+        if character.is_control() {
+            out.extend(character.escape_default());
+        } else {
+            out.push(character);
+        }
+    }
+    out
 }
 
 /// Line (1-based), column (1-based, in characters) and the line's text for a byte offset.

@@ -8,8 +8,9 @@ use std::sync::Arc;
 use serde::ser::{SerializeMap, Serializer};
 
 use crate::error::Error;
-use crate::expr::{GateFunction, read_gate};
+use crate::expr::{GateFunction, read_gate_with_models};
 use crate::figures::{self, DeviceLoad};
+use crate::names::reserved_reason;
 use crate::network::{Network, NetworkKind, Terminals, internal_prefix};
 use crate::paths;
 use crate::process::{Drawn, Process};
@@ -250,14 +251,37 @@ pub fn device_name(kind: NetworkKind, index: usize) -> String {
     name
 }
 
-/// Read `text` and size it.
+/// Read `text` (the process's model names reserved) and size it.
 pub fn size_text(text: &str, options: &GateOptions) -> Result<SizedGate, Error> {
-    let function = read_gate(text).map_err(|error| Error::Expression { error, source_text: text.to_string() })?;
+    let function = read_gate_with_models(text, &options.process.model_names())
+        .map_err(|error| Error::Expression { error, source_text: text.to_string() })?;
     size_function(function, options)
+}
+
+/// The cell name `options` give a gate: the name given, else the shorthand, else `cell`.
+fn cell_name(function: &GateFunction, options: &GateOptions) -> String {
+    options.name.clone().or_else(|| function.shorthand.clone()).unwrap_or_else(|| "cell".to_string())
+}
+
+/// No name that reaches a netlist may be reserved: the cell's, and (for a function read without the
+/// process's model names) the inputs' and the output's.
+fn check_reserved(function: &GateFunction, options: &GateOptions) -> Result<(), Error> {
+    let models = options.process.model_names();
+    let name = cell_name(function, options);
+    if let Some(why) = reserved_reason(&name, &models) {
+        return Err(Error::Usage(format!("the cell name '{name}' is reserved: {why}")));
+    }
+    for (role, name) in function.inputs.iter().map(|i| ("input", i)).chain([("the output", &function.output)]) {
+        if let Some(why) = reserved_reason(name, &models) {
+            return Err(Error::Usage(format!("{role} '{name}' takes a reserved name: {why}")));
+        }
+    }
+    Ok(())
 }
 
 /// Size a gate that has been read.
 pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<SizedGate, Error> {
+    check_reserved(&function, options)?;
     let sizing = options.sizing;
     let critical = match &options.critical {
         None => None,
@@ -301,8 +325,10 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
     let drawn_widths =
         [0, 1].map(|side| drawn[side].iter().map(|d| d.width_nm() / process.unit_width_nm).collect::<Vec<f64>>());
 
+    // Internal nodes are named unlike every input, the output and the models.
     let mut names: Vec<&str> = function.inputs.iter().map(String::as_str).collect();
     names.push(&function.output);
+    names.extend(process.model_names());
     let terminals: [Vec<Terminals>; 2] = [("n", 0), ("p", 1)]
         .map(|(base, side)| trees[side].nodes(count, &function.output, &internal_prefix(base, &names)));
 
@@ -352,7 +378,7 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
         .collect();
     let total_drawn_width_um = transistors.iter().map(|t| t.drawn_width_um).sum();
     let total: f64 = widths.iter().flatten().sum();
-    let name = options.name.clone().or_else(|| function.shorthand.clone()).unwrap_or_else(|| "cell".to_string());
+    let name = cell_name(&function, options);
     Ok(SizedGate {
         name,
         expression: function.text.clone(),

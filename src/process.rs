@@ -202,17 +202,22 @@ fn label(value: &Spanned<String>) -> Result<String, ProcessError> {
 
 fn model_name(key: &'static str, value: &Spanned<String>) -> Result<String, ProcessError> {
     let text = value.get_ref();
-    let valid = text.chars().next().is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
-        && text.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
-    if !valid {
-        return Err(ProcessError::Value {
-            key,
-            value: format!("'{text}'"),
-            why: "a model name is a letter or '_' followed by letters, digits and '_'".into(),
-            span: span_of(value),
-        });
+    let why = check_model_name(text).err();
+    if let Some(why) = why {
+        return Err(ProcessError::Value { key, value: format!("'{text}'"), why, span: span_of(value) });
     }
     Ok(text.clone())
+}
+
+/// A device model's name: an identifier, not a reserved name (a rail or ground).
+pub fn check_model_name(text: &str) -> Result<(), String> {
+    if !crate::names::is_identifier(text) {
+        return Err("a model name is a letter or '_' followed by letters, digits and '_'".into());
+    }
+    if let Some(why) = crate::names::reserved_reason(text, &[]) {
+        return Err(format!("a model may not take a reserved name: {why}"));
+    }
+    Ok(())
 }
 
 impl ProcessFile {
@@ -245,6 +250,17 @@ impl ProcessFile {
             diffusion_cap_ff_per_um: check("diffusion_cap_ff_per_um", &self.diffusion_cap_ff_per_um, NonNegative)?,
             load_ff: check("load_ff", &self.load_ff, Positive)?,
         };
+        if process.nmos_model.eq_ignore_ascii_case(&process.pmos_model) {
+            return Err(ProcessError::Value {
+                key: "pmos_model",
+                value: format!("'{}'", process.pmos_model),
+                why: format!(
+                    "the NMOS and PMOS models must differ (netlists ignore case): nmos_model is '{}'",
+                    process.nmos_model
+                ),
+                span: span_of(&self.pmos_model),
+            });
+        }
         let out_of_range = |key, value: &Spanned<f64>, why: String| ProcessError::Value {
             key,
             value: value.get_ref().to_string(),
@@ -353,6 +369,11 @@ impl Process {
         let finger_width_nm = self.snap_up_nm(wanted / fingers).max(self.narrowest_width_nm());
         // A float to integer cast saturates, so absurd sizes give a huge count, never a panic.
         Drawn { fingers: fingers as usize, finger_width_nm }
+    }
+
+    /// The names of the NMOS and PMOS models, which netlists reserve.
+    pub fn model_names(&self) -> [&str; 2] {
+        [&self.nmos_model, &self.pmos_model]
     }
 
     /// Physical width in nm of a device of relative size `w_over_l`, before snapping.
@@ -562,6 +583,21 @@ mod tests {
             with("min_width_nm", "502.0").replace("max_finger_width_nm = 20000.0", "max_finger_width_nm = 503.0");
         let error = Process::from_toml(&text).unwrap_err();
         assert!(error.to_string().starts_with("max_finger_width_nm"), "{error}");
+    }
+
+    #[test]
+    fn model_names_are_identifiers_not_reserved_and_distinct() {
+        for (nmos, pmos, start) in [
+            ("\"n-fet\"", "\"pmos\"", "nmos_model = 'n-fet': a model name is"),
+            ("\"Gnd\"", "\"pmos\"", "nmos_model = 'Gnd': a model may not take a reserved name"),
+            ("\"nmos\"", "\"vdd\"", "pmos_model = 'vdd': a model may not take a reserved name"),
+            ("\"fet\"", "\"FET\"", "pmos_model = 'FET': the NMOS and PMOS models must differ"),
+        ] {
+            let text = with("nmos_model", nmos);
+            let text = text.replace("pmos_model = \"pmos\"", &format!("pmos_model = {pmos}"));
+            let error = Process::from_toml(&text).unwrap_err();
+            assert!(error.to_string().starts_with(start), "{error}");
+        }
     }
 
     #[test]

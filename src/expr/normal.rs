@@ -5,6 +5,7 @@ use std::collections::HashMap;
 
 use crate::error::{ExprError, Span};
 use crate::expr::ast::{Expr, ExprKind};
+use crate::names::reserved_reason;
 
 /// Most input occurrences (transistors per network) in one gate.
 pub const MAX_DEVICES: usize = 10_000;
@@ -50,14 +51,28 @@ pub struct GateFunction {
 
 /// Default output node name.
 pub const DEFAULT_OUTPUT: &str = "y";
-/// Names of the supply rails in netlists; inputs and outputs may not take them.
-pub const RAILS: [&str; 2] = ["vdd", "vss"];
+/// What a gate's names may not be: the output's (for inputs), the reserved names and the models'.
+#[derive(Debug, Clone, Copy)]
+pub struct Reserved<'a> {
+    /// The output's name.
+    pub output: &'a str,
+    /// The device models in use.
+    pub models: &'a [&'a str],
+}
 
-/// Bring `expr` to the form `NOT f`; `output` names the output node.
+impl Reserved<'_> {
+    /// Whether an input may not be called `name` (compared without case).
+    pub fn takes(&self, name: &str) -> bool {
+        name.eq_ignore_ascii_case(self.output) || reserved_reason(name, self.models).is_some()
+    }
+}
+
+/// Bring `expr` to the form `NOT f`; `output` names the output node; `models` are reserved too.
 pub fn normalize(
     expr: &Expr,
     output: Option<(&str, Span)>,
     shorthand: Option<String>,
+    models: &[&str],
 ) -> Result<GateFunction, ExprError> {
     let mut builder = Builder { inputs: Vec::new(), index: HashMap::new(), literals: Vec::new(), wrong: None };
     // f = NOT expr, pushed to the leaves: a one-stage gate has only uncomplemented literals in f.
@@ -74,7 +89,7 @@ pub fn normalize(
         Some((name, span)) => (name.to_string(), span),
         None => (DEFAULT_OUTPUT.to_string(), expr.span),
     };
-    check_names(&builder, &output, output_span)?;
+    check_names(&builder, &output, output_span, models)?;
     Ok(GateFunction {
         output,
         inputs: builder.inputs,
@@ -197,20 +212,15 @@ impl GateFunction {
     }
 }
 
-/// Inputs may not clash with the output, the rails, or each other when case is ignored
-/// (netlists ignore case).
-fn check_names(builder: &Builder, output: &str, output_span: Span) -> Result<(), ExprError> {
+/// No name may be reserved; inputs may not clash with the output, or with each other when case is
+/// ignored (netlists ignore case).
+fn check_names(builder: &Builder, output: &str, output_span: Span, models: &[&str]) -> Result<(), ExprError> {
     let span_of =
         |input: usize| builder.literals.iter().find(|(l, _)| l.input == input).map_or(Span::default(), |(l, _)| l.span);
-    if RAILS.iter().any(|rail| rail.eq_ignore_ascii_case(output)) {
-        return Err(ExprError::NameClash {
-            name: output.to_string(),
-            what: "a supply rail name (vdd, vss) as the output".into(),
-            span: output_span,
-        });
+    if let Some(why) = reserved_reason(output, models) {
+        return Err(ExprError::ReservedName { role: "the output", name: output.to_string(), why, span: output_span });
     }
     let output_clash = |name: &str| name.eq_ignore_ascii_case(output);
-    let rail_clash = |name: &str| RAILS.iter().any(|rail| rail.eq_ignore_ascii_case(name));
     // Inputs equal but for case: a plain scan for few inputs, a hash map of lower-case names past that.
     let mut seen: HashMap<String, usize> = HashMap::new();
     for (index, name) in builder.inputs.iter().enumerate() {
@@ -221,12 +231,8 @@ fn check_names(builder: &Builder, output: &str, output_span: Span) -> Result<(),
                 span: span_of(index),
             });
         }
-        if rail_clash(name) {
-            return Err(ExprError::NameClash {
-                name: name.clone(),
-                what: "a supply rail name (vdd, vss)".into(),
-                span: span_of(index),
-            });
+        if let Some(why) = reserved_reason(name, models) {
+            return Err(ExprError::ReservedName { role: "input", name: name.clone(), why, span: span_of(index) });
         }
         let other = if builder.inputs.len() <= SCAN_INPUTS {
             builder.inputs[..index].iter().position(|earlier| earlier.eq_ignore_ascii_case(name))
@@ -303,8 +309,11 @@ mod tests {
             ("!a & b", 5, "'b'"),
             ("!(a ^ b)", 4, "exclusive or"),
             ("y = !(y & a)", 6, "own output"),
-            ("!(vdd & a)", 2, "supply rail"),
-            ("vss = !a", 0, "supply rail"),
+            ("!(vdd & a)", 2, "input 'vdd' takes a reserved name: 'vdd' is a supply rail"),
+            ("vss = !a", 0, "the output 'vss' takes a reserved name"),
+            ("VDD = !(a & b)", 0, "the output 'VDD' takes a reserved name: 'vdd' is a supply rail"),
+            ("!(GND & a)", 2, "input 'GND' takes a reserved name: 'gnd' is ground"),
+            ("gnd = !(a & b)", 0, "the output 'gnd' takes a reserved name"),
             ("!(a & A)", 6, "ignore case"),
         ];
         for (text, at, word) in cases {
@@ -312,6 +321,37 @@ mod tests {
             assert_eq!(error.span().start, at, "{text}: {error}");
             assert!(error.to_string().contains(word), "{text}: {error}");
         }
+    }
+
+    #[test]
+    fn model_names_are_reserved() {
+        use crate::expr::read_gate_with_models;
+        let models = ["nmos", "PMOS"];
+        for (text, at, word) in [
+            ("!(nmos & a)", 2, "input 'nmos' takes a reserved name: 'nmos' names a device model in use"),
+            ("!(a & Pmos)", 6, "input 'Pmos' takes a reserved name: 'PMOS' names a device model"),
+            ("NMOS = !a", 0, "the output 'NMOS' takes a reserved name"),
+        ] {
+            let error = read_gate_with_models(text, &models).expect_err(text);
+            assert_eq!(error.span().start, at, "{text}: {error}");
+            assert!(error.to_string().contains(word), "{text}: {error}");
+        }
+        // A shorthand's inputs skip a model's name: with a model called 'b', nand2 reads a and c.
+        let gate = read_gate_with_models("nand2", &["b", "p"]).unwrap();
+        assert_eq!(gate.inputs, ["a", "c"]);
+        // Without the models, the names are free.
+        assert!(read_gate("!(nmos & a)").is_ok());
+    }
+
+    #[test]
+    fn wide_shorthands_never_name_an_input_like_the_output() {
+        // aoi8881 and oai8881 have 25 inputs: the 25th letter is y, the default output.
+        for name in ["aoi8881", "oai8881", "oai88888888"] {
+            let gate = read_gate(name).unwrap_or_else(|e| panic!("{name}: {e}"));
+            assert!(!gate.inputs.iter().any(|i| i == "y"), "{name}");
+        }
+        let gate = read_gate("b = nand3").unwrap();
+        assert_eq!((gate.output.as_str(), gate.inputs.clone()), ("b", vec!["a".to_string(), "c".into(), "d".into()]));
     }
 
     #[test]

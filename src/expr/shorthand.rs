@@ -1,7 +1,9 @@
 //! The trade's gate names (`inv`, `nand2`, `aoi21`, `oai33` ...) as expression trees.
 //!
-//! Inputs are named `a`, `b`, `c` ... in order. AOI groups are ANDed then ORed; OAI groups are ORed
-//! then ANDed; the digits give the group sizes (`aoi21` = `!(a & b | c)`).
+//! Inputs are named `a`, `b`, `c` ... `z`, then `a1`, `b1` ... in order, skipping any name the gate
+//! cannot give an input: the output's (`y` unless named) and the reserved ones. AOI groups are ANDed
+//! then ORed; OAI groups are ORed then ANDed; the digits give the group sizes (`aoi21` =
+//! `!(a & b | c)`).
 
 use crate::error::{ExprError, Span};
 use crate::expr::ast::{Expr, ExprKind};
@@ -18,11 +20,14 @@ const KNOWN: &str = "known gates are inv, nand2..nand8, nor2..nor8, and aoi/oai 
 /// since a lone input would be a non-inverting buffer.
 ///
 /// Returns the expression tree, with every span on `span`, or why the name is not a known gate.
-pub fn expand(name: &str, span: Span) -> Result<Expr, ExprError> {
+/// `taken` says which names the inputs may not have (the output's, the reserved ones): they are
+/// skipped.
+pub fn expand(name: &str, span: Span, taken: &dyn Fn(&str) -> bool) -> Result<Expr, ExprError> {
+    let names = InputNames::new(taken);
     let lower = name.to_ascii_lowercase();
     let unknown = |why: String| ExprError::UnknownShorthand { name: name.to_string(), why, span };
     let groups: Vec<usize> = if lower == "inv" {
-        return Ok(not(input(0, span), span));
+        return Ok(not(names.input(0, span), span));
     } else if let Some(count) = lower.strip_prefix("nand").or_else(|| lower.strip_prefix("nor")) {
         let is_nand = lower.starts_with("nand");
         let family = if is_nand { "nand" } else { "nor" };
@@ -30,7 +35,7 @@ pub fn expand(name: &str, span: Span) -> Result<Expr, ExprError> {
             count.parse().ok().filter(|n| (2..=MAX_STACK).contains(n) && !count.starts_with('0')).ok_or_else(|| {
                 unknown(format!("{family} takes 2 to {MAX_STACK} inputs ({family}2 .. {family}{MAX_STACK})"))
             })?;
-        let operands: Vec<Expr> = (0..inputs).map(|i| input(i, span)).collect();
+        let operands: Vec<Expr> = (0..inputs).map(|i| names.input(i, span)).collect();
         let kind = if is_nand { ExprKind::And(operands) } else { ExprKind::Or(operands) };
         return Ok(not(Expr { kind, span }, span));
     } else if let Some(digits) = lower.strip_prefix("aoi").or_else(|| lower.strip_prefix("oai")) {
@@ -57,7 +62,7 @@ pub fn expand(name: &str, span: Span) -> Result<Expr, ExprError> {
     let mut next = 0;
     let mut terms = Vec::with_capacity(groups.len());
     for size in groups {
-        let members: Vec<Expr> = (next..next + size).map(|i| input(i, span)).collect();
+        let members: Vec<Expr> = (next..next + size).map(|i| names.input(i, span)).collect();
         next += size;
         terms.push(if size == 1 {
             members.into_iter().next().expect("one member")
@@ -71,7 +76,7 @@ pub fn expand(name: &str, span: Span) -> Result<Expr, ExprError> {
     Ok(not(Expr { kind, span }, span))
 }
 
-/// The name of the `index`th input: a, b, ... z, then a1, b1 ...
+/// The name of the `index`th candidate: a, b, ... z, then a1, b1 ...
 pub fn input_name(index: usize) -> String {
     let letter = (b'a' + (index % 26) as u8) as char;
     match index / 26 {
@@ -80,8 +85,23 @@ pub fn input_name(index: usize) -> String {
     }
 }
 
-fn input(index: usize, span: Span) -> Expr {
-    Expr { kind: ExprKind::Input(input_name(index)), span }
+/// The names a shorthand's inputs take: the candidates of [`input_name`] in order, less the taken ones.
+struct InputNames {
+    names: Vec<String>,
+}
+
+impl InputNames {
+    fn new(taken: &dyn Fn(&str) -> bool) -> InputNames {
+        // The largest shorthand has MAX_GROUPS x MAX_STACK inputs; a few candidates more cover the
+        // taken ones (the output and at most a few reserved names can look like a candidate).
+        let wanted = MAX_GROUPS * MAX_STACK;
+        let names = (0..).map(input_name).filter(|name| !taken(name)).take(wanted).collect();
+        InputNames { names }
+    }
+
+    fn input(&self, index: usize, span: Span) -> Expr {
+        Expr { kind: ExprKind::Input(self.names[index].clone()), span }
+    }
 }
 
 fn not(inner: Expr, span: Span) -> Expr {
@@ -93,7 +113,7 @@ mod tests {
     use super::*;
 
     fn text(name: &str) -> String {
-        expand(name, Span::default()).unwrap().to_text()
+        expand(name, Span::default(), &|name| name == "y").unwrap().to_text()
     }
 
     #[test]
@@ -130,7 +150,7 @@ mod tests {
     #[test]
     fn unknown_names_say_why() {
         for name in ["nand1", "nand9", "nand02", "nor", "aoi2", "aoi11", "aoi20", "oai123456789", "and2", "x", "buf"] {
-            let error = expand(name, Span::new(3, 3 + name.len())).unwrap_err();
+            let error = expand(name, Span::new(3, 3 + name.len()), &|_| false).unwrap_err();
             assert!(matches!(error, ExprError::UnknownShorthand { .. }), "{name}");
             assert_eq!(error.span().start, 3);
             assert!(error.to_string().contains(&format!("'{name}'")), "{error}");
@@ -142,5 +162,18 @@ mod tests {
         assert_eq!(input_name(0), "a");
         assert_eq!(input_name(25), "z");
         assert_eq!(input_name(26), "a1");
+    }
+
+    #[test]
+    fn input_names_skip_the_taken_ones() {
+        // 25 inputs reach the 25th letter, y, the default output: it is skipped, so z follows x.
+        let wide = expand("aoi8881", Span::default(), &|name| name == "y").unwrap().to_text();
+        assert!(wide.ends_with("w & x | z)") && !wide.contains(" y "), "{wide}");
+        let named = expand("nand3", Span::default(), &|name| name.eq_ignore_ascii_case("b")).unwrap();
+        assert_eq!(named.to_text(), "!(a & c & d)");
+        // The largest shorthand, 8 groups of 8, with several names taken.
+        let largest = expand("oai88888888", Span::default(), &|name| ["a", "y", "b1"].contains(&name)).unwrap();
+        let text = largest.to_text();
+        assert!(text.starts_with("!((b | c") && text.contains("x | z) & (a1 | c1 |"), "{text}");
     }
 }

@@ -578,3 +578,26 @@ fn names_that_differ_only_in_case_clash_and_elmore_is_refused() {
         .code(2)
         .stderr(predicate::str::contains("--method elmore --fanout"));
 }
+
+#[test]
+fn reserved_names_in_a_library_are_bad_gates() {
+    // A gate named like a rail, an expression with ground as an input, one with the process's model
+    // as an input: each is reported with its place; the good gate is still written.
+    let library = "[process]\nname = \"p\"\nmobility_ratio = 2.0\nlength_nm = 1000.0\nunit_width_nm = 1000.0\n\
+                   grid_nm = 5.0\nmin_width_nm = 500.0\nmax_finger_width_nm = 20000.0\nsupply_v = 3.3\n\
+                   nmos_model = \"nfet\"\npmos_model = \"pfet\"\nnmos_threshold_v = 0.7\npmos_threshold_v = 0.7\n\
+                   nmos_kp_ua_per_v2 = 100.0\npmos_kp_ua_per_v2 = 50.0\ngate_cap_ff_per_um = 1.7\n\
+                   diffusion_cap_ff_per_um = 1.0\nload_ff = 20.0\n\n\
+                   [[gate]]\nname = \"Vss\"\nexpr = \"inv\"\n\n\
+                   [[gate]]\nname = \"grounded\"\nexpr = \"!(a & gnd)\"\n\n\
+                   [[gate]]\nname = \"modelled\"\nexpr = \"!(NFET | b)\"\n\n\
+                   [[gate]]\nname = \"fine\"\nexpr = \"!(nmos | b)\"\n";
+    let output = widthwise().args(["batch", "-", "--format", "spice"]).write_stdin(library).output().unwrap();
+    assert_eq!(output.status.code(), Some(2));
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    assert!(stderr.contains("gate 'Vss': the cell name 'Vss' is reserved") && stderr.contains("line 21"), "{stderr}");
+    assert!(stderr.contains("gate 'grounded': input 'gnd' takes a reserved name"), "{stderr}");
+    assert!(stderr.contains("gate 'modelled': input 'NFET' takes a reserved name"), "{stderr}");
+    let stdout = String::from_utf8(output.stdout).unwrap();
+    assert!(stdout.contains(".subckt fine_x1 nmos b y vdd vss"), "{stdout}");
+}

@@ -82,3 +82,27 @@ fn a_missing_model_library_writes_nothing() {
     // Model names without a library are a usage error.
     widthwise().args(["deck", "nand2", "--nmos-model", "nch"]).assert().code(2);
 }
+
+#[test]
+fn model_names_of_a_library_are_reserved_and_must_differ() {
+    let directory = tempfile::tempdir().unwrap();
+    let library = directory.path().join("models.lib");
+    std::fs::write(&library, "* models\n").unwrap();
+    let library = library.to_str().unwrap();
+    widthwise()
+        .args(["deck", "!(mine & a)", "--models", library, "--nmos-model", "mine", "--pmos-model", "yours"])
+        .assert()
+        .code(2)
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("input 'mine' takes a reserved name"));
+    widthwise()
+        .args(["deck", "nand2", "--models", library, "--nmos-model", "same", "--pmos-model", "SAME"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("must differ"));
+    widthwise()
+        .args(["deck", "nand2", "--models", library, "--nmos-model", "gnd"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("reserved"));
+}

@@ -188,3 +188,23 @@ fn the_example_process_files_are_valid() {
     }
     assert_eq!(count, 2);
 }
+
+#[test]
+fn model_names_may_not_be_reserved_or_equal() {
+    for (nmos, pmos, message) in [
+        ("\"gnd\"", "\"pmos\"", "nmos_model = 'gnd': a model may not take a reserved name"),
+        ("\"nmos\"", "\"VSS\"", "pmos_model = 'VSS': a model may not take a reserved name"),
+        ("\"dev\"", "\"DEV\"", "pmos_model = 'DEV': the NMOS and PMOS models must differ"),
+    ] {
+        let text = with_value(&with_value(&default_process_text(), "nmos_model", nmos), "pmos_model", pmos);
+        let directory = tempfile::tempdir().unwrap();
+        let path = directory.path().join("process.toml");
+        std::fs::write(&path, text).unwrap();
+        widthwise()
+            .args(["size", "nand2", "--process"])
+            .arg(&path)
+            .assert()
+            .code(2)
+            .stderr(predicate::str::contains(message));
+    }
+}

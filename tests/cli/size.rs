@@ -156,3 +156,52 @@ fn written_stack_order_keeps_the_expression_order() {
         .code(2)
         .stderr(predicate::str::contains("both choose the order"));
 }
+
+#[test]
+fn reserved_names_never_reach_a_netlist() {
+    // Compared without case: the rails, ground (gnd, 0) and the models in use (the built-in
+    // process's nmos and pmos).
+    for (args, message) in [
+        (vec!["!(gnd & a)"], "input 'gnd' takes a reserved name"),
+        (vec!["!(a & Gnd)"], "input 'Gnd' takes a reserved name"),
+        (vec!["GND = !(a & b)"], "the output 'GND' takes a reserved name"),
+        (vec!["VDD = !(a & b)"], "the output 'VDD' takes a reserved name"),
+        (vec!["!(nmos & a)"], "input 'nmos' takes a reserved name: 'nmos' names a device model"),
+        (vec!["Pmos = !a"], "the output 'Pmos' takes a reserved name"),
+        (vec!["nand2", "--name", "gnd"], "the cell name 'gnd' is reserved"),
+        (vec!["nand2", "--name", "NMOS"], "the cell name 'NMOS' is reserved"),
+    ] {
+        widthwise()
+            .arg("size")
+            .args(&args)
+            .args(["--format", "spice"])
+            .assert()
+            .code(2)
+            .stdout(predicate::str::is_empty())
+            .stderr(predicate::str::contains(message));
+    }
+    // With a process whose models are called fast_n and fast_p, nmos is an ordinary input again.
+    let directory = tempfile::tempdir().unwrap();
+    let process = directory.path().join("process.toml");
+    let text = String::from_utf8(widthwise().arg("process").output().unwrap().stdout).unwrap();
+    std::fs::write(&process, text.replace("\"nmos\"", "\"fast_n\"").replace("\"pmos\"", "\"fast_p\"")).unwrap();
+    widthwise().args(["size", "!(nmos & a)", "--process"]).arg(&process).assert().success();
+    widthwise()
+        .args(["size", "!(FAST_N & a)", "--process"])
+        .arg(&process)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("'fast_n' names a device model"));
+}
+
+#[test]
+fn wide_shorthands_size() {
+    // 25 and more inputs: the generated names skip y, the output.
+    for name in ["aoi8881", "oai8881"] {
+        let output = widthwise().args(["size", name, "--format", "csv", "--rows", "inputs"]).output().unwrap();
+        assert!(output.status.success(), "{name}: {}", String::from_utf8_lossy(&output.stderr));
+        let text = String::from_utf8(output.stdout).unwrap();
+        assert_eq!(text.lines().count(), 26, "{name}: a header and 25 inputs");
+        assert!(!text.contains(",y,") && text.contains(",z,"), "{text}");
+    }
+}

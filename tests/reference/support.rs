@@ -54,11 +54,7 @@ pub fn note(line: &str) {
 
 /// Simulate a deck with `ngspice -b` in a fresh directory; ngspice's standard output.
 pub fn run_ngspice(deck: &str) -> String {
-    let directory = tempfile::tempdir().expect("a temporary directory");
-    let path = directory.path().join("deck.sp");
-    std::fs::write(&path, deck).expect("the deck is written");
-    let output =
-        Command::new("ngspice").arg("-b").arg(&path).current_dir(directory.path()).output().expect("ngspice runs");
+    let output = ngspice_output(deck);
     let stdout = String::from_utf8_lossy(&output.stdout).into_owned();
     assert!(
         output.status.success(),
@@ -67,6 +63,15 @@ pub fn run_ngspice(deck: &str) -> String {
         String::from_utf8_lossy(&output.stderr)
     );
     stdout
+}
+
+/// Run `ngspice -b` on a deck in a fresh directory, whatever its outcome (ngspice exits 0 even when
+/// it rejects a line or a measurement: its messages start with `Error`).
+pub fn ngspice_output(deck: &str) -> std::process::Output {
+    let directory = tempfile::tempdir().expect("a temporary directory");
+    let path = directory.path().join("deck.sp");
+    std::fs::write(&path, deck).expect("the deck is written");
+    Command::new("ngspice").arg("-b").arg(&path).current_dir(directory.path()).output().expect("ngspice runs")
 }
 
 /// Measurement results from ngspice's output: lines `name = value ...` with a lowercase name and a

@@ -1,0 +1,57 @@
+//! Names that reach netlists: identifiers, and the names no input, output or cell may take because a
+//! netlist or a simulator gives them a meaning of their own.
+
+/// Whether `text` is an identifier: a letter or '_', then letters, digits and '_' (ASCII). Input
+/// and output names (as the expression lexer reads them), cell, gate and model names all are.
+pub fn is_identifier(text: &str) -> bool {
+    let mut characters = text.chars();
+    characters.next().is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
+        && characters.all(|c| c.is_ascii_alphanumeric() || c == '_')
+}
+
+/// Names no input, output or cell may take, compared without case: the supply rails of every
+/// netlist (`vdd`, `vss`) and ground (`0`, and `gnd`, which ngspice reads as ground). The names of
+/// the device models in use are reserved too (see [`reserved_reason`]).
+pub const RESERVED: [&str; 4] = ["vdd", "vss", "gnd", "0"];
+
+/// Why `name` is reserved, if it is: one of [`RESERVED`], or one of `models` (the device models the
+/// netlists name), compared without case.
+pub fn reserved_reason(name: &str, models: &[&str]) -> Option<String> {
+    let lower = name.to_ascii_lowercase();
+    match lower.as_str() {
+        "vdd" | "vss" => Some(format!("'{lower}' is a supply rail of every netlist")),
+        "gnd" | "0" => Some(format!("'{lower}' is ground to a simulator (ngspice reads 0 and gnd as node 0)")),
+        _ => models.iter().find(|model| model.eq_ignore_ascii_case(name)).map(|model| {
+            format!(
+                "'{model}' names a device model in use (the process's nmos_model or pmos_model, or a deck's \
+                 --nmos-model or --pmos-model)"
+            )
+        }),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn reserved_names_ignore_case() {
+        for name in RESERVED.iter().copied().chain(["VDD", "Vss", "GND"]) {
+            assert!(reserved_reason(name, &[]).is_some(), "{name}");
+        }
+        assert!(reserved_reason("NMOS", &["nmos", "pmos"]).is_some());
+        for free in ["vdd1", "gnd_a", "nmos", "v", "o"] {
+            assert_eq!(reserved_reason(free, &[]), None, "{free}");
+        }
+    }
+
+    #[test]
+    fn identifiers() {
+        for good in ["a", "_", "a1", "Nand_2"] {
+            assert!(is_identifier(good), "{good}");
+        }
+        for bad in ["", "1a", "a-b", "a b", "=x", "\u{e9}"] {
+            assert!(!is_identifier(bad), "{bad}");
+        }
+    }
+}
