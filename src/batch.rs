@@ -20,6 +20,7 @@ use serde::de::{SeqAccess, Visitor};
 use toml::Spanned;
 use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
+use crate::bounds;
 use crate::cli::{OutputArgs, cell_name};
 use crate::commands::{Diagnostics, diagnose, open_regular, read_bounded, write_output};
 use crate::delay::{self, StackOrder};
@@ -203,15 +204,7 @@ fn check_drives(written: &Spanned<Drives>) -> Result<Vec<(f64, Span)>, (String, 
         Drives::Many(list) => list.iter().map(|d| (*d.get_ref(), to_span(d.span()))).collect(),
     };
     for &(drive, span) in &drives {
-        if !drive.is_finite() || drive <= 0.0 || drive > crate::cli::MAX_SIZING_VALUE {
-            return Err((
-                format!(
-                    "drive {drive}: a drive must be a positive finite number up to {:e}",
-                    crate::cli::MAX_SIZING_VALUE
-                ),
-                span,
-            ));
-        }
+        bounds::SIZING.check(drive).map_err(|why| (format!("drive {}: a drive {why}", bounds::show(drive)), span))?;
     }
     Ok(drives)
 }
@@ -469,16 +462,10 @@ impl Library {
             None => process.mobility_ratio,
             Some(written) => {
                 let value = *written.get_ref();
-                if !value.is_finite() || value <= 0.0 || value > crate::cli::MAX_SIZING_VALUE {
-                    return Err(source.error(
-                        format!(
-                            "[defaults]: mobility_ratio = {value}: must be a positive finite number up to {:e}",
-                            crate::cli::MAX_SIZING_VALUE
-                        ),
-                        Some(written.span()),
-                    ));
-                }
-                value
+                bounds::SIZING.check(value).map_err(|why| {
+                    let value = bounds::show(value);
+                    source.error(format!("[defaults]: mobility_ratio = {value}: {why}"), Some(written.span()))
+                })?
             }
         };
         let default_drives = match &defaults.drive {
@@ -1019,7 +1006,13 @@ mod tests {
 
     #[test]
     fn bad_drives() {
-        for (drive, why) in [("0", "positive"), ("[1, -2]", "positive"), ("[]", "empty"), ("\"x\"", "expected")] {
+        for (drive, why) in [
+            ("0", "from 1e-6 up to 1e6"),
+            ("[1, -2]", "1e-6"),
+            ("[1, 5e-324]", "1e-6"),
+            ("[]", "empty"),
+            ("\"x\"", "expected"),
+        ] {
             let rendered = problem(&format!("[[gate]]\nname = \"g\"\nexpr = \"inv\"\ndrive = {drive}\n"), 0);
             assert!(rendered.contains(why) && rendered.contains("line 4"), "{drive}: {rendered}");
         }

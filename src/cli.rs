@@ -5,6 +5,7 @@ use std::path::PathBuf;
 
 use clap::{Args, Parser, Subcommand};
 
+use crate::bounds;
 use crate::delay::{DelayError, DelayOptions, Load, StackOrder};
 use crate::output::{Format, Rows};
 use crate::paths::MAX_LISTED_PATHS;
@@ -33,7 +34,8 @@ Limits: expressions up to 1 MiB and 256 levels of parentheses; up to 10000 input
 names in one listing (paths x devices on the longest path); the exact worst case over input vectors
 (for repeated inputs) up to 16 inputs; verify checks every input vector up to 30 inputs, a stated
 pseudo-random sample (at most 2^30 vectors) past that; process files up to 1 MiB, library files up to
-64 MiB; drive, mobility ratio and reference W/L up to 1e6; one path listing builds at most 5000000
+64 MiB; drive, mobility ratio and reference W/L from 1e-6 to 1e6, fan-out, load and diffusion
+ratio 0 or 1e-6 to 1e6, process values each in its range (README), 1000000 fingers per device; one path listing builds at most 5000000
 partial paths; decks up to 256 input occurrences per network; delays up to 1000
 input occurrences per network, the stack-order search up to 64, the elmore method up to 96 transistors
 and 10000 paths per network.
@@ -304,26 +306,20 @@ pub struct OutputArgs {
     pub output: Option<PathBuf>,
 }
 
-/// Largest drive, mobility ratio or reference W/L taken: far past any real cell, and small enough
-/// that widths, resistances and finger counts stay well inside floating-point range.
-pub const MAX_SIZING_VALUE: f64 = 1e6;
-
-/// A positive, finite number, at most [`MAX_SIZING_VALUE`].
+/// A drive, mobility ratio or reference W/L: within [`bounds::SIZING`].
 pub fn positive_number(text: &str) -> Result<f64, String> {
-    let value: f64 = text.trim().parse().map_err(|_| format!("'{text}' is not a number"))?;
-    if !value.is_finite() || value <= 0.0 || value > MAX_SIZING_VALUE {
-        return Err(format!("must be a positive finite number up to {MAX_SIZING_VALUE:e}, found '{text}'"));
-    }
-    Ok(value)
+    within(text, &bounds::SIZING)
 }
 
-/// A finite number, zero or more.
+/// A fan-out, load or diffusion ratio: within [`bounds::LOAD`].
 pub fn non_negative_number(text: &str) -> Result<f64, String> {
-    let value: f64 = text.trim().parse().map_err(|_| format!("'{text}' is not a number"))?;
-    if !value.is_finite() || value < 0.0 {
-        return Err(format!("must be a finite number, zero or more, found '{text}'"));
-    }
-    Ok(value)
+    within(text, &bounds::LOAD)
+}
+
+/// A number within `bound`, or what it must be and what was found.
+fn within(text: &str, bound: &bounds::Bound) -> Result<f64, String> {
+    let value: f64 = text.trim().parse().map_err(|_| format!("'{}' is not a number", crate::error::escaped(text)))?;
+    bound.check(value).map_err(|why| format!("{why}, found '{}'", crate::error::escaped(text)))
 }
 
 fn reference_inverter(text: &str) -> Result<Reference, String> {
@@ -376,8 +372,12 @@ mod tests {
     #[test]
     fn numbers_must_be_positive_and_finite() {
         assert_eq!(positive_number("2.5"), Ok(2.5));
-        for bad in ["-1", "0", "nan", "NaN", "inf", "x", "", "1e7"] {
+        for bad in ["-1", "0", "nan", "NaN", "inf", "x", "", "1e7", "5e-324", "1e-7"] {
             assert!(positive_number(bad).is_err(), "{bad}");
+        }
+        assert_eq!(non_negative_number("0"), Ok(0.0));
+        for bad in ["-1", "1e308", "5e-324", "nan"] {
+            assert!(non_negative_number(bad).is_err(), "{bad}");
         }
     }
 

@@ -116,12 +116,12 @@ pub fn default_diffusion_ratio(process_file: Option<&Process>) -> Result<f64, De
 #[derive(Debug, Clone, PartialEq, Error)]
 pub enum DelayError {
     /// An option out of range.
-    #[error("{what} must be {rule}, found '{value}'")]
+    #[error("{what} {rule}, found '{value}'")]
     Option {
         /// Which option.
         what: &'static str,
-        /// What it must be.
-        rule: &'static str,
+        /// What it must be (`must be ...`).
+        rule: String,
         /// The value.
         value: f64,
     },
@@ -667,21 +667,18 @@ fn tau(sizing: &SizingOptions, edge: Edge) -> f64 {
     sizing.unit_resistance(edge.network()) / width * sizing.reference.input_capacitance()
 }
 
-/// Check the options.
+/// Check the options: the diffusion ratio and the load within [`crate::bounds::LOAD`].
 pub fn check_options(options: &DelayOptions) -> Result<(), DelayError> {
-    let ratio = options.diffusion_ratio;
-    if !(ratio.is_finite() && ratio >= 0.0) {
-        return Err(DelayError::Option { what: "the diffusion ratio", rule: "a finite number >= 0", value: ratio });
-    }
-    match options.load {
-        Load::Fanout(h) if !(h.is_finite() && h >= 0.0) => {
-            Err(DelayError::Option { what: "the fan-out", rule: "a finite number >= 0", value: h })
+    let (what, value) = match options.load {
+        Load::Fanout(h) => ("the fan-out", h),
+        Load::Capacitance(c) => ("the load", c),
+    };
+    for (what, value) in [("the diffusion ratio", options.diffusion_ratio), (what, value)] {
+        if let Err(rule) = crate::bounds::LOAD.check(value) {
+            return Err(DelayError::Option { what, rule, value });
         }
-        Load::Capacitance(c) if !(c.is_finite() && c >= 0.0) => {
-            Err(DelayError::Option { what: "the load", rule: "a finite number >= 0", value: c })
-        }
-        _ => Ok(()),
     }
+    Ok(())
 }
 
 /// A measured transition.

@@ -7,6 +7,7 @@ use std::sync::Arc;
 
 use serde::ser::{SerializeMap, Serializer};
 
+use crate::bounds;
 use crate::error::Error;
 use crate::expr::{GateFunction, read_gate_with_models};
 use crate::figures::{self, DeviceLoad};
@@ -279,10 +280,44 @@ fn check_reserved(function: &GateFunction, options: &GateOptions) -> Result<(), 
     Ok(())
 }
 
+/// The sizing values within [`bounds::SIZING`], as every reader checks them (for options built
+/// in code).
+fn check_sizing(sizing: &SizingOptions) -> Result<(), Error> {
+    for (what, value) in [
+        ("the drive", sizing.drive),
+        ("the mobility ratio", sizing.mobility_ratio),
+        ("the reference NMOS W/L", sizing.reference.nmos),
+        ("the reference PMOS W/L", sizing.reference.pmos),
+    ] {
+        bounds::SIZING.check(value).map_err(|why| Error::Usage(format!("{what} {why}, found {value}")))?;
+    }
+    Ok(())
+}
+
+/// Every device drawn with at most [`bounds::MAX_FINGERS`] fingers.
+fn check_fingers(drawn: &[Vec<Drawn>; 2], widths: &[Vec<f64>; 2]) -> Result<(), Error> {
+    for (kind, side) in NetworkKind::BOTH.into_iter().zip(0..) {
+        for (device, d) in drawn[side].iter().enumerate() {
+            if d.fingers > bounds::MAX_FINGERS {
+                return Err(Error::Usage(format!(
+                    "{} (W/L {}) would be drawn as {} fingers; the limit is {} fingers per device: a smaller \
+                     drive or reference, a larger max_finger_width_nm or a smaller unit_width_nm keeps it in",
+                    device_name(kind, device),
+                    widths[side][device],
+                    d.fingers,
+                    bounds::MAX_FINGERS
+                )));
+            }
+        }
+    }
+    Ok(())
+}
+
 /// Size a gate that has been read.
 pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<SizedGate, Error> {
     check_reserved(&function, options)?;
     let sizing = options.sizing;
+    check_sizing(&sizing)?;
     let critical = match &options.critical {
         None => None,
         Some(name) => Some(function.inputs.iter().position(|i| i == name).ok_or_else(|| {
@@ -322,6 +357,7 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
     };
     let process = &options.process;
     let drawn: [Vec<Drawn>; 2] = [0, 1].map(|side| widths[side].iter().map(|&w| process.draw(w)).collect());
+    check_fingers(&drawn, &widths)?;
     let drawn_widths =
         [0, 1].map(|side| drawn[side].iter().map(|d| d.width_nm() / process.unit_width_nm).collect::<Vec<f64>>());
 

@@ -10,6 +10,7 @@
 #![forbid(unsafe_code)]
 
 pub mod batch;
+pub mod bounds;
 pub mod cli;
 pub mod commands;
 pub mod delay;

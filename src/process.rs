@@ -11,6 +11,7 @@ use serde::Deserialize;
 use thiserror::Error;
 use toml::Spanned;
 
+use crate::bounds::{Bound, show};
 use crate::error::Span;
 
 /// A process, as sizes, netlists and decks need it.
@@ -161,25 +162,10 @@ fn span_of<T>(value: &Spanned<T>) -> Span {
     Span::new(range.start, range.end)
 }
 
-/// How a value must be.
-#[derive(Clone, Copy)]
-enum Rule {
-    Positive,
-    NonNegative,
-}
-
-fn check(key: &'static str, value: &Spanned<f64>, rule: Rule) -> Result<f64, ProcessError> {
+/// A value within its bound ([`crate::bounds`]), or an error naming the key and its place.
+fn check(key: &'static str, value: &Spanned<f64>, bound: Bound) -> Result<f64, ProcessError> {
     let number = *value.get_ref();
-    let bad =
-        |why: &str| ProcessError::Value { key, value: number.to_string(), why: why.to_string(), span: span_of(value) };
-    if !number.is_finite() {
-        return Err(bad("must be a finite number"));
-    }
-    match rule {
-        Rule::Positive if number <= 0.0 => Err(bad("must be greater than zero")),
-        Rule::NonNegative if number < 0.0 => Err(bad("must not be negative")),
-        _ => Ok(number),
-    }
+    bound.check(number).map_err(|why| ProcessError::Value { key, value: show(number), why, span: span_of(value) })
 }
 
 /// A process name goes into reports and into a CSV column: no control characters, and no first
@@ -223,32 +209,36 @@ pub fn check_model_name(text: &str) -> Result<(), String> {
 impl ProcessFile {
     /// Check every value and build the process.
     pub fn validate(&self) -> Result<Process, ProcessError> {
-        use Rule::*;
+        use crate::bounds::{BODY_EFFECT, CAPACITANCE_PER_UM, GRID_NM, KP, LENGTH_NM, LOAD_FF, SIZING, VOLTAGE};
         let process = Process {
             name: match &self.name {
                 Some(name) => label(name)?,
                 None => "unnamed process".to_string(),
             },
-            mobility_ratio: check("mobility_ratio", &self.mobility_ratio, Positive)?,
-            length_nm: check("length_nm", &self.length_nm, Positive)?,
-            unit_width_nm: check("unit_width_nm", &self.unit_width_nm, Positive)?,
-            grid_nm: check("grid_nm", &self.grid_nm, Positive)?,
-            min_width_nm: check("min_width_nm", &self.min_width_nm, Positive)?,
-            max_finger_width_nm: check("max_finger_width_nm", &self.max_finger_width_nm, Positive)?,
-            supply_v: check("supply_v", &self.supply_v, Positive)?,
+            mobility_ratio: check("mobility_ratio", &self.mobility_ratio, SIZING)?,
+            length_nm: check("length_nm", &self.length_nm, LENGTH_NM)?,
+            unit_width_nm: check("unit_width_nm", &self.unit_width_nm, LENGTH_NM)?,
+            grid_nm: check("grid_nm", &self.grid_nm, GRID_NM)?,
+            min_width_nm: check("min_width_nm", &self.min_width_nm, LENGTH_NM)?,
+            max_finger_width_nm: check("max_finger_width_nm", &self.max_finger_width_nm, LENGTH_NM)?,
+            supply_v: check("supply_v", &self.supply_v, VOLTAGE)?,
             nmos_model: model_name("nmos_model", &self.nmos_model)?,
             pmos_model: model_name("pmos_model", &self.pmos_model)?,
-            nmos_threshold_v: check("nmos_threshold_v", &self.nmos_threshold_v, Positive)?,
-            pmos_threshold_v: check("pmos_threshold_v", &self.pmos_threshold_v, Positive)?,
-            nmos_kp_ua_per_v2: check("nmos_kp_ua_per_v2", &self.nmos_kp_ua_per_v2, Positive)?,
-            pmos_kp_ua_per_v2: check("pmos_kp_ua_per_v2", &self.pmos_kp_ua_per_v2, Positive)?,
+            nmos_threshold_v: check("nmos_threshold_v", &self.nmos_threshold_v, VOLTAGE)?,
+            pmos_threshold_v: check("pmos_threshold_v", &self.pmos_threshold_v, VOLTAGE)?,
+            nmos_kp_ua_per_v2: check("nmos_kp_ua_per_v2", &self.nmos_kp_ua_per_v2, KP)?,
+            pmos_kp_ua_per_v2: check("pmos_kp_ua_per_v2", &self.pmos_kp_ua_per_v2, KP)?,
             body_effect_sqrt_v: match &self.body_effect_sqrt_v {
-                Some(value) => check("body_effect_sqrt_v", value, NonNegative)?,
+                Some(value) => check("body_effect_sqrt_v", value, BODY_EFFECT)?,
                 None => 0.0,
             },
-            gate_cap_ff_per_um: check("gate_cap_ff_per_um", &self.gate_cap_ff_per_um, NonNegative)?,
-            diffusion_cap_ff_per_um: check("diffusion_cap_ff_per_um", &self.diffusion_cap_ff_per_um, NonNegative)?,
-            load_ff: check("load_ff", &self.load_ff, Positive)?,
+            gate_cap_ff_per_um: check("gate_cap_ff_per_um", &self.gate_cap_ff_per_um, CAPACITANCE_PER_UM)?,
+            diffusion_cap_ff_per_um: check(
+                "diffusion_cap_ff_per_um",
+                &self.diffusion_cap_ff_per_um,
+                CAPACITANCE_PER_UM,
+            )?,
+            load_ff: check("load_ff", &self.load_ff, LOAD_FF)?,
         };
         if process.nmos_model.eq_ignore_ascii_case(&process.pmos_model) {
             return Err(ProcessError::Value {

@@ -235,7 +235,7 @@ pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program
         if load.is_nan() || load <= 0.0 {
             return Err(DelayError::Option {
                 what: "the load for the elmore method (with no load the delays do not depend on scale)",
-                rule: "positive",
+                rule: "must be positive".to_string(),
                 value: load,
             });
         }

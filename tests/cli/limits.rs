@@ -205,9 +205,52 @@ fn deck_size_is_bounded() {
 
 #[test]
 fn sizing_values_are_bounded() {
-    for args in [["--drive", "1e7"], ["--mobility-ratio", "2e6"], ["--reference", "1:1e9"]] {
-        widthwise().args(["size", "nand2"]).args(args).assert().code(2).stderr(predicate::str::contains("up to 1e6"));
+    // One range per quantity wherever it is given (src/bounds.rs); past it, exit 2 and no output.
+    for args in [
+        ["--drive", "1e7"],
+        ["--drive", "5e-324"],
+        ["--mobility-ratio", "2e6"],
+        ["--mobility-ratio", "1e-7"],
+        ["--reference", "1:1e9"],
+        ["--reference", "1e-300:1"],
+        ["--fanout", "1e308"],
+        ["--load", "1e308"],
+        ["--diffusion-ratio", "1e308"],
+        ["--fanout", "5e-324"],
+    ] {
+        widthwise()
+            .args(["size", "nand2"])
+            .args(args)
+            .assert()
+            .code(2)
+            .stdout(predicate::str::is_empty())
+            .stderr(predicate::str::contains("up to 1e6"));
     }
+    // The ends are taken; 0 turns a load off.
+    for args in [["--drive", "1e-6"], ["--drive", "1e6"], ["--fanout", "0"], ["--load", "1e6"]] {
+        widthwise().args(["size", "nand2", "--format", "csv", "--rows", "delays"]).args(args).assert().success();
+    }
+    // A library's drives and [defaults] the same way (a bad gate is reported, nothing of it written).
+    for (text, message) in [
+        ("[[gate]]\nname = \"g\"\nexpr = \"inv\"\ndrive = [1, 5e-324]\n", "drive 5e-324: a drive must be"),
+        ("[[gate]]\nname = \"g\"\nexpr = \"inv\"\ndrive = 1e300\n", "drive 1e300: a drive must be"),
+        ("[defaults]\nmobility_ratio = 1e-9\n", "mobility_ratio = 1e-9: must be a number from 1e-6 up to 1e6"),
+    ] {
+        widthwise()
+            .args(["batch", "-"])
+            .write_stdin(text)
+            .assert()
+            .code(2)
+            .stdout(predicate::str::contains("g_x").not())
+            .stderr(predicate::str::contains(message));
+    }
+    // Sizes far past any cell are refused by their drawing: at most 1,000,000 fingers per device.
+    widthwise()
+        .args(["size", "!(a & b & c & d & e & f & g & h & i & j)", "--drive", "1e6", "--reference", "1e6:1e6"])
+        .assert()
+        .code(2)
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("the limit is 1000000 fingers per device"));
     // Far from unit size the worst path is still found: ties are relative, not absolute.
     let output =
         widthwise().args(["size", "!(a & (b | c & d))", "--drive", "1e6", "--format", "json"]).output().unwrap();

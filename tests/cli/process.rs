@@ -208,3 +208,30 @@ fn model_names_may_not_be_reserved_or_equal() {
             .stderr(predicate::str::contains(message));
     }
 }
+
+#[test]
+fn process_values_are_held_to_documented_ranges() {
+    // Each once wrote a netlist no simulator takes: m=18446744073709551615, L=0u, W=infu.
+    for (key, value, message) in [
+        ("mobility_ratio", "1e300", "mobility_ratio = 1e300: must be a number from 1e-6 up to 1e6"),
+        ("length_nm", "1e-4", "length_nm = 1e-4: must be a number from 1 up to 1e6 nm"),
+        ("grid_nm", "1e-308", "grid_nm = 1e-308: must be a number from 0.001 up to 1e6 nm"),
+        ("unit_width_nm", "1e7", "unit_width_nm = 1e7: must be a number from 1 up to 1e6 nm"),
+        ("supply_v", "1e9", "supply_v = 1e9: must be a number from 0.001 up to 1000 V"),
+        ("nmos_kp_ua_per_v2", "1e300", "nmos_kp_ua_per_v2 = 1e300: must be a number from 1e-6 up to 1e6 uA/V^2"),
+        ("body_effect_sqrt_v", "1e-300", "body_effect_sqrt_v = 1e-300: must be 0, or a number"),
+        ("gate_cap_ff_per_um", "1e300", "gate_cap_ff_per_um = 1e300: must be 0, or a number"),
+        ("load_ff", "1e300", "load_ff = 1e300: must be a number from 1e-6 up to 1e6 fF"),
+    ] {
+        let directory = tempfile::tempdir().unwrap();
+        let path = directory.path().join("process.toml");
+        std::fs::write(&path, with_value(&default_process_text(), key, value)).unwrap();
+        widthwise()
+            .args(["size", "nand2", "--format", "spice", "--process"])
+            .arg(&path)
+            .assert()
+            .code(2)
+            .stdout(predicate::str::is_empty())
+            .stderr(predicate::str::contains(message));
+    }
+}
