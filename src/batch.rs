@@ -45,7 +45,8 @@ The library file (TOML):
   [[gate]]                  one per cell: name (an identifier), expr (an expression or a shorthand
                             such as nand2), and optional method, drive (number or list), critical
                             (the input to place nearest the output), stack_order.
-Each drive of a gate is one variant, named <name>_x<drive> with p for a decimal point (nand2_x1p5).
+Each drive of a gate is one variant, named <name>_x<drive> with p for a decimal point (nand2_x1p5):
+at most 100000 drives per gate and 200000 variants per library, checked before any gate is sized.
 
 Rows: --rows gates (default), devices or inputs choose the table's and the CSV's rows; JSON has
 every figure of every variant; --format spice writes one .subckt per variant.
@@ -68,6 +69,11 @@ const ELMORE_IN_A_LIBRARY: &str = "method = \"elmore\" sizes against a load, whi
 
 /// Longest library file read, in bytes (a 20,000-gate library is about 1.2 MB).
 pub const MAX_LIBRARY_BYTES: usize = 64 << 20;
+/// Most drives of one gate (each is a variant), checked as the file is read.
+pub const MAX_DRIVES_PER_GATE: usize = 100_000;
+/// Most variants (gates x drives) of one library, checked before any gate is sized: six times the
+/// 33,334 variants of the 20,000-gate benchmark library.
+pub const MAX_VARIANTS: usize = 200_000;
 
 /// The method of a gate that neither it nor `[defaults]` sets.
 pub const DEFAULT_METHOD: Method = Method::LongestPath;
@@ -200,6 +206,15 @@ fn check_drives(written: &Spanned<Drives>) -> Result<Vec<(f64, Span)>, (String, 
         Drives::One(drive) => vec![(*drive, whole)],
         Drives::Many(list) if list.is_empty() => {
             return Err(("drive = []: the list is empty; give at least one drive".to_string(), whole));
+        }
+        Drives::Many(list) if list.len() > MAX_DRIVES_PER_GATE => {
+            return Err((
+                format!(
+                    "drive lists {} drives; the limit is {MAX_DRIVES_PER_GATE} per gate (each drive is a variant)",
+                    list.len()
+                ),
+                whole,
+            ));
         }
         Drives::Many(list) => list.iter().map(|d| (*d.get_ref(), to_span(d.span()))).collect(),
     };
@@ -512,11 +527,21 @@ impl Library {
             }
         };
         // Each entry is taken out of the tree as it is read, so the tree shrinks as plans grow.
-        let gates = entries
+        let gates: Vec<Result<GatePlan, GateProblem>> = entries
             .iter_mut()
             .enumerate()
             .map(|(index, entry)| read_gate_entry(source, &common, index + 1, std::mem::replace(entry, taken())))
             .collect();
+        let variants: usize = gates.iter().flatten().map(|plan: &GatePlan| plan.drives.len()).sum();
+        if variants > MAX_VARIANTS {
+            return Err(source.error(
+                format!(
+                    "the library asks for {variants} variants (each gate in each of its drives); the limit is \
+                     {MAX_VARIANTS} per library: split it into several files"
+                ),
+                None,
+            ));
+        }
         Ok(Library { process: Arc::new(process), mobility_ratio, gates })
     }
 
@@ -1044,6 +1069,26 @@ mod tests {
         assert_eq!(clashes.len(), 1);
         let rendered = clashes[0].render(&Source::new("lib.toml", text, "."));
         assert!(rendered.contains("subcircuit 'g_x1'") && rendered.contains("line 4, column 16"), "{rendered}");
+    }
+
+    #[test]
+    fn variants_are_bounded_per_gate_and_per_library() {
+        let list = |count: usize| (1..=count).map(|d| d.to_string()).collect::<Vec<_>>().join(", ");
+        let gate = |drives: &str| format!("[[gate]]\nname = \"g\"\nexpr = \"inv\"\ndrive = [{drives}]\n");
+        // At the gate's limit the file reads; one more drive is that gate's problem, at its list.
+        let at = library(&gate(&list(MAX_DRIVES_PER_GATE)));
+        assert_eq!(at.gates[0].as_ref().unwrap().drives.len(), MAX_DRIVES_PER_GATE);
+        let rendered = problem(&gate(&list(MAX_DRIVES_PER_GATE + 1)), 0);
+        assert!(rendered.contains("drive lists 100001 drives; the limit is 100000 per gate"), "{rendered}");
+        assert!(rendered.contains("line 4, column 9"), "{rendered}");
+        // Two gates of the most drives are the library's limit; a third gate is past it.
+        let defaults = format!("[defaults]\ndrive = [{}]\n", list(MAX_DRIVES_PER_GATE));
+        let gates = |count: usize| {
+            (0..count).map(|i| format!("[[gate]]\nname = \"g{i}\"\nexpr = \"inv\"\n")).collect::<String>()
+        };
+        assert_eq!(library(&format!("{defaults}{}", gates(2))).gates.len(), 2);
+        let error = read_error(&format!("{defaults}{}", gates(3)));
+        assert!(error.contains("asks for 300000 variants") && error.contains("the limit is 200000"), "{error}");
     }
 
     #[test]

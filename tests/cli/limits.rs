@@ -270,3 +270,25 @@ fn a_long_stack_order_search_does_not_overflow() {
     let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
     assert_eq!(json["stack_order"]["exhaustive"], false);
 }
+
+#[test]
+fn variants_are_bounded_before_sizing() {
+    // At most 100,000 drives per gate (each a variant) and 200,000 variants per library.
+    let list = |count: usize| (1..=count).map(|d| d.to_string()).collect::<Vec<_>>().join(", ");
+    let gate = format!("[[gate]]\nname = \"g\"\nexpr = \"inv\"\ndrive = [{}]\n", list(100_001));
+    widthwise()
+        .args(["batch", "-"])
+        .write_stdin(gate)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("drive lists 100001 drives; the limit is 100000 per gate"));
+    let defaults = format!("[defaults]\ndrive = [{}]\n", list(100_000));
+    let gates: String = (0..3).map(|i| format!("[[gate]]\nname = \"g{i}\"\nexpr = \"nand2\"\n")).collect();
+    widthwise()
+        .args(["batch", "-", "--format", "csv"])
+        .write_stdin(format!("{defaults}{gates}"))
+        .assert()
+        .code(2)
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("asks for 300000 variants").and(predicate::str::contains("200000")));
+}
