@@ -21,6 +21,7 @@ use toml::Spanned;
 use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
 use crate::bounds;
+use crate::budget::{Estimate, Meter, Work};
 use crate::cli::{OutputArgs, cell_name};
 use crate::commands::{Diagnostics, diagnose, open_regular, read_bounded, write_output};
 use crate::delay::{self, StackOrder};
@@ -47,6 +48,8 @@ The library file (TOML):
                             (the input to place nearest the output), stack_order.
 Each drive of a gate is one variant, named <name>_x<drive> with p for a decimal point (nand2_x1p5):
 at most 100000 drives per gate and 200000 variants per library, checked before any gate is sized.
+--verify checks every variant within --work-budget UNITS (default 2^30 = 1073741824): vectors / 64 x
+input occurrences, summed over the variants, counted before anything is written.
 
 Rows: --rows gates (default), devices or inputs choose the table's and the CSV's rows; JSON has
 every figure of every variant; --format spice writes one .subckt per variant.
@@ -545,6 +548,21 @@ impl Library {
         Ok(Library { process: Arc::new(process), mobility_ratio, gates })
     }
 
+    /// The work units of verifying every variant ([`verify::verify_work`]), from each gate's inputs and
+    /// occurrences; a gate that cannot be read counts nothing (it is reported when it is sized).
+    pub fn verify_work(&self, options: &VerifyOptions) -> u128 {
+        let models = self.process.model_names();
+        self.gates
+            .iter()
+            .flatten()
+            .filter_map(|plan| {
+                let function = read_gate_with_models(&plan.expression, &models).ok()?;
+                let one = verify::verify_work(function.inputs.len(), function.literals.len(), options);
+                Some(one * plan.drives.len() as u128)
+            })
+            .sum()
+    }
+
     /// Names that would clash in the output, each reported at its second use: a gate name used
     /// twice, or a drive listed twice in one gate (two variants of one name). Variants of distinct
     /// gates cannot clash: `<name>_x<drive>` is unique for distinct names (see [`drive_suffix`]).
@@ -906,8 +924,14 @@ pub fn write_batch(
     }
 }
 
-/// `widthwise batch`: read the library, refuse name clashes before any output, size and write.
-pub fn run(library_path: &Path, output_args: &OutputArgs, rows: Rows, verify: bool) -> Result<(), Error> {
+/// `widthwise batch`: read the library, refuse name clashes and (with `verify`) verification past
+/// its work budget before any output, size and write.
+pub fn run(
+    library_path: &Path,
+    output_args: &OutputArgs,
+    rows: Rows,
+    verify: Option<VerifyOptions>,
+) -> Result<(), Error> {
     if rows == Rows::Delays {
         return Err(Error::Usage(
             "a library has gates, devices and inputs views; delays are timed per gate with 'widthwise size --delays'"
@@ -923,17 +947,19 @@ pub fn run(library_path: &Path, output_args: &OutputArgs, rows: Rows, verify: bo
         }
         return Err(Error::NameClashes { count: clashes.len() });
     }
+    if let Some(options) = &verify {
+        Meter::new(options.work_budget).require(library.verify_work(options), Estimate::Exactly, Work::Verify)?;
+    }
     let mut outcome = Outcome::default();
     write_output(output_args, |out| {
         // Gates are sized one after another, so each verification may use every core.
-        let options = verify.then(VerifyOptions::default);
-        outcome = write_batch(&library, &source, output_args.format, rows, options.as_ref(), out, &mut Diagnostics)?;
+        outcome = write_batch(&library, &source, output_args.format, rows, verify.as_ref(), out, &mut Diagnostics)?;
         Ok(())
     })?;
     if outcome.failed > 0 {
         return Err(Error::GatesFailed { failed: outcome.failed, total: outcome.gates });
     }
-    if verify {
+    if verify.is_some() {
         if outcome.unverified > 0 {
             return Err(Error::CheckFailed(format!(
                 "{} of {} variants fail verification (each named above); they are still written",

@@ -6,6 +6,7 @@ use std::path::PathBuf;
 use clap::{Args, Parser, Subcommand};
 
 use crate::bounds;
+use crate::budget::DEFAULT_WORK_BUDGET;
 use crate::delay::{DelayError, DelayOptions, Load, StackOrder};
 use crate::output::{Format, Rows};
 use crate::paths::MAX_LISTED_PATHS;
@@ -31,14 +32,23 @@ with the multiplicity m=n. The worst path after snapping is reported with its er
 
 Limits: expressions up to 1 MiB and 256 levels of parentheses; up to 10000 input occurrences
 (transistors per network) and 10000 distinct inputs; up to 10000 listed paths and 1000000 device
-names in one listing (paths x devices on the longest path); the exact worst case over input vectors
-(for repeated inputs) up to 16 inputs; verify checks every input vector up to 30 inputs, a stated
-pseudo-random sample (at most 2^30 vectors) past that; process files up to 1 MiB, library files up to
-64 MiB; drive, mobility ratio and reference W/L from 1e-6 to 1e6, fan-out, load and diffusion
-ratio 0 or 1e-6 to 1e6, process values each in its range (README), 1000000 fingers per device; one path listing builds at most 5000000
-partial paths; decks up to 256 input occurrences per network; delays up to 1000
-input occurrences per network, the stack-order search up to 64, the elmore method up to 96 transistors
-and 10000 paths per network.
+names in one listing (paths x devices on the longest path); one path listing builds at most 5000000
+partial paths; the exact worst case over input vectors (for repeated inputs) up to 16 inputs; verify
+checks every input vector up to 30 inputs, a stated pseudo-random sample (at most 2^30 vectors) past
+that; process files up to 1 MiB, library files up to 64 MiB, both regular files; drive, mobility
+ratio and reference W/L from 1e-6 to 1e6, fan-out, load and diffusion ratio 0 or 1e-6 to 1e6,
+process values each in its range (README), 1000000 fingers per device; decks up to 256 input
+occurrences per network; delays up to 1000 input occurrences per network, the stack-order search up
+to 64, the elmore method up to 96 transistors and 10000 paths per network.
+
+Work budget (--work-budget UNITS, default 2^30 = 1073741824 for each computation of a run; past it,
+exit 2 before any output): verify counts vectors / 64 x input occurrences before it starts (the
+default allows every gate up to 20 inputs, 30 inputs with up to 64 occurrences); the stack-order
+search counts orders tried x the devices timed per order and stops after the first order when the
+rest would pass (about 24 occurrences of 12 repeated inputs); delays count the devices of every
+transition timed and every input vector tried; the elmore method's solver counts 600 Newton steps
+(its most) x the multiply-adds of one before it starts (about 1.8e6 per step, e.g. 40 transistors
+with 625 paths). At the budget each takes a few seconds.
 
 Exit codes: 0 ok, 1 a check failed, 2 bad input or usage.
 
@@ -143,6 +153,10 @@ pub enum Command {
         /// variant that fails is reported on stderr (and still written), and the exit code is 1.
         #[arg(long)]
         verify: bool,
+        /// The work budget, in work units, of --verify over the whole library (vectors / 64 x input
+        /// occurrences, summed over every variant); past it nothing is written, exit 2.
+        #[arg(long, value_name = "UNITS", default_value_t = DEFAULT_WORK_BUDGET, value_parser = work_budget)]
+        work_budget: u64,
     },
     /// Prove the sized netlist right: simulate its switches on every input vector and check that
     /// pull-up and pull-down never both conduct, are never both off, and give the expression.
@@ -233,6 +247,11 @@ pub struct GateArgs {
     /// regular file: a FIFO, a device or process substitution <(...) is refused.
     #[arg(long, value_name = "FILE")]
     pub process: Option<PathBuf>,
+    /// The work budget, in work units, of each long computation: the elmore method's solver, timing
+    /// the delays with the stack-order search, verification (what a unit is: 'Limits' below). Past
+    /// it the command stops before any output, exit 2.
+    #[arg(long, value_name = "UNITS", default_value_t = DEFAULT_WORK_BUDGET, value_parser = work_budget)]
+    pub work_budget: u64,
 }
 
 /// Options for Elmore delays: the load, the diffusion capacitance, the stack-order search.
@@ -289,6 +308,7 @@ impl DelayArgs {
             },
             diffusion_ratio,
             stack_order: self.stack_order.unwrap_or(defaults.stack_order),
+            work_budget: defaults.work_budget,
         })
     }
 }
@@ -334,6 +354,18 @@ fn path_limit(text: &str) -> Result<usize, String> {
         return Err(format!("at most {MAX_LISTED_PATHS} paths are listed, found '{text}'"));
     }
     Ok(value)
+}
+
+/// A work budget: a whole number of work units, 1 or more.
+fn work_budget(text: &str) -> Result<u64, String> {
+    match text.parse::<u64>() {
+        Ok(value) if value > 0 => Ok(value),
+        _ => Err(format!(
+            "expected a whole number of work units from 1 to {}, found '{}'",
+            u64::MAX,
+            crate::error::escaped(text)
+        )),
+    }
 }
 
 fn random_vectors(text: &str) -> Result<u64, String> {

@@ -27,12 +27,16 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             let options = gate_options(&gate)?;
             let text = expression_text(&expression)?;
             let sized = if delay.wanted() || gate.method == Method::Elmore || rows == Rows::Delays {
-                let delay = delay.options(process_file(&gate, &options))?;
+                let delay =
+                    DelayOptions { work_budget: gate.work_budget, ..delay.options(process_file(&gate, &options))? };
                 delay::size_and_time(&text, &options, &delay, Some(&options.process))?
             } else {
                 // Untimed: only the stack order of the delay options matters.
-                let order =
-                    DelayOptions { stack_order: delay.stack_order.unwrap_or_default(), ..DelayOptions::default() };
+                let order = DelayOptions {
+                    stack_order: delay.stack_order.unwrap_or_default(),
+                    work_budget: gate.work_budget,
+                    ..DelayOptions::default()
+                };
                 delay::size_gate(&text, &options, &order)?
             };
             write_output(&output, |out| output::write_gates(std::slice::from_ref(&sized), output.format, rows, out))
@@ -96,7 +100,10 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             let target = OutputArgs { format: Format::Table, output };
             write_output(&target, |out| out.write_all(Process::default().to_commented_toml().as_bytes()))
         }
-        Command::Batch { library, output, rows, verify } => crate::batch::run(&library, &output, rows, verify),
+        Command::Batch { library, output, rows, verify, work_budget } => {
+            let verify = verify.then_some(VerifyOptions { work_budget, ..VerifyOptions::default() });
+            crate::batch::run(&library, &output, rows, verify)
+        }
         Command::Verify { expression, gate, output, random_vectors, seed } => {
             if output.format == Format::Spice {
                 return Err(Error::Usage("verification is written as table, csv or json, not spice".into()));
@@ -104,7 +111,8 @@ pub fn run(cli: Cli) -> Result<(), Error> {
             let text = expression_text(&expression)?;
             let options = gate_options(&gate)?;
             let sized = delay::size_gate(&text, &options, &sizing_delay(&gate, &options)?)?;
-            let options = VerifyOptions { random_vectors, seed, ..VerifyOptions::default() };
+            let options =
+                VerifyOptions { random_vectors, seed, work_budget: gate.work_budget, ..VerifyOptions::default() };
             let result = verify::verify(&sized, &options)?;
             write_output(&output, |out| {
                 output::verify::write_verifications(std::slice::from_ref(&result), output.format, out)
@@ -140,7 +148,7 @@ fn process_file<'a>(args: &GateArgs, options: &'a GateOptions) -> Option<&'a Pro
 /// What `paths` and `deck` size the elmore method with: fan-out 1 and the default diffusion ratio
 /// (the `--process` file's, else 1); the other methods need no delay options.
 fn sizing_delay(args: &GateArgs, options: &GateOptions) -> Result<DelayOptions, Error> {
-    let mut delay = DelayOptions::default();
+    let mut delay = DelayOptions { work_budget: args.work_budget, ..DelayOptions::default() };
     if args.method == Method::Elmore {
         delay.diffusion_ratio = delay::default_diffusion_ratio(process_file(args, options))?;
     }

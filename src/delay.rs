@@ -24,6 +24,7 @@ pub mod rc;
 
 use thiserror::Error;
 
+use crate::budget::{DEFAULT_WORK_BUDGET, Meter, OverBudget, Work};
 use crate::error::Error;
 use crate::expr::{GateFunction, read_gate_with_models};
 use crate::figures::NodeDiffusion;
@@ -90,12 +91,19 @@ pub struct DelayOptions {
     pub diffusion_ratio: f64,
     /// Which series-stack order to time: the default one or the one the search finds.
     pub stack_order: StackOrder,
+    /// The work budget of timing, the order search and the elmore method ([`crate::budget`]).
+    pub work_budget: u64,
 }
 
 impl Default for DelayOptions {
     /// Fan-out 1, diffusion ratio 1 (as in the published worked examples), the default order.
     fn default() -> DelayOptions {
-        DelayOptions { load: Load::Fanout(1.0), diffusion_ratio: 1.0, stack_order: StackOrder::Default }
+        DelayOptions {
+            load: Load::Fanout(1.0),
+            diffusion_ratio: 1.0,
+            stack_order: StackOrder::Default,
+            work_budget: DEFAULT_WORK_BUDGET,
+        }
     }
 }
 
@@ -214,6 +222,15 @@ pub enum DelayError {
     /// The geometric program's solver stopped without converging.
     #[error("the elmore method's solver did not converge: {0}")]
     Solver(String),
+    /// More work than the budget allows.
+    #[error("{0}")]
+    OverBudget(OverBudget),
+}
+
+impl From<OverBudget> for DelayError {
+    fn from(over: OverBudget) -> DelayError {
+        DelayError::OverBudget(over)
+    }
 }
 
 impl DelayError {
@@ -225,7 +242,11 @@ impl DelayError {
 
 impl From<DelayError> for Error {
     fn from(error: DelayError) -> Error {
-        if error.is_check_failure() { Error::CheckFailed(error.to_string()) } else { Error::Usage(error.to_string()) }
+        match error {
+            DelayError::OverBudget(over) => Error::OverBudget(over),
+            error if error.is_check_failure() => Error::CheckFailed(error.to_string()),
+            error => Error::Usage(error.to_string()),
+        }
     }
 }
 
@@ -701,8 +722,12 @@ fn measure(
     input: usize,
     edge: Edge,
     load: f64,
-) -> Result<Option<Measured>, String> {
-    let measure_vector = |after: Vec<bool>, search| -> Result<Measured, String> {
+    meter: &Meter,
+) -> Result<Option<Measured>, MeasureError> {
+    // Each transition visits every device (its conducting network, then the solve).
+    let devices = circuit.devices.len() as u128;
+    let measure_vector = |after: Vec<bool>, search| -> Result<Measured, MeasureError> {
+        meter.charge(devices, Work::Delays)?;
         let shape = conducting(circuit, edge, input, &after)?;
         let (loaded, unloaded, tree) = elmore(circuit, &shape, widths, load)?;
         Ok(Measured { elmore: loaded, unloaded, tree, shape, after, search })
@@ -711,6 +736,11 @@ fn measure(
         let after: Vec<bool> = vector.values.iter().map(|(_, v)| *v).collect();
         return measure_vector(after, "weakest path").map(Some);
     }
+    if circuit.input_count > EXACT_WORST_MAX_INPUTS {
+        return Ok(None);
+    }
+    // Every vector of the inputs is tried on the network.
+    meter.charge((1u128 << circuit.input_count) * devices, Work::Delays)?;
     let Some(vectors) = gate.switching_vectors(input, edge.network()) else { return Ok(None) };
     let mut worst: Option<Measured> = None;
     for after in vectors {
@@ -722,9 +752,37 @@ fn measure(
     Ok(worst)
 }
 
+/// Why a transition could not be measured: its network, or the work budget.
+enum MeasureError {
+    Network(String),
+    OverBudget(OverBudget),
+}
+
+impl From<String> for MeasureError {
+    fn from(why: String) -> MeasureError {
+        MeasureError::Network(why)
+    }
+}
+
+impl From<OverBudget> for MeasureError {
+    fn from(over: OverBudget) -> MeasureError {
+        MeasureError::OverBudget(over)
+    }
+}
+
 /// Delays of every input on both edges, the model and the logical-effort view (no method
-/// comparison or order report: [`size_and_time`] adds those).
+/// comparison or order report: [`size_and_time`] adds those), within `options.work_budget`.
 pub fn analyse(gate: &SizedGate, options: &DelayOptions, process: Option<&Process>) -> Result<Timing, DelayError> {
+    analyse_within(gate, options, process, &Meter::new(options.work_budget))
+}
+
+/// [`analyse`], its work counted on `meter`.
+pub(crate) fn analyse_within(
+    gate: &SizedGate,
+    options: &DelayOptions,
+    process: Option<&Process>,
+    meter: &Meter,
+) -> Result<Timing, DelayError> {
     check_options(options)?;
     let occurrences = gate.function.literals.len();
     if occurrences > MAX_TIMED_OCCURRENCES {
@@ -743,10 +801,9 @@ pub fn analyse(gate: &SizedGate, options: &DelayOptions, process: Option<&Proces
         let name = &gate.function.inputs[input];
         let load = load_for(options.load, &copies, input);
         for edge in Edge::BOTH {
-            let measured = measure(gate, &circuit, &widths, input, edge, load).map_err(|why| DelayError::Network {
-                input: name.clone(),
-                edge: edge.name(),
-                why,
+            let measured = measure(gate, &circuit, &widths, input, edge, load, meter).map_err(|error| match error {
+                MeasureError::Network(why) => DelayError::Network { input: name.clone(), edge: edge.name(), why },
+                MeasureError::OverBudget(over) => DelayError::OverBudget(over),
             })?;
             let Some(measured) = measured else {
                 unavailable.push(Unavailable {
@@ -832,8 +889,18 @@ pub fn size_read_gate(
     options: &GateOptions,
     delay: &DelayOptions,
 ) -> Result<SizedGate, Error> {
+    size_read_gate_within(function, options, delay, &Meter::new(delay.work_budget))
+}
+
+/// [`size_read_gate`], the elmore method's work counted on `meter`.
+pub(crate) fn size_read_gate_within(
+    function: &GateFunction,
+    options: &GateOptions,
+    delay: &DelayOptions,
+    meter: &Meter,
+) -> Result<SizedGate, Error> {
     if options.sizing.method == Method::Elmore && options.fixed_widths.is_none() {
-        program::size_for_delay(function, options, delay)
+        program::size_for_delay(function, options, delay, meter)
     } else {
         size_function(function.clone(), options)
     }
@@ -860,10 +927,11 @@ fn read(text: &str, options: &GateOptions) -> Result<GateFunction, Error> {
 pub fn size_gate(text: &str, options: &GateOptions, delay: &DelayOptions) -> Result<SizedGate, Error> {
     check_options(delay)?;
     let function = read(text, options)?;
+    let meter = Meter::new(delay.work_budget);
     match delay.stack_order {
-        StackOrder::Default => size_read_gate(&function, options, delay),
-        StackOrder::Written => size_read_gate(&function, &written_order(&function, options)?, delay),
-        StackOrder::Search => order::search(&function, options, delay).map(|(gate, _)| gate),
+        StackOrder::Default => size_read_gate_within(&function, options, delay, &meter),
+        StackOrder::Written => size_read_gate_within(&function, &written_order(&function, options)?, delay, &meter),
+        StackOrder::Search => order::search_within(&function, options, delay, &meter).map(|(gate, _)| gate),
     }
 }
 
@@ -877,16 +945,20 @@ pub fn size_and_time(
 ) -> Result<SizedGate, Error> {
     check_options(delay)?;
     let function = read(text, options)?;
+    // One budget for the sizing, the search, the delays and the comparison of methods.
+    let meter = Meter::new(delay.work_budget);
     let (mut gate, order_report) = match delay.stack_order {
-        StackOrder::Default => (size_read_gate(&function, options, delay)?, None),
-        StackOrder::Written => (size_read_gate(&function, &written_order(&function, options)?, delay)?, None),
+        StackOrder::Default => (size_read_gate_within(&function, options, delay, &meter)?, None),
+        StackOrder::Written => {
+            (size_read_gate_within(&function, &written_order(&function, options)?, delay, &meter)?, None)
+        }
         StackOrder::Search => {
-            let (gate, report) = order::search(&function, options, delay)?;
+            let (gate, report) = order::search_within(&function, options, delay, &meter)?;
             (gate, Some(report))
         }
     };
-    let mut timing = analyse(&gate, delay, process)?;
-    timing.method_comparison = compare_methods(&function, options, delay, &gate, &timing)?;
+    let mut timing = analyse_within(&gate, delay, process, &meter)?;
+    timing.method_comparison = compare_methods_within(&function, options, delay, &gate, &timing, &meter)?;
     timing.stack_order = order_report;
     gate.timing = Some(timing);
     Ok(gate)
@@ -901,6 +973,19 @@ pub fn compare_methods(
     gate: &SizedGate,
     timing: &Timing,
 ) -> Result<Vec<MethodDelay>, Error> {
+    compare_methods_within(function, options, delay, gate, timing, &Meter::new(delay.work_budget))
+}
+
+/// [`compare_methods`], its work counted on `meter`. An elmore sizing that would pass the budget
+/// is a note in its row, like one that is infeasible.
+fn compare_methods_within(
+    function: &GateFunction,
+    options: &GateOptions,
+    delay: &DelayOptions,
+    gate: &SizedGate,
+    timing: &Timing,
+    meter: &Meter,
+) -> Result<Vec<MethodDelay>, Error> {
     let mut rows = Vec::new();
     // Widths already timed, so that equal sizings (NAND, NOR ...) are timed once.
     let mut timed: Vec<([Vec<f64>; 2], Timing)> = Vec::new();
@@ -912,7 +997,7 @@ pub fn compare_methods(
             own.sizing.method = method;
             own.stack_order = Some(gate.trees.clone());
             own.fixed_widths = None;
-            size_read_gate(function, &own, delay)
+            size_read_gate_within(function, &own, delay, meter)
         };
         match sized {
             Ok(sized) => {
@@ -921,7 +1006,7 @@ pub fn compare_methods(
                 } else if let Some(index) = timed.iter().position(|(w, _)| *w == sized.widths) {
                     Some(index)
                 } else {
-                    timed.push((sized.widths.clone(), analyse(&sized, delay, None)?));
+                    timed.push((sized.widths.clone(), analyse_within(&sized, delay, None, meter)?));
                     Some(timed.len() - 1)
                 };
                 let own_timing = index.map_or(timing, |i| &timed[i].1);

@@ -239,7 +239,7 @@ pub enum Error {
         /// The file's text.
         source_text: String,
     },
-    /// A netlist that verification cannot simulate.
+    /// A netlist that verification cannot simulate, or a verification past its work budget.
     #[error("{0}")]
     Verify(#[from] crate::verify::VerifyError),
     /// A check the user asked for failed; the message says which.
@@ -264,6 +264,9 @@ pub enum Error {
         /// How many clashes.
         count: usize,
     },
+    /// A computation would pass its work budget ([`crate::budget`]).
+    #[error("{0}")]
+    OverBudget(#[from] crate::budget::OverBudget),
     /// Some gates of a batch could not be sized (each was reported as it was found); the others
     /// were written.
     #[error("{failed} of {total} gates could not be sized (reported above); gates written: {}", total - failed)]

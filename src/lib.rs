@@ -11,6 +11,7 @@
 
 pub mod batch;
 pub mod bounds;
+pub mod budget;
 pub mod cli;
 pub mod commands;
 pub mod delay;

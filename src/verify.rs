@@ -15,6 +15,7 @@ use std::sync::atomic::{AtomicU64, Ordering};
 
 use thiserror::Error;
 
+use crate::budget::{DEFAULT_WORK_BUDGET, Estimate, Meter, OverBudget, Work};
 use crate::error::ExprError;
 use crate::expr::{Expr, ExprKind, parser};
 use crate::gate::{SizedGate, Vector};
@@ -44,6 +45,8 @@ pub struct VerifyOptions {
     pub seed: u64,
     /// Threads to use (at least 1); small vector spaces use one whatever this says.
     pub threads: usize,
+    /// The work budget: vectors / 64 x input occurrences ([`verify_work`]) may not pass it.
+    pub work_budget: u64,
 }
 
 impl Default for VerifyOptions {
@@ -52,6 +55,7 @@ impl Default for VerifyOptions {
             random_vectors: DEFAULT_RANDOM_VECTORS,
             seed: DEFAULT_SEED,
             threads: std::thread::available_parallelism().map_or(1, |n| n.get()),
+            work_budget: DEFAULT_WORK_BUDGET,
         }
     }
 }
@@ -89,6 +93,9 @@ pub enum VerifyError {
         /// The name.
         input: String,
     },
+    /// More work than the budget allows.
+    #[error("{0}")]
+    OverBudget(OverBudget),
     /// More pseudo-random vectors than allowed.
     #[error("{requested} random vectors asked for; the limit is {limit}")]
     TooManyVectors {
@@ -656,12 +663,26 @@ fn mix(mut z: u64) -> u64 {
     z ^ (z >> 31)
 }
 
+/// The vectors verification checks: every one up to [`MAX_EXHAUSTIVE_INPUTS`] inputs, else the sample.
+pub fn planned_vectors(inputs: usize, options: &VerifyOptions) -> u64 {
+    if inputs <= MAX_EXHAUSTIVE_INPUTS { 1u64 << inputs } else { options.random_vectors }
+}
+
+/// The work units of verifying a gate of `inputs` inputs and `occurrences` input occurrences: each
+/// 64-vector word takes every occurrence through both its transistors and the expression.
+pub fn verify_work(inputs: usize, occurrences: usize, options: &VerifyOptions) -> u128 {
+    u128::from(planned_vectors(inputs, options).div_ceil(WORD)) * occurrences as u128
+}
+
 /// Verify a sized gate: simulate its netlist on every input vector (or a pseudo-random sample past
-/// [`MAX_EXHAUSTIVE_INPUTS`] inputs) and compare with the expression.
+/// [`MAX_EXHAUSTIVE_INPUTS`] inputs) and compare with the expression. Refused before it starts when
+/// its work ([`verify_work`]) would pass the budget.
 pub fn verify(gate: &SizedGate, options: &VerifyOptions) -> Result<Verification, VerifyError> {
     if options.random_vectors > MAX_RANDOM_VECTORS {
         return Err(VerifyError::TooManyVectors { requested: options.random_vectors, limit: MAX_RANDOM_VECTORS });
     }
+    let work = verify_work(gate.function.inputs.len(), gate.function.literals.len(), options);
+    Meter::new(options.work_budget).require(work, Estimate::Exactly, Work::Verify).map_err(VerifyError::OverBudget)?;
     let inputs = &gate.function.inputs;
     let input_index: HashMap<&str, usize> = inputs.iter().enumerate().map(|(i, n)| (n.as_str(), i)).collect();
     let netlist = Netlist::new(gate, &input_index)?;
@@ -671,10 +692,11 @@ pub fn verify(gate: &SizedGate, options: &VerifyOptions) -> Result<Verification,
         .map_err(|error| VerifyError::Expression { text: text.clone(), error })?;
     let program = Program::new(&parsed.expr, &input_index)?;
 
-    let (coverage, planned) = if inputs.len() <= MAX_EXHAUSTIVE_INPUTS {
-        (Coverage::Exhaustive, 1u64 << inputs.len())
+    let planned = planned_vectors(inputs.len(), options);
+    let coverage = if inputs.len() <= MAX_EXHAUSTIVE_INPUTS {
+        Coverage::Exhaustive
     } else {
-        (Coverage::Random { seed: options.seed }, options.random_vectors)
+        Coverage::Random { seed: options.seed }
     };
     let simulator = Simulator { netlist: &netlist, program: &program, input_count: inputs.len(), coverage };
     let first = first_failure(&simulator, planned, options.threads.max(1));
@@ -801,7 +823,7 @@ mod tests {
     }
 
     fn options(threads: usize) -> VerifyOptions {
-        VerifyOptions { random_vectors: 4096, seed: DEFAULT_SEED, threads }
+        VerifyOptions { random_vectors: 4096, seed: DEFAULT_SEED, threads, ..VerifyOptions::default() }
     }
 
     fn transistor<'a>(gate: &'a mut SizedGate, name: &str) -> &'a mut Transistor {
@@ -811,6 +833,19 @@ mod tests {
     /// The netlist as the tests expect it, so that each mutation below means what its comment says.
     fn terminals(gate: &SizedGate) -> Vec<(String, String, String, String)> {
         gate.transistors.iter().map(|t| (t.name.clone(), t.input.clone(), t.drain.clone(), t.source.clone())).collect()
+    }
+
+    #[test]
+    fn verification_keeps_to_its_work_budget() {
+        // 12 inputs: 2^12 vectors / 64 = 64 words, x 12 occurrences = 768 units.
+        let gate = sized("!(a & b & c & d & e & f & g & h & i & j & k & l)", Method::LongestPath);
+        assert_eq!(verify_work(12, 12, &VerifyOptions::default()), 768);
+        let under = VerifyOptions { work_budget: 767, ..options(1) };
+        let Err(VerifyError::OverBudget(over)) = verify(&gate, &under) else { panic!("refused") };
+        assert_eq!(over.needed, Some((Estimate::Exactly, 768)));
+        assert!(verify(&gate, &VerifyOptions { work_budget: 768, ..options(1) }).unwrap().passed);
+        // Past 30 inputs the sample counts: 4096 vectors are 64 words.
+        assert_eq!(verify_work(40, 100, &options(1)), 64 * 100);
     }
 
     #[test]

@@ -11,6 +11,8 @@
 // Dense linear algebra reads best with explicit indices.
 #![allow(clippy::needless_range_loop)]
 
+use crate::budget::{Estimate, Meter, OverBudget, Work};
+
 /// `coefficient x prod x_k ^ exponent_k`.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Monomial {
@@ -89,6 +91,15 @@ pub enum SolveError {
     /// No convergence within the iteration limit.
     #[error("no convergence within the iteration limit")]
     Stalled,
+    /// More work than the budget allows.
+    #[error("{0}")]
+    OverBudget(OverBudget),
+}
+
+impl From<OverBudget> for SolveError {
+    fn from(over: OverBudget) -> SolveError {
+        SolveError::OverBudget(over)
+    }
 }
 
 /// A posynomial in log variables: terms `exp(b + a . y)`.
@@ -155,6 +166,9 @@ impl LogSum {
 /// One phase of the interior-point method: minimise the objective (phase II) or the slack `s`
 /// (phase I, variable `n`, constraints read `F_i(y) - s <= 0`), with the box as linear constraints.
 struct Problem<'a> {
+    meter: &'a Meter,
+    /// Work units of one Newton step and of one line-search trial ([`step_work`]).
+    work: (u128, u128),
     objective: &'a LogSum,
     constraints: &'a [LogSum],
     /// How many of `constraints` (the first ones) phase I relaxes by `s`; the rest are hard.
@@ -314,6 +328,7 @@ impl Problem<'_> {
         let mut lambda: Vec<f64> = values.iter().map(|g| -1.0 / g).collect();
         let count = self.count() as f64;
         for _ in 0..ITERATIONS {
+            self.meter.charge(self.work.0, Work::Elmore)?;
             let values = self.values(z);
             if early(z) {
                 return Ok(Finish::Early);
@@ -335,6 +350,7 @@ impl Problem<'_> {
             let mut trial = z.to_vec();
             let mut trial_lambda = lambda.clone();
             loop {
+                self.meter.charge(self.work.1, Work::Elmore)?;
                 for k in 0..z.len() {
                     trial[k] = z[k] + length * step[k];
                 }
@@ -419,9 +435,54 @@ const DUAL_TOLERANCE: f64 = 1e-8;
 const GROWTH: f64 = 10.0;
 /// Most iterations per phase.
 const ITERATIONS: usize = 300;
+/// Most Newton steps of a solve: both phases at their limit.
+pub const MAX_NEWTON_STEPS: u128 = 2 * ITERATIONS as u128;
 
-/// Solve a geometric program.
+/// Work units (multiply-adds, roughly) that one posynomial adds to a Newton step and to a
+/// line-search trial, with `variables` variables: its Hessian terms, its value and its dense
+/// gradient.
+pub fn posynomial_work(posynomial: &Posynomial, variables: usize) -> (u128, u128) {
+    let mut touched: Vec<usize> = posynomial.terms.iter().flat_map(|t| t.exponents.iter().map(|&(k, _)| k)).collect();
+    touched.sort_unstable();
+    touched.dedup();
+    let (mut hessian, mut values) = (touched.len() as u128 * touched.len() as u128, 0u128);
+    for term in &posynomial.terms {
+        let exponents = term.exponents.len() as u128;
+        hessian += exponents * exponents;
+        values += exponents + 1;
+    }
+    let gradient = variables as u128 + 1;
+    (hessian + values + gradient, values + gradient)
+}
+
+/// Work units of one Newton step and of one line-search trial beyond the posynomials': the box's
+/// gradients and the Cholesky factorisation, with `variables` variables (phase I adds one).
+pub fn base_work(variables: usize) -> (u128, u128) {
+    let n = variables as u128 + 1;
+    (2 * n * n + n * n * n / 3, 2 * n * n)
+}
+
+/// Work units of one Newton step and of one line-search trial of a program.
+pub fn step_work(program: &Program) -> (u128, u128) {
+    let n = program.variables;
+    std::iter::once(&program.objective).chain(&program.constraints).chain(&program.hard).fold(
+        base_work(n),
+        |(step, trial), posynomial| {
+            let (s, t) = posynomial_work(posynomial, n);
+            (step + s, trial + t)
+        },
+    )
+}
+
+/// Solve a geometric program (no work budget).
 pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
+    solve_within(program, &Meter::unlimited())
+}
+
+/// Solve a geometric program within the work budget of `meter`: refused at once if its Newton steps,
+/// as many as the iteration limit allows, would pass the whole budget ([`step_work`] x
+/// [`MAX_NEWTON_STEPS`]), and stopped if the steps it takes pass what is left.
+pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveError> {
     let n = program.variables;
     if program.lower.len() != n || program.upper.len() != n || program.start.len() != n {
         return Err(SolveError::Bad("bounds and start must have one value per variable".into()));
@@ -443,6 +504,8 @@ pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
     if (0..n).any(|j| !(lower[j] < y[j] && y[j] < upper[j])) {
         return Err(SolveError::Bad("the start must lie strictly inside the box".into()));
     }
+    let work = step_work(program);
+    meter.fits(work.0.saturating_mul(MAX_NEWTON_STEPS), Estimate::UpTo, Work::Elmore)?;
     let objective = LogSum::new(&program.objective);
     let soft = program.constraints.len();
     let constraints: Vec<LogSum> = program.constraints.iter().chain(&program.hard).map(LogSum::new).collect();
@@ -459,6 +522,8 @@ pub fn solve(program: &Program) -> Result<Outcome, SolveError> {
     };
 
     let problem = |phase_one| Problem {
+        meter,
+        work,
         objective: &objective,
         constraints: &constraints,
         soft,
@@ -519,6 +584,36 @@ mod tests {
         assert!((x[0] - 1.0).abs() < 1e-6 && (x[1] - 1.0).abs() < 1e-6, "{x:?}");
         assert!((objective - 1.0).abs() < 1e-8);
         assert!(at_bound.is_empty());
+    }
+
+    #[test]
+    fn the_solver_keeps_to_its_work_budget() {
+        let program = Program {
+            variables: 2,
+            objective: Posynomial { terms: vec![monomial(1.0, &[(0, -1.0), (1, -1.0)])] },
+            constraints: vec![Posynomial { terms: vec![monomial(0.5, &[(0, 1.0)]), monomial(0.5, &[(1, 1.0)])] }],
+            lower: vec![1e-3; 2],
+            upper: vec![1e3; 2],
+            start: vec![0.1, 5.0],
+            hard: Vec::new(),
+        };
+        let (step, trial) = step_work(&program);
+        assert!(step > trial && trial > 0);
+        // Refused before it starts when its most Newton steps pass the whole budget.
+        let most = step * MAX_NEWTON_STEPS;
+        let Err(SolveError::OverBudget(over)) = solve_within(&program, &Meter::new(most as u64 - 1)) else {
+            panic!("refused")
+        };
+        assert_eq!(over.needed, Some((crate::budget::Estimate::UpTo, most)));
+        // Within it, the steps it takes are counted: a few, far below the most.
+        let meter = Meter::new(most as u64);
+        assert!(matches!(solve_within(&program, &meter), Ok(Outcome::Optimal { .. })));
+        assert!(meter.spent() >= 2 * step && meter.spent() < most / 4, "{} of {most}", meter.spent());
+        // Stopped on the way when what is left runs out.
+        let meter = Meter::new(most as u64);
+        meter.charge(most - step, Work::Elmore).unwrap();
+        let Err(SolveError::OverBudget(over)) = solve_within(&program, &meter) else { panic!("stopped") };
+        assert_eq!(over.needed, None);
     }
 
     #[test]

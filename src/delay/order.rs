@@ -5,9 +5,12 @@
 //!
 //! Every combination is tried when there are few; otherwise a local search moves one member of one
 //! stack at a time to every other position and keeps any move that helps, until none does or the
-//! budget of evaluated orders is spent.
+//! budget of evaluated orders is spent. The work is counted ([`crate::budget`]): after the default
+//! order, the orders still to try times the work that one took must fit in what is left of the
+//! work budget, or the search is refused before it starts.
 
-use super::{DelayOptions, analyse, size_read_gate};
+use super::{DelayOptions, analyse_within, size_read_gate_within};
+use crate::budget::{Estimate, Meter, Work};
 use crate::error::Error;
 use crate::expr::GateFunction;
 use crate::gate::{GateOptions, SizedGate, device_name};
@@ -112,6 +115,7 @@ pub fn describe(network: &Network) -> String {
 }
 
 struct Search<'a> {
+    meter: &'a Meter,
     function: &'a GateFunction,
     options: &'a GateOptions,
     delay: &'a DelayOptions,
@@ -132,7 +136,7 @@ impl Search<'_> {
         let mut options = self.options.clone();
         options.stack_order = Some(self.trees(orders));
         options.fixed_widths = None;
-        let gate = match size_read_gate(self.function, &options, self.delay) {
+        let gate = match size_read_gate_within(self.function, &options, self.delay, self.meter) {
             Ok(gate) => gate,
             Err(Error::CheckFailed(_)) if self.options.sizing.method == Method::Elmore => return Ok(None),
             Err(error) => return Err(error),
@@ -140,17 +144,28 @@ impl Search<'_> {
         if gate.method == Method::Elmore {
             return Ok(Some((gate.total_w_over_l, gate)));
         }
-        let timing = analyse(&gate, self.delay, None)?;
+        let timing = analyse_within(&gate, self.delay, None, self.meter)?;
         let worst = timing.worst_delay(self.options.critical.as_deref()).map_or(0.0, |d| d.elmore_rc);
         Ok(Some((worst, gate)))
     }
 }
 
-/// Size `function` in the best stack order found, with the report against the default order.
+/// Size `function` in the best stack order found, with the report against the default order,
+/// within `delay.work_budget`.
 pub fn search(
     function: &GateFunction,
     options: &GateOptions,
     delay: &DelayOptions,
+) -> Result<(SizedGate, StackOrderReport), Error> {
+    search_within(function, options, delay, &Meter::new(delay.work_budget))
+}
+
+/// [`search`], its work counted on `meter`.
+pub(crate) fn search_within(
+    function: &GateFunction,
+    options: &GateOptions,
+    delay: &DelayOptions,
+    meter: &Meter,
 ) -> Result<(SizedGate, StackOrderReport), Error> {
     let occurrences = function.literals.len();
     if occurrences > MAX_SEARCH_OCCURRENCES {
@@ -160,15 +175,18 @@ pub fn search(
         )));
     }
     // The default order is the one the gate gets without a search.
-    let default_gate = size_read_gate(function, options, delay)?;
+    let default_gate = size_read_gate_within(function, options, delay, meter)?;
     let base = default_gate.trees.clone();
     let mut shape = Vec::new();
     for (side, network) in base.iter().enumerate() {
         stacks(&network.root, side, &mut shape);
     }
     let identity: Vec<Vec<usize>> = shape.iter().map(|&(_, len)| (0..len).collect()).collect();
-    let mut search = Search { function, options, delay, base, tried: 0 };
+    let mut search = Search { meter, function, options, delay, base, tried: 0 };
+    meter.label(Work::OrderSearch);
+    let before = meter.spent();
     let Some((default_value, default_gate)) = search.score(&identity)? else { unreachable_default()? };
+    let per_order = meter.spent() - before;
     let mut best = (default_value, default_gate, identity.clone());
     let elmore = options.sizing.method == Method::Elmore;
     let limit = if elmore { EXHAUSTIVE_LIMIT_ELMORE } else { EXHAUSTIVE_LIMIT };
@@ -178,6 +196,11 @@ pub fn search(
     }
     let exhaustive = combinations <= limit;
     let budget = if elmore { BUDGET_ELMORE } else { BUDGET };
+    // Orders still to try, at most: every other combination, or the local search's rounds of
+    // moves up to its budget of orders.
+    let moves: usize = shape.iter().map(|&(_, len)| len * len.saturating_sub(1)).sum();
+    let remaining = if exhaustive { combinations - 1 } else { (budget - 1).min(ROUNDS.saturating_mul(moves)) };
+    meter.require(per_order.saturating_mul(remaining as u128), Estimate::UpTo, Work::OrderSearch)?;
     let better = |value: f64, best: f64| value < best - 1e-12 * best.abs();
     if exhaustive {
         let mut orders = identity.clone();
@@ -256,6 +279,27 @@ fn unreachable_default<T>() -> Result<T, Error> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_search_is_refused_when_its_orders_would_pass_the_budget() {
+        use crate::budget::Estimate;
+        use crate::expr::read_gate;
+        use crate::sizing::SizingOptions;
+        // NAND4: one stack of 4 in the pull-down, 4! = 24 orders, each timed alike.
+        let function = read_gate("nand4").unwrap();
+        let options = GateOptions::new(SizingOptions::new(Method::LongestPath, 2.0, 1.0, None));
+        let meter = Meter::unlimited();
+        let (_, report) = search_within(&function, &options, &DelayOptions::default(), &meter).unwrap();
+        assert_eq!((report.orders_tried, report.exhaustive), (24, true));
+        // Each order took the same work: a budget one unit short of it all is refused before the
+        // search, with the projection (the default order's sizing, then 24 orders of equal work).
+        let spent = meter.spent();
+        let delay = DelayOptions { work_budget: spent as u64 - 1, ..DelayOptions::default() };
+        let Err(Error::OverBudget(over)) = search(&function, &options, &delay) else { panic!("refused") };
+        assert_eq!((over.work, over.needed), (Work::OrderSearch, Some((Estimate::UpTo, spent))));
+        let delay = DelayOptions { work_budget: spent as u64, ..DelayOptions::default() };
+        assert!(search(&function, &options, &delay).is_ok());
+    }
 
     #[test]
     fn permutations_in_order() {

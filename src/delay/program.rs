@@ -17,10 +17,11 @@
 
 use std::collections::BTreeMap;
 
-use super::geometric::{self, Monomial, Outcome, Posynomial, Program};
+use super::geometric::{self, Monomial, Outcome, Posynomial, Program, SolveError};
 use super::{
     Circuit, Conducting, DelayError, DelayOptions, Edge, conducting, fanout_copies, load_for, reference_delay,
 };
+use crate::budget::{Estimate, Meter, Work};
 use crate::error::Error;
 use crate::expr::GateFunction;
 use crate::figures::NodeDiffusion;
@@ -220,9 +221,25 @@ fn dominates(a: &Posynomial, b: &Posynomial) -> bool {
     })
 }
 
+/// The objective: the total W/L of `devices` devices.
+fn objective(devices: usize) -> Posynomial {
+    Posynomial { terms: (0..devices).map(|d| Monomial { coefficient: 1.0, exponents: vec![(d, 1.0)] }).collect() }
+}
+
 /// The elmore method's program for a gate whose structure (stack order) is that of `gate`.
 /// Also gives, per constraint, its input and edge.
 pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program, Vec<(usize, Edge)>), DelayError> {
+    elmore_program_within(gate, delay, &Meter::unlimited())
+}
+
+/// [`elmore_program`], refused as soon as the constraints built so far make the solver's Newton
+/// steps, as many as it may take, pass the work budget of `meter` ([`geometric::solve_within`]
+/// would refuse the whole program the same way, after building all of it).
+pub(crate) fn elmore_program_within(
+    gate: &SizedGate,
+    delay: &DelayOptions,
+    meter: &Meter,
+) -> Result<(Program, Vec<(usize, Edge)>), DelayError> {
     let circuit = Circuit::new(gate, delay.diffusion_ratio);
     let devices = circuit.devices.len();
     if devices > MAX_DEVICES {
@@ -249,6 +266,15 @@ pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program
     let mut constraints: Vec<Posynomial> = Vec::with_capacity(transitions.len());
     let mut labels = Vec::with_capacity(transitions.len());
     let mut chains: Vec<(Edge, &[usize])> = Vec::with_capacity(transitions.len());
+    let mut group_start = 0;
+    // The Newton step's work: the objective, the box, the hard constraints, then each chain's
+    // constraints once they are final (the next chain's first transition comes).
+    let variable_count = variables.count();
+    let objective = objective(devices);
+    let hard = variables.bounds();
+    let mut step = hard.iter().chain([&objective]).fold(geometric::base_work(variable_count).0, |total, p| {
+        total + geometric::posynomial_work(p, variable_count).0
+    });
     for transition in &transitions {
         let load = load_for(delay.load, &copies, transition.input);
         let bound = reference_delay(&gate.options, delay.diffusion_ratio, transition.edge, load);
@@ -264,8 +290,18 @@ pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program
         // Of two transitions on one path, one whose every term another has, with at least its
         // coefficient, never binds (typically: the input nearest the rail charges the most nodes).
         let key = (transition.edge, transition.chain.as_slice());
+        // A path's transitions come one after another, so the constraints of its chain are the
+        // last ones: only those are compared (a scan of all of them made this quadratic).
+        if chains.last() != Some(&key) {
+            step += constraints[group_start..]
+                .iter()
+                .map(|p| geometric::posynomial_work(p, variable_count).0)
+                .sum::<u128>();
+            meter.fits(step.saturating_mul(geometric::MAX_NEWTON_STEPS), Estimate::MoreThan, Work::Elmore)?;
+            group_start = constraints.len();
+        }
         let mut dominated = false;
-        let mut index = 0;
+        let mut index = group_start;
         while index < constraints.len() {
             if chains[index] == key {
                 if dominates(&constraints[index], &posynomial) {
@@ -304,17 +340,7 @@ pub fn elmore_program(gate: &SizedGate, delay: &DelayOptions) -> Result<(Program
     }
     let mut start = variables.at(&start);
     start[devices..].iter_mut().for_each(|t| *t *= 1.25);
-    let program = Program {
-        variables: variables.count(),
-        objective: Posynomial {
-            terms: (0..devices).map(|d| Monomial { coefficient: 1.0, exponents: vec![(d, 1.0)] }).collect(),
-        },
-        constraints,
-        hard: variables.bounds(),
-        lower,
-        upper,
-        start,
-    };
+    let program = Program { variables: variable_count, objective, constraints, hard, lower, upper, start };
     Ok((program, labels))
 }
 
@@ -324,6 +350,7 @@ pub fn size_for_delay(
     function: &GateFunction,
     options: &GateOptions,
     delay: &DelayOptions,
+    meter: &Meter,
 ) -> Result<SizedGate, Error> {
     let devices = 2 * function.literals.len();
     if devices > MAX_DEVICES {
@@ -333,8 +360,11 @@ pub fn size_for_delay(
     structure.sizing.method = Method::LongestPath;
     structure.fixed_widths = None;
     let longest = size_function(function.clone(), &structure)?;
-    let (program, labels) = elmore_program(&longest, delay)?;
-    let outcome = geometric::solve(&program).map_err(|e| DelayError::Solver(e.to_string()))?;
+    let (program, labels) = elmore_program_within(&longest, delay, meter)?;
+    let outcome = geometric::solve_within(&program, meter).map_err(|error| match error {
+        SolveError::OverBudget(over) => DelayError::OverBudget(over),
+        error => DelayError::Solver(error.to_string()),
+    })?;
     let widths = match outcome {
         Outcome::Optimal { x, at_bound, .. } => {
             // Only the widths' box counts (a shared diffusion's variable follows its devices).

@@ -130,6 +130,14 @@ fn help_lists_every_limit() {
     for limit in ["1000000 device names", "16 inputs", "30 inputs"] {
         assert!(help.contains(limit), "{limit}");
     }
+    for limit in ["1e-6 to 1e6", "1000000 fingers per device", "--work-budget UNITS, default 2^30 = 1073741824"] {
+        assert!(help.contains(limit), "{limit}");
+    }
+    let output = widthwise().args(["batch", "--help"]).output().unwrap();
+    let help = String::from_utf8(output.stdout).unwrap().replace('\n', " ");
+    for limit in ["100000 drives per gate", "200000 variants per library", "--work-budget UNITS"] {
+        assert!(help.contains(limit), "{limit}");
+    }
 }
 
 #[test]
@@ -291,4 +299,60 @@ fn variants_are_bounded_before_sizing() {
         .code(2)
         .stdout(predicate::str::is_empty())
         .stderr(predicate::str::contains("asks for 300000 variants").and(predicate::str::contains("200000")));
+}
+
+/// `!(x0 & x1 & ...)` as `and_of`, on standard input, for `widthwise` with `args`.
+fn past_the_budget(args: &[&str], expression: String, message: &str) {
+    widthwise().args(args).write_stdin(expression).assert().code(2).stdout(predicate::str::is_empty()).stderr(
+        predicate::str::contains(message)
+            .and(predicate::str::contains("past the work budget of 1073741824: raise it with --work-budget N")),
+    );
+}
+
+#[test]
+fn work_budgets_bound_the_long_computations() {
+    // Each of these ran for minutes within every other limit; each now stops at once, exit 2,
+    // naming the budget and how to raise it. The counts are deterministic: nothing here is timed.
+    // The stack-order search on 32 occurrences of 16 inputs (took 34 s): 2,000 orders x the work of
+    // timing one (each input's vectors searched on both edges).
+    past_the_budget(
+        &["size", "-", "--stack-order", "search"],
+        and_of(32, 16),
+        "the stack-order search could take up to 134221824000 work units",
+    );
+    // The elmore method on 80 transistors, 4 groups of 10 in parallel (10,000 paths; ran 94 s, then
+    // did not converge): its Newton steps would pass the budget before the program is half built.
+    let groups: Vec<String> = (0..4)
+        .map(|g| format!("({})", (0..10).map(|i| format!("x{}", 10 * g + i)).collect::<Vec<_>>().join(" | ")))
+        .collect();
+    past_the_budget(
+        &["size", "-", "--method", "elmore"],
+        format!("!({})", groups.join(" & ")),
+        "the elmore method's solver could take more than",
+    );
+    // Verification of 30 inputs and 1,000 occurrences (took 191 s): 2^30 vectors / 64 x 1,000.
+    past_the_budget(&["verify", "-"], and_of(1000, 30), "verification would take 16777216000 work units");
+    // The same with a library: every variant's verification counts, before anything is written.
+    let library = format!("[[gate]]\nname = \"wide\"\nexpr = \"{}\"\ndrive = [1, 2]\n", and_of(40, 30));
+    past_the_budget(&["batch", "-", "--verify"], library, "verification would take 1342177280 work units");
+}
+
+#[test]
+fn a_work_budget_can_be_raised_or_lowered() {
+    // 20 inputs: 2^20 vectors / 64 x 20 occurrences = 327,680 units.
+    let text = and_of(20, 20);
+    widthwise()
+        .args(["verify", "-", "--work-budget", "327679"])
+        .write_stdin(text.clone())
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("verification would take 327680 work units"));
+    widthwise().args(["verify", "-", "--work-budget", "327680"]).write_stdin(text).assert().success();
+    widthwise().args(["size", "nand2", "--work-budget", "0"]).assert().code(2);
+    // The delays of a gate count too: a budget of 10 units stops them.
+    widthwise()
+        .args(["size", "nand3", "--delays", "--work-budget", "10"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("timing the delays was stopped after 10 work units"));
 }

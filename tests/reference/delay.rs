@@ -26,7 +26,7 @@ fn sized(text: &str) -> SizedGate {
 }
 
 fn timed(gate: &SizedGate, load: Load, diffusion_ratio: f64) -> Timing {
-    let delay = DelayOptions { load, diffusion_ratio, stack_order: StackOrder::Default };
+    let delay = DelayOptions { load, diffusion_ratio, stack_order: StackOrder::Default, ..DelayOptions::default() };
     delay::analyse(gate, &delay, None).unwrap()
 }
 
@@ -130,7 +130,7 @@ fn stack_order_search_finds_the_faster_oai21() {
 const GATES: [&str; 8] = ["inv", "nand2", "nand3", "nor2", "nor3", "aoi21", "aoi22", "oai21"];
 
 fn elmore_sized(text: &str, load: Load, diffusion_ratio: f64) -> Result<SizedGate, widthwise::Error> {
-    let delay = DelayOptions { load, diffusion_ratio, stack_order: StackOrder::Default };
+    let delay = DelayOptions { load, diffusion_ratio, stack_order: StackOrder::Default, ..DelayOptions::default() };
     delay::size_gate(text, &options(Method::Elmore), &delay)
 }
 
@@ -282,7 +282,8 @@ fn elmore_optimum_agrees_with_scipy() {
     let mut programs = Vec::new();
     let mut ours = Vec::new();
     for (text, load, ratio) in cases {
-        let delay = DelayOptions { load, diffusion_ratio: ratio, stack_order: StackOrder::Default };
+        let delay =
+            DelayOptions { load, diffusion_ratio: ratio, stack_order: StackOrder::Default, ..DelayOptions::default() };
         let (program, _) = elmore_program(&sized(text), &delay).unwrap();
         let Outcome::Optimal { objective, .. } = geometric::solve(&program).unwrap() else {
             panic!("{text} is feasible")
