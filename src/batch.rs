@@ -439,7 +439,11 @@ impl Library {
     /// Read a library file. A TOML error, an unknown top-level key, a bad `[defaults]` or a bad
     /// process stops here; a bad gate becomes that gate's [`GateProblem`].
     pub fn read(source: &Source) -> Result<Library, Error> {
-        let document = DeTable::parse(&source.text).map_err(|e| source.error(e.message().trim(), e.span()))?;
+        let document = DeTable::parse(&source.text).map_err(|e| {
+            let span = e.span().map(to_span);
+            let (message, span) = crate::error::toml_error_place(&source.text, e.message(), span);
+            source.error(message, span.map(|s| s.start..s.end))
+        })?;
         let mut process = None;
         let mut defaults = None;
         let mut gates = None;

@@ -320,6 +320,66 @@ pub fn escaped(text: &str) -> String {
     out
 }
 
+/// A TOML reader's error message and place, given a place where it has none: its recursion limit
+/// ("recursion limit") comes without one, so the place becomes where the text nests deepest
+/// ([`deepest_nesting`]), and the message says what the limit is about.
+pub fn toml_error_place(text: &str, message: &str, span: Option<Span>) -> (String, Option<Span>) {
+    let message = message.trim();
+    match span {
+        None if message.contains("recursion") => (
+            format!(
+                "{message}: the file nests too deeply here (each part of a dotted key, each table, array and \
+                 inline table is a level)"
+            ),
+            deepest_nesting(text),
+        ),
+        _ => (message.to_string(), span),
+    }
+}
+
+/// Where a TOML text nests deepest: the first place where the parts of a dotted key, plus the
+/// brackets and braces around it, are most. Strings and comments are skipped; a rough reading that
+/// is enough to point at the place.
+pub fn deepest_nesting(text: &str) -> Option<Span> {
+    let (mut brackets, mut dots) = (0usize, 0usize);
+    let mut quote: Option<char> = None;
+    let (mut escaped, mut comment) = (false, false);
+    let mut best: Option<(usize, usize)> = None;
+    for (offset, character) in text.char_indices() {
+        if comment {
+            comment = character != '\n';
+            if !comment {
+                dots = 0;
+            }
+            continue;
+        }
+        if let Some(open) = quote {
+            if escaped {
+                escaped = false;
+            } else if open == '"' && character == '\\' {
+                escaped = true;
+            } else if character == open || character == '\n' {
+                quote = None;
+            }
+            continue;
+        }
+        match character {
+            '"' | '\'' => quote = Some(character),
+            '#' => comment = true,
+            '[' | '{' => brackets += 1,
+            ']' | '}' => brackets = brackets.saturating_sub(1),
+            '.' => dots += 1,
+            '\n' | '=' | ',' => dots = 0,
+            _ => continue,
+        }
+        let depth = brackets + dots;
+        if depth > 0 && best.is_none_or(|(deepest, _)| depth > deepest) {
+            best = Some((depth, offset));
+        }
+    }
+    best.map(|(_, offset)| Span::new(offset, offset + 1))
+}
+
 /// Line (1-based), column (1-based, in characters) and the line's text for a byte offset.
 pub fn line_and_column(source: &str, offset: usize) -> (usize, usize, &str) {
     let offset = floor_char_boundary(source, offset.min(source.len()));
@@ -396,6 +456,26 @@ mod tests {
         assert!(lines[2].starts_with("    ..."));
         assert!(lines[2].ends_with("..."));
         assert_eq!(lines[3].find('^'), Some(4 + 3 + CONTEXT_CHARACTERS));
+    }
+
+    #[test]
+    fn the_deepest_nesting_is_found() {
+        let keys = format!("name = \"x.y\" # a.b.c.d\n{} = 1\n", vec!["k"; 30].join("."));
+        let span = deepest_nesting(&keys).unwrap();
+        let (line, column, _) = line_and_column(&keys, span.start);
+        assert_eq!((line, column), (2, 58), "the last dot of the 30-part key");
+        let arrays = format!("a = 1\nb = [[1], {}{}]\n", "[".repeat(20), "]".repeat(20));
+        let span = deepest_nesting(&arrays).unwrap();
+        assert_eq!(line_and_column(&arrays, span.start).0, 2);
+        assert_eq!(&arrays[span.start..span.end], "[");
+        let (message, place) = toml_error_place(&keys, "recursion limit", None);
+        assert!(message.starts_with("recursion limit: the file nests too deeply here"), "{message}");
+        assert_eq!(place, Some(span_of_last_dot(&keys)));
+    }
+
+    fn span_of_last_dot(text: &str) -> Span {
+        let at = text.rfind('.').unwrap();
+        Span::new(at, at + 1)
     }
 
     #[test]

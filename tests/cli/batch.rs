@@ -601,3 +601,22 @@ fn reserved_names_in_a_library_are_bad_gates() {
     let stdout = String::from_utf8(output.stdout).unwrap();
     assert!(stdout.contains(".subckt fine_x1 nmos b y vdd vss"), "{stdout}");
 }
+
+#[test]
+fn a_toml_recursion_limit_error_has_a_place() {
+    // The TOML reader's recursion limit comes without a place: the message points at the deepest
+    // nesting, line and column, in a library and in a process file.
+    let key = vec!["x"; 300].join(".");
+    let library = format!("[[gate]]\nname = \"g\"\nexpr = \"inv\"\n{key} = 1\n");
+    let output = widthwise().args(["batch", "-"]).write_stdin(library).output().unwrap();
+    assert_eq!(output.status.code(), Some(2));
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    assert!(stderr.contains("recursion limit") && stderr.contains("at standard input, line 4, column 598"), "{stderr}");
+    let directory = tempfile::tempdir().unwrap();
+    let process = directory.path().join("process.toml");
+    std::fs::write(&process, format!("# deep\n{key} = 1\n")).unwrap();
+    let output = widthwise().args(["size", "inv", "--process"]).arg(&process).output().unwrap();
+    assert_eq!(output.status.code(), Some(2));
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    assert!(stderr.contains("recursion limit") && stderr.contains("line 2, column 598"), "{stderr}");
+}
