@@ -96,9 +96,13 @@ pub struct Source {
 }
 
 impl Source {
-    /// A source from text already read.
+    /// A source from text already read (a leading byte-order mark is dropped, as TOML allows it).
     pub fn new(origin: impl Into<String>, text: impl Into<String>, directory: impl Into<PathBuf>) -> Source {
-        Source { origin: origin.into(), text: text.into(), directory: directory.into(), lines: OnceCell::new() }
+        let mut text = text.into();
+        if text.starts_with('\u{feff}') {
+            text.drain(..'\u{feff}'.len_utf8());
+        }
+        Source { origin: origin.into(), text, directory: directory.into(), lines: OnceCell::new() }
     }
 
     /// Read the library file at `path` (`-`: standard input) as UTF-8.
@@ -462,7 +466,7 @@ impl Library {
         }
         if let Some((key, span)) = unknown {
             return Err(source.error(
-                format!("unknown key '{key}': a library file has process, [defaults] and [[gate]] entries"),
+                format!("unknown key '{}': a library file has process, [defaults] and [[gate]] entries", escaped(&key)),
                 Some(span),
             ));
         }
@@ -751,7 +755,8 @@ pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedGat
         let span = plan.critical_span.unwrap_or(plan.name_span);
         return Err(plan.problem(
             format!(
-                "critical input '{critical}' is not an input of the gate (its inputs: {})",
+                "critical input '{}' is not an input of the gate (its inputs: {})",
+                escaped(critical),
                 function.inputs.join(", ")
             ),
             Place::File(span),

@@ -190,16 +190,23 @@ pub fn deck_options(args: &DeckArgs, process: &Process) -> Result<DeckOptions, E
     Ok(DeckOptions { models, diffusion_capacitance: args.diffusion_capacitance, summary: args.summary })
 }
 
-/// An expression argument as UTF-8 (`-` reads it from standard input), or an error naming the
-/// first bad byte.
+/// An expression argument as UTF-8 (`-` reads it from standard input), a leading byte-order mark
+/// dropped, or an error naming the first bad byte.
 pub fn expression_text(argument: &OsString) -> Result<String, Error> {
     let bytes = if argument == "-" {
         read_bounded(io::stdin().lock(), MAX_EXPRESSION_BYTES, "the expression on standard input", Path::new("-"))?
     } else {
         argument.as_encoded_bytes().to_vec()
     };
-    String::from_utf8(bytes)
-        .map_err(|error| Error::NotUtf8 { what: "the expression".to_string(), byte: error.utf8_error().valid_up_to() })
+    let text = String::from_utf8(bytes).map_err(|error| Error::NotUtf8 {
+        what: "the expression".to_string(),
+        byte: error.utf8_error().valid_up_to(),
+    })?;
+    // A leading byte-order mark is dropped here, so that columns count from what follows it.
+    Ok(match text.strip_prefix('\u{feff}') {
+        Some(rest) => rest.to_string(),
+        None => text,
+    })
 }
 
 /// Standard error for diagnostics. A write that fails (the reader closed the pipe) is dropped: there
@@ -443,12 +450,17 @@ pub fn read_bounded(reader: impl Read, limit: usize, what: &str, path: &Path) ->
     Ok(bytes)
 }
 
-/// Read a regular file of at most `limit` bytes as UTF-8 text; `what` names it for messages.
+/// Read a regular file of at most `limit` bytes as UTF-8 text, a leading byte-order mark dropped;
+/// `what` names it for messages.
 pub fn read_text(path: &Path, limit: usize, what: &str) -> Result<String, Error> {
     let file = open_regular(path, what, "")?;
     let bytes = read_bounded(file, limit, &format!("'{}'", path.display()), path)?;
-    String::from_utf8(bytes).map_err(|error| Error::NotUtf8 {
+    let mut text = String::from_utf8(bytes).map_err(|error| Error::NotUtf8 {
         what: format!("'{}'", path.display()),
         byte: error.utf8_error().valid_up_to(),
-    })
+    })?;
+    if text.starts_with('\u{feff}') {
+        text.drain(..'\u{feff}'.len_utf8());
+    }
+    Ok(text)
 }

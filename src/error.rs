@@ -47,8 +47,8 @@ pub enum ExprError {
         /// Where the (empty) text is.
         span: Span,
     },
-    /// A character no token starts with.
-    #[error("unknown character '{character}'")]
+    /// A character no token starts with (a control character is written escaped).
+    #[error("unknown character '{}'", escaped(&character.to_string()))]
     UnknownCharacter {
         /// The character.
         character: char,
@@ -295,13 +295,15 @@ impl Error {
             }
             Error::Process { error, path, source_text } => match error.span() {
                 Some(span) => render_at(&error.to_string(), &path.display().to_string(), source_text, span),
-                None => format!("error: {}: {error}\n", path.display()),
+                None => format!("error: {}: {}\n", path.display(), escaped_lines(&error.to_string())),
             },
             Error::InFile { message, origin, source_text, span: Some(span) } => {
                 render_at(message, origin, source_text, *span)
             }
-            Error::InFile { message, origin, span: None, .. } => format!("error: {message}\n  in {origin}\n"),
-            other => format!("error: {other}\n"),
+            Error::InFile { message, origin, span: None, .. } => {
+                format!("error: {}\n  in {origin}\n", escaped_lines(message))
+            }
+            other => format!("error: {}\n", escaped_lines(&other.to_string())),
         }
     }
 }
@@ -380,6 +382,12 @@ pub fn deepest_nesting(text: &str) -> Option<Span> {
     best.map(|(_, offset)| Span::new(offset, offset + 1))
 }
 
+/// `text` with every control character but the line break escaped ([`escaped`]): for whole
+/// messages, whose lines are the program's own.
+pub fn escaped_lines(text: &str) -> String {
+    text.split('\n').map(escaped).collect::<Vec<_>>().join("\n")
+}
+
 /// Line (1-based), column (1-based, in characters) and the line's text for a byte offset.
 pub fn line_and_column(source: &str, offset: usize) -> (usize, usize, &str) {
     let offset = floor_char_boundary(source, offset.min(source.len()));
@@ -405,18 +413,34 @@ const CONTEXT_CHARACTERS: usize = 40;
 pub fn render_at(message: &str, origin: &str, source: &str, span: Span) -> String {
     let (line, column, text) = line_and_column(source, span.start);
     let mut out = String::new();
-    let _ = writeln!(out, "error: {message}");
+    let _ = writeln!(out, "error: {}", escaped_lines(message));
     if source.contains('\n') {
         let _ = writeln!(out, "  at {origin}, line {line}, column {column}:");
     } else {
         let _ = writeln!(out, "  at {origin}, column {column}:");
     }
+    // Each character as shown: a tab as a space, a control character escaped (a NUL is never
+    // echoed raw), the rest as it is; the caret counts what is shown.
+    let shown_as = |c: char| -> String {
+        match c {
+            '\t' => " ".to_string(),
+            c if c.is_control() => c.escape_default().collect(),
+            c => c.to_string(),
+        }
+    };
     let characters: Vec<char> = text.chars().collect();
     let caret_at = column - 1;
     let first = caret_at.saturating_sub(CONTEXT_CHARACTERS);
     let last = (caret_at + CONTEXT_CHARACTERS).min(characters.len());
-    let mut shown: String = characters[first..last].iter().collect();
-    let mut caret_column = caret_at - first;
+    let mut shown = String::new();
+    let mut caret_column = 0;
+    for (index, &character) in characters[first..last].iter().enumerate() {
+        let piece = shown_as(character);
+        if first + index < caret_at {
+            caret_column += piece.chars().count();
+        }
+        shown.push_str(&piece);
+    }
     if first > 0 {
         shown.insert_str(0, "...");
         caret_column += 3;
@@ -426,10 +450,12 @@ pub fn render_at(message: &str, origin: &str, source: &str, span: Span) -> Strin
     }
     let width = {
         let end = floor_char_boundary(source, span.end.min(source.len()));
-        let covered = source.get(span.start.min(end)..end).map_or(1, |s| s.chars().take_while(|c| *c != '\n').count());
+        let covered = source
+            .get(span.start.min(end)..end)
+            .map_or(1, |s| s.chars().take_while(|c| *c != '\n').map(|c| shown_as(c).chars().count()).sum::<usize>());
         covered.clamp(1, CONTEXT_CHARACTERS)
     };
-    let _ = writeln!(out, "    {}", shown.replace('\t', " "));
+    let _ = writeln!(out, "    {shown}");
     let _ = writeln!(out, "    {}{}", " ".repeat(caret_column), "^".repeat(width));
     out
 }
@@ -446,6 +472,19 @@ mod tests {
         assert_eq!(lines[1], "  at the expression, column 6:");
         assert_eq!(lines[2], "    !(a &)");
         assert_eq!(lines[3], "         ^");
+    }
+
+    #[test]
+    fn control_characters_are_escaped_and_the_caret_follows() {
+        // A NUL and an escape character in the source line are shown escaped, and the caret still
+        // sits under the character the span names.
+        let text = render_at("unknown character '\\u{0}'", "the expression", "a \u{0}\u{1b} & b", Span::new(2, 3));
+        let lines: Vec<&str> = text.lines().collect();
+        assert!(!text.contains('\u{0}') && !text.contains('\u{1b}'), "{text:?}");
+        assert_eq!(lines[2], "    a \\u{0}\\u{1b} & b");
+        assert_eq!(lines[3], "      ^^^^^");
+        assert_eq!(escaped("tab\tnul\u{0}"), "tab\\tnul\\u{0}");
+        assert_eq!(escaped_lines("one\u{7}\ntwo"), "one\\u{7}\ntwo");
     }
 
     #[test]

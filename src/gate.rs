@@ -322,7 +322,8 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
         None => None,
         Some(name) => Some(function.inputs.iter().position(|i| i == name).ok_or_else(|| {
             Error::Usage(format!(
-                "critical input '{name}' is not an input of the gate (its inputs: {})",
+                "critical input '{}' is not an input of the gate (its inputs: {})",
+                crate::error::escaped(name),
                 function.inputs.join(", ")
             ))
         })?),

@@ -18,7 +18,13 @@ fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
         Ok(cli) => cli,
         Err(error) => {
-            let _ = error.print();
+            let plain = error.render().to_string();
+            if error.use_stderr() && plain.chars().any(|c| c.is_control() && c != '\n') {
+                // clap quotes a bad argument as given: its control characters are written escaped.
+                widthwise::commands::diagnose(&widthwise::error::escaped_lines(&plain));
+            } else {
+                let _ = error.print();
+            }
             return ExitCode::from(if error.use_stderr() { EXIT_BAD_INPUT } else { EXIT_OK });
         }
     };

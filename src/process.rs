@@ -309,6 +309,9 @@ pub const MAX_PROCESS_FILE_BYTES: usize = 1 << 20;
 impl Process {
     /// Read a process file's text.
     pub fn from_toml(text: &str) -> Result<Process, ProcessError> {
+        // A leading byte-order mark is skipped (TOML allows it); spans count from after it, as
+        // the readers that call this drop it too.
+        let text = text.strip_prefix('\u{feff}').unwrap_or(text);
         if text.len() > MAX_PROCESS_FILE_BYTES {
             return Err(ProcessError::Syntax {
                 message: format!(

@@ -66,6 +66,11 @@ pub fn tokenize(source: &str) -> Result<Vec<Token>, ExprError> {
                 index += 1;
                 continue;
             }
+            // A byte-order mark (U+FEFF) at the very start is skipped, as every reader skips it.
+            0xEF if index == 0 && source.starts_with('\u{feff}') => {
+                index += '\u{feff}'.len_utf8();
+                continue;
+            }
             b'!' | b'~' => single(TokenKind::Not),
             b'\'' => single(TokenKind::Prime),
             b'&' | b'*' | b'.' => single(TokenKind::And),
@@ -132,6 +137,16 @@ mod tests {
         assert_eq!(tokenize("a # b"), Err(ExprError::UnknownCharacter { character: '#', span: Span::new(2, 3) }));
         let error = tokenize("a & é").unwrap_err();
         assert_eq!(error.span(), Span::new(4, 6));
+    }
+
+    #[test]
+    fn a_leading_byte_order_mark_is_skipped_and_a_nul_is_refused() {
+        let tokens = tokenize("\u{feff}!a").unwrap();
+        assert_eq!(tokens[0].span, Span::new(3, 4));
+        // Anywhere else it is an unknown character, as is a NUL, whose message escapes it.
+        assert!(tokenize("!a\u{feff}").is_err());
+        let error = tokenize("a \u{0} b").unwrap_err();
+        assert_eq!(error.to_string(), "unknown character '\\u{0}'");
     }
 
     #[test]

@@ -205,3 +205,48 @@ fn wide_shorthands_size() {
         assert!(!text.contains(",y,") && text.contains(",z,"), "{text}");
     }
 }
+
+#[test]
+fn control_characters_are_never_echoed_raw() {
+    // A NUL in an expression (standard input, or a library's expr) is named escaped, and the
+    // source line shows it escaped too.
+    let output = widthwise().args(["size", "-"]).write_stdin("!(a \u{0} b)").output().unwrap();
+    assert_eq!(output.status.code(), Some(2));
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    assert!(!stderr.contains('\u{0}'), "{stderr:?}");
+    assert!(stderr.contains("unknown character '\\u{0}'") && stderr.contains("    !(a \\u{0} b)"), "{stderr}");
+    let library = "[[gate]]\nname = \"g\"\nexpr = \"!(a \\u0000 b)\"\ncritical = \"\\u001b[31m\"\n";
+    let output = widthwise().args(["batch", "-"]).write_stdin(library).output().unwrap();
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    assert!(!stderr.chars().any(|c| c.is_control() && c != '\n'), "{stderr:?}");
+    assert!(stderr.contains("unknown character '\\u{0}'"), "{stderr}");
+    // A bad option value with an escape character in it.
+    let output = widthwise().args(["size", "nand2", "--critical", "q\u{7}"]).output().unwrap();
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    assert!(stderr.contains("critical input 'q\\u{7}'") && !stderr.contains('\u{7}'), "{stderr:?}");
+}
+
+#[test]
+fn a_leading_byte_order_mark_is_skipped_everywhere() {
+    // Standard input, an argument, a library file and a process file alike.
+    let plain = widthwise().args(["size", "nand2", "--format", "csv"]).output().unwrap().stdout;
+    let marked = widthwise().args(["size", "-", "--format", "csv"]).write_stdin("\u{feff}nand2").output().unwrap();
+    assert!(marked.status.success(), "{}", String::from_utf8_lossy(&marked.stderr));
+    assert_eq!(marked.stdout, plain);
+    widthwise().args(["size", "\u{feff}!(a & b)"]).assert().success();
+    // Its column counts are those of the text after it.
+    let output = widthwise().args(["size", "-"]).write_stdin("\u{feff}!(a & )").output().unwrap();
+    assert!(String::from_utf8(output.stderr).unwrap().contains("column 7"));
+    widthwise()
+        .args(["batch", "-", "--format", "csv"])
+        .write_stdin("\u{feff}[[gate]]\nname = \"g\"\nexpr = \"inv\"\n")
+        .assert()
+        .success();
+    let directory = tempfile::tempdir().unwrap();
+    let process = directory.path().join("process.toml");
+    let text = String::from_utf8(widthwise().arg("process").output().unwrap().stdout).unwrap();
+    std::fs::write(&process, format!("\u{feff}{}", text.replace("grid_nm = 5.0", "grid_nm = -5.0"))).unwrap();
+    let output = widthwise().args(["size", "inv", "--process"]).arg(&process).output().unwrap();
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    assert!(stderr.contains("line 17, column 11"), "{stderr}");
+}
