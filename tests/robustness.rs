@@ -1,10 +1,16 @@
 //! Arbitrary text never panics the readers: an expression, a process file or a library file gives a
-//! result or an error, and an accepted gate verifies. Also the regression inputs found by fuzzing (fuzz/).
+//! result or an error, and an accepted gate verifies. Also the regression inputs found by fuzzing
+//! (fuzz/), and each fuzz target's own body (fuzz/src/lib.rs) on a few thousand seeded
+//! pseudo-random inputs, so that plain `cargo test` runs what the fuzzer runs, without a fuzzer.
 
 use proptest::prelude::*;
+
+/// The fuzz targets' bodies, the very functions `cargo fuzz` calls (fuzz/src/bin).
+#[path = "../fuzz/src/lib.rs"]
+mod fuzz_targets;
 use widthwise::batch::{Library, Source, write_batch};
 use widthwise::error::render_at;
-use widthwise::expr::read_gate;
+use widthwise::expr::read_gate_with_models;
 use widthwise::gate::{GateOptions, size_text};
 use widthwise::output::{Format, Rows};
 use widthwise::process::Process;
@@ -17,7 +23,8 @@ fn options(method: Method) -> GateOptions {
 
 /// Everything a reader of expression text does with it: read, size, render an error, verify.
 fn read_everything(text: &str) {
-    let read = read_gate(text);
+    // Sizing reads with the process's model names reserved (the built-in process: nmos, pmos).
+    let read = read_gate_with_models(text, &Process::default().model_names());
     for method in [Method::LongestPath, Method::MinArea] {
         match size_text(text, &options(method)) {
             Ok(gate) => {
@@ -184,5 +191,190 @@ fn fuzz_regressions() {
         } else {
             panic!("{name}: a regression input's name starts with its target");
         }
+    }
+}
+
+/// A small deterministic generator (xorshift64*), so that every run tries the same inputs.
+struct Generator(u64);
+
+impl Generator {
+    fn next(&mut self) -> u64 {
+        self.0 ^= self.0 >> 12;
+        self.0 ^= self.0 << 25;
+        self.0 ^= self.0 >> 27;
+        self.0.wrapping_mul(0x2545_f491_4f6c_dd1d)
+    }
+
+    fn below(&mut self, bound: usize) -> usize {
+        (self.next() % bound.max(1) as u64) as usize
+    }
+
+    fn pick<'a, T>(&mut self, items: &'a [T]) -> &'a T {
+        &items[self.below(items.len())]
+    }
+}
+
+/// The committed seeds of a fuzz target (fuzz/seeds/TARGET), as text.
+fn seeds(target: &str) -> Vec<String> {
+    let directory = format!("{}/fuzz/seeds/{target}", env!("CARGO_MANIFEST_DIR"));
+    let mut seeds: Vec<String> = std::fs::read_dir(directory)
+        .unwrap()
+        .filter_map(|entry| String::from_utf8(std::fs::read(entry.unwrap().path()).unwrap()).ok())
+        .collect();
+    seeds.sort();
+    assert!(!seeds.is_empty(), "{target} has seeds");
+    seeds
+}
+
+/// `count` inputs for a target: each a seed with one to three edits, each edit inserting a character
+/// or a word of `words`, deleting, replacing or repeating a stretch, or splicing in part of another
+/// seed, in the manner of a fuzzer's mutations.
+fn mutations(target: &str, words: &[&str], count: usize, seed: u64) -> Vec<String> {
+    const CHARACTERS: &[char] = &[
+        'a',
+        'b',
+        'y',
+        'Z',
+        '_',
+        '0',
+        '1',
+        '9',
+        '!',
+        '~',
+        '\'',
+        '&',
+        '*',
+        '.',
+        '|',
+        '+',
+        '^',
+        '(',
+        ')',
+        '=',
+        ' ',
+        '\t',
+        '\n',
+        '\r',
+        '"',
+        '[',
+        ']',
+        '{',
+        '}',
+        ',',
+        '#',
+        '-',
+        'e',
+        '\u{0}',
+        '\u{7}',
+        '\u{1b}',
+        '\u{7f}',
+        '\u{e9}',
+        '\u{feff}',
+        '\u{202e}',
+        '\u{1F600}',
+    ];
+    let seeds: Vec<Vec<char>> = seeds(target).iter().map(|s| s.chars().collect()).collect();
+    let mut generator = Generator(seed);
+    (0..count)
+        .map(|_| {
+            let mut text = generator.pick(&seeds).clone();
+            for _ in 0..1 + generator.below(3) {
+                let at = generator.below(text.len() + 1);
+                let stretch = 1 + generator.below(12);
+                let end = (at + stretch).min(text.len());
+                match generator.below(6) {
+                    0 => text.insert(at, *generator.pick(CHARACTERS)),
+                    1 => {
+                        let word: Vec<char> = generator.pick(words).chars().collect();
+                        text.splice(at..at, word);
+                    }
+                    2 => {
+                        text.drain(at..end);
+                    }
+                    3 => {
+                        if at < text.len() {
+                            text[at] = *generator.pick(CHARACTERS);
+                        }
+                    }
+                    4 => {
+                        let repeated: Vec<char> = text[at..end].to_vec();
+                        let times = 1 + generator.below(3);
+                        for _ in 0..times {
+                            text.splice(end..end, repeated.iter().copied());
+                        }
+                    }
+                    _ => {
+                        let other = generator.pick(&seeds);
+                        let from = generator.below(other.len());
+                        let to = (from + stretch).min(other.len());
+                        text.splice(at..at, other[from..to].iter().copied());
+                    }
+                }
+            }
+            text.into_iter().collect()
+        })
+        .collect()
+}
+
+#[test]
+fn the_expression_target_on_seeded_inputs() {
+    let words = [
+        "nand8", "nor3", "aoi8881", "oai222", "inv", "gnd", "vdd", "VSS", "nmos", "pmos", "y = ", "out = ", "!(",
+        ") | ", " & ", "a'", "(((", ")))", "x1 x2 x3", "\u{feff}", "0",
+    ];
+    for text in mutations("expression", &words, 3000, 0x5eed_0001) {
+        fuzz_targets::expression(&text);
+    }
+}
+
+#[test]
+fn the_process_file_target_on_seeded_inputs() {
+    let words = [
+        "= 1e300",
+        "= 1e-308",
+        "= 0.0",
+        "= -5.0",
+        "= nan",
+        "= inf",
+        "= \"gnd\"",
+        "= \"nmos\"",
+        "grid_nm",
+        "length_nm",
+        "mobility_ratio",
+        "[x]",
+        "a.b.c.d.e = 1",
+        "= [1, 2]",
+        "= { a = 1 }",
+        "\n",
+        "\u{feff}",
+        "= 99999999999",
+    ];
+    for text in mutations("process_file", &words, 3000, 0x5eed_0002) {
+        fuzz_targets::process_file(&text);
+    }
+}
+
+#[test]
+fn the_batch_file_target_on_seeded_inputs() {
+    let words = [
+        "[[gate]]\nname = \"g\"\nexpr = \"nand2\"\n",
+        "[defaults]\n",
+        "drive = [1, 2, 1e300]",
+        "drive = 5e-324",
+        "method = \"elmore\"",
+        "stack_order = \"written\"",
+        "critical = \"a\"",
+        "name = \"gnd\"",
+        "expr = \"!(gnd & a)\"",
+        "expr = \"aoi8881\"",
+        "process = \"x.toml\"",
+        "[process]\nmobility_ratio = 2.0\n",
+        "mobility_ratio = 1e300",
+        "a.b.c.d.e.f = 1",
+        "\"\\u0000\"",
+        "\u{feff}",
+    ];
+    for text in mutations("batch_file", &words, 2000, 0x5eed_0003) {
+        fuzz_targets::batch_file(&text);
     }
 }

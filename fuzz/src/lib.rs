@@ -17,7 +17,8 @@ const VERIFY_INPUTS: usize = 10;
 /// Read a gate, size it both ways, write it in every format and, when small, verify it: an accepted
 /// expression must give a netlist that passes every check.
 pub fn expression(text: &str) {
-    let read = expr::read_gate(text);
+    // Sizing reads with the process's model names reserved (the built-in process: nmos, pmos).
+    let read = expr::read_gate_with_models(text, &Process::default().model_names());
     for method in [Method::LongestPath, Method::MinArea] {
         let sized = size_text(text, &GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None)));
         assert_eq!(read.is_ok(), sized.is_ok(), "read_gate and size_text disagree on {text:?}");
