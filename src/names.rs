@@ -17,11 +17,11 @@ pub const RESERVED: [&str; 4] = ["vdd", "vss", "gnd", "0"];
 /// Why `name` is reserved, if it is: one of [`RESERVED`], or one of `models` (the device models the
 /// netlists name), compared without case.
 pub fn reserved_reason(name: &str, models: &[&str]) -> Option<String> {
-    let lower = name.to_ascii_lowercase();
-    match lower.as_str() {
-        "vdd" | "vss" => Some(format!("'{lower}' is a supply rail of every netlist")),
-        "gnd" | "0" => Some(format!("'{lower}' is ground to a simulator (ngspice reads 0 and gnd as node 0)")),
-        _ => models.iter().find(|model| model.eq_ignore_ascii_case(name)).map(|model| {
+    // Compared in place: this runs for every name of every gate sized, and most are not reserved.
+    match RESERVED.iter().find(|reserved| reserved.eq_ignore_ascii_case(name)) {
+        Some(&rail @ ("vdd" | "vss")) => Some(format!("'{rail}' is a supply rail of every netlist")),
+        Some(ground) => Some(format!("'{ground}' is ground to a simulator (ngspice reads 0 and gnd as node 0)")),
+        None => models.iter().find(|model| model.eq_ignore_ascii_case(name)).map(|model| {
             format!(
                 "'{model}' names a device model in use (the process's nmos_model or pmos_model, or a deck's \
                  --nmos-model or --pmos-model)"

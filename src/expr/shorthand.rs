@@ -23,11 +23,11 @@ const KNOWN: &str = "known gates are inv, nand2..nand8, nor2..nor8, and aoi/oai 
 /// `taken` says which names the inputs may not have (the output's, the reserved ones): they are
 /// skipped.
 pub fn expand(name: &str, span: Span, taken: &dyn Fn(&str) -> bool) -> Result<Expr, ExprError> {
-    let names = InputNames::new(taken);
+    let mut names = InputNames { taken, next: 0 };
     let lower = name.to_ascii_lowercase();
     let unknown = |why: String| ExprError::UnknownShorthand { name: name.to_string(), why, span };
     let groups: Vec<usize> = if lower == "inv" {
-        return Ok(not(names.input(0, span), span));
+        return Ok(not(names.input(span), span));
     } else if let Some(count) = lower.strip_prefix("nand").or_else(|| lower.strip_prefix("nor")) {
         let is_nand = lower.starts_with("nand");
         let family = if is_nand { "nand" } else { "nor" };
@@ -35,7 +35,7 @@ pub fn expand(name: &str, span: Span, taken: &dyn Fn(&str) -> bool) -> Result<Ex
             count.parse().ok().filter(|n| (2..=MAX_STACK).contains(n) && !count.starts_with('0')).ok_or_else(|| {
                 unknown(format!("{family} takes 2 to {MAX_STACK} inputs ({family}2 .. {family}{MAX_STACK})"))
             })?;
-        let operands: Vec<Expr> = (0..inputs).map(|i| names.input(i, span)).collect();
+        let operands: Vec<Expr> = (0..inputs).map(|_| names.input(span)).collect();
         let kind = if is_nand { ExprKind::And(operands) } else { ExprKind::Or(operands) };
         return Ok(not(Expr { kind, span }, span));
     } else if let Some(digits) = lower.strip_prefix("aoi").or_else(|| lower.strip_prefix("oai")) {
@@ -59,11 +59,9 @@ pub fn expand(name: &str, span: Span, taken: &dyn Fn(&str) -> bool) -> Result<Ex
         )));
     };
     let is_aoi = lower.starts_with("aoi");
-    let mut next = 0;
     let mut terms = Vec::with_capacity(groups.len());
     for size in groups {
-        let members: Vec<Expr> = (next..next + size).map(|i| names.input(i, span)).collect();
-        next += size;
+        let members: Vec<Expr> = (0..size).map(|_| names.input(span)).collect();
         terms.push(if size == 1 {
             members.into_iter().next().expect("one member")
         } else if is_aoi {
@@ -85,22 +83,24 @@ pub fn input_name(index: usize) -> String {
     }
 }
 
-/// The names a shorthand's inputs take: the candidates of [`input_name`] in order, less the taken ones.
-struct InputNames {
-    names: Vec<String>,
+/// The names a shorthand's inputs take, in order: the candidates of [`input_name`], less the taken
+/// ones, made as they are asked for.
+struct InputNames<'a> {
+    taken: &'a dyn Fn(&str) -> bool,
+    /// The next candidate to try.
+    next: usize,
 }
 
-impl InputNames {
-    fn new(taken: &dyn Fn(&str) -> bool) -> InputNames {
-        // The largest shorthand has MAX_GROUPS x MAX_STACK inputs; a few candidates more cover the
-        // taken ones (the output and at most a few reserved names can look like a candidate).
-        let wanted = MAX_GROUPS * MAX_STACK;
-        let names = (0..).map(input_name).filter(|name| !taken(name)).take(wanted).collect();
-        InputNames { names }
-    }
-
-    fn input(&self, index: usize, span: Span) -> Expr {
-        Expr { kind: ExprKind::Input(self.names[index].clone()), span }
+impl InputNames<'_> {
+    /// The next input, as an expression node.
+    fn input(&mut self, span: Span) -> Expr {
+        loop {
+            let name = input_name(self.next);
+            self.next += 1;
+            if !(self.taken)(&name) {
+                return Expr { kind: ExprKind::Input(name), span };
+            }
+        }
     }
 }
 
