@@ -176,6 +176,13 @@ pub fn deck_options(args: &DeckArgs, process: &Process) -> Result<DeckOptions, E
             let include = String::from_utf8(absolute.into_os_string().into_encoded_bytes()).map_err(|error| {
                 Error::NotUtf8 { what: "the --models path".to_string(), byte: error.utf8_error().valid_up_to() }
             })?;
+            if include.chars().any(|c| c == '"' || c.is_control()) {
+                return Err(Error::Usage(format!(
+                    "the --models path '{}' holds a double quote or a control character, which a SPICE .include \
+                     line cannot hold: link or copy the library to a plainer path",
+                    crate::error::escaped(&include)
+                )));
+            }
             let nmos = args.nmos_model.clone().unwrap_or_else(|| process.nmos_model.clone());
             let pmos = args.pmos_model.clone().unwrap_or_else(|| process.pmos_model.clone());
             if nmos.eq_ignore_ascii_case(&pmos) {

@@ -106,3 +106,20 @@ fn model_names_of_a_library_are_reserved_and_must_differ() {
         .code(2)
         .stderr(predicate::str::contains("reserved"));
 }
+
+#[test]
+fn a_model_library_path_a_deck_cannot_hold_is_refused() {
+    // A line break or a double quote in the path would break the .include line.
+    let directory = tempfile::tempdir().unwrap();
+    for name in ["two\nlines.lib", "quote\"d.lib"] {
+        let library = directory.path().join(name);
+        std::fs::write(&library, "* models\n").unwrap();
+        widthwise()
+            .args(["deck", "nand2", "--models"])
+            .arg(&library)
+            .assert()
+            .code(2)
+            .stdout(predicate::str::is_empty())
+            .stderr(predicate::str::contains("cannot hold"));
+    }
+}
