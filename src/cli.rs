@@ -45,8 +45,8 @@ Work budget (--work-budget UNITS, default 2^30 = 1073741824 for each computation
 exit 2 before any output): verify counts vectors / 64 x input occurrences before it starts (the
 default allows every gate up to 20 inputs, 30 inputs with up to 64 occurrences); the stack-order
 search counts orders tried x the devices timed per order and stops after the first order when the
-rest would pass (about 24 occurrences of 12 repeated inputs); delays count the devices of every
-transition timed and every input vector tried; the elmore method's solver counts 600 Newton steps
+rest would pass (about 22 occurrences of 11 repeated inputs); delays count the devices of every
+transition timed, path tried and input vector searched; the elmore method's solver counts 600 Newton steps
 (its most) x the multiply-adds of one before it starts (about 1.8e6 per step, e.g. 40 transistors
 with 625 paths). At the budget each takes a few seconds.
 
@@ -211,7 +211,9 @@ Vectors: every one of the 2^n input vectors up to 30 inputs (bit-parallel, 64 pe
 core); past 30 inputs, the number given by --random-vectors (default 1048576) of pseudo-random ones
 from --seed (default 26719299881249566), with vector 0 all zeros and vector 1 all ones. Input 1 is
 bit 0 of a vector's index. The exact worst case over vectors (repeated inputs) is enumerated up to 16
-inputs.
+inputs. The work, vectors / 64 x input occurrences, must be within --work-budget (default
+2^30 = 1073741824 units: every gate up to 20 inputs, 30 inputs with up to 64 occurrences), or
+nothing is checked, exit 2.
 
 Results are first-order estimates (switch-level RC model). Sign-off needs the foundry's models,
 design rules and licensed practice.";

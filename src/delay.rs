@@ -732,15 +732,18 @@ fn measure(
         let (loaded, unloaded, tree) = elmore(circuit, &shape, widths, load)?;
         Ok(Measured { elmore: loaded, unloaded, tree, shape, after, search })
     };
-    if let Some((_, vector)) = gate.worst_case_for_input(input, edge.network()) {
+    if let Some((_, vector)) = gate.worst_case_for_input_within(input, edge.network(), meter)? {
         let after: Vec<bool> = vector.values.iter().map(|(_, v)| *v).collect();
         return measure_vector(after, "weakest path").map(Some);
     }
     if circuit.input_count > EXACT_WORST_MAX_INPUTS {
         return Ok(None);
     }
-    // Every vector of the inputs is tried on the network.
-    meter.charge((1u128 << circuit.input_count) * devices, Work::Delays)?;
+    // Every vector of the inputs is made, and the half with the input at its on-level is tried on
+    // the network: its devices' states, then a walk that stops at the first branch that conducts
+    // (or member that does not).
+    let vectors = 1u128 << circuit.input_count;
+    meter.charge(vectors * circuit.input_count as u128 + vectors / 2 * circuit.count as u128, Work::Delays)?;
     let Some(vectors) = gate.switching_vectors(input, edge.network()) else { return Ok(None) };
     let mut worst: Option<Measured> = None;
     for after in vectors {

@@ -8,6 +8,7 @@ use std::sync::Arc;
 use serde::ser::{SerializeMap, Serializer};
 
 use crate::bounds;
+use crate::budget::{Meter, OverBudget, Work};
 use crate::error::Error;
 use crate::expr::{GateFunction, read_gate_with_models};
 use crate::figures::{self, DeviceLoad};
@@ -578,27 +579,47 @@ impl SizedGate {
     /// conducting path (the input itself at its on-level). `None` where no such path exists
     /// (repeated inputs can block every one).
     pub fn worst_case_for_input(&self, input: usize, kind: NetworkKind) -> Option<(paths::Path, Vector)> {
+        self.worst_case_for_input_within(input, kind, &Meter::unlimited()).unwrap_or(None)
+    }
+
+    /// [`SizedGate::worst_case_for_input`], its work counted on `meter` (as timing the delays):
+    /// each path found or tried is as many units as the gate has input occurrences, a listing as
+    /// many as the partial paths it builds.
+    pub fn worst_case_for_input_within(
+        &self,
+        input: usize,
+        kind: NetworkKind,
+        meter: &Meter,
+    ) -> Result<Option<(paths::Path, Vector)>, OverBudget> {
         let side = usize::from(kind == NetworkKind::PullUp);
         let network = &self.trees[side];
         let resistance = self.options.resistances(kind, &self.widths[side]);
         let input_of = self.function.input_of();
+        let occurrences = input_of.len() as u128;
         let mut best: Option<(paths::Path, Vec<bool>)> = None;
         // Repeated inputs can block the weakest path through a device; then the weakest few paths of
         // the network are searched (listed once, a bounded number).
         let mut listing: Option<Vec<paths::Path>> = None;
         for device in (0..input_of.len()).filter(|&d| input_of[d] == input) {
+            meter.charge(2 * occurrences, Work::Delays)?;
             let mut candidates = match paths::weakest_through(network, &resistance, device) {
                 Some(path) => vec![path],
                 None => continue,
             };
             if paths::sensitize(network, &candidates[0].devices, &input_of, self.function.inputs.len()).is_none() {
-                let listed = listing.get_or_insert_with(|| {
+                if listing.is_none() {
                     let limit = (paths::MAX_LISTING_WORK / paths::listing_work(network, 1).max(1)) as usize;
-                    paths::list(network, &resistance, limit.clamp(1, paths::MAX_LISTED_PATHS))
-                });
+                    let limit = limit.clamp(1, paths::MAX_LISTED_PATHS);
+                    // The listing builds at most its paths per series member, and there may be fewer.
+                    let listed = usize::try_from(paths::count(network)).map_or(limit, |count| count.min(limit));
+                    meter.charge(paths::listing_work(network, listed), Work::Delays)?;
+                    listing = Some(paths::list(network, &resistance, limit));
+                }
+                let listed = listing.as_deref().unwrap_or_default();
                 candidates = listed.iter().filter(|p| p.devices.contains(&device)).cloned().collect();
             }
             for path in candidates {
+                meter.charge(occurrences, Work::Delays)?;
                 if let Some(values) = paths::sensitize(network, &path.devices, &input_of, self.function.inputs.len()) {
                     if best.as_ref().is_none_or(|(b, _)| path.resistance > b.resistance + 1e-12) {
                         best = Some((path, values));
@@ -607,7 +628,7 @@ impl SizedGate {
                 }
             }
         }
-        best.map(|(path, values)| (path, Vector::new(&self.function.inputs, &values)))
+        Ok(best.map(|(path, values)| (path, Vector::new(&self.function.inputs, &values))))
     }
 }
 

@@ -318,7 +318,7 @@ fn work_budgets_bound_the_long_computations() {
     past_the_budget(
         &["size", "-", "--stack-order", "search"],
         and_of(32, 16),
-        "the stack-order search could take up to 134221824000 work units",
+        "the stack-order search could take up to 67158016000 work units",
     );
     // The elmore method on 80 transistors, 4 groups of 10 in parallel (10,000 paths; ran 94 s, then
     // did not converge): its Newton steps would pass the budget before the program is half built.
