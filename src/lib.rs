@@ -17,6 +17,7 @@ pub mod error;
 pub mod expr;
 pub mod figures;
 pub mod gate;
+pub mod models;
 pub mod network;
 pub mod output;
 pub mod paths;
