@@ -19,6 +19,7 @@ pub mod figures;
 pub mod gate;
 pub mod models;
 pub mod network;
+pub mod ngspice;
 pub mod output;
 pub mod paths;
 pub mod process;
