@@ -2028,6 +2028,28 @@ mod tests {
         assert!(check_section_name("two words").is_err());
     }
 
+    proptest::proptest! {
+        /// Any text made of the reader's special characters scans without a panic, and every
+        /// problem points inside its file.
+        #[test]
+        fn any_library_text_scans(text in r#"([-.+*$;/,'"{}()=~ \t\r\n\\]|model|lib|endl|inc|subckt|ends|nmos|a|1|u|e|\u{e9})*"#) {
+            for section in [None, Some("a")] {
+                let library = scan_files(&[("lib.l", &text)], section);
+                for problem in library.errors.iter().chain(&library.warnings) {
+                    if let Some(at) = problem.at {
+                        let file = &library.file(at.file).text;
+                        proptest::prop_assert!(at.span.start <= at.span.end && at.span.end <= file.len());
+                        proptest::prop_assert!(file.is_char_boundary(at.span.start) && file.is_char_boundary(at.span.end));
+                    }
+                }
+                for model in &library.models {
+                    let file = &library.file(model.at.file).text;
+                    proptest::prop_assert!(file.get(model.at.span.start..model.at.span.end).is_some());
+                }
+            }
+        }
+    }
+
     #[test]
     fn arbitrary_bytes_never_panic() {
         // Every prefix of a text dense in the reader's special characters.

@@ -5,6 +5,7 @@
 mod deck_simulation;
 mod delay;
 mod delay_ranking;
+mod models;
 mod published;
 mod scipy;
 mod support;
