@@ -719,7 +719,6 @@ pub fn scan(entry: &Path, text: &str, section: Option<&str>, read: &mut Reader<'
         files: Vec::new(),
         by_path: HashMap::new(),
         loaded: HashMap::new(),
-        failed: Vec::new(),
         bytes: 0,
         stopped: false,
         errors: Vec::new(),
@@ -795,7 +794,6 @@ struct Scanner<'r, 'a> {
     files: Vec<SourceFile>,
     by_path: HashMap<PathBuf, FileId>,
     loaded: HashMap<FileId, Loaded>,
-    failed: Vec<FileId>,
     bytes: usize,
     stopped: bool,
     errors: Vec<Problem>,
@@ -987,8 +985,9 @@ impl Scanner<'_, '_> {
         self.files[id.0].path.parent().map(Path::to_path_buf).unwrap_or_default()
     }
 
-    /// The cards of file `id` with its `.include`s in place, at nesting `depth`; `None` after an
-    /// error that stops ngspice from reading the file (or the budget).
+    /// The cards of file `id` with its `.include`s in place, at nesting `depth`; `None` once the
+    /// budget is spent or the nesting too deep. An include that fails is an error and is left out,
+    /// and the scan goes on to find further problems (ngspice would stop at the first).
     fn load(&mut self, id: FileId, depth: usize, at: Option<Location>) -> Option<Loaded> {
         if let Some(loaded) = self.loaded.get(&id).cloned() {
             if depth + loaded.height > MAX_NESTING {
@@ -996,9 +995,6 @@ impl Scanner<'_, '_> {
                 return None;
             }
             return self.spend(loaded.bytes, at).then_some(loaded);
-        }
-        if self.failed.contains(&id) {
-            return None;
         }
         if !self.spend(self.files[id.0].text.len(), at) {
             return None;
@@ -1011,7 +1007,6 @@ impl Scanner<'_, '_> {
         let mut out = Vec::with_capacity(cards.len());
         let mut height = 0;
         let mut bytes = self.files[id.0].text.len();
-        let mut failed = false;
         for card in cards {
             let first = card.first(&self.files);
             if kind(first) != Kind::Include {
@@ -1022,46 +1017,30 @@ impl Scanner<'_, '_> {
                 Ok((offset, written)) => (offset, written.to_string()),
                 Err(error) => {
                     self.error(error, Some(card.first_location()));
-                    failed = true;
                     continue;
                 }
             };
             let start = card.pieces[0].start + offset;
             let at_path = Location { file: id, span: Span::new(start, start + written.len()) };
             let directory = self.directory_of(id);
-            let Some(path) = self.resolve(&written, Some(&directory), at_path) else {
-                failed = true;
-                continue;
-            };
+            let Some(path) = self.resolve(&written, Some(&directory), at_path) else { continue };
             if depth + 1 > MAX_NESTING {
                 self.error(ScanError::TooDeep { limit: MAX_NESTING }, Some(at_path));
-                failed = true;
                 continue;
             }
-            let Some(child) = self.open(path, at_path) else {
-                failed = true;
-                continue;
-            };
+            let Some(child) = self.open(path, at_path) else { continue };
             if self.include_stack.contains(&child) {
                 let path = self.files[child.0].path.clone();
                 self.error(ScanError::IncludeCycle { path }, Some(at_path));
-                failed = true;
                 continue;
             }
-            match self.load(child, depth + 1, Some(at_path)) {
-                Some(loaded) => {
-                    height = height.max(loaded.height + 1);
-                    bytes = bytes.saturating_add(loaded.bytes);
-                    out.extend(loaded.cards.iter().cloned());
-                }
-                None => failed = true,
+            if let Some(loaded) = self.load(child, depth + 1, Some(at_path)) {
+                height = height.max(loaded.height + 1);
+                bytes = bytes.saturating_add(loaded.bytes);
+                out.extend(loaded.cards.iter().cloned());
             }
         }
         self.include_stack.pop();
-        if failed {
-            self.failed.push(id);
-            return None;
-        }
         let loaded = Loaded { cards: Rc::new(out), height, bytes };
         self.loaded.insert(id, loaded.clone());
         Some(loaded)
@@ -1833,6 +1812,22 @@ mod tests {
             let rendered = library.render(&problem.error.to_string(), problem.at, false);
             assert!(rendered.starts_with("error: "), "{rendered}");
         }
+    }
+
+    #[test]
+    fn one_scan_reports_every_problem_it_meets() {
+        let files = [
+            ("kit/top.l", ".lib tt\n.include missing.l\n.lib inc.l fast\n.model after nmos\n.include missing.l\n.endl"),
+            ("kit/inc.l", ".lib typical\n.model n nmos\n.endl"),
+        ];
+        let library = scan_files(&files, Some("tt"));
+        let errors: Vec<String> = library.errors.iter().map(|p| p.error.to_string()).collect();
+        assert_eq!(errors.len(), 3, "{errors:?}");
+        assert!(errors[0].starts_with("cannot read 'kit/missing.l'"), "{errors:?}");
+        assert!(errors[1].starts_with("cannot read 'kit/missing.l'"), "{errors:?}");
+        assert_eq!(errors[2], "no section 'fast' in 'kit/inc.l'; its sections are: typical");
+        assert_eq!(text_at(&library, library.errors[1].at.unwrap()), "missing.l");
+        assert_eq!(library.models[0].name, "after");
     }
 
     #[test]
