@@ -6,6 +6,7 @@ mod deck_simulation;
 mod delay;
 mod delay_ranking;
 mod netlist_names;
+mod models;
 mod published;
 mod scipy;
 mod support;
