@@ -18,6 +18,7 @@ pub mod expr;
 pub mod figures;
 pub mod gate;
 pub mod network;
+pub mod optimize;
 pub mod output;
 pub mod paths;
 pub mod process;
