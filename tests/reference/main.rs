@@ -8,3 +8,4 @@ mod delay_ranking;
 mod published;
 mod scipy;
 mod support;
+mod vectors;
