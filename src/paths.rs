@@ -392,7 +392,7 @@ pub fn vector_word(word: u64, input: usize) -> u64 {
 const BLOCK: usize = 8;
 
 /// Whether the network conducts, for every on-set of `input_count` inputs, as a bit set.
-fn conduction_by_on_set(network: &Network, input_of: &[usize], input_count: usize) -> Vec<u64> {
+pub(crate) fn conduction_by_on_set(network: &Network, input_of: &[usize], input_count: usize) -> Vec<u64> {
     fn walk(node: &Node, input_of: &[usize], inputs: &[[u64; BLOCK]]) -> [u64; BLOCK] {
         match node {
             Node::Device(index) => inputs[input_of[*index]],

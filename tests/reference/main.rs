@@ -10,3 +10,4 @@ mod models;
 mod published;
 mod scipy;
 mod support;
+mod vectors;
