@@ -18,6 +18,7 @@ pub mod error;
 pub mod expr;
 pub mod figures;
 pub mod gate;
+pub mod logic;
 pub mod names;
 pub mod network;
 pub mod output;
