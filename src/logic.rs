@@ -1,5 +1,5 @@
 //! Cells of several stages: any function of NOT, AND, OR and XOR as the static CMOS stages that
-//! compute it.
+//! compute it, and pull-ups written by the user, accepted only when proved complementary.
 //!
 //! One static stage computes `NOT f` with `f` an AND/OR tree of uncomplemented inputs. A function
 //! whose negation-normal form has every input complemented is one such stage, exactly as
@@ -29,8 +29,13 @@ use crate::expr::normal::{self, GateFunction, MAX_DEVICES};
 use crate::expr::{parser, shorthand};
 use crate::names::{RESERVED, reserved_reason};
 
+pub mod pull_up;
 #[cfg(test)]
 mod testing;
+
+pub use pull_up::{
+    MAX_PULL_UP_CHECK_INPUTS, PULL_UP_CHECK_BUDGET, PullUp, PullUpError, PullUpSpec, cell_pull_up, pull_up,
+};
 
 /// A static CMOS cell of one or more stages that computes one function.
 #[derive(Debug, Clone, PartialEq)]
@@ -671,7 +676,7 @@ mod tests {
                 (&gate.inputs, &gate.output, &gate.text, &gate.shorthand)
             );
             // Each computes its own expression at switch level (De Morgan; common practice, no source).
-            check_cell(&cell, &by_text(&gate.text, &cell));
+            check_cell(&cell, None, &by_text(&gate.text, &cell));
         }
     }
 
@@ -714,7 +719,7 @@ mod tests {
                 assert_eq!(cell.inputs, pins, "{name}");
                 assert_eq!(cell.shorthand.as_deref(), Some(name.to_ascii_lowercase().as_str()));
                 check_structure(cell);
-                check_cell(cell, &|values: &[bool]| {
+                check_cell(cell, None, &|values: &[bool]| {
                     meaning(&|p: &str| values[pins.iter().position(|q| *q == p).unwrap()])
                 });
             }
@@ -795,7 +800,7 @@ mod tests {
             assert_eq!(cells.len(), 2, "{text}");
             for cell in &cells {
                 check_structure(cell);
-                check_cell(cell, &by_text(text.split('=').next_back().unwrap(), cell));
+                check_cell(cell, None, &by_text(text.split('=').next_back().unwrap(), cell));
                 // Every use of a complement reads the one shared net.
                 let logic = &cell.logic().function;
                 for (pin, name) in cell.inputs.iter().enumerate() {
@@ -828,7 +833,7 @@ mod tests {
         // a's complement would be a_n, which is a pin: a_n2; a_n's own complement is a_n_n.
         let direct = form("y = a & !b | a_n", Form::Direct);
         assert_eq!(roles(&direct)[..2], ["a->a_n2", "a_n->a_n_n"]);
-        check_cell(&direct, &by_text("a & !b | a_n", &direct));
+        check_cell(&direct, None, &by_text("a & !b | a_n", &direct));
         // Compared without case: A_N takes a_n too.
         let inverted = form("A_N & !a | b", Form::Inverted);
         assert_eq!(roles(&inverted)[0], "a->a_n2");
@@ -1043,7 +1048,7 @@ mod tests {
                 }).map(|(p, _)| p).collect();
                 prop_assert_eq!(complemented, wanted);
                 let pins: Vec<usize> = cell.inputs.iter().map(|n| n[1..].parse().unwrap()).collect();
-                check_cell(cell, &|values: &[bool]| {
+                check_cell(cell, None, &|values: &[bool]| {
                     tree.evaluate(&|i| values[pins.iter().position(|p| *p == i).unwrap()])
                 });
             }
@@ -1069,7 +1074,7 @@ mod tests {
             prop_assert_eq!(&cell.logic().function.inputs, &complement.inputs);
             prop_assert_eq!(&cell.logic().function.function, &complement.function);
             check_structure(&cell);
-            check_cell(&cell, &by_text(&f, &cell));
+            check_cell(&cell, None, &by_text(&f, &cell));
         }
     }
 }

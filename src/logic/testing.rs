@@ -1,14 +1,15 @@
 //! Test support: a switch-level simulator of cells written from each stage's trees (NMOS in series
-//! for AND and in parallel for OR from the stage output to vss, PMOS the dual from vdd; stage by
-//! stage, every stage output tied to exactly one rail), independent of the library's networks; the
-//! expression evaluated on its own tree; random monotone functions.
+//! for AND and in parallel for OR from the stage output to vss, PMOS the dual from vdd, or a custom
+//! pull-up as written; stage by stage, every stage output tied to exactly one rail), independent of
+//! the library's networks; the expression evaluated on its own tree; random monotone functions.
 
 use proptest::prelude::*;
 
 use crate::expr::ast::{Expr, ExprKind};
 use crate::expr::normal::{Function, Literal};
 use crate::expr::parser;
-use crate::logic::{CellLogic, Form, synthesize};
+use crate::logic::pull_up::PullUp;
+use crate::logic::{CellLogic, Form, StageRole, synthesize};
 
 /// Local node numbers of a stage: the rails and its output; internal nodes follow.
 const VDD: usize = 0;
@@ -74,7 +75,7 @@ fn place(
     }
 }
 
-fn netlist(cell: &CellLogic) -> Simulated {
+fn netlist(cell: &CellLogic, pull_up: Option<&PullUp>) -> Simulated {
     let mut nets: Vec<String> = cell.inputs.clone();
     let id = |name: &str, nets: &mut Vec<String>| match nets.iter().position(|n| n == name) {
         Some(i) => i,
@@ -92,7 +93,10 @@ fn netlist(cell: &CellLogic) -> Simulated {
         let mut switches = Vec::new();
         let (f, l) = (&function.function, &function.literals);
         place(f, l, &gates, true, false, (OUT, VSS), &mut nodes, &mut switches);
-        place(f, l, &gates, false, true, (VDD, OUT), &mut nodes, &mut switches);
+        match pull_up.filter(|_| stage.role == StageRole::Logic) {
+            Some(up) => place(&up.function, &up.literals, &gates, true, true, (VDD, OUT), &mut nodes, &mut switches),
+            None => place(f, l, &gates, false, true, (VDD, OUT), &mut nodes, &mut switches),
+        }
         stages.push(StageNet { output, nodes, switches });
     }
     let output = nets.iter().position(|n| *n == cell.output).expect("the output is driven");
@@ -139,8 +143,8 @@ fn simulate(sim: &Simulated, vector: u64) -> Result<bool, String> {
 }
 
 /// Every vector of the cell's pins: static stages, and the output equal to `expected`.
-pub(crate) fn check_cell(cell: &CellLogic, expected: &dyn Fn(&[bool]) -> bool) {
-    let sim = netlist(cell);
+pub(crate) fn check_cell(cell: &CellLogic, pull_up: Option<&PullUp>, expected: &dyn Fn(&[bool]) -> bool) {
+    let sim = netlist(cell, pull_up);
     for vector in 0..1u64 << cell.inputs.len() {
         let values: Vec<bool> = (0..cell.inputs.len()).map(|i| vector >> i & 1 == 1).collect();
         let got = simulate(&sim, vector).unwrap_or_else(|e| panic!("{} ({:?}): {e}", cell.text, cell.form));
