@@ -1055,6 +1055,19 @@ mod tests {
         }
 
         #[test]
+        fn any_text_is_cells_or_an_error(
+            text in "[a-dsyA_!~'&*.|+^()= ]{0,40}|(buf|and[0-9]|or[0-9]|ao[0-9]{0,3}|oa[0-9]{0,3}|xn?or[0-9]|mux2i?|maj[0-9])",
+        ) {
+            match synthesize(&text) {
+                Ok(cells) => {
+                    prop_assert!(!cells.is_empty() && cells.len() <= 2);
+                    cells.iter().for_each(check_structure);
+                }
+                Err(error) => prop_assert!(error.span().end <= text.len()),
+            }
+        }
+
+        #[test]
         fn random_one_stage_gates_are_todays(text in inverting()) {
             let cell = one(&text);
             let gate = read_gate(&text).unwrap();

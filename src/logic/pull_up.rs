@@ -329,8 +329,9 @@ fn run(steps: &[Step], inputs: &[[u64; BLOCK]], stack: &mut Vec<[u64; BLOCK]>) -
             Step::And(count) | Step::Or(count) => {
                 let start = stack.len() - count;
                 let is_and = matches!(step, Step::And(_));
-                let mut value = stack[start];
-                for word in &stack[start + 1..] {
+                // An empty AND conducts, an empty OR does not (only a tree built by hand has one).
+                let mut value = [if is_and { u64::MAX } else { 0 }; BLOCK];
+                for word in &stack[start..] {
                     for (v, w) in value.iter_mut().zip(word) {
                         if is_and {
                             *v &= w;
@@ -656,6 +657,20 @@ mod tests {
 
     proptest! {
         #![proptest_config(ProptestConfig::with_cases(128))]
+
+        #[test]
+        fn any_pull_up_text_is_a_pull_up_or_an_error(text in "[a-dxyA_!~'&*.|+^()= ]{0,30}", mirror in any::<bool>()) {
+            let carry = stage_of("!(a & b | c & (a | b))");
+            let spec = if mirror { PullUpSpec::Mirror } else { PullUpSpec::Written(&text) };
+            if let Err(error) = pull_up(&carry, spec) {
+                // Every refusal renders, with a caret where it has a place.
+                let rendered = match error.span() {
+                    Some(span) => render_at(&error.to_string(), "the pull-up", &text, span),
+                    None => error.to_string(),
+                };
+                prop_assert!(!rendered.is_empty());
+            }
+        }
 
         #[test]
         fn random_pull_ups_are_judged_as_brute_force_judges_them(
