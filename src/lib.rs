@@ -20,6 +20,7 @@ pub mod exact;
 pub mod expr;
 pub mod figures;
 pub mod gate;
+pub mod logic;
 pub mod names;
 pub mod models;
 pub mod network;

@@ -3,7 +3,8 @@
 //! Inputs are named `a`, `b`, `c` ... `z`, then `a1`, `b1` ... in order, skipping any name the gate
 //! cannot give an input: the output's (`y` unless named) and the reserved ones. AOI groups are ANDed
 //! then ORed; OAI groups are ORed then ANDed; the digits give the group sizes (`aoi21` =
-//! `!(a & b | c)`).
+//! `!(a & b | c)`). [`expand_cell`] adds the cells of more than one stage (`buf`, `and2`, `ao21`,
+//! `xor2`, `mux2`, `maj3` ...), listed with their inputs and functions in [`CELL_HELP`].
 
 use crate::error::{ExprError, Span};
 use crate::expr::ast::{Expr, ExprKind};
@@ -72,6 +73,134 @@ pub fn expand(name: &str, span: Span, taken: &dyn Fn(&str) -> bool) -> Result<Ex
     }
     let kind = if is_aoi { ExprKind::Or(terms) } else { ExprKind::And(terms) };
     Ok(not(Expr { kind, span }, span))
+}
+
+/// What the shorthands of cells of one or more stages are, one line each: name, inputs, function.
+/// Every name is case-insensitive and stands in place of the whole expression or after `name =`;
+/// the digits of the group families give the group sizes, as for `aoi`.
+pub const CELL_HELP: &str = "\
+inv                      a            y = !a
+nand2 .. nand8           a, b, ...    y = !(a & b & ...)
+nor2 .. nor8             a, b, ...    y = !(a | b | ...)
+aoi21, aoi22, aoi211 ... a, b, c, ... y = !(a & b | c): 2 to 8 AND groups of 1 to 8, ORed, inverted
+oai21, oai22, oai211 ... a, b, c, ... y = !((a | b) & c): OR groups ANDed, inverted
+buf                      a            y = a
+and2 .. and8             a, b, ...    y = a & b & ...
+or2 .. or8               a, b, ...    y = a | b | ...
+ao21, ao22, ao211 ...    a, b, c, ... y = a & b | c: AND groups ORed
+oa21, oa22, oa211 ...    a, b, c, ... y = (a | b) & c: OR groups ANDed
+xor2                     a, b         y = a ^ b
+xnor2                    a, b         y = !(a ^ b)
+xor3                     a, b, c      y = a ^ b ^ c
+mux2                     a, b, s      y = a & !s | b & s (a when s = 0, b when s = 1)
+mux2i                    a, b, s      y = !(a & !s | b & s)
+maj3                     a, b, c      y = a & b | c & (a | b) (1 when two or more inputs are 1)
+";
+
+const KNOWN_CELLS: &str = "known cells are inv, nand2..nand8, nor2..nor8, aoi/oai followed by group sizes (aoi21, \
+                           oai22 ...), buf, and2..and8, or2..or8, ao/oa followed by group sizes (ao21, ao22, oa21, \
+                           oa22 ...), xor2, xnor2, xor3, mux2, mux2i and maj3";
+
+/// A cell shorthand expanded: the expression and its pins in order.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CellShorthand {
+    /// The function, every span on the name.
+    pub expr: Expr,
+    /// Input names in pin order: `a`, `b`, `c` ... in order of first appearance, except the muxes,
+    /// whose pins are `a`, `b`, `s` though `s` is written before `b`.
+    pub pins: Vec<String>,
+}
+
+/// Expand any cell shorthand of [`CELL_HELP`]: those of one inverting stage exactly as [`expand`]
+/// gives them, and the non-inverting and binate ones (`buf`, `and2`, `xor2`, `mux2`, `maj3` ...)
+/// that need more than one stage. As in [`expand`], inputs skip the names `taken` says no input may
+/// have (a mux's select is `s`, else `s1`, `s2` ...).
+pub fn expand_cell(name: &str, span: Span, taken: &dyn Fn(&str) -> bool) -> Result<CellShorthand, ExprError> {
+    let names = InputNames::new(taken);
+    let input = |index: usize| names.input(index, span);
+    let lower = name.to_ascii_lowercase();
+    let unknown = |why: String| ExprError::UnknownShorthand { name: name.to_string(), why, span };
+    let binary = |make: fn(Vec<Expr>) -> ExprKind, operands: Vec<Expr>| Expr { kind: make(operands), span };
+    let exclusive_or = |count: usize| {
+        let operands = (0..count).map(input).collect();
+        Expr { kind: ExprKind::ExclusiveOr { operands, operator: span }, span }
+    };
+    // a & !s | b & s: data a and b, select s.
+    let mux = |select: &str| {
+        let select = || Expr { kind: ExprKind::Input(select.to_string()), span };
+        let when_low = binary(ExprKind::And, vec![input(0), not(select(), span)]);
+        let when_high = binary(ExprKind::And, vec![input(1), select()]);
+        binary(ExprKind::Or, vec![when_low, when_high])
+    };
+    let expr = match lower.as_str() {
+        "buf" => input(0),
+        "xor2" => exclusive_or(2),
+        "xnor2" => not(exclusive_or(2), span),
+        "xor3" => exclusive_or(3),
+        "mux2" | "mux2i" => {
+            let data = [names.names[0].clone(), names.names[1].clone()];
+            let select = (0..=MAX_GROUPS * MAX_STACK)
+                .map(|k| if k == 0 { "s".to_string() } else { format!("s{k}") })
+                .find(|candidate| !taken(candidate) && !data.contains(candidate))
+                .unwrap_or_else(|| "s".to_string());
+            let expr = if lower == "mux2" { mux(&select) } else { not(mux(&select), span) };
+            let [a, b] = data;
+            return Ok(CellShorthand { expr, pins: vec![a, b, select] });
+        }
+        "maj3" => {
+            let either = binary(ExprKind::Or, vec![input(0), input(1)]);
+            let both = binary(ExprKind::And, vec![input(0), input(1)]);
+            binary(ExprKind::Or, vec![both, binary(ExprKind::And, vec![input(2), either])])
+        }
+        _ => {
+            // The non-inverting families are their inverting namesakes without the final NOT.
+            // Only a prefix followed by digits alone is taken as one of these families.
+            let digits =
+                |prefix: &str| lower.strip_prefix(prefix).filter(|rest| rest.bytes().all(|b| b.is_ascii_digit()));
+            let namesake = if let Some(count) = digits("and") {
+                Some((format!("nand{count}"), format!("and takes 2 to {MAX_STACK} inputs (and2 .. and{MAX_STACK})")))
+            } else if let Some(count) = digits("or") {
+                Some((format!("nor{count}"), format!("or takes 2 to {MAX_STACK} inputs (or2 .. or{MAX_STACK})")))
+            } else if let Some(sizes) = digits("ao") {
+                Some((format!("aoi{sizes}"), groups_why("ao")))
+            } else {
+                digits("oa").map(|sizes| (format!("oai{sizes}"), groups_why("oa")))
+            };
+            match namesake {
+                Some((namesake, why)) => match expand(&namesake, span, taken) {
+                    Ok(Expr { kind: ExprKind::Not(inner), .. }) => *inner,
+                    _ => return Err(unknown(why)),
+                },
+                None if lower == "inv" || ["nand", "nor", "aoi", "oai"].iter().any(|f| lower.starts_with(f)) => {
+                    expand(name, span, taken)?
+                }
+                None => return Err(unknown(KNOWN_CELLS.to_string())),
+            }
+        }
+    };
+    let mut pins = Vec::new();
+    first_appearance(&expr, &mut pins);
+    Ok(CellShorthand { expr, pins })
+}
+
+/// Why a group-size shorthand of `family` is not known.
+fn groups_why(family: &str) -> String {
+    format!("{family} takes 2 to {MAX_GROUPS} group sizes of 1 to {MAX_STACK}, at least one above 1 (e.g. {family}21)")
+}
+
+/// Input names of `expr` in order of first appearance.
+fn first_appearance(expr: &Expr, pins: &mut Vec<String>) {
+    match &expr.kind {
+        ExprKind::Input(name) => {
+            if !pins.contains(name) {
+                pins.push(name.clone());
+            }
+        }
+        ExprKind::Not(inner) => first_appearance(inner, pins),
+        ExprKind::And(operands) | ExprKind::Or(operands) | ExprKind::ExclusiveOr { operands, .. } => {
+            operands.iter().for_each(|operand| first_appearance(operand, pins))
+        }
+    }
 }
 
 /// The name of the `index`th candidate: a, b, ... z, then a1, b1 ...
