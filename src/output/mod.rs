@@ -4,8 +4,10 @@ pub mod csv;
 pub mod deck;
 pub mod delays;
 pub mod json;
+pub mod schematic;
 pub mod spice;
 pub mod summary;
+pub mod svg;
 pub mod table;
 pub mod verify;
 
