@@ -4,6 +4,7 @@ pub mod csv;
 pub mod deck;
 pub mod delays;
 pub mod json;
+pub mod plot;
 pub mod schematic;
 pub mod spice;
 pub mod summary;

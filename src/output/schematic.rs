@@ -368,7 +368,29 @@ fn marker(x: f64, y: f64) -> Shape {
 }
 
 /// Draw a device whose cell spans `top..top + height` on the spine `x`.
-fn draw_device(device: &DeviceSymbol, x: f64, top: f64, height: f64, drawing: &mut Drawing) {
+/// A gate lead's end, where the net on it is named or wired: its net, x and y.
+struct Gate<'a> {
+    net: &'a str,
+    x: f64,
+    y: f64,
+}
+
+impl Gate<'_> {
+    /// The net's name at the lead's end, or above the lead when a wire comes in along it.
+    fn label(&self, wired: bool) -> Label {
+        let y = if wired { self.y - 5.0 } else { self.y + 4.0 };
+        net_label(self.x - LABEL_GAP, y, self.net, Anchor::End)
+    }
+}
+
+fn draw_device<'a>(
+    device: &'a DeviceSymbol,
+    x: f64,
+    top: f64,
+    height: f64,
+    drawing: &mut Drawing,
+    gates: &mut Vec<Gate<'a>>,
+) {
     let (colour, stroke) = if device.on_worst_path { (HIGHLIGHT, HEAVY) } else { (INK, STROKE) };
     let cy = top + height / 2.0;
     let (channel, plate, end) = (x - 14.0, x - 20.0, x - GATE_REACH);
@@ -394,7 +416,7 @@ fn draw_device(device: &DeviceSymbol, x: f64, top: f64, height: f64, drawing: &m
             drawing.line(plate - 2.0 * r - stroke, cy, end, cy, stroke, colour);
         }
     }
-    drawing.text(net_label(end - LABEL_GAP, cy + 4.0, &device.gate, Anchor::End));
+    gates.push(Gate { net: &device.gate, x: end, y: cy });
     // The text column, centred on the symbol: name, then the lines.
     let lines = 1 + device.lines.len();
     let first = cy - lines as f64 * PITCH / 2.0 + (PITCH + line_height(FONT_SIZE)) / 2.0 - 3.6;
@@ -432,7 +454,7 @@ fn bus_end(tree: &Tree, bottom: bool) -> bool {
 }
 
 /// Draw `block` with its spine at `x` and its top at `top`.
-fn place(block: &Block, x: f64, top: f64, ends: Ends, drawing: &mut Drawing) {
+fn place<'a>(block: &Block<'a>, x: f64, top: f64, ends: Ends, drawing: &mut Drawing, gates: &mut Vec<Gate<'a>>) {
     let bottom = top + block.height;
     match block.tree {
         Tree::Device(device) => {
@@ -442,7 +464,7 @@ fn place(block: &Block, x: f64, top: f64, ends: Ends, drawing: &mut Drawing) {
                     dot(drawing, x, rail);
                 }
             }
-            draw_device(device, x, top, block.height, drawing);
+            draw_device(device, x, top, block.height, drawing, gates);
         }
         Tree::Series { members, junctions } => {
             let mut y = top;
@@ -452,7 +474,7 @@ fn place(block: &Block, x: f64, top: f64, ends: Ends, drawing: &mut Drawing) {
                     top: if i == 0 { ends.top } else { None },
                     bottom: if i == last { ends.bottom } else { None },
                 };
-                place(child, x, y, child_ends, drawing);
+                place(child, x, y, child_ends, drawing, gates);
                 y += child.height;
                 if let Some(name) = junctions.get(i) {
                     let gap = junction_gap(name);
@@ -481,7 +503,7 @@ fn place(block: &Block, x: f64, top: f64, ends: Ends, drawing: &mut Drawing) {
                 if ends.bottom.is_none() {
                     drawing.line(branch, child_bottom, branch, bottom, STROKE, INK);
                 }
-                place(child, branch, child_top, ends, drawing);
+                place(child, branch, child_top, ends, drawing, gates);
             }
             if let Some(&last) = block.offsets.last().filter(|&&last| last > 0.0) {
                 // A bus at each end that does not land on a rail, with a dot wherever three
@@ -551,9 +573,18 @@ fn lay_out(schematic: &Schematic) -> Layout {
         right = right.max(width(&stage.name) + TEXT_SLACK - left);
         let spine = x + left;
         let up_top = -OUT_ABOVE - up.height;
-        place(up, spine, up_top, Ends { top: Some(vdd), ..OPEN }, &mut body);
+        let mut gates = Vec::new();
+        place(up, spine, up_top, Ends { top: Some(vdd), ..OPEN }, &mut body, &mut gates);
         body.line(spine, -OUT_ABOVE, spine, OUT_BELOW, STROKE, INK);
-        place(down, spine, OUT_BELOW, Ends { bottom: Some(vss), ..OPEN }, &mut body);
+        place(down, spine, OUT_BELOW, Ends { bottom: Some(vss), ..OPEN }, &mut body, &mut gates);
+        if k > 0 {
+            let driver = &schematic.stages[k - 1].output;
+            connect(&mut body, &gates, driver, spines[k - 1], x - 14.0);
+        } else {
+            for gate in &gates {
+                body.text(gate.label(false));
+            }
+        }
         dot(&mut body, spine, 0.0);
         if !node_name.is_empty() {
             body.text(node_label(spine + RIGHT_TEXT, -6.0, node_name));
@@ -562,17 +593,6 @@ fn lay_out(schematic: &Schematic) -> Layout {
         spines.push(spine);
         rights.push(spine + right);
         x = spine + right + STAGE_GAP;
-    }
-    // Each output runs to an arrow at the next stage's left edge, the last one to the output pin.
-    for k in 0..last {
-        let tip = rights[k] + STAGE_GAP;
-        body.line(spines[k], 0.0, tip - 7.0, 0.0, STROKE, INK);
-        body.shapes.push(Shape::Polygon {
-            points: vec![(tip, 0.0), (tip - 9.0, -4.5), (tip - 9.0, 4.5)],
-            fill: Some(INK),
-            colour: INK,
-            width: 1.0,
-        });
     }
     let output_pin = rights[last] + 24.0;
     body.line(spines[last], 0.0, output_pin, 0.0, STROKE, INK);
@@ -583,6 +603,63 @@ fn lay_out(schematic: &Schematic) -> Layout {
     body.line(rail_start, vss, rail_end, vss, RAIL_STROKE, INK);
 
     frame(schematic, body)
+}
+
+/// Name the nets on a stage's `gates`, and run the previous stage's output (`driver`, from its
+/// node on the spine `from`) to the stage: along a bus at `bus` into every gate on that net whose
+/// lead can be reached from the left without crossing anything, else (none reachable) to an arrow
+/// at the bus, the gates connected by name.
+fn connect(body: &mut Drawing, gates: &[Gate], driver: &str, from: f64, bus: f64) {
+    let mut labels: Vec<Label> = gates.iter().map(|g| g.label(false)).collect();
+    let mut wired = Vec::new();
+    for (i, gate) in gates.iter().enumerate().filter(|(_, g)| g.net == driver) {
+        let wire = Rect::spanning(bus + 1.0, gate.y - STROKE, gate.x - 2.0, gate.y + STROKE);
+        let moved = gate.label(true);
+        let others = || labels.iter().enumerate().filter(|&(j, _)| j != i).map(|(_, l)| l.bounds());
+        let clear = |rect: &Rect| {
+            others().all(|b| !b.overlaps(rect))
+                && body.labels().iter().all(|l| !l.bounds().overlaps(rect))
+                && body.shapes.iter().all(|s| match s {
+                    Shape::Text(_) => true,
+                    Shape::Line { .. } | Shape::Polygon { .. } | Shape::Polyline { .. } => {
+                        s.strokes().iter().all(|w| !w.crosses(rect))
+                    }
+                    Shape::Circle { .. } => !s.bounds().overlaps(rect),
+                })
+        };
+        if clear(&wire) && clear(&moved.bounds()) {
+            labels[i] = moved;
+            wired.push(gate);
+        }
+    }
+    for label in labels {
+        body.text(label);
+    }
+    if wired.is_empty() {
+        body.line(from, 0.0, bus - 7.0, 0.0, STROKE, INK);
+        body.shapes.push(Shape::Polygon {
+            points: vec![(bus, 0.0), (bus - 9.0, -4.5), (bus - 9.0, 4.5)],
+            fill: Some(INK),
+            colour: INK,
+            width: 1.0,
+        });
+        return;
+    }
+    body.line(from, 0.0, bus, 0.0, STROKE, INK);
+    let top = wired.iter().map(|g| g.y).fold(0.0, f64::min);
+    let bottom = wired.iter().map(|g| g.y).fold(0.0, f64::max);
+    body.line(bus, top, bus, bottom, STROKE, INK);
+    // Dots where three wires meet: where the output joins a bus running both ways, and where
+    // a gate's wire leaves the bus short of its end.
+    if top < 0.0 && bottom > 0.0 {
+        dot(body, bus, 0.0);
+    }
+    for gate in wired {
+        body.line(bus, gate.y, gate.x, gate.y, STROKE, INK);
+        if gate.y > top && gate.y < bottom && gate.y != 0.0 {
+            dot(body, bus, gate.y);
+        }
+    }
 }
 
 /// Put the title and notes above the body, the legend below it, and everything inside margins.
@@ -633,6 +710,7 @@ fn frame(schematic: &Schematic, mut body: Drawing) -> Layout {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::output::svg::checks;
     use proptest::prelude::*;
 
     /// A gate function for the fixtures: the pull-down follows it (AND in series, OR in
@@ -807,65 +885,17 @@ mod tests {
         }
     }
 
-    /// What a reader would find wrong in the layout: overlapping labels, a label crossed by a
-    /// stroke, a shape outside the picture.
     fn layout_problems(layout: &Layout) -> Vec<String> {
-        let labels = layout.labels();
-        let wires = layout.wires();
-        let mut out = Vec::new();
-        for (i, a) in labels.iter().enumerate() {
-            let bounds = a.bounds();
-            for b in &labels[i + 1..] {
-                if bounds.overlaps(&b.bounds()) {
-                    out.push(format!("labels `{}` and `{}` overlap", a.text, b.text));
-                }
-            }
-            for wire in &wires {
-                if wire.crosses(&bounds) {
-                    out.push(format!("label `{}` is crossed by {wire:?}", a.text));
-                }
-            }
-        }
-        let (width, height) = layout.size();
-        for shape in layout.shapes() {
-            let b = shape.bounds();
-            if b.left < 0.0 || b.top < 0.0 || b.right > width || b.bottom > height {
-                out.push(format!("{shape:?} is outside the {width} x {height} picture"));
-            }
-        }
-        out
+        checks::layout_problems(&layout.labels(), &layout.wires(), layout.shapes(), layout.size())
     }
 
-    /// What is wrong with the SVG text: not well-formed XML, an active or external element or
-    /// reference, a name or label line of the schematic missing from its text.
+    /// What is wrong with the SVG text: see [`checks::svg_texts`]; and a name or label line of
+    /// the schematic missing from its text.
     fn svg_problems(schematic: &Schematic, svg: &str) -> Vec<String> {
-        let document = match roxmltree::Document::parse(svg) {
-            Ok(document) => document,
-            Err(e) => return vec![format!("not well-formed XML: {e}")],
+        let texts = match checks::svg_texts(svg) {
+            Ok(texts) => texts,
+            Err(problems) => return problems,
         };
-        let mut out = Vec::new();
-        let root = document.root_element();
-        if !root.has_tag_name("svg") || ["width", "height", "viewBox"].iter().any(|a| root.attribute(*a).is_none()) {
-            out.push("the root is not an <svg> with width, height and viewBox".to_string());
-        }
-        for node in document.descendants().filter(|n| n.is_element()) {
-            let name = node.tag_name().name();
-            if ["script", "image", "use", "foreignObject", "a", "style", "iframe"].contains(&name) {
-                out.push(format!("<{name}> element"));
-            }
-            for attribute in node.attributes() {
-                let value = attribute.value().to_ascii_lowercase();
-                if ["href", "src"].contains(&attribute.name())
-                    || attribute.name().starts_with("on")
-                    || value.contains("url(")
-                    || value.contains("javascript:")
-                {
-                    out.push(format!("attribute {}=\"{}\"", attribute.name(), attribute.value()));
-                }
-            }
-        }
-        let texts: Vec<&str> =
-            document.descendants().filter(|n| n.has_tag_name("text")).filter_map(|n| n.text()).collect();
         let mut wanted: Vec<&str> = vec![&schematic.title, &schematic.output, "vdd", "vss"];
         wanted.extend(schematic.notes.iter().map(String::as_str));
         wanted.extend(schematic.inputs.iter().map(String::as_str));
@@ -880,12 +910,7 @@ mod tests {
                 wanted.extend(junctions(tree));
             }
         }
-        for text in wanted {
-            if !texts.contains(&text) {
-                out.push(format!("no <text> says `{text}`"));
-            }
-        }
-        out
+        wanted.into_iter().filter(|w| !texts.iter().any(|t| t == w)).map(|w| format!("no <text> says `{w}`")).collect()
     }
 
     fn svg(layout: &Layout) -> String {

@@ -469,6 +469,74 @@ pub fn escape(text: &str) -> String {
     out
 }
 
+/// Checks both writers' tests make of a finished picture.
+#[cfg(test)]
+pub(crate) mod checks {
+    use super::{Label, Segment, Shape};
+
+    /// What a reader would find wrong in a layout: overlapping labels, a label crossed by a
+    /// stroke, a shape outside the `width` x `height` picture.
+    pub fn layout_problems(labels: &[&Label], wires: &[Segment], shapes: &[Shape], size: (f64, f64)) -> Vec<String> {
+        let mut out = Vec::new();
+        for (i, a) in labels.iter().enumerate() {
+            let bounds = a.bounds();
+            for b in &labels[i + 1..] {
+                if bounds.overlaps(&b.bounds()) {
+                    out.push(format!("labels `{}` and `{}` overlap", a.text, b.text));
+                }
+            }
+            for wire in wires {
+                if wire.crosses(&bounds) {
+                    out.push(format!("label `{}` is crossed by {wire:?}", a.text));
+                }
+            }
+        }
+        let (width, height) = size;
+        for shape in shapes {
+            let b = shape.bounds();
+            if b.left < 0.0 || b.top < 0.0 || b.right > width || b.bottom > height {
+                out.push(format!("{shape:?} is outside the {width} x {height} picture"));
+            }
+        }
+        out
+    }
+
+    /// What is wrong with an SVG text: not well-formed XML (parsed by roxmltree), a root without
+    /// size and viewBox, an active or external element or reference; else its `<text>` contents.
+    pub fn svg_texts(svg: &str) -> Result<Vec<String>, Vec<String>> {
+        let document = roxmltree::Document::parse(svg).map_err(|e| vec![format!("not well-formed XML: {e}")])?;
+        let mut out = Vec::new();
+        let root = document.root_element();
+        if !root.has_tag_name("svg") || ["width", "height", "viewBox"].iter().any(|a| root.attribute(*a).is_none()) {
+            out.push("the root is not an <svg> with width, height and viewBox".to_string());
+        }
+        for node in document.descendants().filter(|n| n.is_element()) {
+            let name = node.tag_name().name();
+            if ["script", "image", "use", "foreignObject", "a", "style", "iframe"].contains(&name) {
+                out.push(format!("<{name}> element"));
+            }
+            for attribute in node.attributes() {
+                let value = attribute.value().to_ascii_lowercase();
+                if ["href", "src"].contains(&attribute.name())
+                    || attribute.name().starts_with("on")
+                    || value.contains("url(")
+                    || value.contains("javascript:")
+                {
+                    out.push(format!("attribute {}=\"{}\"", attribute.name(), attribute.value()));
+                }
+            }
+        }
+        if !out.is_empty() {
+            return Err(out);
+        }
+        Ok(document
+            .descendants()
+            .filter(|n| n.has_tag_name("text"))
+            .map(|n| n.text().unwrap_or_default().to_string())
+            .collect())
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -7,5 +7,6 @@ mod delay;
 mod delay_ranking;
 mod netlist_names;
 mod published;
+mod render;
 mod scipy;
 mod support;
