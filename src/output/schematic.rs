@@ -695,7 +695,7 @@ fn frame(schematic: &Schematic, mut body: Drawing) -> Layout {
         ..Label::new(
             MARGIN + 28.0,
             y + PITCH + 4.0,
-            "blue names: nets; a gate is on the pin or node of the name at its lead",
+            "a name at a gate lead is the net on that gate: the pin or node of that name",
             Anchor::Start,
         )
     });

@@ -1,5 +1,6 @@
 //! The SVG writers checked as a person would see them: schematics of NAND2, AOI21, the carry
-//! `!(a & b | c & (a | b))` (repeated inputs), AOI222 and multi-stage cells, and a trade-off plot,
+//! `!(a & b | c & (a | b))` (repeated inputs), AOI222, AOI22 with drawn widths and multi-stage
+//! cells, and a trade-off plot,
 //! rendered to PNG by headless Chromium (Debian's package) and checked not to be blank.
 //!
 //! Where Chromium is missing the checks skip with a note on stderr; with
@@ -198,6 +199,25 @@ fn inverter(name: &str, input: &str, output: &str, number: usize) -> SchematicSt
     stage(name, output, p(&format!("MP{number}"), input, 2.0, true), n(&format!("MN{number}"), input, 1.0, true))
 }
 
+/// Add the drawn width and fingers under each device's W/L, as a process would give them: a unit
+/// NMOS 0.12 um wide (an example value for the drawing), fingers at most 0.5 um wide.
+fn with_drawn(tree: Tree) -> Tree {
+    match tree {
+        Tree::Device(mut device) => {
+            let w_over_l: f64 = device.lines[0].trim_start_matches("W/L ").parse().expect("a W/L line");
+            let width = w_over_l * 0.12;
+            let fingers = (width / 0.5).ceil();
+            device.lines.push(format!("W {width:.3} um"));
+            device.lines.push(format!("{fingers} x {:.3} um", width / fingers));
+            Tree::Device(device)
+        }
+        Tree::Series { members, junctions } => {
+            Tree::Series { members: members.into_iter().map(with_drawn).collect(), junctions }
+        }
+        Tree::Parallel(branches) => Tree::Parallel(branches.into_iter().map(with_drawn).collect()),
+    }
+}
+
 fn schematics() -> Vec<(&'static str, Schematic)> {
     let nand2 = cell(
         "NAND2 y = !(a & b)",
@@ -334,7 +354,30 @@ fn schematics() -> Vec<(&'static str, Schematic)> {
             ),
         ],
     );
+    let mut aoi22 = cell(
+        "AOI22 y = !(a & b | c & d), drawn widths",
+        &["a", "b", "c", "d"],
+        vec![stage(
+            "one stage",
+            "y",
+            series(
+                vec![
+                    Tree::Parallel(vec![p("MP1", "a", 4.0, true), p("MP2", "b", 4.0, false)]),
+                    Tree::Parallel(vec![p("MP3", "c", 4.0, true), p("MP4", "d", 4.0, false)]),
+                ],
+                &["p1"],
+            ),
+            Tree::Parallel(vec![
+                series(vec![n("MN1", "a", 2.0, true), n("MN2", "b", 2.0, true)], &["n1"]),
+                series(vec![n("MN3", "c", 2.0, false), n("MN4", "d", 2.0, false)], &["n2"]),
+            ]),
+        )],
+    );
+    let only = &mut aoi22.stages[0];
+    only.pull_up = with_drawn(only.pull_up.clone());
+    only.pull_down = with_drawn(only.pull_down.clone());
     vec![
+        ("aoi22-drawn", aoi22),
         ("nand2", nand2),
         ("aoi21", aoi21),
         ("carry", carry),
