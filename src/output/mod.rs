@@ -4,8 +4,11 @@ pub mod csv;
 pub mod deck;
 pub mod delays;
 pub mod json;
+pub mod plot;
+pub mod schematic;
 pub mod spice;
 pub mod summary;
+pub mod svg;
 pub mod table;
 pub mod verify;
 

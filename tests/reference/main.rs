@@ -8,6 +8,7 @@ mod delay_ranking;
 mod netlist_names;
 mod models;
 mod published;
+mod render;
 mod scipy;
 mod support;
 mod vectors;
