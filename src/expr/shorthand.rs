@@ -116,8 +116,9 @@ pub struct CellShorthand {
 /// that need more than one stage. As in [`expand`], inputs skip the names `taken` says no input may
 /// have (a mux's select is `s`, else `s1`, `s2` ...).
 pub fn expand_cell(name: &str, span: Span, taken: &dyn Fn(&str) -> bool) -> Result<CellShorthand, ExprError> {
-    let names = InputNames::new(taken);
-    let input = |index: usize| names.input(index, span);
+    // These cells take at most three inputs: their names, skipping the taken ones.
+    let names: Vec<String> = (0..).map(input_name).filter(|name| !taken(name)).take(3).collect();
+    let input = |index: usize| Expr { kind: ExprKind::Input(names[index].clone()), span };
     let lower = name.to_ascii_lowercase();
     let unknown = |why: String| ExprError::UnknownShorthand { name: name.to_string(), why, span };
     let binary = |make: fn(Vec<Expr>) -> ExprKind, operands: Vec<Expr>| Expr { kind: make(operands), span };
@@ -138,7 +139,7 @@ pub fn expand_cell(name: &str, span: Span, taken: &dyn Fn(&str) -> bool) -> Resu
         "xnor2" => not(exclusive_or(2), span),
         "xor3" => exclusive_or(3),
         "mux2" | "mux2i" => {
-            let data = [names.names[0].clone(), names.names[1].clone()];
+            let data = [names[0].clone(), names[1].clone()];
             let select = (0..=MAX_GROUPS * MAX_STACK)
                 .map(|k| if k == 0 { "s".to_string() } else { format!("s{k}") })
                 .find(|candidate| !taken(candidate) && !data.contains(candidate))

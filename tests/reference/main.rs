@@ -5,8 +5,8 @@
 mod deck_simulation;
 mod delay;
 mod delay_ranking;
-mod netlist_names;
 mod models;
+mod netlist_names;
 mod published;
 mod render;
 mod scipy;
