@@ -7,7 +7,6 @@
 //! Sized gates are written in chunks as they come, so memory grows with the file, not with the
 //! output (the table view alone keeps its rows, as text, to align them).
 
-use std::cell::OnceCell;
 use std::collections::{HashMap, HashSet};
 use std::fmt;
 use std::io::{self, Write};
@@ -25,7 +24,8 @@ use crate::budget::{Estimate, Meter, Work};
 use crate::cli::{OutputArgs, cell_name};
 use crate::commands::{Diagnostics, diagnose, open_regular, read_bounded, write_output};
 use crate::delay::{self, StackOrder};
-use crate::error::{Error, Span, escaped, render_at};
+use crate::diagnostic::{Diagnostic, Span, escaped};
+use crate::error::Error;
 use crate::expr::read_gate_with_models;
 use crate::gate::{GateOptions, SizedGate, size_function};
 use crate::names::is_identifier;
@@ -88,11 +88,10 @@ const CHUNK: usize = 256;
 pub struct Source {
     /// The file name as given, or `standard input`.
     pub origin: String,
-    /// The whole text.
-    pub text: String,
     /// Where a relative `process` path starts.
     pub directory: PathBuf,
-    lines: OnceCell<Vec<usize>>,
+    /// The text, for diagnostics.
+    pub source: crate::diagnostic::Source,
 }
 
 impl Source {
@@ -102,7 +101,13 @@ impl Source {
         if text.starts_with('\u{feff}') {
             text.drain(..'\u{feff}'.len_utf8());
         }
-        Source { origin: origin.into(), text, directory: directory.into(), lines: OnceCell::new() }
+        let origin = origin.into();
+        Source { source: crate::diagnostic::Source::file(origin.as_str(), text), origin, directory: directory.into() }
+    }
+
+    /// The whole text.
+    pub fn text(&self) -> &str {
+        self.source.text()
     }
 
     /// Read the library file at `path` (`-`: standard input) as UTF-8.
@@ -132,40 +137,9 @@ impl Source {
         Error::InFile {
             message: message.into(),
             origin: self.origin.clone(),
-            source_text: self.text.clone(),
+            source_text: self.text().to_string(),
             span: span.map(|r| Span::new(r.start, r.end)),
         }
-    }
-
-    /// Line number (1-based) and the line's byte range, without its line ending, for a byte offset.
-    /// The line starts are found once, on the first call.
-    fn line_of(&self, offset: usize) -> (usize, Range<usize>) {
-        let starts = self.lines.get_or_init(|| {
-            std::iter::once(0)
-                .chain(self.text.bytes().enumerate().filter(|&(_, b)| b == b'\n').map(|(i, _)| i + 1))
-                .collect()
-        });
-        let offset = offset.min(self.text.len());
-        let index = starts.partition_point(|&start| start <= offset) - 1;
-        let start = starts[index];
-        let mut end = starts.get(index + 1).map_or(self.text.len(), |&next| next - 1);
-        if end > start && self.text.as_bytes()[end - 1] == b'\r' {
-            end -= 1;
-        }
-        (index + 1, start..end)
-    }
-
-    /// `message` pointing at `span`: the file name, line and column, that line and a caret.
-    fn render(&self, message: &str, span: Span) -> String {
-        let (line, range) = self.line_of(span.start);
-        let start = span.start.clamp(range.start, range.end);
-        let end = span.end.clamp(start, range.end);
-        render_at(
-            message,
-            &format!("{}, line {line}", self.origin),
-            &self.text[range.clone()],
-            Span::new(start - range.start, end - range.start),
-        )
     }
 }
 
@@ -385,10 +359,11 @@ impl GateProblem {
             None => format!("gate {}: {}", self.number, self.message),
         };
         match &self.place {
-            Place::File(span) => source.render(&message, *span),
+            Place::File(span) => Diagnostic::error(message).at(&source.source, *span).render(),
             Place::Expression { text, span, string } => {
-                let (line, _) = source.line_of(string.start);
-                render_at(&message, &format!("the expr string ({}, line {line})", source.origin), text, *span)
+                let (line, _) = source.source.line_of(string.start);
+                let origin = format!("the expr string ({}, line {line})", source.origin);
+                Diagnostic::error(message).at(&crate::diagnostic::Source::inline(origin, text.as_str()), *span).render()
             }
         }
     }
@@ -443,9 +418,9 @@ impl Library {
     /// Read a library file. A TOML error, an unknown top-level key, a bad `[defaults]` or a bad
     /// process stops here; a bad gate becomes that gate's [`GateProblem`].
     pub fn read(source: &Source) -> Result<Library, Error> {
-        let document = DeTable::parse(&source.text).map_err(|e| {
+        let document = DeTable::parse(source.text()).map_err(|e| {
             let span = e.span().map(to_span);
-            let (message, span) = crate::error::toml_error_place(&source.text, e.message(), span);
+            let (message, span) = crate::diagnostic::toml_error_place(source.text(), e.message(), span);
             source.error(message, span.map(|s| s.start..s.end))
         })?;
         let mut process = None;
@@ -701,7 +676,7 @@ fn read_gate_entry(
     let expression = gate.expr.get_ref().clone();
     let expression_place = ExpressionPlace {
         string: to_span(gate.expr.span()),
-        verbatim_start: verbatim_start(&source.text, gate.expr.span(), &expression),
+        verbatim_start: verbatim_start(source.text(), gate.expr.span(), &expression),
     };
     Ok(GatePlan {
         number,

@@ -23,8 +23,9 @@ use std::fmt;
 
 use thiserror::Error;
 
-use crate::error::{ExprError, Span};
+use crate::diagnostic::Span;
 use crate::expr::ast::{Expr, ExprKind};
+use crate::expr::error::ExprError;
 use crate::expr::normal::{self, GateFunction, MAX_DEVICES};
 use crate::expr::{parser, shorthand};
 use crate::names::{RESERVED, reserved_reason};

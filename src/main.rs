@@ -21,7 +21,7 @@ fn main() -> ExitCode {
             let plain = error.render().to_string();
             if error.use_stderr() && plain.chars().any(|c| c.is_control() && c != '\n') {
                 // clap quotes a bad argument as given: its control characters are written escaped.
-                widthwise::commands::diagnose(&widthwise::error::escaped_lines(&plain));
+                widthwise::commands::diagnose(&widthwise::diagnostic::escaped_lines(&plain));
             } else {
                 let _ = error.print();
             }

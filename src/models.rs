@@ -36,7 +36,7 @@ use std::rc::Rc;
 
 use thiserror::Error;
 
-use crate::error::{Span, render_at};
+use crate::diagnostic::{Diagnostic, Severity, Source as DiagnosticSource, Span};
 
 /// Deepest nesting of `.include`d files and `.lib` sections (a real library nests 3 to 5 deep).
 pub const MAX_NESTING: usize = 16;
@@ -668,43 +668,22 @@ impl Library {
     /// `path:line` of a location.
     pub fn place(&self, at: Location) -> String {
         let file = self.file(at.file);
-        let line = crate::error::line_and_column(&file.text, at.span.start).0;
+        let line = crate::diagnostic::line_and_column(&file.text, at.span.start).0;
         format!("{}:{line}", file.path.display())
     }
 
-    /// A message rendered like a compiler's: `error: message`, where, the line and a caret (or
-    /// `warning: ...` when `warning`).
-    pub fn render(&self, message: &str, at: Option<Location>, warning: bool) -> String {
-        let text = match at {
-            Some(at) => {
-                let file = self.file(at.file);
-                render_at(message, &file.path.display().to_string(), &file.text, at.span)
-            }
-            None => match self.files.first() {
-                Some(entry) => format!("error: {message}\n  in {}\n", entry.path.display()),
-                None => format!("error: {message}\n"),
-            },
-        };
-        if warning { text.replacen("error:", "warning:", 1) } else { text }
-    }
-
-    /// A problem as the crate's error, for the binary to print and map to an exit code (2: bad input).
-    pub fn to_error(&self, message: String, at: Option<Location>) -> crate::Error {
+    /// A problem of the scan as a diagnostic, for the one renderer ([`Diagnostic::render`]):
+    /// pointing at its card, or naming the entry file where it has no place.
+    pub fn diagnostic(&self, message: impl Into<String>, at: Option<Location>, severity: Severity) -> Diagnostic {
+        let diagnostic = Diagnostic { severity, ..Diagnostic::error(message) };
         match at {
             Some(at) => {
                 let file = self.file(at.file);
-                crate::Error::InFile {
-                    message,
-                    origin: file.path.display().to_string(),
-                    source_text: file.text.clone(),
-                    span: Some(at.span),
-                }
+                diagnostic.at(&DiagnosticSource::file(file.path.display().to_string(), file.text.as_str()), at.span)
             }
-            None => crate::Error::InFile {
-                message,
-                origin: self.files.first().map(|f| f.path.display().to_string()).unwrap_or_default(),
-                source_text: String::new(),
-                span: None,
+            None => match self.files.first() {
+                Some(entry) => diagnostic.within(&DiagnosticSource::file(entry.path.display().to_string(), "")),
+                None => diagnostic,
             },
         }
     }
@@ -1210,7 +1189,7 @@ impl Scanner<'_, '_> {
             match first_of.get(model.name.as_str()) {
                 Some(&first) => {
                     let file = &self.files[first.file.0];
-                    let line = crate::error::line_and_column(&file.text, first.span.start).0;
+                    let line = crate::diagnostic::line_and_column(&file.text, first.span.start).0;
                     let first = format!("{}:{line}", file.path.display());
                     self.warning(ScanError::DuplicateModel { name: model.name.clone(), first }, Some(model.at));
                 }
@@ -1809,7 +1788,7 @@ mod tests {
                 Some(at) => assert_eq!(text_at(&library, at), *pointed, "{files:?}"),
                 None => assert_eq!(*pointed, "", "{files:?}"),
             }
-            let rendered = library.render(&problem.error.to_string(), problem.at, false);
+            let rendered = library.diagnostic(problem.error.to_string(), problem.at, Severity::Error).render();
             assert!(rendered.starts_with("error: "), "{rendered}");
         }
     }
@@ -1867,7 +1846,12 @@ mod tests {
             "{warnings:?}"
         );
         assert_eq!(text_at(&library, library.warnings[1].at.unwrap()), "N");
-        assert!(library.render(&warnings[1], library.warnings[1].at, true).starts_with("warning: "));
+        assert!(
+            library
+                .diagnostic(warnings[1].as_str(), library.warnings[1].at, Severity::Warning)
+                .render()
+                .starts_with("warning: ")
+        );
         // The first definition is what a lookup finds.
         assert!(
             matches!(library.lookup("n", DeviceType::Nmos), Ok(ModelSet::Single(m)) if m.model_type == ModelType::Device(DeviceType::Nmos))
@@ -2054,7 +2038,7 @@ mod tests {
             for section in [None, Some("x")] {
                 let library = scan_files(&[("lib.l", &text[..end])], section);
                 for problem in library.errors.iter().chain(&library.warnings) {
-                    let _ = library.render(&problem.error.to_string(), problem.at, false);
+                    let _ = library.diagnostic(problem.error.to_string(), problem.at, Severity::Error).render();
                 }
                 let _ = library.check_device("a", DeviceType::Nmos, 1e-6, 1e-6);
             }

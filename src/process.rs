@@ -12,7 +12,7 @@ use thiserror::Error;
 use toml::Spanned;
 
 use crate::bounds::{Bound, show};
-use crate::error::Span;
+use crate::diagnostic::Span;
 
 /// A process, as sizes, netlists and decks need it.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -323,7 +323,7 @@ impl Process {
         }
         let file: ProcessFile = toml::from_str(text).map_err(|error| {
             let span = error.span().map(|r| Span::new(r.start, r.end));
-            let (mut message, span) = crate::error::toml_error_place(text, error.message(), span);
+            let (mut message, span) = crate::diagnostic::toml_error_place(text, error.message(), span);
             // A wrong type ("invalid type: string ...") does not say whose value it is: name the key.
             if let Some(key) = span.and_then(|span| key_on_line(text, span.start))
                 && !message.contains(key)

@@ -16,7 +16,7 @@ use std::sync::atomic::{AtomicU64, Ordering};
 use thiserror::Error;
 
 use crate::budget::{DEFAULT_WORK_BUDGET, Estimate, Meter, OverBudget, Work};
-use crate::error::ExprError;
+use crate::expr::error::ExprError;
 use crate::expr::{Expr, ExprKind, parser};
 use crate::gate::{SizedGate, Vector};
 use crate::network::NetworkKind;

@@ -9,7 +9,7 @@ use proptest::prelude::*;
 #[path = "../fuzz/src/lib.rs"]
 mod fuzz_targets;
 use widthwise::batch::{Library, Source, write_batch};
-use widthwise::error::render_at;
+use widthwise::diagnostic::{Diagnostic, Source as TextSource};
 use widthwise::expr::read_gate_with_models;
 use widthwise::gate::{GateOptions, size_text};
 use widthwise::output::{Format, Rows};
@@ -48,7 +48,8 @@ fn read_process(text: &str) {
         Ok(process) => assert_eq!(Process::from_toml(&process.to_commented_toml()).unwrap(), process),
         Err(error) => {
             if let Some(span) = error.span() {
-                assert!(render_at(&error.to_string(), "process.toml", text, span).starts_with("error: "));
+                let source = TextSource::file("process.toml", text);
+                assert!(Diagnostic::error(error.to_string()).at(&source, span).render().starts_with("error: "));
             }
         }
     }

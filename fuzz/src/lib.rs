@@ -52,7 +52,8 @@ pub fn process_file(text: &str) {
         }
         Err(error) => {
             if let Some(span) = error.span() {
-                let shown = widthwise::error::render_at(&error.to_string(), "process.toml", text, span);
+                let source = widthwise::diagnostic::Source::file("process.toml", text);
+                let shown = widthwise::diagnostic::Diagnostic::error(error.to_string()).at(&source, span).render();
                 assert!(shown.starts_with("error: "));
             }
         }

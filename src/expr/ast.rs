@@ -1,6 +1,6 @@
 //! The parsed expression tree, with a span on every node, and its canonical text.
 
-use crate::error::Span;
+use crate::diagnostic::Span;
 
 /// A node of the parsed expression.
 #[derive(Debug, Clone, PartialEq)]

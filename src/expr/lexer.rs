@@ -2,7 +2,8 @@
 //!
 //! Spans are what let every later error point at the exact place in the text.
 
-use crate::error::{ExprError, Span};
+use crate::diagnostic::Span;
+use crate::expr::error::ExprError;
 
 /// The kinds of token an expression is made of.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

@@ -1,15 +1,15 @@
 //! The expression stage: text -> tokens -> tree -> `Y = NOT f`, with shorthands for the trade's gates.
 
 pub mod ast;
+pub mod error;
 pub mod lexer;
 pub mod normal;
 pub mod parser;
 pub mod shorthand;
 
 pub use ast::{Expr, ExprKind};
+pub use error::ExprError;
 pub use normal::{Function, GateFunction, Literal};
-
-use crate::error::ExprError;
 
 /// Read a gate from text: an expression (with an optional `name =` prefix) or a shorthand such
 /// as `nand2`, in place of the whole expression or after `name =`. No name may be reserved

@@ -3,8 +3,9 @@
 
 use std::collections::HashMap;
 
-use crate::error::{ExprError, Span};
+use crate::diagnostic::Span;
 use crate::expr::ast::{Expr, ExprKind};
+use crate::expr::error::ExprError;
 use crate::names::reserved_reason;
 
 /// Most input occurrences (transistors per network) in one gate.

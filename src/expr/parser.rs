@@ -4,8 +4,9 @@
 //! parity, so only parentheses nest the recursion; [`MAX_NESTING`] bounds it, so no input can
 //! overflow the stack.
 
-use crate::error::{ExprError, Span};
+use crate::diagnostic::Span;
 use crate::expr::ast::{Expr, ExprKind};
+use crate::expr::error::ExprError;
 use crate::expr::lexer::{Token, TokenKind, tokenize};
 
 /// Deepest nesting of parentheses the parser accepts.

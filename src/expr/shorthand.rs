@@ -6,8 +6,9 @@
 //! `!(a & b | c)`). [`expand_cell`] adds the cells of more than one stage (`buf`, `and2`, `ao21`,
 //! `xor2`, `mux2`, `maj3` ...), listed with their inputs and functions in [`CELL_HELP`].
 
-use crate::error::{ExprError, Span};
+use crate::diagnostic::Span;
 use crate::expr::ast::{Expr, ExprKind};
+use crate::expr::error::ExprError;
 
 /// Most inputs of a NAND or NOR shorthand, and most members of an AOI/OAI group.
 pub const MAX_STACK: usize = 8;

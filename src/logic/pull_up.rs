@@ -12,8 +12,9 @@ use std::sync::atomic::{AtomicU64, Ordering};
 
 use thiserror::Error;
 
-use crate::error::{ExprError, Span};
+use crate::diagnostic::Span;
 use crate::expr::ast::{Expr, ExprKind};
+use crate::expr::error::ExprError;
 use crate::expr::lexer::{TokenKind, tokenize};
 use crate::expr::normal::{self, Function, GateFunction, Literal};
 use crate::expr::parser;
@@ -470,7 +471,7 @@ fn check_complementary(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::error::render_at;
+    use crate::diagnostic::{Diagnostic, Source};
     use crate::expr::read_gate;
     use crate::logic::testing::{by_text, check_cell, evaluate, form, inverting, monotone, one};
     use crate::logic::{Form, synthesize};
@@ -595,7 +596,9 @@ mod tests {
         // The caret sits under the NOT.
         let text = "a & b | !c";
         let error = pull_up(&carry, PullUpSpec::Written(text)).unwrap_err();
-        let rendered = render_at(&error.to_string(), "the pull-up", text, error.span().unwrap());
+        let rendered = Diagnostic::error(error.to_string())
+            .at(&Source::inline("the pull-up", text), error.span().unwrap())
+            .render();
         let lines: Vec<&str> = rendered.lines().collect();
         assert_eq!(lines[2], "    a & b | !c");
         assert_eq!(lines[3], "            ^");
@@ -665,7 +668,7 @@ mod tests {
             if let Err(error) = pull_up(&carry, spec) {
                 // Every refusal renders, with a caret where it has a place.
                 let rendered = match error.span() {
-                    Some(span) => render_at(&error.to_string(), "the pull-up", &text, span),
+                    Some(span) => Diagnostic::error(error.to_string()).at(&Source::inline("the pull-up", text.as_str()), span).render(),
                     None => error.to_string(),
                 };
                 prop_assert!(!rendered.is_empty());
