@@ -22,12 +22,13 @@ use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 use crate::bounds;
 use crate::budget::{Estimate, Meter, Work};
 use crate::cli::{OutputArgs, cell_name};
-use crate::commands::{Diagnostics, diagnose, open_regular, read_bounded, write_output};
+use crate::commands::write_output;
 use crate::delay::{self, StackOrder};
 use crate::diagnostic::{Diagnostic, Span, escaped};
 use crate::error::Error;
 use crate::expr::read_gate_with_models;
 use crate::gate::{GateOptions, SizedGate, size_function};
+use crate::io::{Diagnostics, diagnose};
 use crate::names::is_identifier;
 use crate::output::summary::SummaryTable;
 use crate::output::{self, Format, Rows};
@@ -116,15 +117,13 @@ impl Source {
         let origin = if from_stdin { "standard input".to_string() } else { path.display().to_string() };
         let what = format!("the library file '{origin}'");
         let bytes = if from_stdin {
-            read_bounded(io::stdin().lock(), MAX_LIBRARY_BYTES, &what, path)?
+            crate::io::read_stdin(MAX_LIBRARY_BYTES, &what)?
         } else {
             let hint = "; give '-' to read the library from standard input";
-            read_bounded(open_regular(path, "the library file", hint)?, MAX_LIBRARY_BYTES, &what, path)?
+            let file = crate::io::open_regular(path, "the library file", hint)?;
+            crate::io::read_bounded(file, MAX_LIBRARY_BYTES, &what, path)?
         };
-        let text = String::from_utf8(bytes).map_err(|error| Error::NotUtf8 {
-            what: format!("the library file '{origin}'"),
-            byte: error.utf8_error().valid_up_to(),
-        })?;
+        let text = crate::io::utf8_text(bytes, &what)?;
         let directory = match path.parent() {
             Some(parent) if !from_stdin && !parent.as_os_str().is_empty() => parent.to_path_buf(),
             _ => PathBuf::from("."),
@@ -603,7 +602,7 @@ fn read_process(source: &Source, value: Spanned<DeValue<'_>>) -> Result<Process,
     match value.get_ref() {
         DeValue::String(path) => {
             let path = source.directory.join(path.as_ref());
-            let text = crate::commands::read_text(&path, crate::process::MAX_PROCESS_FILE_BYTES, "the process file")
+            let text = crate::io::read_text(&path, crate::process::MAX_PROCESS_FILE_BYTES, "the process file")
                 .map_err(|error| source.error(format!("cannot read the process file: {error}"), Some(span.clone())))?;
             Process::from_toml(&text).map_err(|error| Error::InFile {
                 message: error.to_string(),

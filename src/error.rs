@@ -28,27 +28,12 @@ pub enum Error {
     /// Bad usage or an option value out of range.
     #[error("{0}")]
     Usage(String),
-    /// A command-line argument that is not UTF-8.
-    #[error("{what} is not valid UTF-8 (first bad byte at byte {byte})")]
-    NotUtf8 {
-        /// Which argument.
-        what: String,
-        /// Index of the first invalid byte.
-        byte: usize,
-    },
-    /// A file could not be read or written.
-    #[error("cannot {action} '{path}': {source}")]
-    File {
-        /// "read" or "write".
-        action: &'static str,
-        /// The file.
-        path: PathBuf,
-        /// Why.
-        source: std::io::Error,
-    },
-    /// Writing the output failed (a closed pipe is handled by the binary).
-    #[error("cannot write the output: {0}")]
-    Output(#[from] std::io::Error),
+    /// An input that could not be read: a file, standard input or an argument.
+    #[error("{0}")]
+    Input(#[from] crate::io::InputError),
+    /// The output could not be written (a closed pipe is handled by the binary).
+    #[error("{0}")]
+    Output(#[from] crate::io::OutputError),
     /// A bad process file, with its name and text.
     #[error("{}: {error}", path.display())]
     Process {

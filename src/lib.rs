@@ -22,6 +22,7 @@ pub mod exit;
 pub mod expr;
 pub mod figures;
 pub mod gate;
+pub mod io;
 pub mod logic;
 pub mod models;
 pub mod names;

@@ -2,7 +2,6 @@
 
 #![forbid(unsafe_code)]
 
-use std::io::ErrorKind;
 use std::process::ExitCode;
 
 use clap::Parser;
@@ -21,7 +20,7 @@ fn main() -> ExitCode {
             let plain = error.render().to_string();
             if error.use_stderr() && plain.chars().any(|c| c.is_control() && c != '\n') {
                 // clap quotes a bad argument as given: its control characters are written escaped.
-                widthwise::commands::diagnose(&widthwise::diagnostic::escaped_lines(&plain));
+                widthwise::io::diagnose(&widthwise::diagnostic::escaped_lines(&plain));
             } else {
                 let _ = error.print();
             }
@@ -31,10 +30,10 @@ fn main() -> ExitCode {
     match widthwise::commands::run(cli) {
         Ok(()) => ExitCode::from(EXIT_OK),
         // A reader that closed the pipe early (`| head`) is not an error.
-        Err(Error::Output(error)) if error.kind() == ErrorKind::BrokenPipe => ExitCode::from(EXIT_OK),
+        Err(Error::Output(error)) if error.is_closed_pipe() => ExitCode::from(EXIT_OK),
         Err(error) => {
             // Through a writer that ignores a closed stderr: `eprint!` would panic (exit 101).
-            widthwise::commands::diagnose(&error.render());
+            widthwise::io::diagnose(&error.render());
             ExitCode::from(error.exit_code())
         }
     }
