@@ -14,7 +14,8 @@ static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 use std::hint::black_box;
 use std::time::{Duration, Instant};
 
-use widthwise::gate::{GateOptions, size_text};
+use widthwise::gate::GateOptions;
+use widthwise::size_text;
 use widthwise::sizing::{Method, SizingOptions};
 use widthwise::verify::{VerifyOptions, verify};
 

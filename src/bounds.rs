@@ -26,12 +26,29 @@ impl Bound {
         if inside { Ok(value) } else { Err(format!("must be {}", self.describe())) }
     }
 
+    /// `value` if it is within the bound, else an error naming `what` it is.
+    pub fn check_named(&self, what: &'static str, value: f64) -> Result<f64, OutOfBounds> {
+        self.check(value).map_err(|rule| OutOfBounds { what, value, rule })
+    }
+
     /// The range in words: `a number from 1e-6 up to 1e6`, `0, or a number from ...`.
     pub fn describe(&self) -> String {
         let unit = if self.unit.is_empty() { String::new() } else { format!(" {}", self.unit) };
         let range = format!("a number from {} up to {}{unit}", show(self.min), show(self.max));
         if self.zero { format!("0, or {range}") } else { range }
     }
+}
+
+/// A number outside its bound: what it is, the value and what it must be.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("{what} {rule}, found '{}'", show(*value))]
+pub struct OutOfBounds {
+    /// What the number is (`the drive`).
+    pub what: &'static str,
+    /// The value.
+    pub value: f64,
+    /// What it must be (`must be ...`).
+    pub rule: String,
 }
 
 /// A number as messages write it: plain near 1 (and 0), else in exponent form (`1e300`, never three

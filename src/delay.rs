@@ -25,10 +25,9 @@ pub mod rc;
 use thiserror::Error;
 
 use crate::budget::{DEFAULT_WORK_BUDGET, Meter, OverBudget, Work};
-use crate::error::Error;
-use crate::expr::{GateFunction, read_gate_with_models};
+use crate::expr::GateFunction;
 use crate::figures::NodeDiffusion;
-use crate::gate::{GateOptions, SizedGate, Vector, device_name, size_function};
+use crate::gate::{GateError, GateOptions, SizedGate, Vector, device_name, size_function};
 use crate::network::{Network, NetworkKind};
 use crate::paths::EXACT_WORST_MAX_INPUTS;
 use crate::process::Process;
@@ -225,6 +224,32 @@ pub enum DelayError {
     /// More work than the budget allows.
     #[error("{0}")]
     OverBudget(OverBudget),
+    /// A delay option out of its bound.
+    #[error(transparent)]
+    OutOfBounds(#[from] crate::bounds::OutOfBounds),
+    /// The gate could not be sized (in some order, by some method).
+    #[error(transparent)]
+    Gate(#[from] GateError),
+    /// A gate too large for the stack-order search.
+    #[error("the stack-order search handles gates of up to {limit} input occurrences; this one has {count}")]
+    TooLargeToSearch {
+        /// Input occurrences of the gate.
+        count: usize,
+        /// The limit.
+        limit: usize,
+    },
+    /// Both a critical input and the written stack order choose the order.
+    #[error(
+        "--critical {critical} and the written stack order both choose the order: write '{critical}' first in its \
+         stacks, or drop one of them"
+    )]
+    CriticalWithWrittenOrder {
+        /// The critical input.
+        critical: String,
+    },
+    /// The default stack order sized once, then not again (an internal inconsistency).
+    #[error("the default stack order could not be sized twice the same way")]
+    DefaultOrderChanged,
 }
 
 impl From<OverBudget> for DelayError {
@@ -234,18 +259,24 @@ impl From<OverBudget> for DelayError {
 }
 
 impl DelayError {
-    /// Infeasible bounds are a failed check (exit 1); everything else is bad input (exit 2).
-    pub fn is_check_failure(&self) -> bool {
+    /// Whether no widths meet the elmore method's bounds (within its box): the method's answer for
+    /// this gate and load, which the stack-order search skips and the binary ends with exit 1.
+    pub fn is_infeasible(&self) -> bool {
         matches!(self, DelayError::Infeasible { .. } | DelayError::Unbounded { .. })
     }
-}
 
-impl From<DelayError> for Error {
-    fn from(error: DelayError) -> Error {
-        match error {
-            DelayError::OverBudget(over) => Error::OverBudget(over),
-            error if error.is_check_failure() => Error::CheckFailed(error.to_string()),
-            error => Error::Usage(error.to_string()),
+    /// Whether a computation did not succeed (exit 1): infeasible bounds, a solver that did not
+    /// converge; everything else is bad input, a limit or a budget (exit 2), or internal.
+    pub fn is_check_failure(&self) -> bool {
+        self.is_infeasible() || matches!(self, DelayError::Solver(_))
+    }
+
+    /// Whether the error is an internal inconsistency: a bug when the binary meets it.
+    pub fn is_internal(&self) -> bool {
+        match self {
+            DelayError::Network { .. } | DelayError::DefaultOrderChanged => true,
+            DelayError::Gate(error) => error.is_internal(),
+            _ => false,
         }
     }
 }
@@ -695,9 +726,7 @@ pub fn check_options(options: &DelayOptions) -> Result<(), DelayError> {
         Load::Capacitance(c) => ("the load", c),
     };
     for (what, value) in [("the diffusion ratio", options.diffusion_ratio), (what, value)] {
-        if let Err(rule) = crate::bounds::LOAD.check(value) {
-            return Err(DelayError::Option { what, rule, value });
-        }
+        crate::bounds::LOAD.check_named(what, value)?;
     }
     Ok(())
 }
@@ -891,7 +920,7 @@ pub fn size_read_gate(
     function: &GateFunction,
     options: &GateOptions,
     delay: &DelayOptions,
-) -> Result<SizedGate, Error> {
+) -> Result<SizedGate, DelayError> {
     size_read_gate_within(function, options, delay, &Meter::new(delay.work_budget))
 }
 
@@ -901,67 +930,61 @@ pub(crate) fn size_read_gate_within(
     options: &GateOptions,
     delay: &DelayOptions,
     meter: &Meter,
-) -> Result<SizedGate, Error> {
+) -> Result<SizedGate, DelayError> {
     if options.sizing.method == Method::Elmore && options.fixed_widths.is_none() {
         program::size_for_delay(function, options, delay, meter)
     } else {
-        size_function(function.clone(), options)
+        Ok(size_function(function.clone(), options)?)
     }
 }
 
 /// The options with every series stack in written order (the first member nearest the output).
-pub fn written_order(function: &GateFunction, options: &GateOptions) -> Result<GateOptions, Error> {
+pub fn written_order(function: &GateFunction, options: &GateOptions) -> Result<GateOptions, DelayError> {
     if let Some(critical) = &options.critical {
-        return Err(Error::Usage(format!(
-            "--critical {critical} and the written stack order both choose the order: write '{critical}' first in \
-             its stacks, or drop one of them"
-        )));
+        return Err(DelayError::CriticalWithWrittenOrder { critical: critical.clone() });
     }
     Ok(GateOptions { stack_order: Some(Network::pair(function)), ..options.clone() })
 }
 
-/// Read a gate, the process's model names reserved.
-fn read(text: &str, options: &GateOptions) -> Result<GateFunction, Error> {
-    read_gate_with_models(text, &options.process.model_names())
-        .map_err(|error| Error::Expression { error, source_text: text.to_string() })
-}
-
-/// Size a gate with any method and stack order, without timing it (for the `paths` command).
-pub fn size_gate(text: &str, options: &GateOptions, delay: &DelayOptions) -> Result<SizedGate, Error> {
+/// Size a read gate with any method and stack order, without timing it (for the `paths`, `deck`
+/// and `verify` commands).
+pub fn size_gate(
+    function: &GateFunction,
+    options: &GateOptions,
+    delay: &DelayOptions,
+) -> Result<SizedGate, DelayError> {
     check_options(delay)?;
-    let function = read(text, options)?;
     let meter = Meter::new(delay.work_budget);
     match delay.stack_order {
-        StackOrder::Default => size_read_gate_within(&function, options, delay, &meter),
-        StackOrder::Written => size_read_gate_within(&function, &written_order(&function, options)?, delay, &meter),
-        StackOrder::Search => order::search_within(&function, options, delay, &meter).map(|(gate, _)| gate),
+        StackOrder::Default => size_read_gate_within(function, options, delay, &meter),
+        StackOrder::Written => size_read_gate_within(function, &written_order(function, options)?, delay, &meter),
+        StackOrder::Search => order::search_within(function, options, delay, &meter).map(|(gate, _)| gate),
     }
 }
 
 /// Size a gate, time it and set its [`SizedGate::timing`]: delays, the logical-effort view, the three
 /// methods side by side and, when asked, the stack-order search.
 pub fn size_and_time(
-    text: &str,
+    function: &GateFunction,
     options: &GateOptions,
     delay: &DelayOptions,
     process: Option<&Process>,
-) -> Result<SizedGate, Error> {
+) -> Result<SizedGate, DelayError> {
     check_options(delay)?;
-    let function = read(text, options)?;
     // One budget for the sizing, the search, the delays and the comparison of methods.
     let meter = Meter::new(delay.work_budget);
     let (mut gate, order_report) = match delay.stack_order {
-        StackOrder::Default => (size_read_gate_within(&function, options, delay, &meter)?, None),
+        StackOrder::Default => (size_read_gate_within(function, options, delay, &meter)?, None),
         StackOrder::Written => {
-            (size_read_gate_within(&function, &written_order(&function, options)?, delay, &meter)?, None)
+            (size_read_gate_within(function, &written_order(function, options)?, delay, &meter)?, None)
         }
         StackOrder::Search => {
-            let (gate, report) = order::search_within(&function, options, delay, &meter)?;
+            let (gate, report) = order::search_within(function, options, delay, &meter)?;
             (gate, Some(report))
         }
     };
     let mut timing = analyse_within(&gate, delay, process, &meter)?;
-    timing.method_comparison = compare_methods_within(&function, options, delay, &gate, &timing, &meter)?;
+    timing.method_comparison = compare_methods_within(function, options, delay, &gate, &timing, &meter)?;
     timing.stack_order = order_report;
     gate.timing = Some(timing);
     Ok(gate)
@@ -975,7 +998,7 @@ pub fn compare_methods(
     delay: &DelayOptions,
     gate: &SizedGate,
     timing: &Timing,
-) -> Result<Vec<MethodDelay>, Error> {
+) -> Result<Vec<MethodDelay>, DelayError> {
     compare_methods_within(function, options, delay, gate, timing, &Meter::new(delay.work_budget))
 }
 
@@ -988,7 +1011,7 @@ fn compare_methods_within(
     gate: &SizedGate,
     timing: &Timing,
     meter: &Meter,
-) -> Result<Vec<MethodDelay>, Error> {
+) -> Result<Vec<MethodDelay>, DelayError> {
     let mut rows = Vec::new();
     // Widths already timed, so that equal sizings (NAND, NOR ...) are timed once.
     let mut timed: Vec<([Vec<f64>; 2], Timing)> = Vec::new();
@@ -1040,7 +1063,7 @@ fn compare_methods_within(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::gate::size_text;
+    use crate::size_text;
 
     #[test]
     fn a_shared_series_diffusion_counts_as_wide_as_the_wider_device() {
@@ -1075,7 +1098,7 @@ mod tests {
             let options = GateOptions::new(SizingOptions::new(Method::Elmore, 2.0, 1.0, None));
             let delay =
                 DelayOptions { load: Load::Capacitance(50.0), diffusion_ratio: ratio, ..DelayOptions::default() };
-            let gate = size_gate(text, &options, &delay).unwrap();
+            let gate = size_gate(&crate::expr::read_gate(text).unwrap(), &options, &delay).unwrap();
             let circuit = Circuit::new(&gate, ratio);
             let widths = flat_widths(&gate);
             let devices: Vec<(&str, &str, f64)> =

@@ -51,9 +51,14 @@ struct SourceText {
 }
 
 impl Source {
-    /// A file's text (a leading byte-order mark already dropped by the reader).
+    /// A file's text. A leading byte-order mark is dropped (as every reader drops it), so that
+    /// places count from what follows it.
     pub fn file(origin: impl Into<String>, text: impl Into<String>) -> Source {
-        Source::new(origin.into(), text.into(), true)
+        let mut text = text.into();
+        if text.starts_with('\u{feff}') {
+            text.drain(..'\u{feff}'.len_utf8());
+        }
+        Source::new(origin.into(), text, true)
     }
 
     /// A text given on its own, such as an expression.

@@ -1,16 +1,26 @@
-//! Typed errors of every stage, and their rendering like a compiler: where, the source line, a caret.
+//! The final error of a run, as the binary sees it: each stage's typed error, gathered.
 //!
-//! Each stage returns its own error enum; [`Error`] gathers them for the binary, which maps each
-//! kind to a fixed exit code ([`Error::exit_code`]).
-
-use std::path::PathBuf;
+//! Each stage returns its own error type, next to the stage ([`ExprError`], [`ProcessError`],
+//! [`GateError`], [`DelayError`] ...). [`Error`] wraps them without flattening them to text, knows
+//! the exit code of each ([`Error::exit_code`], codes in [`crate::exit`]) and renders each through
+//! the one diagnostic renderer ([`Error::render`]), pointing into its source where it has a place.
+//! This module imports the stages; no stage imports it.
 
 use thiserror::Error;
 
+use crate::budget::OverBudget;
+use crate::delay::DelayError;
 use crate::diagnostic::{Diagnostic, Source};
+use crate::gate::GateError;
+use crate::io::{InputError, OutputError};
+use crate::library::LibraryError;
+use crate::ngspice::SimulationError;
+use crate::output::deck::DeckError;
+use crate::paths::ListingError;
 use crate::process::ProcessError;
+use crate::verify::{VerifyError, VerifyFailed};
 
-pub use crate::diagnostic::{Span, escaped, escaped_lines};
+pub use crate::diagnostic::Span;
 pub use crate::exit::{EXIT_BAD_INPUT, EXIT_CHECK_FAILED, EXIT_OK};
 pub use crate::expr::error::ExprError;
 
@@ -22,46 +32,55 @@ pub enum Error {
     Expression {
         /// The stage's error.
         error: ExprError,
-        /// The expression text.
-        source_text: String,
+        /// The expression.
+        input: Source,
     },
-    /// Bad usage or an option value out of range.
-    #[error("{0}")]
-    Usage(String),
-    /// An input that could not be read: a file, standard input or an argument.
-    #[error("{0}")]
-    Input(#[from] crate::io::InputError),
-    /// The output could not be written (a closed pipe is handled by the binary).
-    #[error("{0}")]
-    Output(#[from] crate::io::OutputError),
-    /// A bad process file, with its name and text.
-    #[error("{}: {error}", path.display())]
+    /// A bad process file, with the file.
+    #[error("{error}")]
     Process {
         /// What is wrong, with the key and its place.
-        error: Box<ProcessError>,
-        /// The file.
-        path: PathBuf,
-        /// The file's text.
-        source_text: String,
+        error: ProcessError,
+        /// The file's name and text.
+        file: Source,
     },
-    /// A netlist that verification cannot simulate, or a verification past its work budget.
-    #[error("{0}")]
-    Verify(#[from] crate::verify::VerifyError),
-    /// A check the user asked for failed; the message says which.
-    #[error("{0}")]
-    CheckFailed(String),
-    /// A bad file (a library or process file): the message and where in which file.
-    #[error("{message}")]
-    InFile {
-        /// What is wrong.
-        message: String,
-        /// The file's name as messages give it.
-        origin: String,
-        /// The file's text.
-        source_text: String,
-        /// Where, when known.
-        span: Option<Span>,
+    /// A library file that cannot be sized at all, with the file.
+    #[error("{error}")]
+    Library {
+        /// What is wrong, and where (in the library file or a process file it names).
+        error: LibraryError,
+        /// The library file's name and text.
+        file: Source,
     },
+    /// An input that could not be read: a file, standard input or an argument.
+    #[error(transparent)]
+    Input(#[from] InputError),
+    /// The output could not be written (a closed pipe is handled by the binary).
+    #[error(transparent)]
+    Output(#[from] OutputError),
+    /// A read gate that cannot be sized.
+    #[error(transparent)]
+    Gate(#[from] GateError),
+    /// Delays, the elmore method or the stack-order search could not be worked out.
+    #[error(transparent)]
+    Delay(#[from] DelayError),
+    /// A path listing past its limits.
+    #[error(transparent)]
+    Listing(#[from] ListingError),
+    /// A deck that cannot be written as asked.
+    #[error(transparent)]
+    Deck(#[from] DeckError),
+    /// A netlist that verification cannot simulate, or a verification past its limits.
+    #[error(transparent)]
+    Verify(#[from] VerifyError),
+    /// A netlist that fails verification.
+    #[error(transparent)]
+    VerifyFailed(#[from] VerifyFailed),
+    /// A computation would pass its work budget ([`crate::budget`]).
+    #[error(transparent)]
+    OverBudget(#[from] OverBudget),
+    /// A simulation that gave no result.
+    #[error(transparent)]
+    Simulation(#[from] SimulationError),
     /// Names in a batch clash: a gate name used twice, or a drive listed twice in one gate (each
     /// clash was reported as it was found); nothing was written.
     #[error("{count} name clash(es) among the gates and their variants (reported above); nothing was written")]
@@ -69,9 +88,6 @@ pub enum Error {
         /// How many clashes.
         count: usize,
     },
-    /// A computation would pass its work budget ([`crate::budget`]).
-    #[error("{0}")]
-    OverBudget(#[from] crate::budget::OverBudget),
     /// Some gates of a batch could not be sized (each was reported as it was found); the others
     /// were written.
     #[error("{failed} of {total} gates could not be sized (reported above); gates written: {}", total - failed)]
@@ -81,15 +97,56 @@ pub enum Error {
         /// Gates in the file.
         total: usize,
     },
+    /// Some variants of a batch fail verification (each was reported as it was found); every
+    /// variant was written.
+    #[error("{unverified} of {variants} variants fail verification (each named above); they are still written")]
+    VariantsUnverified {
+        /// Variants that fail.
+        unverified: usize,
+        /// Variants sized.
+        variants: usize,
+    },
 }
 
 impl Error {
-    /// The documented exit code: 1 for a failed check, 2 for bad input, usage or I/O.
+    /// The documented exit code ([`crate::exit`]): 1 when a check or computation did not succeed
+    /// (infeasible, not converged, verification failed, a simulation failed, an internal
+    /// inconsistency); 2 for bad input or usage, an input past a limit or a work budget, and a file
+    /// that cannot be read or written.
     pub fn exit_code(&self) -> u8 {
+        let failed = match self {
+            Error::Delay(error) => error.is_check_failure() || error.is_internal(),
+            Error::Gate(error) => error.is_internal(),
+            Error::Verify(error) => error.is_internal(),
+            Error::Simulation(error) => return error.exit_code(),
+            Error::VerifyFailed(_) | Error::VariantsUnverified { .. } => true,
+            Error::Expression { .. }
+            | Error::Process { .. }
+            | Error::Library { .. }
+            | Error::Input(_)
+            | Error::Output(_)
+            | Error::Listing(_)
+            | Error::Deck(_)
+            | Error::OverBudget(_)
+            | Error::NameClashes { .. }
+            | Error::GatesFailed { .. } => false,
+        };
+        if failed { EXIT_CHECK_FAILED } else { EXIT_BAD_INPUT }
+    }
+
+    /// Whether the error is an internal inconsistency: a bug, never the input's fault.
+    pub fn is_internal(&self) -> bool {
         match self {
-            Error::CheckFailed(_) => EXIT_CHECK_FAILED,
-            _ => EXIT_BAD_INPUT,
+            Error::Delay(error) => error.is_internal(),
+            Error::Gate(error) => error.is_internal(),
+            Error::Verify(error) => error.is_internal(),
+            _ => false,
         }
+    }
+
+    /// Whether standard output was closed by its reader (`| head`): the binary exits 0, quietly.
+    pub fn is_closed_pipe(&self) -> bool {
+        matches!(self, Error::Output(error) if error.is_closed_pipe())
     }
 
     /// The message as printed on stderr, with source line and caret where there is a span.
@@ -100,13 +157,47 @@ impl Error {
     /// The error as a diagnostic: the message, and the text and place it is about.
     pub fn diagnostic(&self) -> Diagnostic {
         match self {
-            Error::Expression { error, source_text } => Diagnostic::error(error.to_string())
-                .at(&Source::inline("the expression", source_text.as_str()), error.span()),
-            Error::Process { error, path, source_text } => Diagnostic::error(error.to_string())
-                .at_or_within(&Source::file(path.display().to_string(), source_text.as_str()), error.span()),
-            Error::InFile { message, origin, source_text, span } => Diagnostic::error(message.as_str())
-                .at_or_within(&Source::file(origin.as_str(), source_text.as_str()), *span),
+            Error::Expression { error, input } => Diagnostic::error(error.to_string()).at(input, error.span()),
+            Error::Process { error, file } => Diagnostic::error(error.to_string()).at_or_within(file, error.span()),
+            Error::Library { error, file } => error.diagnostic(file),
+            other if other.is_internal() => {
+                Diagnostic::error(format!("{other} (an internal inconsistency: a bug in widthwise, not in the input)"))
+            }
             other => Diagnostic::error(other.to_string()),
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn each_kind_of_error_has_its_exit_code() {
+        let infeasible = DelayError::Infeasible { ratio: 1.5, input: "a".into(), edge: "fall" };
+        assert_eq!(Error::from(infeasible).exit_code(), EXIT_CHECK_FAILED);
+        assert_eq!(Error::from(DelayError::Solver("stalled".into())).exit_code(), EXIT_CHECK_FAILED);
+        let search = DelayError::TooLargeToSearch { count: 70, limit: 64 };
+        assert_eq!(Error::from(search).exit_code(), EXIT_BAD_INPUT);
+        let internal = Error::from(DelayError::DefaultOrderChanged);
+        assert_eq!(internal.exit_code(), EXIT_CHECK_FAILED);
+        assert!(internal.render().contains("an internal inconsistency"), "{}", internal.render());
+        let reserved = GateError::ReservedCellName { name: "vdd".into(), why: "a rail".into() };
+        assert_eq!(Error::from(reserved).exit_code(), EXIT_BAD_INPUT);
+        assert_eq!(Error::from(GateError::ForeignStackOrder).exit_code(), EXIT_CHECK_FAILED);
+        assert_eq!(Error::from(DeckError::SameModels { name: "m".into() }).exit_code(), EXIT_BAD_INPUT);
+        let too_long = InputError::TooLong { what: "the expression".into(), limit: 1 };
+        assert_eq!(Error::from(too_long).exit_code(), EXIT_BAD_INPUT);
+        assert_eq!(Error::VariantsUnverified { unverified: 1, variants: 2 }.exit_code(), EXIT_CHECK_FAILED);
+    }
+
+    #[test]
+    fn an_expression_error_points_into_the_expression() {
+        let error = crate::expr::read_gate("!(a & )").unwrap_err();
+        let rendered = Error::Expression { error, input: Source::inline("the expression", "!(a & )") }.render();
+        assert_eq!(
+            rendered,
+            "error: expected an input name, a NOT or '(', found ')'\n  at the expression, column 7:\n    !(a & )\n          ^\n"
+        );
     }
 }

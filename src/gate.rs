@@ -9,8 +9,8 @@ use serde::ser::{SerializeMap, Serializer};
 
 use crate::bounds;
 use crate::budget::{Meter, OverBudget, Work};
-use crate::error::Error;
-use crate::expr::{GateFunction, read_gate_with_models};
+use crate::diagnostic::escaped;
+use crate::expr::GateFunction;
 use crate::figures::{self, DeviceLoad};
 use crate::names::reserved_reason;
 use crate::network::{Network, NetworkKind, Terminals, internal_prefix};
@@ -39,14 +39,88 @@ pub struct GateOptions {
 impl GateOptions {
     /// Options with the given sizing, no critical input, the default name and the built-in process.
     pub fn new(sizing: SizingOptions) -> GateOptions {
-        GateOptions {
-            sizing,
-            critical: None,
-            name: None,
-            process: Arc::new(Process::default()),
-            stack_order: None,
-            fixed_widths: None,
-        }
+        GateOptions::cell(sizing, None, None, Arc::new(Process::default()))
+    }
+
+    /// Options for one cell as a user gives them: its sizing, the input to place nearest the output,
+    /// its name and its process; no order or widths fixed by a later stage. Every command (and each
+    /// variant of a library) builds its options here.
+    pub fn cell(
+        sizing: SizingOptions,
+        critical: Option<String>,
+        name: Option<String>,
+        process: Arc<Process>,
+    ) -> GateOptions {
+        GateOptions { sizing, critical, name, process, stack_order: None, fixed_widths: None }
+    }
+}
+
+/// Why a read gate cannot be sized.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum GateError {
+    /// The cell name is reserved (a rail, ground, a model in use).
+    #[error("the cell name '{name}' is reserved: {why}")]
+    ReservedCellName {
+        /// The name.
+        name: String,
+        /// Why it is reserved.
+        why: String,
+    },
+    /// An input or the output takes a reserved name (a function read without the models in use).
+    #[error("{role} '{name}' takes a reserved name: {why}")]
+    ReservedName {
+        /// `input` or `the output`.
+        role: &'static str,
+        /// The name.
+        name: String,
+        /// Why it is reserved.
+        why: String,
+    },
+    /// A sizing value out of its bound.
+    #[error(transparent)]
+    OutOfBounds(#[from] bounds::OutOfBounds),
+    /// A device drawn with more fingers than allowed.
+    #[error(
+        "{device} (W/L {w_over_l}) would be drawn as {fingers} fingers; the limit is {limit} fingers per device: a \
+         smaller drive or reference, a larger max_finger_width_nm or a smaller unit_width_nm keeps it in"
+    )]
+    TooManyFingers {
+        /// The device.
+        device: String,
+        /// Its W/L.
+        w_over_l: f64,
+        /// Its fingers.
+        fingers: usize,
+        /// The limit.
+        limit: usize,
+    },
+    /// The critical input is not an input of the gate.
+    #[error("critical input '{}' is not an input of the gate (its inputs: {inputs})", escaped(name))]
+    UnknownCritical {
+        /// The name given.
+        name: String,
+        /// The gate's inputs, listed.
+        inputs: String,
+    },
+    /// Widths fixed by a later stage that do not fit the gate (an internal inconsistency).
+    #[error("fixed widths must be {count} positive numbers per network")]
+    FixedWidths {
+        /// Devices per network.
+        count: usize,
+    },
+    /// The elmore method asked of the path sizer (an internal inconsistency: the delay stage sizes it).
+    #[error("the elmore method sets widths from delays and needs a load: size it through the delay stage")]
+    ElmoreWithoutLoad,
+    /// A stack order that is not the gate's own networks (an internal inconsistency).
+    #[error("a stack order must hold the gate's own networks, reordered")]
+    ForeignStackOrder,
+}
+
+impl GateError {
+    /// Whether the error is an internal inconsistency (options built in code, not by a user): a bug
+    /// when the binary meets it.
+    pub fn is_internal(&self) -> bool {
+        matches!(self, GateError::FixedWidths { .. } | GateError::ElmoreWithoutLoad | GateError::ForeignStackOrder)
     }
 }
 
@@ -253,13 +327,6 @@ pub fn device_name(kind: NetworkKind, index: usize) -> String {
     name
 }
 
-/// Read `text` (the process's model names reserved) and size it.
-pub fn size_text(text: &str, options: &GateOptions) -> Result<SizedGate, Error> {
-    let function = read_gate_with_models(text, &options.process.model_names())
-        .map_err(|error| Error::Expression { error, source_text: text.to_string() })?;
-    size_function(function, options)
-}
-
 /// The cell name `options` give a gate: the name given, else the shorthand, else `cell`.
 fn cell_name(function: &GateFunction, options: &GateOptions) -> String {
     options.name.clone().or_else(|| function.shorthand.clone()).unwrap_or_else(|| "cell".to_string())
@@ -267,15 +334,15 @@ fn cell_name(function: &GateFunction, options: &GateOptions) -> String {
 
 /// No name that reaches a netlist may be reserved: the cell's, and (for a function read without the
 /// process's model names) the inputs' and the output's.
-fn check_reserved(function: &GateFunction, options: &GateOptions) -> Result<(), Error> {
+fn check_reserved(function: &GateFunction, options: &GateOptions) -> Result<(), GateError> {
     let models = options.process.model_names();
     let name = cell_name(function, options);
     if let Some(why) = reserved_reason(&name, &models) {
-        return Err(Error::Usage(format!("the cell name '{name}' is reserved: {why}")));
+        return Err(GateError::ReservedCellName { name, why });
     }
     for (role, name) in function.inputs.iter().map(|i| ("input", i)).chain([("the output", &function.output)]) {
         if let Some(why) = reserved_reason(name, &models) {
-            return Err(Error::Usage(format!("{role} '{name}' takes a reserved name: {why}")));
+            return Err(GateError::ReservedName { role, name: name.clone(), why });
         }
     }
     Ok(())
@@ -283,31 +350,29 @@ fn check_reserved(function: &GateFunction, options: &GateOptions) -> Result<(), 
 
 /// The sizing values within [`bounds::SIZING`], as every reader checks them (for options built
 /// in code).
-fn check_sizing(sizing: &SizingOptions) -> Result<(), Error> {
+fn check_sizing(sizing: &SizingOptions) -> Result<(), GateError> {
     for (what, value) in [
         ("the drive", sizing.drive),
         ("the mobility ratio", sizing.mobility_ratio),
         ("the reference NMOS W/L", sizing.reference.nmos),
         ("the reference PMOS W/L", sizing.reference.pmos),
     ] {
-        bounds::SIZING.check(value).map_err(|why| Error::Usage(format!("{what} {why}, found {value}")))?;
+        bounds::SIZING.check_named(what, value)?;
     }
     Ok(())
 }
 
 /// Every device drawn with at most [`bounds::MAX_FINGERS`] fingers.
-fn check_fingers(drawn: &[Vec<Drawn>; 2], widths: &[Vec<f64>; 2]) -> Result<(), Error> {
+fn check_fingers(drawn: &[Vec<Drawn>; 2], widths: &[Vec<f64>; 2]) -> Result<(), GateError> {
     for (kind, side) in NetworkKind::BOTH.into_iter().zip(0..) {
         for (device, d) in drawn[side].iter().enumerate() {
             if d.fingers > bounds::MAX_FINGERS {
-                return Err(Error::Usage(format!(
-                    "{} (W/L {}) would be drawn as {} fingers; the limit is {} fingers per device: a smaller \
-                     drive or reference, a larger max_finger_width_nm or a smaller unit_width_nm keeps it in",
-                    device_name(kind, device),
-                    widths[side][device],
-                    d.fingers,
-                    bounds::MAX_FINGERS
-                )));
+                return Err(GateError::TooManyFingers {
+                    device: device_name(kind, device),
+                    w_over_l: widths[side][device],
+                    fingers: d.fingers,
+                    limit: bounds::MAX_FINGERS,
+                });
             }
         }
     }
@@ -315,34 +380,29 @@ fn check_fingers(drawn: &[Vec<Drawn>; 2], widths: &[Vec<f64>; 2]) -> Result<(), 
 }
 
 /// Size a gate that has been read.
-pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<SizedGate, Error> {
+pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<SizedGate, GateError> {
     check_reserved(&function, options)?;
     let sizing = options.sizing;
     check_sizing(&sizing)?;
-    let critical = match &options.critical {
-        None => None,
-        Some(name) => Some(function.inputs.iter().position(|i| i == name).ok_or_else(|| {
-            Error::Usage(format!(
-                "critical input '{}' is not an input of the gate (its inputs: {})",
-                crate::error::escaped(name),
-                function.inputs.join(", ")
-            ))
-        })?),
-    };
+    let critical =
+        match &options.critical {
+            None => None,
+            Some(name) => Some(function.inputs.iter().position(|i| i == name).ok_or_else(|| {
+                GateError::UnknownCritical { name: name.clone(), inputs: function.inputs.join(", ") }
+            })?),
+        };
     let count = function.literals.len();
     let input_of = function.input_of();
     let built = Network::pair(&function);
     let widths = match &options.fixed_widths {
         Some(given) => {
             if given.iter().any(|w| w.len() != count || w.iter().any(|x| !(x.is_finite() && *x > 0.0))) {
-                return Err(Error::Usage(format!("fixed widths must be {count} positive numbers per network")));
+                return Err(GateError::FixedWidths { count });
             }
             given.clone()
         }
         None if sizing.method == Method::Elmore => {
-            return Err(Error::Usage(
-                "the elmore method sets widths from delays and needs a load: size it through the delay stage".into(),
-            ));
+            return Err(GateError::ElmoreWithoutLoad);
         }
         None => [0, 1].map(|side| sizing::size(&built[side], count, sizing.method, &sizing)),
     };
@@ -351,7 +411,7 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
     let trees = match &options.stack_order {
         Some(given) => {
             if !(0..2).all(|side| built[side].same_up_to_order(&given[side])) {
-                return Err(Error::Usage("a stack order must hold the gate's own networks, reordered".into()));
+                return Err(GateError::ForeignStackOrder);
             }
             given.clone()
         }
@@ -635,6 +695,7 @@ impl SizedGate {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::size_text;
     use approx::assert_relative_eq;
 
     fn sized(text: &str, method: Method) -> SizedGate {

@@ -9,7 +9,6 @@
 
 #![forbid(unsafe_code)]
 
-pub mod batch;
 pub mod bounds;
 pub mod budget;
 pub mod cli;
@@ -23,6 +22,7 @@ pub mod expr;
 pub mod figures;
 pub mod gate;
 pub mod io;
+pub mod library;
 pub mod logic;
 pub mod models;
 pub mod names;
@@ -38,5 +38,13 @@ pub mod verify;
 pub use diagnostic::Span;
 pub use error::Error;
 pub use expr::ExprError;
-pub use gate::{GateOptions, SizedGate, size_text};
+pub use gate::{GateOptions, SizedGate};
 pub use sizing::{Method, Reference, SizingOptions};
+
+/// Read `text` (an expression or a shorthand; the process's model names reserved) and size it by a
+/// path method ([`gate::size_function`]): the expression stage and the sizing in one call.
+pub fn size_text(text: &str, options: &GateOptions) -> Result<SizedGate, Error> {
+    let function = expr::read_gate_with_models(text, &options.process.model_names())
+        .map_err(|error| Error::Expression { error, input: diagnostic::Source::inline("the expression", text) })?;
+    Ok(gate::size_function(function, options)?)
+}

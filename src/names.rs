@@ -1,12 +1,24 @@
 //! Names that reach netlists: identifiers, and the names no input, output or cell may take because a
 //! netlist or a simulator gives them a meaning of their own.
 
-/// Whether `text` is an identifier: a letter or '_', then letters, digits and '_' (ASCII). Input
-/// and output names (as the expression lexer reads them), cell, gate and model names all are.
+/// The identifier rule in words, for messages.
+pub const IDENTIFIER_RULE: &str = "a letter or '_' followed by letters, digits and '_'";
+
+/// Whether `byte` may start an identifier: an ASCII letter or '_'.
+pub fn is_identifier_start(byte: u8) -> bool {
+    byte.is_ascii_alphabetic() || byte == b'_'
+}
+
+/// Whether `byte` may follow the first of an identifier: an ASCII letter, digit or '_'.
+pub fn is_identifier_continue(byte: u8) -> bool {
+    byte.is_ascii_alphanumeric() || byte == b'_'
+}
+
+/// Whether `text` is an identifier ([`IDENTIFIER_RULE`], ASCII): input and output names (as the
+/// expression lexer reads them), cell, gate and model names all are.
 pub fn is_identifier(text: &str) -> bool {
-    let mut characters = text.chars();
-    characters.next().is_some_and(|c| c.is_ascii_alphabetic() || c == '_')
-        && characters.all(|c| c.is_ascii_alphanumeric() || c == '_')
+    let mut bytes = text.bytes();
+    bytes.next().is_some_and(is_identifier_start) && bytes.all(is_identifier_continue)
 }
 
 /// Names no input, output or cell may take, compared without case: the supply rails of every

@@ -123,11 +123,11 @@ impl SimulationError {
         match self {
             SimulationError::NotInstalled { .. }
             | SimulationError::Start { .. }
-            | SimulationError::Workspace { .. } => crate::error::EXIT_BAD_INPUT,
+            | SimulationError::Workspace { .. } => crate::exit::EXIT_BAD_INPUT,
             SimulationError::Failed { .. }
             | SimulationError::TimedOut { .. }
             | SimulationError::MeasurementFailed { .. }
-            | SimulationError::MeasurementMissing { .. } => crate::error::EXIT_CHECK_FAILED,
+            | SimulationError::MeasurementMissing { .. } => crate::exit::EXIT_CHECK_FAILED,
         }
     }
 }

@@ -280,6 +280,63 @@ pub fn listing_size(network: &Network, limit: usize) -> u128 {
     paths.saturating_mul(longest_path_devices(network) as u128)
 }
 
+/// A path listing past its limits, refused before it is built.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+pub enum ListingError {
+    /// More partial paths than [`MAX_LISTING_WORK`].
+    #[error(
+        "listing {limit} paths of the {network} would build {work} partial paths; the limit is {most}: ask for \
+         fewer with --limit"
+    )]
+    TooMuchWork {
+        /// Paths asked for.
+        limit: usize,
+        /// `pull-down` or `pull-up`.
+        network: &'static str,
+        /// Partial paths the listing would build.
+        work: u128,
+        /// The limit.
+        most: u128,
+    },
+    /// More device names than [`MAX_LISTED_DEVICES`].
+    #[error(
+        "listing {limit} paths of the {network} with up to {devices} devices each could name {size} devices; the \
+         limit is {most}: ask for fewer with --limit"
+    )]
+    TooManyNames {
+        /// Paths asked for.
+        limit: usize,
+        /// `pull-down` or `pull-up`.
+        network: &'static str,
+        /// Devices on the longest path.
+        devices: usize,
+        /// Device names the listing could hold.
+        size: u128,
+        /// The limit.
+        most: u128,
+    },
+}
+
+/// Refuse a listing of `limit` paths of `network` that would pass [`MAX_LISTING_WORK`] or
+/// [`MAX_LISTED_DEVICES`].
+pub fn check_listing(network: &Network, limit: usize) -> Result<(), ListingError> {
+    let work = listing_work(network, limit);
+    if work > MAX_LISTING_WORK {
+        return Err(ListingError::TooMuchWork { limit, network: network.kind.name(), work, most: MAX_LISTING_WORK });
+    }
+    let size = listing_size(network, limit);
+    if size > MAX_LISTED_DEVICES {
+        return Err(ListingError::TooManyNames {
+            limit,
+            network: network.kind.name(),
+            devices: longest_path_devices(network),
+            size,
+            most: MAX_LISTED_DEVICES,
+        });
+    }
+    Ok(())
+}
+
 /// Resistances compared to a relative 1e-9 (on a log scale), so that equal paths tie whatever the
 /// rounding and whatever the drive or units make their size.
 fn key(resistance: f64) -> i64 {

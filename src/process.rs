@@ -198,7 +198,7 @@ fn model_name(key: &'static str, value: &Spanned<String>) -> Result<String, Proc
 /// A device model's name: an identifier, not a reserved name (a rail or ground).
 pub fn check_model_name(text: &str) -> Result<(), String> {
     if !crate::names::is_identifier(text) {
-        return Err("a model name is a letter or '_' followed by letters, digits and '_'".into());
+        return Err(format!("a model name is {}", crate::names::IDENTIFIER_RULE));
     }
     if let Some(why) = crate::names::reserved_reason(text, &[]) {
         return Err(format!("a model may not take a reserved name: {why}"));

@@ -106,6 +106,36 @@ pub enum VerifyError {
     },
 }
 
+impl VerifyError {
+    /// Whether the error is an internal inconsistency: the netlist of a gate this crate sized names
+    /// something the gate does not have, or its expression does not read back (a bug when the
+    /// binary meets it). The others are limits and budgets.
+    pub fn is_internal(&self) -> bool {
+        matches!(
+            self,
+            VerifyError::UnknownInput { .. }
+                | VerifyError::UnknownType { .. }
+                | VerifyError::Expression { .. }
+                | VerifyError::ExpressionInput { .. }
+        )
+    }
+}
+
+/// A gate that fails verification: its name and the first failing vector.
+#[derive(Debug, Clone, PartialEq, Error)]
+#[error(
+    "'{name}' fails verification: {} does not hold at vector {} ({})",
+    failure.check.describe(),
+    failure.index,
+    failure.vector
+)]
+pub struct VerifyFailed {
+    /// The gate.
+    pub name: String,
+    /// The check and the vector.
+    pub failure: Failure,
+}
+
 /// Which check a vector failed.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "kebab-case")]
@@ -225,18 +255,12 @@ pub struct Verification {
 }
 
 impl Verification {
-    /// `Ok` when every check held, else [`Error::CheckFailed`](crate::Error::CheckFailed) (exit code 1)
-    /// naming the check and the first failing vector.
-    pub fn outcome(&self) -> Result<(), crate::Error> {
+    /// `Ok` when every check held, else which check failed and the first failing vector (exit
+    /// code 1).
+    pub fn outcome(&self) -> Result<(), VerifyFailed> {
         match &self.failure {
             None => Ok(()),
-            Some(failure) => Err(crate::Error::CheckFailed(format!(
-                "'{}' fails verification: {} does not hold at vector {} ({})",
-                self.name,
-                failure.check.describe(),
-                failure.index,
-                failure.vector
-            ))),
+            Some(failure) => Err(VerifyFailed { name: self.name.clone(), failure: failure.clone() }),
         }
     }
 }
@@ -814,7 +838,8 @@ fn bounds(gate: &SizedGate) -> Vec<NetworkBound> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::gate::{GateOptions, Transistor, size_text};
+    use crate::gate::{GateOptions, Transistor};
+    use crate::size_text;
     use crate::sizing::{Method, SizingOptions};
     use proptest::prelude::*;
 
@@ -882,7 +907,7 @@ mod tests {
         assert!(!failure.pull_up_conducts && !failure.pull_down_conducts && failure.expected_output);
         assert_eq!(result.vectors_checked, 2);
         let error = result.outcome().unwrap_err();
-        assert_eq!(error.exit_code(), crate::error::EXIT_CHECK_FAILED);
+        assert_eq!(crate::Error::from(error.clone()).exit_code(), crate::exit::EXIT_CHECK_FAILED);
         assert!(error.to_string().contains("never both off"), "{error}");
         assert!(error.to_string().contains("a=1 b=0"), "{error}");
     }

@@ -8,12 +8,15 @@ use proptest::prelude::*;
 /// The fuzz targets' bodies, the very functions `cargo fuzz` calls (fuzz/src/bin).
 #[path = "../fuzz/src/lib.rs"]
 mod fuzz_targets;
-use widthwise::batch::{Library, Source, write_batch};
+use widthwise::commands::batch::write_batch;
 use widthwise::diagnostic::{Diagnostic, Source as TextSource};
 use widthwise::expr::read_gate_with_models;
-use widthwise::gate::{GateOptions, size_text};
+use widthwise::gate::GateOptions;
+use widthwise::io::InputError;
+use widthwise::library::Library;
 use widthwise::output::{Format, Rows};
 use widthwise::process::Process;
+use widthwise::size_text;
 use widthwise::sizing::{Method, SizingOptions};
 use widthwise::verify::{VerifyOptions, verify};
 
@@ -116,8 +119,12 @@ fn toml_text() -> impl Strategy<Value = String> {
 /// Read a library file and size it: it is read or refused with a rendered message; every gate of a
 /// read file is sized or reported.
 fn read_library(text: &str) {
-    let source = Source::new("library.toml", text, "/nonexistent/widthwise-robustness");
-    match Library::read(&source) {
+    // No file of the machine's is read: a `process = "..."` path is an error naming it.
+    let source = TextSource::file("library.toml", text);
+    let mut no_files = |path: &std::path::Path| {
+        Err(InputError::Unreadable { path: path.to_path_buf(), source: std::io::ErrorKind::NotFound.into() })
+    };
+    match Library::read(&source, std::path::Path::new("."), &mut no_files) {
         Ok(library) => {
             let mut diagnostics = Vec::new();
             let outcome =
@@ -125,7 +132,7 @@ fn read_library(text: &str) {
                     .unwrap();
             assert_eq!(outcome.failed == 0, diagnostics.is_empty(), "{text:?}");
         }
-        Err(error) => assert!(error.render().starts_with("error"), "{text:?}"),
+        Err(error) => assert!(error.diagnostic(&source).render().starts_with("error"), "{text:?}"),
     }
 }
 

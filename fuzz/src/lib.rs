@@ -3,10 +3,13 @@
 
 #![forbid(unsafe_code)]
 
-use widthwise::batch::{Library, Source, write_batch};
-use widthwise::gate::size_text;
+use widthwise::commands::batch::write_batch;
+use widthwise::diagnostic::Source as TextSource;
+use widthwise::io::InputError;
+use widthwise::library::Library;
 use widthwise::output::{self, Format, Rows};
 use widthwise::process::Process;
+use widthwise::size_text;
 use widthwise::sizing::{Method, SizingOptions};
 use widthwise::verify::{VerifyOptions, verify};
 use widthwise::{GateOptions, expr};
@@ -52,7 +55,7 @@ pub fn process_file(text: &str) {
         }
         Err(error) => {
             if let Some(span) = error.span() {
-                let source = widthwise::diagnostic::Source::file("process.toml", text);
+                let source = TextSource::file("process.toml", text);
                 let shown = widthwise::diagnostic::Diagnostic::error(error.to_string()).at(&source, span).render();
                 assert!(shown.starts_with("error: "));
             }
@@ -64,8 +67,12 @@ pub fn process_file(text: &str) {
 /// gate of a read file is sized and written, or reported with its place.
 pub fn batch_file(text: &str) {
     // A directory that does not exist, so a `process = "..."` path reads no file of the machine's.
-    let source = Source::new("library.toml", text, "/nonexistent/widthwise-fuzz");
-    match Library::read(&source) {
+    // No file of the machine's is read: a `process = "..."` path is an error naming it.
+    let source = TextSource::file("library.toml", text);
+    let mut no_files = |path: &std::path::Path| {
+        Err(InputError::Unreadable { path: path.to_path_buf(), source: std::io::ErrorKind::NotFound.into() })
+    };
+    match Library::read(&source, std::path::Path::new("."), &mut no_files) {
         Ok(library) => {
             let mut diagnostics = Vec::new();
             let outcome =
@@ -74,6 +81,6 @@ pub fn batch_file(text: &str) {
             assert_eq!(outcome.failed == 0, diagnostics.is_empty(), "{text:?}");
             assert!(outcome.failed <= outcome.gates);
         }
-        Err(error) => assert!(error.render().starts_with("error"), "{text:?}"),
+        Err(error) => assert!(error.diagnostic(&source).render().starts_with("error"), "{text:?}"),
     }
 }

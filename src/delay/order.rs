@@ -9,9 +9,8 @@
 //! order, the orders still to try times the work that one took must fit in what is left of the
 //! work budget, or the search is refused before it starts.
 
-use super::{DelayOptions, analyse_within, size_read_gate_within};
+use super::{DelayError, DelayOptions, analyse_within, size_read_gate_within};
 use crate::budget::{Estimate, Meter, Work};
-use crate::error::Error;
 use crate::expr::GateFunction;
 use crate::gate::{GateOptions, SizedGate, device_name};
 use crate::network::{Network, NetworkKind, Node};
@@ -131,14 +130,14 @@ impl Search<'_> {
 
     /// The score of an order (lower is better) and its gate; `None` where the elmore method finds
     /// no widths for it.
-    fn score(&mut self, orders: &[Vec<usize>]) -> Result<Option<(f64, SizedGate)>, Error> {
+    fn score(&mut self, orders: &[Vec<usize>]) -> Result<Option<(f64, SizedGate)>, DelayError> {
         self.tried += 1;
         let mut options = self.options.clone();
         options.stack_order = Some(self.trees(orders));
         options.fixed_widths = None;
         let gate = match size_read_gate_within(self.function, &options, self.delay, self.meter) {
             Ok(gate) => gate,
-            Err(Error::CheckFailed(_)) if self.options.sizing.method == Method::Elmore => return Ok(None),
+            Err(error) if error.is_infeasible() && self.options.sizing.method == Method::Elmore => return Ok(None),
             Err(error) => return Err(error),
         };
         if gate.method == Method::Elmore {
@@ -156,7 +155,7 @@ pub fn search(
     function: &GateFunction,
     options: &GateOptions,
     delay: &DelayOptions,
-) -> Result<(SizedGate, StackOrderReport), Error> {
+) -> Result<(SizedGate, StackOrderReport), DelayError> {
     search_within(function, options, delay, &Meter::new(delay.work_budget))
 }
 
@@ -166,13 +165,10 @@ pub(crate) fn search_within(
     options: &GateOptions,
     delay: &DelayOptions,
     meter: &Meter,
-) -> Result<(SizedGate, StackOrderReport), Error> {
+) -> Result<(SizedGate, StackOrderReport), DelayError> {
     let occurrences = function.literals.len();
     if occurrences > MAX_SEARCH_OCCURRENCES {
-        return Err(Error::Usage(format!(
-            "the stack-order search handles gates of up to {MAX_SEARCH_OCCURRENCES} input occurrences; this one has \
-             {occurrences}"
-        )));
+        return Err(DelayError::TooLargeToSearch { count: occurrences, limit: MAX_SEARCH_OCCURRENCES });
     }
     // The default order is the one the gate gets without a search.
     let default_gate = size_read_gate_within(function, options, delay, meter)?;
@@ -271,9 +267,9 @@ pub(crate) fn search_within(
     Ok((gate, report))
 }
 
-/// The default order sized once already; a second failure is an inconsistency, reported as usage.
-fn unreachable_default<T>() -> Result<T, Error> {
-    Err(Error::Usage("the default stack order could not be sized twice the same way".into()))
+/// The default order sized once already; a second failure is an internal inconsistency.
+fn unreachable_default<T>() -> Result<T, DelayError> {
+    Err(DelayError::DefaultOrderChanged)
 }
 
 #[cfg(test)]
@@ -295,7 +291,7 @@ mod tests {
         // search, with the projection (the default order's sizing, then 24 orders of equal work).
         let spent = meter.spent();
         let delay = DelayOptions { work_budget: spent as u64 - 1, ..DelayOptions::default() };
-        let Err(Error::OverBudget(over)) = search(&function, &options, &delay) else { panic!("refused") };
+        let Err(DelayError::OverBudget(over)) = search(&function, &options, &delay) else { panic!("refused") };
         assert_eq!((over.work, over.needed), (Work::OrderSearch, Some((Estimate::UpTo, spent))));
         let delay = DelayOptions { work_budget: spent as u64, ..DelayOptions::default() };
         assert!(search(&function, &options, &delay).is_ok());

@@ -22,7 +22,6 @@ use super::{
     Circuit, Conducting, DelayError, DelayOptions, Edge, conducting, fanout_copies, load_for, reference_delay,
 };
 use crate::budget::{Estimate, Meter, Work};
-use crate::error::Error;
 use crate::expr::GateFunction;
 use crate::figures::NodeDiffusion;
 use crate::gate::{GateOptions, SizedGate, size_function};
@@ -351,10 +350,10 @@ pub fn size_for_delay(
     options: &GateOptions,
     delay: &DelayOptions,
     meter: &Meter,
-) -> Result<SizedGate, Error> {
+) -> Result<SizedGate, DelayError> {
     let devices = 2 * function.literals.len();
     if devices > MAX_DEVICES {
-        return Err(DelayError::TooLarge { count: devices, limit: MAX_DEVICES }.into());
+        return Err(DelayError::TooLarge { count: devices, limit: MAX_DEVICES });
     }
     let mut structure = options.clone();
     structure.sizing.method = Method::LongestPath;
@@ -369,7 +368,7 @@ pub fn size_for_delay(
         Outcome::Optimal { x, at_bound, .. } => {
             // Only the widths' box counts (a shared diffusion's variable follows its devices).
             if at_bound.iter().any(|&variable| variable < devices) {
-                return Err(DelayError::Unbounded { factor: BOX }.into());
+                return Err(DelayError::Unbounded { factor: BOX });
             }
             x
         }
@@ -379,8 +378,7 @@ pub fn size_for_delay(
                 ratio: least_worst,
                 input: function.inputs[input].clone(),
                 edge: edge.name(),
-            }
-            .into());
+            });
         }
     };
     let count = function.literals.len();
@@ -388,14 +386,14 @@ pub fn size_for_delay(
     sized.sizing.method = Method::Elmore;
     sized.stack_order = Some(longest.trees.clone());
     sized.fixed_widths = Some([widths[..count].to_vec(), widths[count..2 * count].to_vec()]);
-    size_function(function.clone(), &sized)
+    Ok(size_function(function.clone(), &sized)?)
 }
 
 #[cfg(test)]
 mod tests {
     use super::super::{elmore, flat_widths};
     use super::*;
-    use crate::gate::size_text;
+    use crate::size_text;
     use crate::sizing::SizingOptions;
 
     #[test]

@@ -4,6 +4,7 @@
 
 use crate::diagnostic::Span;
 use crate::expr::error::ExprError;
+use crate::names::{is_identifier_continue, is_identifier_start};
 
 /// The kinds of token an expression is made of.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -80,10 +81,10 @@ pub fn tokenize(source: &str) -> Result<Vec<Token>, ExprError> {
             b'(' => single(TokenKind::Open),
             b')' => single(TokenKind::Close),
             b'=' => single(TokenKind::Equals),
-            b'A'..=b'Z' | b'a'..=b'z' | b'_' => {
+            byte if is_identifier_start(byte) => {
                 let start = index;
                 let mut end = index + 1;
-                while end < bytes.len() && (bytes[end].is_ascii_alphanumeric() || bytes[end] == b'_') {
+                while end < bytes.len() && is_identifier_continue(bytes[end]) {
                     end += 1;
                 }
                 Token { kind: TokenKind::Identifier, span: Span::new(start, end) }

@@ -9,6 +9,7 @@
 
 use std::io::{self, Write};
 
+use crate::diagnostic::escaped;
 use crate::figures::node_diffusions;
 use crate::gate::SizedGate;
 use crate::network::NetworkKind;
@@ -32,6 +33,64 @@ pub enum Models {
         /// The PMOS model's name.
         pmos: String,
     },
+}
+
+impl Models {
+    /// A user's library at `include` (an absolute path) with its NMOS and PMOS models' names:
+    /// refused when a SPICE `.include` line cannot hold the path, or when the two names are one.
+    pub fn library(include: String, nmos: String, pmos: String) -> Result<Models, DeckError> {
+        if include.chars().any(|c| c == '"' || c.is_control()) {
+            return Err(DeckError::UnquotablePath { path: include });
+        }
+        if nmos.eq_ignore_ascii_case(&pmos) {
+            return Err(DeckError::SameModels { name: nmos });
+        }
+        Ok(Models::Library { include, nmos, pmos })
+    }
+}
+
+/// Why a deck is not written.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+pub enum DeckError {
+    /// A model-library path with a character a `.include` line cannot hold.
+    #[error(
+        "the --models path '{}' holds a double quote or a control character, which a SPICE .include line \
+         cannot hold: link or copy the library to a plainer path",
+        escaped(path)
+    )]
+    UnquotablePath {
+        /// The absolute path.
+        path: String,
+    },
+    /// The NMOS and PMOS models have one name (netlists ignore case).
+    #[error(
+        "the NMOS and PMOS models must differ (netlists ignore case): both are '{name}'; give --nmos-model and \
+         --pmos-model"
+    )]
+    SameModels {
+        /// The NMOS model's name.
+        name: String,
+    },
+    /// A gate with more input occurrences than [`MAX_DECK_OCCURRENCES`].
+    #[error(
+        "a deck holds every transition with a source per input, so it is written for gates of up to {limit} input \
+         occurrences per network; this one has {count}"
+    )]
+    TooLarge {
+        /// Input occurrences of the gate.
+        count: usize,
+        /// The limit.
+        limit: usize,
+    },
+}
+
+/// Refuse a gate too large for a deck ([`MAX_DECK_OCCURRENCES`]).
+pub fn check_size(gate: &SizedGate) -> Result<(), DeckError> {
+    let count = gate.function.literals.len();
+    if count > MAX_DECK_OCCURRENCES {
+        return Err(DeckError::TooLarge { count, limit: MAX_DECK_OCCURRENCES });
+    }
+    Ok(())
 }
 
 /// What the deck holds besides the gate and its transitions.

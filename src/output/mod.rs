@@ -1,5 +1,6 @@
 //! Writers: the same sized gates as a readable table, CSV, JSON or a SPICE netlist, to any `Write`.
 
+pub mod batch;
 pub mod csv;
 pub mod deck;
 pub mod delays;
@@ -17,7 +18,7 @@ use std::io::{self, Write};
 use crate::gate::{PathListing, SizedGate};
 
 /// Output format, chosen once per run.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum Format {
     /// A readable table.
     #[default]
@@ -30,8 +31,8 @@ pub enum Format {
     Spice,
 }
 
-/// Which rows a CSV (or a batch table) has.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, clap::ValueEnum)]
+/// Which rows a CSV (or a library's table) has.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum Rows {
     /// One row per sized gate.
     Gates,

@@ -187,7 +187,8 @@ pub fn write_summary(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> io
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::gate::{GateOptions, size_text};
+    use crate::gate::GateOptions;
+    use crate::size_text;
     use crate::sizing::{Method, SizingOptions};
 
     #[test]

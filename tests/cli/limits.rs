@@ -188,7 +188,7 @@ fn endless_files_are_refused_not_read_whole() {
         .assert()
         .code(2)
         .stderr(predicate::str::contains("a device node"));
-    let endless = "#".repeat(widthwise::batch::MAX_LIBRARY_BYTES + 1);
+    let endless = "#".repeat(widthwise::library::MAX_LIBRARY_BYTES + 1);
     widthwise()
         .args(["batch", "-"])
         .write_stdin(endless)

@@ -17,9 +17,10 @@
 use std::sync::Mutex;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
-use widthwise::gate::{GateOptions, SizedGate, size_text};
+use widthwise::gate::{GateOptions, SizedGate};
 use widthwise::output::deck::{edge, gate_measure, reference_measure, transitions};
 use widthwise::process::Process;
+use widthwise::size_text;
 use widthwise::sizing::{Method, SizingOptions};
 
 use crate::support::{measurements, ngspice_available, note, process_with, run_ngspice, summary_ratios, widthwise};

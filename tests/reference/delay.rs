@@ -11,8 +11,9 @@ use widthwise::delay::geometric::{self, Outcome, Program};
 use widthwise::delay::program::elmore_program;
 use widthwise::delay::{self, Delay, DelayOptions, Edge, Load, StackOrder, Timing};
 use widthwise::expr::read_gate;
-use widthwise::gate::{GateOptions, SizedGate, size_text};
+use widthwise::gate::{GateOptions, SizedGate};
 use widthwise::network::Network;
+use widthwise::size_text;
 use widthwise::sizing::{Method, SizingOptions};
 
 use super::support::{ngspice_available, scipy_available};
@@ -131,7 +132,7 @@ const GATES: [&str; 8] = ["inv", "nand2", "nand3", "nor2", "nor3", "aoi21", "aoi
 
 fn elmore_sized(text: &str, load: Load, diffusion_ratio: f64) -> Result<SizedGate, widthwise::Error> {
     let delay = DelayOptions { load, diffusion_ratio, stack_order: StackOrder::Default, ..DelayOptions::default() };
-    delay::size_gate(text, &options(Method::Elmore), &delay)
+    Ok(delay::size_gate(&read_gate(text).unwrap(), &options(Method::Elmore), &delay)?)
 }
 
 #[test]
@@ -145,7 +146,8 @@ fn elmore_method_meets_every_bound_and_never_costs_more_than_a_feasible_longest_
                 let longest_meets = longest_timing.delays.iter().all(|d| d.delay_ratio <= 1.0 + 1e-9);
                 let gate = match elmore_sized(text, load, ratio) {
                     Ok(gate) => gate,
-                    Err(widthwise::Error::CheckFailed(message)) => {
+                    Err(widthwise::Error::Delay(error)) if error.is_infeasible() => {
+                        let message = error.to_string();
                         // Infeasible: then longest-path cannot meet the bounds either.
                         assert!(!longest_meets, "{text} {load:?} {ratio}: {message}");
                         continue;

@@ -20,10 +20,11 @@
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
 
-use widthwise::gate::{GateOptions, SizedGate, size_text};
+use widthwise::gate::{GateOptions, SizedGate};
 use widthwise::network::NetworkKind;
 use widthwise::output::deck::{edge, gate_measure, transitions};
 use widthwise::process::Process;
+use widthwise::size_text;
 use widthwise::sizing::{Method, SizingOptions};
 
 use crate::support::{measurements, ngspice_available, note, process_with, run_ngspice, widthwise};

@@ -1,68 +1,37 @@
-//! Batch sizing: a library file lists the gates a library or block needs, each in one or more
-//! drives; every variant is sized and written in one run, and one bad gate spoils no other.
+//! Library files: a library file lists the gates a library or block needs, each in one or more
+//! drives; this reads it into a plan per gate and sizes every variant, one bad gate spoiling no
+//! other.
 //!
 //! The file is TOML: an optional `process` (a path or a table), optional `[defaults]` and
 //! `[[gate]]` entries. It is parsed once into a spanned tree; each gate entry is then read on its
 //! own, so a wrong key or value in one gate is reported with its place while the rest go on.
-//! Sized gates are written in chunks as they come, so memory grows with the file, not with the
-//! output (the table view alone keeps its rows, as text, to align them).
+//! Variants are sized in file order and handed on in chunks as they come, so memory grows with the
+//! file, not with the output. Nothing here touches a file: a process file the library names is read
+//! through a reader the caller supplies.
 
 use std::collections::{HashMap, HashSet};
 use std::fmt;
-use std::io::{self, Write};
+use std::io;
 use std::ops::Range;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::sync::Arc;
 
 use serde::Deserialize;
 use serde::de::{SeqAccess, Visitor};
+use thiserror::Error;
 use toml::Spanned;
 use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
 use crate::bounds;
-use crate::budget::{Estimate, Meter, Work};
-use crate::cli::{OutputArgs, cell_name};
-use crate::commands::write_output;
 use crate::delay::{self, StackOrder};
-use crate::diagnostic::{Diagnostic, Span, escaped};
-use crate::error::Error;
+use crate::diagnostic::{Diagnostic, Source, Span, escaped};
 use crate::expr::read_gate_with_models;
-use crate::gate::{GateOptions, SizedGate, size_function};
-use crate::io::{Diagnostics, diagnose};
-use crate::names::is_identifier;
-use crate::output::summary::SummaryTable;
-use crate::output::{self, Format, Rows};
-use crate::process::{Process, ProcessFile};
+use crate::gate::{GateError, GateOptions, SizedGate, size_function};
+use crate::io::InputError;
+use crate::names;
+use crate::process::{Process, ProcessError, ProcessFile};
 use crate::sizing::{Method, SizingOptions};
 use crate::verify::{self, VerifyOptions};
-
-/// Help shown after `widthwise batch --help`.
-pub const AFTER_HELP: &str = "\
-The library file (TOML):
-  process = \"PATH\"          optional: a process file, relative to the library file; or a [process]
-                            table with the process file's keys. Default: the built-in process.
-  [defaults]                optional: method, drive (a number or a list such as [1, 2, 4]),
-                            stack_order (\"default\" or \"written\"), mobility_ratio (default: the
-                            process's).
-  [[gate]]                  one per cell: name (an identifier), expr (an expression or a shorthand
-                            such as nand2), and optional method, drive (number or list), critical
-                            (the input to place nearest the output), stack_order.
-Each drive of a gate is one variant, named <name>_x<drive> with p for a decimal point (nand2_x1p5):
-at most 100000 drives per gate and 200000 variants per library, checked before any gate is sized.
---verify checks every variant within --work-budget UNITS (default 2^30 = 1073741824): vectors / 64 x
-input occurrences, summed over the variants, counted before anything is written.
-
-Rows: --rows gates (default), devices or inputs choose the table's and the CSV's rows; JSON has
-every figure of every variant; --format spice writes one .subckt per variant.
-
-Errors: a bad gate is reported on stderr with its name, line and column and the others are still
-written (exit 2). A TOML error, a bad process or [defaults], a duplicate name or two variants with the
-same name stop the run before any output (exit 2).
-
-Exit codes: 0 ok, 1 a check failed, 2 bad input or usage.
-
-Results are first-order estimates (switch-level RC model). Sign-off needs the foundry's models,
-design rules and licensed practice.";
 
 /// The drive of a gate that neither it nor `[defaults]` sets.
 pub const DEFAULT_DRIVE: f64 = 1.0;
@@ -84,60 +53,52 @@ pub const DEFAULT_METHOD: Method = Method::LongestPath;
 /// How many sized variants are held before they are written.
 const CHUNK: usize = 256;
 
-/// A library file's text, what messages call it, and the directory a process path is relative to.
-#[derive(Debug, Clone)]
-pub struct Source {
-    /// The file name as given, or `standard input`.
-    pub origin: String,
-    /// Where a relative `process` path starts.
-    pub directory: PathBuf,
-    /// The text, for diagnostics.
-    pub source: crate::diagnostic::Source,
+/// How a library reads a process file it names: the file's text, or why not. Supplied by the
+/// command, through the I/O layer.
+pub type ReadFile<'a> = dyn FnMut(&Path) -> Result<String, InputError> + 'a;
+
+/// Why a library file cannot be sized at all (a bad gate is that gate's [`GateProblem`] instead).
+#[derive(Debug, Error)]
+pub enum LibraryError {
+    /// Something wrong in the library file: what, and where when known.
+    #[error("{message}")]
+    File {
+        /// What is wrong.
+        message: String,
+        /// Where in the library file.
+        span: Option<Span>,
+    },
+    /// The process file the library names cannot be read.
+    #[error("cannot read the process file: {error}")]
+    ProcessUnreadable {
+        /// Why.
+        error: InputError,
+        /// The `process = "..."` value in the library file.
+        span: Span,
+    },
+    /// The process file the library names is bad.
+    #[error("{error}")]
+    ProcessFile {
+        /// What is wrong, with the key and its place in that file.
+        error: ProcessError,
+        /// The process file.
+        file: Source,
+    },
 }
 
-impl Source {
-    /// A source from text already read (a leading byte-order mark is dropped, as TOML allows it).
-    pub fn new(origin: impl Into<String>, text: impl Into<String>, directory: impl Into<PathBuf>) -> Source {
-        let mut text = text.into();
-        if text.starts_with('\u{feff}') {
-            text.drain(..'\u{feff}'.len_utf8());
-        }
-        let origin = origin.into();
-        Source { source: crate::diagnostic::Source::file(origin.as_str(), text), origin, directory: directory.into() }
+impl LibraryError {
+    /// A problem in the library file at `span`.
+    fn at(message: impl Into<String>, span: Option<Range<usize>>) -> LibraryError {
+        LibraryError::File { message: message.into(), span: span.map(Span::from) }
     }
 
-    /// The whole text.
-    pub fn text(&self) -> &str {
-        self.source.text()
-    }
-
-    /// Read the library file at `path` (`-`: standard input) as UTF-8.
-    pub fn read(path: &Path) -> Result<Source, Error> {
-        let from_stdin = path.as_os_str() == "-";
-        let origin = if from_stdin { "standard input".to_string() } else { path.display().to_string() };
-        let what = format!("the library file '{origin}'");
-        let bytes = if from_stdin {
-            crate::io::read_stdin(MAX_LIBRARY_BYTES, &what)?
-        } else {
-            let hint = "; give '-' to read the library from standard input";
-            let file = crate::io::open_regular(path, "the library file", hint)?;
-            crate::io::read_bounded(file, MAX_LIBRARY_BYTES, &what, path)?
-        };
-        let text = crate::io::utf8_text(bytes, &what)?;
-        let directory = match path.parent() {
-            Some(parent) if !from_stdin && !parent.as_os_str().is_empty() => parent.to_path_buf(),
-            _ => PathBuf::from("."),
-        };
-        Ok(Source::new(origin, text, directory))
-    }
-
-    /// A whole-file error at `span` of this file.
-    fn error(&self, message: impl Into<String>, span: Option<Range<usize>>) -> Error {
-        Error::InFile {
-            message: message.into(),
-            origin: self.origin.clone(),
-            source_text: self.text().to_string(),
-            span: span.map(|r| Span::new(r.start, r.end)),
+    /// The error as a diagnostic, `library` being the library file it was read from.
+    pub fn diagnostic(&self, library: &Source) -> Diagnostic {
+        let message = Diagnostic::error(self.to_string());
+        match self {
+            LibraryError::File { span, .. } => message.at_or_within(library, *span),
+            LibraryError::ProcessUnreadable { span, .. } => message.at(library, *span),
+            LibraryError::ProcessFile { error, file } => message.at_or_within(file, error.span()),
         }
     }
 }
@@ -275,7 +236,8 @@ impl GatePlan {
 
     /// Options for one variant.
     fn options(&self, drive: f64, process: &Arc<Process>) -> GateOptions {
-        gate_options(self.method, self.mobility_ratio, drive, self.critical.clone(), self.variant_name(drive), process)
+        let sizing = SizingOptions::new(self.method, self.mobility_ratio, drive, None);
+        GateOptions::cell(sizing, self.critical.clone(), Some(self.variant_name(drive)), Arc::clone(process))
     }
 
     /// A problem of this gate at `span`.
@@ -290,25 +252,6 @@ impl GatePlan {
             None => Place::Expression { text: self.expression.clone(), span, string: self.expression_place.string },
         };
         self.problem(message, place)
-    }
-}
-
-/// The options one variant is sized with; the only place a batch builds [`GateOptions`].
-pub fn gate_options(
-    method: Method,
-    mobility_ratio: f64,
-    drive: f64,
-    critical: Option<String>,
-    name: String,
-    process: &Arc<Process>,
-) -> GateOptions {
-    GateOptions {
-        sizing: SizingOptions::new(method, mobility_ratio, drive, None),
-        critical,
-        name: Some(name),
-        process: Arc::clone(process),
-        stack_order: None,
-        fixed_widths: None,
     }
 }
 
@@ -351,20 +294,26 @@ pub struct GateProblem {
 }
 
 impl GateProblem {
-    /// The message as printed: `error: gate 'NAME': ...`, the file, line and column, the line, a caret.
-    pub fn render(&self, source: &Source) -> String {
+    /// The problem as a diagnostic: `gate 'NAME': ...`, pointing into `library` (the file the
+    /// gate was read from) or into the expression where the file holds it with escapes.
+    pub fn diagnostic(&self, library: &Source) -> Diagnostic {
         let message = match &self.name {
             Some(name) => format!("gate '{name}': {}", self.message),
             None => format!("gate {}: {}", self.number, self.message),
         };
         match &self.place {
-            Place::File(span) => Diagnostic::error(message).at(&source.source, *span).render(),
+            Place::File(span) => Diagnostic::error(message).at(library, *span),
             Place::Expression { text, span, string } => {
-                let (line, _) = source.source.line_of(string.start);
-                let origin = format!("the expr string ({}, line {line})", source.origin);
-                Diagnostic::error(message).at(&crate::diagnostic::Source::inline(origin, text.as_str()), *span).render()
+                let (line, _) = library.line_of(string.start);
+                let origin = format!("the expr string ({}, line {line})", library.origin());
+                Diagnostic::error(message).at(&Source::inline(origin, text.as_str()), *span)
             }
         }
+    }
+
+    /// The problem as printed: `error: gate 'NAME': ...`, the file, line and column, the line, a caret.
+    pub fn render(&self, library: &Source) -> String {
+        self.diagnostic(library).render()
     }
 }
 
@@ -380,7 +329,7 @@ pub struct Library {
 }
 
 fn to_span(range: Range<usize>) -> Span {
-    Span::new(range.start, range.end)
+    Span::from(range)
 }
 
 /// A placeholder left where a value was taken out of the parsed tree.
@@ -414,13 +363,14 @@ fn verbatim_start(text: &str, span: Range<usize>, value: &str) -> Option<usize> 
 }
 
 impl Library {
-    /// Read a library file. A TOML error, an unknown top-level key, a bad `[defaults]` or a bad
-    /// process stops here; a bad gate becomes that gate's [`GateProblem`].
-    pub fn read(source: &Source) -> Result<Library, Error> {
+    /// Read a library file, `source` (whose origin names it in messages); a relative process path
+    /// is read from `directory`, through `read_file`. A TOML error, an unknown top-level key, a bad
+    /// `[defaults]` or a bad process stops here; a bad gate becomes that gate's [`GateProblem`].
+    pub fn read(source: &Source, directory: &Path, read_file: &mut ReadFile<'_>) -> Result<Library, LibraryError> {
         let document = DeTable::parse(source.text()).map_err(|e| {
             let span = e.span().map(to_span);
             let (message, span) = crate::diagnostic::toml_error_place(source.text(), e.message(), span);
-            source.error(message, span.map(|s| s.start..s.end))
+            LibraryError::File { message, span }
         })?;
         let mut process = None;
         let mut defaults = None;
@@ -439,23 +389,23 @@ impl Library {
             }
         }
         if let Some((key, span)) = unknown {
-            return Err(source.error(
+            return Err(LibraryError::at(
                 format!("unknown key '{}': a library file has process, [defaults] and [[gate]] entries", escaped(&key)),
                 Some(span),
             ));
         }
         let process = match process {
             None => Process::default(),
-            Some(value) => read_process(source, value)?,
+            Some(value) => read_process(directory, read_file, value)?,
         };
         let defaults = match defaults {
             None => DefaultsEntry::default(),
             Some(value) => {
                 if !value.get_ref().is_table() {
-                    return Err(source.error("defaults must be a [defaults] table", Some(value.span())));
+                    return Err(LibraryError::at("defaults must be a [defaults] table", Some(value.span())));
                 }
                 DefaultsEntry::deserialize(ValueDeserializer::from(value))
-                    .map_err(|e| source.error(format!("[defaults]: {}", e.message().trim()), e.span()))?
+                    .map_err(|e| LibraryError::at(format!("[defaults]: {}", e.message().trim()), e.span()))?
             }
         };
         let mobility_ratio = match &defaults.mobility_ratio {
@@ -464,7 +414,7 @@ impl Library {
                 let value = *written.get_ref();
                 bounds::SIZING.check(value).map_err(|why| {
                     let value = bounds::show(value);
-                    source.error(format!("[defaults]: mobility_ratio = {value}: {why}"), Some(written.span()))
+                    LibraryError::at(format!("[defaults]: mobility_ratio = {value}: {why}"), Some(written.span()))
                 })?
             }
         };
@@ -472,10 +422,10 @@ impl Library {
             None => vec![(DEFAULT_DRIVE, Span::default())],
             Some(written) => {
                 let drives = check_drives(written).map_err(|(message, span)| {
-                    source.error(format!("[defaults]: {message}"), Some(span.start..span.end))
+                    LibraryError::at(format!("[defaults]: {message}"), Some(span.start..span.end))
                 })?;
                 if let Some((drive, span)) = repeated_drive(&drives) {
-                    return Err(source.error(
+                    return Err(LibraryError::at(
                         format!(
                             "[defaults]: drive {drive} is listed twice: every gate would get two variants named \
                              <name>_{}",
@@ -489,7 +439,7 @@ impl Library {
         };
         let stack_order = match &defaults.stack_order {
             Some(order) => {
-                check_stack_order(order).map_err(|message| source.error(message, Some(order.span())))?;
+                check_stack_order(order).map_err(|message| LibraryError::at(message, Some(order.span())))?;
                 *order.get_ref()
             }
             None => StackOrder::Default,
@@ -507,7 +457,7 @@ impl Library {
                 let span = value.span();
                 match value.into_inner() {
                     DeValue::Array(array) => array,
-                    _ => return Err(source.error("gate must be a list of [[gate]] tables", Some(span))),
+                    _ => return Err(LibraryError::at("gate must be a list of [[gate]] tables", Some(span))),
                 }
             }
         };
@@ -519,7 +469,7 @@ impl Library {
             .collect();
         let variants: usize = gates.iter().flatten().map(|plan: &GatePlan| plan.drives.len()).sum();
         if variants > MAX_VARIANTS {
-            return Err(source.error(
+            return Err(LibraryError::at(
                 format!(
                     "the library asks for {variants} variants (each gate in each of its drives); the limit is \
                      {MAX_VARIANTS} per library: split it into several files"
@@ -597,28 +547,31 @@ struct Common {
     drives: Vec<(f64, Span)>,
 }
 
-fn read_process(source: &Source, value: Spanned<DeValue<'_>>) -> Result<Process, Error> {
+fn read_process(
+    directory: &Path,
+    read_file: &mut ReadFile<'_>,
+    value: Spanned<DeValue<'_>>,
+) -> Result<Process, LibraryError> {
     let span = value.span();
     match value.get_ref() {
         DeValue::String(path) => {
-            let path = source.directory.join(path.as_ref());
-            let text = crate::io::read_text(&path, crate::process::MAX_PROCESS_FILE_BYTES, "the process file")
-                .map_err(|error| source.error(format!("cannot read the process file: {error}"), Some(span.clone())))?;
-            Process::from_toml(&text).map_err(|error| Error::InFile {
-                message: error.to_string(),
-                origin: path.display().to_string(),
-                span: error.span(),
-                source_text: text,
+            let path = directory.join(path.as_ref());
+            let text = read_file(&path)
+                .map_err(|error| LibraryError::ProcessUnreadable { error, span: Span::from(span.clone()) })?;
+            Process::from_toml(&text).map_err(|error| LibraryError::ProcessFile {
+                error,
+                file: Source::file(path.display().to_string(), text),
             })
         }
         DeValue::Table(_) => {
             let file = ProcessFile::deserialize(ValueDeserializer::from(value))
-                .map_err(|e| source.error(format!("[process]: {}", e.message().trim()), e.span()))?;
-            file.validate().map_err(|e| source.error(format!("[process]: {e}"), e.span().map(|s| s.start..s.end)))
+                .map_err(|e| LibraryError::at(format!("[process]: {}", e.message().trim()), e.span()))?;
+            file.validate().map_err(|e| LibraryError::at(format!("[process]: {e}"), e.span().map(|s| s.start..s.end)))
         }
-        _ => {
-            Err(source.error("process must be the path of a process file (a string) or a [process] table", Some(span)))
-        }
+        _ => Err(LibraryError::at(
+            "process must be the path of a process file (a string) or a [process] table",
+            Some(span),
+        )),
     }
 }
 
@@ -633,7 +586,7 @@ fn read_gate_entry(
     let written_name = entry.get_ref().get("name").and_then(|n| n.get_ref().as_str()).map(str::to_string);
     let problem = |message: String, span: Span| GateProblem {
         number,
-        name: written_name.clone().filter(|n| is_identifier(n)),
+        name: written_name.clone().filter(|n| names::is_identifier(n)),
         message,
         place: Place::File(span),
     };
@@ -643,19 +596,20 @@ fn read_gate_entry(
     let gate = GateEntry::deserialize(ValueDeserializer::from(entry))
         .map_err(|e| problem(e.message().trim().to_string(), e.span().map_or(whole, to_span)))?;
     let name_span = to_span(gate.name.span());
-    if let Err(why) = cell_name(gate.name.get_ref()) {
-        if crate::names::reserved_reason(gate.name.get_ref(), &[]).is_some() {
-            return Err(problem(why, name_span));
-        }
+    let name = gate.name.get_ref();
+    if !names::is_identifier(name) {
         return Err(problem(
             format!(
-                "name '{}' is refused: a gate name is an identifier (a letter or '_', then letters, digits and \
-                 '_') so that netlists take it and no spreadsheet reads its cell as a formula (a cell starting \
-                 with '=', '+', '-' or '@')",
-                escaped(gate.name.get_ref())
+                "name '{}' is refused: a gate name is an identifier ({}) so that netlists take it and no spreadsheet \
+                 reads its cell as a formula (a cell starting with '=', '+', '-' or '@')",
+                escaped(name),
+                names::IDENTIFIER_RULE
             ),
             name_span,
         ));
+    }
+    if let Some(why) = names::reserved_reason(name, &[]) {
+        return Err(problem(GateError::ReservedCellName { name: name.clone(), why }.to_string(), name_span));
     }
     let (drives, drive_spans) = match &gate.drive {
         None => common.drives.iter().copied().unzip(),
@@ -801,174 +755,31 @@ pub fn size_all(
     Ok(outcome)
 }
 
-/// Passes everything on except the first line (a CSV header already written once).
-struct SkipFirstLine<'a> {
-    inner: &'a mut dyn Write,
-    skipping: bool,
-}
-
-impl Write for SkipFirstLine<'_> {
-    fn write(&mut self, buffer: &[u8]) -> io::Result<usize> {
-        if !self.skipping {
-            return self.inner.write(buffer);
-        }
-        match buffer.iter().position(|&b| b == b'\n') {
-            None => Ok(buffer.len()),
-            Some(end) => {
-                self.skipping = false;
-                self.inner.write_all(&buffer[end + 1..])?;
-                Ok(buffer.len())
-            }
-        }
-    }
-
-    fn flush(&mut self) -> io::Result<()> {
-        self.inner.flush()
-    }
-}
-
-/// Size the library and write it in `format` (`rows` for table and CSV) to `out`, each bad gate to
-/// `diagnostics` as it is found.
-pub fn write_batch(
-    library: &Library,
-    source: &Source,
-    format: Format,
-    rows: Rows,
-    verify: Option<&VerifyOptions>,
-    out: &mut dyn Write,
-    diagnostics: &mut dyn Write,
-) -> io::Result<Outcome> {
-    let process = &library.process;
-    let mut report = |problem: &GateProblem| diagnostics.write_all(problem.render(source).as_bytes());
-    match format {
-        Format::Csv => {
-            let mut header_written = false;
-            let outcome = size_all(library, verify, &mut report, &mut |chunk| {
-                if header_written {
-                    output::csv::write_gates(chunk, rows, &mut SkipFirstLine { inner: out, skipping: true })
-                } else {
-                    header_written = true;
-                    output::csv::write_gates(chunk, rows, out)
-                }
-            })?;
-            if !header_written {
-                output::csv::write_gates(&[], rows, out)?;
-            }
-            Ok(outcome)
-        }
-        Format::Json => {
-            // One array, one compact gate object per line: a library is read by scripts, and a
-            // line per variant keeps it greppable.
-            out.write_all(b"[")?;
-            let mut first = true;
-            let outcome = size_all(library, verify, &mut report, &mut |chunk| {
-                for gate in chunk {
-                    out.write_all(if first { b"\n" } else { b",\n" })?;
-                    first = false;
-                    serde_json::to_writer(&mut *out, gate)?;
-                }
-                Ok(())
-            })?;
-            out.write_all(if first { b"]\n" } else { b"\n]\n" })?;
-            Ok(outcome)
-        }
-        Format::Spice => {
-            output::spice::write_library(&[], process, out)?;
-            size_all(library, verify, &mut report, &mut |chunk| {
-                for gate in chunk {
-                    writeln!(out)?;
-                    output::spice::write_subcircuit(gate, process, out)?;
-                }
-                Ok(())
-            })
-        }
-        Format::Table => {
-            let mut table = SummaryTable::new(rows);
-            let outcome = size_all(library, verify, &mut report, &mut |chunk| {
-                table.add(chunk);
-                Ok(())
-            })?;
-            let mut heading = format!(
-                "{}: {} of {} gates sized, {} variants",
-                source.origin,
-                outcome.gates - outcome.failed,
-                outcome.gates,
-                outcome.variants
-            );
-            if outcome.failed > 0 {
-                heading.push_str(&format!("; {} could not be sized (errors on stderr)", outcome.failed));
-            }
-            writeln!(out, "{heading}")?;
-            writeln!(out, "process: {}; mobility ratio {}", process.name, output::number(library.mobility_ratio))?;
-            writeln!(out, "{}\n", table.legend())?;
-            table.write(out)?;
-            Ok(outcome)
-        }
-    }
-}
-
-/// `widthwise batch`: read the library, refuse name clashes and (with `verify`) verification past
-/// its work budget before any output, size and write.
-pub fn run(
-    library_path: &Path,
-    output_args: &OutputArgs,
-    rows: Rows,
-    verify: Option<VerifyOptions>,
-) -> Result<(), Error> {
-    if rows == Rows::Delays {
-        return Err(Error::Usage(
-            "a library has gates, devices and inputs views; delays are timed per gate with 'widthwise size --delays'"
-                .into(),
-        ));
-    }
-    let source = Source::read(library_path)?;
-    let library = Library::read(&source)?;
-    let clashes = library.name_clashes();
-    if !clashes.is_empty() {
-        for clash in &clashes {
-            diagnose(&clash.render(&source));
-        }
-        return Err(Error::NameClashes { count: clashes.len() });
-    }
-    if let Some(options) = &verify {
-        Meter::new(options.work_budget).require(library.verify_work(options), Estimate::Exactly, Work::Verify)?;
-    }
-    let mut outcome = Outcome::default();
-    write_output(output_args, |out| {
-        // Gates are sized one after another, so each verification may use every core.
-        outcome = write_batch(&library, &source, output_args.format, rows, verify.as_ref(), out, &mut Diagnostics)?;
-        Ok(())
-    })?;
-    if outcome.failed > 0 {
-        return Err(Error::GatesFailed { failed: outcome.failed, total: outcome.gates });
-    }
-    if verify.is_some() {
-        if outcome.unverified > 0 {
-            return Err(Error::CheckFailed(format!(
-                "{} of {} variants fail verification (each named above); they are still written",
-                outcome.unverified, outcome.variants
-            )));
-        }
-        diagnose(&format!("verified: all {} variants pass every check on their input vectors\n", outcome.verified));
-    }
-    Ok(())
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
 
+    /// The reader the command supplies: process files through the I/O layer.
+    fn read_file(path: &Path) -> Result<String, InputError> {
+        crate::io::read_text(path, crate::process::MAX_PROCESS_FILE_BYTES, "the process file")
+    }
+
+    fn read(source: &Source) -> Result<Library, LibraryError> {
+        Library::read(source, Path::new("."), &mut read_file)
+    }
+
     fn library(text: &str) -> Library {
-        Library::read(&Source::new("lib.toml", text, ".")).unwrap()
+        read(&Source::file("lib.toml", text)).unwrap()
     }
 
     fn read_error(text: &str) -> String {
-        Library::read(&Source::new("lib.toml", text, ".")).unwrap_err().render()
+        let source = Source::file("lib.toml", text);
+        read(&source).unwrap_err().diagnostic(&source).render()
     }
 
     fn problem(text: &str, index: usize) -> String {
-        let source = Source::new("lib.toml", text, ".");
-        let library = Library::read(&source).unwrap();
+        let source = Source::file("lib.toml", text);
+        let library = read(&source).unwrap();
         let problem = match &library.gates[index] {
             Err(problem) => problem.clone(),
             Ok(plan) => size_plan(plan, &Arc::new(Process::default())).unwrap_err(),
@@ -1076,7 +887,7 @@ mod tests {
         let text = "[[gate]]\nname = \"g\"\nexpr = \"inv\"\ndrive = [1, 2, 1.0]\n";
         let clashes = library(text).name_clashes();
         assert_eq!(clashes.len(), 1);
-        let rendered = clashes[0].render(&Source::new("lib.toml", text, "."));
+        let rendered = clashes[0].render(&Source::file("lib.toml", text));
         assert!(rendered.contains("subcircuit 'g_x1'") && rendered.contains("line 4, column 16"), "{rendered}");
     }
 
@@ -1104,33 +915,5 @@ mod tests {
     fn unknown_critical_input_points_at_the_key() {
         let rendered = problem("[[gate]]\nname = \"g\"\nexpr = \"nand2\"\ncritical = \"q\"\n", 0);
         assert!(rendered.contains("'q'") && rendered.contains("line 4, column 12"), "{rendered}");
-    }
-
-    #[test]
-    fn a_closed_pipe_under_the_csv_writer_keeps_its_kind() {
-        struct Closed;
-        impl Write for Closed {
-            fn write(&mut self, _: &[u8]) -> io::Result<usize> {
-                Err(io::ErrorKind::BrokenPipe.into())
-            }
-            fn flush(&mut self) -> io::Result<()> {
-                Err(io::ErrorKind::BrokenPipe.into())
-            }
-        }
-        let lib = library("[[gate]]\nname = \"g\"\nexpr = \"nand8\"\ndrive = [1, 2, 3, 4, 5, 6, 7, 8]\n");
-        let source = Source::new("lib.toml", "", ".");
-        let error =
-            write_batch(&lib, &source, Format::Csv, Rows::Devices, None, &mut Closed, &mut io::sink()).unwrap_err();
-        assert_eq!(error.kind(), io::ErrorKind::BrokenPipe);
-    }
-
-    #[test]
-    fn csv_header_is_skipped_once() {
-        let mut out = Vec::new();
-        let mut skip = SkipFirstLine { inner: &mut out, skipping: true };
-        skip.write_all(b"a,b").unwrap();
-        skip.write_all(b",c\n1,2,3\n").unwrap();
-        skip.write_all(b"4,5,6\n").unwrap();
-        assert_eq!(out, b"1,2,3\n4,5,6\n");
     }
 }

@@ -1,0 +1,242 @@
+//! `widthwise batch`: size every gate of a library file, in every drive it lists, into one table,
+//! CSV, JSON or SPICE library. A bad gate is reported on stderr as it is found (through the
+//! diagnostic renderer) and the others are still written.
+
+use std::io::{self, Write};
+use std::path::{Path, PathBuf};
+
+use clap::ValueEnum;
+
+use super::{OutputFile, estimates_note, exit_codes_line, work_budget};
+use crate::budget::{DEFAULT_WORK_BUDGET, Estimate, Meter, Work};
+use crate::diagnostic::Source;
+use crate::error::Error;
+use crate::io::{Diagnostics, diagnose};
+use crate::library::{GateProblem, Library, MAX_LIBRARY_BYTES, Outcome, size_all};
+use crate::output::batch::{BatchWriter, Heading};
+use crate::output::{self};
+use crate::process::MAX_PROCESS_FILE_BYTES;
+use crate::verify::VerifyOptions;
+
+/// Help shown after `widthwise batch --help`.
+pub const AFTER_HELP: &str = concat!(
+    "\
+The library file (TOML):
+  process = \"PATH\"          optional: a process file, relative to the library file; or a [process]
+                            table with the process file's keys. Default: the built-in process.
+  [defaults]                optional: method, drive (a number or a list such as [1, 2, 4]),
+                            stack_order (\"default\" or \"written\"), mobility_ratio (default: the
+                            process's).
+  [[gate]]                  one per cell: name (an identifier), expr (an expression or a shorthand
+                            such as nand2), and optional method, drive (number or list), critical
+                            (the input to place nearest the output), stack_order.
+Each drive of a gate is one variant, named <name>_x<drive> with p for a decimal point (nand2_x1p5):
+at most 100000 drives per gate and 200000 variants per library, checked before any gate is sized.
+--verify checks every variant within --work-budget UNITS (default 2^30 = 1073741824): vectors / 64 x
+input occurrences, summed over the variants, counted before anything is written.
+
+Rows: --rows gates (default), devices or inputs choose the table's and the CSV's rows; JSON has
+every figure of every variant; --format spice writes one .subckt per variant.
+
+Errors: a bad gate is reported on stderr with its name, line and column and the others are still
+written (exit 2). A TOML error, a bad process or [defaults], a duplicate name or two variants with the
+same name stop the run before any output (exit 2).
+
+",
+    exit_codes_line!(),
+    "
+
+",
+    estimates_note!()
+);
+
+/// The arguments of `batch`.
+#[derive(Debug, Clone, clap::Args)]
+pub struct Args {
+    /// The library file: TOML with an optional process and [defaults], then [[gate]] entries; a
+    /// regular file (a FIFO, a device or process substitution, <(...), is refused), or - to read
+    /// it from standard input.
+    pub library: PathBuf,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+    /// Where to write.
+    #[command(flatten)]
+    pub output: OutputFile,
+    /// Rows of the table and the CSV: one per gate variant, per transistor or per input.
+    #[arg(long, value_enum, default_value_t = Rows::Gates)]
+    pub rows: Rows,
+    /// Also prove every variant's netlist on its input vectors, as 'widthwise verify' does; a
+    /// variant that fails is reported on stderr (and still written), and the exit code is 1.
+    #[arg(long)]
+    pub verify: bool,
+    /// The work budget, in work units, of --verify over the whole library (vectors / 64 x input
+    /// occurrences, summed over every variant); past it nothing is written, exit 2.
+    #[arg(long, value_name = "UNITS", default_value_t = DEFAULT_WORK_BUDGET, value_parser = work_budget)]
+    pub work_budget: u64,
+}
+
+/// How `batch` writes a library.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    /// A readable table.
+    Table,
+    /// Comma-separated values (RFC 4180), one header row.
+    Csv,
+    /// JSON.
+    Json,
+    /// A SPICE subcircuit per gate.
+    Spice,
+}
+
+impl From<Format> for output::Format {
+    fn from(format: Format) -> output::Format {
+        match format {
+            Format::Table => output::Format::Table,
+            Format::Csv => output::Format::Csv,
+            Format::Json => output::Format::Json,
+            Format::Spice => output::Format::Spice,
+        }
+    }
+}
+
+/// Which rows the table and the CSV of a library have (delays are timed one gate at a time, by
+/// `size --delays`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum Rows {
+    /// One row per sized gate.
+    Gates,
+    /// One row per transistor, with its input's and its gate's figures.
+    Devices,
+    /// One row per gate input.
+    Inputs,
+}
+
+impl From<Rows> for output::Rows {
+    fn from(rows: Rows) -> output::Rows {
+        match rows {
+            Rows::Gates => output::Rows::Gates,
+            Rows::Devices => output::Rows::Devices,
+            Rows::Inputs => output::Rows::Inputs,
+        }
+    }
+}
+
+/// Read the library file at `path` (`-`: standard input): its text, named as messages name it, and
+/// the directory a relative process path starts from.
+fn read_library(path: &Path) -> Result<(Source, PathBuf), Error> {
+    let from_stdin = path.as_os_str() == "-";
+    let origin = if from_stdin { "standard input".to_string() } else { path.display().to_string() };
+    let what = format!("the library file '{origin}'");
+    let bytes = if from_stdin {
+        crate::io::read_stdin(MAX_LIBRARY_BYTES, &what)?
+    } else {
+        let hint = "; give '-' to read the library from standard input";
+        let file = crate::io::open_regular(path, "the library file", hint)?;
+        crate::io::read_bounded(file, MAX_LIBRARY_BYTES, &what, path)?
+    };
+    let text = crate::io::utf8_text(bytes, &what)?;
+    let directory = match path.parent() {
+        Some(parent) if !from_stdin && !parent.as_os_str().is_empty() => parent.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    Ok((Source::file(origin, text), directory))
+}
+
+/// Read a library from `source`, a relative process path from `directory` (process files through
+/// the I/O layer).
+pub fn read(source: &Source, directory: &Path) -> Result<Library, Error> {
+    let mut read_file = |path: &Path| crate::io::read_text(path, MAX_PROCESS_FILE_BYTES, "the process file");
+    Library::read(source, directory, &mut read_file).map_err(|error| Error::Library { error, file: source.clone() })
+}
+
+/// Size the library and write it in `format` (`rows` for table and CSV) to `out`, each bad gate to
+/// `diagnostics` as it is found (`source`: the library file, for the places).
+pub fn write_batch(
+    library: &Library,
+    source: &Source,
+    format: output::Format,
+    rows: output::Rows,
+    verify: Option<&VerifyOptions>,
+    out: &mut dyn Write,
+    diagnostics: &mut dyn Write,
+) -> io::Result<Outcome> {
+    let mut report = |problem: &GateProblem| diagnostics.write_all(problem.render(source).as_bytes());
+    let mut writer = BatchWriter::start(format, rows, &library.process, out)?;
+    let outcome = size_all(library, verify, &mut report, &mut |chunk| writer.write(chunk))?;
+    writer.finish(&Heading {
+        origin: source.origin(),
+        gates: outcome.gates,
+        failed: outcome.failed,
+        variants: outcome.variants,
+        mobility_ratio: library.mobility_ratio,
+    })?;
+    Ok(outcome)
+}
+
+/// Read the library, refuse name clashes and (with `--verify`) verification past its work budget
+/// before any output, size and write.
+pub fn run(args: Args) -> Result<(), Error> {
+    let verify = args.verify.then_some(VerifyOptions { work_budget: args.work_budget, ..VerifyOptions::default() });
+    let (source, directory) = read_library(&args.library)?;
+    let library = read(&source, &directory)?;
+    let clashes = library.name_clashes();
+    if !clashes.is_empty() {
+        for clash in &clashes {
+            diagnose(&clash.render(&source));
+        }
+        return Err(Error::NameClashes { count: clashes.len() });
+    }
+    if let Some(options) = &verify {
+        Meter::new(options.work_budget).require(library.verify_work(options), Estimate::Exactly, Work::Verify)?;
+    }
+    let (format, rows) = (args.format.into(), args.rows.into());
+    let mut outcome = Outcome::default();
+    crate::io::write_output(args.output.output.as_deref(), |out| {
+        // Gates are sized one after another, so each verification may use every core.
+        outcome = write_batch(&library, &source, format, rows, verify.as_ref(), out, &mut Diagnostics)?;
+        Ok(())
+    })?;
+    if outcome.failed > 0 {
+        return Err(Error::GatesFailed { failed: outcome.failed, total: outcome.gates });
+    }
+    if verify.is_some() {
+        if outcome.unverified > 0 {
+            return Err(Error::VariantsUnverified { unverified: outcome.unverified, variants: outcome.variants });
+        }
+        diagnose(&format!("verified: all {} variants pass every check on their input vectors\n", outcome.verified));
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_closed_pipe_under_the_csv_writer_keeps_its_kind() {
+        struct Closed;
+        impl Write for Closed {
+            fn write(&mut self, _: &[u8]) -> io::Result<usize> {
+                Err(io::ErrorKind::BrokenPipe.into())
+            }
+            fn flush(&mut self) -> io::Result<()> {
+                Err(io::ErrorKind::BrokenPipe.into())
+            }
+        }
+        let source =
+            Source::file("lib.toml", "[[gate]]\nname = \"g\"\nexpr = \"nand8\"\ndrive = [1, 2, 3, 4, 5, 6, 7, 8]\n");
+        let library = read(&source, Path::new(".")).unwrap();
+        let error = write_batch(
+            &library,
+            &source,
+            output::Format::Csv,
+            output::Rows::Devices,
+            None,
+            &mut Closed,
+            &mut io::sink(),
+        )
+        .unwrap_err();
+        assert_eq!(error.kind(), io::ErrorKind::BrokenPipe);
+    }
+}

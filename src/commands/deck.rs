@@ -1,0 +1,84 @@
+//! `widthwise deck`: write a self-contained SPICE simulation deck of one gate, its reference
+//! inverter and every input's worst-case transition.
+
+use std::ffi::OsString;
+use std::path::PathBuf;
+use std::sync::Arc;
+
+use super::{GateArgs, gate_options, sizing_delay};
+use crate::error::Error;
+use crate::output::deck::{self, DeckOptions, Models};
+use crate::process::Process;
+
+/// The arguments of `deck`.
+#[derive(Debug, Clone, clap::Args)]
+pub struct Args {
+    /// The gate: an expression or a shorthand; - reads it from standard input.
+    pub expression: OsString,
+    /// How the gate is sized.
+    #[command(flatten)]
+    pub gate: GateArgs,
+    /// Include this model library (`.include`, written as an absolute path) instead of writing level-1
+    /// models from the process. It must be a regular file.
+    #[arg(long, value_name = "FILE")]
+    pub models: Option<PathBuf>,
+    /// The NMOS model's name in the --models library (default: the process's nmos_model).
+    #[arg(long, value_name = "NAME", requires = "models", value_parser = model_name)]
+    pub nmos_model: Option<String>,
+    /// The PMOS model's name in the --models library (default: the process's pmos_model).
+    #[arg(long, value_name = "NAME", requires = "models", value_parser = model_name)]
+    pub pmos_model: Option<String>,
+    /// Add a capacitor to ground on every node of the gate and the reference inverter for its
+    /// diffusions: diffusion_cap_ff_per_um x drawn width, a diffusion shared by two series devices
+    /// counted once (the wider one).
+    #[arg(long)]
+    pub diffusion_capacitance: bool,
+    /// Add an ngspice .control block so that 'ngspice -b deck.sp' prints each gate delay, the matching
+    /// reference delay and their ratio.
+    #[arg(long)]
+    pub summary: bool,
+    /// Write to FILE (atomically) instead of standard output.
+    #[arg(short, long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+}
+
+/// A device model's name ([`crate::process::check_model_name`]).
+fn model_name(text: &str) -> Result<String, String> {
+    crate::process::check_model_name(text)
+        .map_err(|why| format!("{why}, found '{}'", crate::diagnostic::escaped(text)))?;
+    Ok(text.to_string())
+}
+
+/// Deck options from the command line; a `--models` file must be a regular file (it is named by its
+/// absolute path).
+fn deck_options(args: &Args, process: &Process) -> Result<DeckOptions, Error> {
+    let models = match &args.models {
+        None => Models::Process,
+        Some(path) => {
+            let absolute = crate::io::absolute_regular(path, "the --models file")?;
+            let include = crate::io::utf8_text(absolute.into_os_string().into_encoded_bytes(), "the --models path")?;
+            let nmos = args.nmos_model.clone().unwrap_or_else(|| process.nmos_model.clone());
+            let pmos = args.pmos_model.clone().unwrap_or_else(|| process.pmos_model.clone());
+            Models::library(include, nmos, pmos)?
+        }
+    };
+    Ok(DeckOptions { models, diffusion_capacitance: args.diffusion_capacitance, summary: args.summary })
+}
+
+/// Check every input, size the gate and write its deck.
+pub fn run(args: Args) -> Result<(), Error> {
+    let mut options = gate_options(&args.gate)?;
+    // Every input is checked before anything is written.
+    let deck = deck_options(&args, &options.process)?;
+    if let Models::Library { nmos, pmos, .. } = &deck.models {
+        // The deck's models are the ones in use: no name of the gate may take theirs.
+        let process = Process { nmos_model: nmos.clone(), pmos_model: pmos.clone(), ..(*options.process).clone() };
+        options.process = Arc::new(process);
+    }
+    let text = super::expression_text(&args.expression)?;
+    // The elmore method sizes at the default load (fan-out 1) and ratio, as `paths` does.
+    let sized = super::size_gate(&text, &options, &sizing_delay(&args.gate, &options)?)?;
+    deck::check_size(&sized)?;
+    crate::io::write_output(args.output.as_deref(), |out| deck::write_deck(&sized, &deck, out))?;
+    Ok(())
+}

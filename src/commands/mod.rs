@@ -1,0 +1,335 @@
+//! The commands, a module each: its arguments (clap derive, with its own format and rows, so clap
+//! refuses what does not apply) and its `run`. This module holds what several commands share: the
+//! argument groups for sizing and delays, the number and name checks of arguments, the one place
+//! sizing options are built from arguments, and reading an expression argument.
+//!
+//! Files and streams are touched through the I/O layer ([`crate::io`]) only.
+
+pub mod batch;
+pub mod deck;
+pub mod paths;
+pub mod process;
+pub mod size;
+pub mod verify;
+
+use std::ffi::OsString;
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+
+use clap::Args;
+
+use crate::bounds;
+use crate::budget::DEFAULT_WORK_BUDGET;
+use crate::delay::{self, DelayError, DelayOptions, Load, StackOrder};
+use crate::diagnostic::{Source, escaped};
+use crate::error::Error;
+use crate::expr::GateFunction;
+use crate::expr::parser::MAX_EXPRESSION_BYTES;
+use crate::gate::{GateError, GateOptions, SizedGate};
+use crate::names;
+use crate::process::{MAX_PROCESS_FILE_BYTES, Process};
+use crate::sizing::{Method, Reference, SizingOptions};
+
+/// The exit codes as the help texts give them (the contributor guide states them in full).
+macro_rules! exit_codes_line {
+    () => {
+        "Exit codes: 0 ok, 1 a check failed, 2 bad input or usage."
+    };
+}
+pub(crate) use exit_codes_line;
+
+/// The closing note of every help text.
+macro_rules! estimates_note {
+    () => {
+        "Results are first-order estimates (switch-level RC model). Sign-off needs the foundry's models,
+design rules and licensed practice."
+    };
+}
+pub(crate) use estimates_note;
+
+/// Help shown after the top level's and most commands' `--help`.
+pub const AFTER_HELP: &str = concat!(
+    "\
+Expressions: NOT as !, ~ or postfix '; AND as &, *, . or juxtaposition; OR as | or +; parentheses;
+an optional 'name =' prefix names the output (default y). Precedence NOT > AND > OR. Any expression
+whose negation-normal form is one inverting stage is accepted (!a & !b is a NOR). Shorthands: inv,
+nand2..nand8, nor2..nor8, aoi21, aoi22, aoi211 ..., oai21, oai22 ... (inputs a, b, c ... z, a1 ...,
+skipping the output's name). Reserved, compared without case, for inputs, the output and the cell
+name: vdd, vss, gnd, 0 and the model names in use (the process's nmos_model and pmos_model).
+
+Units: sizes are relative W/L, 1 = the unit NMOS; resistances are in units of R, the unit NMOS's
+on-resistance; capacitances in unit-NMOS gate capacitances. Physical sizes use the built-in process
+(L = 1u, unit NMOS W = 1u, so W = W/L x 1u) unless --process FILE gives another ('widthwise process'
+prints the built-in one to start from). Widths snap up to the process grid and minimum width; a device
+wider than the maximum finger width is drawn as n equal fingers, written in SPICE as W=<finger width>
+with the multiplicity m=n. The worst path after snapping is reported with its error against the target.
+
+Limits: expressions up to 1 MiB and 256 levels of parentheses; up to 10000 input occurrences
+(transistors per network) and 10000 distinct inputs; up to 10000 listed paths and 1000000 device
+names in one listing (paths x devices on the longest path); one path listing builds at most 5000000
+partial paths; the exact worst case over input vectors (for repeated inputs) up to 16 inputs; verify
+checks every input vector up to 30 inputs, a stated pseudo-random sample (at most 2^30 vectors) past
+that; process files up to 1 MiB, library files up to 64 MiB, both regular files; drive, mobility
+ratio and reference W/L from 1e-6 to 1e6, fan-out, load and diffusion ratio 0 or 1e-6 to 1e6,
+process values each in its range (README), 1000000 fingers per device; decks up to 256 input
+occurrences per network; delays up to 1000 input occurrences per network, the stack-order search up
+to 64, the elmore method up to 96 transistors and 10000 paths per network.
+
+Work budget (--work-budget UNITS, default 2^30 = 1073741824 for each computation of a run; past it,
+exit 2 before any output): verify counts vectors / 64 x input occurrences before it starts (the
+default allows every gate up to 20 inputs, 30 inputs with up to 64 occurrences); the stack-order
+search counts orders tried x the devices timed per order and stops after the first order when the
+rest would pass (about 22 occurrences of 11 repeated inputs); delays count the devices of every
+transition timed, path tried and input vector searched; the elmore method's solver counts 600 Newton steps
+(its most) x the multiply-adds of one before it starts (about 1.8e6 per step, e.g. 40 transistors
+with 625 paths). At the budget each takes a few seconds.
+
+",
+    exit_codes_line!(),
+    "
+
+",
+    estimates_note!()
+);
+
+/// Options that say how a gate is sized.
+#[derive(Debug, Clone, Args)]
+pub struct GateArgs {
+    /// Sizing method: longest-path (each device: reference W/L x devices on the longest path through
+    /// it), min-area (least total W/L with every path at the target) or elmore (least total W/L with
+    /// every worst-case Elmore delay at most the reference inverter's driving the same load).
+    #[arg(long, value_enum, default_value_t = Method::LongestPath)]
+    pub method: Method,
+    /// Mobility ratio mu_n / mu_p (real processes run about 2 to 3) [default: the process's, 2 for
+    /// the built-in one].
+    #[arg(long, value_name = "MU", value_parser = positive_number, allow_hyphen_values = true)]
+    pub mobility_ratio: Option<f64>,
+    /// Drive strength: multiple of the unit reference inverter.
+    #[arg(long, value_name = "D", default_value_t = 1.0, value_parser = positive_number, allow_hyphen_values = true)]
+    pub drive: f64,
+    /// A skewed reference inverter: its NMOS and PMOS W/L at drive 1, as N:P (default 1:MU, balanced).
+    #[arg(long, value_name = "N:P", value_parser = reference_inverter, allow_hyphen_values = true)]
+    pub reference: Option<Reference>,
+    /// An input to place nearest the output in every series stack (default: the member with the least
+    /// diffusion width facing the output goes there; ties keep the written order).
+    #[arg(long, value_name = "INPUT")]
+    pub critical: Option<String>,
+    /// The cell name in netlists and tables (default: the shorthand, or "cell"); not a reserved name
+    /// (vdd, vss, gnd, 0, the model names in use).
+    #[arg(long, value_name = "NAME", value_parser = cell_name)]
+    pub name: Option<String>,
+    /// A process file (TOML): length, unit width, grid, minimum and maximum finger width, mobility
+    /// ratio and device values (default: the built-in process; 'widthwise process' prints it). A
+    /// regular file: a FIFO, a device or process substitution <(...) is refused.
+    #[arg(long, value_name = "FILE")]
+    pub process: Option<PathBuf>,
+    /// The work budget, in work units, of each long computation: the elmore method's solver, timing
+    /// the delays with the stack-order search, verification (what a unit is: 'Limits' below). Past
+    /// it the command stops before any output, exit 2.
+    #[arg(long, value_name = "UNITS", default_value_t = DEFAULT_WORK_BUDGET, value_parser = work_budget)]
+    pub work_budget: u64,
+}
+
+/// Options for Elmore delays: the load, the diffusion capacitance, the stack-order search.
+#[derive(Debug, Clone, Args)]
+pub struct DelayArgs {
+    /// Report the Elmore delay of every input on both output edges, with the logical-effort view and
+    /// the three methods side by side (implied by every option below and by --method elmore).
+    #[arg(long)]
+    pub delays: bool,
+    /// Load: H copies of the gate (as longest-path sizing makes it), each loading the output with the
+    /// timed input's capacitance [default: 1].
+    #[arg(long, value_name = "H", value_parser = non_negative_number, conflicts_with = "load")]
+    pub fanout: Option<f64>,
+    /// Load: a fixed capacitance in units of C, the gate capacitance of a unit transistor
+    /// (gate_cap_ff_per_um x unit_width_nm; a deck's load is load_ff / C of them).
+    #[arg(long, value_name = "C", value_parser = non_negative_number)]
+    pub load: Option<f64>,
+    /// Diffusion capacitance of one source or drain per unit W/L, over the gate capacitance per unit
+    /// W/L [default: with --process, the file's diffusion_cap_ff_per_um / gate_cap_ff_per_um, the ratio
+    /// of its deck's capacitors; without, 1, as in the published worked examples].
+    #[arg(long, value_name = "RATIO", value_parser = non_negative_number)]
+    pub diffusion_ratio: Option<f64>,
+    /// Series-stack order: default (--critical's input, then the least diffusion width facing the
+    /// output, nearest the output), written (as the expression lists them, the first nearest the
+    /// output), or search (the order with the least worst Elmore delay, or least worst delay of
+    /// --critical's input; with --method elmore the least total W/L; turns delays on).
+    #[arg(long, value_enum, value_name = "ORDER")]
+    pub stack_order: Option<StackOrder>,
+}
+
+impl DelayArgs {
+    /// Whether any delay option was given.
+    pub fn wanted(&self) -> bool {
+        self.delays
+            || self.fanout.is_some()
+            || self.load.is_some()
+            || self.diffusion_ratio.is_some()
+            || self.stack_order == Some(StackOrder::Search)
+    }
+
+    /// The delay options these arguments give; `process_file` is the `--process` file's process,
+    /// if one was given (it sets the default diffusion ratio, [`delay::default_diffusion_ratio`]).
+    pub fn options(&self, process_file: Option<&Process>) -> Result<DelayOptions, DelayError> {
+        let defaults = DelayOptions::default();
+        let diffusion_ratio = match self.diffusion_ratio {
+            Some(ratio) => ratio,
+            None => delay::default_diffusion_ratio(process_file)?,
+        };
+        Ok(DelayOptions {
+            load: match (self.load, self.fanout) {
+                (Some(c), _) => Load::Capacitance(c),
+                (None, Some(h)) => Load::Fanout(h),
+                (None, None) => defaults.load,
+            },
+            diffusion_ratio,
+            stack_order: self.stack_order.unwrap_or(defaults.stack_order),
+            work_budget: defaults.work_budget,
+        })
+    }
+}
+
+/// Where the output goes.
+#[derive(Debug, Clone, Args)]
+pub struct OutputFile {
+    /// Write to FILE (atomically: a temporary file, then a rename) instead of standard output. A
+    /// symbolic link is written through; FILE must be a regular file or not exist (a FIFO, device or
+    /// directory is refused); a new file gets 0666 less the umask, an existing one keeps its mode.
+    #[arg(short, long, value_name = "FILE")]
+    pub output: Option<PathBuf>,
+}
+
+/// Gate options from the command line: the process from `--process` (or the built-in one), and the
+/// mobility ratio from `--mobility-ratio` if given, else from the process.
+pub fn gate_options(args: &GateArgs) -> Result<GateOptions, Error> {
+    let process = match &args.process {
+        Some(path) => read_process(path)?,
+        None => Process::default(),
+    };
+    let mobility_ratio = args.mobility_ratio.unwrap_or(process.mobility_ratio);
+    let sizing = SizingOptions::new(args.method, mobility_ratio, args.drive, args.reference);
+    Ok(GateOptions::cell(sizing, args.critical.clone(), args.name.clone(), Arc::new(process)))
+}
+
+/// The process of `--process`, if it was given (the built-in one is not a process file).
+pub fn process_file<'a>(args: &GateArgs, options: &'a GateOptions) -> Option<&'a Process> {
+    args.process.as_ref().map(|_| &*options.process)
+}
+
+/// What `paths`, `deck` and `verify` size the elmore method with: fan-out 1 and the default
+/// diffusion ratio (the `--process` file's, else 1); the other methods need no delay options.
+pub fn sizing_delay(args: &GateArgs, options: &GateOptions) -> Result<DelayOptions, DelayError> {
+    let mut delay = DelayOptions { work_budget: args.work_budget, ..DelayOptions::default() };
+    if args.method == Method::Elmore {
+        delay.diffusion_ratio = delay::default_diffusion_ratio(process_file(args, options))?;
+    }
+    Ok(delay)
+}
+
+/// Read and check a process file; errors name the key and its line and column.
+pub fn read_process(path: &Path) -> Result<Process, Error> {
+    let text = crate::io::read_text(path, MAX_PROCESS_FILE_BYTES, "the process file")?;
+    Process::from_toml(&text)
+        .map_err(|error| Error::Process { error, file: Source::file(path.display().to_string(), text) })
+}
+
+/// An expression argument as UTF-8 (`-` reads it from standard input), a leading byte-order mark
+/// dropped, or an error naming the first bad byte.
+pub fn expression_text(argument: &OsString) -> Result<String, Error> {
+    let bytes = if argument == "-" {
+        crate::io::read_stdin(MAX_EXPRESSION_BYTES, "the expression on standard input")?
+    } else {
+        argument.as_encoded_bytes().to_vec()
+    };
+    Ok(crate::io::utf8_text(bytes, "the expression")?)
+}
+
+/// Read the gate `text` with the process's model names reserved; an error points into the text.
+/// The delay options are checked first, as every command checks its options before its input.
+pub fn read_gate(text: &str, options: &GateOptions, delay: &DelayOptions) -> Result<GateFunction, Error> {
+    delay::check_options(delay)?;
+    crate::expr::read_gate_with_models(text, &options.process.model_names())
+        .map_err(|error| Error::Expression { error, input: Source::inline("the expression", text) })
+}
+
+/// Read the gate `text` and size it, untimed, by any method and stack order (for `paths`, `deck`,
+/// `verify`, and `size` without delays).
+pub fn size_gate(text: &str, options: &GateOptions, delay: &DelayOptions) -> Result<SizedGate, Error> {
+    let function = read_gate(text, options, delay)?;
+    Ok(delay::size_gate(&function, options, delay)?)
+}
+
+/// A drive, mobility ratio or reference W/L: within [`bounds::SIZING`].
+pub fn positive_number(text: &str) -> Result<f64, String> {
+    within(text, &bounds::SIZING)
+}
+
+/// A fan-out, load or diffusion ratio: within [`bounds::LOAD`].
+pub fn non_negative_number(text: &str) -> Result<f64, String> {
+    within(text, &bounds::LOAD)
+}
+
+/// A number within `bound`, or what it must be and what was found.
+fn within(text: &str, bound: &bounds::Bound) -> Result<f64, String> {
+    let value: f64 = text.trim().parse().map_err(|_| format!("'{}' is not a number", escaped(text)))?;
+    bound.check(value).map_err(|why| format!("{why}, found '{}'", escaped(text)))
+}
+
+fn reference_inverter(text: &str) -> Result<Reference, String> {
+    let (nmos, pmos) =
+        text.split_once(':').ok_or_else(|| format!("expected NMOS:PMOS W/L such as 1:2.5, found '{text}'"))?;
+    Ok(Reference { nmos: positive_number(nmos)?, pmos: positive_number(pmos)? })
+}
+
+/// A work budget: a whole number of work units, 1 or more.
+pub fn work_budget(text: &str) -> Result<u64, String> {
+    match text.parse::<u64>() {
+        Ok(value) if value > 0 => Ok(value),
+        _ => Err(format!("expected a whole number of work units from 1 to {}, found '{}'", u64::MAX, escaped(text))),
+    }
+}
+
+/// A cell name: an identifier, so that netlists take it and spreadsheets never read it as a formula,
+/// and not a reserved name (a rail or ground; the models in use are checked when the gate is sized).
+pub fn cell_name(text: &str) -> Result<String, String> {
+    if !names::is_identifier(text) {
+        return Err(format!("a cell name is {}, found '{}'", names::IDENTIFIER_RULE, escaped(text)));
+    }
+    if let Some(why) = names::reserved_reason(text, &[]) {
+        return Err(GateError::ReservedCellName { name: text.to_string(), why }.to_string());
+    }
+    Ok(text.to_string())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers_must_be_positive_and_finite() {
+        assert_eq!(positive_number("2.5"), Ok(2.5));
+        for bad in ["-1", "0", "nan", "NaN", "inf", "x", "", "1e7", "5e-324", "1e-7"] {
+            assert!(positive_number(bad).is_err(), "{bad}");
+        }
+        assert_eq!(non_negative_number("0"), Ok(0.0));
+        for bad in ["-1", "1e308", "5e-324", "nan"] {
+            assert!(non_negative_number(bad).is_err(), "{bad}");
+        }
+    }
+
+    #[test]
+    fn reference_takes_two_numbers() {
+        assert_eq!(reference_inverter("1:3"), Ok(Reference { nmos: 1.0, pmos: 3.0 }));
+        assert!(reference_inverter("1").is_err());
+        assert!(reference_inverter("1:-3").is_err());
+    }
+
+    #[test]
+    fn cell_names_are_identifiers_and_not_reserved() {
+        assert_eq!(cell_name("nand2_x1"), Ok("nand2_x1".to_string()));
+        let bad = cell_name("1x").unwrap_err();
+        assert_eq!(bad, "a cell name is a letter or '_' followed by letters, digits and '_', found '1x'");
+        let reserved = cell_name("GND").unwrap_err();
+        assert!(reserved.starts_with("the cell name 'GND' is reserved: "), "{reserved}");
+    }
+}
