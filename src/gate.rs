@@ -5,8 +5,6 @@
 
 use std::sync::Arc;
 
-use serde::ser::{SerializeMap, Serializer};
-
 use crate::bounds;
 use crate::budget::{Meter, OverBudget, Work};
 use crate::diagnostic::escaped;
@@ -14,7 +12,7 @@ use crate::expr::GateFunction;
 use crate::figures::{self, DeviceLoad};
 use crate::names::reserved_reason;
 use crate::network::{Network, NetworkKind, Terminals, internal_prefix};
-use crate::paths;
+use crate::paths::{self, Vector};
 use crate::process::{Drawn, Process};
 use crate::sizing::{self, Method, SizingOptions};
 
@@ -121,41 +119,6 @@ impl GateError {
     /// when the binary meets it.
     pub fn is_internal(&self) -> bool {
         matches!(self, GateError::FixedWidths { .. } | GateError::ElmoreWithoutLoad | GateError::ForeignStackOrder)
-    }
-}
-
-/// An input vector: one value per input, in input order.
-#[derive(Debug, Clone, PartialEq, Eq)]
-pub struct Vector {
-    /// Input names and values.
-    pub values: Vec<(String, bool)>,
-}
-
-impl Vector {
-    fn new(inputs: &[String], values: &[bool]) -> Vector {
-        Vector { values: inputs.iter().cloned().zip(values.iter().copied()).collect() }
-    }
-}
-
-impl std::fmt::Display for Vector {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        for (index, (name, value)) in self.values.iter().enumerate() {
-            if index > 0 {
-                f.write_str(" ")?;
-            }
-            write!(f, "{name}={}", u8::from(*value))?;
-        }
-        Ok(())
-    }
-}
-
-impl serde::Serialize for Vector {
-    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
-        let mut map = serializer.serialize_map(Some(self.values.len()))?;
-        for (name, value) in &self.values {
-            map.serialize_entry(name, &u8::from(*value))?;
-        }
-        map.end()
     }
 }
 
@@ -293,7 +256,7 @@ pub struct SizedGate {
     pub process: Arc<Process>,
     /// Delays, the logical-effort view and the three methods side by side, once the delay stage ran.
     #[serde(flatten)]
-    pub timing: Option<crate::delay::Timing>,
+    pub timing: Option<crate::delay::report::Timing>,
     /// The gate function, for later stages.
     #[serde(skip)]
     pub function: GateFunction,

@@ -17,6 +17,43 @@ pub const MAX_LISTED_PATHS: usize = 10_000;
 /// Most inputs for which the exact worst case over input vectors is computed by enumeration.
 pub const EXACT_WORST_MAX_INPUTS: usize = 16;
 
+/// An input vector: one value per input, in input order.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Vector {
+    /// Input names and values.
+    pub values: Vec<(String, bool)>,
+}
+
+impl Vector {
+    /// The vector giving `values[i]` to `inputs[i]`.
+    pub fn new(inputs: &[String], values: &[bool]) -> Vector {
+        Vector { values: inputs.iter().cloned().zip(values.iter().copied()).collect() }
+    }
+}
+
+impl std::fmt::Display for Vector {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        for (index, (name, value)) in self.values.iter().enumerate() {
+            if index > 0 {
+                f.write_str(" ")?;
+            }
+            write!(f, "{name}={}", u8::from(*value))?;
+        }
+        Ok(())
+    }
+}
+
+impl serde::Serialize for Vector {
+    fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        use serde::ser::SerializeMap;
+        let mut map = serializer.serialize_map(Some(self.values.len()))?;
+        for (name, value) in &self.values {
+            map.serialize_entry(name, &u8::from(*value))?;
+        }
+        map.end()
+    }
+}
+
 /// One conducting path from the output to the rail.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Path {

@@ -18,8 +18,9 @@ use thiserror::Error;
 use crate::budget::{DEFAULT_WORK_BUDGET, Estimate, Meter, OverBudget, Work};
 use crate::expr::error::ExprError;
 use crate::expr::{Expr, ExprKind, parser};
-use crate::gate::{SizedGate, Vector};
+use crate::gate::SizedGate;
 use crate::network::NetworkKind;
+use crate::paths::Vector;
 use crate::paths::{self, EXACT_WORST_MAX_INPUTS};
 
 /// Most inputs checked exhaustively (2^30 vectors, about a billion); past it a pseudo-random sample.

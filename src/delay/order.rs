@@ -9,6 +9,7 @@
 //! order, the orders still to try times the work that one took must fit in what is left of the
 //! work budget, or the search is refused before it starts.
 
+use super::report::StackOrderReport;
 use super::{DelayError, DelayOptions, analyse_within, size_read_gate_within};
 use crate::budget::{Estimate, Meter, Work};
 use crate::expr::GateFunction;
@@ -27,25 +28,6 @@ pub enum StackOrder {
     Written,
     /// Search the orders for the least worst Elmore delay (the elmore method: the least total W/L).
     Search,
-}
-
-/// What the search found.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
-pub struct StackOrderReport {
-    /// What was minimised.
-    pub objective: String,
-    /// Its value in the default order (RC for delays, W/L for area).
-    pub default_value: f64,
-    /// Its value in the chosen order.
-    pub chosen_value: f64,
-    /// `(default - chosen) / default`, in percent.
-    pub gain_percent: f64,
-    /// How many orders were evaluated.
-    pub orders_tried: usize,
-    /// Whether every order was tried (else a local search).
-    pub exhaustive: bool,
-    /// The chosen networks: series members output side first (`-`), parallel branches `|`.
-    pub networks: Vec<String>,
 }
 
 /// Most combinations tried one by one (the elmore method solves a program for each, so fewer).
