@@ -231,7 +231,7 @@ fn published_figures_come_through_the_batch() {
             let name = format!("{cell}_x{drive}");
             let row = gates.iter().find(|row| row["gate"] == name).unwrap_or_else(|| panic!("{name}"));
             assert!((number(&row["parasitic_delay"]) - parasitic).abs() < 1e-9, "{name} p");
-            // Drive d pulls with R / d on both sides (the sizing model, section 2; common practice, no source)
+            // Drive d pulls with R / d on both sides (docs/model.md section 2; common practice, no source)
             for column in ["worst_pull_down_r", "worst_pull_up_r"] {
                 assert!((number(&row[column]) - 1.0 / drive).abs() < 1e-9, "{name} {column}");
             }

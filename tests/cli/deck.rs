@@ -36,7 +36,7 @@ fn a_deck_measures_every_input_on_both_edges_against_the_reference() {
     assert!(text.ends_with(".end\n"));
     assert!(!text.contains(".control"));
     assert!(!text.contains("\nCD"));
-    // AOI21, input a falling: the pull-up path through a is a's PMOS and c's (sizing-model.md
+    // AOI21, input a falling: the pull-up path through a is a's PMOS and c's (docs/model.md
     // section 3: the pull-up is the dual), with b held off at 1 and c on at 0.
     assert!(text.contains("* t2: a falling, output rising; held b=1 c=0; path MP3 MP1"), "{text}");
 }

@@ -91,7 +91,7 @@ fn bad_delay_options_exit_2() {
 #[test]
 fn paths_accept_the_elmore_method() {
     // The inverter meets its own bound exactly: the elmore widths are the reference's, so each
-    // network's one path has the reference's resistance, R (the sizing model, section 2).
+    // network's one path has the reference's resistance, R (docs/model.md section 2).
     let output = widthwise().args(["paths", "inv", "--method", "elmore", "--format", "json"]).output().unwrap();
     assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
     let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
@@ -124,7 +124,7 @@ fn with_a_process_file_the_diffusion_ratio_is_its_decks() {
     // capacitance, gate_cap_ff_per_um x unit width): NAND2 with a 0.75 fF/um diffusion against the
     // built-in 1.7 fF/um gate capacitance. The deck's n1 capacitor (one shared diffusion of the 2 um
     // NMOS: 1.5 fF) over C = 1.7 fF must equal ratio x W/L = ratio x 2 (the rule both use:
-    // src/figures.rs NodeDiffusion; units as the sizing model defines them).
+    // src/figures.rs NodeDiffusion; units as docs/model.md section 7 defines them).
     let directory = tempfile::tempdir().unwrap();
     let process = process_file(directory.path(), "diffusion_cap_ff_per_um", "0.75");
     let gate = json(&["size", "nand2", "--delays", "--process", &process, "--format", "json"]);

@@ -60,7 +60,7 @@ fn the_mobility_ratio_comes_from_the_process_unless_given() {
     let text = with_value(&with_value(&default_process_text(), "mobility_ratio", "2.5"), "pmos_kp_ua_per_v2", "40.0");
     std::fs::write(&path, text).unwrap();
     let file = path.to_str().unwrap();
-    // NAND2 PMOS: reference PMOS W/L = mu (sizing-model.md section 2), one device per path.
+    // NAND2 PMOS: reference PMOS W/L = mu (docs/model.md section 2), one device per path.
     let gate = json(&["size", "nand2", "--format", "json", "--process", file]);
     assert_eq!(gate["mobility_ratio"], 2.5);
     assert_eq!(gate["transistors"][2]["w_over_l"], 2.5);
@@ -117,7 +117,7 @@ fn a_missing_process_file_is_bad_input() {
 #[test]
 fn snapping_reports_the_drawn_worst_path_and_its_error() {
     // min-area a in series with (b || c), mu = 2: a = 1 + sqrt 2, b = c = 1 + sqrt 2 / 2
-    // (sizing-model.md section 5). Built-in process: unit NMOS 1000 nm wide, grid 5 nm.
+    // (docs/model.md section 5). Built-in process: unit NMOS 1000 nm wide, grid 5 nm.
     let gate = json(&["size", "!(a & (b | c))", "--method", "min-area", "--format", "json"]);
     let snap = |nm: f64| (nm / 5.0).ceil() * 5.0;
     // a: 2414.21 nm -> 2415 nm; b, c: 1707.11 nm -> 1710 nm.

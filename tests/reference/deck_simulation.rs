@@ -1,7 +1,7 @@
 //! ngspice confirms the sizing: every worst-case transition in a deck from `widthwise deck`,
 //! simulated with the deck's level-1 models, against the reference inverter.
 //!
-//! Why it must hold (sizing-model.md section 8): in the Shichman-Hodges model (SPICE level 1) with
+//! Why it must hold (docs/model.md section 8): in the Shichman-Hodges model (SPICE level 1) with
 //! gamma = 0 and lambda = 0, devices in series with a common gate voltage combine exactly like
 //! resistors, `(L/W)_eq = sum L_i / W_i`, in the linear and saturated regions alike; a single
 //! conducting path after a step input is then one equivalent transistor, and with only a load
@@ -191,7 +191,7 @@ fn worst_case_delays_match_the_reference_inverter() {
         assert!(!outcomes.is_empty(), "{context}: no transitions");
         for outcome in outcomes {
             // Shichman-Hodges, gamma = 0, lambda = 0: the delay scales with the path's L/W
-            // (sizing-model.md section 8; ngspice-39 level 1 via `ngspice -b`).
+            // (docs/model.md section 8; ngspice-39 level 1 via `ngspice -b`).
             assert!(
                 (outcome.ratio / outcome.predicted - 1.0).abs() < 0.01,
                 "{context} {}: ratio {} but the path predicts {}",
@@ -199,7 +199,7 @@ fn worst_case_delays_match_the_reference_inverter() {
                 outcome.ratio,
                 outcome.predicted
             );
-            // min-area puts every path exactly at the target (sizing-model.md section 5).
+            // min-area puts every path exactly at the target (docs/model.md section 5).
             if *method == Method::MinArea {
                 assert!((outcome.predicted - 1.0).abs() < 1e-5, "{context} {}", outcome.what);
             }

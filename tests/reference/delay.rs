@@ -166,7 +166,7 @@ fn elmore_method_meets_every_bound_and_never_costs_more_than_a_feasible_longest_
                 if ratio == 0.0 && matches!(load, Load::Capacitance(_)) {
                     // No parasitics and a fixed load: every delay is (path resistance) x load, so the
                     // bound is the path constraint and the optimum is the min-area closed form
-                    // (series rule B_i = B sqrt(K_i) / sum sqrt(K_j), sizing-model section 5).
+                    // (series rule B_i = B sqrt(K_i) / sum sqrt(K_j), docs/model.md section 5).
                     let min_area = size_text(text, &options(Method::MinArea)).unwrap();
                     let relative = (gate.total_w_over_l / min_area.total_w_over_l - 1.0).abs();
                     assert!(relative < 1e-6, "{text}: {} vs {}", gate.total_w_over_l, min_area.total_w_over_l);

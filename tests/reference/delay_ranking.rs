@@ -59,7 +59,7 @@ struct Row {
 /// state. Asserts that both time the same vector and that ngspice starts from the state the Elmore
 /// model assumes.
 fn compare(text: &str, path: &str, process: &Process) -> (Vec<Row>, Vec<String>) {
-    // C and the ratio from the process's own values (sizing-model section 7 with the process's units).
+    // C and the ratio from the process's own values (docs/model.md section 7, with the process's units).
     let unit_ff = process.gate_cap_ff_per_um * process.unit_width_nm / 1000.0;
     let ratio = process.diffusion_cap_ff_per_um / process.gate_cap_ff_per_um;
     let load_c = format!("{}", process.load_ff / unit_ff);
