@@ -191,11 +191,11 @@ pub enum DelayError {
         /// The edge.
         edge: &'static str,
         /// What went wrong.
-        why: String,
+        why: NetworkFault,
     },
     /// The geometric program's solver stopped without converging.
     #[error("the elmore method's solver did not converge: {0}")]
-    Solver(String),
+    Solver(geometric::SolveError),
     /// More work than the budget allows.
     #[error("{0}")]
     OverBudget(OverBudget),
@@ -233,6 +233,33 @@ impl From<OverBudget> for DelayError {
     }
 }
 
+/// Why a transition's conducting network cannot be timed: an internal inconsistency (a vector from
+/// the worst-case search always switches the output through one network to one rail).
+#[derive(Debug, Clone, PartialEq, Error)]
+pub enum NetworkFault {
+    /// The output would connect to both rails.
+    #[error("the output would connect to both rails")]
+    BothRails,
+    /// The output reaches no rail.
+    #[error("the output does not reach the rail")]
+    NoRail,
+    /// The output is at its new level before the switch.
+    #[error("the output already sits at the new level")]
+    AlreadySwitched,
+    /// The RC network has no first moments.
+    #[error("{0}")]
+    Solve(rc::RcError),
+    /// A path transition that is not a chain of devices from the output.
+    #[error("the path is not a chain from the output")]
+    NotAChain,
+    /// A path transition that does not end on the rail.
+    #[error("the path does not end on the rail")]
+    OffTheRail,
+    /// More than the path conducts in the timed network.
+    #[error("more than the path conducts in the timed network")]
+    MoreThanThePath,
+}
+
 impl DelayError {
     /// Whether no widths meet the elmore method's bounds (within its box): the method's answer for
     /// this gate and load, which the stack-order search skips and the binary ends with exit 1.
@@ -249,7 +276,9 @@ impl DelayError {
     /// Whether the error is an internal inconsistency: a bug when the binary meets it.
     pub fn is_internal(&self) -> bool {
         match self {
-            DelayError::Network { .. } | DelayError::DefaultOrderChanged => true,
+            DelayError::Network { .. }
+            | DelayError::DefaultOrderChanged
+            | DelayError::Solver(geometric::SolveError::Bad(_)) => true,
             DelayError::Gate(error) => error.is_internal(),
             _ => false,
         }
@@ -391,7 +420,12 @@ pub(crate) struct Conducting {
 }
 
 /// The conducting network when `input` switches to `after` (its on-level in `edge`'s network).
-pub(crate) fn conducting(circuit: &Circuit, edge: Edge, input: usize, after: &[bool]) -> Result<Conducting, String> {
+pub(crate) fn conducting(
+    circuit: &Circuit,
+    edge: Edge,
+    input: usize,
+    after: &[bool],
+) -> Result<Conducting, NetworkFault> {
     let rail = rail_of(edge.network());
     let old_rail = if rail == VSS { VDD } else { VSS };
     let mut before = after.to_vec();
@@ -412,7 +446,7 @@ pub(crate) fn conducting(circuit: &Circuit, edge: Edge, input: usize, after: &[b
             let d = &circuit.devices[device];
             let other = if d.drain == here { d.source } else { d.drain };
             if other == old_rail {
-                return Err("the output would connect to both rails".into());
+                return Err(NetworkFault::BothRails);
             }
             if other == rail {
                 reaches_rail = true;
@@ -429,7 +463,7 @@ pub(crate) fn conducting(circuit: &Circuit, edge: Edge, input: usize, after: &[b
         })
         .collect();
     if !reaches_rail {
-        return Err("the output does not reach the rail".into());
+        return Err(NetworkFault::NoRail);
     }
     // Before: what the new rail already holds.
     let mut held = vec![false; circuit.names.len()];
@@ -443,7 +477,7 @@ pub(crate) fn conducting(circuit: &Circuit, edge: Edge, input: usize, after: &[b
             let d = &circuit.devices[device];
             let other = if d.drain == here { d.source } else { d.drain };
             if other == OUTPUT {
-                return Err("the output already sits at the new level".into());
+                return Err(NetworkFault::AlreadySwitched);
             }
             if other != old_rail && !held[other] {
                 held[other] = true;
@@ -489,12 +523,12 @@ pub(crate) fn elmore(
     shape: &Conducting,
     widths: &[f64],
     load: f64,
-) -> Result<(f64, f64, bool), String> {
+) -> Result<(f64, f64, bool), NetworkFault> {
     let (network, initial) = rc_network(circuit, shape, widths, 0.0);
     let charge = network.capacitance.iter().zip(&initial).map(|(c, d)| c * d).collect();
     let mut unit = vec![0.0; initial.len()];
     unit[0] = 1.0;
-    let solved = rc::solve(&network, vec![charge, unit]).map_err(|e| e.to_string())?;
+    let solved = rc::solve(&network, vec![charge, unit]).map_err(NetworkFault::Solve)?;
     let (unloaded, drive) = (solved[0][0], solved[1][0]);
     Ok((unloaded + load * drive, unloaded, rc::tree_moment(&network, &initial, 0).is_some()))
 }
@@ -607,12 +641,12 @@ fn measure(
 
 /// Why a transition could not be measured: its network, or the work budget.
 enum MeasureError {
-    Network(String),
+    Network(NetworkFault),
     OverBudget(OverBudget),
 }
 
-impl From<String> for MeasureError {
-    fn from(why: String) -> MeasureError {
+impl From<NetworkFault> for MeasureError {
+    fn from(why: NetworkFault) -> MeasureError {
         MeasureError::Network(why)
     }
 }

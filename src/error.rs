@@ -176,7 +176,8 @@ mod tests {
     fn each_kind_of_error_has_its_exit_code() {
         let infeasible = DelayError::Infeasible { ratio: 1.5, input: "a".into(), edge: "fall" };
         assert_eq!(Error::from(infeasible).exit_code(), EXIT_CHECK_FAILED);
-        assert_eq!(Error::from(DelayError::Solver("stalled".into())).exit_code(), EXIT_CHECK_FAILED);
+        let stalled = DelayError::Solver(crate::delay::geometric::SolveError::Stalled);
+        assert_eq!(Error::from(stalled).exit_code(), EXIT_CHECK_FAILED);
         let search = DelayError::TooLargeToSearch { count: 70, limit: 64 };
         assert_eq!(Error::from(search).exit_code(), EXIT_BAD_INPUT);
         let internal = Error::from(DelayError::DefaultOrderChanged);

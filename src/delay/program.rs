@@ -19,7 +19,8 @@ use std::collections::BTreeMap;
 
 use super::geometric::{self, Monomial, Outcome, Posynomial, Program, SolveError};
 use super::{
-    Circuit, Conducting, DelayError, DelayOptions, Edge, conducting, fanout_copies, load_for, reference_delay,
+    Circuit, Conducting, DelayError, DelayOptions, Edge, NetworkFault, conducting, fanout_copies, load_for,
+    reference_delay,
 };
 use crate::budget::{Estimate, Meter, Work};
 use crate::expr::GateFunction;
@@ -155,7 +156,7 @@ pub(crate) fn delay_posynomial(
     variables: &Variables,
     transition: &PathTransition,
     load: f64,
-) -> Result<Posynomial, String> {
+) -> Result<Posynomial, NetworkFault> {
     let chain = &transition.chain;
     let shape = &transition.shape;
     // The chain's nodes from the output: v0 = output, v_{j+1} = source of device j.
@@ -163,16 +164,16 @@ pub(crate) fn delay_posynomial(
     for (position, &device) in chain.iter().enumerate() {
         let d = &circuit.devices[device];
         if d.drain != chain_nodes[position] {
-            return Err("the path is not a chain from the output".into());
+            return Err(NetworkFault::NotAChain);
         }
         chain_nodes.push(d.source);
     }
     if chain_nodes.last() != Some(&shape.rail) {
-        return Err("the path does not end on the rail".into());
+        return Err(NetworkFault::OffTheRail);
     }
     let kind = circuit.devices[chain[0]].kind;
     if shape.devices.iter().any(|d| circuit.devices[*d].kind == kind && !chain.contains(d)) {
-        return Err("more than the path conducts in the timed network".into());
+        return Err(NetworkFault::MoreThanThePath);
     }
     let charged = |node: usize| shape.nodes.iter().zip(&shape.at_final).any(|(&n, &f)| n == node && !f);
     // (resistor device, capacitor device or None for the load) -> coefficient.
@@ -362,7 +363,7 @@ pub fn size_for_delay(
     let (program, labels) = elmore_program_within(&longest, delay, meter)?;
     let outcome = geometric::solve_within(&program, meter).map_err(|error| match error {
         SolveError::OverBudget(over) => DelayError::OverBudget(over),
-        error => DelayError::Solver(error.to_string()),
+        error => DelayError::Solver(error),
     })?;
     let widths = match outcome {
         Outcome::Optimal { x, at_bound, .. } => {
