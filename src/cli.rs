@@ -17,39 +17,16 @@ pub struct Cli {
     pub command: Command,
 }
 
-/// The commands.
+/// The commands: each variant holds its command's arguments, whose module describes it (its doc
+/// comment is the command's help: a variant's own doc comment would replace it), checks its options
+/// and runs it.
 #[derive(Debug, Subcommand)]
 pub enum Command {
-    /// Size one gate and report every transistor, input and network.
-    #[command(after_help = AFTER_HELP)]
     Size(size::Args),
-    /// List the conducting paths of each network, weakest first, and count them all.
-    #[command(after_help = AFTER_HELP)]
     Paths(paths::Args),
-    /// Write a self-contained SPICE simulation deck: models, the gate, the reference inverter at the
-    /// same drive, and every input's worst-case transition on both output edges, with .tran and .meas.
-    ///
-    /// The deck has one copy of the gate per worst-case transition (an input toggling with the side
-    /// inputs held so that its weakest path is the only one that conducts), each with its own sources
-    /// and load (the process's load_ff), and one copy of the reference inverter per output edge; one
-    /// transient run measures them all. Measurements: tpd_<input>_fall_gate and tpd_<input>_rise_gate
-    /// (named by the output's edge), tpd_fall_ref and tpd_rise_ref, each from the input crossing
-    /// supply/2 to the output crossing supply/2. Run it with, e.g., 'ngspice -b deck.sp'; widthwise
-    /// never runs a simulator. Devices are written as W=<finger width> with SPICE multiplicity
-    /// m=<fingers>. The built-in models are level 1 from the process (threshold, KP, body effect as
-    /// GAMMA, LAMBDA=0, no parasitic capacitance).
-    #[command(after_help = AFTER_HELP)]
     Deck(deck::Args),
-    /// Print the built-in process as a commented process file to start from.
-    #[command(after_help = AFTER_HELP)]
     Process(process::Args),
-    /// Size every gate of a library file, in every drive it lists, into one table, CSV, JSON or
-    /// SPICE library.
-    #[command(after_help = batch::AFTER_HELP)]
     Batch(batch::Args),
-    /// Prove the sized netlist right: simulate its switches on every input vector and check that
-    /// pull-up and pull-down never both conduct, are never both off, and give the expression.
-    #[command(after_help = verify::AFTER_HELP)]
     Verify(verify::Args),
 }
 

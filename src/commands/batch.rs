@@ -50,8 +50,10 @@ same name stop the run before any output (exit 2).
     estimates_note!()
 );
 
-/// The arguments of `batch`.
+/// Size every gate of a library file, in every drive it lists, into one table, CSV, JSON or
+/// SPICE library.
 #[derive(Debug, Clone, clap::Args)]
+#[command(after_help = AFTER_HELP)]
 pub struct Args {
     /// The library file: TOML with an optional process and [defaults], then [[gate]] entries; a
     /// regular file (a FIFO, a device or process substitution, <(...), is refused), or - to read

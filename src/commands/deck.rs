@@ -10,8 +10,20 @@ use crate::error::Error;
 use crate::output::deck::{self, DeckOptions, Models};
 use crate::process::Process;
 
-/// The arguments of `deck`.
+/// Write a self-contained SPICE simulation deck: models, the gate, the reference inverter at the
+/// same drive, and every input's worst-case transition on both output edges, with .tran and .meas.
+///
+/// The deck has one copy of the gate per worst-case transition (an input toggling with the side
+/// inputs held so that its weakest path is the only one that conducts), each with its own sources
+/// and load (the process's load_ff), and one copy of the reference inverter per output edge; one
+/// transient run measures them all. Measurements: tpd_<input>_fall_gate and tpd_<input>_rise_gate
+/// (named by the output's edge), tpd_fall_ref and tpd_rise_ref, each from the input crossing
+/// supply/2 to the output crossing supply/2. Run it with, e.g., 'ngspice -b deck.sp'; widthwise
+/// never runs a simulator. Devices are written as W=<finger width> with SPICE multiplicity
+/// m=<fingers>. The built-in models are level 1 from the process (threshold, KP, body effect as
+/// GAMMA, LAMBDA=0, no parasitic capacitance).
 #[derive(Debug, Clone, clap::Args)]
+#[command(after_help = super::AFTER_HELP)]
 pub struct Args {
     /// The gate: an expression or a shorthand; - reads it from standard input.
     pub expression: OsString,
@@ -77,7 +89,7 @@ pub fn run(args: Args) -> Result<(), Error> {
     }
     let text = super::expression_text(&args.expression)?;
     // The elmore method sizes at the default load (fan-out 1) and ratio, as `paths` does.
-    let sized = super::size_gate(&text, &options, &sizing_delay(&args.gate, &options)?)?;
+    let sized = super::read_and_size(&text, &options, &sizing_delay(&args.gate, &options)?)?;
     deck::check_size(&sized)?;
     crate::io::write_output(args.output.as_deref(), |out| deck::write_deck(&sized, &deck, out))?;
     Ok(())

@@ -254,7 +254,7 @@ pub fn read_gate(text: &str, options: &GateOptions, delay: &DelayOptions) -> Res
 
 /// Read the gate `text` and size it, untimed, by any method and stack order (for `paths`, `deck`,
 /// `verify`, and `size` without delays).
-pub fn size_gate(text: &str, options: &GateOptions, delay: &DelayOptions) -> Result<SizedGate, Error> {
+pub fn read_and_size(text: &str, options: &GateOptions, delay: &DelayOptions) -> Result<SizedGate, Error> {
     let function = read_gate(text, options, delay)?;
     Ok(delay::size_gate(&function, options, delay)?)
 }

@@ -9,8 +9,9 @@ use crate::error::Error;
 use crate::output;
 use crate::paths::{self, MAX_LISTED_PATHS};
 
-/// The arguments of `paths`.
+/// List the conducting paths of each network, weakest first, and count them all.
 #[derive(Debug, Clone, clap::Args)]
+#[command(after_help = super::AFTER_HELP)]
 pub struct Args {
     /// The gate: an expression or a shorthand; - reads it from standard input.
     pub expression: OsString,
@@ -62,7 +63,7 @@ pub fn run(args: Args) -> Result<(), Error> {
     let Args { expression, gate, format, output, limit } = args;
     let options = gate_options(&gate)?;
     let text = super::expression_text(&expression)?;
-    let sized = super::size_gate(&text, &options, &sizing_delay(&gate, &options)?)?;
+    let sized = super::read_and_size(&text, &options, &sizing_delay(&gate, &options)?)?;
     for network in &sized.trees {
         paths::check_listing(network, limit)?;
     }

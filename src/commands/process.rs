@@ -5,8 +5,9 @@ use std::path::PathBuf;
 use crate::error::Error;
 use crate::process::Process;
 
-/// The arguments of `process`.
+/// Print the built-in process as a commented process file to start from.
 #[derive(Debug, Clone, clap::Args)]
+#[command(after_help = super::AFTER_HELP)]
 pub struct Args {
     /// Write to FILE (atomically) instead of standard output.
     #[arg(short, long, value_name = "FILE")]

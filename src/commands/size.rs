@@ -11,8 +11,9 @@ use crate::error::Error;
 use crate::output;
 use crate::sizing::Method;
 
-/// The arguments of `size`.
+/// Size one gate and report every transistor, input and network.
 #[derive(Debug, Clone, clap::Args)]
+#[command(after_help = super::AFTER_HELP)]
 pub struct Args {
     /// The gate: an expression such as "!(a & b | c)" or a shorthand such as aoi21; - reads it
     /// from standard input.
@@ -100,7 +101,7 @@ pub fn run(args: Args) -> Result<(), Error> {
             work_budget: gate.work_budget,
             ..DelayOptions::default()
         };
-        super::size_gate(&text, &options, &order)?
+        super::read_and_size(&text, &options, &order)?
     };
     let (format, rows) = (format.into(), rows.into());
     crate::io::write_output(output.output.as_deref(), |out| {

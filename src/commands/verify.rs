@@ -28,8 +28,10 @@ nothing is checked, exit 2.
     estimates_note!()
 );
 
-/// The arguments of `verify`.
+/// Prove the sized netlist right: simulate its switches on every input vector and check that
+/// pull-up and pull-down never both conduct, are never both off, and give the expression.
 #[derive(Debug, Clone, clap::Args)]
+#[command(after_help = AFTER_HELP)]
 pub struct Args {
     /// The gate: an expression or a shorthand; - reads it from standard input.
     pub expression: OsString,
@@ -84,7 +86,7 @@ pub fn run(args: Args) -> Result<(), Error> {
     let Args { expression, gate, format, output, random_vectors, seed } = args;
     let text = super::expression_text(&expression)?;
     let options = gate_options(&gate)?;
-    let sized = super::size_gate(&text, &options, &sizing_delay(&gate, &options)?)?;
+    let sized = super::read_and_size(&text, &options, &sizing_delay(&gate, &options)?)?;
     let options = VerifyOptions { random_vectors, seed, work_budget: gate.work_budget, ..VerifyOptions::default() };
     let result = verify::verify(&sized, &options)?;
     let format = format.into();
