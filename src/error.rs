@@ -11,6 +11,8 @@ use thiserror::Error;
 use crate::budget::OverBudget;
 use crate::delay::DelayError;
 use crate::diagnostic::{Diagnostic, Source};
+use crate::exit::{EXIT_BAD_INPUT, EXIT_CHECK_FAILED};
+use crate::expr::error::ExprError;
 use crate::gate::GateError;
 use crate::io::{InputError, OutputError};
 use crate::library::LibraryError;
@@ -19,10 +21,6 @@ use crate::output::deck::DeckError;
 use crate::paths::ListingError;
 use crate::process::ProcessError;
 use crate::verify::{VerifyError, VerifyFailed};
-
-pub use crate::diagnostic::Span;
-pub use crate::exit::{EXIT_BAD_INPUT, EXIT_CHECK_FAILED, EXIT_OK};
-pub use crate::expr::error::ExprError;
 
 /// An error of any stage, as the binary sees it.
 #[derive(Debug, Error)]
