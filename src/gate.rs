@@ -79,8 +79,9 @@ pub enum GateError {
     OutOfBounds(#[from] bounds::OutOfBounds),
     /// A device drawn with more fingers than allowed.
     #[error(
-        "{device} (W/L {w_over_l}) would be drawn as {fingers} fingers; the limit is {limit} fingers per device: a \
-         smaller drive or reference, a larger max_finger_width_nm or a smaller unit_width_nm keeps it in"
+        "{device} (W/L {}) would be drawn as {fingers} fingers; the limit is {limit} fingers per device: a \
+         smaller drive or reference, a larger max_finger_width_nm or a smaller unit_width_nm keeps it in",
+        crate::number::format(*w_over_l)
     )]
     TooManyFingers {
         /// The device.

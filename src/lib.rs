@@ -28,6 +28,7 @@ pub mod models;
 pub mod names;
 pub mod network;
 pub mod ngspice;
+pub mod number;
 pub mod optimize;
 pub mod output;
 pub mod paths;

@@ -62,7 +62,7 @@ impl<'a> BatchWriter<'a> {
                 for (index, gate) in chunk.iter().enumerate() {
                     let first = !self.written && index == 0;
                     self.out.write_all(if first { b"\n" } else { b",\n" })?;
-                    serde_json::to_writer(&mut *self.out, gate)?;
+                    super::json::write_compact(gate, self.out)?;
                 }
             }
             Format::Spice => {

@@ -70,9 +70,9 @@ pub const DEVICE_COLUMNS: [&str; 26] = [
 /// Columns of the inputs view, in order.
 pub const INPUT_COLUMNS: [&str; 6] = ["gate", "drive", "method", "input", "input_capacitance", "logical_effort"];
 
-/// Full precision for machines: the shortest text that reads back as the same number.
+/// A number by the one rule of every format ([`crate::number`]).
 fn value(number: f64) -> String {
-    number.to_string()
+    super::number(number)
 }
 
 fn micrometres(nanometres: f64) -> String {

@@ -222,14 +222,16 @@ fn saturation_current(process: &Process, kind: NetworkKind, width_nm: f64) -> f6
     kp * 1e-6 / 2.0 * (width_nm / process.length_nm) * overdrive * overdrive
 }
 
-/// A time in seconds as SPICE reads it, four significant digits.
+/// A time in seconds as SPICE reads it: a stimulus time, chosen to four significant digits, then
+/// written by the one rule of every number ([`crate::number`]).
 fn seconds(value: f64) -> String {
-    format!("{value:.3e}")
+    let chosen: f64 = format!("{value:.3e}").parse().unwrap_or(value);
+    number(chosen)
 }
 
 /// A capacitance in fF as SPICE reads it.
 fn femtofarads(value: f64) -> String {
-    format!("{value}f")
+    format!("{}f", number(value))
 }
 
 /// Write the deck.
@@ -278,7 +280,7 @@ pub fn write_deck(gate: &SizedGate, options: &DeckOptions, out: &mut dyn Write) 
     writeln!(
         out,
         "* edge, each with its own sources and a {} fF load; one transient run measures them all.",
-        process.load_ff
+        number(process.load_ff)
     )?;
     writeln!(
         out,
@@ -298,8 +300,10 @@ pub fn write_deck(gate: &SizedGate, options: &DeckOptions, out: &mut dyn Write) 
             ] {
                 writeln!(
                     out,
-                    ".model {name} {kind} (LEVEL=1 VTO={threshold} KP={kp}u GAMMA={} LAMBDA=0)",
-                    process.body_effect_sqrt_v
+                    ".model {name} {kind} (LEVEL=1 VTO={} KP={}u GAMMA={} LAMBDA=0)",
+                    number(threshold),
+                    number(kp),
+                    number(process.body_effect_sqrt_v)
                 )?;
             }
         }

@@ -57,7 +57,7 @@ pub fn write_table(timing: &Timing, out: &mut dyn Write) -> io::Result<()> {
             delay.input.clone(),
             delay.edge.name().to_string(),
             number(delay.elmore_rc),
-            delay.elmore_ps.map_or("-".to_string(), |ps| format!("{ps:.1}")),
+            delay.elmore_ps.map_or("-".to_string(), number),
             number(delay.load_c),
             number(delay.reference_elmore_rc),
             number(delay.delay_ratio),
@@ -173,7 +173,7 @@ pub fn write_csv<W: Write>(gates: &[SizedGate], writer: &mut csv::Writer<W>) -> 
     for gate in gates {
         let Some(timing) = &gate.timing else { continue };
         let fanout = match timing.delay_model.fanout {
-            Some(h) => h.to_string(),
+            Some(h) => number(h),
             None => String::new(),
         };
         for delay in &timing.delays {
@@ -183,22 +183,22 @@ pub fn write_csv<W: Write>(gates: &[SizedGate], writer: &mut csv::Writer<W>) -> 
                 gate.method.name().to_string(),
                 delay.input.clone(),
                 delay.edge.name().to_string(),
-                delay.elmore_rc.to_string(),
-                delay.elmore_ps.map(|v| v.to_string()).unwrap_or_default(),
-                delay.load_c.to_string(),
-                delay.reference_elmore_rc.to_string(),
-                delay.delay_ratio.to_string(),
+                number(delay.elmore_rc),
+                delay.elmore_ps.map(number).unwrap_or_default(),
+                number(delay.load_c),
+                number(delay.reference_elmore_rc),
+                number(delay.delay_ratio),
                 delay.path.join(" "),
                 delay.vector.to_string(),
                 delay.internal_nodes.join(" "),
                 delay.nodes_at_final_level.join(" "),
-                timing.delay_model.diffusion_ratio.to_string(),
-                view.g.to_string(),
-                view.h.to_string(),
-                view.p_output_node.to_string(),
-                view.p_elmore.to_string(),
-                view.d_output_node.to_string(),
-                view.d_elmore.to_string(),
+                number(timing.delay_model.diffusion_ratio),
+                number(view.g),
+                number(view.h),
+                number(view.p_output_node),
+                number(view.p_elmore),
+                number(view.d_output_node),
+                number(view.d_elmore),
                 fanout.clone(),
             ])?;
         }

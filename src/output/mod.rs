@@ -81,26 +81,6 @@ pub fn sizing_line(gate: &SizedGate) -> String {
     )
 }
 
-/// A number for people: at most four decimals, trailing zeros dropped.
-pub fn number(value: f64) -> String {
-    if !value.is_finite() {
-        return value.to_string();
-    }
-    let text = format!("{value:.4}");
-    let text = text.trim_end_matches('0').trim_end_matches('.');
-    if text == "-0" { "0".to_string() } else { text.to_string() }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::number;
-
-    #[test]
-    fn numbers_for_people() {
-        assert_eq!(number(2.0), "2");
-        assert_eq!(number(1.0 + 2f64.sqrt()), "2.4142");
-        assert_eq!(number(4.0 / 3.0), "1.3333");
-        assert_eq!(number(-0.00001), "0");
-        assert_eq!(number(0.5), "0.5");
-    }
-}
+/// Every number of every writer, by the one rule ([`crate::number`]): at most ten significant
+/// digits, trailing zeros dropped.
+pub use crate::number::format as number;

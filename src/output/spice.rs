@@ -10,11 +10,10 @@ use crate::gate::{SizedGate, Transistor};
 use crate::network::NetworkKind;
 use crate::process::Process;
 
-/// A length in nm as a SPICE value in micrometres (`1.5u`), to 1 pm.
+/// A length in nm as a SPICE value in micrometres (`1.5u`), by the one rule of every number
+/// ([`crate::number`]): a width on a 1 pm grid has at most 10 significant digits up to 10 mm.
 pub fn micrometres(nanometres: f64) -> String {
-    let text = format!("{:.6}", nanometres / 1000.0);
-    let text = text.trim_end_matches('0').trim_end_matches('.');
-    format!("{text}u")
+    format!("{}u", super::number(nanometres / 1000.0))
 }
 
 /// One `.subckt` per gate, with a header comment.

@@ -203,9 +203,9 @@ mod tests {
         let column = lines[0].find("drive").unwrap();
         assert_eq!(&lines[1][column..column + 1], "1");
         // NAND2 at mu = 2: total W/L 8, g = 4/3 per input (common practice, no source)
-        assert!(lines[1].contains("1.3333 1.3333"), "{text}");
+        assert!(lines[1].contains("1.333333333 1.333333333"), "{text}");
         // AOI21: g = 2, 2, 5/3 (Weste & Harris, logical-effort table; from memory)
-        assert!(lines[2].ends_with("2 2 1.6667"), "{text}");
+        assert!(lines[2].ends_with("2 2 1.666666667"), "{text}");
     }
 
     #[test]

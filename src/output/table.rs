@@ -126,12 +126,12 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
 
     writeln!(out, "\ngate")?;
     let comparison = &gate.comparison;
-    let change = if comparison.change_percent.abs() < 0.05 {
+    let change = if comparison.change_percent.abs() < 1e-9 {
         format!("{} would use the same", comparison.method.name())
     } else if comparison.change_percent < 0.0 {
-        format!("{} would save {:.1}%", comparison.method.name(), -comparison.change_percent)
+        format!("{} would save {}%", comparison.method.name(), number(-comparison.change_percent))
     } else {
-        format!("{} would use {:.1}% more", comparison.method.name(), comparison.change_percent)
+        format!("{} would use {}% more", comparison.method.name(), number(comparison.change_percent))
     };
     let rows = vec![
         vec![
@@ -148,11 +148,9 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
     Ok(())
 }
 
-/// A signed percentage to two decimals: `-0.11%`, `0%`.
+/// A signed percentage: `-0.1126003414%`, `0%`.
 fn percent(value: f64) -> String {
-    let text = format!("{value:.2}");
-    let text = text.trim_end_matches('0').trim_end_matches('.');
-    if text == "-0" { "0%".to_string() } else { format!("{text}%") }
+    format!("{}%", number(value))
 }
 
 /// Write the path listing of both networks.

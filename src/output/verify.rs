@@ -33,8 +33,8 @@ pub fn write_verifications(results: &[Verification], format: Format, out: &mut d
         Format::Csv => write_csv(results, out),
         Format::Json => {
             match results {
-                [one] => serde_json::to_writer_pretty(&mut *out, one)?,
-                _ => serde_json::to_writer_pretty(&mut *out, results)?,
+                [one] => super::json::write_pretty(one, out)?,
+                _ => super::json::write_pretty(results, out)?,
             }
             writeln!(out)
         }
@@ -137,8 +137,8 @@ fn write_csv(results: &[Verification], out: &mut dyn Write) -> io::Result<()> {
             result.failure.as_ref().map(|f| f.vector.to_string()).unwrap_or_default(),
         ];
         for network in &result.networks {
-            record.push(network.path_bound.to_string());
-            record.push(network.exact_worst.map(|r| r.to_string()).unwrap_or_default());
+            record.push(number(network.path_bound));
+            record.push(network.exact_worst.map(number).unwrap_or_default());
         }
         record.push(result.networks.iter().any(|n| n.below_bound).to_string());
         writer.write_record(&record)?;

@@ -5,6 +5,7 @@ mod batch;
 mod deck;
 mod delay;
 mod limits;
+mod numbers;
 mod paths;
 mod process;
 mod size;
