@@ -306,7 +306,7 @@ impl ProcessUnits {
             supply / (beta * overdrive * overdrive)
         };
         let unit_resistance_ohm = per_capacitance / std::f64::consts::LN_2;
-        let unit_capacitance_ff = process.gate_cap_ff_per_um * process.unit_width_nm / 1000.0;
+        let unit_capacitance_ff = process.unit_capacitance_ff();
         Ok(ProcessUnits {
             process: process.name.clone(),
             unit_resistance_ohm,

@@ -160,8 +160,11 @@ pub struct Transistor {
 pub struct InputFigures {
     /// Input name.
     pub name: String,
-    /// Sum of the W/L of the devices it gates, in unit-NMOS gate capacitances.
+    /// Sum of the W/L of the devices it gates, in unit-NMOS gate capacitances (C).
     pub input_capacitance: f64,
+    /// The same in fF: input capacitance x C, the process's gate capacitance per um x unit width
+    /// (from the sized W/L, before snapping).
+    pub input_capacitance_ff: f64,
     /// Input capacitance over the reference inverter's at the same drive.
     pub logical_effort: f64,
 }
@@ -253,6 +256,9 @@ pub struct SizedGate {
     pub comparison: Comparison,
     /// Sum of all drawn widths, um.
     pub total_drawn_width_um: f64,
+    /// Drawn area, um^2: the sum over devices of drawn width x length, the channel areas. Not a
+    /// layout's area: no diffusions, spacing or wiring.
+    pub area_um2: f64,
     /// The process the drawn sizes come from.
     pub process: Arc<Process>,
     /// Delays, the logical-effort view and the three methods side by side, once the delay stage ran.
@@ -407,7 +413,12 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
         .inputs
         .iter()
         .zip(capacitance.iter().zip(&effort))
-        .map(|(name, (&c, &g))| InputFigures { name: name.clone(), input_capacitance: c, logical_effort: g })
+        .map(|(name, (&c, &g))| InputFigures {
+            name: name.clone(),
+            input_capacitance: c,
+            input_capacitance_ff: c * options.process.unit_capacitance_ff(),
+            logical_effort: g,
+        })
         .collect();
     let parasitic_delay = figures::parasitic_delay(&loads, &function.output, reference_capacitance);
     drop(loads);
@@ -439,6 +450,7 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
         .map(|side| network_figures(&function, &trees[side], [&widths[side], &drawn_widths[side]], &input_of, &sizing))
         .collect();
     let total_drawn_width_um = transistors.iter().map(|t| t.drawn_width_um).sum();
+    let area_um2 = transistors.iter().map(|t| t.drawn_width_um * t.length_um).sum();
     let total: f64 = widths.iter().flatten().sum();
     let name = cell_name(&function, options);
     Ok(SizedGate {
@@ -464,6 +476,7 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
             change_percent: (other_total / total - 1.0) * 100.0,
         },
         total_drawn_width_um,
+        area_um2,
         process: Arc::clone(process),
         timing: None,
         function,

@@ -374,6 +374,11 @@ impl Process {
         w_over_l * self.unit_width_nm
     }
 
+    /// C, the gate capacitance of the unit NMOS, fF: gate_cap_ff_per_um x unit width.
+    pub fn unit_capacitance_ff(&self) -> f64 {
+        self.gate_cap_ff_per_um * self.unit_width_nm / 1000.0
+    }
+
     /// The process as a commented TOML file a user can start from; it reads back as itself.
     pub fn to_commented_toml(&self) -> String {
         let mut out = String::new();

@@ -7,38 +7,51 @@ use crate::gate::{NetworkFigures, PathListing, SizedGate};
 
 use super::Rows;
 
-/// Columns of the gates view, in order.
-pub const GATE_COLUMNS: [&str; 26] = [
+/// Columns of the gates view, in order: one tidy row per sized cell (variant), with what cells are
+/// compared by. Units are in the names (`_um`, `_um2`, `_c` for unit-NMOS gate capacitances, `_ff`,
+/// `_r` for unit-NMOS on-resistances, `_percent`); the rest are dimensionless or text (README).
+pub const GATE_COLUMNS: [&str; 34] = [
     "gate",
     "expression",
     "output",
     "drive",
     "method",
-    "mobility_ratio",
     "transistors",
+    "area_um2",
+    "max_input_cap_c",
+    "max_input_cap_ff",
+    "max_logical_effort",
+    "min_logical_effort",
+    "parasitic_delay",
     "total_w_over_l",
     "total_width_um",
-    "parasitic_delay",
+    "total_drawn_width_um",
+    "length_um",
+    "mobility_ratio",
+    "reference_nmos_w_over_l",
+    "reference_pmos_w_over_l",
     "pull_down_target_r",
     "worst_pull_down_r",
     "pull_down_vector",
     "best_pull_down_r",
     "pull_down_paths",
+    "drawn_worst_pull_down_r",
+    "pull_down_error_percent",
     "pull_up_target_r",
     "worst_pull_up_r",
     "pull_up_vector",
     "best_pull_up_r",
     "pull_up_paths",
-    "total_drawn_width_um",
-    "drawn_worst_pull_down_r",
-    "pull_down_error_percent",
     "drawn_worst_pull_up_r",
     "pull_up_error_percent",
     "process",
 ];
 
-/// Columns of the devices view, in order.
-pub const DEVICE_COLUMNS: [&str; 26] = [
+/// Columns of the devices view, in order: keys to join on (the variant, its drive and method, the
+/// device, its network and input), then the device's own values. Every number sums per gate to the
+/// gate's figure (W/L, widths, area, fingers; gate capacitance per gate and input to the input's
+/// capacitance), except the one named per finger.
+pub const DEVICE_COLUMNS: [&str; 18] = [
     "gate",
     "drive",
     "method",
@@ -50,25 +63,18 @@ pub const DEVICE_COLUMNS: [&str; 26] = [
     "source",
     "w_over_l",
     "width_um",
-    "length_um",
-    "input_capacitance",
-    "logical_effort",
-    "parasitic_delay",
-    "transistors",
-    "worst_pull_down_r",
-    "worst_pull_up_r",
-    "drawn_width_um",
-    "finger_width_um",
-    "fingers",
     "drawn_w_over_l",
-    "drawn_worst_pull_down_r",
-    "pull_down_error_percent",
-    "drawn_worst_pull_up_r",
-    "pull_up_error_percent",
+    "drawn_width_um",
+    "fingers",
+    "per_finger_width_um",
+    "area_um2",
+    "gate_cap_c",
+    "gate_cap_ff",
 ];
 
 /// Columns of the inputs view, in order.
-pub const INPUT_COLUMNS: [&str; 6] = ["gate", "drive", "method", "input", "input_capacitance", "logical_effort"];
+pub const INPUT_COLUMNS: [&str; 7] =
+    ["gate", "drive", "method", "input", "input_cap_c", "input_cap_ff", "logical_effort"];
 
 /// A number by the one rule of every format ([`crate::number`]).
 fn value(number: f64) -> String {
@@ -79,22 +85,22 @@ fn micrometres(nanometres: f64) -> String {
     value(nanometres / 1000.0)
 }
 
-fn network_cells(network: &NetworkFigures) -> [String; 5] {
+/// Target, worst path, its vector, best case, path count, drawn worst path and its error.
+fn network_cells(network: &NetworkFigures) -> [String; 7] {
     [
         value(network.target_resistance),
         value(network.worst_resistance),
         network.worst_vector.as_ref().map(ToString::to_string).unwrap_or_default(),
         value(network.best_resistance),
         network.path_count.clone(),
+        value(network.drawn_worst_resistance),
+        value(network.drawn_error_percent),
     ]
 }
 
-/// Drawn worst path and its error, pull-down then pull-up.
-fn drawn_cells(gate: &SizedGate) -> Vec<String> {
-    gate.networks
-        .iter()
-        .flat_map(|network| [value(network.drawn_worst_resistance), value(network.drawn_error_percent)])
-        .collect()
+/// The largest and least of some numbers (NaN-free: figures of a sized gate).
+fn extremes(values: impl Iterator<Item = f64>) -> (f64, f64) {
+    values.fold((f64::NEG_INFINITY, f64::INFINITY), |(most, least), v| (most.max(v), least.min(v)))
 }
 
 /// Write the gates in the chosen view.
@@ -117,23 +123,33 @@ fn gates_view(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> csv::Resu
         Rows::Gates => {
             writer.write_record(GATE_COLUMNS)?;
             for gate in gates {
+                let (most_effort, least_effort) = extremes(gate.inputs.iter().map(|i| i.logical_effort));
+                let most_c = extremes(gate.inputs.iter().map(|i| i.input_capacitance)).0;
+                let most_ff = extremes(gate.inputs.iter().map(|i| i.input_capacitance_ff)).0;
                 let mut record = vec![
                     gate.name.clone(),
                     gate.expression.clone(),
                     gate.output.clone(),
                     value(gate.drive),
                     gate.method.name().to_string(),
-                    value(gate.mobility_ratio),
                     gate.transistor_count.to_string(),
+                    value(gate.area_um2),
+                    value(most_c),
+                    value(most_ff),
+                    value(most_effort),
+                    value(least_effort),
+                    value(gate.parasitic_delay),
                     value(gate.total_w_over_l),
                     micrometres(gate.process.width_nm(gate.total_w_over_l)),
-                    value(gate.parasitic_delay),
+                    value(gate.total_drawn_width_um),
+                    micrometres(gate.process.length_nm),
+                    value(gate.mobility_ratio),
+                    value(gate.reference_nmos_w_over_l),
+                    value(gate.reference_pmos_w_over_l),
                 ];
                 for network in &gate.networks {
                     record.extend(network_cells(network));
                 }
-                record.push(value(gate.total_drawn_width_um));
-                record.extend(drawn_cells(gate));
                 record.push(gate.process.name.clone());
                 writer.write_record(&record)?;
             }
@@ -141,11 +157,9 @@ fn gates_view(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> csv::Resu
         Rows::Devices => {
             writer.write_record(DEVICE_COLUMNS)?;
             for gate in gates {
-                let literals = &gate.function.literals;
-                // Transistors come NMOS then PMOS, each in literal order: transistor k is literal k mod n.
-                for (index, transistor) in gate.transistors.iter().enumerate() {
-                    let input = &gate.inputs[literals[index % literals.len()].input];
-                    let mut record = vec![
+                let unit_ff = gate.process.unit_capacitance_ff();
+                for transistor in &gate.transistors {
+                    writer.write_record([
                         gate.name.clone(),
                         value(gate.drive),
                         gate.method.name().to_string(),
@@ -156,21 +170,16 @@ fn gates_view(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> csv::Resu
                         transistor.drain.clone(),
                         transistor.source.clone(),
                         value(transistor.w_over_l),
-                        micrometres(gate.process.width_nm(transistor.w_over_l)),
-                        micrometres(gate.process.length_nm),
-                        value(input.input_capacitance),
-                        value(input.logical_effort),
-                        value(gate.parasitic_delay),
-                        gate.transistor_count.to_string(),
-                        value(gate.networks[0].worst_resistance),
-                        value(gate.networks[1].worst_resistance),
-                        value(transistor.drawn_width_um),
-                        value(transistor.finger_width_um),
-                        transistor.fingers.to_string(),
+                        value(transistor.width_um),
                         value(transistor.drawn_w_over_l),
-                    ];
-                    record.extend(drawn_cells(gate));
-                    writer.write_record(&record)?;
+                        value(transistor.drawn_width_um),
+                        transistor.fingers.to_string(),
+                        value(transistor.finger_width_um),
+                        value(transistor.drawn_width_um * transistor.length_um),
+                        // A device loads its input with its W/L in units of C (docs/model.md section 6).
+                        value(transistor.w_over_l),
+                        value(transistor.w_over_l * unit_ff),
+                    ])?;
                 }
             }
         }
@@ -184,6 +193,7 @@ fn gates_view(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> csv::Resu
                         gate.method.name().to_string(),
                         input.name.clone(),
                         value(input.input_capacitance),
+                        value(input.input_capacitance_ff),
                         value(input.logical_effort),
                     ])?;
                 }
@@ -196,7 +206,8 @@ fn gates_view(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> csv::Resu
 }
 
 /// Columns of the path listing, in order.
-pub const PATH_COLUMNS: [&str; 7] = ["gate", "network", "rank", "resistance", "devices", "vector", "drawn_resistance"];
+pub const PATH_COLUMNS: [&str; 7] =
+    ["gate", "network", "rank", "resistance_r", "devices", "vector", "drawn_resistance_r"];
 
 /// One row per listed path.
 pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {

@@ -142,9 +142,12 @@ pub fn write_table(timing: &Timing, out: &mut dyn Write) -> io::Result<()> {
     Ok(())
 }
 
-/// Columns of the delays view, in order.
-pub const DELAY_COLUMNS: [&str; 21] = [
+/// Columns of the delays view, in order: `_rc` in units of RC, `_ps` picoseconds, `_c` unit gate
+/// capacitances, `_tau` the logical-effort delay unit; `g`, `h`, the ratios and `fanout` are
+/// dimensionless; `diffusion_ratio` and `fanout` are the run's settings, the same on every row.
+pub const DELAY_COLUMNS: [&str; 22] = [
     "gate",
+    "drive",
     "method",
     "input",
     "edge",
@@ -160,10 +163,10 @@ pub const DELAY_COLUMNS: [&str; 21] = [
     "diffusion_ratio",
     "g",
     "h",
-    "p_output_node",
-    "p_elmore",
-    "d_output_node",
-    "d_elmore",
+    "p_output_node_tau",
+    "p_elmore_tau",
+    "d_output_node_tau",
+    "d_elmore_tau",
     "fanout",
 ];
 
@@ -180,6 +183,7 @@ pub fn write_csv<W: Write>(gates: &[SizedGate], writer: &mut csv::Writer<W>) -> 
             let view = &delay.logical_effort_view;
             writer.write_record([
                 gate.name.clone(),
+                number(gate.drive),
                 gate.method.name().to_string(),
                 delay.input.clone(),
                 delay.edge.name().to_string(),

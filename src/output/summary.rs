@@ -8,26 +8,28 @@ use super::{Rows, number};
 use crate::gate::SizedGate;
 
 /// Columns of the gates summary, in order.
-pub const GATE_SUMMARY_COLUMNS: [&str; 11] = [
+pub const GATE_SUMMARY_COLUMNS: [&str; 13] = [
     "gate",
     "expression",
     "drive",
     "method",
     "transistors",
+    "area um2",
     "total W/L",
-    "drawn W um",
+    "max C in",
+    "max g",
+    "min g",
+    "p",
     "pull-down R",
     "pull-up R",
-    "parasitic delay",
-    "logical effort",
 ];
 
 /// Columns of the devices summary, in order.
-pub const DEVICE_SUMMARY_COLUMNS: [&str; 8] =
-    ["gate", "device", "type", "input", "drain", "source", "W/L", "drawn W um"];
+pub const DEVICE_SUMMARY_COLUMNS: [&str; 10] =
+    ["gate", "device", "type", "input", "drain", "source", "W/L", "drawn W um", "fingers", "area um2"];
 
 /// Columns of the inputs summary, in order.
-pub const INPUT_SUMMARY_COLUMNS: [&str; 4] = ["gate", "input", "input capacitance", "logical effort"];
+pub const INPUT_SUMMARY_COLUMNS: [&str; 5] = ["gate", "input", "C in", "C in fF", "g"];
 
 /// Longest expression shown in full; longer ones are cut with `...` (the CSV has them whole).
 pub const EXPRESSION_WIDTH: usize = 40;
@@ -85,19 +87,24 @@ impl SummaryTable {
             match self.rows {
                 Rows::Delays => {}
                 Rows::Gates => {
-                    let efforts: Vec<String> = gate.inputs.iter().map(|i| number(i.logical_effort)).collect();
+                    let efforts = gate.inputs.iter().map(|i| i.logical_effort);
+                    let most_effort = efforts.clone().fold(f64::NEG_INFINITY, f64::max);
+                    let least_effort = efforts.fold(f64::INFINITY, f64::min);
+                    let most_c = gate.inputs.iter().map(|i| i.input_capacitance).fold(f64::NEG_INFINITY, f64::max);
                     self.push([
                         gate.name.clone(),
                         shortened(&gate.expression),
                         number(gate.drive),
                         gate.method.name().to_string(),
                         gate.transistor_count.to_string(),
+                        number(gate.area_um2),
                         number(gate.total_w_over_l),
-                        number(gate.total_drawn_width_um),
+                        number(most_c),
+                        number(most_effort),
+                        number(least_effort),
+                        number(gate.parasitic_delay),
                         number(gate.networks[0].worst_resistance),
                         number(gate.networks[1].worst_resistance),
-                        number(gate.parasitic_delay),
-                        efforts.join(" "),
                     ]);
                 }
                 Rows::Devices => {
@@ -111,6 +118,8 @@ impl SummaryTable {
                             transistor.source.clone(),
                             number(transistor.w_over_l),
                             number(transistor.drawn_width_um),
+                            transistor.fingers.to_string(),
+                            number(transistor.drawn_width_um * transistor.length_um),
                         ]);
                     }
                 }
@@ -120,6 +129,7 @@ impl SummaryTable {
                             gate.name.clone(),
                             input.name.clone(),
                             number(input.input_capacitance),
+                            number(input.input_capacitance_ff),
                             number(input.logical_effort),
                         ]);
                     }
@@ -142,14 +152,16 @@ impl SummaryTable {
     pub fn legend(&self) -> &'static str {
         match self.rows {
             Rows::Gates => {
-                "units: W/L relative to the unit NMOS, width in um; R: worst path, in unit-NMOS on-resistances;\n\
-                 parasitic delay and logical effort (per input, in input order) against the reference inverter"
+                "units: area = drawn W x L summed over the devices, um^2 (channels only: no diffusion, spacing or \
+                 wiring);\nW/L relative to the unit NMOS; C in: the largest input capacitance, in unit-NMOS gate \
+                 capacitances;\ng: logical effort, largest and least over the inputs, and p: parasitic delay, both \
+                 against the\nreference inverter; R: the worst path, in unit-NMOS on-resistances"
             }
-            Rows::Devices => "units: W/L relative to the unit NMOS, width in um",
+            Rows::Devices => "units: W/L relative to the unit NMOS, width in um, area = drawn W x L in um^2",
             Rows::Delays => "",
             Rows::Inputs => {
-                "units: input capacitance in unit-NMOS gate capacitances; logical effort against the reference \
-                 inverter"
+                "units: C in, input capacitance in unit-NMOS gate capacitances and in fF; g, logical effort against \
+                 the reference inverter"
             }
         }
     }
@@ -202,10 +214,28 @@ mod tests {
         assert_eq!(lines.len(), 3);
         let column = lines[0].find("drive").unwrap();
         assert_eq!(&lines[1][column..column + 1], "1");
-        // NAND2 at mu = 2: total W/L 8, g = 4/3 per input (common practice, no source)
-        assert!(lines[1].contains("1.333333333 1.333333333"), "{text}");
-        // AOI21: g = 2, 2, 5/3 (Weste & Harris, logical-effort table; from memory)
-        assert!(lines[2].ends_with("2 2 1.666666667"), "{text}");
+        let cells = |line: &str| line.split_whitespace().map(str::to_string).collect::<Vec<String>>();
+        let header: Vec<&str> = lines[0].split("  ").map(str::trim).filter(|c| !c.is_empty()).collect();
+        assert_eq!(header, GATE_SUMMARY_COLUMNS);
+        let column = |name: &str| GATE_SUMMARY_COLUMNS.iter().position(|c| *c == name).unwrap();
+        // Every column but the expression is one word of the row (the expression of nand2 is "!(a & b)").
+        let row = |line: &str| {
+            let mut found = cells(line);
+            let expression_words = found.len() + 1 - GATE_SUMMARY_COLUMNS.len();
+            let joined = found.drain(1..1 + expression_words).collect::<Vec<_>>().join(" ");
+            found.insert(1, joined);
+            found
+        };
+        // NAND2 at mu = 2: C in 4, g = 4/3 on both inputs, p = 2 (common practice, no source)
+        let nand2 = row(lines[1]);
+        assert_eq!((nand2[column("max C in")].as_str(), nand2[column("p")].as_str()), ("4", "2"), "{text}");
+        assert_eq!(nand2[column("max g")], "1.333333333", "{text}");
+        assert_eq!(nand2[column("min g")], "1.333333333", "{text}");
+        // AOI21: g = 2, 2, 5/3 (Weste & Harris, logical-effort table; from memory): the largest and least
+        let aoi21 = row(lines[2]);
+        assert_eq!((aoi21[column("max g")].as_str(), aoi21[column("min g")].as_str()), ("2", "1.666666667"));
+        // Area of NAND2 on the built-in process (L = 1 um): four devices of W 2 um, 8 um^2 (W x L summed).
+        assert_eq!(nand2[column("area um2")], "8", "{text}");
     }
 
     #[test]

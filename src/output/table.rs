@@ -81,10 +81,10 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
     write_columns(&rows, out)?;
 
     writeln!(out, "\ninputs")?;
-    let mut rows = vec![strings(["input", "input capacitance", "logical effort"])];
-    rows.extend(
-        gate.inputs.iter().map(|i| vec![i.name.clone(), number(i.input_capacitance), number(i.logical_effort)]),
-    );
+    let mut rows = vec![strings(["input", "C in (unit C)", "C in (fF)", "logical effort"])];
+    rows.extend(gate.inputs.iter().map(|i| {
+        vec![i.name.clone(), number(i.input_capacitance), number(i.input_capacitance_ff), number(i.logical_effort)]
+    }));
     write_columns(&rows, out)?;
 
     writeln!(out, "\nnetworks (resistance in units of R, the unit NMOS)")?;
@@ -140,6 +140,7 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
         ],
         vec!["transistors".to_string(), gate.transistor_count.to_string()],
         vec!["total W/L".to_string(), format!("{} ({change})", number(gate.total_w_over_l))],
+        vec!["drawn area".to_string(), format!("{} um^2 (sum of drawn W x L: channels only)", number(gate.area_um2))],
     ];
     write_columns(&rows, out)?;
     if let Some(timing) = &gate.timing {

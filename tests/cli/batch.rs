@@ -146,6 +146,7 @@ fn example_library_matches_single_gate_sizing_row_by_row() {
         // physical width = W/L x the process's unit width (the process file read on its own)
         let total: f64 = row["total_w_over_l"].parse().unwrap();
         assert!(close_as_written(&row["total_width_um"], total * unit_width_um), "{name}: width");
+        assert!(close(&row["length_um"], &length_um.to_string()));
 
         let batch_devices: Vec<_> = devices.iter().filter(|d| &d["gate"] == name).collect();
         let single_devices = size_csv(name, variant, mobility_ratio, Some(&process_file), "devices");
@@ -154,7 +155,6 @@ fn example_library_matches_single_gate_sizing_row_by_row() {
             assert_same_row(batch, single, &format!("{name} {}", single["device"]));
             let w_over_l: f64 = batch["w_over_l"].parse().unwrap();
             assert!(close_as_written(&batch["width_um"], w_over_l * unit_width_um));
-            assert!(close(&batch["length_um"], &length_um.to_string()));
         }
     }
 }
@@ -255,22 +255,118 @@ fn published_figures_come_through_the_batch() {
 #[test]
 fn csv_views_have_the_documented_columns() {
     let library = fixture("batch-published.toml");
-    // The stable column order of each view, as the README lists it.
-    let gates = "gate,expression,output,drive,method,mobility_ratio,transistors,total_w_over_l,total_width_um,\
-                 parasitic_delay,pull_down_target_r,worst_pull_down_r,pull_down_vector,best_pull_down_r,\
-                 pull_down_paths,pull_up_target_r,worst_pull_up_r,pull_up_vector,best_pull_up_r,pull_up_paths,\
-                 total_drawn_width_um,drawn_worst_pull_down_r,pull_down_error_percent,drawn_worst_pull_up_r,\
-                 pull_up_error_percent,process";
-    let devices = "gate,drive,method,device,type,network,input,drain,source,w_over_l,width_um,length_um,\
-                   input_capacitance,logical_effort,parasitic_delay,transistors,worst_pull_down_r,worst_pull_up_r,\
-                   drawn_width_um,finger_width_um,fingers,drawn_w_over_l,drawn_worst_pull_down_r,\
-                   pull_down_error_percent,drawn_worst_pull_up_r,pull_up_error_percent";
-    let inputs = "gate,drive,method,input,input_capacitance,logical_effort";
+    // The column order of each view, as the README lists it.
+    let gates = "gate,expression,output,drive,method,transistors,area_um2,max_input_cap_c,max_input_cap_ff,\
+                 max_logical_effort,min_logical_effort,parasitic_delay,total_w_over_l,total_width_um,\
+                 total_drawn_width_um,length_um,mobility_ratio,reference_nmos_w_over_l,reference_pmos_w_over_l,\
+                 pull_down_target_r,worst_pull_down_r,pull_down_vector,best_pull_down_r,pull_down_paths,\
+                 drawn_worst_pull_down_r,pull_down_error_percent,pull_up_target_r,worst_pull_up_r,pull_up_vector,\
+                 best_pull_up_r,pull_up_paths,drawn_worst_pull_up_r,pull_up_error_percent,process";
+    let devices = "gate,drive,method,device,type,network,input,drain,source,w_over_l,width_um,drawn_w_over_l,\
+                   drawn_width_um,fingers,per_finger_width_um,area_um2,gate_cap_c,gate_cap_ff";
+    let inputs = "gate,drive,method,input,input_cap_c,input_cap_ff,logical_effort";
     for (rows, header) in [("gates", gates), ("devices", devices), ("inputs", inputs)] {
         let (found, records) = batch_csv(&library, rows);
         assert_eq!(found.join(","), header, "{rows}");
         assert!(!records.is_empty());
     }
+}
+
+/// Sum `column` of the rows whose `key` columns equal `keys`.
+fn sum_where(rows: &[HashMap<String, String>], keys: &[(&str, &str)], column: &str) -> f64 {
+    rows.iter()
+        .filter(|row| keys.iter().all(|(key, value)| row[*key] == *value))
+        .map(|row| row[column].parse::<f64>().unwrap_or_else(|_| panic!("{column}: {}", row[column])))
+        .sum()
+}
+
+#[test]
+fn device_columns_sum_to_the_gate_figures_and_the_rest_say_per_finger() {
+    // Published gates, a min-area gate on the tern8 process (0.25 um devices, a 2.5 mobility ratio),
+    // and a drive wide enough to be drawn in fingers (an inverter at drive 100: NMOS 50 um, PMOS
+    // 125 um on that process, in 20 um fingers).
+    let process = example("tern8-process.toml");
+    let text = format!(
+        "process = \"{}\"\n[defaults]\ndrive = [1, 100]\n\n\
+         [[gate]]\nname = \"inv\"\nexpr = \"inv\"\n\n[[gate]]\nname = \"maj\"\nexpr = \"!(a & b | c & (a | b))\"\n\n\
+         [[gate]]\nname = \"n2\"\nexpr = \"nand2\"\n\n\
+         [[gate]]\nname = \"cla\"\nexpr = \"!(g1 | p1 & (g0 | p0 & ci))\"\nmethod = \"min-area\"\n",
+        process.display()
+    );
+    let directory = tempfile::tempdir().unwrap();
+    let library = directory.path().join("cells.toml");
+    std::fs::write(&library, text).unwrap();
+    let (_, gates) = batch_csv(&library, "gates");
+    let (headers, devices) = batch_csv(&library, "devices");
+    let (_, inputs) = batch_csv(&library, "inputs");
+    let output = widthwise().arg("batch").arg(&library).args(["--format", "spice"]).output().unwrap();
+    let netlist = String::from_utf8(output.stdout).unwrap();
+    let process_values: toml::Table = std::fs::read_to_string(&process).unwrap().parse().unwrap();
+    let unit_width_um = process_values["unit_width_nm"].as_float().unwrap() / 1000.0;
+    // Keys to join on, then text; every other column is a number that sums, or says per finger.
+    let keys = ["gate", "drive", "method", "device", "type", "network", "input", "drain", "source"];
+    let mut checked = Vec::new();
+    for gate in &gates {
+        let name = gate["gate"].as_str();
+        let of_gate = [("gate", name)];
+        let gate_number = |column: &str| gate[column].parse::<f64>().unwrap();
+        let agree = |sum: f64, figure: f64, what: &str| {
+            // Each side written to ten significant digits (README, "Numbers"): within 1e-9 relative
+            // per term, summed over at most a few devices.
+            assert!((sum - figure).abs() <= 1e-8 * figure.abs(), "{name}: {what}: sum {sum}, gate {figure}");
+        };
+        // Totals of the gate: the sum over its devices (what a total is; common practice, no source).
+        for (device_column, gate_column) in [
+            ("w_over_l", "total_w_over_l"),
+            ("width_um", "total_width_um"),
+            ("drawn_width_um", "total_drawn_width_um"),
+            ("area_um2", "area_um2"),
+        ] {
+            agree(sum_where(&devices, &of_gate, device_column), gate_number(gate_column), device_column);
+            checked.push(device_column);
+        }
+        // Drawn W/L is drawn width over the unit width: its sum is the total drawn width over it.
+        agree(
+            sum_where(&devices, &of_gate, "drawn_w_over_l") * unit_width_um,
+            gate_number("total_drawn_width_um"),
+            "drawn W/L",
+        );
+        checked.push("drawn_w_over_l");
+        // Fingers sum to the finger stripes the netlist draws: the multiplicities m= of its MOSFETs.
+        let start = netlist.find(&format!(".subckt {name} ")).unwrap();
+        let end = start + netlist[start..].find(".ends").unwrap();
+        let stripes: f64 = netlist[start..end]
+            .split_whitespace()
+            .filter_map(|word| word.strip_prefix("m="))
+            .map(|m| m.parse::<f64>().unwrap())
+            .sum();
+        agree(sum_where(&devices, &of_gate, "fingers"), stripes, "fingers");
+        checked.push("fingers");
+        // Gate capacitance per gate and input: that input's capacitance, in C and in fF (an input's
+        // capacitance is the gate capacitance of the devices it drives; docs/model.md section 6).
+        let mut largest_c = 0.0f64;
+        for input in inputs.iter().filter(|row| row["gate"] == name) {
+            let of_input = [("gate", name), ("input", input["input"].as_str())];
+            for (device_column, input_column) in [("gate_cap_c", "input_cap_c"), ("gate_cap_ff", "input_cap_ff")] {
+                let figure = input[input_column].parse::<f64>().unwrap();
+                agree(sum_where(&devices, &of_input, device_column), figure, device_column);
+            }
+            largest_c = largest_c.max(input["input_cap_c"].parse().unwrap());
+        }
+        agree(largest_c, gate_number("max_input_cap_c"), "max_input_cap_c");
+        checked.extend(["gate_cap_c", "gate_cap_ff"]);
+    }
+    // The majority cell's input a drives four devices: two NMOS of W/L 2 (two-device paths) and two
+    // PMOS on three-device paths ((a | b) in series with (a & b)), 3 x 2.5 each on the tern8
+    // process's mobility ratio: 19 C, not 4 x 19 as a per-device repeat of the total would sum
+    // (longest-path rule, docs/model.md section 5).
+    assert_eq!(sum_where(&devices, &[("gate", "maj_x1"), ("input", "a")], "gate_cap_c"), 19.0);
+    // Per-finger values are named so; no other column is left unchecked.
+    for column in &headers {
+        let known = keys.contains(&column.as_str()) || checked.contains(&column.as_str());
+        assert!(known || column.starts_with("per_finger_"), "device column {column}: neither summed nor per finger");
+    }
+    assert!(devices.iter().any(|row| row["fingers"] != "1"), "some device is drawn in fingers");
 }
 
 #[test]
@@ -388,8 +484,11 @@ fn a_library_that_is_not_utf8_is_refused() {
 fn an_inline_process_table_and_standard_input() {
     let process = std::fs::read_to_string(example("tern8-process.toml")).unwrap();
     let text = format!("[[gate]]\nname = \"n2\"\nexpr = \"nand2\"\n\n[process]\n{process}");
-    let output =
-        widthwise().args(["batch", "-", "--format", "csv", "--rows", "devices"]).write_stdin(text).output().unwrap();
+    let output = widthwise()
+        .args(["batch", "-", "--format", "csv", "--rows", "devices"])
+        .write_stdin(text.clone())
+        .output()
+        .unwrap();
     assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
     let (_, rows) = records(&output.stdout);
     assert_eq!(rows.len(), 4);
@@ -397,7 +496,10 @@ fn an_inline_process_table_and_standard_input() {
     // and physical width = W/L x 0.5 um, L = 0.25 um (the process file's unit width and length)
     assert_eq!((rows[0]["w_over_l"].as_str(), rows[0]["width_um"].as_str()), ("2", "1"));
     assert_eq!((rows[2]["w_over_l"].as_str(), rows[2]["width_um"].as_str()), ("2.5", "1.25"));
-    assert_eq!(rows[0]["length_um"], "0.25");
+    // Area = W x L: 1 um x 0.25 um and 1.25 um x 0.25 um (the drawn widths are on the 5 nm grid already)
+    assert_eq!((rows[0]["area_um2"].as_str(), rows[2]["area_um2"].as_str()), ("0.25", "0.3125"));
+    let gates = widthwise().args(["batch", "-", "--format", "csv"]).write_stdin(text).output().unwrap();
+    assert_eq!(records(&gates.stdout).1[0]["length_um"], "0.25");
 }
 
 #[test]

@@ -58,7 +58,7 @@ fn csv_delay_rows_one_per_input_and_edge() {
     assert!(output.status.success());
     let mut reader = csv::Reader::from_reader(output.stdout.as_slice());
     let headers = reader.headers().unwrap().clone();
-    assert_eq!(&headers[4], "elmore_rc");
+    assert_eq!(&headers[5], "elmore_rc");
     assert_eq!(reader.records().count(), 6);
 }
 
