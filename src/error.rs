@@ -79,6 +79,16 @@ pub enum Error {
     /// A simulation that gave no result.
     #[error(transparent)]
     Simulation(#[from] SimulationError),
+    /// An option given where it does not apply (refused rather than silently ignored).
+    #[error("{option} does not apply {case}: {why}")]
+    NotApplicable {
+        /// The option, as written on the command line.
+        option: &'static str,
+        /// When it does not apply (`with --format json`).
+        case: &'static str,
+        /// Why, and what to do instead.
+        why: &'static str,
+    },
     /// Names in a batch clash: a gate name used twice, or a drive listed twice in one gate (each
     /// clash was reported as it was found); nothing was written.
     #[error("{count} name clash(es) among the gates and their variants (reported above); nothing was written")]
@@ -126,6 +136,7 @@ impl Error {
             | Error::Listing(_)
             | Error::Deck(_)
             | Error::OverBudget(_)
+            | Error::NotApplicable { .. }
             | Error::NameClashes { .. }
             | Error::GatesFailed { .. } => false,
         };

@@ -23,7 +23,8 @@ pub struct GateOptions {
     pub sizing: SizingOptions,
     /// An input to put nearest the output in every series stack.
     pub critical: Option<String>,
-    /// The cell name (defaults to the shorthand, or `cell`).
+    /// The cell name, used as given (default: the shorthand, or `cell`, with the drive:
+    /// `nand2_x1`, `cell_x1p5`).
     pub name: Option<String>,
     /// The process that turns relative sizes into drawn widths (snapping, fingers).
     pub process: Arc<Process>,
@@ -297,9 +298,12 @@ pub fn device_name(kind: NetworkKind, index: usize) -> String {
     name
 }
 
-/// The cell name `options` give a gate: the name given, else the shorthand, else `cell`.
+/// The cell name `options` give a gate: the name given, as given; else the shorthand, or `cell` for
+/// an expression, with the drive as a library's variants carry it (`nand2_x1`, `cell_x2`).
 fn cell_name(function: &GateFunction, options: &GateOptions) -> String {
-    options.name.clone().or_else(|| function.shorthand.clone()).unwrap_or_else(|| "cell".to_string())
+    options.name.clone().unwrap_or_else(|| {
+        crate::names::variant_name(function.shorthand.as_deref().unwrap_or("cell"), options.sizing.drive)
+    })
 }
 
 /// No name that reaches a netlist may be reserved: the cell's, and (for a function read without the

@@ -85,6 +85,14 @@ pub enum OutputError {
         /// What is there instead.
         kind: &'static str,
     },
+    /// The folder the `-o` file would go in does not exist.
+    #[error("cannot write '{}': its folder '{}' does not exist", path.display(), folder.display())]
+    NoFolder {
+        /// The file as given.
+        path: PathBuf,
+        /// Its folder (after following symbolic links).
+        folder: PathBuf,
+    },
     /// Too many symbolic links from the `-o` path.
     #[error("cannot write '{}': more than {MAX_LINKS} symbolic links to follow", path.display())]
     TooManyLinks {
@@ -237,12 +245,16 @@ pub fn write_output(
 /// the process is told to stop (SIGTERM, SIGINT, SIGHUP) while the temporary file exists, the file
 /// is removed and the process then stops the way the signal would have stopped it.
 pub fn write_atomically(path: &Path, write: impl FnOnce(&mut dyn Write) -> io::Result<()>) -> Result<(), OutputError> {
-    let file_error = |source| OutputError::Unwritable { path: path.to_path_buf(), source };
+    // Errors name the user's path, never the temporary file's (which tempfile's errors carry).
+    let file_error = |source| OutputError::Unwritable { path: path.to_path_buf(), source: without_file_name(source) };
     let (target, existing) = output_target(path)?;
     let directory = match target.parent() {
         Some(parent) if !parent.as_os_str().is_empty() => parent,
         _ => Path::new("."),
     };
+    if !directory.exists() {
+        return Err(OutputError::NoFolder { path: path.to_path_buf(), folder: directory.to_path_buf() });
+    }
     let mut builder = tempfile::Builder::new();
     builder.prefix(".widthwise-").suffix(".tmp");
     #[cfg(unix)]
@@ -262,6 +274,18 @@ pub fn write_atomically(path: &Path, write: impl FnOnce(&mut dyn Write) -> io::R
     temporary.as_file().sync_all().map_err(file_error)?;
     cleanup.persist(temporary, &target).map_err(file_error)?;
     Ok(())
+}
+
+/// The operating system's reason for `error`, without the file name a wrapper (tempfile) put in it.
+fn without_file_name(error: io::Error) -> io::Error {
+    let code = error.raw_os_error().or_else(|| {
+        let inner = error.get_ref()?.source()?;
+        inner.downcast_ref::<io::Error>()?.raw_os_error()
+    });
+    match code {
+        Some(code) => io::Error::from_raw_os_error(code),
+        None => error,
+    }
 }
 
 /// Most symbolic links followed from an output path (as many as Linux follows).

@@ -231,7 +231,7 @@ pub struct GatePlan {
 impl GatePlan {
     /// The variant's name: the cell name, `_x` and the drive, `p` for a decimal point.
     pub fn variant_name(&self, drive: f64) -> String {
-        format!("{}_{}", self.name, drive_suffix(drive))
+        names::variant_name(&self.name, drive)
     }
 
     /// Options for one variant.
@@ -253,14 +253,6 @@ impl GatePlan {
         };
         self.problem(message, place)
     }
-}
-
-/// The suffix a drive gives its variant's name: `x1`, `x2`, `x1p5`, `x0p25`.
-///
-/// The drive is written in its shortest exact decimal form, so distinct drives give distinct
-/// suffixes; and since a suffix has no `_`, `<name>_<suffix>` names the gate and drive uniquely.
-pub fn drive_suffix(drive: f64) -> String {
-    format!("x{}", drive.to_string().replace('.', "p"))
 }
 
 /// Where a gate's problem is.
@@ -429,7 +421,7 @@ impl Library {
                         format!(
                             "[defaults]: drive {drive} is listed twice: every gate would get two variants named \
                              <name>_{}",
-                            drive_suffix(drive)
+                            names::drive_suffix(drive)
                         ),
                         Some(span.start..span.end),
                     ));
@@ -497,7 +489,7 @@ impl Library {
 
     /// Names that would clash in the output, each reported at its second use: a gate name used
     /// twice, or a drive listed twice in one gate (two variants of one name). Variants of distinct
-    /// gates cannot clash: `<name>_x<drive>` is unique for distinct names (see [`drive_suffix`]).
+    /// gates cannot clash: `<name>_x<drive>` is unique for distinct names (see [`names::drive_suffix`]).
     pub fn name_clashes(&self) -> Vec<GateProblem> {
         // Netlists ignore case, so `Nand2` and `nand2` would be one subcircuit.
         let mut first: HashMap<String, (usize, &str)> = HashMap::with_capacity(self.gates.len());
@@ -789,10 +781,10 @@ mod tests {
 
     #[test]
     fn drive_suffixes_keep_the_drive() {
-        assert_eq!(drive_suffix(1.0), "x1");
-        assert_eq!(drive_suffix(1.5), "x1p5");
-        assert_eq!(drive_suffix(0.25), "x0p25");
-        assert_eq!(drive_suffix(16.0), "x16");
+        assert_eq!(names::drive_suffix(1.0), "x1");
+        assert_eq!(names::drive_suffix(1.5), "x1p5");
+        assert_eq!(names::drive_suffix(0.25), "x0p25");
+        assert_eq!(names::drive_suffix(16.0), "x16");
     }
 
     #[test]

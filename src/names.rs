@@ -21,6 +21,20 @@ pub fn is_identifier(text: &str) -> bool {
     bytes.next().is_some_and(is_identifier_start) && bytes.all(is_identifier_continue)
 }
 
+/// The suffix a drive gives a cell's name: `x1`, `x2`, `x1p5`, `x0p25`.
+///
+/// The drive is written in its shortest exact decimal form, so distinct drives give distinct
+/// suffixes; and since a suffix has no `_`, `<name>_<suffix>` names the cell and drive uniquely.
+pub fn drive_suffix(drive: f64) -> String {
+    format!("x{}", drive.to_string().replace('.', "p"))
+}
+
+/// A cell's name at a drive: `<base>_x<drive>` (`nand2_x2`, `carry_x1p5`), as a library names each
+/// variant and as a gate sized without `--name` is named.
+pub fn variant_name(base: &str, drive: f64) -> String {
+    format!("{base}_{}", drive_suffix(drive))
+}
+
 /// Names no input, output or cell may take, compared without case: the supply rails of every
 /// netlist (`vdd`, `vss`) and ground (`0`, and `gnd`, which ngspice reads as ground). The names of
 /// the device models in use are reserved too (see [`reserved_reason`]).

@@ -6,7 +6,7 @@ use std::ffi::OsString;
 use clap::ValueEnum;
 
 use super::{DelayArgs, GateArgs, OutputFile, gate_options, process_file, read_gate};
-use crate::delay::{self, DelayOptions};
+use crate::delay::{self, DelayOptions, StackOrder};
 use crate::error::Error;
 use crate::output;
 use crate::sizing::Method;
@@ -30,10 +30,10 @@ pub struct Args {
     /// Where to write.
     #[command(flatten)]
     pub output: OutputFile,
-    /// CSV rows: one per gate, per transistor (with its input's and gate's figures), per input, or
-    /// per input and output edge (delays).
-    #[arg(long, value_enum, default_value_t = Rows::Devices)]
-    pub rows: Rows,
+    /// CSV rows (with --format csv only): one per gate, per transistor, per input, or per input and
+    /// output edge (delays) [default: devices].
+    #[arg(long, value_enum)]
+    pub rows: Option<Rows>,
 }
 
 /// How `size` writes a gate.
@@ -65,7 +65,7 @@ impl From<Format> for output::Format {
 pub enum Rows {
     /// One row per sized gate.
     Gates,
-    /// One row per transistor, with its input's and its gate's figures.
+    /// One row per transistor: the keys to join on and the device's own values.
     Devices,
     /// One row per gate input.
     Inputs,
@@ -84,10 +84,42 @@ impl From<Rows> for output::Rows {
     }
 }
 
+/// Refuse what does not apply to the format asked for: rows where there are none, delay options
+/// where nothing shows delays and they do not change the sizing.
+fn check_applies(args: &Args) -> Result<(), Error> {
+    if args.rows.is_some() && args.format != Format::Csv {
+        return Err(Error::NotApplicable {
+            option: "--rows",
+            case: "with --format table, json or spice",
+            why: "only the CSV has rows (the table shows every section, JSON every figure); add --format csv",
+        });
+    }
+    let sizes_by_delay = args.gate.method == Method::Elmore || args.delay.stack_order == Some(StackOrder::Search);
+    if args.format == Format::Spice && !sizes_by_delay {
+        let given = [
+            (args.delay.delays, "--delays"),
+            (args.delay.fanout.is_some(), "--fanout"),
+            (args.delay.load.is_some(), "--load"),
+            (args.delay.diffusion_ratio.is_some(), "--diffusion-ratio"),
+        ];
+        if let Some((_, option)) = given.into_iter().find(|(given, _)| *given) {
+            return Err(Error::NotApplicable {
+                option,
+                case: "with --format spice",
+                why: "a netlist holds no delays, and the load sizes a gate only with --method elmore or \
+                      --stack-order search; time the gate in the table, JSON or --format csv --rows delays",
+            });
+        }
+    }
+    Ok(())
+}
+
 /// Size the gate (and time it, when a delay option, the elmore method or the delays view asks),
 /// then write it.
 pub fn run(args: Args) -> Result<(), Error> {
+    check_applies(&args)?;
     let Args { expression, gate, delay, format, output, rows } = args;
+    let rows = rows.unwrap_or(Rows::Devices);
     let options = gate_options(&gate)?;
     let text = super::expression_text(&expression)?;
     let sized = if delay.wanted() || gate.method == Method::Elmore || rows == Rows::Delays {

@@ -26,12 +26,12 @@ fn a_deck_measures_every_input_on_both_edges_against_the_reference() {
     ] {
         assert_eq!(text.matches(&format!(".meas tran {measure} ")).count(), 1, "{measure}");
     }
-    // One copy of the gate per transition, one reference per edge.
-    assert_eq!(text.lines().filter(|l| l.starts_with('X') && l.ends_with(" aoi21")).count(), 6);
-    assert_eq!(text.lines().filter(|l| l.starts_with('X') && l.ends_with(" aoi21_reference")).count(), 2);
+    // One copy of the gate per transition, one reference per edge; the cell named with its drive.
+    assert_eq!(text.lines().filter(|l| l.starts_with('X') && l.ends_with(" aoi21_x1")).count(), 6);
+    assert_eq!(text.lines().filter(|l| l.starts_with('X') && l.ends_with(" aoi21_x1_reference")).count(), 2);
     assert!(text.contains(".model nmos NMOS (LEVEL=1 VTO=0.7 KP=100u GAMMA=0 LAMBDA=0)"));
-    assert!(text.contains(".subckt aoi21 a b c y vdd vss"));
-    assert!(text.contains(".subckt aoi21_reference a y vdd vss"));
+    assert!(text.contains(".subckt aoi21_x1 a b c y vdd vss"));
+    assert!(text.contains(".subckt aoi21_x1_reference a y vdd vss"));
     assert!(text.contains("\n.tran "));
     assert!(text.ends_with(".end\n"));
     assert!(!text.contains(".control"));
@@ -46,8 +46,8 @@ fn options_add_diffusion_capacitors_and_a_summary() {
     let text = deck(&["nand2", "--diffusion-capacitance", "--summary"]);
     // NAND2, longest-path: every device 2 um, 1 fF/um. y: MN1, MP1, MP2 drains = 6 fF; n1 is shared
     // by the two series NMOS and counts once = 2 fF. Reference: y = 1 + 2 um = 3 fF.
-    assert!(text.contains("CD1 y vss 6f\nCD2 n1 vss 2f\n.ends nand2\n"), "{text}");
-    assert!(text.contains("CD1 y vss 3f\n.ends nand2_reference\n"), "{text}");
+    assert!(text.contains("CD1 y vss 6f\nCD2 n1 vss 2f\n.ends nand2_x1\n"), "{text}");
+    assert!(text.contains("CD1 y vss 3f\n.ends nand2_x1_reference\n"), "{text}");
     assert!(text.contains(".control\nrun\n"));
     assert!(text.contains("let ratio_a_fall = tpd_a_fall_gate / tpd_fall_ref"));
     assert!(text.contains("quit\n.endc\n.end\n"));

@@ -50,9 +50,46 @@ fn spice_subcircuit_lists_inputs_output_and_rails() {
         .args(["size", "aoi21", "--format", "spice"])
         .assert()
         .success()
-        .stdout(predicate::str::contains(".subckt aoi21 a b c y vdd vss"))
+        .stdout(predicate::str::contains(".subckt aoi21_x1 a b c y vdd vss"))
         .stdout(predicate::str::contains("MN3 y c vss vss nmos W=1u L=1u"))
-        .stdout(predicate::str::contains(".ends aoi21"));
+        .stdout(predicate::str::contains(".ends aoi21_x1"));
+}
+
+#[test]
+fn a_default_cell_name_carries_its_drive_and_a_given_name_is_used_as_given() {
+    // As a library names its variants (<name>_x<drive>, p for a decimal point).
+    for (args, subcircuit) in [
+        (&["nand2", "--drive", "2"][..], ".subckt nand2_x2 a b y vdd vss"),
+        (&["!(a & b)", "--drive", "1.5"], ".subckt cell_x1p5 a b y vdd vss"),
+        (&["!(a & b)"], ".subckt cell_x1 a b y vdd vss"),
+        (&["nand2", "--drive", "2", "--name", "my_nand"], ".subckt my_nand a b y vdd vss"),
+    ] {
+        let output = widthwise().arg("size").args(args).args(["--format", "spice"]).output().unwrap();
+        let text = String::from_utf8(output.stdout).unwrap();
+        assert!(text.contains(subcircuit), "{args:?}: {text}");
+    }
+}
+
+#[test]
+fn options_that_do_not_apply_are_refused() {
+    for (args, message) in [
+        (&["--format", "json", "--rows", "inputs"][..], "--rows does not apply with --format table, json or spice"),
+        (&["--rows", "gates"], "--rows does not apply"),
+        (&["--format", "spice", "--rows", "delays"], "--rows does not apply"),
+        (&["--format", "spice", "--delays"], "--delays does not apply with --format spice"),
+        (&["--format", "spice", "--fanout", "4"], "--fanout does not apply with --format spice"),
+    ] {
+        widthwise()
+            .args(["size", "nand2"])
+            .args(args)
+            .assert()
+            .code(2)
+            .stdout(predicate::str::is_empty())
+            .stderr(predicate::str::contains(message));
+    }
+    // Where the load sizes the gate, it applies to the netlist too.
+    widthwise().args(["size", "nand2", "--format", "spice", "--method", "elmore", "--fanout", "4"]).assert().success();
+    widthwise().args(["size", "nand2", "--format", "csv", "--rows", "inputs"]).assert().success();
 }
 
 #[test]
@@ -135,7 +172,7 @@ fn help_states_the_caution() {
 #[test]
 fn readme_example_is_what_the_tool_prints() {
     let readme = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/README.md")).unwrap();
-    let start = readme.find("aoi21: y = !(a & b | c)").expect("the example in the README");
+    let start = readme.find("aoi21_x1: y = !(a & b | c)").expect("the example in the README");
     let end = start + readme[start..].find("```").unwrap();
     let output = widthwise().args(["size", "aoi21"]).output().unwrap();
     assert_eq!(String::from_utf8(output.stdout).unwrap(), &readme[start..end]);

@@ -155,6 +155,26 @@ fn output_onto_anything_but_a_regular_file_is_refused_and_left_alone() {
 }
 
 #[test]
+fn output_errors_name_the_path_given_not_the_temporary_file() {
+    let directory = tempfile::tempdir().unwrap();
+    let missing = directory.path().join("no-such-folder").join("out.sp");
+    let output = widthwise().args(["size", "nand2", "-o"]).arg(&missing).output().unwrap();
+    assert_eq!(output.status.code(), Some(2));
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    let folder = directory.path().join("no-such-folder");
+    let expected = format!("cannot write '{}': its folder '{}' does not exist", missing.display(), folder.display());
+    assert!(stderr.contains(&expected), "{stderr}");
+    // A folder that is a file: the operating system's reason, with the user's path only.
+    let file = directory.path().join("plain");
+    std::fs::write(&file, "").unwrap();
+    let inside = file.join("out.sp");
+    let output = widthwise().args(["size", "nand2", "-o"]).arg(&inside).output().unwrap();
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    assert!(stderr.contains(&format!("cannot write '{}': ", inside.display())), "{stderr}");
+    assert!(!stderr.contains(".widthwise-"), "the temporary file is never named: {stderr}");
+}
+
+#[test]
 fn output_through_a_symbolic_link_writes_its_target() {
     let directory = tempfile::tempdir().unwrap();
     let target = directory.path().join("cells.sp");
