@@ -30,7 +30,7 @@ use crate::gate::{GateError, GateOptions, SizedGate, size_function};
 use crate::io::InputError;
 use crate::names;
 use crate::process::{Process, ProcessError, ProcessFile};
-use crate::sizing::{Method, SizingOptions};
+use crate::sizing::{Method, Reference, SizingOptions};
 use crate::verify::{self, VerifyOptions};
 
 /// The drive of a gate that neither it nor `[defaults]` sets.
@@ -101,6 +101,71 @@ impl LibraryError {
             LibraryError::ProcessFile { error, file } => message.at_or_within(file, error.span()),
         }
     }
+}
+
+/// What the command line sets for every gate of a library. Precedence: these, then the gate's keys,
+/// then `[defaults]`, then the process file (its mobility ratio), then the built-in defaults.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Overrides {
+    /// A process for every gate: the library's own `process` is then not read.
+    pub process: Option<Arc<Process>>,
+    /// The method of every gate (longest-path or min-area).
+    pub method: Option<Method>,
+    /// The mobility ratio every gate is sized with.
+    pub mobility_ratio: Option<f64>,
+    /// One drive for every gate, in place of the drive lists: each gate becomes one variant.
+    pub drive: Option<f64>,
+    /// The reference inverter of every gate (NMOS and PMOS W/L at drive 1).
+    pub reference: Option<Reference>,
+    /// The series-stack order of every gate (default or written).
+    pub stack_order: Option<StackOrder>,
+}
+
+/// A skewed reference inverter as written: `reference = [N, P]` or `reference = "N:P"`, the NMOS and
+/// PMOS W/L at drive 1.
+#[derive(Debug, Clone, Copy)]
+struct WrittenReference(f64, f64);
+
+impl<'de> Deserialize<'de> for WrittenReference {
+    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<WrittenReference, D::Error> {
+        struct ReferenceVisitor;
+        impl<'de> Visitor<'de> for ReferenceVisitor {
+            type Value = WrittenReference;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str(
+                    "the reference inverter's NMOS and PMOS W/L, as [N, P] such as [1, 3] or \"N:P\" such as \"1:3\"",
+                )
+            }
+            fn visit_str<E: serde::de::Error>(self, text: &str) -> Result<WrittenReference, E> {
+                let pair =
+                    text.split_once(':').and_then(|(n, p)| Some((n.trim().parse().ok()?, p.trim().parse().ok()?)));
+                pair.map(|(n, p)| WrittenReference(n, p))
+                    .ok_or_else(|| E::invalid_value(serde::de::Unexpected::Str(text), &self))
+            }
+            fn visit_seq<A: SeqAccess<'de>>(self, mut seq: A) -> Result<WrittenReference, A::Error> {
+                let mut values = Vec::with_capacity(2);
+                while let Some(value) = seq.next_element::<f64>()? {
+                    values.push(value);
+                }
+                match values[..] {
+                    [n, p] => Ok(WrittenReference(n, p)),
+                    _ => Err(serde::de::Error::invalid_length(values.len(), &self)),
+                }
+            }
+        }
+        deserializer.deserialize_any(ReferenceVisitor)
+    }
+}
+
+/// Check a written reference: both W/L within [`bounds::SIZING`].
+fn check_reference(written: &Spanned<WrittenReference>) -> Result<Reference, (String, Span)> {
+    let WrittenReference(nmos, pmos) = *written.get_ref();
+    for (what, value) in [("NMOS", nmos), ("PMOS", pmos)] {
+        bounds::SIZING.check(value).map_err(|why| {
+            (format!("reference: the {what} W/L {} {why}", bounds::show(value)), to_span(written.span()))
+        })?;
+    }
+    Ok(Reference { nmos, pmos })
 }
 
 /// One drive or a list of them, as written.
@@ -179,6 +244,7 @@ struct DefaultsEntry {
     stack_order: Option<Spanned<StackOrder>>,
     drive: Option<Spanned<Drives>>,
     mobility_ratio: Option<Spanned<f64>>,
+    reference: Option<Spanned<WrittenReference>>,
 }
 
 /// One `[[gate]]` as written.
@@ -191,6 +257,7 @@ struct GateEntry {
     stack_order: Option<Spanned<StackOrder>>,
     drive: Option<Spanned<Drives>>,
     critical: Option<Spanned<String>>,
+    reference: Option<Spanned<WrittenReference>>,
 }
 
 /// Where an expression's text is in the file.
@@ -223,6 +290,9 @@ pub struct GatePlan {
     pub critical: Option<String>,
     /// Series-stack order: the default rule or as written.
     pub stack_order: StackOrder,
+    /// A skewed reference inverter (NMOS and PMOS W/L at drive 1); `None`: balanced, 1 and the
+    /// mobility ratio.
+    pub reference: Option<Reference>,
     name_span: Span,
     expression_place: ExpressionPlace,
     critical_span: Option<Span>,
@@ -236,7 +306,7 @@ impl GatePlan {
 
     /// Options for one variant.
     fn options(&self, drive: f64, process: &Arc<Process>) -> GateOptions {
-        let sizing = SizingOptions::new(self.method, self.mobility_ratio, drive, None);
+        let sizing = SizingOptions::new(self.method, self.mobility_ratio, drive, self.reference);
         GateOptions::cell(sizing, self.critical.clone(), Some(self.variant_name(drive)), Arc::clone(process))
     }
 
@@ -356,9 +426,16 @@ fn verbatim_start(text: &str, span: Range<usize>, value: &str) -> Option<usize> 
 
 impl Library {
     /// Read a library file, `source` (whose origin names it in messages); a relative process path
-    /// is read from `directory`, through `read_file`. A TOML error, an unknown top-level key, a bad
-    /// `[defaults]` or a bad process stops here; a bad gate becomes that gate's [`GateProblem`].
-    pub fn read(source: &Source, directory: &Path, read_file: &mut ReadFile<'_>) -> Result<Library, LibraryError> {
+    /// is read from `directory` (none: a library on standard input without a stated folder, where a
+    /// relative path is refused), through `read_file`. `overrides` (the command line) come before
+    /// every key of the file. A TOML error, an unknown top-level key, a bad `[defaults]` or a bad
+    /// process stops here; a bad gate becomes that gate's [`GateProblem`].
+    pub fn read(
+        source: &Source,
+        directory: Option<&Path>,
+        overrides: &Overrides,
+        read_file: &mut ReadFile<'_>,
+    ) -> Result<Library, LibraryError> {
         let document = DeTable::parse(source.text()).map_err(|e| {
             let span = e.span().map(to_span);
             let (message, span) = crate::diagnostic::toml_error_place(source.text(), e.message(), span);
@@ -386,9 +463,10 @@ impl Library {
                 Some(span),
             ));
         }
-        let process = match process {
-            None => Process::default(),
-            Some(value) => read_process(directory, read_file, value)?,
+        let process = match (&overrides.process, process) {
+            (Some(given), _) => Arc::clone(given),
+            (None, None) => Arc::new(Process::default()),
+            (None, Some(value)) => Arc::new(read_process(directory, read_file, value)?),
         };
         let defaults = match defaults {
             None => DefaultsEntry::default(),
@@ -400,9 +478,10 @@ impl Library {
                     .map_err(|e| LibraryError::at(format!("[defaults]: {}", e.message().trim()), e.span()))?
             }
         };
-        let mobility_ratio = match &defaults.mobility_ratio {
-            None => process.mobility_ratio,
-            Some(written) => {
+        let mobility_ratio = match (overrides.mobility_ratio, &defaults.mobility_ratio) {
+            (Some(given), _) => given,
+            (None, None) => process.mobility_ratio,
+            (None, Some(written)) => {
                 let value = *written.get_ref();
                 bounds::SIZING.check(value).map_err(|why| {
                     let value = bounds::show(value);
@@ -436,11 +515,19 @@ impl Library {
             }
             None => StackOrder::Default,
         };
+        let reference = match &defaults.reference {
+            Some(written) => Some(check_reference(written).map_err(|(message, span)| {
+                LibraryError::at(format!("[defaults]: {message}"), Some(span.start..span.end))
+            })?),
+            None => None,
+        };
         let common = Common {
             method: defaults.method.unwrap_or(DEFAULT_METHOD),
             stack_order,
             mobility_ratio,
             drives: default_drives,
+            reference,
+            overrides: overrides.clone(),
         };
 
         let mut entries = match gates {
@@ -469,7 +556,7 @@ impl Library {
                 None,
             ));
         }
-        Ok(Library { process: Arc::new(process), mobility_ratio, gates })
+        Ok(Library { process, mobility_ratio, gates })
     }
 
     /// The work units of verifying every variant ([`verify::verify_work`]), from each gate's inputs and
@@ -531,23 +618,43 @@ impl Library {
     }
 }
 
-/// What `[defaults]` and the process give every gate.
+/// What `[defaults]` and the process give every gate, and what the command line sets over all.
 struct Common {
     method: Method,
     stack_order: StackOrder,
     mobility_ratio: f64,
     drives: Vec<(f64, Span)>,
+    reference: Option<Reference>,
+    overrides: Overrides,
 }
 
+/// The option of `batch` that states the folder of a library read from standard input.
+pub const BASE_DIR_OPTION: &str = "--base-dir";
+
 fn read_process(
-    directory: &Path,
+    directory: Option<&Path>,
     read_file: &mut ReadFile<'_>,
     value: Spanned<DeValue<'_>>,
 ) -> Result<Process, LibraryError> {
     let span = value.span();
     match value.get_ref() {
         DeValue::String(path) => {
-            let path = directory.join(path.as_ref());
+            let written = Path::new(path.as_ref());
+            let path = match directory {
+                Some(directory) => directory.join(written),
+                None if written.is_absolute() => written.to_path_buf(),
+                None => {
+                    return Err(LibraryError::at(
+                        format!(
+                            "process = \"{}\" is a relative path, and a library read from standard input has no \
+                             folder to resolve it against: give {BASE_DIR_OPTION} DIR (the folder the path is \
+                             relative to), write an absolute path, or give the process with --process FILE",
+                            escaped(path)
+                        ),
+                        Some(span),
+                    ));
+                }
+            };
             let text = read_file(&path)
                 .map_err(|error| LibraryError::ProcessUnreadable { error, span: Span::from(span.clone()) })?;
             Process::from_toml(&text).map_err(|error| LibraryError::ProcessFile {
@@ -603,20 +710,29 @@ fn read_gate_entry(
     if let Some(why) = names::reserved_reason(name, &[]) {
         return Err(problem(GateError::ReservedCellName { name: name.clone(), why }.to_string(), name_span));
     }
-    let (drives, drive_spans) = match &gate.drive {
-        None => common.drives.iter().copied().unzip(),
-        Some(written) => check_drives(written).map_err(|(message, span)| problem(message, span))?.into_iter().unzip(),
+    let (drives, drive_spans) = match (common.overrides.drive, &gate.drive) {
+        (Some(drive), _) => (vec![drive], vec![name_span]),
+        (None, None) => common.drives.iter().copied().unzip(),
+        (None, Some(written)) => {
+            check_drives(written).map_err(|(message, span)| problem(message, span))?.into_iter().unzip()
+        }
     };
-    let method = gate.method.unwrap_or(common.method);
+    let method = common.overrides.method.or(gate.method).unwrap_or(common.method);
     if method == Method::Elmore {
         return Err(problem(ELMORE_IN_A_LIBRARY.to_string(), name_span));
     }
-    let stack_order = match &gate.stack_order {
-        Some(order) => {
+    let stack_order = match (common.overrides.stack_order, &gate.stack_order) {
+        (Some(order), _) => order,
+        (None, Some(order)) => {
             check_stack_order(order).map_err(|message| problem(message, to_span(order.span())))?;
             *order.get_ref()
         }
-        None => common.stack_order,
+        (None, None) => common.stack_order,
+    };
+    let reference = match (common.overrides.reference, &gate.reference) {
+        (Some(reference), _) => Some(reference),
+        (None, Some(written)) => Some(check_reference(written).map_err(|(message, span)| problem(message, span))?),
+        (None, None) => common.reference,
     };
     let expression = gate.expr.get_ref().clone();
     let expression_place = ExpressionPlace {
@@ -634,6 +750,7 @@ fn read_gate_entry(
         critical_span: gate.critical.as_ref().map(|c| to_span(c.span())),
         critical: gate.critical.map(Spanned::into_inner),
         stack_order,
+        reference,
         name_span,
         expression_place,
     })
@@ -757,7 +874,7 @@ mod tests {
     }
 
     fn read(source: &Source) -> Result<Library, LibraryError> {
-        Library::read(source, Path::new("."), &mut read_file)
+        Library::read(source, Some(Path::new(".")), &Overrides::default(), &mut read_file)
     }
 
     fn library(text: &str) -> Library {

@@ -72,7 +72,12 @@ pub fn batch_file(text: &str) {
     let mut no_files = |path: &std::path::Path| {
         Err(InputError::Unreadable { path: path.to_path_buf(), source: std::io::ErrorKind::NotFound.into() })
     };
-    match Library::read(&source, std::path::Path::new("."), &mut no_files) {
+    match Library::read(
+        &source,
+        Some(std::path::Path::new(".")),
+        &widthwise::library::Overrides::default(),
+        &mut no_files,
+    ) {
         Ok(library) => {
             let mut diagnostics = Vec::new();
             let outcome =

@@ -7,36 +7,49 @@ use std::path::{Path, PathBuf};
 
 use clap::ValueEnum;
 
-use super::{OutputFile, estimates_note, exit_codes_line, work_budget};
+use std::sync::Arc;
+
+use super::{OutputFile, SizingArgs, estimates_note, exit_codes_line, work_budget};
 use crate::budget::{DEFAULT_WORK_BUDGET, Estimate, Meter, Work};
+use crate::delay::StackOrder;
 use crate::diagnostic::Source;
 use crate::error::Error;
 use crate::io::{Diagnostics, diagnose};
-use crate::library::{GateProblem, Library, MAX_LIBRARY_BYTES, Outcome, size_all};
+use crate::library::{GateProblem, Library, MAX_LIBRARY_BYTES, Outcome, Overrides, size_all};
 use crate::output::batch::{BatchWriter, Heading};
 use crate::output::{self};
 use crate::process::MAX_PROCESS_FILE_BYTES;
+use crate::sizing::Method;
 use crate::verify::VerifyOptions;
 
 /// Help shown after `widthwise batch --help`.
 pub const AFTER_HELP: &str = concat!(
     "\
 The library file (TOML):
-  process = \"PATH\"          optional: a process file, relative to the library file; or a [process]
-                            table with the process file's keys. Default: the built-in process.
+  process = \"PATH\"          optional: a process file, relative to the library file (on standard
+                            input: relative to --base-dir DIR, else refused); or a [process] table
+                            with the process file's keys. Default: the built-in process.
   [defaults]                optional: method, drive (a number or a list such as [1, 2, 4]),
                             stack_order (\"default\" or \"written\"), mobility_ratio (default: the
-                            process's).
+                            process's), reference (a skewed reference inverter, NMOS and PMOS W/L
+                            at drive 1: [1, 3] or \"1:3\"; default: balanced, [1, mobility ratio]).
   [[gate]]                  one per cell: name (an identifier), expr (an expression or a shorthand
                             such as nand2), and optional method, drive (number or list), critical
-                            (the input to place nearest the output), stack_order.
+                            (the input to place nearest the output), stack_order, reference.
 Each drive of a gate is one variant, named <name>_x<drive> with p for a decimal point (nand2_x1p5):
 at most 100000 drives per gate and 200000 variants per library, checked before any gate is sized.
+A high- or low-skew family is a set of gates with names of their own and a reference each.
+
+Precedence: the command line (--process, --method, --mobility-ratio, --drive, --reference,
+--stack-order) over the gate's keys, over [defaults], over the process file (its mobility ratio),
+over the built-in defaults. --drive D replaces every drive list: each gate becomes the one variant
+<name>_x<D>. --process FILE replaces the library's process (its process key is not read).
+
 --verify checks every variant within --work-budget UNITS (default 2^30 = 1073741824): vectors / 64 x
 input occurrences, summed over the variants, counted before anything is written.
 
-Rows: --rows gates (default), devices or inputs choose the table's and the CSV's rows; JSON has
-every figure of every variant; --format spice writes one .subckt per variant.
+Rows: --rows gates (default), devices or inputs choose the table's and the CSV's rows (refused with
+JSON, which has every figure of every variant, and SPICE, one .subckt per variant).
 
 Errors: a bad gate is reported on stderr with its name, line and column and the others are still
 written (exit 2). A TOML error, a bad process or [defaults], a duplicate name or two variants with the
@@ -59,23 +72,45 @@ pub struct Args {
     /// regular file (a FIFO, a device or process substitution, <(...), is refused), or - to read
     /// it from standard input.
     pub library: PathBuf,
+    /// Sizing for every gate, over the library's keys (see Precedence below).
+    #[command(flatten)]
+    pub sizing: SizingArgs,
+    /// Series-stack order of every gate, over the library's keys: default (a gate's critical input,
+    /// else the least diffusion facing the output, nearest the output) or written.
+    #[arg(long, value_enum, value_name = "ORDER")]
+    pub stack_order: Option<LibraryStackOrder>,
+    /// With a library on standard input (-): the folder its relative process path is relative to.
+    /// Without it such a path is refused (a library file's path is relative to the file's folder).
+    #[arg(long, value_name = "DIR")]
+    pub base_dir: Option<PathBuf>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
     /// Where to write.
     #[command(flatten)]
     pub output: OutputFile,
-    /// Rows of the table and the CSV: one per gate variant, per transistor or per input.
-    #[arg(long, value_enum, default_value_t = Rows::Gates)]
-    pub rows: Rows,
+    /// Rows of the table and the CSV: one per gate variant, per transistor or per input
+    /// [default: gates].
+    #[arg(long, value_enum)]
+    pub rows: Option<Rows>,
     /// Also prove every variant's netlist on its input vectors, as 'widthwise verify' does; a
     /// variant that fails is reported on stderr (and still written), and the exit code is 1.
     #[arg(long)]
     pub verify: bool,
     /// The work budget, in work units, of --verify over the whole library (vectors / 64 x input
-    /// occurrences, summed over every variant); past it nothing is written, exit 2.
-    #[arg(long, value_name = "UNITS", default_value_t = DEFAULT_WORK_BUDGET, value_parser = work_budget)]
-    pub work_budget: u64,
+    /// occurrences, summed over every variant); past it nothing is written, exit 2 [default:
+    /// 1073741824].
+    #[arg(long, value_name = "UNITS", value_parser = work_budget, requires = "verify")]
+    pub work_budget: Option<u64>,
+}
+
+/// The stack orders a library takes (the search times every order: one gate at a time, by `size`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum LibraryStackOrder {
+    /// The critical input, else the least diffusion width facing the output, nearest the output.
+    Default,
+    /// As the expression writes the series members, the first nearest the output.
+    Written,
 }
 
 /// How `batch` writes a library.
@@ -125,8 +160,8 @@ impl From<Rows> for output::Rows {
 }
 
 /// Read the library file at `path` (`-`: standard input): its text, named as messages name it, and
-/// the directory a relative process path starts from.
-fn read_library(path: &Path) -> Result<(Source, PathBuf), Error> {
+/// the directory a relative process path starts from (on standard input: `base`, if given).
+fn read_library(path: &Path, base: Option<&Path>) -> Result<(Source, Option<PathBuf>), Error> {
     let from_stdin = path.as_os_str() == "-";
     let origin = if from_stdin { "standard input".to_string() } else { path.display().to_string() };
     let what = format!("the library file '{origin}'");
@@ -139,17 +174,62 @@ fn read_library(path: &Path) -> Result<(Source, PathBuf), Error> {
     };
     let text = crate::io::utf8_text(bytes, &what)?;
     let directory = match path.parent() {
-        Some(parent) if !from_stdin && !parent.as_os_str().is_empty() => parent.to_path_buf(),
-        _ => PathBuf::from("."),
+        _ if from_stdin => base.map(Path::to_path_buf),
+        Some(parent) if !parent.as_os_str().is_empty() => Some(parent.to_path_buf()),
+        _ => Some(PathBuf::from(".")),
     };
     Ok((Source::file(origin, text), directory))
 }
 
-/// Read a library from `source`, a relative process path from `directory` (process files through
-/// the I/O layer).
-pub fn read(source: &Source, directory: &Path) -> Result<Library, Error> {
+/// Read a library from `source`, a relative process path from `directory` (none: refused), the
+/// command line's `overrides` first (process files through the I/O layer).
+pub fn read(source: &Source, directory: Option<&Path>, overrides: &Overrides) -> Result<Library, Error> {
     let mut read_file = |path: &Path| crate::io::read_text(path, MAX_PROCESS_FILE_BYTES, "the process file");
-    Library::read(source, directory, &mut read_file).map_err(|error| Error::Library { error, file: source.clone() })
+    Library::read(source, directory, overrides, &mut read_file)
+        .map_err(|error| Error::Library { error, file: source.clone() })
+}
+
+/// Refuse what does not apply, and gather the command line's overrides of the library's keys.
+fn overrides(args: &Args) -> Result<Overrides, Error> {
+    if args.rows.is_some() && matches!(args.format, Format::Json | Format::Spice) {
+        return Err(Error::NotApplicable {
+            option: "--rows",
+            case: "with --format json or spice",
+            why: "only the table and the CSV have rows (JSON has every figure of every variant, SPICE a .subckt \
+                  per variant)",
+        });
+    }
+    if args.base_dir.is_some() && args.library.as_os_str() != "-" {
+        return Err(Error::NotApplicable {
+            option: "--base-dir",
+            case: "to a library file",
+            why: "a library file's relative process path is relative to the file's own folder; --base-dir states \
+                  it for a library read from standard input (-)",
+        });
+    }
+    if args.sizing.method == Some(Method::Elmore) {
+        return Err(Error::NotApplicable {
+            option: "--method elmore",
+            case: "to a library",
+            why: "the elmore method sizes against a load, which a library does not give: use longest-path or \
+                  min-area, or size the gate with 'widthwise size --method elmore --fanout H'",
+        });
+    }
+    let process = match &args.sizing.process {
+        Some(_) => Some(Arc::new(args.sizing.read_process()?)),
+        None => None,
+    };
+    Ok(Overrides {
+        process,
+        method: args.sizing.method,
+        mobility_ratio: args.sizing.mobility_ratio,
+        drive: args.sizing.drive,
+        reference: args.sizing.reference,
+        stack_order: args.stack_order.map(|order| match order {
+            LibraryStackOrder::Default => StackOrder::Default,
+            LibraryStackOrder::Written => StackOrder::Written,
+        }),
+    })
 }
 
 /// Size the library and write it in `format` (`rows` for table and CSV) to `out`, each bad gate to
@@ -179,9 +259,11 @@ pub fn write_batch(
 /// Read the library, refuse name clashes and (with `--verify`) verification past its work budget
 /// before any output, size and write.
 pub fn run(args: Args) -> Result<(), Error> {
-    let verify = args.verify.then_some(VerifyOptions { work_budget: args.work_budget, ..VerifyOptions::default() });
-    let (source, directory) = read_library(&args.library)?;
-    let library = read(&source, &directory)?;
+    let overrides = overrides(&args)?;
+    let work_budget = args.work_budget.unwrap_or(DEFAULT_WORK_BUDGET);
+    let verify = args.verify.then_some(VerifyOptions { work_budget, ..VerifyOptions::default() });
+    let (source, directory) = read_library(&args.library, args.base_dir.as_deref())?;
+    let library = read(&source, directory.as_deref(), &overrides)?;
     let clashes = library.name_clashes();
     if !clashes.is_empty() {
         for clash in &clashes {
@@ -192,7 +274,7 @@ pub fn run(args: Args) -> Result<(), Error> {
     if let Some(options) = &verify {
         Meter::new(options.work_budget).require(library.verify_work(options), Estimate::Exactly, Work::Verify)?;
     }
-    let (format, rows) = (args.format.into(), args.rows.into());
+    let (format, rows) = (args.format.into(), args.rows.unwrap_or(Rows::Gates).into());
     let mut outcome = Outcome::default();
     crate::io::write_output(args.output.output.as_deref(), |out| {
         // Gates are sized one after another, so each verification may use every core.
@@ -228,7 +310,7 @@ mod tests {
         }
         let source =
             Source::file("lib.toml", "[[gate]]\nname = \"g\"\nexpr = \"nand8\"\ndrive = [1, 2, 3, 4, 5, 6, 7, 8]\n");
-        let library = read(&source, Path::new(".")).unwrap();
+        let library = read(&source, Some(Path::new(".")), &Overrides::default()).unwrap();
         let error = write_batch(
             &library,
             &source,

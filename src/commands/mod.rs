@@ -92,24 +92,55 @@ with 625 paths). At the budget each takes a few seconds.
     estimates_note!()
 );
 
-/// Options that say how a gate is sized.
-#[derive(Debug, Clone, Args)]
-pub struct GateArgs {
+/// The sizing options `size`, `paths`, `deck`, `verify` and `batch` share: method, mobility ratio,
+/// drive, reference inverter and process. Each is optional, so that `batch` can tell a value given
+/// on the command line (which wins over the library's keys) from one left to the file.
+#[derive(Debug, Clone, Default, Args)]
+pub struct SizingArgs {
     /// Sizing method: longest-path (each device: reference W/L x devices on the longest path through
     /// it), min-area (least total W/L with every path at the target) or elmore (least total W/L with
-    /// every worst-case Elmore delay at most the reference inverter's driving the same load).
-    #[arg(long, value_enum, default_value_t = Method::LongestPath)]
-    pub method: Method,
+    /// every worst-case Elmore delay at most the reference inverter's driving the same load; not in
+    /// a library) [default: longest-path].
+    #[arg(long, value_enum)]
+    pub method: Option<Method>,
     /// Mobility ratio mu_n / mu_p (real processes run about 2 to 3) [default: the process's, 2 for
     /// the built-in one].
     #[arg(long, value_name = "MU", value_parser = positive_number, allow_hyphen_values = true)]
     pub mobility_ratio: Option<f64>,
-    /// Drive strength: multiple of the unit reference inverter.
-    #[arg(long, value_name = "D", default_value_t = 1.0, value_parser = positive_number, allow_hyphen_values = true)]
-    pub drive: f64,
-    /// A skewed reference inverter: its NMOS and PMOS W/L at drive 1, as N:P (default 1:MU, balanced).
+    /// Drive strength: multiple of the unit reference inverter [default: 1].
+    #[arg(long, value_name = "D", value_parser = positive_number, allow_hyphen_values = true)]
+    pub drive: Option<f64>,
+    /// A skewed reference inverter: its NMOS and PMOS W/L at drive 1, as N:P [default: 1:MU, balanced].
     #[arg(long, value_name = "N:P", value_parser = reference_inverter, allow_hyphen_values = true)]
     pub reference: Option<Reference>,
+    /// A process file (TOML): length, unit width, grid, minimum and maximum finger width, mobility
+    /// ratio and device values (default: the built-in process; 'widthwise process' prints it). A
+    /// regular file: a FIFO, a device or process substitution <(...) is refused.
+    #[arg(long, value_name = "FILE")]
+    pub process: Option<PathBuf>,
+}
+
+impl SizingArgs {
+    /// The method given, else longest-path.
+    pub fn method(&self) -> Method {
+        self.method.unwrap_or(Method::LongestPath)
+    }
+
+    /// The process of `--process`, or the built-in one.
+    pub fn read_process(&self) -> Result<Process, Error> {
+        match &self.process {
+            Some(path) => read_process(path),
+            None => Ok(Process::default()),
+        }
+    }
+}
+
+/// Options that say how a gate is sized.
+#[derive(Debug, Clone, Args)]
+pub struct GateArgs {
+    /// Method, mobility ratio, drive, reference inverter, process.
+    #[command(flatten)]
+    pub sizing: SizingArgs,
     /// An input to place nearest the output in every series stack (default: the member with the least
     /// diffusion width facing the output goes there; ties keep the written order).
     #[arg(long, value_name = "INPUT")]
@@ -118,11 +149,6 @@ pub struct GateArgs {
     /// (vdd, vss, gnd, 0, the model names in use).
     #[arg(long, value_name = "NAME", value_parser = cell_name)]
     pub name: Option<String>,
-    /// A process file (TOML): length, unit width, grid, minimum and maximum finger width, mobility
-    /// ratio and device values (default: the built-in process; 'widthwise process' prints it). A
-    /// regular file: a FIFO, a device or process substitution <(...) is refused.
-    #[arg(long, value_name = "FILE")]
-    pub process: Option<PathBuf>,
     /// The work budget, in work units, of each long computation: the elmore method's solver, timing
     /// the delays with the stack-order search, verification (what a unit is: 'Limits' below). Past
     /// it the command stops before any output, exit 2.
@@ -202,25 +228,24 @@ pub struct OutputFile {
 /// Gate options from the command line: the process from `--process` (or the built-in one), and the
 /// mobility ratio from `--mobility-ratio` if given, else from the process.
 pub fn gate_options(args: &GateArgs) -> Result<GateOptions, Error> {
-    let process = match &args.process {
-        Some(path) => read_process(path)?,
-        None => Process::default(),
-    };
-    let mobility_ratio = args.mobility_ratio.unwrap_or(process.mobility_ratio);
-    let sizing = SizingOptions::new(args.method, mobility_ratio, args.drive, args.reference);
+    let given = &args.sizing;
+    let process = given.read_process()?;
+    let mobility_ratio = given.mobility_ratio.unwrap_or(process.mobility_ratio);
+    let drive = given.drive.unwrap_or(1.0);
+    let sizing = SizingOptions::new(given.method(), mobility_ratio, drive, given.reference);
     Ok(GateOptions::cell(sizing, args.critical.clone(), args.name.clone(), Arc::new(process)))
 }
 
 /// The process of `--process`, if it was given (the built-in one is not a process file).
 pub fn process_file<'a>(args: &GateArgs, options: &'a GateOptions) -> Option<&'a Process> {
-    args.process.as_ref().map(|_| &*options.process)
+    args.sizing.process.as_ref().map(|_| &*options.process)
 }
 
 /// What `paths`, `deck` and `verify` size the elmore method with: fan-out 1 and the default
 /// diffusion ratio (the `--process` file's, else 1); the other methods need no delay options.
 pub fn sizing_delay(args: &GateArgs, options: &GateOptions) -> Result<DelayOptions, DelayError> {
     let mut delay = DelayOptions { work_budget: args.work_budget, ..DelayOptions::default() };
-    if args.method == Method::Elmore {
+    if args.sizing.method() == Method::Elmore {
         delay.diffusion_ratio = delay::default_diffusion_ratio(process_file(args, options))?;
     }
     Ok(delay)

@@ -94,7 +94,8 @@ fn check_applies(args: &Args) -> Result<(), Error> {
             why: "only the CSV has rows (the table shows every section, JSON every figure); add --format csv",
         });
     }
-    let sizes_by_delay = args.gate.method == Method::Elmore || args.delay.stack_order == Some(StackOrder::Search);
+    let sizes_by_delay =
+        args.gate.sizing.method() == Method::Elmore || args.delay.stack_order == Some(StackOrder::Search);
     if args.format == Format::Spice && !sizes_by_delay {
         let given = [
             (args.delay.delays, "--delays"),
@@ -122,7 +123,7 @@ pub fn run(args: Args) -> Result<(), Error> {
     let rows = rows.unwrap_or(Rows::Devices);
     let options = gate_options(&gate)?;
     let text = super::expression_text(&expression)?;
-    let sized = if delay.wanted() || gate.method == Method::Elmore || rows == Rows::Delays {
+    let sized = if delay.wanted() || gate.sizing.method() == Method::Elmore || rows == Rows::Delays {
         let delay = DelayOptions { work_budget: gate.work_budget, ..delay.options(process_file(&gate, &options))? };
         let function = read_gate(&text, &options, &delay)?;
         delay::size_and_time(&function, &options, &delay, Some(&options.process))?

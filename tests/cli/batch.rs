@@ -369,6 +369,148 @@ fn device_columns_sum_to_the_gate_figures_and_the_rest_say_per_finger() {
     assert!(devices.iter().any(|row| row["fingers"] != "1"), "some device is drawn in fingers");
 }
 
+/// The gates-view row of `variant` in a batch of `library` (on standard input) with `args`.
+fn batch_row(library: &str, args: &[&str], variant: &str) -> HashMap<String, String> {
+    let output = widthwise().args(["batch", "-", "--format", "csv"]).args(args).write_stdin(library).output().unwrap();
+    assert!(output.status.success(), "{args:?}: {}", String::from_utf8_lossy(&output.stderr));
+    let (_, rows) = records(&output.stdout);
+    rows.into_iter().find(|row| row["gate"] == variant).unwrap_or_else(|| panic!("{variant} in {args:?}"))
+}
+
+/// The gates-view row of `widthwise size` with `args`.
+fn size_row(args: &[&str]) -> HashMap<String, String> {
+    let output = widthwise().arg("size").args(args).args(["--format", "csv", "--rows", "gates"]).output().unwrap();
+    assert!(output.status.success(), "{args:?}: {}", String::from_utf8_lossy(&output.stderr));
+    records(&output.stdout).1.remove(0)
+}
+
+#[test]
+fn the_command_line_comes_before_gate_keys_before_defaults_before_the_process() {
+    let process = example("tern8-process.toml");
+    let process = process.to_str().unwrap();
+    let library = format!(
+        "process = \"{process}\"\n[defaults]\nmethod = \"min-area\"\ndrive = [1, 2]\nmobility_ratio = 3\n\
+         reference = [1, 3]\n\n[[gate]]\nname = \"lp\"\nexpr = \"oai21\"\nmethod = \"longest-path\"\n\
+         drive = 4\nreference = \"2:3\"\n\n[[gate]]\nname = \"plain\"\nexpr = \"oai21\"\n"
+    );
+    // Each variant against `widthwise size` of the same gate with the options the precedence gives
+    // (README, "Precedence"), row by row (the single-gate path, checked against published tables).
+    let cases: [(&[&str], &str, &[&str]); 6] = [
+        // Gate keys over [defaults]; [defaults] over the process's mobility ratio (2.5).
+        (&[], "lp_x4", &["--method", "longest-path", "--drive", "4", "--reference", "2:3", "--mobility-ratio", "3"]),
+        (&[], "plain_x2", &["--method", "min-area", "--drive", "2", "--reference", "1:3", "--mobility-ratio", "3"]),
+        // The command line over both.
+        (
+            &["--method", "min-area", "--mobility-ratio", "2.2"],
+            "lp_x4",
+            &["--method", "min-area", "--drive", "4", "--reference", "2:3", "--mobility-ratio", "2.2"],
+        ),
+        // --drive replaces every drive list: one variant per gate.
+        (
+            &["--drive", "3"],
+            "plain_x3",
+            &["--method", "min-area", "--drive", "3", "--reference", "1:3", "--mobility-ratio", "3"],
+        ),
+        (&["--reference", "1:2"], "lp_x4", &["--drive", "4", "--reference", "1:2", "--mobility-ratio", "3"]),
+        // --process replaces the library's process: the built-in one, its mobility ratio 2 under [defaults]' 3.
+        (
+            &["--process", "PROCESS"],
+            "plain_x1",
+            &["--method", "min-area", "--reference", "1:3", "--mobility-ratio", "3", "--process", "PROCESS"],
+        ),
+    ];
+    let directory = tempfile::tempdir().unwrap();
+    let built_in = directory.path().join("built-in.toml");
+    std::fs::write(&built_in, widthwise().arg("process").output().unwrap().stdout).unwrap();
+    let built_in = built_in.to_str().unwrap();
+    let with_file = |args: &[&str]| -> Vec<String> {
+        args.iter().map(|a| if *a == "PROCESS" { built_in.to_string() } else { a.to_string() }).collect()
+    };
+    for (overrides, variant, single) in cases {
+        let overrides = with_file(overrides);
+        let overrides: Vec<&str> = overrides.iter().map(String::as_str).collect();
+        let batch = batch_row(&library, &overrides, variant);
+        let mut single = with_file(single);
+        if !single.iter().any(|a| a == "--process") {
+            single.extend(["--process".to_string(), process.to_string()]);
+        }
+        single.extend(["--name".to_string(), variant.to_string()]);
+        let single: Vec<&str> = single.iter().map(String::as_str).collect();
+        let expected = size_row(&[&["oai21"], &single[..]].concat());
+        assert_same_row(&batch, &expected, &format!("{variant} with {overrides:?}"));
+    }
+    // --drive leaves one variant per gate.
+    let output =
+        widthwise().args(["batch", "-", "--format", "csv", "--drive", "3"]).write_stdin(library).output().unwrap();
+    assert_eq!(records(&output.stdout).1.len(), 2);
+}
+
+#[test]
+fn a_skewed_family_sizes_as_size_does_with_its_reference() {
+    // A high-skew NAND2 (PMOS of the reference 4 at drive 1) and a low-skew one (NMOS 2): each
+    // network's target is its reference device's resistance (docs/model.md section 2): pull-up
+    // mu / 4 = 0.5 R, pull-down 1 / 2 = 0.5 R, the other side R.
+    let library = "[defaults]\nreference = [1, 4]\n\n[[gate]]\nname = \"nand2_hi\"\nexpr = \"nand2\"\n\n\
+                   [[gate]]\nname = \"nand2_lo\"\nexpr = \"nand2\"\nreference = \"2:2\"\n";
+    let high = batch_row(library, &[], "nand2_hi_x1");
+    let low = batch_row(library, &[], "nand2_lo_x1");
+    assert_eq!((high["pull_down_target_r"].as_str(), high["pull_up_target_r"].as_str()), ("1", "0.5"));
+    assert_eq!((low["pull_down_target_r"].as_str(), low["pull_up_target_r"].as_str()), ("0.5", "1"));
+    assert_same_row(&high, &size_row(&["nand2", "--reference", "1:4", "--name", "nand2_hi_x1"]), "high skew");
+    assert_same_row(&low, &size_row(&["nand2", "--reference", "2:2", "--name", "nand2_lo_x1"]), "low skew");
+    // A bad reference is that gate's problem, at its place.
+    let bad = "[[gate]]\nname = \"g\"\nexpr = \"inv\"\nreference = [1, 0]\n";
+    let output = widthwise().args(["batch", "-"]).write_stdin(bad).output().unwrap();
+    assert_eq!(output.status.code(), Some(2));
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    assert!(stderr.contains("reference: the PMOS W/L 0 must be") && stderr.contains("line 4"), "{stderr}");
+}
+
+#[test]
+fn a_library_on_standard_input_resolves_its_process_against_the_stated_folder() {
+    let text = std::fs::read_to_string(example("tern8-cells.toml")).unwrap();
+    let from_file =
+        widthwise().arg("batch").arg(example("tern8-cells.toml")).args(["--format", "csv"]).output().unwrap();
+    let folder = example("");
+    let from_stdin = widthwise()
+        .args(["batch", "-", "--format", "csv", "--base-dir"])
+        .arg(&folder)
+        .write_stdin(text.clone())
+        .output()
+        .unwrap();
+    assert!(from_stdin.status.success(), "{}", String::from_utf8_lossy(&from_stdin.stderr));
+    assert_eq!(from_stdin.stdout, from_file.stdout);
+    // Without it the relative path is refused, naming the option; nothing is written.
+    widthwise()
+        .args(["batch", "-"])
+        .write_stdin(text)
+        .assert()
+        .code(2)
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("give --base-dir DIR"));
+}
+
+#[test]
+fn batch_options_that_do_not_apply_are_refused() {
+    let library = example("tern8-cells.toml");
+    for (args, message) in [
+        (&["--format", "json", "--rows", "devices"][..], "--rows does not apply with --format json or spice"),
+        (&["--format", "spice", "--rows", "gates"], "--rows does not apply"),
+        (&["--base-dir", "."], "--base-dir does not apply to a library file"),
+        (&["--method", "elmore"], "--method elmore does not apply to a library"),
+        (&["--work-budget", "100"], "--verify"),
+    ] {
+        widthwise()
+            .arg("batch")
+            .arg(&library)
+            .args(args)
+            .assert()
+            .code(2)
+            .stdout(predicate::str::is_empty())
+            .stderr(predicate::str::contains(message));
+    }
+}
+
 #[test]
 fn bad_gates_are_reported_and_good_ones_written() {
     let library = fixture("batch-mixed.toml");
@@ -456,7 +598,9 @@ fn whole_file_errors_stop_with_one_message() {
         ("[[gate]\nname = \"x\"\n", "line 1"),
         ("[[gate]]\nname = \"x\"\nexpr = \"inv\"\n[cells]\n", "unknown key 'cells'"),
         ("[defaults]\nmethod = \"fastest\"\n", "unknown variant `fastest`"),
-        ("process = \"missing.toml\"\n", "cannot read the process file"),
+        ("process = \"/no/such/folder/missing.toml\"\n", "cannot read the process file"),
+        // A relative path from standard input has no folder to start from unless --base-dir says.
+        ("process = \"missing.toml\"\n", "is a relative path, and a library read from standard input has no folder"),
         ("[process]\nmobility_ratio = 2.0\n", "missing field"),
     ];
     for (text, message) in cases {

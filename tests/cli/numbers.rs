@@ -128,6 +128,7 @@ fn every_output(expression: &str, options: &[&str]) -> Result<(), String> {
         ("spice", ""),
     ] {
         let mut args = strings(&["batch", "-", "--format", format]);
+        args.extend(strings(options));
         if !rows.is_empty() {
             args.extend(strings(&["--rows", rows]));
         }
