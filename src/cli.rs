@@ -3,7 +3,7 @@
 
 use clap::{Parser, Subcommand};
 
-use crate::commands::{AFTER_HELP, batch, deck, paths, process, size, verify};
+use crate::commands::{AFTER_HELP, batch, completions, deck, man_page, paths, process, size, verify};
 
 const ABOUT: &str = "Size the transistors of static CMOS gates so that each gate's worst case drives like a \
 reference inverter, and report what that costs.";
@@ -28,6 +28,8 @@ pub enum Command {
     Process(process::Args),
     Batch(batch::Args),
     Verify(verify::Args),
+    Completions(completions::Args),
+    ManPage(man_page::Args),
 }
 
 #[cfg(test)]

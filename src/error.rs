@@ -79,6 +79,14 @@ pub enum Error {
     /// A simulation that gave no result.
     #[error(transparent)]
     Simulation(#[from] SimulationError),
+    /// A command name that is not one of widthwise's (`man-page NAME`).
+    #[error("there is no command '{}': the commands are {commands}", crate::diagnostic::escaped(name))]
+    NoSuchCommand {
+        /// The name given.
+        name: String,
+        /// The commands, listed.
+        commands: String,
+    },
     /// An option given where it does not apply (refused rather than silently ignored).
     #[error("{option} does not apply {case}: {why}")]
     NotApplicable {
@@ -137,6 +145,7 @@ impl Error {
             | Error::Deck(_)
             | Error::OverBudget(_)
             | Error::NotApplicable { .. }
+            | Error::NoSuchCommand { .. }
             | Error::NameClashes { .. }
             | Error::GatesFailed { .. } => false,
         };

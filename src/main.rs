@@ -5,7 +5,7 @@
 
 use std::process::ExitCode;
 
-use clap::Parser;
+use clap::{CommandFactory, Parser};
 use widthwise::cli::{Cli, Command};
 use widthwise::commands;
 use widthwise::exit::{EXIT_BAD_INPUT, EXIT_OK};
@@ -37,6 +37,8 @@ fn main() -> ExitCode {
         Command::Process(args) => commands::process::run(args),
         Command::Batch(args) => commands::batch::run(args),
         Command::Verify(args) => commands::verify::run(args),
+        Command::Completions(args) => commands::completions::run(args, Cli::command()),
+        Command::ManPage(args) => commands::man_page::run(args, Cli::command()),
     };
     match outcome {
         Ok(()) => ExitCode::from(EXIT_OK),

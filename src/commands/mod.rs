@@ -6,7 +6,9 @@
 //! Files and streams are touched through the I/O layer ([`crate::io`]) only.
 
 pub mod batch;
+pub mod completions;
 pub mod deck;
+pub mod man_page;
 pub mod paths;
 pub mod process;
 pub mod size;

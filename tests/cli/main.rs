@@ -8,6 +8,7 @@ mod limits;
 mod numbers;
 mod paths;
 mod process;
+mod shell;
 mod size;
 mod streams;
 mod verify;

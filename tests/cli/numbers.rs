@@ -159,6 +159,11 @@ fn shorthands_write_no_number_past_ten_digits() {
             every_output(expression, options).unwrap();
         }
     }
+    for args in [&["man-page"][..], &["man-page", "batch"], &["completions", "bash"], &["--help"], &["batch", "--help"]]
+    {
+        let args: Vec<String> = args.iter().map(|a| a.to_string()).collect();
+        check_numbers(&run(&args, None).unwrap(), &args.join(" ")).unwrap();
+    }
     check_numbers(&run(&["process".to_string()], None).unwrap(), "process").unwrap_or_else(|e| {
         // The process file is TOML, where a float keeps its '.0' (a TOML float literal); only the
         // digit count applies to it.
