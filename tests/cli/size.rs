@@ -169,13 +169,55 @@ fn help_states_the_caution() {
         .stdout(predicate::str::contains("foundry"));
 }
 
+/// The words of a README command line: spaces split, double quotes group.
+fn words(line: &str) -> Vec<String> {
+    let mut words = Vec::new();
+    let mut word = String::new();
+    let mut quoted = false;
+    let mut started = false;
+    for c in line.chars() {
+        match c {
+            '"' => {
+                quoted = !quoted;
+                started = true;
+            }
+            ' ' if !quoted => {
+                if started {
+                    words.push(std::mem::take(&mut word));
+                }
+                started = false;
+            }
+            c => {
+                word.push(c);
+                started = true;
+            }
+        }
+    }
+    if started {
+        words.push(word);
+    }
+    words
+}
+
 #[test]
-fn readme_example_is_what_the_tool_prints() {
+fn readme_examples_are_what_the_tool_prints() {
+    // Every ```console block of the README: `$ widthwise ARGS`, then exactly what it writes (a
+    // message on stderr, exit 2, when it starts with "error:"), run from the repository's folder.
     let readme = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/README.md")).unwrap();
-    let start = readme.find("aoi21_x1: y = !(a & b | c)").expect("the example in the README");
-    let end = start + readme[start..].find("```").unwrap();
-    let output = widthwise().args(["size", "aoi21"]).output().unwrap();
-    assert_eq!(String::from_utf8(output.stdout).unwrap(), &readme[start..end]);
+    let mut examples = 0;
+    for block in readme.split("```console\n").skip(1) {
+        let block = &block[..block.find("```").expect("a closed block")];
+        let (command, expected) = block.split_once('\n').unwrap();
+        let words = words(command.strip_prefix("$ widthwise ").expect("a widthwise command"));
+        let output = widthwise().current_dir(env!("CARGO_MANIFEST_DIR")).args(&words).output().unwrap();
+        let (written, code) = if expected.starts_with("error:") { (&output.stderr, 2) } else { (&output.stdout, 0) };
+        assert_eq!(output.status.code(), Some(code), "{command}");
+        assert!(code == 0 || output.stdout.is_empty(), "{command}: nothing written on an error");
+        assert_eq!(String::from_utf8_lossy(written), expected, "{command}");
+        examples += 1;
+    }
+    assert!(examples >= 6, "the README's examples: {examples}");
+    assert!(readme.contains("$ widthwise size aoi21\naoi21_x1: y = !(a & b | c)\n"));
 }
 
 #[test]
