@@ -29,7 +29,7 @@ use crate::budget::{DEFAULT_WORK_BUDGET, Meter, OverBudget, Work};
 use crate::expr::GateFunction;
 use crate::figures::NodeDiffusion;
 use crate::gate::{GateError, GateOptions, SizedGate, device_name, size_function};
-use crate::network::{Network, NetworkKind};
+use crate::network::{Network, NetworkKind, Sides};
 use crate::paths::EXACT_WORST_MAX_INPUTS;
 use crate::paths::Vector;
 use crate::process::Process;
@@ -333,6 +333,8 @@ fn rail_of(kind: NetworkKind) -> usize {
 #[derive(Debug, Clone)]
 pub(crate) struct Device {
     pub kind: NetworkKind,
+    /// Its index in its network.
+    pub index: usize,
     pub input: usize,
     pub drain: usize,
     pub source: usize,
@@ -351,13 +353,13 @@ pub(crate) struct Circuit {
     pub diffusion: Vec<NodeDiffusion>,
     /// Diffusion capacitance per unit W/L of one terminal, in C.
     pub diffusion_ratio: f64,
-    pub count: usize,
+    /// The circuit index of each network's device 0 (its devices follow in order).
+    pub offsets: Sides<usize>,
     pub input_count: usize,
 }
 
 impl Circuit {
     pub fn new(gate: &SizedGate, diffusion_ratio: f64) -> Circuit {
-        let count = gate.function.literals.len();
         let mut names = vec![gate.output.clone(), "vss".to_string(), "vdd".to_string()];
         let mut index_of = std::collections::HashMap::new();
         for (index, name) in names.iter().enumerate() {
@@ -369,18 +371,23 @@ impl Circuit {
                 names.len() - 1
             })
         };
-        let mut devices = Vec::with_capacity(2 * count);
-        for transistor in &gate.transistors {
-            let drain = node(&transistor.drain, &mut names);
-            let source = node(&transistor.source, &mut names);
-            let input = devices.len() % count.max(1);
-            devices.push(Device {
-                kind: transistor.network,
-                input: gate.function.literals[input].input,
-                drain,
-                source,
-                unit_resistance: gate.options.unit_resistance(transistor.network),
-            });
+        let mut devices = Vec::with_capacity(gate.transistors.len());
+        let mut offsets = Sides::new(0, 0);
+        for (kind, network) in gate.trees.iter() {
+            offsets[kind] = devices.len();
+            devices.extend(network.inputs.iter().enumerate().map(|(index, &input)| Device {
+                kind,
+                index,
+                input,
+                drain: 0,
+                source: 0,
+                unit_resistance: gate.options.unit_resistance(kind),
+            }));
+        }
+        // The transistors come network by network, each in device order, as the circuit's devices.
+        for (device, transistor) in devices.iter_mut().zip(&gate.transistors) {
+            device.drain = node(&transistor.drain, &mut names);
+            device.source = node(&transistor.source, &mut names);
         }
         let mut incident = vec![Vec::new(); names.len()];
         for (index, device) in devices.iter().enumerate() {
@@ -392,7 +399,15 @@ impl Circuit {
             .enumerate()
             .map(|(node, touching)| NodeDiffusion::of(touching, node == VSS || node == VDD, node == OUTPUT))
             .collect();
-        Circuit { names, devices, incident, diffusion, diffusion_ratio, count, input_count: gate.function.inputs.len() }
+        Circuit {
+            names,
+            devices,
+            incident,
+            diffusion,
+            diffusion_ratio,
+            offsets,
+            input_count: gate.function.inputs.len(),
+        }
     }
 
     /// A node's diffusion capacitance at `widths`, in C.
@@ -535,17 +550,16 @@ pub(crate) fn elmore(
 
 /// All widths of a gate, pull-down then pull-up, by circuit device.
 pub(crate) fn flat_widths(gate: &SizedGate) -> Vec<f64> {
-    gate.widths.iter().flatten().copied().collect()
+    gate.widths.values().flatten().copied().collect()
 }
 
 /// Each input's capacitance in the longest-path sizing at these options: the fan-out copies.
 pub(crate) fn fanout_copies(function: &GateFunction, sizing: &SizingOptions) -> Vec<f64> {
-    let count = function.literals.len();
     let mut capacitance = vec![0.0; function.inputs.len()];
     for network in Network::pair(function) {
-        let widths = sizing::size(&network, count, Method::LongestPath, sizing);
+        let widths = sizing::size(&network, Method::LongestPath, sizing);
         for (device, width) in widths.iter().enumerate() {
-            capacitance[function.literals[device].input] += width;
+            capacitance[network.inputs[device]] += width;
         }
     }
     capacitance
@@ -627,7 +641,10 @@ fn measure(
     // the network: its devices' states, then a walk that stops at the first branch that conducts
     // (or member that does not).
     let vectors = 1u128 << circuit.input_count;
-    meter.charge(vectors * circuit.input_count as u128 + vectors / 2 * circuit.count as u128, Work::Delays)?;
+    meter.charge(
+        vectors * circuit.input_count as u128 + vectors / 2 * circuit.devices.len() as u128 / 2,
+        Work::Delays,
+    )?;
     let Some(vectors) = gate.switching_vectors(input, edge.network()) else { return Ok(None) };
     let mut worst: Option<Measured> = None;
     for after in vectors {
@@ -730,7 +747,7 @@ pub(crate) fn analyse_within(
                 load_c: load,
                 reference_elmore_rc: reference,
                 delay_ratio: measured.elmore / reference,
-                path: path.iter().map(|&d| device_name(kind, d % circuit.count)).collect(),
+                path: path.iter().map(|&d| device_name(kind, circuit.devices[d].index)).collect(),
                 vector: Vector {
                     values: gate.function.inputs.iter().cloned().zip(measured.after.iter().copied()).collect(),
                 },
@@ -869,7 +886,7 @@ fn compare_methods_within(
 ) -> Result<Vec<MethodDelay>, DelayError> {
     let mut rows = Vec::new();
     // Widths already timed, so that equal sizings (NAND, NOR ...) are timed once.
-    let mut timed: Vec<([Vec<f64>; 2], Timing)> = Vec::new();
+    let mut timed: Vec<(Sides<Vec<f64>>, Timing)> = Vec::new();
     for method in Method::ALL {
         let sized = if method == gate.method {
             Ok(gate.clone())
@@ -929,7 +946,7 @@ mod tests {
         // (1 + 1/3) 5 + (1/3) 3 = 7.667 RC (the Elmore tree sum; the rule for the shared region is
         // common practice, no source; half of each device would give 7.333).
         let mut options = GateOptions::new(SizingOptions::new(Method::LongestPath, 2.0, 1.0, None));
-        options.fixed_widths = Some([vec![3.0, 1.0], vec![2.0, 2.0]]);
+        options.fixed_widths = Some(Sides::new(vec![3.0, 1.0], vec![2.0, 2.0]));
         let gate = size_text("nand2", &options).unwrap();
         let terminals: Vec<(&str, &str)> =
             gate.transistors.iter().map(|t| (t.drain.as_str(), t.source.as_str())).take(2).collect();

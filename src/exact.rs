@@ -136,9 +136,9 @@ impl ExactError {
 ///
 /// Which on-sets conduct is found 64 per machine word; an on-set is minimal where it conducts and,
 /// for each input in it, the on-set without that input does not.
-pub fn minimal_on_sets(network: &Network, input_of: &[usize], input_count: usize) -> Result<Vec<u64>, ExactError> {
-    check_network(network, input_of, input_count)?;
-    let conducts = conduction_by_on_set(network, input_of, input_count);
+pub fn minimal_on_sets(network: &Network, input_count: usize) -> Result<Vec<u64>, ExactError> {
+    check_network(network, input_count)?;
+    let conducts = conduction_by_on_set(network, input_count);
     let mut minimal = conducts.clone();
     for input in 0..input_count {
         for (word, bits) in minimal.iter_mut().enumerate() {
@@ -182,7 +182,6 @@ pub fn on_set_vector(kind: NetworkKind, on_set: u64, input_count: usize) -> Vec<
 /// closed form of [`crate::sizing`] (it meets every lone path, so every vector) scaled up 1%.
 pub fn size_network(
     network: &Network,
-    input_of: &[usize],
     input_count: usize,
     unit_resistance: f64,
     target: f64,
@@ -190,6 +189,7 @@ pub fn size_network(
     budget: Budget,
 ) -> Result<ExactSizing, ExactError> {
     let name = network.kind.name();
+    let input_of = &network.inputs;
     if !(unit_resistance > 0.0 && unit_resistance.is_finite() && target > 0.0 && target.is_finite()) {
         return Err(ExactError::Bad(format!(
             "unit resistance {unit_resistance} and target {target} must be positive and finite"
@@ -205,7 +205,7 @@ pub fn size_network(
     if input_of.len() > MAX_DEVICES {
         return Err(ExactError::TooManyDevices { network: name, count: input_of.len(), limit: MAX_DEVICES });
     }
-    let on_sets = minimal_on_sets(network, input_of, input_count)?;
+    let on_sets = minimal_on_sets(network, input_count)?;
 
     // One constraint per minimal on-set, over the devices on a conducting path under it.
     let device_count = input_of.len();
@@ -242,7 +242,7 @@ pub fn size_network(
 
     // Start: the closed form (unit reference width, then scaled to this target), 1% up.
     let options = SizingOptions::new(Method::MinArea, 1.0, 1.0, Some(Reference { nmos: 1.0, pmos: 1.0 }));
-    let closed = sizing::size(network, device_count, Method::MinArea, &options);
+    let closed = sizing::size(network, Method::MinArea, &options);
     let start: Vec<f64> = device_of.iter().map(|&d| 1.01 * (closed[d] / scale).max(lower[d])).collect();
     let variable_lower: Vec<f64> = device_of.iter().map(|&d| lower[d]).collect();
     let upper = vec![f64::INFINITY; device_of.len()];
@@ -296,7 +296,8 @@ fn vector_number(kind: NetworkKind, on_set: u64, input_count: usize) -> u64 {
 
 /// Inputs within the limit, every device's input in range, every device of the tree listed once
 /// in `input_of`.
-fn check_network(network: &Network, input_of: &[usize], input_count: usize) -> Result<(), ExactError> {
+fn check_network(network: &Network, input_count: usize) -> Result<(), ExactError> {
+    let input_of = &network.inputs;
     if input_count > MAX_INPUTS {
         return Err(ExactError::TooManyInputs { count: input_count, limit: MAX_INPUTS });
     }
@@ -475,6 +476,7 @@ impl Smooth for VectorConstraint {
 mod tests {
     use super::*;
     use crate::expr::read_gate;
+    use crate::network::Sides;
     use proptest::prelude::*;
 
     /// A random series-parallel shape over inputs; devices are numbered in written order.
@@ -524,24 +526,25 @@ mod tests {
         }
         let (mut input_of, mut names) = (Vec::new(), Vec::new());
         let root = walk(tree, &mut input_of, &mut names, distinct);
-        (Network { kind, root }, input_of, names.len())
+        (Network { kind, root, inputs: input_of.clone() }, input_of, names.len())
     }
 
     /// [`build`] with at least one input repeated: where every leaf drew its own input, the last
     /// one (the only holder of the highest input) takes input 0 instead.
     fn build_repeated(tree: &Tree, kind: NetworkKind) -> (Network, Vec<usize>, usize) {
-        let (network, mut input_of, mut inputs) = build(tree, kind, false);
+        let (mut network, mut input_of, mut inputs) = build(tree, kind, false);
         if input_of.len() == inputs {
             *input_of.last_mut().expect("two devices or more") = 0;
+            network.inputs = input_of.clone();
             inputs -= 1;
         }
         (network, input_of, inputs)
     }
 
     /// Min-area closed-form widths for a target and unit resistance.
-    fn closed_form(network: &Network, devices: usize, unit: f64, target: f64) -> Vec<f64> {
+    fn closed_form(network: &Network, unit: f64, target: f64) -> Vec<f64> {
         let options = SizingOptions::new(Method::MinArea, 1.0, 1.0, Some(Reference { nmos: 1.0, pmos: 1.0 }));
-        sizing::size(network, devices, Method::MinArea, &options).iter().map(|w| w * unit / target).collect()
+        sizing::size(network, Method::MinArea, &options).iter().map(|w| w * unit / target).collect()
     }
 
     /// Effective resistance between the output and the rail by node-voltage analysis, written here
@@ -659,7 +662,7 @@ mod tests {
 
     fn pull_up(text: &str) -> (Network, Vec<usize>, usize) {
         let gate = read_gate(text).unwrap();
-        let [_, up] = Network::pair(&gate);
+        let up = Network::pair(&gate).pull_up;
         (up, gate.input_of(), gate.inputs.len())
     }
 
@@ -680,8 +683,8 @@ mod tests {
         }
         let p = 0.5 * (low + high);
         let by_hand = 2.0 * (2.0 * p + p / (p - 1.0) + 8.0 * p / (2.0 * p - 1.0));
-        let (up, input_of, inputs) = pull_up("!(a & b | c & (a | b))");
-        let sizing = size_network(&up, &input_of, inputs, 2.0, 1.0, &[0.0; 5], DEFAULT_BUDGET).unwrap();
+        let (up, _, inputs) = pull_up("!(a & b | c & (a | b))");
+        let sizing = size_network(&up, inputs, 2.0, 1.0, &[0.0; 5], DEFAULT_BUDGET).unwrap();
         assert!((sizing.total - by_hand).abs() < 1e-9 * by_hand, "{} vs {by_hand}", sizing.total);
         assert_eq!(sizing.minimal_vectors, 3);
         // All three minimal vectors bind at the optimum: b = c = 0 (vector 1, a = 1), a = c = 0
@@ -706,8 +709,8 @@ mod tests {
         ] {
             let (up, input_of, inputs) = pull_up(text);
             let lower = vec![0.0; input_of.len()];
-            let sizing = size_network(&up, &input_of, inputs, 2.0, 1.0, &lower, DEFAULT_BUDGET).unwrap();
-            let lone: f64 = closed_form(&up, input_of.len(), 2.0, 1.0).iter().sum();
+            let sizing = size_network(&up, inputs, 2.0, 1.0, &lower, DEFAULT_BUDGET).unwrap();
+            let lone: f64 = closed_form(&up, 2.0, 1.0).iter().sum();
             assert!((sizing.total - exact).abs() < 0.005, "{text}: {}", sizing.total);
             assert!((lone - closed).abs() < 0.005, "{text}: closed form {lone}");
             assert!((sizing.worst_resistance - 1.0).abs() < 1e-6, "{text}: {}", sizing.worst_resistance);
@@ -720,17 +723,16 @@ mod tests {
         // source). A lower bound of 3 already meets the target with room: both stay at 3, and the
         // worst resistance is 2/3 R.
         let gate = read_gate("nand2").unwrap();
-        let [down, _] = Network::pair(&gate);
-        let input_of = gate.input_of();
-        let free = size_network(&down, &input_of, 2, 1.0, 1.0, &[0.0, 0.0], DEFAULT_BUDGET).unwrap();
+        let down = Network::pair(&gate).pull_down;
+        let free = size_network(&down, 2, 1.0, 1.0, &[0.0, 0.0], DEFAULT_BUDGET).unwrap();
         assert!(free.widths.iter().all(|w| (w - 2.0).abs() < 1e-6), "{:?}", free.widths);
         assert_eq!(free.binding, vec![vec![true, true]]);
-        let held = size_network(&down, &input_of, 2, 1.0, 1.0, &[3.0, 3.0], DEFAULT_BUDGET).unwrap();
+        let held = size_network(&down, 2, 1.0, 1.0, &[3.0, 3.0], DEFAULT_BUDGET).unwrap();
         assert!(held.widths.iter().all(|w| (w - 3.0).abs() < 1e-6), "{:?}", held.widths);
         assert!((held.worst_resistance - 2.0 / 3.0).abs() < 1e-6);
         // One lower bound above what the optimum would give: the other device takes the rest,
         // 1/3 + 1/w = 1, w = 1.5 (by hand).
-        let one = size_network(&down, &input_of, 2, 1.0, 1.0, &[3.0, 0.0], DEFAULT_BUDGET).unwrap();
+        let one = size_network(&down, 2, 1.0, 1.0, &[3.0, 0.0], DEFAULT_BUDGET).unwrap();
         assert!((one.widths[0] - 3.0).abs() < 1e-6 && (one.widths[1] - 1.5).abs() < 1e-6, "{:?}", one.widths);
     }
 
@@ -739,8 +741,8 @@ mod tests {
         // !(a | a & b): a alone conducts through the first device, so the series a-b is never
         // needed; the first device takes W/L 1, the others their lower bound (by hand).
         let gate = read_gate("!(a | a & b)").unwrap();
-        let [down, _] = Network::pair(&gate);
-        let sizing = size_network(&down, &gate.input_of(), 2, 1.0, 1.0, &[0.0, 0.5, 0.25], DEFAULT_BUDGET).unwrap();
+        let down = Network::pair(&gate).pull_down;
+        let sizing = size_network(&down, 2, 1.0, 1.0, &[0.0, 0.5, 0.25], DEFAULT_BUDGET).unwrap();
         assert!((sizing.widths[0] - 1.0).abs() < 1e-9 && sizing.widths[1..] == [0.5, 0.25], "{:?}", sizing.widths);
         assert_eq!(sizing.minimal_vectors, 1);
     }
@@ -749,22 +751,23 @@ mod tests {
     fn limits_and_bad_arguments_are_typed_errors() {
         let wide: Vec<String> = (0..17).map(|i| format!("x{i}")).collect();
         let gate = read_gate(&format!("!({})", wide.join(" & "))).unwrap();
-        let [down, _] = Network::pair(&gate);
-        let error = size_network(&down, &gate.input_of(), 17, 1.0, 1.0, &[0.0; 17], DEFAULT_BUDGET).unwrap_err();
+        let down = Network::pair(&gate).pull_down;
+        let error = size_network(&down, 17, 1.0, 1.0, &[0.0; 17], DEFAULT_BUDGET).unwrap_err();
         assert_eq!(error, ExactError::TooManyInputs { count: 17, limit: MAX_INPUTS });
         assert!(error.past_limit() && error.to_string().contains("at most 16"), "{error}");
 
-        let (up, input_of, inputs) = pull_up("!(a & b | c & (a | b))");
-        let error = size_network(&up, &input_of, inputs, 2.0, 1.0, &[0.0; 5], Budget { work: 50 }).unwrap_err();
+        let (up, _, inputs) = pull_up("!(a & b | c & (a | b))");
+        let error = size_network(&up, inputs, 2.0, 1.0, &[0.0; 5], Budget { work: 50 }).unwrap_err();
         assert_eq!(error, ExactError::OverBudget { network: "pull-up", budget: 50 });
         assert!(error.past_limit() && error.to_string().contains("work budget of 50"), "{error}");
 
         for (unit, target, lower) in [(0.0, 1.0, vec![0.0; 5]), (2.0, f64::NAN, vec![0.0; 5]), (2.0, 1.0, vec![0.0; 4])]
         {
-            let error = size_network(&up, &input_of, inputs, unit, target, &lower, DEFAULT_BUDGET).unwrap_err();
+            let error = size_network(&up, inputs, unit, target, &lower, DEFAULT_BUDGET).unwrap_err();
             assert!(matches!(error, ExactError::Bad(_)), "{error}");
         }
-        let error = size_network(&up, &[0, 1, 2, 0, 5], inputs, 2.0, 1.0, &[0.0; 5], DEFAULT_BUDGET).unwrap_err();
+        let bad = Network { inputs: vec![0, 1, 2, 0, 5], ..up.clone() };
+        let error = size_network(&bad, inputs, 2.0, 1.0, &[0.0; 5], DEFAULT_BUDGET).unwrap_err();
         assert!(matches!(error, ExactError::Bad(_)), "{error}");
     }
 
@@ -774,14 +777,14 @@ mod tests {
         // are the three pairs (common practice, no source). Above 6 inputs the word-level path runs:
         // a chain of 8 in series has one minimal on-set, all of them.
         let gate = read_gate("!(a & b | a & c | b & c)").unwrap();
-        let [down, up] = Network::pair(&gate);
-        assert_eq!(minimal_on_sets(&down, &gate.input_of(), 3).unwrap(), vec![0b011, 0b101, 0b110]);
-        assert_eq!(minimal_on_sets(&up, &gate.input_of(), 3).unwrap(), vec![0b011, 0b101, 0b110]);
+        let Sides { pull_down: down, pull_up: up } = Network::pair(&gate);
+        assert_eq!(minimal_on_sets(&down, 3).unwrap(), vec![0b011, 0b101, 0b110]);
+        assert_eq!(minimal_on_sets(&up, 3).unwrap(), vec![0b011, 0b101, 0b110]);
         assert_eq!(on_set_vector(NetworkKind::PullUp, 0b011, 3), vec![false, false, true]);
         let gate = read_gate("nand8").unwrap();
-        let [down, up] = Network::pair(&gate);
-        assert_eq!(minimal_on_sets(&down, &gate.input_of(), 8).unwrap(), vec![0xFF]);
-        assert_eq!(minimal_on_sets(&up, &gate.input_of(), 8).unwrap(), (0..8).map(|i| 1u64 << i).collect::<Vec<_>>());
+        let Sides { pull_down: down, pull_up: up } = Network::pair(&gate);
+        assert_eq!(minimal_on_sets(&down, 8).unwrap(), vec![0xFF]);
+        assert_eq!(minimal_on_sets(&up, 8).unwrap(), (0..8).map(|i| 1u64 << i).collect::<Vec<_>>());
     }
 
     #[test]
@@ -827,8 +830,8 @@ mod tests {
             prop_assume!(inputs <= MAX_INPUTS);
             let (unit, target) = if pull_up { (2.0, 0.8) } else { (1.0, 1.3) };
             let lower = vec![0.0; input_of.len()];
-            let sizing = size_network(&network, &input_of, inputs, unit, target, &lower, DEFAULT_BUDGET).unwrap();
-            let closed = closed_form(&network, input_of.len(), unit, target);
+            let sizing = size_network(&network, inputs, unit, target, &lower, DEFAULT_BUDGET).unwrap();
+            let closed = closed_form(&network, unit, target);
             let total: f64 = closed.iter().sum();
             prop_assert!((sizing.total - total).abs() <= 1e-9 * total, "{} vs {total}", sizing.total);
             for (ours, theirs) in sizing.widths.iter().zip(&closed) {
@@ -843,7 +846,7 @@ mod tests {
             prop_assert!(input_of.len() > inputs && inputs <= 10);
             let (unit, target) = if pull_up { (2.0, 1.0) } else { (1.0, 0.5) };
             let lower = vec![0.0; input_of.len()];
-            let sizing = size_network(&network, &input_of, inputs, unit, target, &lower, DEFAULT_BUDGET).unwrap();
+            let sizing = size_network(&network, inputs, unit, target, &lower, DEFAULT_BUDGET).unwrap();
             // Every vector, by the independent nodal solve: at most the target.
             let worst = brute_force_worst(&network, &sizing.widths, unit, &input_of, inputs);
             prop_assert!(worst <= target * (1.0 + 1e-9), "worst {worst} over target {target}");
@@ -857,7 +860,7 @@ mod tests {
                 prop_assert!((r - worst).abs() <= 2e-6 * worst);
             }
             // The lone-path closed form meets every vector too, so the optimum is never above it.
-            let closed: f64 = closed_form(&network, input_of.len(), unit, target).iter().sum();
+            let closed: f64 = closed_form(&network, unit, target).iter().sum();
             prop_assert!(sizing.total <= closed * (1.0 + 1e-9), "{} above the closed form {closed}", sizing.total);
         }
     }

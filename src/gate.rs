@@ -11,7 +11,7 @@ use crate::diagnostic::escaped;
 use crate::expr::GateFunction;
 use crate::figures::{self, DeviceLoad};
 use crate::names::reserved_reason;
-use crate::network::{Network, NetworkKind, Terminals, internal_prefix};
+use crate::network::{Network, NetworkKind, Sides, Terminals, internal_prefix};
 use crate::paths::{self, Vector};
 use crate::process::{Drawn, Process};
 use crate::sizing::{self, Method, SizingOptions};
@@ -30,9 +30,9 @@ pub struct GateOptions {
     pub process: Arc<Process>,
     /// Series-stack order chosen by a later stage (the delay stage's order search, the elmore
     /// method), pull-down first: used in place of [`Network::ordered`]. Same devices and structure.
-    pub stack_order: Option<[Network; 2]>,
+    pub stack_order: Option<Sides<Network>>,
     /// W/L chosen by a later stage (the elmore method), pull-down then pull-up, by device: used as given.
-    pub fixed_widths: Option<[Vec<f64>; 2]>,
+    pub fixed_widths: Option<Sides<Vec<f64>>>,
 }
 
 impl GateOptions {
@@ -270,13 +270,13 @@ pub struct SizedGate {
     pub function: GateFunction,
     /// The ordered networks, pull-down first, for later stages.
     #[serde(skip)]
-    pub trees: [Network; 2],
-    /// W/L per device index, pull-down then pull-up.
+    pub trees: Sides<Network>,
+    /// W/L per device index, by network.
     #[serde(skip)]
-    pub widths: [Vec<f64>; 2],
-    /// Drawn W/L (drawn width / unit width) per device index, pull-down then pull-up.
+    pub widths: Sides<Vec<f64>>,
+    /// Drawn W/L (drawn width / unit width) per device index, by network.
     #[serde(skip)]
-    pub drawn_widths: [Vec<f64>; 2],
+    pub drawn_widths: Sides<Vec<f64>>,
     /// The sizing options used.
     #[serde(skip)]
     pub options: SizingOptions,
@@ -337,13 +337,13 @@ fn check_sizing(sizing: &SizingOptions) -> Result<(), GateError> {
 }
 
 /// Every device drawn with at most [`bounds::MAX_FINGERS`] fingers.
-fn check_fingers(drawn: &[Vec<Drawn>; 2], widths: &[Vec<f64>; 2]) -> Result<(), GateError> {
-    for (kind, side) in NetworkKind::BOTH.into_iter().zip(0..) {
-        for (device, d) in drawn[side].iter().enumerate() {
+fn check_fingers(drawn: &Sides<Vec<Drawn>>, widths: &Sides<Vec<f64>>) -> Result<(), GateError> {
+    for (kind, drawn) in drawn.iter() {
+        for (device, d) in drawn.iter().enumerate() {
             if d.fingers > bounds::MAX_FINGERS {
                 return Err(GateError::TooManyFingers {
                     device: device_name(kind, device),
-                    w_over_l: widths[side][device],
+                    w_over_l: widths[kind][device],
                     fingers: d.fingers,
                     limit: bounds::MAX_FINGERS,
                 });
@@ -366,11 +366,10 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
             })?),
         };
     let count = function.literals.len();
-    let input_of = function.input_of();
     let built = Network::pair(&function);
     let widths = match &options.fixed_widths {
         Some(given) => {
-            if given.iter().any(|w| w.len() != count || w.iter().any(|x| !(x.is_finite() && *x > 0.0))) {
+            if given.values().any(|w| w.len() != count || w.iter().any(|x| !(x.is_finite() && *x > 0.0))) {
                 return Err(GateError::FixedWidths { count });
             }
             given.clone()
@@ -378,36 +377,39 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
         None if sizing.method == Method::Elmore => {
             return Err(GateError::ElmoreWithoutLoad);
         }
-        None => [0, 1].map(|side| sizing::size(&built[side], count, sizing.method, &sizing)),
+        None => built.as_ref().map(|_, network| sizing::size(network, sizing.method, &sizing)),
     };
     let other_total: f64 =
-        built.iter().map(|n| sizing::size(n, count, sizing.method.other(), &sizing).iter().sum::<f64>()).sum();
+        built.values().map(|n| sizing::size(n, sizing.method.other(), &sizing).iter().sum::<f64>()).sum();
     let trees = match &options.stack_order {
         Some(given) => {
-            if !(0..2).all(|side| built[side].same_up_to_order(&given[side])) {
+            if !NetworkKind::BOTH.into_iter().all(|kind| built[kind].same_up_to_order(&given[kind])) {
                 return Err(GateError::ForeignStackOrder);
             }
             given.clone()
         }
-        None => [0, 1].map(|side| built[side].ordered(&widths[side], &input_of, critical)),
+        None => built.as_ref().map(|kind, network| network.ordered(&widths[kind], critical)),
     };
     let process = &options.process;
-    let drawn: [Vec<Drawn>; 2] = [0, 1].map(|side| widths[side].iter().map(|&w| process.draw(w)).collect());
+    let drawn: Sides<Vec<Drawn>> = widths.as_ref().map(|_, widths| widths.iter().map(|&w| process.draw(w)).collect());
     check_fingers(&drawn, &widths)?;
     let drawn_widths =
-        [0, 1].map(|side| drawn[side].iter().map(|d| d.width_nm() / process.unit_width_nm).collect::<Vec<f64>>());
+        drawn.as_ref().map(|_, drawn| drawn.iter().map(|d| d.width_nm() / process.unit_width_nm).collect::<Vec<f64>>());
 
     // Internal nodes are named unlike every input, the output and the models.
     let mut names: Vec<&str> = function.inputs.iter().map(String::as_str).collect();
     names.push(&function.output);
     names.extend(process.model_names());
-    let terminals: [Vec<Terminals>; 2] = [("n", 0), ("p", 1)]
-        .map(|(base, side)| trees[side].nodes(count, &function.output, &internal_prefix(base, &names)));
+    let terminals: Sides<Vec<Terminals>> = trees.as_ref().map(|kind, tree| {
+        let base = if kind == NetworkKind::PullDown { "n" } else { "p" };
+        tree.nodes(&function.output, &internal_prefix(base, &names))
+    });
 
     let mut loads = Vec::with_capacity(2 * count);
-    for side in 0..2 {
-        for (device, node) in terminals[side].iter().enumerate() {
-            loads.push(DeviceLoad { input: input_of[device], w_over_l: widths[side][device], terminals: node });
+    for (kind, nodes) in terminals.iter() {
+        for (device, node) in nodes.iter().enumerate() {
+            let input = trees[kind].inputs[device];
+            loads.push(DeviceLoad { input, w_over_l: widths[kind][device], terminals: node });
         }
     }
     let reference_capacitance = sizing.drive * sizing.reference.input_capacitance();
@@ -429,33 +431,34 @@ pub fn size_function(function: GateFunction, options: &GateOptions) -> Result<Si
 
     // The terminals move into the transistors (no copies of the node names).
     let mut transistors = Vec::with_capacity(2 * count);
-    for ((side, kind), nodes) in NetworkKind::BOTH.into_iter().enumerate().zip(terminals) {
+    for (kind, nodes) in NetworkKind::BOTH.into_iter().zip(terminals) {
         for (device, node) in nodes.into_iter().enumerate() {
             transistors.push(Transistor {
                 name: device_name(kind, device),
                 device_type: kind.device_type(),
                 network: kind,
-                input: function.inputs[input_of[device]].clone(),
+                input: function.inputs[trees[kind].inputs[device]].clone(),
                 drain: node.drain,
                 source: node.source,
-                w_over_l: widths[side][device],
-                width_um: process.width_nm(widths[side][device]) / 1000.0,
+                w_over_l: widths[kind][device],
+                width_um: process.width_nm(widths[kind][device]) / 1000.0,
                 length_um: process.length_nm / 1000.0,
-                drawn_width_um: drawn[side][device].width_nm() / 1000.0,
-                finger_width_um: drawn[side][device].finger_width_nm / 1000.0,
-                fingers: drawn[side][device].fingers,
-                drawn_w_over_l: drawn_widths[side][device],
+                drawn_width_um: drawn[kind][device].width_nm() / 1000.0,
+                finger_width_um: drawn[kind][device].finger_width_nm / 1000.0,
+                fingers: drawn[kind][device].fingers,
+                drawn_w_over_l: drawn_widths[kind][device],
             });
         }
     }
     let output_devices = transistors.iter().filter(|t| t.drain == function.output).map(|t| t.name.clone()).collect();
 
-    let networks: Vec<NetworkFigures> = (0..2)
-        .map(|side| network_figures(&function, &trees[side], [&widths[side], &drawn_widths[side]], &input_of, &sizing))
+    let networks: Vec<NetworkFigures> = NetworkKind::BOTH
+        .into_iter()
+        .map(|kind| network_figures(&function, &trees[kind], [&widths[kind], &drawn_widths[kind]], &sizing))
         .collect();
     let total_drawn_width_um = transistors.iter().map(|t| t.drawn_width_um).sum();
     let area_um2 = transistors.iter().map(|t| t.drawn_width_um * t.length_um).sum();
-    let total: f64 = widths.iter().flatten().sum();
+    let total: f64 = widths.values().flatten().sum();
     let name = cell_name(&function, options);
     Ok(SizedGate {
         name,
@@ -495,7 +498,6 @@ fn network_figures(
     function: &GateFunction,
     network: &Network,
     [widths, drawn_widths]: [&[f64]; 2],
-    input_of: &[usize],
     sizing: &SizingOptions,
 ) -> NetworkFigures {
     let kind = network.kind;
@@ -503,10 +505,10 @@ fn network_figures(
     let drawn_worst = paths::highest(&network.root, &sizing.resistances(kind, drawn_widths));
     let weakest = paths::weakest(network, &resistance);
     let input_count = function.inputs.len();
-    let worst_vector = paths::sensitize(network, &weakest.devices, input_of, input_count)
-        .map(|values| Vector::new(&function.inputs, &values));
+    let worst_vector =
+        paths::sensitize(network, &weakest.devices, input_count).map(|values| Vector::new(&function.inputs, &values));
     let exact_worst = if function.has_repeated_inputs() {
-        paths::exact_worst(network, &resistance, input_of, input_count)
+        paths::exact_worst(network, &resistance, input_count)
             .map(|(resistance, values)| ExactWorst { resistance, vector: Vector::new(&function.inputs, &values) })
     } else {
         None
@@ -555,20 +557,18 @@ pub struct PathListing {
 impl SizedGate {
     /// The `limit` weakest paths of each network, with their vectors.
     pub fn list_paths(&self, limit: usize) -> Vec<PathListing> {
-        let input_of = self.function.input_of();
         NetworkKind::BOTH
             .into_iter()
-            .enumerate()
-            .map(|(side, kind)| {
-                let network = &self.trees[side];
-                let resistance = self.options.resistances(kind, &self.widths[side]);
-                let drawn = self.options.resistances(kind, &self.drawn_widths[side]);
+            .map(|kind| {
+                let network = &self.trees[kind];
+                let resistance = self.options.resistances(kind, &self.widths[kind]);
+                let drawn = self.options.resistances(kind, &self.drawn_widths[kind]);
                 let paths = paths::list(network, &resistance, limit)
                     .into_iter()
                     .map(|path| ListedPath {
                         resistance: path.resistance,
                         drawn_resistance: path.devices.iter().map(|&d| drawn[d]).sum(),
-                        vector: paths::sensitize(network, &path.devices, &input_of, self.function.inputs.len())
+                        vector: paths::sensitize(network, &path.devices, self.function.inputs.len())
                             .map(|values| Vector::new(&self.function.inputs, &values)),
                         devices: path.devices.iter().map(|&d| device_name(kind, d)).collect(),
                     })
@@ -592,12 +592,8 @@ impl SizedGate {
         if count > paths::EXACT_WORST_MAX_INPUTS {
             return None;
         }
-        let network = &self.trees[usize::from(kind == NetworkKind::PullUp)];
-        let input_of = self.function.input_of();
-        let conducts = |values: &[bool]| {
-            let on: Vec<bool> = input_of.iter().map(|&i| kind.conducts(values[i])).collect();
-            network.conducts(&on)
-        };
+        let network = &self.trees[kind];
+        let conducts = |values: &[bool]| network.conducts(&network.on_devices(values));
         let on_level = kind.conducts(true);
         let mut vectors = Vec::new();
         for bits in 0..(1u64 << count) {
@@ -632,10 +628,9 @@ impl SizedGate {
         kind: NetworkKind,
         meter: &Meter,
     ) -> Result<Option<(paths::Path, Vector)>, OverBudget> {
-        let side = usize::from(kind == NetworkKind::PullUp);
-        let network = &self.trees[side];
-        let resistance = self.options.resistances(kind, &self.widths[side]);
-        let input_of = self.function.input_of();
+        let network = &self.trees[kind];
+        let resistance = self.options.resistances(kind, &self.widths[kind]);
+        let input_of = &network.inputs;
         let occurrences = input_of.len() as u128;
         let mut best: Option<(paths::Path, Vec<bool>)> = None;
         // Repeated inputs can block the weakest path through a device; then the weakest few paths of
@@ -647,7 +642,7 @@ impl SizedGate {
                 Some(path) => vec![path],
                 None => continue,
             };
-            if paths::sensitize(network, &candidates[0].devices, &input_of, self.function.inputs.len()).is_none() {
+            if paths::sensitize(network, &candidates[0].devices, self.function.inputs.len()).is_none() {
                 if listing.is_none() {
                     let limit = (paths::MAX_LISTING_WORK / paths::listing_work(network, 1).max(1)) as usize;
                     let limit = limit.clamp(1, paths::MAX_LISTED_PATHS);
@@ -661,7 +656,7 @@ impl SizedGate {
             }
             for path in candidates {
                 meter.charge(occurrences, Work::Delays)?;
-                if let Some(values) = paths::sensitize(network, &path.devices, &input_of, self.function.inputs.len()) {
+                if let Some(values) = paths::sensitize(network, &path.devices, self.function.inputs.len()) {
                     if best.as_ref().is_none_or(|(b, _)| path.resistance > b.resistance + 1e-12) {
                         best = Some((path, values));
                     }

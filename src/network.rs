@@ -5,6 +5,8 @@
 //! (member 0 touches the output), which is what [`Network::ordered`] chooses and [`Network::nodes`]
 //! names.
 
+use std::ops::{Index, IndexMut};
+
 use crate::expr::{Function, GateFunction};
 
 /// Which network of a static gate.
@@ -54,6 +56,86 @@ impl NetworkKind {
     }
 }
 
+/// One value per network of a stage, pull-down and pull-up, reached by [`NetworkKind`]: what every
+/// per-side figure, width list or tree is held in.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Hash)]
+pub struct Sides<T> {
+    /// The pull-down's.
+    pub pull_down: T,
+    /// The pull-up's.
+    pub pull_up: T,
+}
+
+impl<T> Sides<T> {
+    /// Both values, pull-down first.
+    pub fn new(pull_down: T, pull_up: T) -> Sides<T> {
+        Sides { pull_down, pull_up }
+    }
+
+    /// Each side's value from its kind.
+    pub fn from_fn(mut make: impl FnMut(NetworkKind) -> T) -> Sides<T> {
+        Sides { pull_down: make(NetworkKind::PullDown), pull_up: make(NetworkKind::PullUp) }
+    }
+
+    /// Each value mapped, with its side's kind.
+    pub fn map<U>(self, mut f: impl FnMut(NetworkKind, T) -> U) -> Sides<U> {
+        Sides { pull_down: f(NetworkKind::PullDown, self.pull_down), pull_up: f(NetworkKind::PullUp, self.pull_up) }
+    }
+
+    /// Each value mapped, or the first error (pull-down first).
+    pub fn try_map<U, E>(self, mut f: impl FnMut(NetworkKind, T) -> Result<U, E>) -> Result<Sides<U>, E> {
+        Ok(Sides {
+            pull_down: f(NetworkKind::PullDown, self.pull_down)?,
+            pull_up: f(NetworkKind::PullUp, self.pull_up)?,
+        })
+    }
+
+    /// Both by reference.
+    pub fn as_ref(&self) -> Sides<&T> {
+        Sides { pull_down: &self.pull_down, pull_up: &self.pull_up }
+    }
+
+    /// Both sides with their kinds, pull-down first.
+    pub fn iter(&self) -> impl Iterator<Item = (NetworkKind, &T)> {
+        [(NetworkKind::PullDown, &self.pull_down), (NetworkKind::PullUp, &self.pull_up)].into_iter()
+    }
+
+    /// Both values, pull-down first.
+    pub fn values(&self) -> impl Iterator<Item = &T> {
+        [&self.pull_down, &self.pull_up].into_iter()
+    }
+}
+
+impl<T> Index<NetworkKind> for Sides<T> {
+    type Output = T;
+
+    fn index(&self, kind: NetworkKind) -> &T {
+        match kind {
+            NetworkKind::PullDown => &self.pull_down,
+            NetworkKind::PullUp => &self.pull_up,
+        }
+    }
+}
+
+impl<T> IndexMut<NetworkKind> for Sides<T> {
+    fn index_mut(&mut self, kind: NetworkKind) -> &mut T {
+        match kind {
+            NetworkKind::PullDown => &mut self.pull_down,
+            NetworkKind::PullUp => &mut self.pull_up,
+        }
+    }
+}
+
+impl<T> IntoIterator for Sides<T> {
+    type Item = T;
+    type IntoIter = std::array::IntoIter<T, 2>;
+
+    /// Both values, pull-down first.
+    fn into_iter(self) -> Self::IntoIter {
+        [self.pull_down, self.pull_up].into_iter()
+    }
+}
+
 /// A series-parallel tree of devices.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum Node {
@@ -65,13 +147,17 @@ pub enum Node {
     Parallel(Vec<Node>),
 }
 
-/// One network of a gate.
+/// One network of a stage, with its own device list: device `k` of the tree is gated by stage
+/// input `inputs[k]`. The two networks of a stage built from one function share their device
+/// numbering (literal occurrences); a pull-up written by the user has a list of its own.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Network {
     /// Pull-down or pull-up.
     pub kind: NetworkKind,
     /// Its tree.
     pub root: Node,
+    /// The stage input on each device's gate, by device index.
+    pub inputs: Vec<usize>,
 }
 
 /// Drain (output side) and source (rail side) node of one device.
@@ -84,8 +170,9 @@ pub struct Terminals {
 }
 
 impl Network {
-    /// The network of `kind` for `f`, series members in written order.
-    pub fn build(function: &Function, kind: NetworkKind) -> Network {
+    /// The network of `kind` for the stage's `f`, series members in written order, device `k`
+    /// gated by literal occurrence `k`.
+    pub fn build(gate: &GateFunction, kind: NetworkKind) -> Network {
         fn walk(function: &Function, kind: NetworkKind) -> Node {
             match function {
                 Function::Literal(index) => Node::Device(*index),
@@ -96,18 +183,23 @@ impl Network {
                 }
             }
         }
-        Network { kind, root: walk(function, kind) }
+        Network { kind, root: walk(&gate.function, kind), inputs: gate.input_of() }
     }
 
-    /// Both networks of a gate, pull-down first.
-    pub fn pair(gate: &GateFunction) -> [Network; 2] {
-        NetworkKind::BOTH.map(|kind| Network::build(&gate.function, kind))
+    /// Both networks of a stage (the pull-up the dual of the pull-down).
+    pub fn pair(gate: &GateFunction) -> Sides<Network> {
+        Sides::from_fn(|kind| Network::build(gate, kind))
     }
 
-    /// The same network with every series stack reordered: members holding `critical` (an input
-    /// index, through `input_of`) first, then the least diffusion width facing the output;
-    /// ties keep the written order.
-    pub fn ordered(&self, widths: &[f64], input_of: &[usize], critical: Option<usize>) -> Network {
+    /// How many devices the network has.
+    pub fn device_count(&self) -> usize {
+        self.inputs.len()
+    }
+
+    /// The same network with every series stack reordered: members holding `critical` (a stage
+    /// input) first, then the least diffusion width facing the output; ties keep the written order.
+    pub fn ordered(&self, widths: &[f64], critical: Option<usize>) -> Network {
+        let input_of = &self.inputs;
         fn walk(node: &Node, widths: &[f64], input_of: &[usize], critical: Option<usize>) -> (Node, f64, bool) {
             match node {
                 Node::Device(index) => (node.clone(), widths[*index], Some(input_of[*index]) == critical),
@@ -135,12 +227,13 @@ impl Network {
                 }
             }
         }
-        Network { kind: self.kind, root: walk(&self.root, widths, input_of, critical).0 }
+        Network { kind: self.kind, root: walk(&self.root, widths, input_of, critical).0, inputs: self.inputs.clone() }
     }
 
     /// Drain and source of every device (indexed by device), given the output name and the
     /// prefix for internal nodes (numbered from 1 in order from the output).
-    pub fn nodes(&self, device_count: usize, output: &str, prefix: &str) -> Vec<Terminals> {
+    pub fn nodes(&self, output: &str, prefix: &str) -> Vec<Terminals> {
+        let device_count = self.device_count();
         fn walk(node: &Node, top: &str, bottom: &str, prefix: &str, counter: &mut usize, out: &mut [Terminals]) {
             match node {
                 Node::Device(index) => out[*index] = Terminals { drain: top.to_string(), source: bottom.to_string() },
@@ -194,7 +287,12 @@ impl Network {
                 }
             }
         }
-        self.kind == other.kind && canonical(&self.root) == canonical(&other.root)
+        self.kind == other.kind && self.inputs == other.inputs && canonical(&self.root) == canonical(&other.root)
+    }
+
+    /// Which devices are on when the stage inputs take `values`.
+    pub fn on_devices(&self, values: &[bool]) -> Vec<bool> {
+        self.inputs.iter().map(|&input| self.kind.conducts(values[input])).collect()
     }
 
     /// Whether the network conducts, given which devices are on.
@@ -244,29 +342,37 @@ mod tests {
     fn pull_up_is_the_dual() {
         // AND -> series in NMOS, parallel in PMOS (common practice, no source)
         let gate = read_gate("aoi21").unwrap();
-        let [down, up] = Network::pair(&gate);
-        assert_eq!(tree(&down.root), "P(S(0 1) 2)");
-        assert_eq!(tree(&up.root), "S(P(0 1) 2)");
+        let networks = Network::pair(&gate);
+        assert_eq!(tree(&networks[NetworkKind::PullDown].root), "P(S(0 1) 2)");
+        assert_eq!(tree(&networks.pull_up.root), "S(P(0 1) 2)");
     }
 
     #[test]
     fn ordering_puts_least_facing_width_at_the_output() {
         let gate = read_gate("aoi21").unwrap();
-        let [_, up] = Network::pair(&gate);
-        let input_of = gate.input_of();
-        let ordered = up.ordered(&[4.0, 4.0, 4.0], &input_of, None);
+        let up = Network::pair(&gate).pull_up;
+        let ordered = up.ordered(&[4.0, 4.0, 4.0], None);
         assert_eq!(tree(&ordered.root), "S(2 P(0 1))");
-        let critical = up.ordered(&[4.0, 4.0, 4.0], &input_of, Some(0));
+        let critical = up.ordered(&[4.0, 4.0, 4.0], Some(0));
         assert_eq!(tree(&critical.root), "S(P(0 1) 2)");
     }
 
     #[test]
     fn nodes_run_from_output_to_rail() {
         let gate = read_gate("nand3").unwrap();
-        let [down, _] = Network::pair(&gate);
-        let nodes = down.nodes(3, "y", "n");
+        let down = Network::pair(&gate).pull_down;
+        let nodes = down.nodes("y", "n");
         let pairs: Vec<(&str, &str)> = nodes.iter().map(|t| (t.drain.as_str(), t.source.as_str())).collect();
         assert_eq!(pairs, [("y", "n1"), ("n1", "n2"), ("n2", "vss")]);
+    }
+
+    #[test]
+    fn sides_are_reached_by_kind() {
+        let mut sides = Sides::new(1, 2);
+        sides[NetworkKind::PullUp] += 10;
+        assert_eq!((sides[NetworkKind::PullDown], sides.pull_up), (1, 12));
+        assert_eq!(sides.map(|kind, v| (kind, v * 2)).pull_up, (NetworkKind::PullUp, 24));
+        assert_eq!(Sides::from_fn(NetworkKind::name).into_iter().collect::<Vec<_>>(), ["pull-down", "pull-up"]);
     }
 
     #[test]

@@ -381,18 +381,18 @@ fn key(resistance: f64) -> i64 {
 }
 
 /// The input vector that makes `path` the only conducting path of the network, or `None` where
-/// repeated inputs make that impossible. `input_of[k]` is device `k`'s input.
+/// repeated inputs make that impossible. The network's device list gives each device's input.
 ///
 /// The path's inputs go to their on-level and every other input to its off-level: turning a device
 /// off never makes a path conduct, so if another path still conducts under this vector, it conducts
 /// under every vector that turns this one on.
-pub fn sensitize(network: &Network, path: &[usize], input_of: &[usize], input_count: usize) -> Option<Vec<bool>> {
+pub fn sensitize(network: &Network, path: &[usize], input_count: usize) -> Option<Vec<bool>> {
     let on_level = network.kind.conducts(true);
     let mut values = vec![!on_level; input_count];
     for &device in path {
-        values[input_of[device]] = on_level;
+        values[network.inputs[device]] = on_level;
     }
-    let on: Vec<bool> = input_of.iter().map(|&input| network.kind.conducts(values[input])).collect();
+    let on = network.on_devices(&values);
     (conducting_paths(&network.root, &on) == 1).then_some(values)
 }
 
@@ -417,18 +417,14 @@ fn conducting_paths(node: &Node, on: &[bool]) -> u64 {
 /// is found 64 vectors per machine word; the resistance is evaluated only at the minimal ones. Of
 /// several vectors with the same worst resistance, the lowest-numbered minimal one is given (input
 /// 0 is bit 0).
-pub fn exact_worst(
-    network: &Network,
-    resistance: &[f64],
-    input_of: &[usize],
-    input_count: usize,
-) -> Option<(f64, Vec<bool>)> {
+pub fn exact_worst(network: &Network, resistance: &[f64], input_count: usize) -> Option<(f64, Vec<bool>)> {
+    let input_of = &network.inputs;
     if input_count > EXACT_WORST_MAX_INPUTS {
         return None;
     }
     let vectors = 1u64 << input_count;
     // Over "on-sets" u: bit i of u says input i holds its devices on (1 for NMOS, 0 for PMOS).
-    let conducts = conduction_by_on_set(network, input_of, input_count);
+    let conducts = conduction_by_on_set(network, input_count);
     let mut minimal = conducts.clone();
     for input in 0..input_count {
         for (word, bits) in minimal.iter_mut().enumerate() {
@@ -486,7 +482,8 @@ pub fn vector_word(word: u64, input: usize) -> u64 {
 const BLOCK: usize = 8;
 
 /// Whether the network conducts, for every on-set of `input_count` inputs, as a bit set.
-pub(crate) fn conduction_by_on_set(network: &Network, input_of: &[usize], input_count: usize) -> Vec<u64> {
+pub(crate) fn conduction_by_on_set(network: &Network, input_count: usize) -> Vec<u64> {
+    let input_of = &network.inputs;
     fn walk(node: &Node, input_of: &[usize], inputs: &[[u64; BLOCK]]) -> [u64; BLOCK] {
         match node {
             Node::Device(index) => inputs[input_of[*index]],
@@ -524,26 +521,25 @@ mod tests {
     use super::*;
     use crate::expr::read_gate;
 
-    fn pull_down(text: &str) -> (Network, Vec<usize>, usize) {
+    fn pull_down(text: &str) -> (Network, usize) {
         let gate = read_gate(text).unwrap();
-        let [down, _] = Network::pair(&gate);
-        (down, gate.input_of(), gate.inputs.len())
+        (Network::pair(&gate).pull_down, gate.inputs.len())
     }
 
     #[test]
     fn weakest_path_and_its_vector() {
-        let (down, input_of, inputs) = pull_down("!(a & (b | c))");
+        let (down, inputs) = pull_down("!(a & (b | c))");
         let r = [0.5, 1.0, 0.25];
         let path = weakest(&down, &r);
         assert_eq!(path.devices, vec![0, 1]);
         assert!((path.resistance - 1.5).abs() < 1e-12);
-        assert_eq!(sensitize(&down, &path.devices, &input_of, inputs), Some(vec![true, true, false]));
+        assert_eq!(sensitize(&down, &path.devices, inputs), Some(vec![true, true, false]));
         assert!((best_case(&down, &r) - (0.5 + 0.2)).abs() < 1e-12);
     }
 
     #[test]
     fn weakest_path_through_a_given_device() {
-        let (down, _, _) = pull_down("!(a & (b | c) | d)");
+        let (down, _) = pull_down("!(a & (b | c) | d)");
         let r = [0.5, 1.0, 0.25, 2.0];
         let through_c = weakest_through(&down, &r, 2).unwrap();
         assert_eq!(through_c.devices, vec![0, 2]);
@@ -556,10 +552,10 @@ mod tests {
     fn path_count_is_exact_beyond_machine_words() {
         // 200 parallel pairs in series: 2^200 paths.
         let group: Vec<String> = (0..200).map(|i| format!("(a{i} | b{i})")).collect();
-        let (down, _, _) = pull_down(&format!("!({})", group.join(" & ")));
+        let (down, _) = pull_down(&format!("!({})", group.join(" & ")));
         assert_eq!(count(&down), BigUint::from(1u8) << 200);
         assert_eq!(count_text(&down), (BigUint::from(1u8) << 200usize).to_string());
-        let (small, _, _) = pull_down("!((a | b | c) & (d | e) & f | g)");
+        let (small, _) = pull_down("!((a | b | c) & (d | e) & f | g)");
         // (3 x 2 x 1) + 1 = 7 paths (series multiply, parallel add)
         assert_eq!((count(&small), count_text(&small)), (BigUint::from(7u8), "7".to_string()));
         let listed = list(&down, &vec![1.0; 400], 5);
@@ -572,7 +568,7 @@ mod tests {
 
     #[test]
     fn listing_is_weakest_first() {
-        let (down, _, _) = pull_down("!((a | b) & (c | d))");
+        let (down, _) = pull_down("!((a | b) & (c | d))");
         let r = [1.0, 3.0, 2.0, 5.0];
         let listed: Vec<f64> = list(&down, &r, 10).iter().map(|p| p.resistance).collect();
         assert_eq!(listed, vec![8.0, 6.0, 5.0, 3.0]);
@@ -590,7 +586,7 @@ mod tests {
                 }),
             }
         }
-        let (down, _, _) = pull_down("!((a | b & c) & (d | e) | f & (g | h) & (i | j & k))");
+        let (down, _) = pull_down("!((a | b & c) & (d | e) | f & (g | h) & (i | j & k))");
         // powers of two: every path has its own sum, so the order is unique
         let r: Vec<f64> = (0..11).map(|k| f64::from(1 << k)).collect();
         let mut expected: Vec<(f64, Vec<usize>)> =
@@ -603,10 +599,10 @@ mod tests {
     }
 
     /// The plain definition: over every vector, the highest resistance of what conducts.
-    fn exact_by_every_vector(network: &Network, r: &[f64], input_of: &[usize], inputs: usize) -> Option<f64> {
+    fn exact_by_every_vector(network: &Network, r: &[f64], inputs: usize) -> Option<f64> {
         let mut worst: Option<f64> = None;
         for vector in 0..1u64 << inputs {
-            let on: Vec<bool> = input_of.iter().map(|&i| network.kind.conducts(vector >> i & 1 == 1)).collect();
+            let on: Vec<bool> = network.inputs.iter().map(|&i| network.kind.conducts(vector >> i & 1 == 1)).collect();
             if let Some(value) = effective_resistance(network, r, &on) {
                 worst = Some(worst.map_or(value, |w: f64| w.max(value)));
             }
@@ -626,14 +622,13 @@ mod tests {
         ];
         for text in cases {
             let gate = read_gate(text).unwrap();
-            let input_of = gate.input_of();
             for network in Network::pair(&gate) {
                 // uneven resistances, so that ties are rare
-                let r: Vec<f64> = (0..input_of.len()).map(|k| 1.0 + (k as f64 * 0.37) % 1.3).collect();
-                let (value, vector) = exact_worst(&network, &r, &input_of, gate.inputs.len()).unwrap();
-                let plain = exact_by_every_vector(&network, &r, &input_of, gate.inputs.len()).unwrap();
+                let r: Vec<f64> = (0..network.device_count()).map(|k| 1.0 + (k as f64 * 0.37) % 1.3).collect();
+                let (value, vector) = exact_worst(&network, &r, gate.inputs.len()).unwrap();
+                let plain = exact_by_every_vector(&network, &r, gate.inputs.len()).unwrap();
                 assert!((value - plain).abs() < 1e-12, "{text} {:?}: {value} vs {plain}", network.kind);
-                let on: Vec<bool> = input_of.iter().map(|&i| network.kind.conducts(vector[i])).collect();
+                let on = network.on_devices(&vector);
                 let at_vector = effective_resistance(&network, &r, &on).unwrap();
                 assert!((at_vector - value).abs() < 1e-12, "{text}: the vector reaches it");
             }
@@ -644,15 +639,15 @@ mod tests {
     fn repeated_inputs_can_block_a_path() {
         // !(a & b | a & c): a=1 b=1 c=0 turns on the second a too, but its path stays open at c,
         // so the first path still conducts alone.
-        let (down, input_of, inputs) = pull_down("!(a & b | a & c)");
-        assert_eq!(sensitize(&down, &[0, 1], &input_of, inputs), Some(vec![true, true, false]));
-        let (exact, vector) = exact_worst(&down, &[0.5; 4], &input_of, inputs).unwrap();
+        let (down, inputs) = pull_down("!(a & b | a & c)");
+        assert_eq!(sensitize(&down, &[0, 1], inputs), Some(vec![true, true, false]));
+        let (exact, vector) = exact_worst(&down, &[0.5; 4], inputs).unwrap();
         assert!((exact - 1.0).abs() < 1e-12);
         assert_eq!(vector, vec![true, true, false]);
         // !((a | b) & (a | c)): the pull-down path through the first a and c turns on the second a,
         // which closes the path a-a as well, so it never conducts alone.
-        let (down, input_of, inputs) = pull_down("!((a | b) & (a | c))");
-        assert_eq!(sensitize(&down, &[0, 3], &input_of, inputs), None);
-        assert_eq!(sensitize(&down, &[0, 2], &input_of, inputs), Some(vec![true, false, false]));
+        let (down, inputs) = pull_down("!((a | b) & (a | c))");
+        assert_eq!(sensitize(&down, &[0, 3], inputs), None);
+        assert_eq!(sensitize(&down, &[0, 2], inputs), Some(vec![true, false, false]));
     }
 }

@@ -118,10 +118,10 @@ impl SizingOptions {
     }
 }
 
-/// W/L of every device of `network` (indexed by device; `device_count` of them).
-pub fn size(network: &Network, device_count: usize, method: Method, options: &SizingOptions) -> Vec<f64> {
+/// W/L of every device of `network` (indexed by device).
+pub fn size(network: &Network, method: Method, options: &SizingOptions) -> Vec<f64> {
     let reference = options.reference_width(network.kind);
-    let mut widths = vec![0.0; device_count];
+    let mut widths = vec![0.0; network.device_count()];
     match method {
         Method::LongestPath => longest_path(&network.root, 0, reference, &mut widths),
         // The elmore method's program starts from the min-area widths; the delay stage replaces them.
@@ -192,9 +192,9 @@ mod tests {
 
     fn widths(text: &str, method: Method, kind: NetworkKind) -> Vec<f64> {
         let gate = read_gate(text).unwrap();
-        let network = Network::build(&gate.function, kind);
+        let network = Network::build(&gate, kind);
         let options = SizingOptions::new(method, 2.0, 1.0, None);
-        size(&network, gate.literals.len(), method, &options)
+        size(&network, method, &options)
     }
 
     #[test]

@@ -64,7 +64,7 @@ pub fn run(args: Args) -> Result<(), Error> {
     let options = gate_options(&gate)?;
     let text = super::expression_text(&expression)?;
     let sized = super::read_and_size(&text, &options, &sizing_delay(&gate, &options)?)?;
-    for network in &sized.trees {
+    for network in sized.trees.values() {
         paths::check_listing(network, limit)?;
     }
     let listings = sized.list_paths(limit);

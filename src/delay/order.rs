@@ -14,7 +14,7 @@ use super::{DelayError, DelayOptions, analyse_within, size_read_gate_within};
 use crate::budget::{Estimate, Meter, Work};
 use crate::expr::GateFunction;
 use crate::gate::{GateOptions, SizedGate, device_name};
-use crate::network::{Network, NetworkKind, Node};
+use crate::network::{Network, NetworkKind, Node, Sides};
 use crate::sizing::Method;
 
 /// Which series-stack order to time.
@@ -41,8 +41,8 @@ const BUDGET_ELMORE: usize = 200;
 /// Most input occurrences (transistors per network) of a gate whose orders are searched.
 pub const MAX_SEARCH_OCCURRENCES: usize = 64;
 
-/// The series stacks in pre-order: (network side, member count).
-fn stacks(node: &Node, side: usize, out: &mut Vec<(usize, usize)>) {
+/// The series stacks in pre-order: (network, member count).
+fn stacks(node: &Node, side: NetworkKind, out: &mut Vec<(NetworkKind, usize)>) {
     match node {
         Node::Device(_) => {}
         Node::Parallel(branches) => branches.iter().for_each(|b| stacks(b, side, out)),
@@ -100,14 +100,14 @@ struct Search<'a> {
     function: &'a GateFunction,
     options: &'a GateOptions,
     delay: &'a DelayOptions,
-    base: [Network; 2],
+    base: Sides<Network>,
     tried: usize,
 }
 
 impl Search<'_> {
-    fn trees(&self, orders: &[Vec<usize>]) -> [Network; 2] {
+    fn trees(&self, orders: &[Vec<usize>]) -> Sides<Network> {
         let mut next = 0;
-        self.base.clone().map(|network| Network { kind: network.kind, root: apply(&network.root, orders, &mut next) })
+        self.base.clone().map(|_, network| Network { root: apply(&network.root, orders, &mut next), ..network })
     }
 
     /// The score of an order (lower is better) and its gate; `None` where the elmore method finds
@@ -156,7 +156,7 @@ pub(crate) fn search_within(
     let default_gate = size_read_gate_within(function, options, delay, meter)?;
     let base = default_gate.trees.clone();
     let mut shape = Vec::new();
-    for (side, network) in base.iter().enumerate() {
+    for (side, network) in base.iter() {
         stacks(&network.root, side, &mut shape);
     }
     let identity: Vec<Vec<usize>> = shape.iter().map(|&(_, len)| (0..len).collect()).collect();
@@ -244,7 +244,7 @@ pub(crate) fn search_within(
         gain_percent: if default_value > 0.0 { (default_value - chosen_value) / default_value * 100.0 } else { 0.0 },
         orders_tried: search.tried,
         exhaustive,
-        networks: gate.trees.iter().map(describe).collect(),
+        networks: gate.trees.values().map(describe).collect(),
     };
     Ok((gate, report))
 }

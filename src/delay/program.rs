@@ -26,7 +26,7 @@ use crate::budget::{Estimate, Meter, Work};
 use crate::expr::GateFunction;
 use crate::figures::NodeDiffusion;
 use crate::gate::{GateOptions, SizedGate, size_function};
-use crate::network::NetworkKind;
+use crate::network::Sides;
 use crate::paths::{self, MAX_LISTED_PATHS};
 use crate::sizing::{self, Method};
 
@@ -48,14 +48,12 @@ pub(crate) struct PathTransition {
 /// Every transition through one path that conducts alone: each such path of each network, with
 /// each distinct input on it switching.
 pub(crate) fn path_transitions(gate: &SizedGate, circuit: &Circuit) -> Result<Vec<PathTransition>, DelayError> {
-    let count = circuit.count;
     let input_of = gate.function.input_of();
     let inputs = gate.function.inputs.len();
     let mut out = Vec::new();
     for edge in Edge::BOTH {
         let kind = edge.network();
-        let side = usize::from(kind == NetworkKind::PullUp);
-        let network = &gate.trees[side];
+        let network = &gate.trees[kind];
         let total = paths::count(network);
         if total > MAX_LISTED_PATHS.into() {
             return Err(DelayError::TooManyPaths {
@@ -64,9 +62,9 @@ pub(crate) fn path_transitions(gate: &SizedGate, circuit: &Circuit) -> Result<Ve
                 limit: MAX_LISTED_PATHS,
             });
         }
-        let resistance = gate.options.resistances(kind, &gate.widths[side]);
+        let resistance = gate.options.resistances(kind, &gate.widths[kind]);
         for path in paths::list(network, &resistance, MAX_LISTED_PATHS) {
-            let Some(after) = paths::sensitize(network, &path.devices, &input_of, inputs) else { continue };
+            let Some(after) = paths::sensitize(network, &path.devices, inputs) else { continue };
             let mut seen = Vec::new();
             for &device in &path.devices {
                 let input = input_of[device];
@@ -79,7 +77,7 @@ pub(crate) fn path_transitions(gate: &SizedGate, circuit: &Circuit) -> Result<Ve
                     edge: edge.name(),
                     why,
                 })?;
-                let chain = path.devices.iter().map(|&d| side * count + d).collect();
+                let chain = path.devices.iter().map(|&d| circuit.offsets[kind] + d).collect();
                 out.push(PathTransition { input, edge, shape, chain });
             }
         }
@@ -323,12 +321,11 @@ pub(crate) fn elmore_program_within(
             chains.push(key);
         }
     }
-    let count = circuit.count;
     let mut longest = Vec::with_capacity(devices);
     let mut start = Vec::with_capacity(devices);
     for network in crate::network::Network::pair(&gate.function) {
-        longest.extend(sizing::size(&network, count, Method::LongestPath, &gate.options));
-        start.extend(sizing::size(&network, count, Method::MinArea, &gate.options));
+        longest.extend(sizing::size(&network, Method::LongestPath, &gate.options));
+        start.extend(sizing::size(&network, Method::MinArea, &gate.options));
     }
     let mut lower: Vec<f64> = longest.iter().map(|w| w / BOX).collect();
     let mut upper: Vec<f64> = longest.iter().map(|w| w * BOX).collect();
@@ -382,11 +379,11 @@ pub fn size_for_delay(
             });
         }
     };
-    let count = function.literals.len();
+    let split = longest.trees.pull_down.device_count();
     let mut sized = options.clone();
     sized.sizing.method = Method::Elmore;
     sized.stack_order = Some(longest.trees.clone());
-    sized.fixed_widths = Some([widths[..count].to_vec(), widths[count..2 * count].to_vec()]);
+    sized.fixed_widths = Some(Sides::new(widths[..split].to_vec(), widths[split..devices].to_vec()));
     Ok(size_function(function.clone(), &sized)?)
 }
 

@@ -65,7 +65,7 @@ impl PullUp {
                 Function::Or(children) => Node::Parallel(children.iter().map(walk).collect()),
             }
         }
-        Network { kind: NetworkKind::PullUp, root: walk(&self.function) }
+        Network { kind: NetworkKind::PullUp, root: walk(&self.function), inputs: self.input_of() }
     }
 
     /// The stage input of every device, by device index.

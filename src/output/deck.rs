@@ -149,12 +149,10 @@ pub fn reference_measure(kind: NetworkKind) -> String {
 /// whose every path is blocked by repeated inputs gets the exact worst over its side inputs (up to
 /// 16 inputs); an input with no transition at all (its toggling never moves the output) is left out.
 pub fn transitions(gate: &SizedGate) -> Vec<Transition> {
-    let input_of = gate.function.input_of();
     let mut out = Vec::new();
     for input in 0..gate.inputs.len() {
         for kind in NetworkKind::BOTH {
-            let side = usize::from(kind == NetworkKind::PullUp);
-            let drawn = gate.options.resistances(kind, &gate.drawn_widths[side]);
+            let drawn = gate.options.resistances(kind, &gate.drawn_widths[kind]);
             let (resistance, vector, path) = match gate.worst_case_for_input(input, kind) {
                 Some((path, vector)) => (
                     path.resistance,
@@ -166,8 +164,8 @@ pub fn transitions(gate: &SizedGate) -> Vec<Transition> {
                     None => continue,
                 },
             };
-            let on: Vec<bool> = input_of.iter().map(|&i| kind.conducts(vector[i])).collect();
-            let drawn_resistance = paths::effective_resistance(&gate.trees[side], &drawn, &on).unwrap_or(f64::INFINITY);
+            let on = gate.trees[kind].on_devices(&vector);
+            let drawn_resistance = paths::effective_resistance(&gate.trees[kind], &drawn, &on).unwrap_or(f64::INFINITY);
             out.push(Transition { input, kind, vector, resistance, drawn_resistance, path });
         }
     }
@@ -177,13 +175,11 @@ pub fn transitions(gate: &SizedGate) -> Vec<Transition> {
 /// Where repeated inputs leave no path through `input` that conducts alone: the transition of
 /// that input with the highest resistance after the switch, over every side-input vector.
 fn exact_transition(gate: &SizedGate, input: usize, kind: NetworkKind) -> Option<(f64, Vec<bool>)> {
-    let side = usize::from(kind == NetworkKind::PullUp);
-    let resistance = gate.options.resistances(kind, &gate.widths[side]);
-    let input_of = gate.function.input_of();
+    let resistance = gate.options.resistances(kind, &gate.widths[kind]);
     let mut best: Option<(f64, Vec<bool>)> = None;
     for values in gate.switching_vectors(input, kind)? {
-        let on: Vec<bool> = input_of.iter().map(|&i| kind.conducts(values[i])).collect();
-        let Some(after) = paths::effective_resistance(&gate.trees[side], &resistance, &on) else { continue };
+        let on = gate.trees[kind].on_devices(&values);
+        let Some(after) = paths::effective_resistance(&gate.trees[kind], &resistance, &on) else { continue };
         if best.as_ref().is_none_or(|(r, _)| after > r + 1e-12) {
             best = Some((after, values));
         }

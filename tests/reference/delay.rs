@@ -104,7 +104,7 @@ fn parallel_branches_are_solved_not_treed() {
     // the resistance shared with it; common practice, no source).
     // The written order of oai21's pull-down is (a | b) then c.
     let written = Network::pair(&read_gate("oai21").unwrap());
-    assert_eq!(delay::order::describe(&written[0]), "pull-down: (MN1 | MN2) - MN3");
+    assert_eq!(delay::order::describe(&written.pull_down), "pull-down: (MN1 | MN2) - MN3");
     let gate = size_text("oai21", &GateOptions { stack_order: Some(written), ..options(Method::LongestPath) }).unwrap();
     let timing = timed(&gate, Load::Fanout(1.0), 1.0);
     let rise = find(&timing, "c", Edge::Rise);
@@ -125,7 +125,7 @@ fn stack_order_search_finds_the_faster_oai21() {
     assert!((report.default_value - 22.0).abs() < 1e-9, "{}", report.default_value);
     assert!((report.chosen_value - 20.0).abs() < 1e-9, "{}", report.chosen_value);
     assert!((report.gain_percent - 100.0 * 2.0 / 22.0).abs() < 1e-9);
-    assert_eq!(delay::order::describe(&gate.trees[0]), "pull-down: (MN1 | MN2) - MN3");
+    assert_eq!(delay::order::describe(&gate.trees.pull_down), "pull-down: (MN1 | MN2) - MN3");
 }
 
 const GATES: [&str; 8] = ["inv", "nand2", "nand3", "nor2", "nor3", "aoi21", "aoi22", "oai21"];

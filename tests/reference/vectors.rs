@@ -63,7 +63,7 @@ struct Case {
 impl Case {
     fn new(text: &str, kind: NetworkKind, drive: f64) -> Case {
         let gate = read_gate(text).unwrap();
-        let network = Network::build(&gate.function, kind);
+        let network = Network::build(&gate, kind);
         let unit = if kind == NetworkKind::PullUp { 2.0 } else { 1.0 };
         // Balanced reference at mobility ratio 2: either network's target is R / drive.
         Case {
@@ -77,7 +77,7 @@ impl Case {
     }
 
     fn json(&self) -> serde_json::Value {
-        let nodes = self.network.nodes(self.input_of.len(), "y", "n");
+        let nodes = self.network.nodes("y", "n");
         let devices: Vec<serde_json::Value> = nodes
             .iter()
             .zip(&self.input_of)
@@ -96,7 +96,7 @@ impl Case {
 
     fn size(&self) -> ExactSizing {
         let lower = vec![0.0; self.input_of.len()];
-        size_network(&self.network, &self.input_of, self.inputs, self.unit, self.target, &lower, DEFAULT_BUDGET)
+        size_network(&self.network, self.inputs, self.unit, self.target, &lower, DEFAULT_BUDGET)
             .unwrap_or_else(|e| panic!("{}: {e}", self.name))
     }
 }
