@@ -14,9 +14,9 @@ static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 use std::hint::black_box;
 use std::time::{Duration, Instant};
 
-use widthwise::gate::GateOptions;
+use widthwise::figures::CellFigures;
 use widthwise::size_text;
-use widthwise::sizing::{Method, SizingOptions};
+use widthwise::sizing::{Method, Plan};
 use widthwise::verify::{VerifyOptions, verify};
 
 /// Typical library gates of 2 to 8 inputs: shorthands and written expressions.
@@ -47,8 +47,13 @@ const LIBRARY: [&str; 24] = [
     "!(a & b | a & c | d)",
 ];
 
-fn options(method: Method) -> GateOptions {
-    GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None))
+fn options(method: Method) -> Plan {
+    Plan::new(method, 2.0, 1.0, None)
+}
+
+/// Size a gate and work out its figures: what every writer takes.
+fn sized(text: &str, plan: &Plan) -> CellFigures {
+    CellFigures::of(&size_text(text, plan).expect("the gate sizes"))
 }
 
 /// Best time of `rounds` calls of `work`, after one warm-up call.
@@ -66,13 +71,13 @@ fn best_of(rounds: usize, mut work: impl FnMut()) -> Duration {
 
 fn sizing_throughput() {
     println!("sizing throughput, one thread, {} library gates (2 to 8 inputs) in turn", LIBRARY.len());
-    for method in [Method::LongestPath, Method::MinArea] {
+    for method in [Method::LongestPath, Method::MIN_AREA] {
         let options = options(method);
         let passes = 200;
         let time = best_of(40, || {
             for _ in 0..passes {
                 for text in LIBRARY {
-                    black_box(size_text(black_box(text), &options).expect("a library gate sizes"));
+                    black_box(sized(black_box(text), &options));
                 }
             }
         });
@@ -94,7 +99,7 @@ fn sizing_throughput() {
                 scope.spawn(|| {
                     for _ in 0..passes {
                         for text in LIBRARY {
-                            black_box(size_text(black_box(text), &options).expect("a library gate sizes"));
+                            black_box(sized(black_box(text), &options));
                         }
                     }
                 });
@@ -143,11 +148,11 @@ fn large_expression() {
     for (inputs, label) in [(2000, "2000 distinct inputs"), (200, "200 inputs, repeated"), (16, "16 inputs, repeated")]
     {
         let text = big_expression(2000, inputs);
-        for method in [Method::LongestPath, Method::MinArea] {
+        for method in [Method::LongestPath, Method::MIN_AREA] {
             let options = options(method);
             let mut counts = (String::new(), String::new());
             let time = best_of(5, || {
-                let gate = size_text(&text, &options).expect("the expression sizes");
+                let gate = sized(&text, &options);
                 counts = (gate.networks[0].path_count.clone(), gate.networks[1].path_count.clone());
                 black_box(gate);
             });
@@ -179,8 +184,8 @@ fn verify_24_inputs() {
     ];
     let threads = VerifyOptions::default().threads;
     for (label, text) in gates {
-        let gate = size_text(&text, &options(Method::LongestPath)).expect("sizes");
-        assert_eq!(gate.function.inputs.len(), 24, "{label}");
+        let gate = sized(&text, &options(Method::LongestPath));
+        assert_eq!(gate.inputs.len(), 24, "{label}");
         for use_threads in [1, threads] {
             let options = VerifyOptions { threads: use_threads, ..VerifyOptions::default() };
             let time = best_of(3, || {
@@ -220,12 +225,12 @@ fn scipy_set() {
         "
 min-area sizing in-process, the gates of benches/scipy_min_area.py (compare its scipy solve times)"
     );
-    let options = options(Method::MinArea);
+    let options = options(Method::MIN_AREA);
     let mut times = Vec::new();
     for text in SCIPY_SET {
         let time = best_of(20, || {
             for _ in 0..100 {
-                black_box(size_text(black_box(text), &options).expect("sizes"));
+                black_box(sized(black_box(text), &options));
             }
         }) / 100;
         times.push(time);
@@ -336,10 +341,10 @@ fn main() {
     }
     if filter.as_deref() == Some("profile") {
         // A short fixed run for profilers (valgrind, perf): the library 1000 times, both methods.
-        for method in [Method::LongestPath, Method::MinArea] {
+        for method in [Method::LongestPath, Method::MIN_AREA] {
             for _ in 0..500 {
                 for text in LIBRARY {
-                    black_box(size_text(text, &options(method)).expect("sizes"));
+                    black_box(sized(text, &options(method)));
                 }
             }
         }

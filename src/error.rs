@@ -1,7 +1,7 @@
 //! The final error of a run, as the binary sees it: each stage's typed error, gathered.
 //!
 //! Each stage returns its own error type, next to the stage ([`ExprError`], [`ProcessError`],
-//! [`GateError`], [`DelayError`] ...). [`Error`] wraps them without flattening them to text, knows
+//! [`SizingError`], [`TimingError`] ...). [`Error`] wraps them without flattening them to text, knows
 //! the exit code of each ([`Error::exit_code`], codes in [`crate::exit`]) and renders each through
 //! the one diagnostic renderer ([`Error::render`]), pointing into its source where it has a place.
 //! This module imports the stages; no stage imports it.
@@ -9,17 +9,17 @@
 use thiserror::Error;
 
 use crate::budget::OverBudget;
-use crate::delay::DelayError;
 use crate::diagnostic::{Diagnostic, Source};
 use crate::exit::{EXIT_BAD_INPUT, EXIT_CHECK_FAILED};
 use crate::expr::error::ExprError;
-use crate::gate::GateError;
 use crate::io::{InputError, OutputError};
 use crate::library::LibraryError;
 use crate::ngspice::SimulationError;
 use crate::output::deck::DeckError;
 use crate::paths::ListingError;
 use crate::process::ProcessError;
+use crate::sizing::SizingError;
+use crate::timing::TimingError;
 use crate::verify::{VerifyError, VerifyFailed};
 
 /// An error of any stage, as the binary sees it.
@@ -55,12 +55,13 @@ pub enum Error {
     /// The output could not be written (a closed pipe is handled by the binary).
     #[error(transparent)]
     Output(#[from] OutputError),
-    /// A read gate that cannot be sized.
+    /// A cell that cannot be sized under its plan (the elmore method and the stack-order search
+    /// included).
     #[error(transparent)]
-    Gate(#[from] GateError),
-    /// Delays, the elmore method or the stack-order search could not be worked out.
+    Sizing(#[from] SizingError),
+    /// Delays that could not be worked out.
     #[error(transparent)]
-    Delay(#[from] DelayError),
+    Timing(#[from] TimingError),
     /// A path listing past its limits.
     #[error(transparent)]
     Listing(#[from] ListingError),
@@ -131,8 +132,8 @@ impl Error {
     /// that cannot be read or written.
     pub fn exit_code(&self) -> u8 {
         let failed = match self {
-            Error::Delay(error) => error.is_check_failure() || error.is_internal(),
-            Error::Gate(error) => error.is_internal(),
+            Error::Sizing(error) => error.is_check_failure() || error.is_internal(),
+            Error::Timing(error) => error.is_internal(),
             Error::Verify(error) => error.is_internal(),
             Error::Simulation(error) => return error.exit_code(),
             Error::VerifyFailed(_) | Error::VariantsUnverified { .. } => true,
@@ -155,8 +156,8 @@ impl Error {
     /// Whether the error is an internal inconsistency: a bug, never the input's fault.
     pub fn is_internal(&self) -> bool {
         match self {
-            Error::Delay(error) => error.is_internal(),
-            Error::Gate(error) => error.is_internal(),
+            Error::Sizing(error) => error.is_internal(),
+            Error::Timing(error) => error.is_internal(),
             Error::Verify(error) => error.is_internal(),
             _ => false,
         }
@@ -192,18 +193,21 @@ mod tests {
 
     #[test]
     fn each_kind_of_error_has_its_exit_code() {
-        let infeasible = DelayError::Infeasible { ratio: 1.5, input: "a".into(), edge: "fall" };
+        let infeasible = SizingError::Infeasible { ratio: 1.5, input: "a".into(), edge: "fall" };
         assert_eq!(Error::from(infeasible).exit_code(), EXIT_CHECK_FAILED);
-        let stalled = DelayError::Solver(crate::delay::geometric::SolveError::Stalled);
+        let stalled = SizingError::Solver(crate::optimize::geometric::SolveError::Stalled);
         assert_eq!(Error::from(stalled).exit_code(), EXIT_CHECK_FAILED);
-        let search = DelayError::TooLargeToSearch { count: 70, limit: 64 };
+        let search = SizingError::TooLargeToSearch { count: 70, limit: 64 };
         assert_eq!(Error::from(search).exit_code(), EXIT_BAD_INPUT);
-        let internal = Error::from(DelayError::DefaultOrderChanged);
+        let internal = Error::from(SizingError::DefaultOrderChanged);
         assert_eq!(internal.exit_code(), EXIT_CHECK_FAILED);
         assert!(internal.render().contains("an internal inconsistency"), "{}", internal.render());
-        let reserved = GateError::ReservedCellName { name: "vdd".into(), why: "a rail".into() };
+        let reserved = SizingError::ReservedCellName { name: "vdd".into(), why: "a rail".into() };
         assert_eq!(Error::from(reserved).exit_code(), EXIT_BAD_INPUT);
-        assert_eq!(Error::from(GateError::ForeignStackOrder).exit_code(), EXIT_CHECK_FAILED);
+        let fault = crate::timing::NetworkFault::NoRail;
+        let network = TimingError::Network { input: "a".into(), edge: "fall", why: fault };
+        assert_eq!(Error::from(network.clone()).exit_code(), EXIT_CHECK_FAILED);
+        assert_eq!(Error::from(SizingError::Timing(network)).exit_code(), EXIT_CHECK_FAILED);
         assert_eq!(Error::from(DeckError::SameModels { name: "m".into() }).exit_code(), EXIT_BAD_INPUT);
         let too_long = InputError::TooLong { what: "the expression".into(), limit: 1 };
         assert_eq!(Error::from(too_long).exit_code(), EXIT_BAD_INPUT);

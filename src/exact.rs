@@ -20,7 +20,7 @@
 use crate::network::{Network, NetworkKind, Node};
 use crate::optimize::{self, Budget, Linear, Outcome, Program, Settings, Smooth, SolveError};
 use crate::paths::{EXACT_WORST_MAX_INPUTS, conduction_by_on_set, vector_word};
-use crate::sizing::{self, Method, Reference, SizingOptions};
+use crate::sizing::rules::{self, Rule};
 
 /// Most inputs of a network sized exactly: its input vectors are enumerated (bit-parallel).
 pub const MAX_INPUTS: usize = EXACT_WORST_MAX_INPUTS;
@@ -241,8 +241,7 @@ pub fn size_network(
         .collect();
 
     // Start: the closed form (unit reference width, then scaled to this target), 1% up.
-    let options = SizingOptions::new(Method::MinArea, 1.0, 1.0, Some(Reference { nmos: 1.0, pmos: 1.0 }));
-    let closed = sizing::size(network, Method::MinArea, &options);
+    let closed = rules::widths(network, Rule::MinArea, 1.0);
     let start: Vec<f64> = device_of.iter().map(|&d| 1.01 * (closed[d] / scale).max(lower[d])).collect();
     let variable_lower: Vec<f64> = device_of.iter().map(|&d| lower[d]).collect();
     let upper = vec![f64::INFINITY; device_of.len()];
@@ -543,8 +542,7 @@ mod tests {
 
     /// Min-area closed-form widths for a target and unit resistance.
     fn closed_form(network: &Network, unit: f64, target: f64) -> Vec<f64> {
-        let options = SizingOptions::new(Method::MinArea, 1.0, 1.0, Some(Reference { nmos: 1.0, pmos: 1.0 }));
-        sizing::size(network, Method::MinArea, &options).iter().map(|w| w * unit / target).collect()
+        rules::widths(network, Rule::MinArea, 1.0).iter().map(|w| w * unit / target).collect()
     }
 
     /// Effective resistance between the output and the rail by node-voltage analysis, written here

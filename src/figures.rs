@@ -1,46 +1,364 @@
-//! Figures of a sized gate: input capacitance per input, logical effort, parasitic delay, totals,
-//! and the diffusion width of each node (shared by the delay stage and the simulation deck).
+//! Figures of a sized cell, worked out from its sized devices once: every transistor as written to
+//! netlists, input capacitance, logical effort, parasitic delay, each network's worst and best case
+//! and path count, totals, area, the other method's total; the path listing; and the diffusion
+//! width of each node (the one rule the delays and the simulation deck share).
 //!
 //! Capacitances are in units of the gate capacitance of the unit NMOS (W/L = 1). Logical effort
 //! and parasitic delay divide by the reference inverter's input capacitance at the same drive, which
 //! is the unit gate against the unit inverter, so neither changes with drive.
 
-use crate::network::Terminals;
+use std::sync::Arc;
 
-/// One device as the figures see it.
-#[derive(Debug, Clone, Copy)]
-pub struct DeviceLoad<'a> {
-    /// Gate input index.
-    pub input: usize,
-    /// W/L.
+use crate::cell::{SizedCell, SizedNetwork, SizedStage, device_name};
+use crate::expr::GateFunction;
+use crate::network::NetworkKind;
+use crate::paths::{self, Vector};
+use crate::process::Process;
+use crate::sizing::plan::{Method, Plan};
+use crate::sizing::rules::{self, Rule};
+
+/// One sized transistor, as netlists write it.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Transistor {
+    /// `MN1`, `MP1` ...: the number is the device's index in its network.
+    pub name: String,
+    /// `"nmos"` or `"pmos"`.
+    #[serde(rename = "type")]
+    pub device_type: &'static str,
+    /// Which network.
+    pub network: NetworkKind,
+    /// The input on its gate.
+    pub input: String,
+    /// Output-side node.
+    pub drain: String,
+    /// Rail-side node.
+    pub source: String,
+    /// Relative W/L: 1 is the unit NMOS.
     pub w_over_l: f64,
-    /// Its terminals.
-    pub terminals: &'a Terminals,
+    /// Physical width before snapping, um: W/L x the process's unit width.
+    pub width_um: f64,
+    /// Drawn length, um.
+    pub length_um: f64,
+    /// Drawn width in all, um: fingers x finger width, on the grid and at least the minimum width.
+    pub drawn_width_um: f64,
+    /// Width of each finger, um (SPICE `W=`).
+    pub finger_width_um: f64,
+    /// Number of equal fingers (SPICE `m=`).
+    pub fingers: usize,
+    /// Relative W/L as drawn: drawn width / unit width.
+    pub drawn_w_over_l: f64,
 }
 
-/// Input capacitance of every input: the W/L of every device it gates, both networks.
-pub fn input_capacitance(devices: &[DeviceLoad], input_count: usize) -> Vec<f64> {
-    let mut capacitance = vec![0.0; input_count];
-    for device in devices {
-        capacitance[device.input] += device.w_over_l;
+/// Figures of one input.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct InputFigures {
+    /// Input name.
+    pub name: String,
+    /// Sum of the W/L of the devices it gates, in unit-NMOS gate capacitances (C).
+    pub input_capacitance: f64,
+    /// The same in fF: input capacitance x C, the process's gate capacitance per um x unit width
+    /// (from the sized W/L, before snapping).
+    pub input_capacitance_ff: f64,
+    /// Input capacitance over the reference inverter's at the same drive.
+    pub logical_effort: f64,
+}
+
+/// The exact worst case over input vectors, where repeated inputs make it differ from the path bound.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ExactWorst {
+    /// Highest resistance of what conducts over all input vectors, in units of R.
+    pub resistance: f64,
+    /// A vector that reaches it.
+    pub vector: Vector,
+}
+
+/// Worst and best case of one network.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct NetworkFigures {
+    /// Which network.
+    pub network: NetworkKind,
+    /// The reference inverter's resistance on this side, in units of R.
+    pub target_resistance: f64,
+    /// The weakest path's resistance, in units of R.
+    pub worst_resistance: f64,
+    /// Its devices, output side first.
+    pub worst_path: Vec<String>,
+    /// The input vector that makes it the only conducting path; `null` where repeated inputs
+    /// make that impossible.
+    pub worst_vector: Option<Vector>,
+    /// With repeated inputs: the exact worst over input vectors (at most 16 inputs), else `null`.
+    pub exact_worst: Option<ExactWorst>,
+    /// Resistance with every device on, in units of R.
+    pub best_resistance: f64,
+    /// Number of conducting paths, as a decimal string (it can exceed any machine integer).
+    pub path_count: String,
+    /// Sum of the network's W/L.
+    pub total_w_over_l: f64,
+    /// The weakest path's resistance with the drawn (snapped) widths, in units of R.
+    pub drawn_worst_resistance: f64,
+    /// Its error against the target, percent (negative: faster than the reference).
+    pub drawn_error_percent: f64,
+}
+
+/// What the other method would use.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Comparison {
+    /// The other method.
+    pub method: Method,
+    /// Its total W/L.
+    pub total_w_over_l: f64,
+    /// Its total relative to this one's, in percent (negative: it would save).
+    pub change_percent: f64,
+}
+
+/// Every figure of a sized cell; its serde form is the JSON output (with the delays beside it).
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct CellFigures {
+    /// Cell name.
+    pub name: String,
+    /// The expression in canonical form.
+    pub expression: String,
+    /// Output node.
+    pub output: String,
+    /// Sizing method.
+    pub method: Method,
+    /// Mobility ratio mu_n / mu_p.
+    pub mobility_ratio: f64,
+    /// Drive strength.
+    pub drive: f64,
+    /// Reference inverter NMOS W/L at this drive.
+    pub reference_nmos_w_over_l: f64,
+    /// Reference inverter PMOS W/L at this drive.
+    pub reference_pmos_w_over_l: f64,
+    /// The input placed nearest the output, if one was named.
+    pub critical_input: Option<String>,
+    /// Every transistor, NMOS then PMOS, in device order.
+    pub transistors: Vec<Transistor>,
+    /// Every input, in order of first appearance.
+    pub inputs: Vec<InputFigures>,
+    /// Parasitic delay, output node only, in units of the reference inverter's.
+    pub parasitic_delay: f64,
+    /// The devices whose drain is the output node.
+    pub output_devices: Vec<String>,
+    /// Number of transistors.
+    pub transistor_count: usize,
+    /// Sum of all W/L.
+    pub total_w_over_l: f64,
+    /// Pull-down then pull-up.
+    pub networks: Vec<NetworkFigures>,
+    /// The other method's total.
+    pub comparison: Comparison,
+    /// Sum of all drawn widths, um.
+    pub total_drawn_width_um: f64,
+    /// Drawn area, um^2: the sum over devices of drawn width x length, the channel areas. Not a
+    /// layout's area: no diffusions, spacing or wiring.
+    pub area_um2: f64,
+    /// The process the drawn sizes come from.
+    pub process: Arc<Process>,
+}
+
+impl CellFigures {
+    /// The figures of `cell`.
+    pub fn of(cell: &SizedCell) -> CellFigures {
+        let plan = &cell.plan;
+        let stage = cell.stage();
+        let function = &stage.function;
+        let process = &plan.process;
+        let reference_capacitance = plan.reference_capacitance();
+        let capacitance = input_capacitance(stage);
+        let inputs = function
+            .inputs
+            .iter()
+            .zip(&capacitance)
+            .map(|(name, &c)| InputFigures {
+                name: name.clone(),
+                input_capacitance: c,
+                input_capacitance_ff: c * process.unit_capacitance_ff(),
+                logical_effort: c / reference_capacitance,
+            })
+            .collect();
+        let parasitic_delay = output_diffusion(stage) / reference_capacitance;
+        let mut transistors = Vec::with_capacity(2 * function.literals.len());
+        for sized in stage.networks.values() {
+            let kind = sized.kind();
+            for (device, node) in sized.terminals.iter().enumerate() {
+                let drawn = &sized.drawn[device];
+                transistors.push(Transistor {
+                    name: device_name(kind, device),
+                    device_type: kind.device_type(),
+                    network: kind,
+                    input: function.inputs[sized.network.inputs[device]].clone(),
+                    drain: node.drain.clone(),
+                    source: node.source.clone(),
+                    w_over_l: sized.widths[device],
+                    width_um: process.width_nm(sized.widths[device]) / 1000.0,
+                    length_um: process.length_nm / 1000.0,
+                    drawn_width_um: drawn.width_nm() / 1000.0,
+                    finger_width_um: drawn.finger_width_nm / 1000.0,
+                    fingers: drawn.fingers,
+                    drawn_w_over_l: drawn.width_nm() / process.unit_width_nm,
+                });
+            }
+        }
+        let output_devices =
+            transistors.iter().filter(|t| t.drain == function.output).map(|t| t.name.clone()).collect();
+        let networks = stage.networks.values().map(|sized| network_figures(function, sized, plan)).collect();
+        let total_drawn_width_um = transistors.iter().map(|t| t.drawn_width_um).sum();
+        let area_um2 = transistors.iter().map(|t| t.drawn_width_um * t.length_um).sum();
+        let total: f64 = stage.networks.values().flat_map(|n| &n.widths).sum();
+        let other = plan.method.other();
+        let other_total = other_total(stage, plan, other);
+        CellFigures {
+            name: cell.name.clone(),
+            expression: function.text.clone(),
+            output: function.output.clone(),
+            method: plan.method,
+            mobility_ratio: plan.mobility_ratio,
+            drive: plan.drive,
+            reference_nmos_w_over_l: plan.reference_width(NetworkKind::PullDown),
+            reference_pmos_w_over_l: plan.reference_width(NetworkKind::PullUp),
+            critical_input: plan.order.critical().map(str::to_string),
+            transistor_count: transistors.len(),
+            transistors,
+            inputs,
+            parasitic_delay,
+            output_devices,
+            total_w_over_l: total,
+            networks,
+            comparison: Comparison {
+                method: other,
+                total_w_over_l: other_total,
+                change_percent: (other_total / total - 1.0) * 100.0,
+            },
+            total_drawn_width_um,
+            area_um2,
+            process: Arc::clone(process),
+        }
+    }
+}
+
+/// The total W/L the path method `method` gives the stage (the elmore method has no closed form:
+/// it is compared with min-area).
+fn other_total(stage: &SizedStage, plan: &Plan, method: Method) -> f64 {
+    let rule = match method {
+        Method::LongestPath => Rule::LongestPath,
+        Method::MinArea { .. } | Method::Elmore { .. } => Rule::MinArea,
+    };
+    stage.networks.values().map(|n| rules::total(&n.network, rule, plan.reference_width(n.kind()))).sum()
+}
+
+/// Input capacitance of every stage input, in C: the W/L of every device it gates, both networks
+/// (docs/model.md section 6).
+pub fn input_capacitance(stage: &SizedStage) -> Vec<f64> {
+    let mut capacitance = vec![0.0; stage.function.inputs.len()];
+    for sized in stage.networks.values() {
+        for (&input, &width) in sized.network.inputs.iter().zip(&sized.widths) {
+            capacitance[input] += width;
+        }
     }
     capacitance
 }
 
-/// Logical effort per input: input capacitance over the reference inverter's.
-pub fn logical_effort(input_capacitance: &[f64], reference_capacitance: f64) -> Vec<f64> {
-    input_capacitance.iter().map(|c| c / reference_capacitance).collect()
+/// Diffusion width on the stage's output node, in W/L: the W/L of every device whose drain is the
+/// output.
+pub fn output_diffusion(stage: &SizedStage) -> f64 {
+    let output = &stage.function.output;
+    stage
+        .networks
+        .values()
+        .flat_map(|n| n.terminals.iter().zip(&n.widths))
+        .filter(|(terminals, _)| terminals.drain == *output)
+        .map(|(_, width)| width)
+        .sum()
 }
 
-/// Diffusion width on the output node: the W/L of every device whose drain is the output.
-pub fn output_diffusion(devices: &[DeviceLoad], output: &str) -> f64 {
-    devices.iter().filter(|d| d.terminals.drain == output).map(|d| d.w_over_l).sum()
+fn network_figures(function: &GateFunction, sized: &SizedNetwork, plan: &Plan) -> NetworkFigures {
+    let network = &sized.network;
+    let kind = network.kind;
+    let resistance = plan.resistances(kind, &sized.widths);
+    let drawn_worst = paths::highest(&network.root, &plan.resistances(kind, &sized.drawn_widths(&plan.process)));
+    let weakest = paths::weakest(network, &resistance);
+    let input_count = function.inputs.len();
+    let worst_vector =
+        paths::sensitize(network, &weakest.devices, input_count).map(|values| Vector::new(&function.inputs, &values));
+    let exact_worst = if function.has_repeated_inputs() {
+        paths::exact_worst(network, &resistance, input_count)
+            .map(|(resistance, values)| ExactWorst { resistance, vector: Vector::new(&function.inputs, &values) })
+    } else {
+        None
+    };
+    NetworkFigures {
+        network: kind,
+        target_resistance: plan.target(kind),
+        worst_resistance: weakest.resistance,
+        worst_path: weakest.devices.iter().map(|&d| device_name(kind, d)).collect(),
+        worst_vector,
+        exact_worst,
+        best_resistance: paths::best_case(network, &resistance),
+        path_count: paths::count_text(network),
+        total_w_over_l: sized.widths.iter().sum(),
+        drawn_worst_resistance: drawn_worst,
+        drawn_error_percent: (drawn_worst / plan.target(kind) - 1.0) * 100.0,
+    }
 }
 
-/// Parasitic delay in the simple model: output-node diffusion over the reference inverter's
-/// input capacitance.
-pub fn parasitic_delay(devices: &[DeviceLoad], output: &str, reference_capacitance: f64) -> f64 {
-    output_diffusion(devices, output) / reference_capacitance
+/// One listed path, for the `paths` command.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ListedPath {
+    /// Resistance in units of R.
+    pub resistance: f64,
+    /// Resistance with the drawn (snapped) widths, in units of R.
+    pub drawn_resistance: f64,
+    /// Devices, output side first.
+    pub devices: Vec<String>,
+    /// The vector that makes it the only conducting path, or `null`.
+    pub vector: Option<Vector>,
+}
+
+/// The listed paths of one network.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct PathListing {
+    /// Which network.
+    pub network: NetworkKind,
+    /// The target, in units of R.
+    pub target_resistance: f64,
+    /// All paths, counted (decimal string).
+    pub path_count: String,
+    /// The weakest ones, weakest first.
+    pub paths: Vec<ListedPath>,
+}
+
+/// The `limit` weakest paths of each network of the cell, with their vectors.
+pub fn path_listings(cell: &SizedCell, limit: usize) -> Vec<PathListing> {
+    let plan = &cell.plan;
+    let stage = cell.stage();
+    let function = &stage.function;
+    stage
+        .networks
+        .values()
+        .map(|sized| {
+            let network = &sized.network;
+            let kind = network.kind;
+            let resistance = plan.resistances(kind, &sized.widths);
+            let drawn = plan.resistances(kind, &sized.drawn_widths(&plan.process));
+            let paths = paths::list(network, &resistance, limit)
+                .into_iter()
+                .map(|path| ListedPath {
+                    resistance: path.resistance,
+                    drawn_resistance: path.devices.iter().map(|&d| drawn[d]).sum(),
+                    vector: paths::sensitize(network, &path.devices, function.inputs.len())
+                        .map(|values| Vector::new(&function.inputs, &values)),
+                    devices: path.devices.iter().map(|&d| device_name(kind, d)).collect(),
+                })
+                .collect();
+            PathListing {
+                network: kind,
+                target_resistance: plan.target(kind),
+                path_count: paths::count(network).to_string(),
+                paths,
+            }
+        })
+        .collect()
 }
 
 /// How the diffusions on one node make its diffusion width: the one rule the delay stage and the
@@ -110,22 +428,46 @@ pub fn node_diffusions(devices: &[(&str, &str)], output: &str) -> Vec<(String, N
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::sizing::plan::Plan;
+
+    fn figures(text: &str) -> CellFigures {
+        CellFigures::of(&crate::size_text(text, &Plan::new(Method::LongestPath, 2.0, 1.0, None)).unwrap())
+    }
 
     #[test]
     fn nand2_by_hand() {
         // NAND2, mu = 2: NMOS 2, 2 in series (the first at y), PMOS 2, 2 in parallel.
         // C_in = 4 per input, g = 4/3, output diffusion 2 + 2 + 2 = 6, p = 2 (common practice, no source)
-        let t = |d: &str, s: &str| Terminals { drain: d.into(), source: s.into() };
-        let terminals = [t("y", "n1"), t("n1", "vss"), t("y", "vdd"), t("y", "vdd")];
-        let devices: Vec<DeviceLoad> = [(0, 2.0), (1, 2.0), (0, 2.0), (1, 2.0)]
-            .iter()
-            .zip(&terminals)
-            .map(|(&(input, w_over_l), terminals)| DeviceLoad { input, w_over_l, terminals })
-            .collect();
-        let c = input_capacitance(&devices, 2);
+        let nand2 = figures("nand2");
+        let c: Vec<f64> = nand2.inputs.iter().map(|i| i.input_capacitance).collect();
         assert_eq!(c, [4.0, 4.0]);
-        assert_eq!(logical_effort(&c, 3.0), [4.0 / 3.0, 4.0 / 3.0]);
-        assert_eq!(parasitic_delay(&devices, "y", 3.0), 2.0);
+        assert!(nand2.inputs.iter().all(|i| i.logical_effort == 4.0 / 3.0));
+        assert_eq!(nand2.parasitic_delay, 2.0);
+        let up = &nand2.networks[1];
+        assert_eq!(up.worst_vector.as_ref().unwrap().to_string(), "a=0 b=1");
+        // best case of the NAND2 pull-up: two PMOS of 2 in parallel, R/2 (common practice, no source)
+        assert!((up.best_resistance - 0.5).abs() < 1e-12);
+        assert_eq!(up.path_count, "2");
+    }
+
+    #[test]
+    fn aoi21_puts_the_or_input_pmos_at_the_output() {
+        // AOI21 p = 7/3 with the OR input's PMOS at the output (Weste & Harris, logical-effort table; from memory)
+        let aoi21 = figures("aoi21");
+        assert!((aoi21.parasitic_delay - 7.0 / 3.0).abs() < 1e-12);
+        assert!(aoi21.output_devices.contains(&"MP3".to_string()));
+        assert!(!aoi21.output_devices.contains(&"MP1".to_string()));
+    }
+
+    #[test]
+    fn min_area_comparison_is_reported() {
+        let longest = figures("!(a & (b | c))");
+        let plan = Plan::new(Method::of(crate::sizing::plan::MethodName::MinArea), 2.0, 1.0, None);
+        let min = CellFigures::of(&crate::size_text("!(a & (b | c))", &plan).unwrap());
+        // Pull-down K = (1 + sqrt 2)^2, pull-up a || (b - c): 2 + 4 + 4 (the closed form, by hand).
+        assert!((min.total_w_over_l - ((1.0 + 2f64.sqrt()).powi(2) + 10.0)).abs() < 1e-12);
+        assert!((longest.comparison.total_w_over_l - min.total_w_over_l).abs() < 1e-12);
+        assert!(longest.comparison.change_percent < 0.0);
     }
 
     #[test]

@@ -1,26 +1,27 @@
-//! widthwise: size the transistors of static CMOS gates against a reference inverter.
+//! widthwise: size the transistors of static CMOS cells against a reference inverter.
 //!
 //! The stages, in the order data flows through them:
-//! [`expr`] (text to `Y = NOT f`) -> [`network`] (pull-down and pull-up trees) -> [`paths`]
-//! (worst and best case) -> [`sizing`] (W/L of every device) -> [`figures`] (input capacitance,
-//! logical effort, parasitic delay) -> [`output`] (table, CSV, JSON, SPICE). [`gate`] runs one
-//! gate through all of them. Every result is a first-order estimate: sign-off needs the
-//! foundry's models, design rules and licensed practice.
+//! [`expr`] (text to `Y = NOT f`) -> [`logic`] (the cell's stages) -> [`network`] (pull-down and
+//! pull-up trees) -> [`sizing`] (a [`sizing::Plan`] and the cell's logic to a [`cell::SizedCell`], the
+//! one way in) -> [`figures`] (input capacitance, logical effort, parasitic delay, worst and best
+//! case) and [`timing`] (Elmore delays at a load) -> [`output`] (table, CSV, JSON, SPICE, decks).
+//! Every result is a first-order estimate: sign-off needs the foundry's models, design rules and
+//! licensed practice.
 
 #![forbid(unsafe_code)]
 
+pub mod analysis;
 pub mod bounds;
 pub mod budget;
+pub mod cell;
 pub mod cli;
 pub mod commands;
-pub mod delay;
 pub mod diagnostic;
 pub mod error;
 pub mod exact;
 pub mod exit;
 pub mod expr;
 pub mod figures;
-pub mod gate;
 pub mod io;
 pub mod library;
 pub mod logic;
@@ -34,18 +35,19 @@ pub mod output;
 pub mod paths;
 pub mod process;
 pub mod sizing;
+pub mod timing;
 pub mod verify;
 
+pub use cell::SizedCell;
 pub use diagnostic::Span;
 pub use error::Error;
 pub use expr::ExprError;
-pub use gate::{GateOptions, SizedGate};
-pub use sizing::{Method, Reference, SizingOptions};
+pub use sizing::{Method, Plan, Reference};
 
-/// Read `text` (an expression or a shorthand; the process's model names reserved) and size it by a
-/// path method ([`gate::size_function`]): the expression stage and the sizing in one call.
-pub fn size_text(text: &str, options: &GateOptions) -> Result<SizedGate, Error> {
-    let function = expr::read_gate_with_models(text, &options.process.model_names())
+/// Read `text` (an expression or a shorthand; the process's model names reserved) as a cell and
+/// size it under `plan` ([`sizing::size`]): the reading and the sizing in one call.
+pub fn size_text(text: &str, plan: &Plan) -> Result<SizedCell, Error> {
+    let logic = logic::read_cell(text, &plan.process.model_names())
         .map_err(|error| Error::Expression { error, input: diagnostic::Source::inline("the expression", text) })?;
-    Ok(gate::size_function(function, options)?)
+    Ok(sizing::size(&logic, plan)?)
 }

@@ -23,14 +23,15 @@ use toml::Spanned;
 use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
 use crate::bounds;
-use crate::delay::{self, StackOrder};
+use crate::cell::SizedCell;
 use crate::diagnostic::{Diagnostic, Source, Span, escaped};
 use crate::expr::read_gate_with_models;
-use crate::gate::{GateError, GateOptions, SizedGate, size_function};
+use crate::figures::CellFigures;
 use crate::io::InputError;
+use crate::logic::read_cell;
 use crate::names;
 use crate::process::{Process, ProcessError, ProcessFile};
-use crate::sizing::{Method, Reference, SizingOptions};
+use crate::sizing::{self, Method, MethodName, Order, Plan, Reference, SizingError, StackOrder};
 use crate::verify::{self, VerifyOptions};
 
 /// The drive of a gate that neither it nor `[defaults]` sets.
@@ -49,7 +50,7 @@ pub const MAX_DRIVES_PER_GATE: usize = 100_000;
 pub const MAX_VARIANTS: usize = 200_000;
 
 /// The method of a gate that neither it nor `[defaults]` sets.
-pub const DEFAULT_METHOD: Method = Method::LongestPath;
+pub const DEFAULT_METHOD: MethodName = MethodName::LongestPath;
 /// How many sized variants are held before they are written.
 const CHUNK: usize = 256;
 
@@ -110,7 +111,7 @@ pub struct Overrides {
     /// A process for every gate: the library's own `process` is then not read.
     pub process: Option<Arc<Process>>,
     /// The method of every gate (longest-path or min-area).
-    pub method: Option<Method>,
+    pub method: Option<MethodName>,
     /// The mobility ratio every gate is sized with.
     pub mobility_ratio: Option<f64>,
     /// One drive for every gate, in place of the drive lists: each gate becomes one variant.
@@ -240,7 +241,7 @@ fn repeated_drive(drives: &[(f64, Span)]) -> Option<(f64, Span)> {
 #[derive(Debug, Clone, Default, Deserialize)]
 #[serde(deny_unknown_fields)]
 struct DefaultsEntry {
-    method: Option<Method>,
+    method: Option<MethodName>,
     stack_order: Option<Spanned<StackOrder>>,
     drive: Option<Spanned<Drives>>,
     mobility_ratio: Option<Spanned<f64>>,
@@ -253,7 +254,7 @@ struct DefaultsEntry {
 struct GateEntry {
     name: Spanned<String>,
     expr: Spanned<String>,
-    method: Option<Method>,
+    method: Option<MethodName>,
     stack_order: Option<Spanned<StackOrder>>,
     drive: Option<Spanned<Drives>>,
     critical: Option<Spanned<String>>,
@@ -304,10 +305,18 @@ impl GatePlan {
         names::variant_name(&self.name, drive)
     }
 
-    /// Options for one variant.
-    fn options(&self, drive: f64, process: &Arc<Process>) -> GateOptions {
-        let sizing = SizingOptions::new(self.method, self.mobility_ratio, drive, self.reference);
-        GateOptions::cell(sizing, self.critical.clone(), Some(self.variant_name(drive)), Arc::clone(process))
+    /// The plan of one variant, the one place a library builds plans: the gate's method, mobility
+    /// ratio, reference and stack order (with its critical input) at `drive`, named as the variant,
+    /// in `process`; refused where the critical input and the written order both choose the order.
+    pub fn plan(&self, drive: f64, process: &Arc<Process>) -> Result<Plan, GateProblem> {
+        let order = Order::new(self.stack_order, self.critical.clone())
+            .map_err(|error| self.problem(SizingError::from(error).to_string(), Place::File(self.name_span)))?;
+        Ok(Plan {
+            order,
+            process: Arc::clone(process),
+            name: Some(self.variant_name(drive)),
+            ..Plan::new(self.method, self.mobility_ratio, drive, self.reference)
+        })
     }
 
     /// A problem of this gate at `span`.
@@ -620,7 +629,7 @@ impl Library {
 
 /// What `[defaults]` and the process give every gate, and what the command line sets over all.
 struct Common {
-    method: Method,
+    method: MethodName,
     stack_order: StackOrder,
     mobility_ratio: f64,
     drives: Vec<(f64, Span)>,
@@ -708,7 +717,7 @@ fn read_gate_entry(
         ));
     }
     if let Some(why) = names::reserved_reason(name, &[]) {
-        return Err(problem(GateError::ReservedCellName { name: name.clone(), why }.to_string(), name_span));
+        return Err(problem(SizingError::ReservedCellName { name: name.clone(), why }.to_string(), name_span));
     }
     let (drives, drive_spans) = match (common.overrides.drive, &gate.drive) {
         (Some(drive), _) => (vec![drive], vec![name_span]),
@@ -717,8 +726,8 @@ fn read_gate_entry(
             check_drives(written).map_err(|(message, span)| problem(message, span))?.into_iter().unzip()
         }
     };
-    let method = common.overrides.method.or(gate.method).unwrap_or(common.method);
-    if method == Method::Elmore {
+    let method = Method::of(common.overrides.method.or(gate.method).unwrap_or(common.method));
+    if method.sizes_by_delay() {
         return Err(problem(ELMORE_IN_A_LIBRARY.to_string(), name_span));
     }
     let stack_order = match (common.overrides.stack_order, &gate.stack_order) {
@@ -783,30 +792,25 @@ pub struct Outcome {
 }
 
 /// Size one gate in each of its drives, or say why it cannot be.
-pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedGate>, GateProblem> {
-    let function = read_gate_with_models(&plan.expression, &process.model_names())
+pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedCell>, GateProblem> {
+    let logic = read_cell(&plan.expression, &process.model_names())
         .map_err(|error| plan.expression_problem(error.to_string(), error.span()))?;
     if let Some(critical) = &plan.critical
-        && !function.inputs.contains(critical)
+        && !logic.inputs.contains(critical)
     {
         let span = plan.critical_span.unwrap_or(plan.name_span);
         return Err(plan.problem(
             format!(
                 "critical input '{}' is not an input of the gate (its inputs: {})",
                 escaped(critical),
-                function.inputs.join(", ")
+                logic.inputs.join(", ")
             ),
             Place::File(span),
         ));
     }
     let mut variants = Vec::with_capacity(plan.drives.len());
     for &drive in &plan.drives {
-        let mut options = plan.options(drive, process);
-        if plan.stack_order == StackOrder::Written {
-            options = delay::written_order(&function, &options)
-                .map_err(|error| plan.problem(error.to_string(), Place::File(plan.name_span)))?;
-        }
-        let sized = size_function(function.clone(), &options)
+        let sized = sizing::size(&logic, &plan.plan(drive, process)?)
             .map_err(|error| plan.problem(error.to_string(), Place::File(plan.name_span)))?;
         variants.push(sized);
     }
@@ -822,17 +826,17 @@ pub fn size_all(
     library: &Library,
     verify: Option<&VerifyOptions>,
     report: &mut dyn FnMut(&GateProblem) -> io::Result<()>,
-    emit: &mut dyn FnMut(&[SizedGate]) -> io::Result<()>,
+    emit: &mut dyn FnMut(&[SizedCell]) -> io::Result<()>,
 ) -> io::Result<Outcome> {
     let mut outcome = Outcome { gates: library.gates.len(), ..Outcome::default() };
-    let mut chunk: Vec<SizedGate> = Vec::with_capacity(CHUNK + 8);
+    let mut chunk: Vec<SizedCell> = Vec::with_capacity(CHUNK + 8);
     for gate in &library.gates {
         match gate.as_ref().map_err(Clone::clone).and_then(|plan| size_plan(plan, &library.process).map(|v| (plan, v)))
         {
             Ok((plan, variants)) => {
                 if let Some(options) = verify {
                     for variant in &variants {
-                        let failure = match verify::verify(variant, options) {
+                        let failure = match verify::verify(&CellFigures::of(variant), options) {
                             Ok(result) => result.outcome().err().map(|error| error.to_string()),
                             Err(error) => Some(format!("'{}' cannot be verified: {error}", variant.name)),
                         };
@@ -912,7 +916,7 @@ mod tests {
              [[gate]]\nname = \"b\"\nexpr = \"nor2\"\nmethod = \"longest-path\"\ndrive = 4\n",
         );
         let a = lib.gates[0].as_ref().unwrap();
-        assert_eq!((a.method, a.drives.clone(), a.mobility_ratio), (Method::MinArea, vec![1.0, 2.0], 2.0));
+        assert_eq!((a.method, a.drives.clone(), a.mobility_ratio), (Method::MIN_AREA, vec![1.0, 2.0], 2.0));
         let b = lib.gates[1].as_ref().unwrap();
         assert_eq!((b.method, b.drives.clone()), (Method::LongestPath, vec![4.0]));
         assert_eq!(a.variant_name(2.0), "a_x2");

@@ -206,6 +206,19 @@ pub fn synthesize_with_models(text: &str, models: &[&str]) -> Result<Vec<CellLog
     }
 }
 
+/// The cell sizing takes today for `text`: a function of one inverting stage, in the single-stage
+/// form [`synthesize_with_models`] gives it. A function that needs several stages (a non-inverting,
+/// binate or exclusive-or function) is refused, as is any text that does not read, with the error
+/// the one-stage reader ([`read_gate_with_models`](crate::expr::read_gate_with_models)) gives it.
+pub fn read_cell(text: &str, models: &[&str]) -> Result<CellLogic, ExprError> {
+    match synthesize_with_models(text, models) {
+        Ok(mut cells) if cells.len() == 1 && cells[0].is_single_stage() => Ok(cells.remove(0)),
+        // The one-stage reader says why the function is not one stage (or does not read); every
+        // function it takes is one stage here (the two agree, `one_stage_functions_are_todays_gates`).
+        _ => crate::expr::read_gate_with_models(text, models).map(single_stage),
+    }
+}
+
 /// [`synthesize_with_models`] for an expression already parsed (a lone input is a buffer here, not
 /// a shorthand); `output` names the output net, pins follow first appearance.
 pub fn synthesize_expr(

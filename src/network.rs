@@ -82,14 +82,6 @@ impl<T> Sides<T> {
         Sides { pull_down: f(NetworkKind::PullDown, self.pull_down), pull_up: f(NetworkKind::PullUp, self.pull_up) }
     }
 
-    /// Each value mapped, or the first error (pull-down first).
-    pub fn try_map<U, E>(self, mut f: impl FnMut(NetworkKind, T) -> Result<U, E>) -> Result<Sides<U>, E> {
-        Ok(Sides {
-            pull_down: f(NetworkKind::PullDown, self.pull_down)?,
-            pull_up: f(NetworkKind::PullUp, self.pull_up)?,
-        })
-    }
-
     /// Both by reference.
     pub fn as_ref(&self) -> Sides<&T> {
         Sides { pull_down: &self.pull_down, pull_up: &self.pull_up }
@@ -145,6 +137,17 @@ pub enum Node {
     Series(Vec<Node>),
     /// Branches in parallel.
     Parallel(Vec<Node>),
+}
+
+impl Node {
+    /// Devices on the longest path through the subtree.
+    pub fn depth(&self) -> usize {
+        match self {
+            Node::Device(_) => 1,
+            Node::Series(members) => members.iter().map(Node::depth).sum(),
+            Node::Parallel(branches) => branches.iter().map(Node::depth).max().unwrap_or(0),
+        }
+    }
 }
 
 /// One network of a stage, with its own device list: device `k` of the tree is gated by stage
@@ -272,22 +275,6 @@ impl Network {
         let mut counter = 0;
         walk(&self.root, output, self.kind.rail(), prefix, &mut counter, &mut out);
         out
-    }
-
-    /// Whether `other` is this network with series and parallel members in some other order.
-    pub fn same_up_to_order(&self, other: &Network) -> bool {
-        fn canonical(node: &Node) -> String {
-            match node {
-                Node::Device(index) => index.to_string(),
-                Node::Series(members) | Node::Parallel(members) => {
-                    let mut parts: Vec<String> = members.iter().map(canonical).collect();
-                    parts.sort();
-                    let kind = if matches!(node, Node::Series(_)) { 'S' } else { 'P' };
-                    format!("{kind}({})", parts.join(" "))
-                }
-            }
-        }
-        self.kind == other.kind && self.inputs == other.inputs && canonical(&self.root) == canonical(&other.root)
     }
 
     /// Which devices are on when the stage inputs take `values`.

@@ -291,7 +291,7 @@ pub const MAX_LISTED_DEVICES: u128 = 1_000_000;
 
 /// Devices on the longest path of the network.
 pub fn longest_path_devices(network: &Network) -> usize {
-    crate::sizing::depth(&network.root)
+    network.root.depth()
 }
 
 /// Most partial paths a listing may build (paths kept per series member x series members), so that

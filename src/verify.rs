@@ -18,7 +18,7 @@ use thiserror::Error;
 use crate::budget::{DEFAULT_WORK_BUDGET, Estimate, Meter, OverBudget, Work};
 use crate::expr::error::ExprError;
 use crate::expr::{Expr, ExprKind, parser};
-use crate::gate::SizedGate;
+use crate::figures::CellFigures;
 use crate::network::NetworkKind;
 use crate::paths::Vector;
 use crate::paths::{self, EXACT_WORST_MAX_INPUTS};
@@ -318,7 +318,7 @@ struct Netlist {
 }
 
 impl Netlist {
-    fn new(gate: &SizedGate, input_index: &HashMap<&str, usize>) -> Result<Netlist, VerifyError> {
+    fn new(gate: &CellFigures, input_index: &HashMap<&str, usize>) -> Result<Netlist, VerifyError> {
         fn node<'a>(name: &'a str, nodes: &mut HashMap<&'a str, u32>) -> u32 {
             let next = nodes.len() as u32;
             *nodes.entry(name).or_insert(next)
@@ -702,16 +702,16 @@ pub fn verify_work(inputs: usize, occurrences: usize, options: &VerifyOptions) -
 /// Verify a sized gate: simulate its netlist on every input vector (or a pseudo-random sample past
 /// [`MAX_EXHAUSTIVE_INPUTS`] inputs) and compare with the expression. Refused before it starts when
 /// its work ([`verify_work`]) would pass the budget.
-pub fn verify(gate: &SizedGate, options: &VerifyOptions) -> Result<Verification, VerifyError> {
+pub fn verify(gate: &CellFigures, options: &VerifyOptions) -> Result<Verification, VerifyError> {
     if options.random_vectors > MAX_RANDOM_VECTORS {
         return Err(VerifyError::TooManyVectors { requested: options.random_vectors, limit: MAX_RANDOM_VECTORS });
     }
-    let work = verify_work(gate.function.inputs.len(), gate.function.literals.len(), options);
+    let inputs: Vec<String> = gate.inputs.iter().map(|i| i.name.clone()).collect();
+    let work = verify_work(inputs.len(), occurrences(gate), options);
     Meter::new(options.work_budget).require(work, Estimate::Exactly, Work::Verify).map_err(VerifyError::OverBudget)?;
-    let inputs = &gate.function.inputs;
     let input_index: HashMap<&str, usize> = inputs.iter().enumerate().map(|(i, n)| (n.as_str(), i)).collect();
     let netlist = Netlist::new(gate, &input_index)?;
-    let text = &gate.function.text;
+    let text = &gate.expression;
     // The canonical text of an accepted gate: its spaces may take it past the limit written text has.
     let parsed = parser::parse_within(text, text.len())
         .map_err(|error| VerifyError::Expression { text: text.clone(), error })?;
@@ -803,9 +803,14 @@ fn first_failure(simulator: &Simulator, planned: u64, threads: usize) -> Option<
     found.into_inner().unwrap_or_else(|e| e.into_inner())
 }
 
+/// Input occurrences of the gate: its pull-down's transistors.
+fn occurrences(gate: &CellFigures) -> usize {
+    gate.transistors.iter().filter(|t| t.network == NetworkKind::PullDown).count()
+}
+
 /// Path bound and exact worst case of each network, from the sized gate.
-fn bounds(gate: &SizedGate) -> Vec<NetworkBound> {
-    let repeated = gate.function.has_repeated_inputs();
+fn bounds(gate: &CellFigures) -> Vec<NetworkBound> {
+    let repeated = occurrences(gate) > gate.inputs.len();
     gate.networks
         .iter()
         .map(|network| {
@@ -839,25 +844,47 @@ fn bounds(gate: &SizedGate) -> Vec<NetworkBound> {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::gate::{GateOptions, Transistor};
+    use crate::expr::GateFunction;
+    use crate::figures::Transistor;
     use crate::size_text;
-    use crate::sizing::{Method, SizingOptions};
+    use crate::sizing::{Method, Plan};
     use proptest::prelude::*;
 
-    fn sized(text: &str, method: Method) -> SizedGate {
-        size_text(text, &GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None))).unwrap()
+    /// A sized gate's figures (what verify reads), with the function it was read from (what the
+    /// plain reference below evaluates).
+    struct Sized {
+        figures: CellFigures,
+        function: GateFunction,
+    }
+
+    impl std::ops::Deref for Sized {
+        type Target = CellFigures;
+        fn deref(&self) -> &CellFigures {
+            &self.figures
+        }
+    }
+
+    impl std::ops::DerefMut for Sized {
+        fn deref_mut(&mut self) -> &mut CellFigures {
+            &mut self.figures
+        }
+    }
+
+    fn sized(text: &str, method: Method) -> Sized {
+        let cell = size_text(text, &Plan::new(method, 2.0, 1.0, None)).unwrap();
+        Sized { figures: CellFigures::of(&cell), function: cell.stage().function.clone() }
     }
 
     fn options(threads: usize) -> VerifyOptions {
         VerifyOptions { random_vectors: 4096, seed: DEFAULT_SEED, threads, ..VerifyOptions::default() }
     }
 
-    fn transistor<'a>(gate: &'a mut SizedGate, name: &str) -> &'a mut Transistor {
+    fn transistor<'a>(gate: &'a mut CellFigures, name: &str) -> &'a mut Transistor {
         gate.transistors.iter_mut().find(|t| t.name == name).expect("the transistor exists")
     }
 
     /// The netlist as the tests expect it, so that each mutation below means what its comment says.
-    fn terminals(gate: &SizedGate) -> Vec<(String, String, String, String)> {
+    fn terminals(gate: &CellFigures) -> Vec<(String, String, String, String)> {
         gate.transistors.iter().map(|t| (t.name.clone(), t.input.clone(), t.drain.clone(), t.source.clone())).collect()
     }
 
@@ -878,7 +905,7 @@ mod tests {
     fn the_trade_s_gates_pass_on_every_vector() {
         for text in ["inv", "nand2", "nand8", "nor2", "nor8", "aoi21", "aoi222", "oai33", "!(a & b | a & c)", "!a & !b"]
         {
-            for method in [Method::LongestPath, Method::MinArea] {
+            for method in [Method::LongestPath, Method::MIN_AREA] {
                 let result = verify(&sized(text, method), &options(2)).unwrap();
                 assert!(result.passed, "{text}: {:?}", result.failure);
                 assert_eq!(result.coverage, Coverage::Exhaustive);
@@ -1067,7 +1094,7 @@ mod tests {
 
     /// The plain reference: per vector, components of the conducting switches (union-find) and the
     /// expression from the gate function's tree (not the parsed text verify uses).
-    fn reference_first_failure(gate: &SizedGate) -> Option<(u64, Check)> {
+    fn reference_first_failure(gate: &Sized) -> Option<(u64, Check)> {
         fn find(parent: &mut [usize], mut x: usize) -> usize {
             while parent[x] != x {
                 parent[x] = parent[parent[x]];
@@ -1137,7 +1164,7 @@ mod tests {
 
         #[test]
         fn every_sized_gate_verifies(text in gate_text(), min_area in any::<bool>()) {
-            let method = if min_area { Method::MinArea } else { Method::LongestPath };
+            let method = if min_area { Method::MIN_AREA } else { Method::LongestPath };
             let gate = sized(&text, method);
             let result = verify(&gate, &options(2)).unwrap();
             prop_assert!(result.passed, "{}: {:?}", text, result.failure);

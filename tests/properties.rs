@@ -4,8 +4,8 @@
 //! with brute-force enumeration done here, independently of the library's trees.
 
 use proptest::prelude::*;
-use widthwise::gate::SizedGate;
-use widthwise::{GateOptions, Method, SizingOptions, size_text};
+use widthwise::figures::{self, CellFigures};
+use widthwise::{Method, Plan, size_text};
 
 /// A random monotone function `f` over inputs x0..x11; the gate computes NOT f.
 #[derive(Debug, Clone)]
@@ -84,7 +84,7 @@ impl Tree {
 }
 
 /// Union-find over node names.
-fn connected(gate: &SizedGate, values: &dyn Fn(&str) -> bool) -> (bool, bool) {
+fn connected(gate: &CellFigures, values: &dyn Fn(&str) -> bool) -> (bool, bool) {
     let mut names: Vec<&str> = vec![gate.output.as_str(), "vdd", "vss"];
     for t in &gate.transistors {
         for node in [t.drain.as_str(), t.source.as_str()] {
@@ -113,8 +113,8 @@ fn connected(gate: &SizedGate, values: &dyn Fn(&str) -> bool) -> (bool, bool) {
     (out == root(&mut parent, 1), out == root(&mut parent, 2))
 }
 
-fn sized(text: &str, method: Method, mu: f64) -> SizedGate {
-    size_text(text, &GateOptions::new(SizingOptions::new(method, mu, 1.0, None))).unwrap()
+fn sized(text: &str, method: Method, mu: f64) -> CellFigures {
+    CellFigures::of(&size_text(text, &Plan::new(method, mu, 1.0, None)).unwrap())
 }
 
 proptest! {
@@ -140,7 +140,7 @@ proptest! {
     fn every_path_within_target_and_min_area_never_larger(f in tree(), mu in 1.5f64..3.5) {
         let text = f.text(0);
         let longest = sized(&text, Method::LongestPath, mu);
-        let min = sized(&text, Method::MinArea, mu);
+        let min = sized(&text, Method::MIN_AREA, mu);
         prop_assert!(min.total_w_over_l <= longest.total_w_over_l * (1.0 + 1e-12));
         for (gate, exact) in [(&longest, false), (&min, true)] {
             for (side, network) in gate.networks.iter().enumerate() {
@@ -168,7 +168,7 @@ proptest! {
 
     #[test]
     fn worst_vector_makes_the_worst_path_the_only_one(f in tree()) {
-        let gate = sized(&f.text(2), Method::MinArea, 2.0);
+        let gate = sized(&f.text(2), Method::MIN_AREA, 2.0);
         let inputs: Vec<String> = gate.inputs.iter().map(|i| i.name.clone()).collect();
         for (side, network) in gate.networks.iter().enumerate() {
             let Some(vector) = &network.worst_vector else { continue };
@@ -193,8 +193,8 @@ proptest! {
 
     #[test]
     fn listing_agrees_with_enumeration(f in tree()) {
-        let gate = sized(&f.text(1), Method::MinArea, 2.0);
-        let listings = gate.list_paths(10_000);
+        let cell = size_text(&f.text(1), &Plan::new(Method::MIN_AREA, 2.0, 1.0, None)).unwrap();
+        let listings = figures::path_listings(&cell, 10_000);
         for (side, listing) in listings.iter().enumerate() {
             let mut next = 0;
             let expected = f.paths(side == 0, &mut next).len();
@@ -206,6 +206,6 @@ proptest! {
 
     #[test]
     fn arbitrary_text_never_panics(text in "\\PC{0,40}") {
-        let _ = size_text(&text, &GateOptions::new(SizingOptions::new(Method::MinArea, 2.0, 1.0, None)));
+        let _ = size_text(&text, &Plan::new(Method::MIN_AREA, 2.0, 1.0, None));
     }
 }

@@ -11,29 +11,31 @@ mod fuzz_targets;
 use widthwise::commands::batch::write_batch;
 use widthwise::diagnostic::{Diagnostic, Source as TextSource};
 use widthwise::expr::read_gate_with_models;
-use widthwise::gate::GateOptions;
+
+use widthwise::figures::CellFigures;
 use widthwise::io::InputError;
 use widthwise::library::Library;
 use widthwise::output::{Format, Rows};
 use widthwise::process::Process;
 use widthwise::size_text;
-use widthwise::sizing::{Method, SizingOptions};
+use widthwise::sizing::{Method, Plan};
 use widthwise::verify::{VerifyOptions, verify};
 
-fn options(method: Method) -> GateOptions {
-    GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None))
+fn options(method: Method) -> Plan {
+    Plan::new(method, 2.0, 1.0, None)
 }
 
 /// Everything a reader of expression text does with it: read, size, render an error, verify.
 fn read_everything(text: &str) {
     // Sizing reads with the process's model names reserved (the built-in process: nmos, pmos).
     let read = read_gate_with_models(text, &Process::default().model_names());
-    for method in [Method::LongestPath, Method::MinArea] {
+    for method in [Method::LongestPath, Method::MIN_AREA] {
         match size_text(text, &options(method)) {
             Ok(gate) => {
                 assert!(read.is_ok(), "{text:?}");
-                if gate.function.inputs.len() <= 8 {
-                    let result = verify(&gate, &VerifyOptions { threads: 1, ..VerifyOptions::default() }).unwrap();
+                if gate.logic.inputs.len() <= 8 {
+                    let options = VerifyOptions { threads: 1, ..VerifyOptions::default() };
+                    let result = verify(&CellFigures::of(&gate), &options).unwrap();
                     assert!(result.passed, "{text:?}: {:?}", result.failure);
                 }
             }

@@ -5,14 +5,16 @@
 
 use widthwise::commands::batch::write_batch;
 use widthwise::diagnostic::Source as TextSource;
+use widthwise::expr;
+use widthwise::figures::{self, CellFigures};
 use widthwise::io::InputError;
 use widthwise::library::Library;
+use widthwise::output::CellReport;
 use widthwise::output::{self, Format, Rows};
 use widthwise::process::Process;
 use widthwise::size_text;
-use widthwise::sizing::{Method, SizingOptions};
+use widthwise::sizing::{Method, Plan};
 use widthwise::verify::{VerifyOptions, verify};
-use widthwise::{GateOptions, expr};
 
 /// Inputs up to which an accepted gate is also verified on every vector (fast enough per run).
 const VERIFY_INPUTS: usize = 10;
@@ -22,8 +24,8 @@ const VERIFY_INPUTS: usize = 10;
 pub fn expression(text: &str) {
     // Sizing reads with the process's model names reserved (the built-in process: nmos, pmos).
     let read = expr::read_gate_with_models(text, &Process::default().model_names());
-    for method in [Method::LongestPath, Method::MinArea] {
-        let sized = size_text(text, &GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None)));
+    for method in [Method::LongestPath, Method::MIN_AREA] {
+        let sized = size_text(text, &Plan::new(method, 2.0, 1.0, None));
         assert_eq!(read.is_ok(), sized.is_ok(), "read_gate and size_text disagree on {text:?}");
         let gate = match sized {
             Ok(gate) => gate,
@@ -32,15 +34,16 @@ pub fn expression(text: &str) {
                 continue;
             }
         };
+        let report = CellReport::of(&gate);
         for format in [Format::Table, Format::Csv, Format::Json, Format::Spice] {
-            output::write_gates(std::slice::from_ref(&gate), format, Rows::Devices, &mut std::io::sink())
+            output::write_gates(std::slice::from_ref(&report), format, Rows::Devices, &mut std::io::sink())
                 .expect("writing to a sink succeeds");
         }
-        let listings = gate.list_paths(8);
-        output::write_paths(&gate, &listings, Format::Table, &mut std::io::sink()).expect("sink");
-        if gate.function.inputs.len() <= VERIFY_INPUTS {
+        let listings = figures::path_listings(&gate, 8);
+        output::write_paths(&report.figures, &listings, Format::Table, &mut std::io::sink()).expect("sink");
+        if gate.logic.inputs.len() <= VERIFY_INPUTS {
             let options = VerifyOptions { threads: 1, ..VerifyOptions::default() };
-            let result = verify(&gate, &options).expect("a sized gate's netlist reads");
+            let result = verify(&CellFigures::of(&gate), &options).expect("a sized gate's netlist reads");
             assert!(result.passed, "{text:?} fails verification: {:?}", result.failure);
         }
     }

@@ -11,7 +11,6 @@ use std::sync::Arc;
 
 use super::{OutputFile, SizingArgs, estimates_note, exit_codes_line, work_budget};
 use crate::budget::{DEFAULT_WORK_BUDGET, Estimate, Meter, Work};
-use crate::delay::StackOrder;
 use crate::diagnostic::Source;
 use crate::error::Error;
 use crate::io::{Diagnostics, diagnose};
@@ -19,7 +18,7 @@ use crate::library::{GateProblem, Library, MAX_LIBRARY_BYTES, Outcome, Overrides
 use crate::output::batch::{BatchWriter, Heading};
 use crate::output::{self};
 use crate::process::MAX_PROCESS_FILE_BYTES;
-use crate::sizing::Method;
+use crate::sizing::{MethodName, StackOrder};
 use crate::verify::VerifyOptions;
 
 /// Help shown after `widthwise batch --help`.
@@ -207,7 +206,7 @@ fn overrides(args: &Args) -> Result<Overrides, Error> {
                   it for a library read from standard input (-)",
         });
     }
-    if args.sizing.method == Some(Method::Elmore) {
+    if args.sizing.method == Some(MethodName::Elmore) {
         return Err(Error::NotApplicable {
             option: "--method elmore",
             case: "to a library",

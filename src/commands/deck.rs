@@ -5,10 +5,11 @@ use std::ffi::OsString;
 use std::path::PathBuf;
 use std::sync::Arc;
 
-use super::{GateArgs, gate_options, sizing_delay};
+use super::{GateArgs, Timed};
 use crate::error::Error;
 use crate::output::deck::{self, DeckOptions, Models};
 use crate::process::Process;
+use crate::sizing::StackOrder;
 
 /// Write a self-contained SPICE simulation deck: models, the gate, the reference inverter at the
 /// same drive, and every input's worst-case transition on both output edges, with .tran and .meas.
@@ -79,17 +80,17 @@ fn deck_options(args: &Args, process: &Process) -> Result<DeckOptions, Error> {
 
 /// Check every input, size the gate and write its deck.
 pub fn run(args: Args) -> Result<(), Error> {
-    let mut options = gate_options(&args.gate)?;
+    // The elmore method sizes at the default load (fan-out 1) and ratio, as `paths` does.
+    let mut plan = super::plan(&args.gate, StackOrder::Default, Timed::default())?;
     // Every input is checked before anything is written.
-    let deck = deck_options(&args, &options.process)?;
+    let deck = deck_options(&args, &plan.process)?;
     if let Models::Library { nmos, pmos, .. } = &deck.models {
         // The deck's models are the ones in use: no name of the gate may take theirs.
-        let process = Process { nmos_model: nmos.clone(), pmos_model: pmos.clone(), ..(*options.process).clone() };
-        options.process = Arc::new(process);
+        let process = Process { nmos_model: nmos.clone(), pmos_model: pmos.clone(), ..(*plan.process).clone() };
+        plan.process = Arc::new(process);
     }
     let text = super::expression_text(&args.expression)?;
-    // The elmore method sizes at the default load (fan-out 1) and ratio, as `paths` does.
-    let sized = super::read_and_size(&text, &options, &sizing_delay(&args.gate, &options)?)?;
+    let sized = super::read_and_size(&text, &plan)?;
     deck::check_size(&sized)?;
     crate::io::write_output(args.output.as_deref(), |out| deck::write_deck(&sized, &deck, out))?;
     Ok(())

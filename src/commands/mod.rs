@@ -22,15 +22,14 @@ use clap::Args;
 
 use crate::bounds;
 use crate::budget::DEFAULT_WORK_BUDGET;
-use crate::delay::{self, DelayError, DelayOptions, Load, StackOrder};
 use crate::diagnostic::{Source, escaped};
 use crate::error::Error;
-use crate::expr::GateFunction;
 use crate::expr::parser::MAX_EXPRESSION_BYTES;
-use crate::gate::{GateError, GateOptions, SizedGate};
+use crate::logic::{self, CellLogic};
 use crate::names;
 use crate::process::{MAX_PROCESS_FILE_BYTES, Process};
-use crate::sizing::{Method, Reference, SizingOptions};
+use crate::sizing::plan::default_diffusion_ratio;
+use crate::sizing::{Conditions, Load, Method, MethodName, Order, Plan, Reference, SizingError, StackOrder};
 
 /// The exit codes as the help texts give them (the contributor guide states them in full).
 macro_rules! exit_codes_line {
@@ -104,7 +103,7 @@ pub struct SizingArgs {
     /// every worst-case Elmore delay at most the reference inverter's driving the same load; not in
     /// a library) [default: longest-path].
     #[arg(long, value_enum)]
-    pub method: Option<Method>,
+    pub method: Option<MethodName>,
     /// Mobility ratio mu_n / mu_p (real processes run about 2 to 3) [default: the process's, 2 for
     /// the built-in one].
     #[arg(long, value_name = "MU", value_parser = positive_number, allow_hyphen_values = true)]
@@ -125,7 +124,7 @@ pub struct SizingArgs {
 impl SizingArgs {
     /// The method given, else longest-path.
     pub fn method(&self) -> Method {
-        self.method.unwrap_or(Method::LongestPath)
+        Method::of(self.method.unwrap_or(MethodName::LongestPath))
     }
 
     /// The process of `--process`, or the built-in one.
@@ -196,24 +195,13 @@ impl DelayArgs {
             || self.stack_order == Some(StackOrder::Search)
     }
 
-    /// The delay options these arguments give; `process_file` is the `--process` file's process,
-    /// if one was given (it sets the default diffusion ratio, [`delay::default_diffusion_ratio`]).
-    pub fn options(&self, process_file: Option<&Process>) -> Result<DelayOptions, DelayError> {
-        let defaults = DelayOptions::default();
-        let diffusion_ratio = match self.diffusion_ratio {
-            Some(ratio) => ratio,
-            None => delay::default_diffusion_ratio(process_file)?,
-        };
-        Ok(DelayOptions {
-            load: match (self.load, self.fanout) {
-                (Some(c), _) => Load::Capacitance(c),
-                (None, Some(h)) => Load::Fanout(h),
-                (None, None) => defaults.load,
-            },
-            diffusion_ratio,
-            stack_order: self.stack_order.unwrap_or(defaults.stack_order),
-            work_budget: defaults.work_budget,
-        })
+    /// The load these arguments give, if any.
+    pub fn load(&self) -> Option<Load> {
+        match (self.load, self.fanout) {
+            (Some(c), _) => Some(Load::Units(c)),
+            (None, Some(h)) => Some(Load::Fanout(h)),
+            (None, None) => None,
+        }
     }
 }
 
@@ -227,30 +215,48 @@ pub struct OutputFile {
     pub output: Option<PathBuf>,
 }
 
-/// Gate options from the command line: the process from `--process` (or the built-in one), and the
-/// mobility ratio from `--mobility-ratio` if given, else from the process.
-pub fn gate_options(args: &GateArgs) -> Result<GateOptions, Error> {
+/// What a plan is timed against, as the command line gives it.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Timed {
+    /// The load given, if any (default: fan-out 1).
+    pub load: Option<Load>,
+    /// The diffusion ratio given, if any.
+    pub diffusion_ratio: Option<f64>,
+    /// Whether the conditions matter (delays are reported, or they size the cell): then a diffusion
+    /// ratio not given is the process file's default, else it stays 1 (and unused).
+    pub matter: bool,
+}
+
+/// The plan of one cell from the command line, the one place plans are built from arguments: the
+/// process from `--process` (or the built-in one), the mobility ratio from `--mobility-ratio` if
+/// given, else from the process; the method, drive, reference, stack order (with `--critical`),
+/// name and work budget; and what the cell is timed against. Every value is checked here.
+pub fn plan(args: &GateArgs, order: StackOrder, timed: Timed) -> Result<Plan, Error> {
     let given = &args.sizing;
     let process = given.read_process()?;
     let mobility_ratio = given.mobility_ratio.unwrap_or(process.mobility_ratio);
     let drive = given.drive.unwrap_or(1.0);
-    let sizing = SizingOptions::new(given.method(), mobility_ratio, drive, given.reference);
-    Ok(GateOptions::cell(sizing, args.critical.clone(), args.name.clone(), Arc::new(process)))
-}
-
-/// The process of `--process`, if it was given (the built-in one is not a process file).
-pub fn process_file<'a>(args: &GateArgs, options: &'a GateOptions) -> Option<&'a Process> {
-    args.sizing.process.as_ref().map(|_| &*options.process)
-}
-
-/// What `paths`, `deck` and `verify` size the elmore method with: fan-out 1 and the default
-/// diffusion ratio (the `--process` file's, else 1); the other methods need no delay options.
-pub fn sizing_delay(args: &GateArgs, options: &GateOptions) -> Result<DelayOptions, DelayError> {
-    let mut delay = DelayOptions { work_budget: args.work_budget, ..DelayOptions::default() };
-    if args.sizing.method() == Method::Elmore {
-        delay.diffusion_ratio = delay::default_diffusion_ratio(process_file(args, options))?;
-    }
-    Ok(delay)
+    let method = given.method();
+    let order = Order::new(order, args.critical.clone()).map_err(SizingError::from)?;
+    let process_file = given.process.as_ref().map(|_| &process);
+    let diffusion_ratio = match timed.diffusion_ratio {
+        Some(ratio) => ratio,
+        None if timed.matter || method.sizes_by_delay() => default_diffusion_ratio(process_file)
+            .ok_or(SizingError::NoDefaultRatio { gate_cap_ff_per_um: process.gate_cap_ff_per_um })?,
+        None => 1.0,
+    };
+    let conditions = Conditions { load: timed.load.unwrap_or(Load::Fanout(1.0)), diffusion_ratio };
+    let plan = Plan {
+        order,
+        conditions,
+        process: Arc::new(process),
+        name: args.name.clone(),
+        budget: args.work_budget,
+        ..Plan::new(method, mobility_ratio, drive, given.reference)
+    };
+    plan.check().map_err(SizingError::from)?;
+    plan.conditions.check().map_err(SizingError::from)?;
+    Ok(plan)
 }
 
 /// Read and check a process file; errors name the key and its line and column.
@@ -271,19 +277,18 @@ pub fn expression_text(argument: &OsString) -> Result<String, Error> {
     Ok(crate::io::utf8_text(bytes, "the expression")?)
 }
 
-/// Read the gate `text` with the process's model names reserved; an error points into the text.
-/// The delay options are checked first, as every command checks its options before its input.
-pub fn read_gate(text: &str, options: &GateOptions, delay: &DelayOptions) -> Result<GateFunction, Error> {
-    delay::check_options(delay)?;
-    crate::expr::read_gate_with_models(text, &options.process.model_names())
+/// Read the cell `text` with the plan's model names reserved ([`logic::read_cell`]: one stage
+/// today); an error points into the text.
+pub fn read_cell(text: &str, plan: &Plan) -> Result<CellLogic, Error> {
+    logic::read_cell(text, &plan.process.model_names())
         .map_err(|error| Error::Expression { error, input: Source::inline("the expression", text) })
 }
 
-/// Read the gate `text` and size it, untimed, by any method and stack order (for `paths`, `deck`,
-/// `verify`, and `size` without delays).
-pub fn read_and_size(text: &str, options: &GateOptions, delay: &DelayOptions) -> Result<SizedGate, Error> {
-    let function = read_gate(text, options, delay)?;
-    Ok(delay::size_gate(&function, options, delay)?)
+/// Read the cell `text` and size it under `plan`, untimed (for `paths`, `deck`, `verify`, and `size`
+/// without delays).
+pub fn read_and_size(text: &str, plan: &Plan) -> Result<crate::cell::SizedCell, Error> {
+    let logic = read_cell(text, plan)?;
+    Ok(crate::sizing::size(&logic, plan)?)
 }
 
 /// A drive, mobility ratio or reference W/L: within [`bounds::SIZING`].
@@ -323,7 +328,7 @@ pub fn cell_name(text: &str) -> Result<String, String> {
         return Err(format!("a cell name is {}, found '{}'", names::IDENTIFIER_RULE, escaped(text)));
     }
     if let Some(why) = names::reserved_reason(text, &[]) {
-        return Err(GateError::ReservedCellName { name: text.to_string(), why }.to_string());
+        return Err(SizingError::ReservedCellName { name: text.to_string(), why }.to_string());
     }
     Ok(text.to_string())
 }

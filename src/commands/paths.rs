@@ -4,10 +4,12 @@ use std::ffi::OsString;
 
 use clap::ValueEnum;
 
-use super::{GateArgs, OutputFile, gate_options, sizing_delay};
+use super::{GateArgs, OutputFile, Timed};
 use crate::error::Error;
+use crate::figures::{self, CellFigures};
 use crate::output;
 use crate::paths::{self, MAX_LISTED_PATHS};
+use crate::sizing::StackOrder;
 
 /// List the conducting paths of each network, weakest first, and count them all.
 #[derive(Debug, Clone, clap::Args)]
@@ -61,14 +63,16 @@ fn path_limit(text: &str) -> Result<usize, String> {
 /// Size the gate, refuse a listing past its limits, list and write.
 pub fn run(args: Args) -> Result<(), Error> {
     let Args { expression, gate, format, output, limit } = args;
-    let options = gate_options(&gate)?;
+    // The elmore method sizes at fan-out 1 and the default diffusion ratio.
+    let plan = super::plan(&gate, StackOrder::Default, Timed::default())?;
     let text = super::expression_text(&expression)?;
-    let sized = super::read_and_size(&text, &options, &sizing_delay(&gate, &options)?)?;
-    for network in sized.trees.values() {
-        paths::check_listing(network, limit)?;
+    let sized = super::read_and_size(&text, &plan)?;
+    for network in sized.stage().networks.values() {
+        paths::check_listing(&network.network, limit)?;
     }
-    let listings = sized.list_paths(limit);
+    let listings = figures::path_listings(&sized, limit);
+    let figures = CellFigures::of(&sized);
     let format = format.into();
-    crate::io::write_output(output.output.as_deref(), |out| output::write_paths(&sized, &listings, format, out))?;
+    crate::io::write_output(output.output.as_deref(), |out| output::write_paths(&figures, &listings, format, out))?;
     Ok(())
 }

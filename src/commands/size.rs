@@ -5,11 +5,11 @@ use std::ffi::OsString;
 
 use clap::ValueEnum;
 
-use super::{DelayArgs, GateArgs, OutputFile, gate_options, process_file, read_gate};
-use crate::delay::{self, DelayOptions, StackOrder};
+use super::{DelayArgs, GateArgs, OutputFile, Timed};
 use crate::error::Error;
-use crate::output;
-use crate::sizing::Method;
+use crate::output::{self, CellReport};
+use crate::sizing::StackOrder;
+use crate::{analysis, figures::CellFigures};
 
 /// Size one gate and report every transistor, input and network.
 #[derive(Debug, Clone, clap::Args)]
@@ -95,7 +95,7 @@ fn check_applies(args: &Args) -> Result<(), Error> {
         });
     }
     let sizes_by_delay =
-        args.gate.sizing.method() == Method::Elmore || args.delay.stack_order == Some(StackOrder::Search);
+        args.gate.sizing.method().sizes_by_delay() || args.delay.stack_order == Some(StackOrder::Search);
     if args.format == Format::Spice && !sizes_by_delay {
         let given = [
             (args.delay.delays, "--delays"),
@@ -121,20 +121,17 @@ pub fn run(args: Args) -> Result<(), Error> {
     check_applies(&args)?;
     let Args { expression, gate, delay, format, output, rows } = args;
     let rows = rows.unwrap_or(Rows::Devices);
-    let options = gate_options(&gate)?;
+    let timed = delay.wanted() || gate.sizing.method().sizes_by_delay() || rows == Rows::Delays;
+    // Untimed, only the stack order of the delay options matters.
+    let conditions = Timed { load: delay.load(), diffusion_ratio: delay.diffusion_ratio, matter: timed };
+    let plan = super::plan(&gate, delay.stack_order.unwrap_or_default(), conditions)?;
     let text = super::expression_text(&expression)?;
-    let sized = if delay.wanted() || gate.sizing.method() == Method::Elmore || rows == Rows::Delays {
-        let delay = DelayOptions { work_budget: gate.work_budget, ..delay.options(process_file(&gate, &options))? };
-        let function = read_gate(&text, &options, &delay)?;
-        delay::size_and_time(&function, &options, &delay, Some(&options.process))?
+    let logic = super::read_cell(&text, &plan)?;
+    let sized = if timed {
+        let (cell, report) = analysis::size_and_time(&logic, &plan)?;
+        CellReport { figures: CellFigures::of(&cell), delays: Some(report) }
     } else {
-        // Untimed: only the stack order of the delay options matters.
-        let order = DelayOptions {
-            stack_order: delay.stack_order.unwrap_or_default(),
-            work_budget: gate.work_budget,
-            ..DelayOptions::default()
-        };
-        super::read_and_size(&text, &options, &order)?
+        CellReport::of(&crate::sizing::size(&logic, &plan)?)
     };
     let (format, rows) = (format.into(), rows.into());
     crate::io::write_output(output.output.as_deref(), |out| {

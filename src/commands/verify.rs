@@ -5,9 +5,11 @@ use std::ffi::OsString;
 
 use clap::ValueEnum;
 
-use super::{GateArgs, OutputFile, estimates_note, gate_options, sizing_delay};
+use super::{GateArgs, OutputFile, Timed, estimates_note};
 use crate::error::Error;
+use crate::figures::CellFigures;
 use crate::output;
+use crate::sizing::StackOrder;
 use crate::verify::{self, DEFAULT_RANDOM_VECTORS, DEFAULT_SEED, MAX_RANDOM_VECTORS, VerifyOptions};
 
 /// Help shown after `widthwise verify --help`.
@@ -85,10 +87,10 @@ fn random_vectors(text: &str) -> Result<u64, String> {
 pub fn run(args: Args) -> Result<(), Error> {
     let Args { expression, gate, format, output, random_vectors, seed } = args;
     let text = super::expression_text(&expression)?;
-    let options = gate_options(&gate)?;
-    let sized = super::read_and_size(&text, &options, &sizing_delay(&gate, &options)?)?;
+    let plan = super::plan(&gate, StackOrder::Default, Timed::default())?;
+    let sized = super::read_and_size(&text, &plan)?;
     let options = VerifyOptions { random_vectors, seed, work_budget: gate.work_budget, ..VerifyOptions::default() };
-    let result = verify::verify(&sized, &options)?;
+    let result = verify::verify(&CellFigures::of(&sized), &options)?;
     let format = format.into();
     crate::io::write_output(output.output.as_deref(), |out| {
         output::verify::write_verifications(std::slice::from_ref(&result), format, out)

@@ -16,6 +16,7 @@
 //! constraint of the phase it belongs to, and a run that would pass its [`Budget`] stops with
 //! [`SolveError::OverBudget`], which names the budget. The same program always takes the same work.
 
+pub mod geometric;
 mod interior;
 
 use interior::{Bound, Meter, Phase};

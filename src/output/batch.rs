@@ -5,8 +5,8 @@
 use std::io::{self, Write};
 
 use super::summary::SummaryTable;
-use super::{Format, Rows, csv, number, spice};
-use crate::gate::SizedGate;
+use super::{CellReport, Format, Rows, csv, number, spice};
+use crate::cell::SizedCell;
 use crate::process::Process;
 
 /// What the table's heading says about the run.
@@ -44,7 +44,7 @@ impl<'a> BatchWriter<'a> {
             // One array, one compact gate object per line: a library is read by scripts, and a line
             // per variant keeps it greppable.
             Format::Json => out.write_all(b"[")?,
-            Format::Spice => spice::write_library(&[], process, out)?,
+            Format::Spice => spice::write_library([], process, out)?,
             Format::Csv | Format::Table => {}
         }
         let table = (format == Format::Table).then(|| SummaryTable::new(rows));
@@ -52,7 +52,9 @@ impl<'a> BatchWriter<'a> {
     }
 
     /// Write (or, for the table, keep) a chunk of sized variants.
-    pub fn write(&mut self, chunk: &[SizedGate]) -> io::Result<()> {
+    pub fn write(&mut self, chunk: &[SizedCell]) -> io::Result<()> {
+        let chunk: Vec<CellReport> = chunk.iter().map(CellReport::of).collect();
+        let chunk = chunk.as_slice();
         match self.format {
             Format::Csv if self.written => {
                 csv::write_gates(chunk, self.rows, &mut SkipFirstLine { inner: &mut *self.out, skipping: true })?
@@ -68,12 +70,12 @@ impl<'a> BatchWriter<'a> {
             Format::Spice => {
                 for gate in chunk {
                     writeln!(self.out)?;
-                    spice::write_subcircuit(gate, self.process, self.out)?;
+                    spice::write_subcircuit(&gate.figures, self.process, self.out)?;
                 }
             }
             Format::Table => {
                 if let Some(table) = &mut self.table {
-                    table.add(chunk);
+                    table.add(chunk.iter().map(|g| &g.figures));
                 }
             }
         }

@@ -3,9 +3,9 @@
 
 use std::io::{self, Write};
 
-use crate::gate::{NetworkFigures, PathListing, SizedGate};
+use crate::figures::{CellFigures, NetworkFigures, PathListing};
 
-use super::Rows;
+use super::{CellReport, Rows};
 
 /// Columns of the gates view, in order: one tidy row per sized cell (variant), with what cells are
 /// compared by. Units are in the names (`_um`, `_um2`, `_c` for unit-NMOS gate capacitances, `_ff`,
@@ -104,7 +104,7 @@ fn extremes(values: impl Iterator<Item = f64>) -> (f64, f64) {
 }
 
 /// Write the gates in the chosen view.
-pub fn write_gates(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> io::Result<()> {
+pub fn write_gates(gates: &[CellReport], rows: Rows, out: &mut dyn Write) -> io::Result<()> {
     gates_view(gates, rows, out).map_err(into_io)
 }
 
@@ -117,8 +117,9 @@ fn into_io(error: csv::Error) -> io::Error {
     }
 }
 
-fn gates_view(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> csv::Result<()> {
+fn gates_view(reports: &[CellReport], rows: Rows, out: &mut dyn Write) -> csv::Result<()> {
     let mut writer = csv::Writer::from_writer(out);
+    let gates = reports.iter().map(|r| &r.figures);
     match rows {
         Rows::Gates => {
             writer.write_record(GATE_COLUMNS)?;
@@ -199,7 +200,7 @@ fn gates_view(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> csv::Resu
                 }
             }
         }
-        Rows::Delays => super::delays::write_csv(gates, &mut writer)?,
+        Rows::Delays => super::delays::write_csv(reports, &mut writer)?,
     }
     writer.flush()?;
     Ok(())
@@ -210,11 +211,11 @@ pub const PATH_COLUMNS: [&str; 7] =
     ["gate", "network", "rank", "resistance_r", "devices", "vector", "drawn_resistance_r"];
 
 /// One row per listed path.
-pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
+pub fn write_paths(gate: &CellFigures, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
     paths_view(gate, listings, out).map_err(into_io)
 }
 
-fn paths_view(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Write) -> csv::Result<()> {
+fn paths_view(gate: &CellFigures, listings: &[PathListing], out: &mut dyn Write) -> csv::Result<()> {
     let mut writer = csv::Writer::from_writer(out);
     writer.write_record(PATH_COLUMNS)?;
     for listing in listings {

@@ -9,12 +9,14 @@
 
 use std::io::{self, Write};
 
+use crate::budget::Meter;
+use crate::cell::{SizedCell, device_name};
 use crate::diagnostic::escaped;
-use crate::figures::node_diffusions;
-use crate::gate::SizedGate;
+use crate::figures::{CellFigures, node_diffusions};
 use crate::network::NetworkKind;
 use crate::paths;
 use crate::process::Process;
+use crate::timing::transition::{lone_path, switching_vectors};
 
 use super::number;
 use super::spice::{mosfet_line, transistor_line};
@@ -85,8 +87,8 @@ pub enum DeckError {
 }
 
 /// Refuse a gate too large for a deck ([`MAX_DECK_OCCURRENCES`]).
-pub fn check_size(gate: &SizedGate) -> Result<(), DeckError> {
-    let count = gate.function.literals.len();
+pub fn check_size(cell: &SizedCell) -> Result<(), DeckError> {
+    let count = cell.stage().function.literals.len();
     if count > MAX_DECK_OCCURRENCES {
         return Err(DeckError::TooLarge { count, limit: MAX_DECK_OCCURRENCES });
     }
@@ -148,24 +150,26 @@ pub fn reference_measure(kind: NetworkKind) -> String {
 /// Every input's worst-case transition, input by input, output falling then rising. An input
 /// whose every path is blocked by repeated inputs gets the exact worst over its side inputs (up to
 /// 16 inputs); an input with no transition at all (its toggling never moves the output) is left out.
-pub fn transitions(gate: &SizedGate) -> Vec<Transition> {
+pub fn transitions(cell: &SizedCell) -> Vec<Transition> {
+    let plan = &cell.plan;
+    let stage = cell.stage();
     let mut out = Vec::new();
-    for input in 0..gate.inputs.len() {
+    for input in 0..stage.function.inputs.len() {
         for kind in NetworkKind::BOTH {
-            let drawn = gate.options.resistances(kind, &gate.drawn_widths[kind]);
-            let (resistance, vector, path) = match gate.worst_case_for_input(input, kind) {
-                Some((path, vector)) => (
-                    path.resistance,
-                    vector.values.iter().map(|(_, v)| *v).collect::<Vec<bool>>(),
-                    Some(path.devices.iter().map(|&d| crate::gate::device_name(kind, d)).collect()),
-                ),
-                None => match exact_transition(gate, input, kind) {
+            let sized = &stage.networks[kind];
+            let drawn = plan.resistances(kind, &sized.drawn_widths(&plan.process));
+            let lone = lone_path(stage, plan, input, kind, &Meter::unlimited()).unwrap_or(None);
+            let (resistance, vector, path) = match lone {
+                Some((path, vector)) => {
+                    (path.resistance, vector, Some(path.devices.iter().map(|&d| device_name(kind, d)).collect()))
+                }
+                None => match exact_transition(cell, input, kind) {
                     Some((resistance, vector)) => (resistance, vector, None),
                     None => continue,
                 },
             };
-            let on = gate.trees[kind].on_devices(&vector);
-            let drawn_resistance = paths::effective_resistance(&gate.trees[kind], &drawn, &on).unwrap_or(f64::INFINITY);
+            let on = sized.network.on_devices(&vector);
+            let drawn_resistance = paths::effective_resistance(&sized.network, &drawn, &on).unwrap_or(f64::INFINITY);
             out.push(Transition { input, kind, vector, resistance, drawn_resistance, path });
         }
     }
@@ -174,12 +178,13 @@ pub fn transitions(gate: &SizedGate) -> Vec<Transition> {
 
 /// Where repeated inputs leave no path through `input` that conducts alone: the transition of
 /// that input with the highest resistance after the switch, over every side-input vector.
-fn exact_transition(gate: &SizedGate, input: usize, kind: NetworkKind) -> Option<(f64, Vec<bool>)> {
-    let resistance = gate.options.resistances(kind, &gate.widths[kind]);
+fn exact_transition(cell: &SizedCell, input: usize, kind: NetworkKind) -> Option<(f64, Vec<bool>)> {
+    let sized = &cell.stage().networks[kind];
+    let resistance = cell.plan.resistances(kind, &sized.widths);
     let mut best: Option<(f64, Vec<bool>)> = None;
-    for values in gate.switching_vectors(input, kind)? {
-        let on = gate.trees[kind].on_devices(&values);
-        let Some(after) = paths::effective_resistance(&gate.trees[kind], &resistance, &on) else { continue };
+    for values in switching_vectors(cell.stage(), input, kind)? {
+        let on = sized.network.on_devices(&values);
+        let Some(after) = paths::effective_resistance(&sized.network, &resistance, &on) else { continue };
         if best.as_ref().is_none_or(|(r, _)| after > r + 1e-12) {
             best = Some((after, values));
         }
@@ -199,7 +204,7 @@ pub fn node_diffusion_um(devices: &[(&str, &str, f64)], output: &str) -> Vec<(St
 }
 
 /// The reference inverter as drawn: NMOS and PMOS (fingers, finger width nm).
-fn reference_devices(gate: &SizedGate) -> [(usize, f64); 2] {
+fn reference_devices(gate: &CellFigures) -> [(usize, f64); 2] {
     let process = &gate.process;
     [gate.reference_nmos_w_over_l, gate.reference_pmos_w_over_l].map(|w| {
         let drawn = process.draw(w);
@@ -231,7 +236,8 @@ fn femtofarads(value: f64) -> String {
 }
 
 /// Write the deck.
-pub fn write_deck(gate: &SizedGate, options: &DeckOptions, out: &mut dyn Write) -> io::Result<()> {
+pub fn write_deck(cell: &SizedCell, options: &DeckOptions, out: &mut dyn Write) -> io::Result<()> {
+    let gate = &CellFigures::of(cell);
     let process = &gate.process;
     let supply = process.supply_v;
     let half = number(supply / 2.0);
@@ -269,7 +275,7 @@ pub fn write_deck(gate: &SizedGate, options: &DeckOptions, out: &mut dyn Write) 
     let stop = start + 20.0 * slowest;
     let step = slowest / 200.0;
 
-    let transitions = transitions(gate);
+    let transitions = transitions(cell);
     writeln!(out, "* widthwise simulation deck: {}: {} = {}", gate.name, gate.output, gate.expression)?;
     writeln!(out, "* {}; process: {}", super::sizing_line(gate), process.name)?;
     writeln!(out, "* One copy of the gate per worst-case transition and one of the reference inverter per output")?;
@@ -386,7 +392,7 @@ pub fn write_deck(gate: &SizedGate, options: &DeckOptions, out: &mut dyn Write) 
             if held.is_empty() { "nothing".to_string() } else { held.join(" ") },
             number(transition.resistance),
             number(transition.drawn_resistance),
-            number(gate.options.target(transition.kind)),
+            number(cell.plan.target(transition.kind)),
         )?;
         let mut nodes = Vec::new();
         for (input, &value) in transition.vector.iter().enumerate() {

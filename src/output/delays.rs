@@ -3,10 +3,10 @@
 
 use std::io::{self, Write};
 
+use super::CellReport;
 use super::number;
 use super::table::write_columns;
-use crate::delay::Timing;
-use crate::gate::SizedGate;
+use crate::timing::DelayReport;
 
 fn strings<const N: usize>(cells: [&str; N]) -> Vec<String> {
     cells.iter().map(|c| c.to_string()).collect()
@@ -17,7 +17,8 @@ fn list(names: &[String]) -> String {
 }
 
 /// The delay sections of one gate's table block.
-pub fn write_table(timing: &Timing, out: &mut dyn Write) -> io::Result<()> {
+pub fn write_table(report: &DelayReport, out: &mut dyn Write) -> io::Result<()> {
+    let timing = &report.timing;
     let model = &timing.delay_model;
     let load = match (model.fanout, model.load_c) {
         (Some(h), _) => format!("fan-out {} (copies of the longest-path gate)", number(h)),
@@ -104,7 +105,7 @@ pub fn write_table(timing: &Timing, out: &mut dyn Write) -> io::Result<()> {
 
     writeln!(out, "\nmethods (delay ratio: worst Elmore delay over the reference inverter's, same load)")?;
     let mut rows = vec![strings(["method", "total W/L", "worst delay ratio", "at", "meets the bound"])];
-    for row in &timing.method_comparison {
+    for row in &report.method_comparison {
         match row.total_w_over_l {
             Some(total) => rows.push(vec![
                 row.method.name().to_string(),
@@ -124,7 +125,7 @@ pub fn write_table(timing: &Timing, out: &mut dyn Write) -> io::Result<()> {
     }
     write_columns(&rows, out)?;
 
-    if let Some(order) = &timing.stack_order {
+    if let Some(order) = &report.stack_order {
         let how = if order.exhaustive { "every order" } else { "a local search" };
         writeln!(
             out,
@@ -171,10 +172,11 @@ pub const DELAY_COLUMNS: [&str; 22] = [
 ];
 
 /// One row per input and edge of every timed gate.
-pub fn write_csv<W: Write>(gates: &[SizedGate], writer: &mut csv::Writer<W>) -> csv::Result<()> {
+pub fn write_csv<W: Write>(reports: &[CellReport], writer: &mut csv::Writer<W>) -> csv::Result<()> {
     writer.write_record(DELAY_COLUMNS)?;
-    for gate in gates {
-        let Some(timing) = &gate.timing else { continue };
+    for report in reports {
+        let Some(delays) = &report.delays else { continue };
+        let (gate, timing) = (&report.figures, &delays.timing);
         let fanout = match timing.delay_model.fanout {
             Some(h) => number(h),
             None => String::new(),

@@ -7,7 +7,8 @@ use std::io::{self, Write};
 use serde::Serialize;
 use serde_json::ser::{CompactFormatter, Formatter, PrettyFormatter};
 
-use crate::gate::{PathListing, SizedGate};
+use super::CellReport;
+use crate::figures::{CellFigures, PathListing};
 
 /// A serde_json formatter that writes every float by [`crate::number::format`] and leaves the rest
 /// to `F` (pretty or compact). Non-finite floats never reach it: serde_json writes them `null`.
@@ -76,7 +77,7 @@ pub fn write_compact<T: Serialize + ?Sized>(value: &T, out: &mut dyn Write) -> i
 }
 
 /// One gate as an object; several as an array of objects.
-pub fn write_gates(gates: &[SizedGate], out: &mut dyn Write) -> io::Result<()> {
+pub fn write_gates(gates: &[CellReport], out: &mut dyn Write) -> io::Result<()> {
     match gates {
         [gate] => write_pretty(gate, out)?,
         _ => write_pretty(gates, out)?,
@@ -92,7 +93,7 @@ struct Paths<'a> {
 }
 
 /// The path listing as `{ name, expression, networks: [{ network, path_count, paths: [...] }] }`.
-pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
+pub fn write_paths(gate: &CellFigures, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
     let paths = Paths { name: &gate.name, expression: &gate.expression, networks: listings };
     write_pretty(&paths, out)?;
     writeln!(out)

@@ -15,7 +15,9 @@ pub mod verify;
 
 use std::io::{self, Write};
 
-use crate::gate::{PathListing, SizedGate};
+use crate::cell::SizedCell;
+use crate::figures::{CellFigures, PathListing};
+use crate::timing::DelayReport;
 
 /// Output format, chosen once per run.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -45,22 +47,45 @@ pub enum Rows {
     Delays,
 }
 
+/// A sized cell as the writers show it: its figures and, where it was timed, its delay report.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct CellReport {
+    /// Every figure of the cell.
+    #[serde(flatten)]
+    pub figures: CellFigures,
+    /// Its delays, the methods side by side and the stack-order search, where asked for.
+    #[serde(flatten)]
+    pub delays: Option<DelayReport>,
+}
+
+impl CellReport {
+    /// The report of `cell`, untimed.
+    pub fn of(cell: &SizedCell) -> CellReport {
+        CellReport { figures: CellFigures::of(cell), delays: None }
+    }
+}
+
 /// Write sized gates in `format`.
-pub fn write_gates(gates: &[SizedGate], format: Format, rows: Rows, out: &mut dyn Write) -> io::Result<()> {
+pub fn write_gates(gates: &[CellReport], format: Format, rows: Rows, out: &mut dyn Write) -> io::Result<()> {
     match format {
         Format::Table => table::write_gates(gates, out),
         Format::Csv => csv::write_gates(gates, rows, out),
         Format::Json => json::write_gates(gates, out),
         // The library's header names the process the gates were drawn in.
         Format::Spice => match gates.first() {
-            Some(first) => spice::write_library(gates, &first.process, out),
+            Some(first) => spice::write_library(gates.iter().map(|g| &g.figures), &first.figures.process, out),
             None => Ok(()),
         },
     }
 }
 
 /// Write path listings of one gate in `format` (SPICE has no form for them).
-pub fn write_paths(gate: &SizedGate, listings: &[PathListing], format: Format, out: &mut dyn Write) -> io::Result<()> {
+pub fn write_paths(
+    gate: &CellFigures,
+    listings: &[PathListing],
+    format: Format,
+    out: &mut dyn Write,
+) -> io::Result<()> {
     match format {
         Format::Table | Format::Spice => table::write_paths(gate, listings, out),
         Format::Csv => csv::write_paths(gate, listings, out),
@@ -70,7 +95,7 @@ pub fn write_paths(gate: &SizedGate, listings: &[PathListing], format: Format, o
 
 /// How a gate was sized, in one line for headers and comments: method, mobility ratio, drive and
 /// the reference inverter at that drive.
-pub fn sizing_line(gate: &SizedGate) -> String {
+pub fn sizing_line(gate: &CellFigures) -> String {
     format!(
         "{} sizing, mobility ratio {}, drive {}, reference inverter NMOS {} PMOS {} (W/L)",
         gate.method.name(),

@@ -6,7 +6,7 @@
 
 use std::io::{self, Write};
 
-use crate::gate::{SizedGate, Transistor};
+use crate::figures::{CellFigures, Transistor};
 use crate::network::NetworkKind;
 use crate::process::Process;
 
@@ -17,7 +17,11 @@ pub fn micrometres(nanometres: f64) -> String {
 }
 
 /// One `.subckt` per gate, with a header comment.
-pub fn write_library(gates: &[SizedGate], process: &Process, out: &mut dyn Write) -> io::Result<()> {
+pub fn write_library<'a>(
+    gates: impl IntoIterator<Item = &'a CellFigures>,
+    process: &Process,
+    out: &mut dyn Write,
+) -> io::Result<()> {
     writeln!(out, "* widthwise: static CMOS gates sized against a reference inverter")?;
     writeln!(out, "* process: {}; first-order estimates: sign off with the foundry's models and rules", process.name)?;
     for gate in gates {
@@ -28,7 +32,7 @@ pub fn write_library(gates: &[SizedGate], process: &Process, out: &mut dyn Write
 }
 
 /// One gate's `.subckt ... .ends`.
-pub fn write_subcircuit(gate: &SizedGate, process: &Process, out: &mut dyn Write) -> io::Result<()> {
+pub fn write_subcircuit(gate: &CellFigures, process: &Process, out: &mut dyn Write) -> io::Result<()> {
     writeln!(out, "* {}: {} = {}", gate.name, gate.output, gate.expression)?;
     writeln!(out, "* {}", super::sizing_line(gate))?;
     let inputs: Vec<&str> = gate.inputs.iter().map(|i| i.name.as_str()).collect();

@@ -5,7 +5,7 @@
 use std::io::{self, Write};
 
 use super::{Rows, number};
-use crate::gate::SizedGate;
+use crate::figures::CellFigures;
 
 /// Columns of the gates summary, in order.
 pub const GATE_SUMMARY_COLUMNS: [&str; 13] = [
@@ -82,7 +82,7 @@ impl SummaryTable {
     }
 
     /// Add the rows of these gates.
-    pub fn add(&mut self, gates: &[SizedGate]) {
+    pub fn add<'a>(&mut self, gates: impl IntoIterator<Item = &'a CellFigures>) {
         for gate in gates {
             match self.rows {
                 Rows::Delays => {}
@@ -190,7 +190,11 @@ impl SummaryTable {
 }
 
 /// Write gates as one summary table.
-pub fn write_summary(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> io::Result<()> {
+pub fn write_summary<'a>(
+    gates: impl IntoIterator<Item = &'a CellFigures>,
+    rows: Rows,
+    out: &mut dyn Write,
+) -> io::Result<()> {
     let mut table = SummaryTable::new(rows);
     table.add(gates);
     table.write(out)
@@ -199,14 +203,14 @@ pub fn write_summary(gates: &[SizedGate], rows: Rows, out: &mut dyn Write) -> io
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::gate::GateOptions;
     use crate::size_text;
-    use crate::sizing::{Method, SizingOptions};
+    use crate::sizing::{Method, Plan};
 
     #[test]
     fn columns_line_up() {
-        let options = GateOptions::new(SizingOptions::new(Method::LongestPath, 2.0, 1.0, None));
-        let gates = vec![size_text("nand2", &options).unwrap(), size_text("aoi21", &options).unwrap()];
+        let plan = Plan::new(Method::LongestPath, 2.0, 1.0, None);
+        let gates: Vec<CellFigures> =
+            ["nand2", "aoi21"].iter().map(|text| CellFigures::of(&size_text(text, &plan).unwrap())).collect();
         let mut out = Vec::new();
         write_summary(&gates, Rows::Gates, &mut out).unwrap();
         let text = String::from_utf8(out).unwrap();

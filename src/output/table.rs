@@ -2,8 +2,9 @@
 
 use std::io::{self, Write};
 
+use super::CellReport;
 use super::number;
-use crate::gate::{PathListing, SizedGate};
+use crate::figures::{CellFigures, PathListing};
 
 /// Write rows as aligned columns, the first row a header, two spaces of indent.
 pub fn write_columns(rows: &[Vec<String>], out: &mut dyn Write) -> io::Result<()> {
@@ -32,7 +33,7 @@ fn strings<const N: usize>(cells: [&str; N]) -> Vec<String> {
 }
 
 /// Write every gate's block, a blank line between them.
-pub fn write_gates(gates: &[SizedGate], out: &mut dyn Write) -> io::Result<()> {
+pub fn write_gates(gates: &[CellReport], out: &mut dyn Write) -> io::Result<()> {
     for (index, gate) in gates.iter().enumerate() {
         if index > 0 {
             writeln!(out)?;
@@ -42,7 +43,8 @@ pub fn write_gates(gates: &[SizedGate], out: &mut dyn Write) -> io::Result<()> {
     Ok(())
 }
 
-fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
+fn write_gate(report: &CellReport, out: &mut dyn Write) -> io::Result<()> {
+    let gate = &report.figures;
     writeln!(out, "{}: {} = {}", gate.name, gate.output, gate.expression)?;
     let mut settings = format!("  {}", super::sizing_line(gate));
     if let Some(critical) = &gate.critical_input {
@@ -143,8 +145,8 @@ fn write_gate(gate: &SizedGate, out: &mut dyn Write) -> io::Result<()> {
         vec!["drawn area".to_string(), format!("{} um^2 (sum of drawn W x L: channels only)", number(gate.area_um2))],
     ];
     write_columns(&rows, out)?;
-    if let Some(timing) = &gate.timing {
-        super::delays::write_table(timing, out)?;
+    if let Some(delays) = &report.delays {
+        super::delays::write_table(delays, out)?;
     }
     Ok(())
 }
@@ -155,7 +157,7 @@ fn percent(value: f64) -> String {
 }
 
 /// Write the path listing of both networks.
-pub fn write_paths(gate: &SizedGate, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
+pub fn write_paths(gate: &CellFigures, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
     writeln!(out, "{}: {} = {} ({} sizing)", gate.name, gate.output, gate.expression, gate.method.name())?;
     for listing in listings {
         writeln!(

@@ -17,11 +17,11 @@
 use std::sync::Mutex;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
-use widthwise::gate::{GateOptions, SizedGate};
+use widthwise::cell::SizedCell;
 use widthwise::output::deck::{edge, gate_measure, reference_measure, transitions};
 use widthwise::process::Process;
 use widthwise::size_text;
-use widthwise::sizing::{Method, SizingOptions};
+use widthwise::sizing::{Method, Plan};
 
 use crate::support::{measurements, ngspice_available, note, process_with, run_ngspice, summary_ratios, widthwise};
 
@@ -107,20 +107,20 @@ fn simulate(text: &str, method: Method, process_path: &str, process: &Process, e
     let output = run_ngspice(&deck);
     let measured = measurements(&output);
     let summary = summary_ratios(&output);
-    let mut options = GateOptions::new(SizingOptions::new(method, process.mobility_ratio, 1.0, None));
-    options.process = std::sync::Arc::new(process.clone());
-    let gate: SizedGate = size_text(text, &options).expect("the gate sizes");
+    let plan =
+        Plan { process: std::sync::Arc::new(process.clone()), ..Plan::new(method, process.mobility_ratio, 1.0, None) };
+    let gate: SizedCell = size_text(text, &plan).expect("the gate sizes");
     let found = |name: &str| -> f64 {
         *measured.get(name).unwrap_or_else(|| panic!("{text} ({}): no measurement {name} in\n{output}", method.name()))
     };
     transitions(&gate)
         .into_iter()
         .map(|transition| {
-            let input = &gate.inputs[transition.input].name;
+            let input = &gate.logic.inputs[transition.input];
             let what = format!("{input} {}", edge(transition.kind));
             let ratio = found(&gate_measure(input, transition.kind)) / found(&reference_measure(transition.kind));
             Outcome {
-                predicted: transition.drawn_resistance / gate.options.target(transition.kind),
+                predicted: transition.drawn_resistance / gate.plan.target(transition.kind),
                 summary: summary.get(&what).copied(),
                 what,
                 ratio,
@@ -138,7 +138,7 @@ fn simulate_all(process_text: &str, extra: &[&str]) -> Vec<(String, Method, Vec<
     let process = Process::from_toml(process_text).expect("the test process is valid");
     let jobs: Vec<(String, Method)> = gates()
         .into_iter()
-        .flat_map(|gate| [Method::LongestPath, Method::MinArea].map(|method| (gate.clone(), method)))
+        .flat_map(|gate| [Method::LongestPath, Method::MIN_AREA].map(|method| (gate.clone(), method)))
         .collect();
     let next = AtomicUsize::new(0);
     let results = Mutex::new(Vec::new());
@@ -200,7 +200,7 @@ fn worst_case_delays_match_the_reference_inverter() {
                 outcome.predicted
             );
             // min-area puts every path exactly at the target (docs/model.md section 5).
-            if *method == Method::MinArea {
+            if *method == Method::MIN_AREA {
                 assert!((outcome.predicted - 1.0).abs() < 1e-5, "{context} {}", outcome.what);
             }
             let summary = outcome.summary.unwrap_or_else(|| panic!("{context} {}: no summary line", outcome.what));

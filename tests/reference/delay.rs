@@ -4,31 +4,34 @@
 use std::io::Write;
 use std::process::{Command, Stdio};
 
-use widthwise::delay::ProcessUnits;
-use widthwise::process::Process;
-
-use widthwise::delay::geometric::{self, Outcome, Program};
-use widthwise::delay::program::elmore_program;
-use widthwise::delay::{self, Delay, DelayOptions, Edge, Load, StackOrder, Timing};
+use widthwise::budget::Meter;
+use widthwise::cell::{SizedCell, describe};
 use widthwise::expr::read_gate;
-use widthwise::gate::{GateOptions, SizedGate};
+use widthwise::figures::CellFigures;
 use widthwise::network::Network;
+use widthwise::optimize::geometric::{self, Outcome, Program};
+use widthwise::process::Process;
 use widthwise::size_text;
-use widthwise::sizing::{Method, SizingOptions};
+use widthwise::sizing::{Conditions, Load, Method, Order, Plan, elmore};
+use widthwise::timing::{self, Delay, Edge, ProcessUnits, Timing};
 
 use super::support::{ngspice_available, scipy_available};
 
-fn options(method: Method) -> GateOptions {
-    GateOptions::new(SizingOptions::new(method, 2.0, 1.0, None))
+fn options(method: Method) -> Plan {
+    Plan::new(method, 2.0, 1.0, None)
 }
 
-fn sized(text: &str) -> SizedGate {
+fn sized(text: &str) -> SizedCell {
     size_text(text, &options(Method::LongestPath)).unwrap()
 }
 
-fn timed(gate: &SizedGate, load: Load, diffusion_ratio: f64) -> Timing {
-    let delay = DelayOptions { load, diffusion_ratio, stack_order: StackOrder::Default, ..DelayOptions::default() };
-    delay::analyse(gate, &delay, None).unwrap()
+fn timed(gate: &SizedCell, load: Load, diffusion_ratio: f64) -> Timing {
+    timing::time_in_rc(gate, &Conditions { load, diffusion_ratio }, &Meter::unlimited()).unwrap()
+}
+
+/// Total W/L of a sized cell.
+fn total(gate: &SizedCell) -> f64 {
+    CellFigures::of(gate).total_w_over_l
 }
 
 fn find<'a>(timing: &'a Timing, input: &str, edge: Edge) -> &'a Delay {
@@ -104,8 +107,8 @@ fn parallel_branches_are_solved_not_treed() {
     // the resistance shared with it; common practice, no source).
     // The written order of oai21's pull-down is (a | b) then c.
     let written = Network::pair(&read_gate("oai21").unwrap());
-    assert_eq!(delay::order::describe(&written.pull_down), "pull-down: (MN1 | MN2) - MN3");
-    let gate = size_text("oai21", &GateOptions { stack_order: Some(written), ..options(Method::LongestPath) }).unwrap();
+    assert_eq!(describe(&written.pull_down), "pull-down: (MN1 | MN2) - MN3");
+    let gate = size_text("oai21", &Plan { order: Order::Written, ..options(Method::LongestPath) }).unwrap();
     let timing = timed(&gate, Load::Fanout(1.0), 1.0);
     let rise = find(&timing, "c", Edge::Rise);
     assert!(!rise.tree);
@@ -119,34 +122,33 @@ fn stack_order_search_finds_the_faster_oai21() {
     // + n1 (hanging through MN3, charged) 6 x R = 22 RC. With MN3 at the rail, n1 stays at ground
     // for b rising (18 RC) and the worst becomes c rising, 20 RC (both worked by hand from the
     // Elmore model; no published source): a gain of 2/22.
-    let function = read_gate("oai21").unwrap();
-    let delay = DelayOptions { stack_order: StackOrder::Search, ..DelayOptions::default() };
-    let (gate, report) = delay::order::search(&function, &options(Method::LongestPath), &delay).unwrap();
+    let plan = Plan { order: Order::Search { critical: None }, ..options(Method::LongestPath) };
+    let gate = size_text("oai21", &plan).unwrap();
+    let report = gate.search.clone().unwrap();
     assert!((report.default_value - 22.0).abs() < 1e-9, "{}", report.default_value);
     assert!((report.chosen_value - 20.0).abs() < 1e-9, "{}", report.chosen_value);
     assert!((report.gain_percent - 100.0 * 2.0 / 22.0).abs() < 1e-9);
-    assert_eq!(delay::order::describe(&gate.trees.pull_down), "pull-down: (MN1 | MN2) - MN3");
+    assert_eq!(describe(&gate.stage().networks.pull_down.network), "pull-down: (MN1 | MN2) - MN3");
 }
 
 const GATES: [&str; 8] = ["inv", "nand2", "nand3", "nor2", "nor3", "aoi21", "aoi22", "oai21"];
 
-fn elmore_sized(text: &str, load: Load, diffusion_ratio: f64) -> Result<SizedGate, widthwise::Error> {
-    let delay = DelayOptions { load, diffusion_ratio, stack_order: StackOrder::Default, ..DelayOptions::default() };
-    Ok(delay::size_gate(&read_gate(text).unwrap(), &options(Method::Elmore), &delay)?)
+fn elmore_sized(text: &str, load: Load, diffusion_ratio: f64) -> Result<SizedCell, widthwise::Error> {
+    size_text(text, &Plan { conditions: Conditions { load, diffusion_ratio }, ..options(Method::ELMORE) })
 }
 
 #[test]
 fn elmore_method_meets_every_bound_and_never_costs_more_than_a_feasible_longest_path() {
     let mut feasible = 0;
     for text in GATES {
-        for load in [Load::Capacitance(20.0), Load::Capacitance(60.0), Load::Fanout(4.0)] {
+        for load in [Load::Units(20.0), Load::Units(60.0), Load::Fanout(4.0)] {
             for ratio in [0.0, 0.5, 1.0] {
                 let longest = sized(text);
                 let longest_timing = timed(&longest, load, ratio);
                 let longest_meets = longest_timing.delays.iter().all(|d| d.delay_ratio <= 1.0 + 1e-9);
                 let gate = match elmore_sized(text, load, ratio) {
                     Ok(gate) => gate,
-                    Err(widthwise::Error::Delay(error)) if error.is_infeasible() => {
+                    Err(widthwise::Error::Sizing(error)) if error.is_infeasible() => {
                         let message = error.to_string();
                         // Infeasible: then longest-path cannot meet the bounds either.
                         assert!(!longest_meets, "{text} {load:?} {ratio}: {message}");
@@ -161,15 +163,15 @@ fn elmore_method_meets_every_bound_and_never_costs_more_than_a_feasible_longest_
                     assert!(d.elmore_rc <= d.reference_elmore_rc * (1.0 + 1e-6), "{text} {:?}", d);
                 }
                 if longest_meets {
-                    assert!(gate.total_w_over_l <= longest.total_w_over_l * (1.0 + 1e-6), "{text} {load:?} {ratio}");
+                    assert!(total(&gate) <= total(&longest) * (1.0 + 1e-6), "{text} {load:?} {ratio}");
                 }
-                if ratio == 0.0 && matches!(load, Load::Capacitance(_)) {
+                if ratio == 0.0 && matches!(load, Load::Units(_)) {
                     // No parasitics and a fixed load: every delay is (path resistance) x load, so the
                     // bound is the path constraint and the optimum is the min-area closed form
                     // (series rule B_i = B sqrt(K_i) / sum sqrt(K_j), docs/model.md section 5).
-                    let min_area = size_text(text, &options(Method::MinArea)).unwrap();
-                    let relative = (gate.total_w_over_l / min_area.total_w_over_l - 1.0).abs();
-                    assert!(relative < 1e-6, "{text}: {} vs {}", gate.total_w_over_l, min_area.total_w_over_l);
+                    let min_area = size_text(text, &options(Method::MIN_AREA)).unwrap();
+                    let relative = (total(&gate) / total(&min_area) - 1.0).abs();
+                    assert!(relative < 1e-6, "{text}: {} vs {}", total(&gate), total(&min_area));
                 }
             }
         }
@@ -182,8 +184,8 @@ fn the_inverter_needs_exactly_the_reference() {
     // The reference inverter meets its own bound with equality, and no smaller one does: adding the
     // two bounds (fall x n / (diff S + L), rise x p / mu (diff S + L)) gives S >= S_ref for the total
     // S = n + p (worked by hand; no published source).
-    let gate = elmore_sized("inv", Load::Capacitance(10.0), 1.0).unwrap();
-    assert!((gate.total_w_over_l - 3.0).abs() < 1e-6, "{}", gate.total_w_over_l);
+    let gate = elmore_sized("inv", Load::Units(10.0), 1.0).unwrap();
+    assert!((total(&gate) - 3.0).abs() < 1e-6, "{}", total(&gate));
 }
 
 #[test]
@@ -272,21 +274,20 @@ fn elmore_optimum_agrees_with_scipy() {
         return;
     }
     let cases = [
-        ("nand2", Load::Capacitance(30.0), 1.0),
-        ("nand3", Load::Capacitance(50.0), 1.0),
+        ("nand2", Load::Units(30.0), 1.0),
+        ("nand3", Load::Units(50.0), 1.0),
         ("nor2", Load::Fanout(4.0), 0.5),
-        ("aoi21", Load::Capacitance(40.0), 1.0),
-        ("aoi22", Load::Capacitance(60.0), 0.7),
+        ("aoi21", Load::Units(40.0), 1.0),
+        ("aoi22", Load::Units(60.0), 0.7),
         ("oai21", Load::Fanout(6.0), 1.0),
         // 27 paths down, each with three inputs: many near-identical constraints active at once.
-        ("!((a | b | c) & (d | e | f) & (g | h | i))", Load::Capacitance(150.0), 1.0),
+        ("!((a | b | c) & (d | e | f) & (g | h | i))", Load::Units(150.0), 1.0),
     ];
     let mut programs = Vec::new();
     let mut ours = Vec::new();
     for (text, load, ratio) in cases {
-        let delay =
-            DelayOptions { load, diffusion_ratio: ratio, stack_order: StackOrder::Default, ..DelayOptions::default() };
-        let (program, _) = elmore_program(&sized(text), &delay).unwrap();
+        let plan = Plan { conditions: Conditions { load, diffusion_ratio: ratio }, ..options(Method::ELMORE) };
+        let (program, _) = elmore::program(sized(text).stage(), &plan).unwrap();
         let Outcome::Optimal { objective, .. } = geometric::solve(&program).unwrap() else {
             panic!("{text} is feasible")
         };
@@ -316,7 +317,7 @@ fn infeasibility_margin_agrees_with_scipy() {
     let mut programs = Vec::new();
     let mut ours = Vec::new();
     for text in ["nand3", "aoi22"] {
-        let (program, _) = elmore_program(&sized(text), &DelayOptions::default()).unwrap();
+        let (program, _) = elmore::program(sized(text).stage(), &options(Method::ELMORE)).unwrap();
         let Outcome::Infeasible { least_worst, .. } = geometric::solve(&program).unwrap() else {
             panic!("{text} at fan-out 1 is infeasible")
         };

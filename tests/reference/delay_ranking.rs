@@ -20,12 +20,12 @@
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
 
-use widthwise::gate::{GateOptions, SizedGate};
+use widthwise::cell::SizedCell;
 use widthwise::network::NetworkKind;
 use widthwise::output::deck::{edge, gate_measure, transitions};
 use widthwise::process::Process;
 use widthwise::size_text;
-use widthwise::sizing::{Method, SizingOptions};
+use widthwise::sizing::{Method, Plan};
 
 use crate::support::{measurements, ngspice_available, note, process_with, run_ngspice, widthwise};
 
@@ -72,9 +72,11 @@ fn compare(text: &str, path: &str, process: &Process) -> (Vec<Row>, Vec<String>)
     assert!((model["process"]["unit_capacitance_ff"].as_f64().unwrap() / unit_ff - 1.0).abs() <= 5e-10);
     let delays = timed["delays"].as_array().unwrap();
 
-    let mut options = GateOptions::new(SizingOptions::new(Method::LongestPath, process.mobility_ratio, 1.0, None));
-    options.process = std::sync::Arc::new(process.clone());
-    let gate: SizedGate = size_text(text, &options).unwrap();
+    let plan = Plan {
+        process: std::sync::Arc::new(process.clone()),
+        ..Plan::new(Method::LongestPath, process.mobility_ratio, 1.0, None)
+    };
+    let gate: SizedCell = size_text(text, &plan).unwrap();
     let supply = process.supply_v;
 
     // The deck, with the operating point of every node the Elmore delay names read back at t = 0.
@@ -84,7 +86,7 @@ fn compare(text: &str, path: &str, process: &Process) -> (Vec<Row>, Vec<String>)
     let transitions = transitions(&gate);
     for (index, transition) in transitions.iter().enumerate() {
         let tag = format!("t{}", index + 1);
-        let input = &gate.inputs[transition.input].name;
+        let input = &gate.logic.inputs[transition.input];
         let edge = edge(transition.kind);
         let delay = delays
             .iter()
@@ -92,7 +94,7 @@ fn compare(text: &str, path: &str, process: &Process) -> (Vec<Row>, Vec<String>)
             .unwrap_or_else(|| panic!("{text}: no Elmore delay for {input} {edge}"));
         // The same transition: the worst-case vector after the switch, input by input.
         for (position, value) in transition.vector.iter().enumerate() {
-            let name = &gate.inputs[position].name;
+            let name = &gate.logic.inputs[position];
             assert_eq!(delay["vector"][name], u8::from(*value), "{text} {input} {edge}: {name} differs");
         }
         let falling = transition.kind == NetworkKind::PullDown;
@@ -140,7 +142,7 @@ fn compare(text: &str, path: &str, process: &Process) -> (Vec<Row>, Vec<String>)
     let rows = transitions
         .iter()
         .map(|transition| {
-            let input = gate.inputs[transition.input].name.clone();
+            let input = gate.logic.inputs[transition.input].clone();
             let edge = edge(transition.kind);
             let delay = delays.iter().find(|d| d["input"] == input.as_str() && d["edge"] == edge).unwrap();
             Row {

@@ -1,15 +1,15 @@
 //! Widths, logical effort and parasitic delay against published tables and facts of the trade.
 
 use approx::assert_relative_eq;
-use widthwise::gate::SizedGate;
+use widthwise::figures::CellFigures;
 use widthwise::network::NetworkKind;
-use widthwise::{GateOptions, Method, SizingOptions, size_text};
+use widthwise::{Method, Plan, size_text};
 
-fn sized(text: &str, method: Method, mobility_ratio: f64) -> SizedGate {
-    size_text(text, &GateOptions::new(SizingOptions::new(method, mobility_ratio, 1.0, None))).unwrap()
+fn sized(text: &str, method: Method, mobility_ratio: f64) -> CellFigures {
+    CellFigures::of(&size_text(text, &Plan::new(method, mobility_ratio, 1.0, None)).unwrap())
 }
 
-fn widths(gate: &SizedGate, kind: NetworkKind) -> Vec<f64> {
+fn widths(gate: &CellFigures, kind: NetworkKind) -> Vec<f64> {
     gate.transistors.iter().filter(|t| t.network == kind).map(|t| t.w_over_l).collect()
 }
 
@@ -94,7 +94,7 @@ fn min_area_worked_example() {
     // mu = 2, pull-down a in series with (b || c): K = (1 + sqrt 2)^2 = 5.828; a = 2.414,
     // b = c = 1.707; longest-path gives 2, 2, 2 (worked example: Lagrange / Cauchy-Schwarz on
     // sum K_i / B_i with sum B_i = B; the figures to three decimals checked by hand)
-    let gate = sized("!(a & (b | c))", Method::MinArea, 2.0);
+    let gate = sized("!(a & (b | c))", Method::MIN_AREA, 2.0);
     let down = widths(&gate, NetworkKind::PullDown);
     assert_relative_eq!(down[0], 2.414, epsilon = 5e-4);
     assert_relative_eq!(down[1], 1.707, epsilon = 5e-4);
@@ -110,7 +110,7 @@ fn methods_agree_on_equal_parallel_structure() {
     // (follows from the closed form: equal K_i give equal budgets; common practice, no source).
     for text in ["nand2", "nand4", "nor3", "aoi22", "oai22", "aoi33", "oai222"] {
         let longest = sized(text, Method::LongestPath, 2.0);
-        let min = sized(text, Method::MinArea, 2.0);
+        let min = sized(text, Method::MIN_AREA, 2.0);
         for (a, b) in longest.transistors.iter().zip(&min.transistors) {
             assert_relative_eq!(a.w_over_l, b.w_over_l, epsilon = 1e-12);
         }
@@ -122,7 +122,7 @@ fn drive_scales_widths_not_efforts() {
     // A gate of drive d is d unit gates in parallel: widths scale by d, logical effort and
     // parasitic delay do not (Sutherland, Sproull & Harris, "Logical Effort", 1999, ch. 1; from memory).
     let unit = sized("aoi21", Method::LongestPath, 2.0);
-    let x4 = size_text("aoi21", &GateOptions::new(SizingOptions::new(Method::LongestPath, 2.0, 4.0, None))).unwrap();
+    let x4 = CellFigures::of(&size_text("aoi21", &Plan::new(Method::LongestPath, 2.0, 4.0, None)).unwrap());
     for (a, b) in unit.transistors.iter().zip(&x4.transistors) {
         assert_relative_eq!(4.0 * a.w_over_l, b.w_over_l, epsilon = 1e-12);
     }

@@ -4,7 +4,8 @@
 use std::io::Write;
 use std::process::{Command, Stdio};
 
-use widthwise::{GateOptions, Method, SizingOptions, size_text};
+use widthwise::figures::CellFigures;
+use widthwise::{Method, Plan, size_text};
 
 use super::support::{note, scipy_available};
 
@@ -28,8 +29,8 @@ fn min_area_matches_slsqp() {
     if !scipy_available("min_area_matches_slsqp") {
         return;
     }
-    let options = GateOptions::new(SizingOptions::new(Method::MinArea, 2.0, 1.0, None));
-    let gates: Vec<_> = GATES.iter().map(|text| size_text(text, &options).unwrap()).collect();
+    let plan = Plan::new(Method::MIN_AREA, 2.0, 1.0, None);
+    let gates: Vec<_> = GATES.iter().map(|text| CellFigures::of(&size_text(text, &plan).unwrap())).collect();
     let input = serde_json::to_vec(&gates).unwrap();
     let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/scipy_min_area.py");
     let child =

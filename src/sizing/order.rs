@@ -1,7 +1,8 @@
-//! Stack order: choose each series stack's order (which member touches the output) to minimise the
-//! worst Elmore delay, or the worst of one named critical input, and report the gain against the
-//! default order of [`crate::network::Network::ordered`]. For the elmore method, whose delays all
-//! meet the bound whatever the order, the order that needs the least total W/L is chosen instead.
+//! The stack-order search, a sizing strategy that calls timing: choose each series stack's order
+//! (which member touches the output) to minimise the worst Elmore delay, or the worst of one named
+//! critical input, and report the gain against the default order of
+//! [`crate::network::Network::ordered`]. For the elmore method, whose delays all meet the bound
+//! whatever the order, the order that needs the least total W/L is chosen instead.
 //!
 //! Every combination is tried when there are few; otherwise a local search moves one member of one
 //! stack at a time to every other position and keeps any move that helps, until none does or the
@@ -9,26 +10,16 @@
 //! order, the orders still to try times the work that one took must fit in what is left of the
 //! work budget, or the search is refused before it starts.
 
-use super::report::StackOrderReport;
-use super::{DelayError, DelayOptions, analyse_within, size_read_gate_within};
 use crate::budget::{Estimate, Meter, Work};
+use crate::cell::{SizedStage, StackOrderReport, describe};
 use crate::expr::GateFunction;
-use crate::gate::{GateOptions, SizedGate, device_name};
+use crate::logic::{CellLogic, StageRole};
 use crate::network::{Network, NetworkKind, Node, Sides};
-use crate::sizing::Method;
-
-/// Which series-stack order to time.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize, serde::Deserialize, clap::ValueEnum)]
-#[serde(rename_all = "kebab-case")]
-pub enum StackOrder {
-    /// The default order: the critical input, then the least diffusion width, nearest the output.
-    #[default]
-    Default,
-    /// Series members as the expression writes them, the first nearest the output.
-    Written,
-    /// Search the orders for the least worst Elmore delay (the elmore method: the least total W/L).
-    Search,
-}
+use crate::sizing::build;
+use crate::sizing::error::SizingError;
+use crate::sizing::plan::Plan;
+use crate::sizing::stage::{Arrangement, size_stage};
+use crate::timing::time_in_rc;
 
 /// Most combinations tried one by one (the elmore method solves a program for each, so fewer).
 const EXHAUSTIVE_LIMIT: usize = 720;
@@ -77,29 +68,13 @@ fn next_permutation(order: &mut [usize]) -> bool {
     true
 }
 
-/// A network as text: series ` - ` (output side first), parallel ` | `, devices by name.
-pub fn describe(network: &Network) -> String {
-    fn walk(node: &Node, kind: NetworkKind, top: bool) -> String {
-        match node {
-            Node::Device(index) => device_name(kind, *index),
-            Node::Series(members) => {
-                let text = members.iter().map(|m| walk(m, kind, false)).collect::<Vec<_>>().join(" - ");
-                if top { text } else { format!("({text})") }
-            }
-            Node::Parallel(branches) => {
-                let text = branches.iter().map(|b| walk(b, kind, false)).collect::<Vec<_>>().join(" | ");
-                if top { text } else { format!("({text})") }
-            }
-        }
-    }
-    format!("{}: {}", network.kind.name(), walk(&network.root, network.kind, true))
-}
-
 struct Search<'a> {
     meter: &'a Meter,
+    logic: &'a CellLogic,
     function: &'a GateFunction,
-    options: &'a GateOptions,
-    delay: &'a DelayOptions,
+    role: StageRole,
+    plan: &'a Plan,
+    critical: Option<&'a str>,
     base: Sides<Network>,
     tried: usize,
 }
@@ -110,63 +85,68 @@ impl Search<'_> {
         self.base.clone().map(|_, network| Network { root: apply(&network.root, orders, &mut next), ..network })
     }
 
-    /// The score of an order (lower is better) and its gate; `None` where the elmore method finds
+    /// The score of an order (lower is better) and its stage; `None` where the elmore method finds
     /// no widths for it.
-    fn score(&mut self, orders: &[Vec<usize>]) -> Result<Option<(f64, SizedGate)>, DelayError> {
+    fn score(&mut self, orders: &[Vec<usize>]) -> Result<Option<(f64, SizedStage)>, SizingError> {
         self.tried += 1;
-        let mut options = self.options.clone();
-        options.stack_order = Some(self.trees(orders));
-        options.fixed_widths = None;
-        let gate = match size_read_gate_within(self.function, &options, self.delay, self.meter) {
-            Ok(gate) => gate,
-            Err(error) if error.is_infeasible() && self.options.sizing.method == Method::Elmore => return Ok(None),
+        let arrangement = Arrangement::Given(self.trees(orders));
+        let elmore = self.plan.method.sizes_by_delay();
+        let stage = match size_stage(self.function, self.role, self.plan, &arrangement, self.meter) {
+            Ok(stage) => stage,
+            Err(error) if error.is_infeasible() && elmore => return Ok(None),
             Err(error) => return Err(error),
         };
-        if gate.method == Method::Elmore {
-            return Ok(Some((gate.total_w_over_l, gate)));
+        if elmore {
+            let total = stage.networks.values().flat_map(|n| &n.widths).sum();
+            return Ok(Some((total, stage)));
         }
-        let timing = analyse_within(&gate, self.delay, None, self.meter)?;
-        let worst = timing.worst_delay(self.options.critical.as_deref()).map_or(0.0, |d| d.elmore_rc);
-        Ok(Some((worst, gate)))
+        let cell = build::cell(self.logic, self.plan, stage, None);
+        let timing = time_in_rc(&cell, &self.plan.conditions, self.meter)?;
+        let worst = timing.worst_delay(self.critical).map_or(0.0, |d| d.elmore_rc);
+        let stage = cell.stages.into_iter().next().expect("one stage");
+        Ok(Some((worst, stage)))
     }
 }
 
-/// Size `function` in the best stack order found, with the report against the default order,
-/// within `delay.work_budget`.
+/// Size the cell's one stage in the best stack order found, with the report against the default
+/// order (which honours the critical input), its work counted on `meter`.
 pub fn search(
-    function: &GateFunction,
-    options: &GateOptions,
-    delay: &DelayOptions,
-) -> Result<(SizedGate, StackOrderReport), DelayError> {
-    search_within(function, options, delay, &Meter::new(delay.work_budget))
-}
-
-/// [`search`], its work counted on `meter`.
-pub(crate) fn search_within(
-    function: &GateFunction,
-    options: &GateOptions,
-    delay: &DelayOptions,
+    logic: &CellLogic,
+    plan: &Plan,
+    critical: Option<(usize, &str)>,
     meter: &Meter,
-) -> Result<(SizedGate, StackOrderReport), DelayError> {
+) -> Result<(SizedStage, StackOrderReport), SizingError> {
+    let stage = &logic.stages[0];
+    let function = &stage.function;
     let occurrences = function.literals.len();
     if occurrences > MAX_SEARCH_OCCURRENCES {
-        return Err(DelayError::TooLargeToSearch { count: occurrences, limit: MAX_SEARCH_OCCURRENCES });
+        return Err(SizingError::TooLargeToSearch { count: occurrences, limit: MAX_SEARCH_OCCURRENCES });
     }
-    // The default order is the one the gate gets without a search.
-    let default_gate = size_read_gate_within(function, options, delay, meter)?;
-    let base = default_gate.trees.clone();
+    // The default order is the one the cell gets without a search.
+    let default = Arrangement::Default(critical.map(|(index, _)| index));
+    let default_stage = size_stage(function, stage.role, plan, &default, meter)?;
+    let base = default_stage.networks.as_ref().map(|_, n| n.network.clone());
     let mut shape = Vec::new();
     for (side, network) in base.iter() {
         stacks(&network.root, side, &mut shape);
     }
     let identity: Vec<Vec<usize>> = shape.iter().map(|&(_, len)| (0..len).collect()).collect();
-    let mut search = Search { meter, function, options, delay, base, tried: 0 };
+    let mut search = Search {
+        meter,
+        logic,
+        function,
+        role: stage.role,
+        plan,
+        critical: critical.map(|(_, name)| name),
+        base,
+        tried: 0,
+    };
     meter.label(Work::OrderSearch);
     let before = meter.spent();
-    let Some((default_value, default_gate)) = search.score(&identity)? else { unreachable_default()? };
+    let Some((default_value, default_stage)) = search.score(&identity)? else { unreachable_default()? };
     let per_order = meter.spent() - before;
-    let mut best = (default_value, default_gate, identity.clone());
-    let elmore = options.sizing.method == Method::Elmore;
+    let mut best = (default_value, default_stage, identity.clone());
+    let elmore = plan.method.sizes_by_delay();
     let limit = if elmore { EXHAUSTIVE_LIMIT_ELMORE } else { EXHAUSTIVE_LIMIT };
     let mut combinations: usize = 1;
     for &(_, len) in &shape {
@@ -192,10 +172,10 @@ pub(crate) fn search_within(
             if stack == orders.len() {
                 break;
             }
-            if let Some((value, gate)) = search.score(&orders)?
+            if let Some((value, stage)) = search.score(&orders)?
                 && better(value, best.0)
             {
-                best = (value, gate, orders.clone());
+                best = (value, stage, orders.clone());
             }
         }
     } else {
@@ -214,10 +194,10 @@ pub(crate) fn search_within(
                         let mut orders = best.2.clone();
                         let member = orders[stack].remove(from);
                         orders[stack].insert(to, member);
-                        if let Some((value, gate)) = search.score(&orders)?
+                        if let Some((value, stage)) = search.score(&orders)?
                             && better(value, best.0)
                         {
-                            best = (value, gate, orders);
+                            best = (value, stage, orders);
                             improved = true;
                         }
                     }
@@ -231,12 +211,12 @@ pub(crate) fn search_within(
     let objective = if elmore {
         "total W/L (elmore method)".to_string()
     } else {
-        match &options.critical {
-            Some(input) => format!("worst Elmore delay of input {input}"),
+        match critical {
+            Some((_, input)) => format!("worst Elmore delay of input {input}"),
             None => "worst Elmore delay".to_string(),
         }
     };
-    let (chosen_value, gate, _) = best;
+    let (chosen_value, stage, _) = best;
     let report = StackOrderReport {
         objective,
         default_value,
@@ -244,14 +224,14 @@ pub(crate) fn search_within(
         gain_percent: if default_value > 0.0 { (default_value - chosen_value) / default_value * 100.0 } else { 0.0 },
         orders_tried: search.tried,
         exhaustive,
-        networks: gate.trees.values().map(describe).collect(),
+        networks: stage.networks.values().map(|n| describe(&n.network)).collect(),
     };
-    Ok((gate, report))
+    Ok((stage, report))
 }
 
 /// The default order sized once already; a second failure is an internal inconsistency.
-fn unreachable_default<T>() -> Result<T, DelayError> {
-    Err(DelayError::DefaultOrderChanged)
+fn unreachable_default<T>() -> Result<T, SizingError> {
+    Err(SizingError::DefaultOrderChanged)
 }
 
 #[cfg(test)]
@@ -261,22 +241,23 @@ mod tests {
     #[test]
     fn the_search_is_refused_when_its_orders_would_pass_the_budget() {
         use crate::budget::Estimate;
-        use crate::expr::read_gate;
-        use crate::sizing::SizingOptions;
+        use crate::sizing::plan::{Method, Order};
         // NAND4: one stack of 4 in the pull-down, 4! = 24 orders, each timed alike.
-        let function = read_gate("nand4").unwrap();
-        let options = GateOptions::new(SizingOptions::new(Method::LongestPath, 2.0, 1.0, None));
+        let logic = crate::logic::read_cell("nand4", &[]).unwrap();
+        let plan = Plan::new(Method::LongestPath, 2.0, 1.0, None);
         let meter = Meter::unlimited();
-        let (_, report) = search_within(&function, &options, &DelayOptions::default(), &meter).unwrap();
+        let (_, report) = search(&logic, &plan, None, &meter).unwrap();
         assert_eq!((report.orders_tried, report.exhaustive), (24, true));
         // Each order took the same work: a budget one unit short of it all is refused before the
         // search, with the projection (the default order's sizing, then 24 orders of equal work).
         let spent = meter.spent();
-        let delay = DelayOptions { work_budget: spent as u64 - 1, ..DelayOptions::default() };
-        let Err(DelayError::OverBudget(over)) = search(&function, &options, &delay) else { panic!("refused") };
+        let searched =
+            |budget: u128| Plan { order: Order::Search { critical: None }, budget: budget as u64, ..plan.clone() };
+        let Err(SizingError::OverBudget(over)) = crate::sizing::size(&logic, &searched(spent - 1)) else {
+            panic!("refused")
+        };
         assert_eq!((over.work, over.needed), (Work::OrderSearch, Some((Estimate::UpTo, spent))));
-        let delay = DelayOptions { work_budget: spent as u64, ..DelayOptions::default() };
-        assert!(search(&function, &options, &delay).is_ok());
+        assert!(crate::sizing::size(&logic, &searched(spent)).is_ok());
     }
 
     #[test]

@@ -1,11 +1,11 @@
-//! What timing reports: the delay of every input on both output edges, what the delays assume,
-//! the logical-effort view, the methods side by side and the stack-order search's result. Plain
-//! data (the JSON output's `timing`), kept apart from the delay stage's computations so that a sized
-//! gate can hold its timing without importing them.
+//! What timing reports: the delay of every input on both output edges, what the delays assume and
+//! the logical-effort view; and beside it, for the `size` command's report, the methods side by side
+//! and the stack-order search's result. Plain data (the JSON output's delay keys).
 
+use crate::cell::StackOrderReport;
 use crate::network::NetworkKind;
 use crate::paths::Vector;
-use crate::sizing::Method;
+use crate::sizing::plan::Method;
 
 /// An output edge.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
@@ -57,25 +57,6 @@ pub struct ProcessUnits {
 pub const RESISTANCE_FORMULA: &str = "R = t50 / (C ln 2), where t50 is the level-1 (Shichman-Hodges) time for the unit \
 NMOS to discharge C from VDD to VDD/2 after a full step on its gate: t50 = C / (b Vov) (2 Vt / Vov + ln((4 Vov - VDD) / \
 VDD)) with b = KP W/L and Vov = VDD - Vt (saturation to VDD - Vt, then linear; t50 = C VDD / (b Vov^2) when Vt >= VDD/2)";
-
-/// What the search found.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
-pub struct StackOrderReport {
-    /// What was minimised.
-    pub objective: String,
-    /// Its value in the default order (RC for delays, W/L for area).
-    pub default_value: f64,
-    /// Its value in the chosen order.
-    pub chosen_value: f64,
-    /// `(default - chosen) / default`, in percent.
-    pub gain_percent: f64,
-    /// How many orders were evaluated.
-    pub orders_tried: usize,
-    /// Whether every order was tried (else a local search).
-    pub exhaustive: bool,
-    /// The chosen networks: series members output side first (`-`), parallel branches `|`.
-    pub networks: Vec<String>,
-}
 
 /// What the delays assume.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -176,7 +157,7 @@ pub struct MethodDelay {
     pub note: Option<String>,
 }
 
-/// Everything the delay stage adds to a gate.
+/// The delays of a sized cell.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Timing {
     /// What the delays assume.
@@ -186,7 +167,16 @@ pub struct Timing {
     /// Inputs and edges with no transition.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub unavailable_delays: Vec<Unavailable>,
-    /// Longest-path, min-area and elmore side by side, on this gate's stack order.
+}
+
+/// The delay report of the `size` command: the cell's timing, the three methods side by side on its
+/// stack order and, when asked, what the stack-order search found.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct DelayReport {
+    /// The cell's delays.
+    #[serde(flatten)]
+    pub timing: Timing,
+    /// Longest-path, min-area and elmore side by side, on this cell's stack order.
     pub method_comparison: Vec<MethodDelay>,
     /// The stack-order search, when asked for.
     #[serde(skip_serializing_if = "Option::is_none")]

@@ -1,0 +1,71 @@
+//! The delay report of the `size` command: a cell sized under its plan, timed at its load, the three
+//! methods side by side on its stack order, and what the stack-order search found. It composes the
+//! sizing and timing stages, one work budget for all of it; neither stage calls the other through it.
+
+use crate::budget::Meter;
+use crate::cell::SizedCell;
+use crate::logic::CellLogic;
+use crate::network::Sides;
+use crate::sizing::{self, Method, Plan, SizingError};
+use crate::timing::{self, DelayReport, MethodDelay, Timing};
+
+/// Size `logic` under `plan` and time it: the cell and its delay report, within the plan's work
+/// budget (the sizing, the search, the delays and the comparison of methods share it).
+pub fn size_and_time(logic: &CellLogic, plan: &Plan) -> Result<(SizedCell, DelayReport), SizingError> {
+    let meter = Meter::new(plan.budget);
+    let cell = sizing::size_within(logic, plan, &meter)?;
+    let timing = timing::time(&cell, &plan.conditions, &meter)?;
+    let method_comparison = compare_methods(&cell, &timing, &meter)?;
+    let stack_order = cell.search.clone();
+    Ok((cell, DelayReport { timing, method_comparison, stack_order }))
+}
+
+fn widths(cell: &SizedCell) -> Sides<Vec<f64>> {
+    cell.stage().networks.as_ref().map(|_, n| n.widths.clone())
+}
+
+/// Longest-path, min-area and elmore on the stack order of `cell` (whose own timing is `timing`),
+/// with their worst delay ratio. An elmore sizing that fails (infeasible, past the budget) is a note
+/// in its row.
+pub fn compare_methods(cell: &SizedCell, timing: &Timing, meter: &Meter) -> Result<Vec<MethodDelay>, SizingError> {
+    let mut rows = Vec::new();
+    let own = widths(cell);
+    // Widths already timed, so that equal sizings (NAND, NOR ...) are timed once.
+    let mut timed: Vec<(Sides<Vec<f64>>, Timing)> = Vec::new();
+    for method in Method::ALL {
+        let sized = if method == cell.plan.method { Ok(cell.clone()) } else { sizing::resize(cell, method, meter) };
+        match sized {
+            Ok(sized) => {
+                let sized_widths = widths(&sized);
+                let index = if sized_widths == own {
+                    None
+                } else if let Some(index) = timed.iter().position(|(w, _)| *w == sized_widths) {
+                    Some(index)
+                } else {
+                    timed.push((sized_widths, timing::time_in_rc(&sized, &cell.plan.conditions, meter)?));
+                    Some(timed.len() - 1)
+                };
+                let own_timing = index.map_or(timing, |i| &timed[i].1);
+                let worst = own_timing.worst_ratio(None);
+                rows.push(MethodDelay {
+                    method,
+                    total_w_over_l: Some(sized.stage().networks.values().flat_map(|n| &n.widths).sum()),
+                    worst_delay_ratio: worst.map(|d| d.delay_ratio),
+                    worst_transition: worst.map(|d| format!("{} {}", d.input, d.edge.name())),
+                    meets_delay_bound: own_timing.delays.iter().all(|d| d.delay_ratio <= 1.0 + 1e-9),
+                    note: None,
+                });
+            }
+            Err(error) if method.sizes_by_delay() => rows.push(MethodDelay {
+                method,
+                total_w_over_l: None,
+                worst_delay_ratio: None,
+                worst_transition: None,
+                meets_delay_bound: false,
+                note: Some(error.to_string()),
+            }),
+            Err(error) => return Err(error),
+        }
+    }
+    Ok(rows)
+}

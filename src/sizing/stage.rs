@@ -1,0 +1,68 @@
+//! One stage sized by the plan's method in a given stack order: the path rules' widths in that
+//! order, or the elmore method's program on that order's structure.
+
+use crate::budget::Meter;
+use crate::cell::SizedStage;
+use crate::expr::GateFunction;
+use crate::logic::StageRole;
+use crate::network::{Network, Sides};
+use crate::sizing::build;
+use crate::sizing::elmore;
+use crate::sizing::error::SizingError;
+use crate::sizing::plan::{Method, Plan};
+use crate::sizing::rules::{self, Rule};
+
+/// Which order the stacks of a stage are sized in.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Arrangement {
+    /// The default order ([`Network::ordered`]): the critical input (a stage input) first, then the
+    /// least diffusion width facing the output.
+    Default(Option<usize>),
+    /// As the expression writes them.
+    Written,
+    /// These networks: the stage's own, reordered (a search's candidate, another method's order).
+    Given(Sides<Network>),
+}
+
+/// The path rule's widths of each network, or `None` for the elmore method.
+fn rule_widths(networks: &Sides<Network>, plan: &Plan, rule: Rule) -> Sides<Vec<f64>> {
+    networks.as_ref().map(|kind, network| rules::widths(network, rule, plan.reference_width(kind)))
+}
+
+/// The networks in `arrangement`, from the written ones and the widths that choose the default order.
+fn arrange(written: Sides<Network>, widths: &Sides<Vec<f64>>, arrangement: &Arrangement) -> Sides<Network> {
+    match arrangement {
+        Arrangement::Default(critical) => written.map(|kind, network| network.ordered(&widths[kind], *critical)),
+        Arrangement::Written => written,
+        Arrangement::Given(networks) => networks.clone(),
+    }
+}
+
+/// Size `function` (a stage of role `role`) by the plan's method in `arrangement`, the elmore
+/// method's work counted on `meter`.
+pub fn size_stage(
+    function: &GateFunction,
+    role: StageRole,
+    plan: &Plan,
+    arrangement: &Arrangement,
+    meter: &Meter,
+) -> Result<SizedStage, SizingError> {
+    let written = Network::pair(function);
+    match plan.method {
+        Method::LongestPath | Method::MinArea { .. } => {
+            let rule = if plan.method == Method::LongestPath { Rule::LongestPath } else { Rule::MinArea };
+            let widths = rule_widths(&written, plan, rule);
+            let networks = arrange(written, &widths, arrangement);
+            build::stage(function, role, networks, widths, plan)
+        }
+        Method::Elmore { .. } => {
+            // The program runs on the structure the longest-path rule's order gives (or the order asked
+            // for), starting from the min-area widths.
+            let longest = rule_widths(&written, plan, Rule::LongestPath);
+            let networks = arrange(written, &longest, arrangement);
+            let structure = build::stage(function, role, networks.clone(), longest, plan)?;
+            let widths = elmore::widths(&structure, plan, meter)?;
+            build::stage(function, role, networks, widths, plan)
+        }
+    }
+}

@@ -1,0 +1,264 @@
+//! A sized stage as an RC circuit, and one transition's conducting network in it: which devices
+//! conduct after the switch, which nodes they connect to the output, which of those start at their
+//! final level, and the output's Elmore delay (docs/model.md section 7).
+//!
+//! Units: resistances in R (the unit NMOS's on-resistance), capacitances in C (the unit gate
+//! capacitance); every diffusion terminal adds `diffusion_ratio x C` per unit W/L, and a diffusion
+//! shared by two series devices counts once, as wide as the wider ([`NodeDiffusion`]).
+
+use crate::cell::SizedStage;
+use crate::figures::NodeDiffusion;
+use crate::network::{NetworkKind, Sides};
+use crate::sizing::plan::Plan;
+use crate::timing::error::NetworkFault;
+use crate::timing::rc;
+use crate::timing::report::Edge;
+
+/// Node indices of the circuit: the output, then the rails, then internal nodes.
+pub const OUTPUT: usize = 0;
+/// The ground rail's node.
+pub const VSS: usize = 1;
+/// The supply rail's node.
+pub const VDD: usize = 2;
+
+/// The rail a network pulls the output to.
+pub fn rail_of(kind: NetworkKind) -> usize {
+    match kind {
+        NetworkKind::PullDown => VSS,
+        NetworkKind::PullUp => VDD,
+    }
+}
+
+/// One transistor of the circuit.
+#[derive(Debug, Clone)]
+pub struct Device {
+    /// Its network.
+    pub kind: NetworkKind,
+    /// Its index in its network.
+    pub index: usize,
+    /// The stage input on its gate.
+    pub input: usize,
+    /// Its output-side node.
+    pub drain: usize,
+    /// Its rail-side node.
+    pub source: usize,
+    /// Resistance at W/L = 1, in R: 1 for NMOS, mu for PMOS.
+    pub unit_resistance: f64,
+}
+
+/// A sized gate's structure as a circuit: nodes, devices (pull-down 0..n, then pull-up) and which
+/// device terminals make each node's capacitance.
+#[derive(Debug, Clone)]
+pub struct Circuit {
+    /// Node names, by node index.
+    pub names: Vec<String>,
+    /// Every device, network by network in device order.
+    pub devices: Vec<Device>,
+    /// Per node: the devices with a terminal on it.
+    pub incident: Vec<Vec<usize>>,
+    /// Per node: which device diffusions make its capacitance (the rule the deck uses too).
+    pub diffusion: Vec<NodeDiffusion>,
+    /// Diffusion capacitance per unit W/L of one terminal, in C.
+    pub diffusion_ratio: f64,
+    /// The circuit index of each network's device 0 (its devices follow in order).
+    pub offsets: Sides<usize>,
+    /// How many inputs the stage has.
+    pub input_count: usize,
+}
+
+impl Circuit {
+    /// The circuit of a sized stage under `plan`, with `diffusion_ratio` C of diffusion per unit W/L
+    /// and terminal.
+    pub fn new(stage: &SizedStage, plan: &Plan, diffusion_ratio: f64) -> Circuit {
+        let mut names = vec![stage.function.output.clone(), "vss".to_string(), "vdd".to_string()];
+        let mut index_of = std::collections::HashMap::new();
+        for (index, name) in names.iter().enumerate() {
+            index_of.insert(name.clone(), index);
+        }
+        let mut node = |name: &str, names: &mut Vec<String>| -> usize {
+            *index_of.entry(name.to_string()).or_insert_with(|| {
+                names.push(name.to_string());
+                names.len() - 1
+            })
+        };
+        let mut devices = Vec::with_capacity(stage.networks.values().map(|n| n.widths.len()).sum());
+        let mut offsets = Sides::new(0, 0);
+        for sized in stage.networks.values() {
+            let kind = sized.kind();
+            offsets[kind] = devices.len();
+            for (index, (&input, terminals)) in sized.network.inputs.iter().zip(&sized.terminals).enumerate() {
+                let drain = node(&terminals.drain, &mut names);
+                let source = node(&terminals.source, &mut names);
+                devices.push(Device { kind, index, input, drain, source, unit_resistance: plan.unit_resistance(kind) });
+            }
+        }
+        let mut incident = vec![Vec::new(); names.len()];
+        for (index, device) in devices.iter().enumerate() {
+            incident[device.drain].push(index);
+            incident[device.source].push(index);
+        }
+        let diffusion = incident
+            .iter()
+            .enumerate()
+            .map(|(node, touching)| NodeDiffusion::of(touching, node == VSS || node == VDD, node == OUTPUT))
+            .collect();
+        Circuit {
+            names,
+            devices,
+            incident,
+            diffusion,
+            diffusion_ratio,
+            offsets,
+            input_count: stage.function.inputs.len(),
+        }
+    }
+
+    /// A node's diffusion capacitance at `widths`, in C.
+    pub fn node_capacitance(&self, node: usize, widths: &[f64]) -> f64 {
+        self.diffusion_ratio * self.diffusion[node].width(widths)
+    }
+
+    /// Whether `device` conducts under the input values `values`.
+    pub fn on(&self, device: usize, values: &[bool]) -> bool {
+        let device = &self.devices[device];
+        device.kind.conducts(values[device.input])
+    }
+}
+
+/// The shape of a transition's conducting network, independent of widths.
+#[derive(Debug, Clone, PartialEq, Eq, Hash)]
+pub struct Conducting {
+    /// Circuit nodes in the network, the output first.
+    pub nodes: Vec<usize>,
+    /// Per network node: whether it starts at its final level.
+    pub at_final: Vec<bool>,
+    /// Devices that conduct within it.
+    pub devices: Vec<usize>,
+    /// The new rail.
+    pub rail: usize,
+}
+
+/// The conducting network when `input` switches to `after` (its on-level in `edge`'s network).
+pub fn conducting(circuit: &Circuit, edge: Edge, input: usize, after: &[bool]) -> Result<Conducting, NetworkFault> {
+    let rail = rail_of(edge.network());
+    let old_rail = if rail == VSS { VDD } else { VSS };
+    let mut before = after.to_vec();
+    before[input] = !after[input];
+    // After: the output's component, not through a rail.
+    let mut inside = vec![false; circuit.names.len()];
+    let mut nodes = vec![OUTPUT];
+    inside[OUTPUT] = true;
+    let mut reaches_rail = false;
+    let mut next = 0;
+    while next < nodes.len() {
+        let here = nodes[next];
+        next += 1;
+        for &device in &circuit.incident[here] {
+            if !circuit.on(device, after) {
+                continue;
+            }
+            let d = &circuit.devices[device];
+            let other = if d.drain == here { d.source } else { d.drain };
+            if other == old_rail {
+                return Err(NetworkFault::BothRails);
+            }
+            if other == rail {
+                reaches_rail = true;
+            } else if !inside[other] {
+                inside[other] = true;
+                nodes.push(other);
+            }
+        }
+    }
+    let devices: Vec<usize> = (0..circuit.devices.len())
+        .filter(|&device| {
+            let d = &circuit.devices[device];
+            circuit.on(device, after) && (inside[d.drain] || inside[d.source])
+        })
+        .collect();
+    if !reaches_rail {
+        return Err(NetworkFault::NoRail);
+    }
+    // Before: what the new rail already holds.
+    let mut held = vec![false; circuit.names.len()];
+    held[rail] = true;
+    let mut stack = vec![rail];
+    while let Some(here) = stack.pop() {
+        for &device in &circuit.incident[here] {
+            if !circuit.on(device, &before) {
+                continue;
+            }
+            let d = &circuit.devices[device];
+            let other = if d.drain == here { d.source } else { d.drain };
+            if other == OUTPUT {
+                return Err(NetworkFault::AlreadySwitched);
+            }
+            if other != old_rail && !held[other] {
+                held[other] = true;
+                stack.push(other);
+            }
+        }
+    }
+    let at_final = nodes.iter().map(|&n| held[n]).collect();
+    Ok(Conducting { nodes, at_final, devices, rail })
+}
+
+/// A transition's conducting network as an RC network, with its initial deviations.
+pub fn rc_network(circuit: &Circuit, shape: &Conducting, widths: &[f64], load: f64) -> (rc::RcNetwork, Vec<f64>) {
+    let mut position = vec![usize::MAX; circuit.names.len()];
+    for (index, &node) in shape.nodes.iter().enumerate() {
+        position[node] = index;
+    }
+    let end = |node: usize| if node == shape.rail { rc::End::Rail } else { rc::End::Node(position[node]) };
+    let resistors = shape
+        .devices
+        .iter()
+        .map(|&device| {
+            let d = &circuit.devices[device];
+            rc::Resistor { from: end(d.drain), to: end(d.source), resistance: d.unit_resistance / widths[device] }
+        })
+        .collect();
+    let mut capacitance: Vec<f64> = shape.nodes.iter().map(|&n| circuit.node_capacitance(n, widths)).collect();
+    capacitance[0] += load;
+    let initial = shape.at_final.iter().map(|&f| if f { 0.0 } else { 1.0 }).collect();
+    (rc::RcNetwork { capacitance, resistors }, initial)
+}
+
+/// The output's Elmore delay of one conducting network with `load` and with none, and whether the
+/// network is a tree. Both come from one elimination: `G m = C d` and `G r = e_output`, since the
+/// load adds `load x r[output]`.
+pub fn elmore(
+    circuit: &Circuit,
+    shape: &Conducting,
+    widths: &[f64],
+    load: f64,
+) -> Result<(f64, f64, bool), NetworkFault> {
+    let (network, initial) = rc_network(circuit, shape, widths, 0.0);
+    let charge = network.capacitance.iter().zip(&initial).map(|(c, d)| c * d).collect();
+    let mut unit = vec![0.0; initial.len()];
+    unit[0] = 1.0;
+    let solved = rc::solve(&network, vec![charge, unit]).map_err(NetworkFault::Solve)?;
+    let (unloaded, drive) = (solved[0][0], solved[1][0]);
+    Ok((unloaded + load * drive, unloaded, rc::tree_moment(&network, &initial, 0).is_some()))
+}
+
+/// Every device's W/L in circuit order (network by network, in device order).
+pub fn flat_widths(stage: &SizedStage) -> Vec<f64> {
+    stage.networks.values().flat_map(|n| n.widths.iter().copied()).collect()
+}
+
+/// The reference inverter's Elmore delay on `edge` driving `load` (C), in RC, with `diffusion_ratio`
+/// C of its own drain diffusion per unit W/L.
+pub fn reference_delay(plan: &Plan, diffusion_ratio: f64, edge: Edge, load: f64) -> f64 {
+    let own = diffusion_ratio * plan.reference_capacitance();
+    plan.target(edge.network()) * (own + load)
+}
+
+/// tau of an edge: the unit reference inverter's resistance on that edge x its input capacitance.
+pub fn tau(plan: &Plan, edge: Edge) -> f64 {
+    let width = match edge {
+        Edge::Fall => plan.reference.nmos,
+        Edge::Rise => plan.reference.pmos,
+    };
+    plan.unit_resistance(edge.network()) / width * plan.reference.input_capacitance()
+}

@@ -1,0 +1,235 @@
+//! The delays of a sized stage: every input's worst transition on both output edges (the one rule
+//! of [`crate::timing::transition`]), with the reference inverter's delay at the same load and the
+//! logical-effort view beside each.
+
+use crate::budget::Meter;
+use crate::cell::{SizedStage, device_name};
+use crate::figures;
+use crate::paths::{EXACT_WORST_MAX_INPUTS, Vector};
+use crate::sizing::plan::{Conditions, Load, Plan};
+use crate::sizing::rules::{self, Rule};
+use crate::timing::circuit::{Circuit, OUTPUT, flat_widths, reference_delay, tau};
+use crate::timing::error::TimingError;
+use crate::timing::report::{Delay, DelayModel, Edge, EffortView, ProcessUnits, Timing, Unavailable};
+use crate::timing::transition::{self, Transition, TransitionError};
+
+/// Most input occurrences (transistors per network) of a cell that is timed: the report is
+/// quadratic in it (every input's vector and nodes).
+pub const MAX_TIMED_OCCURRENCES: usize = 1000;
+
+/// The load on the output when each input is timed, in C.
+pub fn input_loads(stage: &SizedStage, plan: &Plan, load: Load) -> Result<Vec<f64>, TimingError> {
+    let inputs = stage.function.inputs.len();
+    Ok(match load {
+        Load::Fanout(h) => {
+            // H copies of the stage as the longest-path rule sizes it at this drive.
+            let mut copies = vec![0.0; inputs];
+            for sized in stage.networks.values() {
+                let widths = rules::widths(&sized.network, Rule::LongestPath, plan.reference_width(sized.kind()));
+                for (&input, width) in sized.network.inputs.iter().zip(widths) {
+                    copies[input] += width;
+                }
+            }
+            copies.into_iter().map(|c| h * c).collect()
+        }
+        Load::Units(c) => vec![c; inputs],
+        Load::Femtofarads(load_ff) => {
+            let c = load_ff / plan.process.unit_capacitance_ff();
+            if !c.is_finite() {
+                return Err(TimingError::NoUnitCapacitance { load_ff });
+            }
+            vec![c; inputs]
+        }
+    })
+}
+
+/// The error of a transition of `input` on `edge`.
+pub fn transition_error(stage: &SizedStage, input: usize, edge: Edge, error: TransitionError) -> TimingError {
+    match error {
+        TransitionError::Network(why) => {
+            TimingError::Network { input: stage.function.inputs[input].clone(), edge: edge.name(), why }
+        }
+        TransitionError::OverBudget(over) => TimingError::OverBudget(over),
+    }
+}
+
+/// Delays of every input of `stage` on both edges under `conditions`, the model and the
+/// logical-effort view, their work counted on `meter`; with `units`, in picoseconds too.
+pub fn time_stage(
+    stage: &SizedStage,
+    plan: &Plan,
+    conditions: &Conditions,
+    units: Option<ProcessUnits>,
+    meter: &Meter,
+) -> Result<Timing, TimingError> {
+    let occurrences = stage.function.literals.len();
+    if occurrences > MAX_TIMED_OCCURRENCES {
+        return Err(TimingError::TooLargeToTime { count: occurrences, limit: MAX_TIMED_OCCURRENCES });
+    }
+    let function = &stage.function;
+    let circuit = Circuit::new(stage, plan, conditions.diffusion_ratio);
+    let widths = flat_widths(stage);
+    let loads = input_loads(stage, plan, conditions.load)?;
+    let reference_capacitance = plan.reference_capacitance();
+    let capacitance = figures::input_capacitance(stage);
+    let p_output_node = circuit.node_capacitance(OUTPUT, &widths) / reference_capacitance;
+    let mut delays = Vec::new();
+    let mut unavailable = Vec::new();
+    for (input, name) in function.inputs.iter().enumerate() {
+        let load = loads[input];
+        for edge in Edge::BOTH {
+            let measured = transition::worst(stage, plan, &circuit, &widths, input, edge, load, meter)
+                .map_err(|error| transition_error(stage, input, edge, error))?;
+            let Some(measured) = measured else {
+                unavailable.push(Unavailable {
+                    input: name.clone(),
+                    edge,
+                    why: if circuit.input_count > EXACT_WORST_MAX_INPUTS {
+                        format!("no path through it conducts alone, and {EXACT_WORST_MAX_INPUTS} inputs is the most searched")
+                    } else {
+                        "it never switches the output on this edge".to_string()
+                    },
+                });
+                continue;
+            };
+            let g = capacitance[input] / reference_capacitance;
+            let h = if capacitance[input] > 0.0 { load / capacitance[input] } else { 0.0 };
+            delays.push(delay(stage, plan, conditions, &circuit, &measured, units.as_ref(), load, g, h, p_output_node));
+        }
+    }
+    let (fanout, load_c) = match conditions.load {
+        Load::Fanout(h) => (Some(h), None),
+        Load::Units(c) => (None, Some(c)),
+        Load::Femtofarads(_) => (None, loads.first().copied()),
+    };
+    Ok(Timing {
+        delay_model: DelayModel {
+            diffusion_ratio: conditions.diffusion_ratio,
+            fanout,
+            load_c,
+            tau_fall_rc: tau(plan, Edge::Fall),
+            tau_rise_rc: tau(plan, Edge::Rise),
+            process: units,
+        },
+        delays,
+        unavailable_delays: unavailable,
+    })
+}
+
+/// The report of one timed transition.
+#[allow(clippy::too_many_arguments)]
+fn delay(
+    stage: &SizedStage,
+    plan: &Plan,
+    conditions: &Conditions,
+    circuit: &Circuit,
+    measured: &Transition,
+    units: Option<&ProcessUnits>,
+    load: f64,
+    g: f64,
+    h: f64,
+    p_output_node: f64,
+) -> Delay {
+    let edge = measured.edge;
+    let reference = reference_delay(plan, conditions.diffusion_ratio, edge, load);
+    let p_elmore = measured.unloaded / tau(plan, edge);
+    let kind = edge.network();
+    let mut path: Vec<usize> =
+        measured.shape.devices.iter().copied().filter(|&d| circuit.devices[d].kind == kind).collect();
+    let mut position = vec![usize::MAX; circuit.names.len()];
+    for (index, &node) in measured.shape.nodes.iter().enumerate() {
+        position[node] = index;
+    }
+    path.sort_by_key(|&d| position[circuit.devices[d].drain]);
+    let (mut internal_nodes, mut nodes_at_final_level) = (Vec::new(), Vec::new());
+    for (&node, &at_final) in measured.shape.nodes.iter().zip(&measured.shape.at_final).skip(1) {
+        let name = circuit.names[node].clone();
+        if at_final { nodes_at_final_level.push(name) } else { internal_nodes.push(name) }
+    }
+    Delay {
+        input: stage.function.inputs[measured.input].clone(),
+        edge,
+        elmore_rc: measured.elmore,
+        elmore_ps: units.map(|u| measured.elmore * u.rc_ps),
+        load_c: load,
+        reference_elmore_rc: reference,
+        delay_ratio: measured.elmore / reference,
+        path: path.iter().map(|&d| device_name(kind, circuit.devices[d].index)).collect(),
+        vector: Vector::new(&stage.function.inputs, &measured.after),
+        internal_nodes,
+        nodes_at_final_level,
+        tree: measured.tree,
+        search: measured.search,
+        logical_effort_view: EffortView {
+            g,
+            h,
+            p_output_node,
+            p_elmore,
+            d_output_node: g * h + p_output_node,
+            d_elmore: g * h + p_elmore,
+        },
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::logic::{StageRole, read_cell};
+    use crate::network::{Network, Sides};
+    use crate::process::Process;
+    use crate::sizing::{Method, build};
+
+    #[test]
+    fn a_shared_series_diffusion_counts_as_wide_as_the_wider_device() {
+        // NAND2 with a tapered pull-down, MN1 (a) W/L 3 and MN2 (b) W/L 1, PMOS 2 and 2, diffusion
+        // ratio 1, no load. The default order puts the narrower MN2 at the output (y - MN2 - n1 - MN1 -
+        // vss). Input a rising with b on: y (drains 1 + 2 + 2 = 5 C) and n1 (one region shared by MN2
+        // and MN1, as wide as the wider: 3 C) discharge through MN1 (R/3) and, for y, MN2 (R):
+        // (1 + 1/3) 5 + (1/3) 3 = 7.667 RC (the Elmore tree sum; the rule for the shared region is
+        // common practice, no source; half of each device would give 7.333).
+        let plan = Plan::new(Method::LongestPath, 2.0, 1.0, None);
+        let logic = read_cell("nand2", &[]).unwrap();
+        let function = &logic.stages[0].function;
+        let widths = Sides::new(vec![3.0, 1.0], vec![2.0, 2.0]);
+        let networks = Network::pair(function).map(|kind, network| network.ordered(&widths[kind], None));
+        let stage = build::stage(function, StageRole::Logic, networks, widths, &plan).unwrap();
+        let terminals: Vec<(&str, &str)> =
+            stage.networks.pull_down.terminals.iter().map(|t| (t.drain.as_str(), t.source.as_str())).collect();
+        assert_eq!(terminals, [("n1", "vss"), ("y", "n1")]);
+        let conditions = Conditions { load: Load::Units(0.0), diffusion_ratio: 1.0 };
+        let timing = time_stage(&stage, &plan, &conditions, None, &Meter::unlimited()).unwrap();
+        let fall = timing.delays.iter().find(|d| d.input == "a" && d.edge == Edge::Fall).unwrap();
+        assert_eq!(fall.internal_nodes, ["n1"]);
+        assert!((fall.elmore_rc - (5.0 * 4.0 / 3.0 + 1.0)).abs() < 1e-9, "{}", fall.elmore_rc);
+    }
+
+    #[test]
+    fn the_deck_and_the_delay_stage_see_the_same_diffusion() {
+        // One rule for both (NodeDiffusion): on a gate with tapered stacks (the elmore method, NAND3 and
+        // AOI21 with a load), each node's deck capacitor over the unit gate capacitance is the delay
+        // stage's node capacitance at the process's diffusion ratio, to the drawing grid.
+        let process = Process::default();
+        let unit_um = process.unit_width_nm / 1000.0;
+        let ratio = process.diffusion_cap_ff_per_um / process.gate_cap_ff_per_um;
+        for text in ["nand3", "aoi21"] {
+            let plan = Plan {
+                conditions: Conditions { load: Load::Units(50.0), diffusion_ratio: ratio },
+                ..Plan::new(Method::ELMORE, 2.0, 1.0, None)
+            };
+            let cell = crate::size_text(text, &plan).unwrap();
+            let circuit = Circuit::new(cell.stage(), &plan, ratio);
+            let widths = flat_widths(cell.stage());
+            let gate = crate::figures::CellFigures::of(&cell);
+            let devices: Vec<(&str, &str, f64)> =
+                gate.transistors.iter().map(|t| (t.drain.as_str(), t.source.as_str(), t.drawn_width_um)).collect();
+            let deck = crate::output::deck::node_diffusion_um(&devices, &gate.output);
+            assert!(deck.iter().any(|(name, _)| name != &gate.output), "{text}: no internal node");
+            for (name, width_um) in deck {
+                let node = circuit.names.iter().position(|n| *n == name).unwrap();
+                let deck_c = width_um * process.diffusion_cap_ff_per_um / (process.gate_cap_ff_per_um * unit_um);
+                let stage_c = circuit.node_capacitance(node, &widths);
+                assert!((deck_c / stage_c - 1.0).abs() < 2e-3, "{text} {name}: deck {deck_c} C, delays {stage_c} C");
+            }
+        }
+    }
+}
