@@ -7,16 +7,17 @@ use std::sync::Arc;
 
 use super::{GateArgs, Timed};
 use crate::error::Error;
-use crate::output::deck::{self, DeckOptions, Models};
+use crate::output::deck::{self, DeckError, DeckOptions, Models};
 use crate::process::Process;
-use crate::sizing::StackOrder;
+use crate::sizing::{Load, StackOrder};
 
 /// Write a self-contained SPICE simulation deck: models, the gate, the reference inverter at the
 /// same drive, and every input's worst-case transition on both output edges, with .tran and .meas.
 ///
 /// The deck has one copy of the gate per worst-case transition (an input toggling with the side
 /// inputs held so that its weakest path is the only one that conducts), each with its own sources
-/// and load (the process's load_ff), and one copy of the reference inverter per output edge; one
+/// and load (--load or --load-ff, else the process's load_ff), and one copy of the reference
+/// inverter per output edge; one
 /// transient run measures them all. Measurements: tpd_<input>_fall_gate and tpd_<input>_rise_gate
 /// (named by the output's edge), tpd_fall_ref and tpd_rise_ref, each from the input crossing
 /// supply/2 to the output crossing supply/2. Run it with, e.g., 'ngspice -b deck.sp'; widthwise
@@ -50,6 +51,14 @@ pub struct Args {
     /// reference delay and their ratio.
     #[arg(long)]
     pub summary: bool,
+    /// The load on the output of every copy of the gate and of the reference inverter, in units of C,
+    /// the gate capacitance of a unit transistor (gate_cap_ff_per_um x unit_width_nm) [default: the
+    /// process's load_ff]. The elmore method sizes against it.
+    #[arg(long, value_name = "C", value_parser = super::positive_number, conflicts_with = "load_ff")]
+    pub load: Option<f64>,
+    /// The same load in fF [default: the process's load_ff].
+    #[arg(long, value_name = "FF", value_parser = super::positive_number)]
+    pub load_ff: Option<f64>,
     /// Write to FILE (atomically) instead of standard output.
     #[arg(short, long, value_name = "FILE")]
     pub output: Option<PathBuf>,
@@ -64,7 +73,7 @@ fn model_name(text: &str) -> Result<String, String> {
 
 /// Deck options from the command line; a `--models` file must be a regular file (it is named by its
 /// absolute path).
-fn deck_options(args: &Args, process: &Process) -> Result<DeckOptions, Error> {
+fn deck_options(args: &Args, process: &Process, load_ff: f64) -> Result<DeckOptions, Error> {
     let models = match &args.models {
         None => Models::Process,
         Some(path) => {
@@ -75,15 +84,32 @@ fn deck_options(args: &Args, process: &Process) -> Result<DeckOptions, Error> {
             Models::library(include, nmos, pmos)?
         }
     };
-    Ok(DeckOptions { models, diffusion_capacitance: args.diffusion_capacitance, summary: args.summary })
+    if !(load_ff > 0.0 && load_ff.is_finite()) {
+        return Err(DeckError::NoLoad { load_ff }.into());
+    }
+    Ok(DeckOptions { models, diffusion_capacitance: args.diffusion_capacitance, summary: args.summary, load_ff })
 }
 
 /// Check every input, size the gate and write its deck.
 pub fn run(args: Args) -> Result<(), Error> {
-    // The elmore method sizes at the default load (fan-out 1) and ratio, as `paths` does.
-    let mut plan = super::plan(&args.gate, StackOrder::Default, Timed::default())?;
+    // The deck's load (the process's load_ff unless given) is the plan's: the elmore method sizes
+    // against it, at the default diffusion ratio.
+    let given = match (args.load, args.load_ff) {
+        (Some(c), _) => Some(Load::Units(c)),
+        (None, Some(ff)) => Some(Load::Femtofarads(ff)),
+        (None, None) => None,
+    };
+    let mut plan = super::plan(&args.gate, StackOrder::Default, Timed { load: given, ..Timed::default() })?;
+    if given.is_none() {
+        plan.conditions.load = Load::Femtofarads(plan.process.load_ff);
+    }
+    let load_ff = match given {
+        Some(Load::Units(c)) => c * plan.process.unit_capacitance_ff(),
+        Some(Load::Femtofarads(ff)) => ff,
+        Some(Load::Fanout(_)) | None => plan.process.load_ff,
+    };
     // Every input is checked before anything is written.
-    let deck = deck_options(&args, &plan.process)?;
+    let deck = deck_options(&args, &plan.process, load_ff)?;
     if let Models::Library { nmos, pmos, .. } = &deck.models {
         // The deck's models are the ones in use: no name of the gate may take theirs.
         let process = Process { nmos_model: nmos.clone(), pmos_model: pmos.clone(), ..(*plan.process).clone() };

@@ -164,14 +164,18 @@ pub struct DelayArgs {
     /// the three methods side by side (implied by every option below and by --method elmore).
     #[arg(long)]
     pub delays: bool,
-    /// Load: H copies of the gate (as longest-path sizing makes it), each loading the output with the
-    /// timed input's capacitance [default: 1].
-    #[arg(long, value_name = "H", value_parser = non_negative_number, conflicts_with = "load")]
+    /// Load: H times the timed input's own capacitance in the gate as sized, the textbook fan-out
+    /// h = C_out / C_in [default: 1].
+    #[arg(long, value_name = "H", value_parser = non_negative_number, conflicts_with_all = ["load", "load_ff"])]
     pub fanout: Option<f64>,
     /// Load: a fixed capacitance in units of C, the gate capacitance of a unit transistor
-    /// (gate_cap_ff_per_um x unit_width_nm; a deck's load is load_ff / C of them).
-    #[arg(long, value_name = "C", value_parser = non_negative_number)]
+    /// (gate_cap_ff_per_um x unit_width_nm).
+    #[arg(long, value_name = "C", value_parser = non_negative_number, conflicts_with = "load_ff")]
     pub load: Option<f64>,
+    /// Load: a fixed capacitance in fF, counted in units of C by the process's gate capacitance
+    /// (gate_cap_ff_per_um x unit_width_nm).
+    #[arg(long, value_name = "FF", value_parser = non_negative_number)]
+    pub load_ff: Option<f64>,
     /// Diffusion capacitance of one source or drain per unit W/L, over the gate capacitance per unit
     /// W/L [default: with --process, the file's diffusion_cap_ff_per_um / gate_cap_ff_per_um, the ratio
     /// of its deck's capacitors; without, 1, as in the published worked examples].
@@ -191,16 +195,18 @@ impl DelayArgs {
         self.delays
             || self.fanout.is_some()
             || self.load.is_some()
+            || self.load_ff.is_some()
             || self.diffusion_ratio.is_some()
             || self.stack_order == Some(StackOrder::Search)
     }
 
     /// The load these arguments give, if any.
     pub fn load(&self) -> Option<Load> {
-        match (self.load, self.fanout) {
-            (Some(c), _) => Some(Load::Units(c)),
-            (None, Some(h)) => Some(Load::Fanout(h)),
-            (None, None) => None,
+        match (self.load, self.load_ff, self.fanout) {
+            (Some(c), _, _) => Some(Load::Units(c)),
+            (None, Some(ff), _) => Some(Load::Femtofarads(ff)),
+            (None, None, Some(h)) => Some(Load::Fanout(h)),
+            (None, None, None) => None,
         }
     }
 }

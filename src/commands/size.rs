@@ -101,6 +101,7 @@ fn check_applies(args: &Args) -> Result<(), Error> {
             (args.delay.delays, "--delays"),
             (args.delay.fanout.is_some(), "--fanout"),
             (args.delay.load.is_some(), "--load"),
+            (args.delay.load_ff.is_some(), "--load-ff"),
             (args.delay.diffusion_ratio.is_some(), "--diffusion-ratio"),
         ];
         if let Some((_, option)) = given.into_iter().find(|(given, _)| *given) {

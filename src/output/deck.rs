@@ -52,7 +52,7 @@ impl Models {
 }
 
 /// Why a deck is not written.
-#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum DeckError {
     /// A model-library path with a character a `.include` line cannot hold.
     #[error(
@@ -72,6 +72,16 @@ pub enum DeckError {
     SameModels {
         /// The NMOS model's name.
         name: String,
+    },
+    /// A load that is no capacitance (a load in C with a process whose gate capacitance is 0).
+    #[error(
+        "the deck's load comes to {} fF: a deck needs a positive load (with a gate capacitance of 0 per um, give \
+         --load-ff)",
+        crate::number::format(*load_ff)
+    )]
+    NoLoad {
+        /// The load, fF.
+        load_ff: f64,
     },
     /// A gate with more input occurrences than [`MAX_DECK_OCCURRENCES`].
     #[error(
@@ -96,7 +106,7 @@ pub fn check_size(cell: &SizedCell) -> Result<(), DeckError> {
 }
 
 /// What the deck holds besides the gate and its transitions.
-#[derive(Debug, Clone, PartialEq, Eq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct DeckOptions {
     /// Device models.
     pub models: Models,
@@ -104,6 +114,8 @@ pub struct DeckOptions {
     pub diffusion_capacitance: bool,
     /// An ngspice `.control` block that prints every delay, its reference and their ratio.
     pub summary: bool,
+    /// The load on every copy's output, fF.
+    pub load_ff: f64,
 }
 
 /// One worst-case transition of the gate: `input` toggles, the output moves through `kind`'s network.
@@ -259,7 +271,7 @@ pub fn write_deck(cell: &SizedCell, options: &DeckOptions, out: &mut dyn Write) 
 
     // The time scale: the reference inverter charging its load (plus, when asked, every diffusion
     // of the gate) at its saturation current, the slower edge.
-    let mut load_ff = process.load_ff;
+    let mut load_ff = options.load_ff;
     if options.diffusion_capacitance {
         load_ff += gate_diffusion.iter().map(|(_, w)| w).sum::<f64>() * process.diffusion_cap_ff_per_um;
     }
@@ -282,7 +294,7 @@ pub fn write_deck(cell: &SizedCell, options: &DeckOptions, out: &mut dyn Write) 
     writeln!(
         out,
         "* edge, each with its own sources and a {} fF load; one transient run measures them all.",
-        number(process.load_ff)
+        number(options.load_ff)
     )?;
     writeln!(
         out,
@@ -402,7 +414,7 @@ pub fn write_deck(cell: &SizedCell, options: &DeckOptions, out: &mut dyn Write) 
             nodes.push(node);
         }
         writeln!(out, "X{tag} {} {tag}_out vdd 0 {}", nodes.join(" "), gate.name)?;
-        writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(process.load_ff))?;
+        writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(options.load_ff))?;
         let measure = gate_measure(name, transition.kind);
         let statement = format!(
             "meas tran {measure} TRIG v({tag}_in{}) VAL={half} {} TARG v({tag}_out) VAL={half} {}",
@@ -426,7 +438,7 @@ pub fn write_deck(cell: &SizedCell, options: &DeckOptions, out: &mut dyn Write) 
         )?;
         writeln!(out, "V{tag} {tag}_in 0 {}", toggle(!rising_input))?;
         writeln!(out, "X{tag} {tag}_in {tag}_out vdd 0 {reference_name}")?;
-        writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(process.load_ff))?;
+        writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(options.load_ff))?;
         let measure = reference_measure(kind);
         let statement = format!(
             "meas tran {measure} TRIG v({tag}_in) VAL={half} {} TARG v({tag}_out) VAL={half} {}",

@@ -20,10 +20,11 @@ fn list(names: &[String]) -> String {
 pub fn write_table(report: &DelayReport, out: &mut dyn Write) -> io::Result<()> {
     let timing = &report.timing;
     let model = &timing.delay_model;
-    let load = match (model.fanout, model.load_c) {
-        (Some(h), _) => format!("fan-out {} (copies of the longest-path gate)", number(h)),
-        (None, Some(c)) => format!("{} C", number(c)),
-        (None, None) => "none".to_string(),
+    let load = match (model.fanout, model.load_c, model.load_ff) {
+        (Some(h), _, _) => format!("fan-out {} (the timed input's own capacitance)", number(h)),
+        (None, Some(c), Some(ff)) => format!("{} C ({} fF)", number(c), number(ff)),
+        (None, Some(c), None) => format!("{} C", number(c)),
+        (None, None, _) => "none".to_string(),
     };
     writeln!(
         out,

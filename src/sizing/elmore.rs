@@ -12,12 +12,12 @@ use crate::cell::SizedStage;
 use crate::network::Sides;
 use crate::optimize::geometric::{self, Monomial, Outcome, Posynomial, Program, SolveError};
 use crate::sizing::error::SizingError;
-use crate::sizing::plan::Plan;
+use crate::sizing::plan::{Load, Plan};
 use crate::sizing::rules::{self, Rule};
 use crate::timing::circuit::{Circuit, reference_delay};
 use crate::timing::delays::input_loads;
 use crate::timing::error::TimingError;
-use crate::timing::posynomial::{Variables, delay_posynomial, path_transitions};
+use crate::timing::posynomial::{PathTransition, Variables, delay_posynomial, path_transitions};
 use crate::timing::report::Edge;
 use crate::timing::transition::lone_path;
 
@@ -38,125 +38,274 @@ fn objective(devices: usize) -> Posynomial {
     Posynomial { terms: (0..devices).map(|d| Monomial { coefficient: 1.0, exponents: vec![(d, 1.0)] }).collect() }
 }
 
-/// The elmore method's program for a stage whose structure (stack order) is that of `stage`, under
-/// `plan` (its load and diffusion ratio). Also gives, per constraint, its input and edge.
-pub fn program(stage: &SizedStage, plan: &Plan) -> Result<(Program, Vec<(usize, Edge)>), SizingError> {
-    program_within(stage, plan, &Meter::unlimited())
+/// The load on the output as the program sees it.
+#[derive(Debug, Clone, PartialEq)]
+enum Loads {
+    /// A fixed load per input, C.
+    Fixed(Vec<f64>),
+    /// H times the timed input's own capacitance (the sum of its devices' widths, a posynomial in
+    /// them). The reference inverter's delay at that load, the bound, is then a posynomial too, and a
+    /// constraint `delay <= bound` is not one a geometric program takes: the bound is condensed to
+    /// the monomial that touches it at `point` (the weighted arithmetic-geometric mean inequality:
+    /// never above it, equal at the point), and the program solved again at its optimum until the
+    /// total W/L stops falling (Boyd, Kim, Vandenberghe & Hassibi, "A tutorial on geometric
+    /// programming", 2007, section 9, signomial programming by condensation; from memory). Each
+    /// optimum meets the true bounds, since the condensed one is never above them.
+    Fanout {
+        /// H.
+        h: f64,
+        /// The circuit devices of each input.
+        devices: Vec<Vec<usize>>,
+        /// Where the bounds are condensed: every device's W/L.
+        point: Vec<f64>,
+    },
 }
 
-/// [`program`], refused as soon as the constraints built so far make the solver's Newton
-/// steps, as many as it may take, pass the work budget of `meter` ([`geometric::solve_within`]
-/// would refuse the whole program the same way, after building all of it).
-fn program_within(
-    stage: &SizedStage,
-    plan: &Plan,
-    meter: &Meter,
-) -> Result<(Program, Vec<(usize, Edge)>), SizingError> {
-    let diffusion_ratio = plan.conditions.diffusion_ratio;
-    let circuit = Circuit::new(stage, plan, diffusion_ratio);
-    let devices = circuit.devices.len();
-    if devices > MAX_DEVICES {
-        return Err(SizingError::TooLarge { count: devices, limit: MAX_DEVICES });
-    }
-    let variables = Variables::of(&circuit);
-    let loads = input_loads(stage, plan, plan.conditions.load)?;
-    for (input, &load) in loads.iter().enumerate() {
-        if load.is_nan() || load <= 0.0 {
-            return Err(SizingError::Option {
-                what: "the load for the elmore method (with no load the delays do not depend on scale)",
-                rule: "must be positive".to_string(),
-                value: load,
-            });
+/// Most condensation rounds of the elmore method with a fan-out load.
+const MAX_ROUNDS: usize = 30;
+/// The rounds stop once the total W/L falls by less than this fraction.
+const ROUND_TOLERANCE: f64 = 1e-7;
+
+/// What the program of a stage is built from, once.
+struct Setup<'a> {
+    stage: &'a SizedStage,
+    plan: &'a Plan,
+    circuit: Circuit,
+    variables: Variables,
+    transitions: Vec<PathTransition>,
+    /// The longest-path widths (the box's centre) and the min-area ones (the start), by circuit
+    /// device.
+    longest: Vec<f64>,
+    start: Vec<f64>,
+}
+
+impl<'a> Setup<'a> {
+    /// Check the stage and list the transitions of its program.
+    fn new(stage: &'a SizedStage, plan: &'a Plan) -> Result<Setup<'a>, SizingError> {
+        let circuit = Circuit::new(stage, plan, plan.conditions.diffusion_ratio);
+        let devices = circuit.devices.len();
+        if devices > MAX_DEVICES {
+            return Err(SizingError::TooLarge { count: devices, limit: MAX_DEVICES });
         }
-        for edge in Edge::BOTH {
-            if lone_path(stage, plan, input, edge.network(), &Meter::unlimited())?.is_none() {
-                return Err(SizingError::NoSinglePath {
-                    input: stage.function.inputs[input].clone(),
-                    edge: edge.name(),
+        let mut longest = Vec::with_capacity(devices);
+        let mut start = Vec::with_capacity(devices);
+        for sized in stage.networks.values() {
+            let reference = plan.reference_width(sized.kind());
+            longest.extend(rules::widths(&sized.network, Rule::LongestPath, reference));
+            start.extend(rules::widths(&sized.network, Rule::MinArea, reference));
+        }
+        let variables = Variables::of(&circuit);
+        let setup = Setup { stage, plan, circuit, variables, transitions: Vec::new(), longest, start };
+        let loads = setup.loads(None)?;
+        for input in 0..stage.function.inputs.len() {
+            let load = match &loads {
+                Loads::Fixed(loads) => loads[input],
+                Loads::Fanout { h, devices, point } => h * devices[input].iter().map(|&d| point[d]).sum::<f64>(),
+            };
+            if load.is_nan() || load <= 0.0 {
+                return Err(SizingError::Option {
+                    what: "the load for the elmore method (with no load the delays do not depend on scale)",
+                    rule: "must be positive".to_string(),
+                    value: load,
                 });
             }
-        }
-    }
-    let transitions = path_transitions(stage, plan, &circuit)?;
-    let mut constraints: Vec<Posynomial> = Vec::with_capacity(transitions.len());
-    let mut labels = Vec::with_capacity(transitions.len());
-    let mut chains: Vec<(Edge, &[usize])> = Vec::with_capacity(transitions.len());
-    let mut group_start = 0;
-    // The Newton step's work: the objective, the box, the hard constraints, then each chain's
-    // constraints once they are final (the next chain's first transition comes).
-    let variable_count = variables.count();
-    let objective = objective(devices);
-    let hard = variables.bounds();
-    let mut step = hard.iter().chain([&objective]).fold(geometric::base_work(variable_count).0, |total, p| {
-        total + geometric::posynomial_work(p, variable_count).0
-    });
-    for transition in &transitions {
-        let load = loads[transition.input];
-        let bound = reference_delay(plan, diffusion_ratio, transition.edge, load);
-        let mut posynomial =
-            delay_posynomial(&circuit, &variables, transition, load).map_err(|why| TimingError::Network {
-                input: stage.function.inputs[transition.input].clone(),
-                edge: transition.edge.name(),
-                why,
-            })?;
-        for term in &mut posynomial.terms {
-            term.coefficient /= bound;
-        }
-        // Of two transitions on one path, one whose every term another has, with at least its
-        // coefficient, never binds (typically: the input nearest the rail charges the most nodes).
-        let key = (transition.edge, transition.chain.as_slice());
-        // A path's transitions come one after another, so the constraints of its chain are the
-        // last ones: only those are compared (a scan of all of them made this quadratic).
-        if chains.last() != Some(&key) {
-            step += constraints[group_start..]
-                .iter()
-                .map(|p| geometric::posynomial_work(p, variable_count).0)
-                .sum::<u128>();
-            meter.fits(step.saturating_mul(geometric::MAX_NEWTON_STEPS), Estimate::MoreThan, Work::Elmore)?;
-            group_start = constraints.len();
-        }
-        let mut dominated = false;
-        let mut index = group_start;
-        while index < constraints.len() {
-            if chains[index] == key {
-                if dominates(&constraints[index], &posynomial) {
-                    dominated = true;
-                    break;
-                }
-                if dominates(&posynomial, &constraints[index]) {
-                    constraints.swap_remove(index);
-                    labels.swap_remove(index);
-                    chains.swap_remove(index);
-                    continue;
+            for edge in Edge::BOTH {
+                if lone_path(stage, plan, input, edge.network(), &Meter::unlimited())?.is_none() {
+                    return Err(SizingError::NoSinglePath {
+                        input: stage.function.inputs[input].clone(),
+                        edge: edge.name(),
+                    });
                 }
             }
-            index += 1;
         }
-        if !dominated {
-            constraints.push(posynomial);
-            labels.push((transition.input, transition.edge));
-            chains.push(key);
+        let transitions = path_transitions(stage, plan, &setup.circuit)?;
+        Ok(Setup { transitions, ..setup })
+    }
+
+    /// The plan's load as the program sees it, a fan-out's bounds condensed at `point` (else at the
+    /// start, the min-area widths).
+    fn loads(&self, point: Option<&[f64]>) -> Result<Loads, SizingError> {
+        Ok(match self.plan.conditions.load {
+            Load::Fanout(h) => {
+                let mut devices = vec![Vec::new(); self.stage.function.inputs.len()];
+                for (index, device) in self.circuit.devices.iter().enumerate() {
+                    devices[device.input].push(index);
+                }
+                Loads::Fanout { h, devices, point: point.unwrap_or(&self.start).to_vec() }
+            }
+            load => Loads::Fixed(input_loads(self.stage, self.plan, load)?),
+        })
+    }
+
+    /// A transition's constraint, `delay / bound <= 1`, as a posynomial.
+    fn constraint(&self, transition: &PathTransition, loads: &Loads) -> Result<Posynomial, SizingError> {
+        let diffusion_ratio = self.plan.conditions.diffusion_ratio;
+        let network = |why| TimingError::Network {
+            input: self.stage.function.inputs[transition.input].clone(),
+            edge: transition.edge.name(),
+            why,
+        };
+        match loads {
+            Loads::Fixed(loads) => {
+                let load = loads[transition.input];
+                let bound = reference_delay(self.plan, diffusion_ratio, transition.edge, load);
+                let mut posynomial =
+                    delay_posynomial(&self.circuit, &self.variables, transition, load).map_err(network)?;
+                for term in &mut posynomial.terms {
+                    term.coefficient /= bound;
+                }
+                Ok(posynomial)
+            }
+            Loads::Fanout { h, devices, point } => {
+                let own = &devices[transition.input];
+                let mut posynomial =
+                    delay_posynomial(&self.circuit, &self.variables, transition, 0.0).map_err(network)?;
+                // The load's terms: h x (sum of the input's widths) x (the chain's resistance).
+                for &resistor in &transition.chain {
+                    let unit = self.circuit.devices[resistor].unit_resistance;
+                    for &device in own {
+                        let exponents =
+                            if device == resistor { Vec::new() } else { vec![(resistor, -1.0), (device, 1.0)] };
+                        posynomial.terms.push(Monomial { coefficient: h * unit, exponents });
+                    }
+                }
+                // The bound t (own diffusion + h x input capacitance), condensed at the point.
+                let target = self.plan.target(transition.edge.network());
+                let fixed = target * diffusion_ratio * self.plan.reference_capacitance();
+                let parts: Vec<(Option<usize>, f64, f64)> = std::iter::once((None, fixed, fixed))
+                    .chain(own.iter().map(|&d| (Some(d), target * h, target * h * point[d])))
+                    .filter(|&(_, _, value)| value > 0.0)
+                    .collect();
+                let total: f64 = parts.iter().map(|&(_, _, value)| value).sum();
+                let mut coefficient = 1.0;
+                let mut powers: Vec<(usize, f64)> = Vec::new();
+                for (device, scale, value) in parts {
+                    let weight = value / total;
+                    coefficient *= (scale / weight).powf(weight);
+                    if let Some(device) = device {
+                        powers.push((device, weight));
+                    }
+                }
+                for term in &mut posynomial.terms {
+                    term.coefficient /= coefficient;
+                    for &(device, weight) in &powers {
+                        match term.exponents.iter_mut().find(|(k, _)| *k == device) {
+                            Some((_, exponent)) => *exponent -= weight,
+                            None => term.exponents.push((device, -weight)),
+                        }
+                    }
+                    term.exponents.retain(|&(_, exponent)| exponent != 0.0);
+                }
+                Ok(posynomial)
+            }
         }
     }
-    let mut longest = Vec::with_capacity(devices);
-    let mut start = Vec::with_capacity(devices);
-    for sized in stage.networks.values() {
-        let reference = plan.reference_width(sized.kind());
-        longest.extend(rules::widths(&sized.network, Rule::LongestPath, reference));
-        start.extend(rules::widths(&sized.network, Rule::MinArea, reference));
+
+    /// The program with `loads`, started at the min-area widths, refused as soon as
+    /// the constraints built so far make the solver's Newton steps, as many as it may take, pass the
+    /// work budget of `meter` ([`geometric::solve_within`] would refuse the whole program the same
+    /// way, after building all of it). Also gives, per constraint, its input and edge.
+    fn program(&self, loads: &Loads, meter: &Meter) -> Result<(Program, Vec<(usize, Edge)>), SizingError> {
+        let devices = self.circuit.devices.len();
+        let variables = &self.variables;
+        let mut constraints: Vec<Posynomial> = Vec::with_capacity(self.transitions.len());
+        let mut labels = Vec::with_capacity(self.transitions.len());
+        let mut chains: Vec<(Edge, &[usize])> = Vec::with_capacity(self.transitions.len());
+        let mut group_start = 0;
+        // The Newton step's work: the objective, the box, the hard constraints, then each chain's
+        // constraints once they are final (the next chain's first transition comes).
+        let variable_count = variables.count();
+        let objective = objective(devices);
+        let hard = variables.bounds();
+        let mut step = hard.iter().chain([&objective]).fold(geometric::base_work(variable_count).0, |total, p| {
+            total + geometric::posynomial_work(p, variable_count).0
+        });
+        for transition in &self.transitions {
+            let posynomial = self.constraint(transition, loads)?;
+            // Of two transitions on one path, one whose every term another has, with at least its
+            // coefficient, never binds (typically: the input nearest the rail charges the most nodes).
+            let key = (transition.edge, transition.chain.as_slice());
+            // A path's transitions come one after another, so the constraints of its chain are the
+            // last ones: only those are compared (a scan of all of them made this quadratic).
+            if chains.last() != Some(&key) {
+                step += constraints[group_start..]
+                    .iter()
+                    .map(|p| geometric::posynomial_work(p, variable_count).0)
+                    .sum::<u128>();
+                meter.fits(step.saturating_mul(geometric::MAX_NEWTON_STEPS), Estimate::MoreThan, Work::Elmore)?;
+                group_start = constraints.len();
+            }
+            let mut dominated = false;
+            let mut index = group_start;
+            while index < constraints.len() {
+                if chains[index] == key {
+                    if dominates(&constraints[index], &posynomial) {
+                        dominated = true;
+                        break;
+                    }
+                    if dominates(&posynomial, &constraints[index]) {
+                        constraints.swap_remove(index);
+                        labels.swap_remove(index);
+                        chains.swap_remove(index);
+                        continue;
+                    }
+                }
+                index += 1;
+            }
+            if !dominated {
+                constraints.push(posynomial);
+                labels.push((transition.input, transition.edge));
+                chains.push(key);
+            }
+        }
+        let mut lower: Vec<f64> = self.longest.iter().map(|w| w / BOX).collect();
+        let mut upper: Vec<f64> = self.longest.iter().map(|w| w * BOX).collect();
+        // A shared diffusion's variable starts above its wider device and may go anywhere its devices
+        // may (and a little beyond, so that the box never holds it).
+        for &(_, first, second) in &variables.pairs {
+            lower.push(lower[first].min(lower[second]));
+            upper.push(2.0 * upper[first].max(upper[second]));
+        }
+        let mut start = variables.at(&self.start);
+        start[devices..].iter_mut().for_each(|t| *t *= 1.25);
+        let program = Program { variables: variable_count, objective, constraints, hard, lower, upper, start };
+        Ok((program, labels))
     }
-    let mut lower: Vec<f64> = longest.iter().map(|w| w / BOX).collect();
-    let mut upper: Vec<f64> = longest.iter().map(|w| w * BOX).collect();
-    // A shared diffusion's variable starts above its wider device and may go anywhere its devices
-    // may (and a little beyond, so that the box never holds it).
-    for &(_, first, second) in &variables.pairs {
-        lower.push(lower[first].min(lower[second]));
-        upper.push(2.0 * upper[first].max(upper[second]));
+
+    /// Solve a program: the optimum's variables, or why there is none.
+    fn solve(&self, program: &Program, labels: &[(usize, Edge)], meter: &Meter) -> Result<Vec<f64>, SizingError> {
+        let devices = self.circuit.devices.len();
+        let outcome = geometric::solve_within(program, meter).map_err(|error| match error {
+            SolveError::OverBudget(over) => SizingError::OverBudget(over),
+            error => SizingError::Solver(error),
+        })?;
+        match outcome {
+            Outcome::Optimal { x, at_bound, .. } => {
+                // Only the widths' box counts (a shared diffusion's variable follows its devices).
+                if at_bound.iter().any(|&variable| variable < devices) {
+                    return Err(SizingError::Unbounded { factor: BOX });
+                }
+                Ok(x)
+            }
+            Outcome::Infeasible { least_worst, worst_constraint } => {
+                let (input, edge) = labels[worst_constraint];
+                Err(SizingError::Infeasible {
+                    ratio: least_worst,
+                    input: self.stage.function.inputs[input].clone(),
+                    edge: edge.name(),
+                })
+            }
+        }
     }
-    let mut start = variables.at(&start);
-    start[devices..].iter_mut().for_each(|t| *t *= 1.25);
-    let program = Program { variables: variable_count, objective, constraints, hard, lower, upper, start };
-    Ok((program, labels))
+}
+
+/// The elmore method's program for a stage whose structure (stack order) is that of `stage`, under
+/// `plan` (its load and diffusion ratio; a fan-out's bounds condensed at the min-area widths). Also
+/// gives, per constraint, its input and edge.
+pub fn program(stage: &SizedStage, plan: &Plan) -> Result<(Program, Vec<(usize, Edge)>), SizingError> {
+    let setup = Setup::new(stage, plan)?;
+    let loads = setup.loads(None)?;
+    setup.program(&loads, &Meter::unlimited())
 }
 
 /// The elmore method's widths for the structure (stack order) of `structure`, a stage sized by
@@ -167,30 +316,36 @@ pub fn widths(structure: &SizedStage, plan: &Plan, meter: &Meter) -> Result<Side
     if devices > MAX_DEVICES {
         return Err(SizingError::TooLarge { count: devices, limit: MAX_DEVICES });
     }
-    let (program, labels) = program_within(structure, plan, meter)?;
-    let outcome = geometric::solve_within(&program, meter).map_err(|error| match error {
-        SolveError::OverBudget(over) => SizingError::OverBudget(over),
-        error => SizingError::Solver(error),
-    })?;
-    let widths = match outcome {
-        Outcome::Optimal { x, at_bound, .. } => {
-            // Only the widths' box counts (a shared diffusion's variable follows its devices).
-            if at_bound.iter().any(|&variable| variable < devices) {
-                return Err(SizingError::Unbounded { factor: BOX });
+    let setup = Setup::new(structure, plan)?;
+    let mut loads = setup.loads(None)?;
+    let (program, labels) = setup.program(&loads, meter)?;
+    let mut x = setup.solve(&program, &labels, meter)?;
+    if let Loads::Fanout { .. } = loads {
+        // Each round's optimum meets the true bounds; a round the solver cannot finish (a bound
+        // condensed at a point where it is already tight can leave it no interior to start from) ends
+        // the refinement with the last optimum.
+        let mut total: f64 = x[..devices].iter().sum();
+        for _ in 1..MAX_ROUNDS {
+            loads = setup.loads(Some(&x[..devices]))?;
+            let (program, labels) = setup.program(&loads, meter)?;
+            let next = match setup.solve(&program, &labels, meter) {
+                Ok(next) => next,
+                Err(SizingError::Solver(SolveError::Stalled | SolveError::Singular)) => break,
+                Err(error) => return Err(error),
+            };
+            let next_total: f64 = next[..devices].iter().sum();
+            let settled = total - next_total <= ROUND_TOLERANCE * next_total;
+            if next_total <= total {
+                x = next;
+                total = next_total;
             }
-            x
+            if settled {
+                break;
+            }
         }
-        Outcome::Infeasible { least_worst, worst_constraint } => {
-            let (input, edge) = labels[worst_constraint];
-            return Err(SizingError::Infeasible {
-                ratio: least_worst,
-                input: structure.function.inputs[input].clone(),
-                edge: edge.name(),
-            });
-        }
-    };
+    }
     let split = structure.networks.pull_down.widths.len();
-    Ok(Sides::new(widths[..split].to_vec(), widths[split..devices].to_vec()))
+    Ok(Sides::new(x[..split].to_vec(), x[split..devices].to_vec()))
 }
 
 #[cfg(test)]

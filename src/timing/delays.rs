@@ -7,7 +7,6 @@ use crate::cell::{SizedStage, device_name};
 use crate::figures;
 use crate::paths::{EXACT_WORST_MAX_INPUTS, Vector};
 use crate::sizing::plan::{Conditions, Load, Plan};
-use crate::sizing::rules::{self, Rule};
 use crate::timing::circuit::{Circuit, OUTPUT, flat_widths, reference_delay, tau};
 use crate::timing::error::TimingError;
 use crate::timing::report::{Delay, DelayModel, Edge, EffortView, ProcessUnits, Timing, Unavailable};
@@ -17,30 +16,22 @@ use crate::timing::transition::{self, Transition, TransitionError};
 /// quadratic in it (every input's vector and nodes).
 pub const MAX_TIMED_OCCURRENCES: usize = 1000;
 
-/// The load on the output when each input is timed, in C.
+/// The load on the output when each input is timed, in C: with a fan-out H, H copies of that
+/// input's own capacitance in this stage as sized (the textbook electrical effort h = C_out / C_in);
+/// a capacitance in C as given; one in fF over the process's unit capacitance C.
 pub fn input_loads(stage: &SizedStage, plan: &Plan, load: Load) -> Result<Vec<f64>, TimingError> {
     let inputs = stage.function.inputs.len();
     Ok(match load {
-        Load::Fanout(h) => {
-            // H copies of the stage as the longest-path rule sizes it at this drive.
-            let mut copies = vec![0.0; inputs];
-            for sized in stage.networks.values() {
-                let widths = rules::widths(&sized.network, Rule::LongestPath, plan.reference_width(sized.kind()));
-                for (&input, width) in sized.network.inputs.iter().zip(widths) {
-                    copies[input] += width;
-                }
-            }
-            copies.into_iter().map(|c| h * c).collect()
-        }
+        Load::Fanout(h) => figures::input_capacitance(stage).into_iter().map(|c| h * c).collect(),
         Load::Units(c) => vec![c; inputs],
-        Load::Femtofarads(load_ff) => {
-            let c = load_ff / plan.process.unit_capacitance_ff();
-            if !c.is_finite() {
-                return Err(TimingError::NoUnitCapacitance { load_ff });
-            }
-            vec![c; inputs]
-        }
+        Load::Femtofarads(load_ff) => vec![units_of(plan, load_ff)?; inputs],
     })
+}
+
+/// A capacitance in fF in units of C, the process's unit gate capacitance.
+pub fn units_of(plan: &Plan, load_ff: f64) -> Result<f64, TimingError> {
+    let c = load_ff / plan.process.unit_capacitance_ff();
+    if c.is_finite() { Ok(c) } else { Err(TimingError::NoUnitCapacitance { load_ff }) }
 }
 
 /// The error of a transition of `input` on `edge`.
@@ -97,16 +88,17 @@ pub fn time_stage(
             delays.push(delay(stage, plan, conditions, &circuit, &measured, units.as_ref(), load, g, h, p_output_node));
         }
     }
-    let (fanout, load_c) = match conditions.load {
-        Load::Fanout(h) => (Some(h), None),
-        Load::Units(c) => (None, Some(c)),
-        Load::Femtofarads(_) => (None, loads.first().copied()),
+    let (fanout, load_c, load_ff) = match conditions.load {
+        Load::Fanout(h) => (Some(h), None, None),
+        Load::Units(c) => (None, Some(c), None),
+        Load::Femtofarads(ff) => (None, Some(units_of(plan, ff)?), Some(ff)),
     };
     Ok(Timing {
         delay_model: DelayModel {
             diffusion_ratio: conditions.diffusion_ratio,
             fanout,
             load_c,
+            load_ff,
             tau_fall_rc: tau(plan, Edge::Fall),
             tau_rise_rc: tau(plan, Edge::Rise),
             process: units,

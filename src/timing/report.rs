@@ -63,10 +63,13 @@ VDD)) with b = KP W/L and Vov = VDD - Vt (saturation to VDD - Vt, then linear; t
 pub struct DelayModel {
     /// Diffusion capacitance over gate capacitance, per unit W/L and terminal.
     pub diffusion_ratio: f64,
-    /// H, when the load is H copies of the gate.
+    /// H, when the load is H times the timed input's own capacitance.
     pub fanout: Option<f64>,
     /// The load in units of C, when given as a capacitance.
     pub load_c: Option<f64>,
+    /// The load in fF, when given so (`--load-ff`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub load_ff: Option<f64>,
     /// The logical-effort time unit for falling edges: the unit reference inverter's pull-down
     /// resistance x its input capacitance, in RC.
     pub tau_fall_rc: f64,

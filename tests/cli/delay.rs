@@ -44,8 +44,10 @@ fn elmore_method_sizes_or_says_it_cannot() {
     for delay in gate["delays"].as_array().unwrap() {
         assert!(delay["delay_ratio"].as_f64().unwrap() <= 1.0 + 1e-6);
     }
+    // A unit NAND3 driving 5 C (one copy of its own input at longest-path sizes): its falling delay's
+    // parasitic part alone stays above the reference inverter's, whatever the widths.
     widthwise()
-        .args(["size", "nand3", "--method", "elmore"])
+        .args(["size", "nand3", "--method", "elmore", "--load", "5"])
         .assert()
         .code(1)
         .stdout(predicate::str::is_empty())
@@ -154,4 +156,75 @@ fn with_a_process_file_the_diffusion_ratio_is_its_decks() {
         .assert()
         .success();
     widthwise().args(["size", "nand2", "--process", &no_gate]).assert().success();
+}
+
+#[test]
+fn a_load_in_femtofarads_is_counted_in_unit_gate_capacitances() {
+    // C is the process's gate capacitance per um x the unit width (docs/model.md section 7): 1.7 fF
+    // on the built-in process (gate_cap_ff_per_um 1.7, unit width 1 um), so 17 fF is 10 C, and the
+    // delays are those of --load 10.
+    let in_ff = json(&["size", "aoi21", "--load-ff", "17", "--format", "json"]);
+    let in_c = json(&["size", "aoi21", "--load", "10", "--format", "json"]);
+    assert_eq!(in_ff["delay_model"]["load_ff"], 17);
+    assert!((in_ff["delay_model"]["load_c"].as_f64().unwrap() - 10.0).abs() < 1e-9);
+    assert!(in_c["delay_model"].get("load_ff").is_none());
+    let delays = |gate: &serde_json::Value| -> Vec<f64> {
+        gate["delays"].as_array().unwrap().iter().map(|d| d["elmore_rc"].as_f64().unwrap()).collect()
+    };
+    for (a, b) in delays(&in_ff).iter().zip(delays(&in_c)) {
+        assert!((a - b).abs() < 1e-9 * b, "{a} vs {b}");
+    }
+    // With a process of its own: 8 fF over 1.6 fF/um x 0.5 um = 10 C (examples/tern8-process.toml).
+    let process = concat!(env!("CARGO_MANIFEST_DIR"), "/examples/tern8-process.toml");
+    let tern = json(&["size", "nand2", "--process", process, "--load-ff", "8", "--format", "json"]);
+    assert!((tern["delay_model"]["load_c"].as_f64().unwrap() - 10.0).abs() < 1e-9);
+    // The table says both.
+    widthwise()
+        .args(["size", "nand2", "--load-ff", "17"])
+        .assert()
+        .success()
+        .stdout(predicate::str::contains("load 10 C (17 fF)"));
+    // One load at a time.
+    widthwise()
+        .args(["size", "nand2", "--load-ff", "17", "--load", "3"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("cannot be used with"));
+    widthwise()
+        .args(["size", "nand2", "--load-ff", "17", "--format", "spice"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("--load-ff does not apply with --format spice"));
+}
+
+#[test]
+fn the_fan_out_is_the_gates_own_electrical_effort() {
+    // The fan-out h is C_out / C_in of the gate itself (Sutherland, Sproull & Harris, "Logical
+    // Effort", 1999, ch. 1): the load is h times the timed input's capacitance in the gate as sized,
+    // whatever the method, so the logical-effort view's h is the fan-out given.
+    for method in ["longest-path", "min-area", "elmore"] {
+        let gate = json(&["size", "!(a & (b | c))", "--fanout", "3", "--method", method, "--format", "json"]);
+        let inputs = gate["inputs"].as_array().unwrap();
+        for delay in gate["delays"].as_array().unwrap() {
+            let view = &delay["logical_effort_view"];
+            assert!((view["h"].as_f64().unwrap() - 3.0).abs() < 1e-9, "{method}: {view}");
+            let input = inputs.iter().find(|i| i["name"] == delay["input"]).unwrap();
+            let c_in = input["input_capacitance"].as_f64().unwrap();
+            assert!((delay["load_c"].as_f64().unwrap() / c_in - 3.0).abs() < 1e-9, "{method}");
+        }
+    }
+}
+
+#[test]
+fn a_deck_takes_its_load_in_c_or_in_femtofarads() {
+    let deck = |args: &[&str]| {
+        let output = widthwise().args(["deck", "nand2"]).args(args).output().unwrap();
+        assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
+        String::from_utf8(output.stdout).unwrap()
+    };
+    // The default is the process's load_ff (20 fF on the built-in process).
+    assert!(deck(&[]).contains("Ct1 t1_out 0 20f"));
+    assert!(deck(&["--load-ff", "34"]).contains("Ct1 t1_out 0 34f"));
+    // 3 C of 1.7 fF each (docs/model.md section 7).
+    assert!(deck(&["--load", "3"]).contains("Ct1 t1_out 0 5.1f"));
 }

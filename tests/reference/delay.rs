@@ -190,10 +190,11 @@ fn the_inverter_needs_exactly_the_reference() {
 
 #[test]
 fn infeasible_bounds_say_so() {
-    // A unit NAND3 driving one copy of itself: the falling delay of c cannot come down to the
-    // reference inverter's (3 + 5) RC, whatever the widths, since its parasitic part alone stays
-    // above it as the widths grow (the output and internal diffusions grow with them).
-    let error = elmore_sized("nand3", Load::Fanout(1.0), 1.0).unwrap_err();
+    // A unit NAND3 driving a fixed 5 C (one copy of the unit NAND3's input): the falling delay of c
+    // cannot come down to the reference inverter's (3 + 5) RC, whatever the widths, since its
+    // parasitic part alone stays above it as the widths grow (the output and internal diffusions grow
+    // with them).
+    let error = elmore_sized("nand3", Load::Units(5.0), 1.0).unwrap_err();
     assert_eq!(error.exit_code(), 1);
     assert!(error.to_string().contains("no widths make every Elmore delay"), "{error}");
 }
@@ -316,10 +317,15 @@ fn infeasibility_margin_agrees_with_scipy() {
     }
     let mut programs = Vec::new();
     let mut ours = Vec::new();
-    for text in ["nand3", "aoi22"] {
-        let (program, _) = elmore::program(sized(text).stage(), &options(Method::ELMORE)).unwrap();
+    // A fixed load of one copy of each gate's input at longest-path sizes (NAND3 5 C, AOI22 6 C).
+    for (text, load) in [("nand3", 5.0), ("aoi22", 6.0)] {
+        let plan = Plan {
+            conditions: Conditions { load: Load::Units(load), diffusion_ratio: 1.0 },
+            ..options(Method::ELMORE)
+        };
+        let (program, _) = elmore::program(sized(text).stage(), &plan).unwrap();
         let Outcome::Infeasible { least_worst, .. } = geometric::solve(&program).unwrap() else {
-            panic!("{text} at fan-out 1 is infeasible")
+            panic!("{text} at {load} C is infeasible")
         };
         ours.push(least_worst);
         programs.push(program);
