@@ -15,10 +15,9 @@ use crate::sizing::{Load, StackOrder};
 /// same drive, and every input's worst-case transition on both output edges, with .tran and .meas.
 ///
 /// The deck has one copy of the gate per worst-case transition (an input toggling with the side
-/// inputs held so that its weakest path is the only one that conducts), each with its own sources
-/// and load (--load or --load-ff, else the process's load_ff), and one copy of the reference
-/// inverter per output edge; one
-/// transient run measures them all. Measurements: tpd_<input>_fall_gate and tpd_<input>_rise_gate
+/// inputs held as the delays pick them: the slowest Elmore delay over every side-input vector), each
+/// with its own sources and load (--load or --load-ff, else the process's load_ff), and one copy of
+/// the reference inverter per output edge; one transient run measures them all. Measurements: tpd_<input>_fall_gate and tpd_<input>_rise_gate
 /// (named by the output's edge), tpd_fall_ref and tpd_rise_ref, each from the input crossing
 /// supply/2 to the output crossing supply/2. Run it with, e.g., 'ngspice -b deck.sp'; widthwise
 /// never runs a simulator. Devices are written as W=<finger width> with SPICE multiplicity
@@ -118,6 +117,7 @@ pub fn run(args: Args) -> Result<(), Error> {
     let text = super::expression_text(&args.expression)?;
     let sized = super::read_and_size(&text, &plan)?;
     deck::check_size(&sized)?;
-    crate::io::write_output(args.output.as_deref(), |out| deck::write_deck(&sized, &deck, out))?;
+    let transitions = deck::transitions(&sized, deck.load_ff)?;
+    crate::io::write_output(args.output.as_deref(), |out| deck::write_deck(&sized, &transitions, &deck, out))?;
     Ok(())
 }

@@ -16,7 +16,11 @@ use crate::figures::{CellFigures, node_diffusions};
 use crate::network::NetworkKind;
 use crate::paths;
 use crate::process::Process;
-use crate::timing::transition::{lone_path, switching_vectors};
+use crate::sizing::plan::{Conditions, Load};
+use crate::timing::TimingError;
+use crate::timing::circuit::{chain, conducting_devices};
+use crate::timing::delays::worst_transitions;
+use crate::timing::transition::WEAKEST_PATH;
 
 use super::number;
 use super::spice::{mosfet_line, transistor_line};
@@ -131,10 +135,14 @@ pub struct Transition {
     pub resistance: f64,
     /// The same with the drawn (snapped) widths, which is what a simulator sees.
     pub drawn_resistance: f64,
-    /// The devices of the path that conducts alone, or `None` where repeated inputs keep every
-    /// path through the input from being the only device chain on: then the vector is the exact
-    /// worst over the side inputs.
-    pub path: Option<Vec<String>>,
+    /// The devices of the toggling network that conduct after the toggle, output side first.
+    pub conducting: Vec<String>,
+    /// Whether they are one chain from the output to the rail (else side branches or parallel paths
+    /// conduct too).
+    pub one_path: bool,
+    /// How the rule found it ([`crate::timing::transition::EVERY_VECTOR`], or past 16 inputs its
+    /// fallback, the weakest path alone).
+    pub search: &'static str,
 }
 
 /// Most input occurrences per network a deck is written for: each of the 2n transitions holds a
@@ -159,49 +167,49 @@ pub fn reference_measure(kind: NetworkKind) -> String {
     format!("tpd_{}_ref", edge(kind))
 }
 
-/// Every input's worst-case transition, input by input, output falling then rising. An input
-/// whose every path is blocked by repeated inputs gets the exact worst over its side inputs (up to
-/// 16 inputs); an input with no transition at all (its toggling never moves the output) is left out.
-pub fn transitions(cell: &SizedCell) -> Vec<Transition> {
+/// Every input's worst-case transition, input by input, output falling then rising: the one rule
+/// of the delays ([`crate::timing::transition`]) with the deck's own capacitance model (the
+/// process's diffusion capacitance over its gate capacitance per um, whether or not the deck writes
+/// the diffusion capacitors, and the deck's load `load_ff`, in C); an input with no transition
+/// (its toggling never moves the output) is left out. Where the process's gate capacitance is 0,
+/// so neither has a value in C, the transitions are ranked by resistance alone.
+pub fn transitions(cell: &SizedCell, load_ff: f64) -> Result<Vec<Transition>, TimingError> {
     let plan = &cell.plan;
+    let process = &plan.process;
     let stage = cell.stage();
+    let ratio = process.diffusion_cap_ff_per_um / process.gate_cap_ff_per_um;
+    let load = load_ff / process.unit_capacitance_ff();
+    let conditions = if ratio.is_finite() && load.is_finite() {
+        Conditions { load: Load::Units(load), diffusion_ratio: ratio }
+    } else {
+        Conditions { load: Load::Units(1.0), diffusion_ratio: 0.0 }
+    };
+    let (circuit, found) = worst_transitions(stage, plan, &conditions, &Meter::new(plan.budget))?;
     let mut out = Vec::new();
-    for input in 0..stage.function.inputs.len() {
-        for kind in NetworkKind::BOTH {
-            let sized = &stage.networks[kind];
-            let drawn = plan.resistances(kind, &sized.drawn_widths(&plan.process));
-            let lone = lone_path(stage, plan, input, kind, &Meter::unlimited()).unwrap_or(None);
-            let (resistance, vector, path) = match lone {
-                Some((path, vector)) => {
-                    (path.resistance, vector, Some(path.devices.iter().map(|&d| device_name(kind, d)).collect()))
-                }
-                None => match exact_transition(cell, input, kind) {
-                    Some((resistance, vector)) => (resistance, vector, None),
-                    None => continue,
-                },
-            };
-            let on = sized.network.on_devices(&vector);
-            let drawn_resistance = paths::effective_resistance(&sized.network, &drawn, &on).unwrap_or(f64::INFINITY);
-            out.push(Transition { input, kind, vector, resistance, drawn_resistance, path });
-        }
+    for (input, edge, _, transition) in found {
+        let Some(transition) = transition else { continue };
+        let kind = edge.network();
+        let sized = &stage.networks[kind];
+        let on = sized.network.on_devices(&transition.after);
+        let effective = |widths: &[f64]| {
+            let resistance = plan.resistances(kind, widths);
+            paths::effective_resistance(&sized.network, &resistance, &on).unwrap_or(f64::INFINITY)
+        };
+        let conducting = conducting_devices(&circuit, &transition.shape, kind);
+        let chain = if transition.tree { chain(&circuit, &transition.shape) } else { None };
+        let one_path = chain.is_some_and(|chain| chain.len() == conducting.len());
+        out.push(Transition {
+            input,
+            kind,
+            resistance: effective(&sized.widths),
+            drawn_resistance: effective(&sized.drawn_widths(process)),
+            conducting: conducting.iter().map(|&d| device_name(kind, circuit.devices[d].index)).collect(),
+            one_path,
+            search: transition.search,
+            vector: transition.after,
+        });
     }
-    out
-}
-
-/// Where repeated inputs leave no path through `input` that conducts alone: the transition of
-/// that input with the highest resistance after the switch, over every side-input vector.
-fn exact_transition(cell: &SizedCell, input: usize, kind: NetworkKind) -> Option<(f64, Vec<bool>)> {
-    let sized = &cell.stage().networks[kind];
-    let resistance = cell.plan.resistances(kind, &sized.widths);
-    let mut best: Option<(f64, Vec<bool>)> = None;
-    for values in switching_vectors(cell.stage(), input, kind)? {
-        let on = sized.network.on_devices(&values);
-        let Some(after) = paths::effective_resistance(&sized.network, &resistance, &on) else { continue };
-        if best.as_ref().is_none_or(|(r, _)| after > r + 1e-12) {
-            best = Some((after, values));
-        }
-    }
-    best
+    Ok(out)
 }
 
 /// Diffusion width on every node that is not a rail, in um, in order of first appearance, by the
@@ -248,7 +256,12 @@ fn femtofarads(value: f64) -> String {
 }
 
 /// Write the deck.
-pub fn write_deck(cell: &SizedCell, options: &DeckOptions, out: &mut dyn Write) -> io::Result<()> {
+pub fn write_deck(
+    cell: &SizedCell,
+    transitions: &[Transition],
+    options: &DeckOptions,
+    out: &mut dyn Write,
+) -> io::Result<()> {
     let gate = &CellFigures::of(cell);
     let process = &gate.process;
     let supply = process.supply_v;
@@ -287,7 +300,6 @@ pub fn write_deck(cell: &SizedCell, options: &DeckOptions, out: &mut dyn Write) 
     let stop = start + 20.0 * slowest;
     let step = slowest / 200.0;
 
-    let transitions = transitions(cell);
     writeln!(out, "* widthwise simulation deck: {}: {} = {}", gate.name, gate.output, gate.expression)?;
     writeln!(out, "* {}; process: {}", super::sizing_line(gate), process.name)?;
     writeln!(out, "* One copy of the gate per worst-case transition and one of the reference inverter per output")?;
@@ -391,9 +403,11 @@ pub fn write_deck(cell: &SizedCell, options: &DeckOptions, out: &mut dyn Write) 
             .filter(|&(i, _)| i != transition.input)
             .map(|(i, &v)| format!("{}={}", gate.inputs[i].name, u8::from(v)))
             .collect();
-        let how = match &transition.path {
-            Some(devices) => format!("path {}", devices.join(" ")),
-            None => "repeated inputs: the exact worst over the side inputs".to_string(),
+        let devices = transition.conducting.join(" ");
+        let how = match (transition.search, transition.one_path) {
+            (WEAKEST_PATH, _) => format!("the weakest path alone, {devices} (side inputs not searched past 16 inputs)"),
+            (_, true) => format!("path {devices}"),
+            (_, false) => format!("conducting {devices}"),
         };
         writeln!(out)?;
         writeln!(
@@ -460,7 +474,7 @@ pub fn write_deck(cell: &SizedCell, options: &DeckOptions, out: &mut dyn Write) 
             writeln!(out, "{statement}")?;
         }
         writeln!(out, "echo \"widthwise summary: transition, gate delay (s), reference delay (s), gate/reference\"")?;
-        for transition in &transitions {
+        for transition in transitions {
             let name = &gate.inputs[transition.input].name;
             let measure = gate_measure(name, transition.kind);
             let reference = reference_measure(transition.kind);

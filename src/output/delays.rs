@@ -6,7 +6,9 @@ use std::io::{self, Write};
 use super::CellReport;
 use super::number;
 use super::table::write_columns;
+use crate::paths::EXACT_WORST_MAX_INPUTS;
 use crate::timing::DelayReport;
+use crate::timing::transition::WEAKEST_PATH;
 
 fn strings<const N: usize>(cells: [&str; N]) -> Vec<String> {
     cells.iter().map(|c| c.to_string()).collect()
@@ -73,12 +75,11 @@ pub fn write_table(report: &DelayReport, out: &mut dyn Write) -> io::Result<()> 
     for missing in &timing.unavailable_delays {
         writeln!(out, "  {} {}: no delay ({})", missing.input, missing.edge.name(), missing.why)?;
     }
-    for delay in timing.delays.iter().filter(|d| d.search != "weakest path") {
+    if timing.delays.iter().any(|d| d.search == WEAKEST_PATH) {
         writeln!(
             out,
-            "  {} {}: the slowest over every vector (repeated inputs leave no single path)",
-            delay.input,
-            delay.edge.name()
+            "  past {EXACT_WORST_MAX_INPUTS} inputs the side inputs are not searched: each delay is its input's weakest \
+             path alone"
         )?;
     }
 

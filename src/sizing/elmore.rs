@@ -11,11 +11,12 @@ use crate::budget::{Estimate, Meter, Work};
 use crate::cell::SizedStage;
 use crate::network::Sides;
 use crate::optimize::geometric::{self, Monomial, Outcome, Posynomial, Program, SolveError};
+use crate::sizing::build;
 use crate::sizing::error::SizingError;
 use crate::sizing::plan::{Load, Plan};
 use crate::sizing::rules::{self, Rule};
-use crate::timing::circuit::{Circuit, reference_delay};
-use crate::timing::delays::input_loads;
+use crate::timing::circuit::{Circuit, chain, reference_delay};
+use crate::timing::delays::{input_loads, worst_transitions};
 use crate::timing::error::TimingError;
 use crate::timing::posynomial::{PathTransition, Variables, delay_posynomial, path_transitions};
 use crate::timing::report::Edge;
@@ -61,8 +62,11 @@ enum Loads {
     },
 }
 
-/// Most condensation rounds of the elmore method with a fan-out load.
+/// Most rounds of the elmore method: each adds the worst transitions above their bounds, and with a
+/// fan-out load condenses the bounds again.
 const MAX_ROUNDS: usize = 30;
+/// A worst transition this far above its bound joins the program.
+const CUT_TOLERANCE: f64 = 1e-6;
 /// The rounds stop once the total W/L falls by less than this fraction.
 const ROUND_TOLERANCE: f64 = 1e-7;
 
@@ -272,6 +276,31 @@ impl<'a> Setup<'a> {
         Ok((program, labels))
     }
 
+    /// The worst transitions (by the one rule, at these widths) above their bounds that the program
+    /// does not hold yet and can: those whose conducting network is a tree rooted at the rail.
+    fn cuts(&self, widths: &[f64], meter: &Meter) -> Result<Vec<PathTransition>, SizingError> {
+        let split = self.stage.networks.pull_down.widths.len();
+        let widths = Sides::new(widths[..split].to_vec(), widths[split..].to_vec());
+        let networks = self.stage.networks.as_ref().map(|_, n| n.network.clone());
+        let sized = build::stage(&self.stage.function, self.stage.role, networks, widths, self.plan)?;
+        let (circuit, found) = worst_transitions(&sized, self.plan, &self.plan.conditions, meter)?;
+        let mut cuts = Vec::new();
+        for (input, edge, load, transition) in found {
+            let Some(transition) = transition else { continue };
+            let bound = reference_delay(self.plan, self.plan.conditions.diffusion_ratio, edge, load);
+            if transition.elmore <= bound * (1.0 + CUT_TOLERANCE) || !transition.tree {
+                continue;
+            }
+            let Some(chain) = chain(&circuit, &transition.shape) else { continue };
+            let held =
+                self.transitions.iter().any(|t| t.input == input && t.edge == edge && t.shape == transition.shape);
+            if !held {
+                cuts.push(PathTransition { input, edge, shape: transition.shape, chain });
+            }
+        }
+        Ok(cuts)
+    }
+
     /// Solve a program: the optimum's variables, or why there is none.
     fn solve(&self, program: &Program, labels: &[(usize, Edge)], meter: &Meter) -> Result<Vec<f64>, SizingError> {
         let devices = self.circuit.devices.len();
@@ -311,39 +340,46 @@ pub fn program(stage: &SizedStage, plan: &Plan) -> Result<(Program, Vec<(usize, 
 /// The elmore method's widths for the structure (stack order) of `structure`, a stage sized by
 /// the longest-path rule in the chosen order: the least total W/L with every worst-case Elmore delay
 /// at most the reference inverter's driving the same load.
+///
+/// The program starts from the transitions through one path that conducts alone; each optimum is
+/// then timed by the one worst-transition rule, and every worst transition above its bound whose
+/// conducting network is a tree (a path with side branches) joins the program as a constraint of
+/// its own, until none is left (a cutting plane), or the rounds run out and the last optimum stands
+/// (its delays, as reported, say by how much a bound is missed). With a fan-out load, each round
+/// also condenses the bounds at the last optimum, until the total W/L settles.
 pub fn widths(structure: &SizedStage, plan: &Plan, meter: &Meter) -> Result<Sides<Vec<f64>>, SizingError> {
     let devices: usize = structure.networks.values().map(|n| n.widths.len()).sum();
     if devices > MAX_DEVICES {
         return Err(SizingError::TooLarge { count: devices, limit: MAX_DEVICES });
     }
-    let setup = Setup::new(structure, plan)?;
+    let mut setup = Setup::new(structure, plan)?;
     let mut loads = setup.loads(None)?;
-    let (program, labels) = setup.program(&loads, meter)?;
-    let mut x = setup.solve(&program, &labels, meter)?;
-    if let Loads::Fanout { .. } = loads {
-        // Each round's optimum meets the true bounds; a round the solver cannot finish (a bound
-        // condensed at a point where it is already tight can leave it no interior to start from) ends
-        // the refinement with the last optimum.
-        let mut total: f64 = x[..devices].iter().sum();
-        for _ in 1..MAX_ROUNDS {
+    let fanout = matches!(loads, Loads::Fanout { .. });
+    let mut last: Option<(Vec<f64>, f64)> = None;
+    for round in 0..MAX_ROUNDS {
+        let (program, labels) = setup.program(&loads, meter)?;
+        let x = match setup.solve(&program, &labels, meter) {
+            Ok(x) => x,
+            // A later round the solver cannot finish (a bound condensed where it is already tight can
+            // leave it no interior to start from) ends the refinement with the last optimum.
+            Err(SizingError::Solver(SolveError::Stalled | SolveError::Singular)) if round > 0 => break,
+            Err(error) => return Err(error),
+        };
+        let total: f64 = x[..devices].iter().sum();
+        let settled =
+            !fanout || last.as_ref().is_some_and(|(_, before)| (before - total).abs() <= ROUND_TOLERANCE * total);
+        let cuts = setup.cuts(&x[..devices], meter)?;
+        let done = cuts.is_empty() && settled;
+        setup.transitions.extend(cuts);
+        if fanout {
             loads = setup.loads(Some(&x[..devices]))?;
-            let (program, labels) = setup.program(&loads, meter)?;
-            let next = match setup.solve(&program, &labels, meter) {
-                Ok(next) => next,
-                Err(SizingError::Solver(SolveError::Stalled | SolveError::Singular)) => break,
-                Err(error) => return Err(error),
-            };
-            let next_total: f64 = next[..devices].iter().sum();
-            let settled = total - next_total <= ROUND_TOLERANCE * next_total;
-            if next_total <= total {
-                x = next;
-                total = next_total;
-            }
-            if settled {
-                break;
-            }
+        }
+        last = Some((x, total));
+        if done {
+            break;
         }
     }
+    let (x, _) = last.ok_or(SizingError::Solver(SolveError::Stalled))?;
     let split = structure.networks.pull_down.widths.len();
     Ok(Sides::new(x[..split].to_vec(), x[split..devices].to_vec()))
 }

@@ -233,13 +233,106 @@ pub fn elmore(
     widths: &[f64],
     load: f64,
 ) -> Result<(f64, f64, bool), NetworkFault> {
+    Ok(moments(circuit, shape, widths)?.with_load(load))
+}
+
+/// What a conducting network's Elmore delay is made of, whatever the load: the output's first
+/// moment with no load, the resistance a load on the output sees (the output's own first moment per
+/// unit of charge on it), and whether the network is a tree rooted at the rail.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Moments {
+    /// The output's Elmore delay with no load, RC.
+    pub unloaded: f64,
+    /// The output's resistance to the rail as a load sees it, R.
+    pub drive: f64,
+    /// Whether the network is a tree rooted at the rail (one path from every node to the rail).
+    pub tree: bool,
+}
+
+impl Moments {
+    /// The Elmore delay with `load` C, with no load, and whether the network is a tree.
+    pub fn with_load(self, load: f64) -> (f64, f64, bool) {
+        (self.unloaded + load * self.drive, self.unloaded, self.tree)
+    }
+}
+
+/// The [`Moments`] of one conducting network: both from one elimination, `G m = C d` and
+/// `G r = e_output`, since a load adds `load x r[output]`.
+pub fn moments(circuit: &Circuit, shape: &Conducting, widths: &[f64]) -> Result<Moments, NetworkFault> {
     let (network, initial) = rc_network(circuit, shape, widths, 0.0);
     let charge = network.capacitance.iter().zip(&initial).map(|(c, d)| c * d).collect();
     let mut unit = vec![0.0; initial.len()];
     unit[0] = 1.0;
     let solved = rc::solve(&network, vec![charge, unit]).map_err(NetworkFault::Solve)?;
-    let (unloaded, drive) = (solved[0][0], solved[1][0]);
-    Ok((unloaded + load * drive, unloaded, rc::tree_moment(&network, &initial, 0).is_some()))
+    let tree = rc::tree_moment(&network, &initial, 0).is_some();
+    Ok(Moments { unloaded: solved[0][0], drive: solved[1][0], tree })
+}
+
+/// The devices of `kind`'s network that conduct in `shape`, output side first (by the position of
+/// their drain among the network's nodes).
+pub fn conducting_devices(circuit: &Circuit, shape: &Conducting, kind: NetworkKind) -> Vec<usize> {
+    let mut path: Vec<usize> = shape.devices.iter().copied().filter(|&d| circuit.devices[d].kind == kind).collect();
+    let mut position = vec![usize::MAX; circuit.names.len()];
+    for (index, &node) in shape.nodes.iter().enumerate() {
+        position[node] = index;
+    }
+    path.sort_by_key(|&d| position[circuit.devices[d].drain]);
+    path
+}
+
+/// Where `shape` is a tree rooted at the rail: its chain, the devices from the output to the rail
+/// in order (the one path every charge of the output flows through).
+pub fn chain(circuit: &Circuit, shape: &Conducting) -> Option<Vec<usize>> {
+    let mut chain = Vec::new();
+    let mut node = OUTPUT;
+    let mut used = vec![false; circuit.devices.len()];
+    while node != shape.rail {
+        // In a tree, one conducting device leads from each chain node towards the rail: the one whose
+        // far side reaches the rail without coming back.
+        let next = shape.devices.iter().copied().find(|&d| {
+            let device = &circuit.devices[d];
+            !used[d] && (device.drain == node || device.source == node) && reaches_rail(circuit, shape, d, node)
+        })?;
+        used[next] = true;
+        chain.push(next);
+        let device = &circuit.devices[next];
+        node = if device.drain == node { device.source } else { device.drain };
+    }
+    Some(chain)
+}
+
+/// Whether, leaving `from` through `device`, the conducting network reaches the rail (not back
+/// through `from`).
+fn reaches_rail(circuit: &Circuit, shape: &Conducting, device: usize, from: usize) -> bool {
+    let d = &circuit.devices[device];
+    let start = if d.drain == from { d.source } else { d.drain };
+    let mut seen = vec![false; circuit.names.len()];
+    seen[from] = true;
+    let mut stack = vec![start];
+    seen[start] = true;
+    while let Some(here) = stack.pop() {
+        if here == shape.rail {
+            return true;
+        }
+        for &other in &shape.devices {
+            let o = &circuit.devices[other];
+            if other == device {
+                continue;
+            }
+            let next = if o.drain == here {
+                o.source
+            } else if o.source == here {
+                o.drain
+            } else {
+                continue;
+            };
+            if !seen[next] {
+                seen[next] = true;
+                stack.push(next);
+            }
+        }
+    }
+    false
 }
 
 /// Every device's W/L in circuit order (network by network, in device order).

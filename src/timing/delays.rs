@@ -7,10 +7,10 @@ use crate::cell::{SizedStage, device_name};
 use crate::figures;
 use crate::paths::{EXACT_WORST_MAX_INPUTS, Vector};
 use crate::sizing::plan::{Conditions, Load, Plan};
-use crate::timing::circuit::{Circuit, OUTPUT, flat_widths, reference_delay, tau};
+use crate::timing::circuit::{Circuit, OUTPUT, conducting_devices, flat_widths, reference_delay, tau};
 use crate::timing::error::TimingError;
 use crate::timing::report::{Delay, DelayModel, Edge, EffortView, ProcessUnits, Timing, Unavailable};
-use crate::timing::transition::{self, Transition, TransitionError};
+use crate::timing::transition::{Rule, Transition, TransitionError};
 
 /// Most input occurrences (transistors per network) of a cell that is timed: the report is
 /// quadratic in it (every input's vector and nodes).
@@ -44,6 +44,38 @@ pub fn transition_error(stage: &SizedStage, input: usize, edge: Edge, error: Tra
     }
 }
 
+/// Every input's worst transition on both edges (input by input, fall then rise) under
+/// `conditions`, with its load in C; `None` where the input has none on that edge. The circuit
+/// they were timed in comes with them.
+#[allow(clippy::type_complexity)]
+pub fn worst_transitions(
+    stage: &SizedStage,
+    plan: &Plan,
+    conditions: &Conditions,
+    meter: &Meter,
+) -> Result<(Circuit, Vec<(usize, Edge, f64, Option<Transition>)>), TimingError> {
+    let occurrences = stage.function.literals.len();
+    if occurrences > MAX_TIMED_OCCURRENCES {
+        return Err(TimingError::TooLargeToTime { count: occurrences, limit: MAX_TIMED_OCCURRENCES });
+    }
+    let circuit = Circuit::new(stage, plan, conditions.diffusion_ratio);
+    let widths = flat_widths(stage);
+    let loads = input_loads(stage, plan, conditions.load)?;
+    let mut found = Vec::with_capacity(2 * loads.len());
+    {
+        let mut rule = Rule::new(stage, plan, &circuit, &widths, meter)?;
+        for (input, &load) in loads.iter().enumerate() {
+            for edge in Edge::BOTH {
+                let transition = rule
+                    .worst(input, edge, load, meter)
+                    .map_err(|error| transition_error(stage, input, edge, error))?;
+                found.push((input, edge, load, transition));
+            }
+        }
+    }
+    Ok((circuit, found))
+}
+
 /// Delays of every input of `stage` on both edges under `conditions`, the model and the
 /// logical-effort view, their work counted on `meter`; with `units`, in picoseconds too.
 pub fn time_stage(
@@ -53,24 +85,17 @@ pub fn time_stage(
     units: Option<ProcessUnits>,
     meter: &Meter,
 ) -> Result<Timing, TimingError> {
-    let occurrences = stage.function.literals.len();
-    if occurrences > MAX_TIMED_OCCURRENCES {
-        return Err(TimingError::TooLargeToTime { count: occurrences, limit: MAX_TIMED_OCCURRENCES });
-    }
     let function = &stage.function;
-    let circuit = Circuit::new(stage, plan, conditions.diffusion_ratio);
+    let (circuit, found) = worst_transitions(stage, plan, conditions, meter)?;
     let widths = flat_widths(stage);
-    let loads = input_loads(stage, plan, conditions.load)?;
     let reference_capacitance = plan.reference_capacitance();
     let capacitance = figures::input_capacitance(stage);
     let p_output_node = circuit.node_capacitance(OUTPUT, &widths) / reference_capacitance;
     let mut delays = Vec::new();
     let mut unavailable = Vec::new();
-    for (input, name) in function.inputs.iter().enumerate() {
-        let load = loads[input];
-        for edge in Edge::BOTH {
-            let measured = transition::worst(stage, plan, &circuit, &widths, input, edge, load, meter)
-                .map_err(|error| transition_error(stage, input, edge, error))?;
+    for (input, edge, load, measured) in found {
+        let name = &function.inputs[input];
+        {
             let Some(measured) = measured else {
                 unavailable.push(Unavailable {
                     input: name.clone(),
@@ -126,13 +151,7 @@ fn delay(
     let reference = reference_delay(plan, conditions.diffusion_ratio, edge, load);
     let p_elmore = measured.unloaded / tau(plan, edge);
     let kind = edge.network();
-    let mut path: Vec<usize> =
-        measured.shape.devices.iter().copied().filter(|&d| circuit.devices[d].kind == kind).collect();
-    let mut position = vec![usize::MAX; circuit.names.len()];
-    for (index, &node) in measured.shape.nodes.iter().enumerate() {
-        position[node] = index;
-    }
-    path.sort_by_key(|&d| position[circuit.devices[d].drain]);
+    let path = conducting_devices(circuit, &measured.shape, kind);
     let (mut internal_nodes, mut nodes_at_final_level) = (Vec::new(), Vec::new());
     for (&node, &at_final) in measured.shape.nodes.iter().zip(&measured.shape.at_final).skip(1) {
         let name = circuit.names[node].clone();

@@ -93,7 +93,7 @@ pub enum NetworkFault {
     /// A path transition that does not end on the rail.
     #[error("the path does not end on the rail")]
     OffTheRail,
-    /// More than the path conducts in the timed network.
-    #[error("more than the path conducts in the timed network")]
+    /// A second path to the rail conducts beside the chain (the network is not a tree).
+    #[error("more than the path conducts to the rail in the timed network")]
     MoreThanThePath,
 }

@@ -1,9 +1,10 @@
 //! Elmore delays as posynomials in the device widths, for the elmore method's geometric program.
 //!
-//! A transition through one path that conducts alone has a chain of devices from the output to the
-//! rail, and whatever else conducts hangs off the output through the other network. Its Elmore delay
-//! is then `sum over chain nodes k of C_k x (resistance from k to the rail)` plus the hanging
-//! capacitance times the whole chain's resistance.
+//! A transition whose conducting network is a tree rooted at the rail has a chain of devices from
+//! the output to the rail, and whatever else conducts hangs off a chain node (off the output through
+//! the other network, or off an internal node through a side branch that reaches no rail). Its
+//! Elmore delay is then `sum over nodes k of C_k x (the chain's resistance from where k hangs, or k
+//! itself on the chain, down to the rail)`, the load counting at the output.
 //!
 //! A node's capacitance is a sum of device widths, except a diffusion shared by two series devices,
 //! which is as wide as the wider ([`NodeDiffusion::Shared`]): a maximum, not a posynomial. Each such
@@ -160,9 +161,32 @@ pub fn delay_posynomial(
     if chain_nodes.last() != Some(&shape.rail) {
         return Err(NetworkFault::OffTheRail);
     }
-    let kind = circuit.devices[chain[0]].kind;
-    if shape.devices.iter().any(|d| circuit.devices[*d].kind == kind && !chain.contains(d)) {
-        return Err(NetworkFault::MoreThanThePath);
+    // Every other node hangs off one chain node (the network is a tree rooted at the rail): the
+    // resistance it shares with the output is the chain's from there down.
+    let mut attached: Vec<Option<usize>> = vec![None; circuit.names.len()];
+    for (position, &node) in chain_nodes.iter().enumerate() {
+        attached[node] = Some(position);
+    }
+    let mut stack: Vec<usize> = chain_nodes[..chain.len()].to_vec();
+    while let Some(here) = stack.pop() {
+        let position = attached[here].unwrap_or(0);
+        for &device in shape.devices.iter().filter(|d| !chain.contains(d)) {
+            let d = &circuit.devices[device];
+            let other = if d.drain == here {
+                d.source
+            } else if d.source == here {
+                d.drain
+            } else {
+                continue;
+            };
+            if other == shape.rail {
+                return Err(NetworkFault::MoreThanThePath);
+            }
+            if attached[other].is_none() {
+                attached[other] = Some(position);
+                stack.push(other);
+            }
+        }
     }
     let charged = |node: usize| shape.nodes.iter().zip(&shape.at_final).any(|(&n, &f)| n == node && !f);
     // (resistor device, capacitor device or None for the load) -> coefficient.
@@ -185,7 +209,7 @@ pub fn delay_posynomial(
     }
     for &node in &shape.nodes {
         if !chain_nodes.contains(&node) && charged(node) {
-            add_node(node, 0, &mut terms);
+            add_node(node, attached[node].unwrap_or(0), &mut terms);
         }
     }
     let terms = terms

@@ -1,19 +1,44 @@
 //! An input's worst transition on an output edge: the input vector it switches under, and that
 //! transition's conducting network and Elmore delay. One rule, used by the delays, the simulation
-//! deck and the sizing strategies that time a cell.
+//! deck and the sizing strategies that time a cell (the elmore method, the stack-order search).
 //!
-//! The rule: the weakest path through the input that can conduct alone, with the vector that makes
-//! it the only conducting path; where repeated inputs leave no such path, the slowest over every
-//! vector where the input switches the output (up to [`EXACT_WORST_MAX_INPUTS`] inputs).
+//! The rule: of every vector of the side inputs under which the input, going to its on-level,
+//! switches the output (the timed network turns from off to on), the one with the slowest Elmore
+//! delay, timed with the same capacitance model as the delays ([`crate::timing::circuit`]: every
+//! node the new vector connects to the output, charged unless the new rail already held it). Ties
+//! (within a relative 1e-9) go to the larger resistance of what conducts after the switch (sizing
+//! widths), then to the lower vector index, the vector read as its on-set: input k (in order of
+//! first appearance, from 0) is bit k, set where the input turns its devices in the switching
+//! network on (the plain index on falling edges, the complemented one on rising edges).
+//!
+//! Bound: the vectors are enumerated up to [`EXACT_WORST_MAX_INPUTS`] inputs, 64 on-sets a machine
+//! word, and each transition found is timed, its work counted against the budget (the conduction of
+//! each network over every on-set: words x devices, once; each input and edge: a pass over the
+//! words; each vector that switches the output: its conducting network, the devices of the circuit;
+//! each new conducting network, the same again for its solve). Vectors that give the same
+//! conducting network and starting charges are solved once (keyed and cached). Past the bound,
+//! the stated fallback: the weakest path through the input that can conduct alone, with the vector
+//! that makes it the only conducting path (labelled `"weakest path"`); none where repeated inputs
+//! block every such path.
+
+use std::collections::HashMap;
 
 use crate::budget::{Meter, OverBudget, Work};
 use crate::cell::SizedStage;
-use crate::network::NetworkKind;
-use crate::paths::{self, EXACT_WORST_MAX_INPUTS};
+use crate::network::{NetworkKind, Sides};
+use crate::paths::{self, EXACT_WORST_MAX_INPUTS, conduction_by_on_set, vector_word};
 use crate::sizing::plan::Plan;
-use crate::timing::circuit::{Circuit, Conducting, conducting, elmore};
+use crate::timing::circuit::{Circuit, Conducting, Moments, conducting, elmore, moments};
 use crate::timing::error::NetworkFault;
 use crate::timing::report::Edge;
+
+/// How the rule found a transition.
+pub const EVERY_VECTOR: &str = "every vector";
+/// The fallback past [`EXACT_WORST_MAX_INPUTS`] inputs.
+pub const WEAKEST_PATH: &str = "weakest path";
+
+/// Two delays (or resistances) within this fraction of the larger are a tie.
+const TIE: f64 = 1e-9;
 
 /// One transition, timed.
 #[derive(Debug, Clone)]
@@ -32,7 +57,7 @@ pub struct Transition {
     pub unloaded: f64,
     /// Whether the conducting network is a tree.
     pub tree: bool,
-    /// How the vector was found: `"weakest path"` or `"every vector"`.
+    /// How the vector was found: [`EVERY_VECTOR`] or [`WEAKEST_PATH`].
     pub search: &'static str,
 }
 
@@ -72,49 +97,149 @@ pub fn time_vector(
     Ok(Transition { input, edge, after, shape, elmore, unloaded, tree, search })
 }
 
-/// The worst transition of `input` on `edge` (the rule above), timed with `load` C on the output;
-/// `None` where the input never switches the output on that edge (or, past
-/// [`EXACT_WORST_MAX_INPUTS`] inputs, no path through it conducts alone).
-#[allow(clippy::too_many_arguments)]
-pub fn worst(
-    stage: &SizedStage,
-    plan: &Plan,
-    circuit: &Circuit,
-    widths: &[f64],
-    input: usize,
-    edge: Edge,
-    load: f64,
-    meter: &Meter,
-) -> Result<Option<Transition>, TransitionError> {
-    // Each transition visits every device (its conducting network, then the solve).
-    let devices = circuit.devices.len() as u128;
-    let measure = |after: Vec<bool>, search| -> Result<Transition, TransitionError> {
-        meter.charge(devices, Work::Delays)?;
-        Ok(time_vector(circuit, widths, input, edge, after, load, search)?)
-    };
-    if let Some((_, after)) = lone_path(stage, plan, input, edge.network(), meter)? {
-        return measure(after, "weakest path").map(Some);
+/// The rule for one sized stage and capacitance model: what it needs once, and the conducting
+/// networks it has solved.
+pub struct Rule<'a> {
+    stage: &'a SizedStage,
+    plan: &'a Plan,
+    circuit: &'a Circuit,
+    widths: &'a [f64],
+    /// Each network's conduction over every on-set, 64 a word; `None` past the bound.
+    conduction: Option<Sides<Vec<u64>>>,
+    /// Every conducting network solved so far.
+    solved: HashMap<Conducting, Moments>,
+}
+
+impl<'a> Rule<'a> {
+    /// The rule for `stage` as `circuit` (its capacitance model) with these widths (circuit order),
+    /// each network's conduction worked out once, its work counted on `meter`.
+    pub fn new(
+        stage: &'a SizedStage,
+        plan: &'a Plan,
+        circuit: &'a Circuit,
+        widths: &'a [f64],
+        meter: &Meter,
+    ) -> Result<Rule<'a>, OverBudget> {
+        let inputs = stage.function.inputs.len();
+        let conduction = if inputs <= EXACT_WORST_MAX_INPUTS {
+            let words = (1u128 << inputs).div_ceil(64);
+            let devices: usize = stage.networks.values().map(|n| n.widths.len()).sum();
+            meter.charge(words * devices as u128, Work::Delays)?;
+            Some(stage.networks.as_ref().map(|_, sized| conduction_by_on_set(&sized.network, inputs)))
+        } else {
+            None
+        };
+        Ok(Rule { stage, plan, circuit, widths, conduction, solved: HashMap::new() })
     }
-    if circuit.input_count > EXACT_WORST_MAX_INPUTS {
-        return Ok(None);
-    }
-    // Every vector of the inputs is made, and the half with the input at its on-level is tried on
-    // the network: its devices' states, then a walk that stops at the first branch that conducts
-    // (or member that does not).
-    let vectors = 1u128 << circuit.input_count;
-    meter.charge(
-        vectors * circuit.input_count as u128 + vectors / 2 * circuit.devices.len() as u128 / 2,
-        Work::Delays,
-    )?;
-    let Some(vectors) = switching_vectors(stage, input, edge.network()) else { return Ok(None) };
-    let mut worst: Option<Transition> = None;
-    for after in vectors {
-        let measured = measure(after, "every vector")?;
-        if worst.as_ref().is_none_or(|w| measured.elmore > w.elmore) {
-            worst = Some(measured);
+
+    /// The worst transition of `input` on `edge` (the rule above), timed with `load` C on the
+    /// output; `None` where the input never switches the output on that edge (or, past the bound, no
+    /// path through it conducts alone).
+    pub fn worst(
+        &mut self,
+        input: usize,
+        edge: Edge,
+        load: f64,
+        meter: &Meter,
+    ) -> Result<Option<Transition>, TransitionError> {
+        let kind = edge.network();
+        let Some(conduction) = &self.conduction else {
+            let Some((_, after)) = lone_path(self.stage, self.plan, input, kind, meter)? else { return Ok(None) };
+            meter.charge(self.circuit.devices.len() as u128, Work::Delays)?;
+            return Ok(Some(time_vector(self.circuit, self.widths, input, edge, after, load, WEAKEST_PATH)?));
+        };
+        let conducts = &conduction[kind];
+        let inputs = self.stage.function.inputs.len();
+        let devices = self.circuit.devices.len() as u128;
+        meter.charge(conducts.len() as u128, Work::Delays)?;
+        let mut best: Option<Candidate> = None;
+        for (word, &bits) in conducts.iter().enumerate() {
+            // On-sets with the input on where the network conducts, and would not with it off.
+            let flipped = flip(conducts, word, input);
+            let mut switching = bits & vector_word(word as u64, input) & !flipped;
+            while switching != 0 {
+                let on_set = word as u64 * 64 + u64::from(switching.trailing_zeros());
+                switching &= switching - 1;
+                meter.charge(devices, Work::Delays)?;
+                let after: Vec<bool> = (0..inputs).map(|i| kind.conducts(true) == (on_set >> i & 1 == 1)).collect();
+                let shape = conducting(self.circuit, edge, input, &after)?;
+                let found = match self.solved.get(&shape) {
+                    Some(found) => *found,
+                    None => {
+                        meter.charge(devices, Work::Delays)?;
+                        let found = moments(self.circuit, &shape, self.widths)?;
+                        self.solved.insert(shape.clone(), found);
+                        found
+                    }
+                };
+                let (elmore, unloaded, tree) = found.with_load(load);
+                let candidate = Candidate { elmore, resistance: None, after, shape, unloaded, tree };
+                best = Some(match best {
+                    None => candidate,
+                    Some(mut held) => {
+                        let mut candidate = candidate;
+                        if self.slower(&mut candidate, &mut held, kind) { candidate } else { held }
+                    }
+                });
+            }
         }
+        Ok(best.map(|b| Transition {
+            input,
+            edge,
+            after: b.after,
+            shape: b.shape,
+            elmore: b.elmore,
+            unloaded: b.unloaded,
+            tree: b.tree,
+            search: EVERY_VECTOR,
+        }))
     }
-    Ok(worst)
+
+    /// Whether `candidate` (a later vector) beats `held`: a slower delay, or a tie and a larger
+    /// resistance after the switch.
+    fn slower(&self, candidate: &mut Candidate, held: &mut Candidate, kind: NetworkKind) -> bool {
+        let scale = candidate.elmore.abs().max(held.elmore.abs());
+        if candidate.elmore > held.elmore + TIE * scale {
+            return true;
+        }
+        if candidate.elmore < held.elmore - TIE * scale {
+            return false;
+        }
+        let candidate_r = self.resistance(candidate, kind);
+        let held_r = self.resistance(held, kind);
+        candidate_r > held_r + TIE * candidate_r.max(held_r)
+    }
+
+    /// The resistance of what conducts in `kind`'s network after the switch (sizing widths).
+    fn resistance(&self, candidate: &mut Candidate, kind: NetworkKind) -> f64 {
+        *candidate.resistance.get_or_insert_with(|| {
+            let sized = &self.stage.networks[kind];
+            let resistance = self.plan.resistances(kind, &sized.widths);
+            let on = sized.network.on_devices(&candidate.after);
+            paths::effective_resistance(&sized.network, &resistance, &on).unwrap_or(f64::INFINITY)
+        })
+    }
+}
+
+/// A transition the rule holds while it looks at the others.
+struct Candidate {
+    elmore: f64,
+    resistance: Option<f64>,
+    after: Vec<bool>,
+    shape: Conducting,
+    unloaded: f64,
+    tree: bool,
+}
+
+/// Word `word` of the on-sets with `input` flipped, aligned with `conducts[word]`.
+fn flip(conducts: &[u64], word: usize, input: usize) -> u64 {
+    if input < 6 {
+        let shift = 1 << input;
+        let mask = vector_word(0, input);
+        ((conducts[word] & mask) >> shift) | ((conducts[word] & !mask) << shift)
+    } else {
+        conducts[word ^ (1 << (input - 6))]
+    }
 }
 
 /// Every input vector (the values after the switch) under which `input`, going to its on-level,

@@ -113,7 +113,8 @@ fn simulate(text: &str, method: Method, process_path: &str, process: &Process, e
     let found = |name: &str| -> f64 {
         *measured.get(name).unwrap_or_else(|| panic!("{text} ({}): no measurement {name} in\n{output}", method.name()))
     };
-    transitions(&gate)
+    transitions(&gate, process.load_ff)
+        .expect("the deck's transitions")
         .into_iter()
         .map(|transition| {
             let input = &gate.logic.inputs[transition.input];

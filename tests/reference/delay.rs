@@ -10,9 +10,12 @@ use widthwise::expr::read_gate;
 use widthwise::figures::CellFigures;
 use widthwise::network::Network;
 use widthwise::optimize::geometric::{self, Outcome, Program};
+use widthwise::paths;
 use widthwise::process::Process;
 use widthwise::size_text;
 use widthwise::sizing::{Conditions, Load, Method, Order, Plan, elmore};
+use widthwise::timing::circuit::{Circuit, flat_widths};
+use widthwise::timing::transition::{EVERY_VECTOR, time_vector};
 use widthwise::timing::{self, Delay, Edge, ProcessUnits, Timing};
 
 use super::support::{ngspice_available, scipy_available};
@@ -104,30 +107,162 @@ fn parallel_branches_are_solved_not_treed() {
     // off the output through two parallel devices (not a tree) and was charged with it. The output's
     // first moment is R_c x (all charged capacitance): 1 x (load 4 + output 10 + n1 6) = 20 RC
     // (worked by hand from the Elmore model; parallel branches off the output's path do not change
-    // the resistance shared with it; common practice, no source).
+    // the resistance shared with it; common practice, no source). That vector is timed here as it
+    // is (the worst-transition rule picks a slower one, a = 0: see the next test).
     // The written order of oai21's pull-down is (a | b) then c.
     let written = Network::pair(&read_gate("oai21").unwrap());
     assert_eq!(describe(&written.pull_down), "pull-down: (MN1 | MN2) - MN3");
     let gate = size_text("oai21", &Plan { order: Order::Written, ..options(Method::LongestPath) }).unwrap();
-    let timing = timed(&gate, Load::Fanout(1.0), 1.0);
-    let rise = find(&timing, "c", Edge::Rise);
+    let circuit = Circuit::new(gate.stage(), &gate.plan, 1.0);
+    let widths = flat_widths(gate.stage());
+    let rise = time_vector(&circuit, &widths, 2, Edge::Rise, vec![true, true, false], 4.0, EVERY_VECTOR).unwrap();
     assert!(!rise.tree);
-    assert!((rise.elmore_rc - 20.0).abs() < 1e-9, "{}", rise.elmore_rc);
+    assert!((rise.elmore - 20.0).abs() < 1e-9, "{}", rise.elmore);
+    // The rule's own choice for c rising: a = 0 turns MP1 on as well, and p1 (4 C, charged low
+    // through MP1 before the switch) hangs off the output too: 1 x (4 + 10 + 6 + 4) = 24 RC (by hand).
+    let timing = timed(&gate, Load::Fanout(1.0), 1.0);
+    let rule = find(&timing, "c", Edge::Rise);
+    assert_eq!(rule.vector.to_string(), "a=0 b=1 c=0");
+    assert!((rule.elmore_rc - 24.0).abs() < 1e-9, "{}", rule.elmore_rc);
+}
+
+#[test]
+fn the_worst_transition_charges_every_side_branch_it_can() {
+    // !(a & (b | c & d)), longest-path, mu = 2, fan-out 1, diffusion ratio 1 (docs/model.md
+    // sections 5 and 7; worked by hand, no published source). NMOS a 3, b 2, c 3, d 3 (the longest
+    // path a-c-d has 3 devices); PMOS a 2, b 4, c 4, d 4. Default order: MN1 (a) at the output,
+    // then n1, then MN2 (b) to vss beside MN3 (c) - n2 - MN4 (d) to vss; MP2 (b) at the output over
+    // p1 and MP3 | MP4. Capacitances: y = 3 + 2 + 4 = 9 C (drains of MN1, MP1, MP2), n1 = 3 + 2 + 3
+    // = 8 C (three terminals), n2 = max(3, 3) = 3 C (shared by MN3 and MN4); the load is C_in(b) =
+    // 2 + 4 = 6 C. Input b rising, output falling through MN1 (R/3) and MN2 (R/2), a = 1 and the
+    // c-d branch off, so (c, d) is 00, 10 or 01:
+    //   c = 0, d = 0: y (9 + 6) x (1/3 + 1/2) + n1 8 x 1/2 = 12.5 + 4 = 16.5 RC;
+    //   c = 1, d = 0: MN3 on hangs n2 (charged high through MN3, MN1 before the switch) off n1,
+    //                 sharing MN2 with the output: 16.5 + 3 x 1/2 = 18 RC, the slowest;
+    //   c = 0, d = 1: MN4 holds n2 at ground, cut from the output: 16.5 RC.
+    // The rule takes 18 RC at c = 1 (the weakest path's lone vector gave 16.5, 9% less).
+    let gate = sized("!(a & (b | c & d))");
+    let timing = timed(&gate, Load::Fanout(1.0), 1.0);
+    let fall = find(&timing, "b", Edge::Fall);
+    assert!((fall.elmore_rc - 18.0).abs() < 1e-9, "{}", fall.elmore_rc);
+    assert_eq!(fall.vector.to_string(), "a=1 b=1 c=1 d=0");
+    assert_eq!(fall.internal_nodes, ["n1", "n2"]);
+    assert_eq!(fall.search, EVERY_VECTOR);
+    // The lone vector, timed as it is: 16.5 RC.
+    let circuit = Circuit::new(gate.stage(), &gate.plan, 1.0);
+    let widths = flat_widths(gate.stage());
+    let lone = time_vector(&circuit, &widths, 1, Edge::Fall, vec![true, true, false, false], 6.0, EVERY_VECTOR);
+    assert!((lone.unwrap().elmore - 16.5).abs() < 1e-9);
+}
+
+/// Every vector of the inputs under which `input` switches the output on `edge`, by the function's
+/// own truth table (the pull-down conducts where f is true): before the switch the output is at the
+/// old level, after it at the new one.
+fn switching(gate: &SizedCell, input: usize, edge: Edge) -> Vec<Vec<bool>> {
+    let function = &gate.stage().function;
+    let count = function.inputs.len();
+    let on_level = edge == Edge::Fall;
+    (0u32..1 << count)
+        .map(|bits| (0..count).map(|i| bits >> i & 1 == 1).collect::<Vec<bool>>())
+        .filter(|after| {
+            let mut before = after.clone();
+            before[input] = !on_level;
+            let pulls = |values: &[bool]| function.evaluate(values) == on_level;
+            after[input] == on_level && pulls(after) && !pulls(&before)
+        })
+        .collect()
+}
+
+#[test]
+fn the_rule_is_the_slowest_over_every_side_input_vector() {
+    // Brute force, written here: every side-input vector under which each input switches the output
+    // (from the truth table), each timed as it is; the rule's delay is the largest, and its vector the
+    // first of those within 1e-9 of it that has the largest resistance after the switch, vectors
+    // ordered by their on-set (input k as bit k, set where it turns its devices in the switching
+    // network on). Gates with side branches, parallel paths and repeated inputs.
+    for text in [
+        "aoi21",
+        "oai22",
+        "!(a & (b | c & d))",
+        "!(a & b | a & c)",
+        "!((a | b) & (a | c))",
+        "aoi221",
+        "!(a & (b | c) | d & (e | a))",
+    ] {
+        for (load, ratio) in [(Load::Fanout(1.0), 1.0), (Load::Units(7.0), 0.5), (Load::Units(3.0), 0.0)] {
+            for method in [Method::LongestPath, Method::MIN_AREA] {
+                let gate = size_text(text, &options(method)).unwrap();
+                let timing = timed(&gate, load, ratio);
+                let stage = gate.stage();
+                let circuit = Circuit::new(stage, &gate.plan, ratio);
+                let widths = flat_widths(stage);
+                for (input, name) in stage.function.inputs.iter().enumerate() {
+                    for edge in Edge::BOTH {
+                        let load_c =
+                            timing.delays.iter().find(|d| d.input == *name).map(|d| d.load_c).unwrap_or_default();
+                        let kind = edge.network();
+                        let network = &stage.networks[kind];
+                        let resistance = gate.plan.resistances(kind, &network.widths);
+                        let mut every: Vec<(u64, f64, f64, Vec<bool>)> = switching(&gate, input, edge)
+                            .into_iter()
+                            .map(|after| {
+                                let timed =
+                                    time_vector(&circuit, &widths, input, edge, after.clone(), load_c, EVERY_VECTOR)
+                                        .unwrap();
+                                let on = network.network.on_devices(&after);
+                                let r = paths::effective_resistance(&network.network, &resistance, &on).unwrap();
+                                let on_set = after
+                                    .iter()
+                                    .enumerate()
+                                    .filter(|(_, v)| **v == (edge == Edge::Fall))
+                                    .map(|(i, _)| 1u64 << i)
+                                    .sum();
+                                (on_set, timed.elmore, r, after)
+                            })
+                            .collect();
+                        let found = timing.delays.iter().find(|d| d.input == *name && d.edge == edge);
+                        if every.is_empty() {
+                            assert!(found.is_none(), "{text} {name} {edge:?}: no switching vector, yet a delay");
+                            continue;
+                        }
+                        let found = found.unwrap_or_else(|| panic!("{text} {name} {edge:?}: no delay"));
+                        let slowest = every.iter().map(|e| e.1).fold(f64::NEG_INFINITY, f64::max);
+                        assert!((found.elmore_rc - slowest).abs() <= 1e-9 * slowest, "{text} {name} {edge:?}");
+                        every.retain(|e| e.1 >= slowest * (1.0 - 1e-9));
+                        let largest = every.iter().map(|e| e.2).fold(f64::NEG_INFINITY, f64::max);
+                        every.retain(|e| e.2 >= largest * (1.0 - 1e-9));
+                        every.sort_by_key(|e| e.0);
+                        let expected: Vec<(String, bool)> =
+                            stage.function.inputs.iter().cloned().zip(every[0].3.iter().copied()).collect();
+                        assert_eq!(found.vector.values, expected, "{text} {name} {edge:?} {method:?} {load:?}");
+                    }
+                }
+            }
+        }
+    }
 }
 
 #[test]
 fn stack_order_search_finds_the_faster_oai21() {
-    // OAI21, longest-path, fan-out 1. Default order puts MN3 (c, the least diffusion facing the
-    // output) at the output; the worst transition is b rising: output (load 6 + 8) x R + p1 4 x R/2
-    // + n1 (hanging through MN3, charged) 6 x R = 22 RC. With MN3 at the rail, n1 stays at ground
-    // for b rising (18 RC) and the worst becomes c rising, 20 RC (both worked by hand from the
-    // Elmore model; no published source): a gain of 2/22.
-    let plan = Plan { order: Order::Search { critical: None }, ..options(Method::LongestPath) };
+    // OAI21, longest-path (NMOS 2, PMOS a, b 4, c 2), fan-out 4: loads 24 C on a and b (C_in 6),
+    // 16 C on c (C_in 4). Default order: MN3 (c, the least diffusion facing the output) at the
+    // output, y = 2 + 4 + 2 = 8 C, n1 = 6 C under it, p1 = 4 C between MP1 (a) and MP2 (b). The worst
+    // transition is b rising (a = 0, c = 1): y (24 + 8) x R through MP1 and MP2 (R/2 each), p1 4 x R/2,
+    // and n1 hanging off y through MN3, charged low before the switch, 6 x R: 32 + 2 + 6 = 40 RC.
+    // With MN3 at the rail (y = 2 + 2 + 4 + 2 = 10 C) n1 sits on MN3 at ground for every pull-up
+    // transition, and the worst becomes b falling (a = 0, c = 1): y (24 + 10) x (R/2 + R/2), p1 (charged
+    // high, hanging off y through MP1) 4 x R: 34 + 4 = 38 RC (all worked by hand from the Elmore
+    // model, docs/model.md section 7; no published source): a gain of 2/40.
+    let plan = Plan {
+        order: Order::Search { critical: None },
+        conditions: Conditions { load: Load::Fanout(4.0), diffusion_ratio: 1.0 },
+        ..options(Method::LongestPath)
+    };
     let gate = size_text("oai21", &plan).unwrap();
     let report = gate.search.clone().unwrap();
-    assert!((report.default_value - 22.0).abs() < 1e-9, "{}", report.default_value);
-    assert!((report.chosen_value - 20.0).abs() < 1e-9, "{}", report.chosen_value);
-    assert!((report.gain_percent - 100.0 * 2.0 / 22.0).abs() < 1e-9);
+    assert!((report.default_value - 40.0).abs() < 1e-9, "{}", report.default_value);
+    assert!((report.chosen_value - 38.0).abs() < 1e-9, "{}", report.chosen_value);
+    assert!((report.gain_percent - 100.0 * 2.0 / 40.0).abs() < 1e-9);
     assert_eq!(describe(&gate.stage().networks.pull_down.network), "pull-down: (MN1 | MN2) - MN3");
 }
 

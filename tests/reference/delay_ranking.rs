@@ -83,7 +83,7 @@ fn compare(text: &str, path: &str, process: &Process) -> (Vec<Row>, Vec<String>)
     let deck = widthwise(&["deck", text, "--process", path, "--diffusion-capacitance"]);
     let mut probes = String::new();
     let mut expected = Vec::new();
-    let transitions = transitions(&gate);
+    let transitions = transitions(&gate, process.load_ff).unwrap();
     for (index, transition) in transitions.iter().enumerate() {
         let tag = format!("t{}", index + 1);
         let input = &gate.logic.inputs[transition.input];
