@@ -153,8 +153,30 @@ pub struct CellFigures {
     /// Drawn area, um^2: the sum over devices of drawn width x length, the channel areas. Not a
     /// layout's area: no diffusions, spacing or wiring.
     pub area_um2: f64,
+    /// The same figures from the drawn W/L, where snapping moves some device's W/L by more than
+    /// [`DRAWN_CHANGE_PERCENT`].
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub drawn: Option<DrawnFigures>,
     /// The process the drawn sizes come from.
     pub process: Arc<Process>,
+}
+
+/// Snapping that moves a device's W/L by more than this, in percent, puts the drawn figures beside
+/// the sized ones.
+pub const DRAWN_CHANGE_PERCENT: f64 = 0.5;
+
+/// Figures worked out from the drawn W/L (drawn width over the unit width), by the same rules as the
+/// sized ones (docs/model.md section 6).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct DrawnFigures {
+    /// The largest change snapping makes to a device's W/L, percent of its sized W/L.
+    pub largest_change_percent: f64,
+    /// Every input's capacitance and logical effort from the drawn W/L.
+    pub inputs: Vec<InputFigures>,
+    /// Parasitic delay from the drawn W/L.
+    pub parasitic_delay: f64,
+    /// Sum of all drawn W/L.
+    pub total_w_over_l: f64,
 }
 
 impl CellFigures {
@@ -208,6 +230,7 @@ impl CellFigures {
         let total: f64 = stage.networks.values().flat_map(|n| &n.widths).sum();
         let other = plan.method.other();
         let other_total = other_total(stage, plan, other);
+        let drawn = drawn_figures(stage, plan, &transistors);
         CellFigures {
             name: cell.name.clone(),
             expression: function.text.clone(),
@@ -232,9 +255,50 @@ impl CellFigures {
             },
             total_drawn_width_um,
             area_um2,
+            drawn,
             process: Arc::clone(process),
         }
     }
+}
+
+/// The drawn figures, where snapping moves some device by more than [`DRAWN_CHANGE_PERCENT`].
+fn drawn_figures(stage: &SizedStage, plan: &Plan, transistors: &[Transistor]) -> Option<DrawnFigures> {
+    let change = transistors.iter().map(|t| (t.drawn_w_over_l / t.w_over_l - 1.0).abs() * 100.0).fold(0.0, f64::max);
+    if change.is_nan() || change <= DRAWN_CHANGE_PERCENT {
+        return None;
+    }
+    let reference_capacitance = plan.reference_capacitance();
+    let unit_ff = plan.process.unit_capacitance_ff();
+    let mut capacitance = vec![0.0; stage.function.inputs.len()];
+    let mut output = 0.0;
+    // The transistors come network by network, each in device order.
+    let (down, up) = transistors.split_at(stage.networks.pull_down.widths.len());
+    for (sized, drawn) in stage.networks.values().zip([down, up]) {
+        for ((&input, terminals), transistor) in sized.network.inputs.iter().zip(&sized.terminals).zip(drawn) {
+            capacitance[input] += transistor.drawn_w_over_l;
+            if terminals.drain == stage.function.output {
+                output += transistor.drawn_w_over_l;
+            }
+        }
+    }
+    let inputs = stage
+        .function
+        .inputs
+        .iter()
+        .zip(&capacitance)
+        .map(|(name, &c)| InputFigures {
+            name: name.clone(),
+            input_capacitance: c,
+            input_capacitance_ff: c * unit_ff,
+            logical_effort: c / reference_capacitance,
+        })
+        .collect();
+    Some(DrawnFigures {
+        largest_change_percent: change,
+        inputs,
+        parasitic_delay: output / reference_capacitance,
+        total_w_over_l: transistors.iter().map(|t| t.drawn_w_over_l).sum(),
+    })
 }
 
 /// The total W/L the path method `method` gives the stage (the elmore method has no closed form:

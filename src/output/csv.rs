@@ -9,8 +9,10 @@ use super::{CellReport, Rows};
 
 /// Columns of the gates view, in order: one tidy row per sized cell (variant), with what cells are
 /// compared by. Units are in the names (`_um`, `_um2`, `_c` for unit-NMOS gate capacitances, `_ff`,
-/// `_r` for unit-NMOS on-resistances, `_percent`); the rest are dimensionless or text (README).
-pub const GATE_COLUMNS: [&str; 34] = [
+/// `_r` for unit-NMOS on-resistances, `_percent`); the rest are dimensionless or text (README). The
+/// `drawn_` columns give the same figures from the drawn W/L where snapping moves some device's W/L
+/// by more than 0.5% (else they are empty).
+pub const GATE_COLUMNS: [&str; 38] = [
     "gate",
     "expression",
     "output",
@@ -45,6 +47,10 @@ pub const GATE_COLUMNS: [&str; 34] = [
     "drawn_worst_pull_up_r",
     "pull_up_error_percent",
     "process",
+    "drawn_change_percent",
+    "drawn_max_input_cap_c",
+    "drawn_parasitic_delay",
+    "drawn_total_w_over_l",
 ];
 
 /// Columns of the devices view, in order: keys to join on (the variant, its drive and method, the
@@ -72,9 +78,19 @@ pub const DEVICE_COLUMNS: [&str; 18] = [
     "gate_cap_ff",
 ];
 
-/// Columns of the inputs view, in order.
-pub const INPUT_COLUMNS: [&str; 7] =
-    ["gate", "drive", "method", "input", "input_cap_c", "input_cap_ff", "logical_effort"];
+/// Columns of the inputs view, in order. The `drawn_` columns are filled where snapping moves some
+/// device of the gate by more than 0.5% (else empty), as the gates view's.
+pub const INPUT_COLUMNS: [&str; 9] = [
+    "gate",
+    "drive",
+    "method",
+    "input",
+    "input_cap_c",
+    "input_cap_ff",
+    "logical_effort",
+    "drawn_input_cap_c",
+    "drawn_logical_effort",
+];
 
 /// A number by the one rule of every format ([`crate::number`]).
 fn value(number: f64) -> String {
@@ -152,6 +168,15 @@ fn gates_view(reports: &[CellReport], rows: Rows, out: &mut dyn Write) -> csv::R
                     record.extend(network_cells(network));
                 }
                 record.push(gate.process.name.clone());
+                match &gate.drawn {
+                    Some(drawn) => record.extend([
+                        value(drawn.largest_change_percent),
+                        value(extremes(drawn.inputs.iter().map(|i| i.input_capacitance)).0),
+                        value(drawn.parasitic_delay),
+                        value(drawn.total_w_over_l),
+                    ]),
+                    None => record.extend(std::iter::repeat_n(String::new(), 4)),
+                }
                 writer.write_record(&record)?;
             }
         }
@@ -187,7 +212,8 @@ fn gates_view(reports: &[CellReport], rows: Rows, out: &mut dyn Write) -> csv::R
         Rows::Inputs => {
             writer.write_record(INPUT_COLUMNS)?;
             for gate in gates {
-                for input in &gate.inputs {
+                for (index, input) in gate.inputs.iter().enumerate() {
+                    let drawn = gate.drawn.as_ref().map(|d| &d.inputs[index]);
                     writer.write_record([
                         gate.name.clone(),
                         value(gate.drive),
@@ -196,6 +222,8 @@ fn gates_view(reports: &[CellReport], rows: Rows, out: &mut dyn Write) -> csv::R
                         value(input.input_capacitance),
                         value(input.input_capacitance_ff),
                         value(input.logical_effort),
+                        drawn.map(|d| value(d.input_capacitance)).unwrap_or_default(),
+                        drawn.map(|d| value(d.logical_effort)).unwrap_or_default(),
                     ])?;
                 }
             }

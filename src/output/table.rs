@@ -145,6 +145,20 @@ fn write_gate(report: &CellReport, out: &mut dyn Write) -> io::Result<()> {
         vec!["drawn area".to_string(), format!("{} um^2 (sum of drawn W x L: channels only)", number(gate.area_um2))],
     ];
     write_columns(&rows, out)?;
+    if let Some(drawn) = &gate.drawn {
+        writeln!(
+            out,
+            "\ndrawn (snapping moves a device's W/L by up to {}%: the same figures from the drawn W/L)",
+            number(drawn.largest_change_percent)
+        )?;
+        let mut rows = vec![strings(["input", "C in (unit C)", "C in (fF)", "logical effort"])];
+        rows.extend(drawn.inputs.iter().map(|i| {
+            vec![i.name.clone(), number(i.input_capacitance), number(i.input_capacitance_ff), number(i.logical_effort)]
+        }));
+        rows.push(vec!["parasitic delay".to_string(), number(drawn.parasitic_delay)]);
+        rows.push(vec!["total W/L".to_string(), number(drawn.total_w_over_l)]);
+        write_columns(&rows, out)?;
+    }
     if let Some(delays) = &report.delays {
         super::delays::write_table(delays, out)?;
     }

@@ -261,10 +261,12 @@ fn csv_views_have_the_documented_columns() {
                  total_drawn_width_um,length_um,mobility_ratio,reference_nmos_w_over_l,reference_pmos_w_over_l,\
                  pull_down_target_r,worst_pull_down_r,pull_down_vector,best_pull_down_r,pull_down_paths,\
                  drawn_worst_pull_down_r,pull_down_error_percent,pull_up_target_r,worst_pull_up_r,pull_up_vector,\
-                 best_pull_up_r,pull_up_paths,drawn_worst_pull_up_r,pull_up_error_percent,process";
+                 best_pull_up_r,pull_up_paths,drawn_worst_pull_up_r,pull_up_error_percent,process,\
+                 drawn_change_percent,drawn_max_input_cap_c,drawn_parasitic_delay,drawn_total_w_over_l";
     let devices = "gate,drive,method,device,type,network,input,drain,source,w_over_l,width_um,drawn_w_over_l,\
                    drawn_width_um,fingers,per_finger_width_um,area_um2,gate_cap_c,gate_cap_ff";
-    let inputs = "gate,drive,method,input,input_cap_c,input_cap_ff,logical_effort";
+    let inputs = "gate,drive,method,input,input_cap_c,input_cap_ff,logical_effort,drawn_input_cap_c,\
+                  drawn_logical_effort";
     for (rows, header) in [("gates", gates), ("devices", devices), ("inputs", inputs)] {
         let (found, records) = batch_csv(&library, rows);
         assert_eq!(found.join(","), header, "{rows}");

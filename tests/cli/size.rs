@@ -331,3 +331,44 @@ fn a_leading_byte_order_mark_is_skipped_everywhere() {
     let stderr = String::from_utf8(output.stderr).unwrap();
     assert!(stderr.contains("line 17, column 11"), "{stderr}");
 }
+
+#[test]
+fn drawn_figures_stand_beside_the_sized_ones_where_snapping_moves_a_device() {
+    // Min-area '!(a & (b | c))' on the tern8 process (0.5 um unit width, 10 nm grid): NMOS b and c
+    // are 1 + sqrt 2 / 2 = 1.7071 (docs/model.md section 5), 853.6 nm, drawn 860 nm: 0.75% more.
+    let process = concat!(env!("CARGO_MANIFEST_DIR"), "/examples/tern8-process.toml");
+    let args = ["size", "!(a & (b | c))", "--method", "min-area", "--process", process];
+    let output = widthwise().args(args).args(["--format", "json"]).output().unwrap();
+    let gate: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    let drawn = &gate["drawn"];
+    let transistors = gate["transistors"].as_array().unwrap();
+    let change = transistors
+        .iter()
+        .map(|t| (t["drawn_w_over_l"].as_f64().unwrap() / t["w_over_l"].as_f64().unwrap() - 1.0).abs() * 100.0)
+        .fold(0.0, f64::max);
+    assert!(change > 0.5 && (drawn["largest_change_percent"].as_f64().unwrap() - change).abs() < 1e-6, "{drawn}");
+    // Each input's capacitance is the W/L of the devices it gates (docs/model.md section 6), here the
+    // drawn W/L; the logical effort divides by the reference inverter's, 1 + 2.5 = 3.5 C.
+    for input in drawn["inputs"].as_array().unwrap() {
+        let gated: f64 = transistors
+            .iter()
+            .filter(|t| t["input"] == input["name"])
+            .map(|t| t["drawn_w_over_l"].as_f64().unwrap())
+            .sum();
+        assert!((input["input_capacitance"].as_f64().unwrap() - gated).abs() < 1e-9, "{input}");
+        assert!((input["logical_effort"].as_f64().unwrap() - gated / 3.5).abs() < 1e-9, "{input}");
+    }
+    let total: f64 = transistors.iter().map(|t| t["drawn_w_over_l"].as_f64().unwrap()).sum();
+    assert!((drawn["total_w_over_l"].as_f64().unwrap() - total).abs() < 1e-9);
+    // The table and the CSV views say the same.
+    widthwise().args(args).assert().success().stdout(predicate::str::contains("\ndrawn (snapping moves"));
+    let csv = widthwise().args(args).args(["--format", "csv", "--rows", "inputs"]).output().unwrap();
+    let mut reader = csv::Reader::from_reader(csv.stdout.as_slice());
+    for record in reader.records() {
+        assert!(!record.unwrap()[7].is_empty(), "drawn_input_cap_c is filled");
+    }
+    // On the built-in process (1 um unit width, 5 nm grid) no device of a NAND2 moves: no drawn figures.
+    let output = widthwise().args(["size", "nand2", "--format", "json"]).output().unwrap();
+    let gate: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
+    assert!(gate.get("drawn").is_none());
+}
