@@ -9,21 +9,21 @@
 
 use std::io::{self, Write};
 
-use crate::budget::Meter;
-use crate::cell::{SizedCell, device_name};
+use crate::cell::SizedCell;
 use crate::diagnostic::escaped;
 use crate::figures::{CellFigures, node_diffusions};
 use crate::network::NetworkKind;
-use crate::paths;
 use crate::process::Process;
-use crate::sizing::plan::{Conditions, Load};
-use crate::timing::TimingError;
-use crate::timing::circuit::{chain, conducting_devices};
-use crate::timing::delays::worst_transitions;
 use crate::timing::transition::WEAKEST_PATH;
 
 use super::number;
 use super::spice::{mosfet_line, transistor_line};
+
+mod physics;
+mod transitions;
+
+use physics::{TimeScale, femtofarads, reference_devices, seconds};
+pub use transitions::{Transition, transitions};
 
 /// Where the deck's device models come from.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -122,29 +122,6 @@ pub struct DeckOptions {
     pub load_ff: f64,
 }
 
-/// One worst-case transition of the gate: `input` toggles, the output moves through `kind`'s network.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Transition {
-    /// The toggling input (index into the gate's inputs).
-    pub input: usize,
-    /// Pull-down: the output falls; pull-up: it rises.
-    pub kind: NetworkKind,
-    /// Every input's value after the toggle (the input at its on-level, side inputs held).
-    pub vector: Vec<bool>,
-    /// Resistance of what conducts after the toggle, units of R (sizing widths).
-    pub resistance: f64,
-    /// The same with the drawn (snapped) widths, which is what a simulator sees.
-    pub drawn_resistance: f64,
-    /// The devices of the toggling network that conduct after the toggle, output side first.
-    pub conducting: Vec<String>,
-    /// Whether they are one chain from the output to the rail (else side branches or parallel paths
-    /// conduct too).
-    pub one_path: bool,
-    /// How the rule found it ([`crate::timing::transition::EVERY_VECTOR`], or past 16 inputs its
-    /// fallback, the weakest path alone).
-    pub search: &'static str,
-}
-
 /// Most input occurrences per network a deck is written for: each of the 2n transitions holds a
 /// source per input, so the deck grows with the square of the gate (256 occurrences: about 5 MB).
 pub const MAX_DECK_OCCURRENCES: usize = 256;
@@ -167,51 +144,6 @@ pub fn reference_measure(kind: NetworkKind) -> String {
     format!("tpd_{}_ref", edge(kind))
 }
 
-/// Every input's worst-case transition, input by input, output falling then rising: the one rule
-/// of the delays ([`crate::timing::transition`]) with the deck's own capacitance model (the
-/// process's diffusion capacitance over its gate capacitance per um, whether or not the deck writes
-/// the diffusion capacitors, and the deck's load `load_ff`, in C); an input with no transition
-/// (its toggling never moves the output) is left out. Where the process's gate capacitance is 0,
-/// so neither has a value in C, the transitions are ranked by resistance alone.
-pub fn transitions(cell: &SizedCell, load_ff: f64) -> Result<Vec<Transition>, TimingError> {
-    let plan = &cell.plan;
-    let process = &plan.process;
-    let stage = cell.stage();
-    let ratio = process.diffusion_cap_ff_per_um / process.gate_cap_ff_per_um;
-    let load = load_ff / process.unit_capacitance_ff();
-    let conditions = if ratio.is_finite() && load.is_finite() {
-        Conditions { load: Load::Units(load), diffusion_ratio: ratio }
-    } else {
-        Conditions { load: Load::Units(1.0), diffusion_ratio: 0.0 }
-    };
-    let (circuit, found) = worst_transitions(stage, plan, &conditions, &Meter::new(plan.budget))?;
-    let mut out = Vec::new();
-    for (input, edge, _, transition) in found {
-        let Some(transition) = transition else { continue };
-        let kind = edge.network();
-        let sized = &stage.networks[kind];
-        let on = sized.network.on_devices(&transition.after);
-        let effective = |widths: &[f64]| {
-            let resistance = plan.resistances(kind, widths);
-            paths::effective_resistance(&sized.network, &resistance, &on).unwrap_or(f64::INFINITY)
-        };
-        let conducting = conducting_devices(&circuit, &transition.shape, kind);
-        let chain = if transition.tree { chain(&circuit, &transition.shape) } else { None };
-        let one_path = chain.is_some_and(|chain| chain.len() == conducting.len());
-        out.push(Transition {
-            input,
-            kind,
-            resistance: effective(&sized.widths),
-            drawn_resistance: effective(&sized.drawn_widths(process)),
-            conducting: conducting.iter().map(|&d| device_name(kind, circuit.devices[d].index)).collect(),
-            one_path,
-            search: transition.search,
-            vector: transition.after,
-        });
-    }
-    Ok(out)
-}
-
 /// Diffusion width on every node that is not a rail, in um, in order of first appearance, by the
 /// rule the delay stage uses too ([`crate::figures::NodeDiffusion`]): each device has a drain and a
 /// source diffusion as wide as its drawn width; a node joining exactly two devices (not the output)
@@ -221,38 +153,6 @@ pub fn node_diffusion_um(devices: &[(&str, &str, f64)], output: &str) -> Vec<(St
     let terminals: Vec<(&str, &str)> = devices.iter().map(|&(drain, source, _)| (drain, source)).collect();
     let widths: Vec<f64> = devices.iter().map(|&(_, _, width)| width).collect();
     node_diffusions(&terminals, output).into_iter().map(|(name, rule)| (name, rule.width(&widths))).collect()
-}
-
-/// The reference inverter as drawn: NMOS and PMOS (fingers, finger width nm).
-fn reference_devices(gate: &CellFigures) -> [(usize, f64); 2] {
-    let process = &gate.process;
-    [gate.reference_nmos_w_over_l, gate.reference_pmos_w_over_l].map(|w| {
-        let drawn = process.draw(w);
-        (drawn.fingers, drawn.finger_width_nm)
-    })
-}
-
-/// Saturation current of a device of drawn width `width_nm` at full gate drive, A (level 1:
-/// KP/2 x W/L x (supply - threshold)^2).
-fn saturation_current(process: &Process, kind: NetworkKind, width_nm: f64) -> f64 {
-    let (kp, threshold) = match kind {
-        NetworkKind::PullDown => (process.nmos_kp_ua_per_v2, process.nmos_threshold_v),
-        NetworkKind::PullUp => (process.pmos_kp_ua_per_v2, process.pmos_threshold_v),
-    };
-    let overdrive = process.supply_v - threshold;
-    kp * 1e-6 / 2.0 * (width_nm / process.length_nm) * overdrive * overdrive
-}
-
-/// A time in seconds as SPICE reads it: a stimulus time, chosen to four significant digits, then
-/// written by the one rule of every number ([`crate::number`]).
-fn seconds(value: f64) -> String {
-    let chosen: f64 = format!("{value:.3e}").parse().unwrap_or(value);
-    number(chosen)
-}
-
-/// A capacitance in fF as SPICE reads it.
-fn femtofarads(value: f64) -> String {
-    format!("{}f", number(value))
 }
 
 /// Write the deck.
@@ -288,17 +188,7 @@ pub fn write_deck(
     if options.diffusion_capacitance {
         load_ff += gate_diffusion.iter().map(|(_, w)| w).sum::<f64>() * process.diffusion_cap_ff_per_um;
     }
-    let slowest = NetworkKind::BOTH
-        .into_iter()
-        .zip(reference)
-        .map(|(kind, (fingers, finger))| {
-            load_ff * 1e-15 * (supply / 2.0) / saturation_current(process, kind, fingers as f64 * finger)
-        })
-        .fold(0.0, f64::max);
-    let rise = slowest / 1000.0;
-    let start = slowest / 20.0;
-    let stop = start + 20.0 * slowest;
-    let step = slowest / 200.0;
+    let TimeScale { rise, start, stop, step } = TimeScale::of(process, reference, load_ff);
 
     writeln!(out, "* widthwise simulation deck: {}: {} = {}", gate.name, gate.output, gate.expression)?;
     writeln!(out, "* {}; process: {}", super::sizing_line(gate), process.name)?;

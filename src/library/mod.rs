@@ -9,42 +9,43 @@
 //! file, not with the output. Nothing here touches a file: a process file the library names is read
 //! through a reader the caller supplies.
 
-use std::collections::{HashMap, HashSet};
-use std::fmt;
+pub mod entries;
+pub mod error;
+pub mod plan;
+
+use std::collections::HashMap;
 use std::io;
 use std::ops::Range;
 use std::path::Path;
 use std::sync::Arc;
 
 use serde::Deserialize;
-use serde::de::{SeqAccess, Visitor};
-use thiserror::Error;
-use toml::Spanned;
 use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
 use crate::bounds;
 use crate::cell::SizedCell;
-use crate::diagnostic::{Diagnostic, Source, Span, escaped};
+use crate::diagnostic::{Source, Span, escaped};
 use crate::expr::read_gate_with_models;
 use crate::figures::CellFigures;
-use crate::io::InputError;
 use crate::logic::read_cell;
 use crate::names;
-use crate::process::{Process, ProcessError, ProcessFile};
-use crate::sizing::{self, Method, MethodName, Order, Plan, Reference, SizingError, StackOrder};
+use crate::process::Process;
+use crate::sizing::{self, MethodName, StackOrder};
 use crate::verify::{self, VerifyOptions};
+
+use entries::{
+    Common, DefaultsEntry, check_drives, check_reference, check_stack_order, read_gate_entry, read_process,
+    repeated_drive, taken, to_span,
+};
+pub use entries::{MAX_DRIVES_PER_GATE, Overrides, ReadFile};
+pub use error::LibraryError;
+pub use plan::{GatePlan, GateProblem, Place};
 
 /// The drive of a gate that neither it nor `[defaults]` sets.
 pub const DEFAULT_DRIVE: f64 = 1.0;
-/// Why a library sizes by longest-path or min-area only.
-const ELMORE_IN_A_LIBRARY: &str = "method = \"elmore\" sizes against a load, which a library does not give: \
-                                   use \"longest-path\" or \"min-area\", or size the gate with \
-                                   'widthwise size --method elmore --fanout H'";
 
 /// Longest library file read, in bytes (a 20,000-gate library is about 1.2 MB).
 pub const MAX_LIBRARY_BYTES: usize = 64 << 20;
-/// Most drives of one gate (each is a variant), checked as the file is read.
-pub const MAX_DRIVES_PER_GATE: usize = 100_000;
 /// Most variants (gates x drives) of one library, checked before any gate is sized: six times the
 /// 33,334 variants of the 20,000-gate benchmark library.
 pub const MAX_VARIANTS: usize = 200_000;
@@ -53,340 +54,6 @@ pub const MAX_VARIANTS: usize = 200_000;
 pub const DEFAULT_METHOD: MethodName = MethodName::LongestPath;
 /// How many sized variants are held before they are written.
 const CHUNK: usize = 256;
-
-/// How a library reads a process file it names: the file's text, or why not. Supplied by the
-/// command, through the I/O layer.
-pub type ReadFile<'a> = dyn FnMut(&Path) -> Result<String, InputError> + 'a;
-
-/// Why a library file cannot be sized at all (a bad gate is that gate's [`GateProblem`] instead).
-#[derive(Debug, Error)]
-pub enum LibraryError {
-    /// Something wrong in the library file: what, and where when known.
-    #[error("{message}")]
-    File {
-        /// What is wrong.
-        message: String,
-        /// Where in the library file.
-        span: Option<Span>,
-    },
-    /// The process file the library names cannot be read.
-    #[error("cannot read the process file: {error}")]
-    ProcessUnreadable {
-        /// Why.
-        error: InputError,
-        /// The `process = "..."` value in the library file.
-        span: Span,
-    },
-    /// The process file the library names is bad.
-    #[error("{error}")]
-    ProcessFile {
-        /// What is wrong, with the key and its place in that file.
-        error: ProcessError,
-        /// The process file.
-        file: Source,
-    },
-}
-
-impl LibraryError {
-    /// A problem in the library file at `span`.
-    fn at(message: impl Into<String>, span: Option<Range<usize>>) -> LibraryError {
-        LibraryError::File { message: message.into(), span: span.map(Span::from) }
-    }
-
-    /// The error as a diagnostic, `library` being the library file it was read from.
-    pub fn diagnostic(&self, library: &Source) -> Diagnostic {
-        let message = Diagnostic::error(self.to_string());
-        match self {
-            LibraryError::File { span, .. } => message.at_or_within(library, *span),
-            LibraryError::ProcessUnreadable { span, .. } => message.at(library, *span),
-            LibraryError::ProcessFile { error, file } => message.at_or_within(file, error.span()),
-        }
-    }
-}
-
-/// What the command line sets for every gate of a library. Precedence: these, then the gate's keys,
-/// then `[defaults]`, then the process file (its mobility ratio), then the built-in defaults.
-#[derive(Debug, Clone, Default, PartialEq)]
-pub struct Overrides {
-    /// A process for every gate: the library's own `process` is then not read.
-    pub process: Option<Arc<Process>>,
-    /// The method of every gate (longest-path or min-area).
-    pub method: Option<MethodName>,
-    /// The mobility ratio every gate is sized with.
-    pub mobility_ratio: Option<f64>,
-    /// One drive for every gate, in place of the drive lists: each gate becomes one variant.
-    pub drive: Option<f64>,
-    /// The reference inverter of every gate (NMOS and PMOS W/L at drive 1).
-    pub reference: Option<Reference>,
-    /// The series-stack order of every gate (default or written).
-    pub stack_order: Option<StackOrder>,
-}
-
-/// A skewed reference inverter as written: `reference = [N, P]` or `reference = "N:P"`, the NMOS and
-/// PMOS W/L at drive 1.
-#[derive(Debug, Clone, Copy)]
-struct WrittenReference(f64, f64);
-
-impl<'de> Deserialize<'de> for WrittenReference {
-    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<WrittenReference, D::Error> {
-        struct ReferenceVisitor;
-        impl<'de> Visitor<'de> for ReferenceVisitor {
-            type Value = WrittenReference;
-            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
-                f.write_str(
-                    "the reference inverter's NMOS and PMOS W/L, as [N, P] such as [1, 3] or \"N:P\" such as \"1:3\"",
-                )
-            }
-            fn visit_str<E: serde::de::Error>(self, text: &str) -> Result<WrittenReference, E> {
-                let pair =
-                    text.split_once(':').and_then(|(n, p)| Some((n.trim().parse().ok()?, p.trim().parse().ok()?)));
-                pair.map(|(n, p)| WrittenReference(n, p))
-                    .ok_or_else(|| E::invalid_value(serde::de::Unexpected::Str(text), &self))
-            }
-            fn visit_seq<A: SeqAccess<'de>>(self, mut seq: A) -> Result<WrittenReference, A::Error> {
-                let mut values = Vec::with_capacity(2);
-                while let Some(value) = seq.next_element::<f64>()? {
-                    values.push(value);
-                }
-                match values[..] {
-                    [n, p] => Ok(WrittenReference(n, p)),
-                    _ => Err(serde::de::Error::invalid_length(values.len(), &self)),
-                }
-            }
-        }
-        deserializer.deserialize_any(ReferenceVisitor)
-    }
-}
-
-/// Check a written reference: both W/L within [`bounds::SIZING`].
-fn check_reference(written: &Spanned<WrittenReference>) -> Result<Reference, (String, Span)> {
-    let WrittenReference(nmos, pmos) = *written.get_ref();
-    for (what, value) in [("NMOS", nmos), ("PMOS", pmos)] {
-        bounds::SIZING.check(value).map_err(|why| {
-            (format!("reference: the {what} W/L {} {why}", bounds::show(value)), to_span(written.span()))
-        })?;
-    }
-    Ok(Reference { nmos, pmos })
-}
-
-/// One drive or a list of them, as written.
-#[derive(Debug, Clone)]
-enum Drives {
-    One(f64),
-    Many(Vec<Spanned<f64>>),
-}
-
-impl<'de> Deserialize<'de> for Drives {
-    fn deserialize<D: serde::Deserializer<'de>>(deserializer: D) -> Result<Drives, D::Error> {
-        struct DrivesVisitor;
-        impl<'de> Visitor<'de> for DrivesVisitor {
-            type Value = Drives;
-            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
-                f.write_str("a drive (a positive number) or a list of drives such as [1, 2, 4]")
-            }
-            fn visit_i64<E>(self, value: i64) -> Result<Drives, E> {
-                Ok(Drives::One(value as f64))
-            }
-            fn visit_u64<E>(self, value: u64) -> Result<Drives, E> {
-                Ok(Drives::One(value as f64))
-            }
-            fn visit_f64<E>(self, value: f64) -> Result<Drives, E> {
-                Ok(Drives::One(value))
-            }
-            fn visit_seq<A: SeqAccess<'de>>(self, mut seq: A) -> Result<Drives, A::Error> {
-                let mut drives = Vec::new();
-                while let Some(drive) = seq.next_element::<Spanned<f64>>()? {
-                    drives.push(drive);
-                }
-                Ok(Drives::Many(drives))
-            }
-        }
-        deserializer.deserialize_any(DrivesVisitor)
-    }
-}
-
-/// Check a written drive or list: every value positive and finite, a list not empty. Gives each
-/// drive with its place.
-fn check_drives(written: &Spanned<Drives>) -> Result<Vec<(f64, Span)>, (String, Span)> {
-    let whole = to_span(written.span());
-    let drives: Vec<(f64, Span)> = match written.get_ref() {
-        Drives::One(drive) => vec![(*drive, whole)],
-        Drives::Many(list) if list.is_empty() => {
-            return Err(("drive = []: the list is empty; give at least one drive".to_string(), whole));
-        }
-        Drives::Many(list) if list.len() > MAX_DRIVES_PER_GATE => {
-            return Err((
-                format!(
-                    "drive lists {} drives; the limit is {MAX_DRIVES_PER_GATE} per gate (each drive is a variant)",
-                    list.len()
-                ),
-                whole,
-            ));
-        }
-        Drives::Many(list) => list.iter().map(|d| (*d.get_ref(), to_span(d.span()))).collect(),
-    };
-    for &(drive, span) in &drives {
-        bounds::SIZING.check(drive).map_err(|why| (format!("drive {}: a drive {why}", bounds::show(drive)), span))?;
-    }
-    Ok(drives)
-}
-
-/// The first drive listed twice, at its second place.
-fn repeated_drive(drives: &[(f64, Span)]) -> Option<(f64, Span)> {
-    let mut seen = HashSet::with_capacity(drives.len());
-    drives.iter().copied().find(|(drive, _)| !seen.insert(drive.to_bits()))
-}
-
-/// `[defaults]` as written.
-#[derive(Debug, Clone, Default, Deserialize)]
-#[serde(deny_unknown_fields)]
-struct DefaultsEntry {
-    method: Option<MethodName>,
-    stack_order: Option<Spanned<StackOrder>>,
-    drive: Option<Spanned<Drives>>,
-    mobility_ratio: Option<Spanned<f64>>,
-    reference: Option<Spanned<WrittenReference>>,
-}
-
-/// One `[[gate]]` as written.
-#[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
-struct GateEntry {
-    name: Spanned<String>,
-    expr: Spanned<String>,
-    method: Option<MethodName>,
-    stack_order: Option<Spanned<StackOrder>>,
-    drive: Option<Spanned<Drives>>,
-    critical: Option<Spanned<String>>,
-    reference: Option<Spanned<WrittenReference>>,
-}
-
-/// Where an expression's text is in the file.
-#[derive(Debug, Clone, PartialEq)]
-struct ExpressionPlace {
-    /// The whole string value, quotes included.
-    string: Span,
-    /// Where its contents start, when the file holds them verbatim (no escapes).
-    verbatim_start: Option<usize>,
-}
-
-/// One gate, read and checked, ready to size in each of its drives.
-#[derive(Debug, Clone, PartialEq)]
-pub struct GatePlan {
-    /// 1-based position among the file's gates.
-    pub number: usize,
-    /// The cell name.
-    pub name: String,
-    /// The expression or shorthand, as written.
-    pub expression: String,
-    /// Sizing method.
-    pub method: Method,
-    /// Mobility ratio mu_n / mu_p.
-    pub mobility_ratio: f64,
-    /// Drives, one variant each, in written order.
-    pub drives: Vec<f64>,
-    /// Where each drive is written (in the gate, or in `[defaults]`).
-    drive_spans: Vec<Span>,
-    /// The input to place nearest the output.
-    pub critical: Option<String>,
-    /// Series-stack order: the default rule or as written.
-    pub stack_order: StackOrder,
-    /// A skewed reference inverter (NMOS and PMOS W/L at drive 1); `None`: balanced, 1 and the
-    /// mobility ratio.
-    pub reference: Option<Reference>,
-    name_span: Span,
-    expression_place: ExpressionPlace,
-    critical_span: Option<Span>,
-}
-
-impl GatePlan {
-    /// The variant's name: the cell name, `_x` and the drive, `p` for a decimal point.
-    pub fn variant_name(&self, drive: f64) -> String {
-        names::variant_name(&self.name, drive)
-    }
-
-    /// The plan of one variant, the one place a library builds plans: the gate's method, mobility
-    /// ratio, reference and stack order (with its critical input) at `drive`, named as the variant,
-    /// in `process`; refused where the critical input and the written order both choose the order.
-    pub fn plan(&self, drive: f64, process: &Arc<Process>) -> Result<Plan, GateProblem> {
-        let order = Order::new(self.stack_order, self.critical.clone())
-            .map_err(|error| self.problem(SizingError::from(error).to_string(), Place::File(self.name_span)))?;
-        Ok(Plan {
-            order,
-            process: Arc::clone(process),
-            name: Some(self.variant_name(drive)),
-            ..Plan::new(self.method, self.mobility_ratio, drive, self.reference)
-        })
-    }
-
-    /// A problem of this gate at `span`.
-    fn problem(&self, message: String, place: Place) -> GateProblem {
-        GateProblem { number: self.number, name: Some(self.name.clone()), message, place }
-    }
-
-    /// Where in the file byte `span` of the expression is.
-    fn expression_problem(&self, message: String, span: Span) -> GateProblem {
-        let place = match self.expression_place.verbatim_start {
-            Some(start) => Place::File(Span::new(start + span.start, start + span.end)),
-            None => Place::Expression { text: self.expression.clone(), span, string: self.expression_place.string },
-        };
-        self.problem(message, place)
-    }
-}
-
-/// Where a gate's problem is.
-#[derive(Debug, Clone, PartialEq)]
-pub enum Place {
-    /// A byte span of the library file.
-    File(Span),
-    /// A span of an expression whose file text differs from its value (it has escapes): the
-    /// value, the span in it, and where the string is in the file.
-    Expression {
-        /// The expression as read.
-        text: String,
-        /// The span in it.
-        span: Span,
-        /// The string in the file.
-        string: Span,
-    },
-}
-
-/// Why one gate cannot be sized, and where in the file.
-#[derive(Debug, Clone, PartialEq)]
-pub struct GateProblem {
-    /// 1-based position among the file's gates.
-    pub number: usize,
-    /// The gate's name, where it could be read.
-    pub name: Option<String>,
-    /// What is wrong.
-    pub message: String,
-    /// Where.
-    pub place: Place,
-}
-
-impl GateProblem {
-    /// The problem as a diagnostic: `gate 'NAME': ...`, pointing into `library` (the file the
-    /// gate was read from) or into the expression where the file holds it with escapes.
-    pub fn diagnostic(&self, library: &Source) -> Diagnostic {
-        let message = match &self.name {
-            Some(name) => format!("gate '{name}': {}", self.message),
-            None => format!("gate {}: {}", self.number, self.message),
-        };
-        match &self.place {
-            Place::File(span) => Diagnostic::error(message).at(library, *span),
-            Place::Expression { text, span, string } => {
-                let (line, _) = library.line_of(string.start);
-                let origin = format!("the expr string ({}, line {line})", library.origin());
-                Diagnostic::error(message).at(&Source::inline(origin, text.as_str()), *span)
-            }
-        }
-    }
-
-    /// The problem as printed: `error: gate 'NAME': ...`, the file, line and column, the line, a caret.
-    pub fn render(&self, library: &Source) -> String {
-        self.diagnostic(library).render()
-    }
-}
 
 /// A library file, read and checked: the process and every gate, or why it cannot be sized.
 #[derive(Debug, Clone)]
@@ -397,40 +64,6 @@ pub struct Library {
     pub mobility_ratio: f64,
     /// Every gate in file order.
     pub gates: Vec<Result<GatePlan, GateProblem>>,
-}
-
-fn to_span(range: Range<usize>) -> Span {
-    Span::from(range)
-}
-
-/// A placeholder left where a value was taken out of the parsed tree.
-fn taken() -> Spanned<DeValue<'static>> {
-    Spanned::new(0..0, DeValue::Boolean(false))
-}
-
-/// Where a string value's contents start in the file, when the file holds them verbatim (no
-/// escapes or line continuations), so that a place in the value is a place in the file.
-fn verbatim_start(text: &str, span: Range<usize>, value: &str) -> Option<usize> {
-    let raw = text.get(span.clone())?;
-    let quote = if raw.starts_with("\"\"\"") || raw.starts_with("'''") {
-        3
-    } else if raw.starts_with('"') || raw.starts_with('\'') {
-        1
-    } else {
-        return None;
-    };
-    let mut start = span.start + quote;
-    let mut inner = raw.get(quote..raw.len().checked_sub(quote)?)?;
-    if quote == 3 {
-        for newline in ["\r\n", "\n"] {
-            if let Some(rest) = inner.strip_prefix(newline) {
-                inner = rest;
-                start += newline.len();
-                break;
-            }
-        }
-    }
-    (inner == value).then_some(start)
 }
 
 impl Library {
@@ -627,155 +260,6 @@ impl Library {
     }
 }
 
-/// What `[defaults]` and the process give every gate, and what the command line sets over all.
-struct Common {
-    method: MethodName,
-    stack_order: StackOrder,
-    mobility_ratio: f64,
-    drives: Vec<(f64, Span)>,
-    reference: Option<Reference>,
-    overrides: Overrides,
-}
-
-/// The option of `batch` that states the folder of a library read from standard input.
-pub const BASE_DIR_OPTION: &str = "--base-dir";
-
-fn read_process(
-    directory: Option<&Path>,
-    read_file: &mut ReadFile<'_>,
-    value: Spanned<DeValue<'_>>,
-) -> Result<Process, LibraryError> {
-    let span = value.span();
-    match value.get_ref() {
-        DeValue::String(path) => {
-            let written = Path::new(path.as_ref());
-            let path = match directory {
-                Some(directory) => directory.join(written),
-                None if written.is_absolute() => written.to_path_buf(),
-                None => {
-                    return Err(LibraryError::at(
-                        format!(
-                            "process = \"{}\" is a relative path, and a library read from standard input has no \
-                             folder to resolve it against: give {BASE_DIR_OPTION} DIR (the folder the path is \
-                             relative to), write an absolute path, or give the process with --process FILE",
-                            escaped(path)
-                        ),
-                        Some(span),
-                    ));
-                }
-            };
-            let text = read_file(&path)
-                .map_err(|error| LibraryError::ProcessUnreadable { error, span: Span::from(span.clone()) })?;
-            Process::from_toml(&text).map_err(|error| LibraryError::ProcessFile {
-                error,
-                file: Source::file(path.display().to_string(), text),
-            })
-        }
-        DeValue::Table(_) => {
-            let file = ProcessFile::deserialize(ValueDeserializer::from(value))
-                .map_err(|e| LibraryError::at(format!("[process]: {}", e.message().trim()), e.span()))?;
-            file.validate().map_err(|e| LibraryError::at(format!("[process]: {e}"), e.span().map(|s| s.start..s.end)))
-        }
-        _ => Err(LibraryError::at(
-            "process must be the path of a process file (a string) or a [process] table",
-            Some(span),
-        )),
-    }
-}
-
-fn read_gate_entry(
-    source: &Source,
-    common: &Common,
-    number: usize,
-    entry: Spanned<DeValue<'_>>,
-) -> Result<GatePlan, GateProblem> {
-    let whole = to_span(entry.span());
-    // The name, for messages, even when the rest of the entry is wrong.
-    let written_name = entry.get_ref().get("name").and_then(|n| n.get_ref().as_str()).map(str::to_string);
-    let problem = |message: String, span: Span| GateProblem {
-        number,
-        name: written_name.clone().filter(|n| names::is_identifier(n)),
-        message,
-        place: Place::File(span),
-    };
-    if !entry.get_ref().is_table() {
-        return Err(problem("each gate must be a table with name and expr".to_string(), whole));
-    }
-    let gate = GateEntry::deserialize(ValueDeserializer::from(entry))
-        .map_err(|e| problem(e.message().trim().to_string(), e.span().map_or(whole, to_span)))?;
-    let name_span = to_span(gate.name.span());
-    let name = gate.name.get_ref();
-    if !names::is_identifier(name) {
-        return Err(problem(
-            format!(
-                "name '{}' is refused: a gate name is an identifier ({}) so that netlists take it and no spreadsheet \
-                 reads its cell as a formula (a cell starting with '=', '+', '-' or '@')",
-                escaped(name),
-                names::IDENTIFIER_RULE
-            ),
-            name_span,
-        ));
-    }
-    if let Some(why) = names::reserved_reason(name, &[]) {
-        return Err(problem(SizingError::ReservedCellName { name: name.clone(), why }.to_string(), name_span));
-    }
-    let (drives, drive_spans) = match (common.overrides.drive, &gate.drive) {
-        (Some(drive), _) => (vec![drive], vec![name_span]),
-        (None, None) => common.drives.iter().copied().unzip(),
-        (None, Some(written)) => {
-            check_drives(written).map_err(|(message, span)| problem(message, span))?.into_iter().unzip()
-        }
-    };
-    let method = Method::of(common.overrides.method.or(gate.method).unwrap_or(common.method));
-    if method.sizes_by_delay() {
-        return Err(problem(ELMORE_IN_A_LIBRARY.to_string(), name_span));
-    }
-    let stack_order = match (common.overrides.stack_order, &gate.stack_order) {
-        (Some(order), _) => order,
-        (None, Some(order)) => {
-            check_stack_order(order).map_err(|message| problem(message, to_span(order.span())))?;
-            *order.get_ref()
-        }
-        (None, None) => common.stack_order,
-    };
-    let reference = match (common.overrides.reference, &gate.reference) {
-        (Some(reference), _) => Some(reference),
-        (None, Some(written)) => Some(check_reference(written).map_err(|(message, span)| problem(message, span))?),
-        (None, None) => common.reference,
-    };
-    let expression = gate.expr.get_ref().clone();
-    let expression_place = ExpressionPlace {
-        string: to_span(gate.expr.span()),
-        verbatim_start: verbatim_start(source.text(), gate.expr.span(), &expression),
-    };
-    Ok(GatePlan {
-        number,
-        name: gate.name.into_inner(),
-        expression,
-        method,
-        mobility_ratio: common.mobility_ratio,
-        drives,
-        drive_spans,
-        critical_span: gate.critical.as_ref().map(|c| to_span(c.span())),
-        critical: gate.critical.map(Spanned::into_inner),
-        stack_order,
-        reference,
-        name_span,
-        expression_place,
-    })
-}
-
-/// A library sizes by the default order or as written; the search times every order, which is a
-/// job for `widthwise size` one gate at a time.
-fn check_stack_order(order: &Spanned<StackOrder>) -> Result<(), String> {
-    match order.get_ref() {
-        StackOrder::Search => Err("stack_order = \"search\" times every order of a gate: a library takes \"default\" \
-                                   or \"written\"; search one gate with 'widthwise size --stack-order search'"
-            .to_string()),
-        StackOrder::Default | StackOrder::Written => Ok(()),
-    }
-}
-
 /// How a batch went.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub struct Outcome {
@@ -871,6 +355,8 @@ pub fn size_all(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::io::InputError;
+    use crate::sizing::Method;
 
     /// The reader the command supplies: process files through the I/O layer.
     fn read_file(path: &Path) -> Result<String, InputError> {

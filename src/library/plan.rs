@@ -1,0 +1,135 @@
+//! One library gate, read and checked: its plan for each drive, and where its problems are.
+
+use std::sync::Arc;
+
+use crate::diagnostic::{Diagnostic, Source, Span};
+use crate::names;
+use crate::process::Process;
+use crate::sizing::{Method, Order, Plan, Reference, SizingError, StackOrder};
+
+/// Where an expression's text is in the file.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct ExpressionPlace {
+    /// The whole string value, quotes included.
+    pub(crate) string: Span,
+    /// Where its contents start, when the file holds them verbatim (no escapes).
+    pub(crate) verbatim_start: Option<usize>,
+}
+
+/// One gate, read and checked, ready to size in each of its drives.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GatePlan {
+    /// 1-based position among the file's gates.
+    pub number: usize,
+    /// The cell name.
+    pub name: String,
+    /// The expression or shorthand, as written.
+    pub expression: String,
+    /// Sizing method.
+    pub method: Method,
+    /// Mobility ratio mu_n / mu_p.
+    pub mobility_ratio: f64,
+    /// Drives, one variant each, in written order.
+    pub drives: Vec<f64>,
+    /// Where each drive is written (in the gate, or in `[defaults]`).
+    pub(crate) drive_spans: Vec<Span>,
+    /// The input to place nearest the output.
+    pub critical: Option<String>,
+    /// Series-stack order: the default rule or as written.
+    pub stack_order: StackOrder,
+    /// A skewed reference inverter (NMOS and PMOS W/L at drive 1); `None`: balanced, 1 and the
+    /// mobility ratio.
+    pub reference: Option<Reference>,
+    pub(crate) name_span: Span,
+    pub(crate) expression_place: ExpressionPlace,
+    pub(crate) critical_span: Option<Span>,
+}
+
+impl GatePlan {
+    /// The variant's name: the cell name, `_x` and the drive, `p` for a decimal point.
+    pub fn variant_name(&self, drive: f64) -> String {
+        names::variant_name(&self.name, drive)
+    }
+
+    /// The plan of one variant, the one place a library builds plans: the gate's method, mobility
+    /// ratio, reference and stack order (with its critical input) at `drive`, named as the variant,
+    /// in `process`; refused where the critical input and the written order both choose the order.
+    pub fn plan(&self, drive: f64, process: &Arc<Process>) -> Result<Plan, GateProblem> {
+        let order = Order::new(self.stack_order, self.critical.clone())
+            .map_err(|error| self.problem(SizingError::from(error).to_string(), Place::File(self.name_span)))?;
+        Ok(Plan {
+            order,
+            process: Arc::clone(process),
+            name: Some(self.variant_name(drive)),
+            ..Plan::new(self.method, self.mobility_ratio, drive, self.reference)
+        })
+    }
+
+    /// A problem of this gate at `span`.
+    pub(crate) fn problem(&self, message: String, place: Place) -> GateProblem {
+        GateProblem { number: self.number, name: Some(self.name.clone()), message, place }
+    }
+
+    /// Where in the file byte `span` of the expression is.
+    pub(crate) fn expression_problem(&self, message: String, span: Span) -> GateProblem {
+        let place = match self.expression_place.verbatim_start {
+            Some(start) => Place::File(Span::new(start + span.start, start + span.end)),
+            None => Place::Expression { text: self.expression.clone(), span, string: self.expression_place.string },
+        };
+        self.problem(message, place)
+    }
+}
+
+/// Where a gate's problem is.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Place {
+    /// A byte span of the library file.
+    File(Span),
+    /// A span of an expression whose file text differs from its value (it has escapes): the
+    /// value, the span in it, and where the string is in the file.
+    Expression {
+        /// The expression as read.
+        text: String,
+        /// The span in it.
+        span: Span,
+        /// The string in the file.
+        string: Span,
+    },
+}
+
+/// Why one gate cannot be sized, and where in the file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GateProblem {
+    /// 1-based position among the file's gates.
+    pub number: usize,
+    /// The gate's name, where it could be read.
+    pub name: Option<String>,
+    /// What is wrong.
+    pub message: String,
+    /// Where.
+    pub place: Place,
+}
+
+impl GateProblem {
+    /// The problem as a diagnostic: `gate 'NAME': ...`, pointing into `library` (the file the
+    /// gate was read from) or into the expression where the file holds it with escapes.
+    pub fn diagnostic(&self, library: &Source) -> Diagnostic {
+        let message = match &self.name {
+            Some(name) => format!("gate '{name}': {}", self.message),
+            None => format!("gate {}: {}", self.number, self.message),
+        };
+        match &self.place {
+            Place::File(span) => Diagnostic::error(message).at(library, *span),
+            Place::Expression { text, span, string } => {
+                let (line, _) = library.line_of(string.start);
+                let origin = format!("the expr string ({}, line {line})", library.origin());
+                Diagnostic::error(message).at(&Source::inline(origin, text.as_str()), *span)
+            }
+        }
+    }
+
+    /// The problem as printed: `error: gate 'NAME': ...`, the file, line and column, the line, a caret.
+    pub fn render(&self, library: &Source) -> String {
+        self.diagnostic(library).render()
+    }
+}
