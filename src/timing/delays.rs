@@ -95,23 +95,23 @@ pub fn time_stage(
     let mut unavailable = Vec::new();
     for (input, edge, load, measured) in found {
         let name = &function.inputs[input];
-        {
-            let Some(measured) = measured else {
-                unavailable.push(Unavailable {
-                    input: name.clone(),
-                    edge,
-                    why: if circuit.input_count > EXACT_WORST_MAX_INPUTS {
-                        format!("no path through it conducts alone, and {EXACT_WORST_MAX_INPUTS} inputs is the most searched")
-                    } else {
-                        "it never switches the output on this edge".to_string()
-                    },
-                });
-                continue;
-            };
-            let g = capacitance[input] / reference_capacitance;
-            let h = if capacitance[input] > 0.0 { load / capacitance[input] } else { 0.0 };
-            delays.push(delay(stage, plan, conditions, &circuit, &measured, units.as_ref(), load, g, h, p_output_node));
-        }
+        let Some(measured) = measured else {
+            unavailable.push(Unavailable {
+                input: name.clone(),
+                edge,
+                why: if circuit.input_count > EXACT_WORST_MAX_INPUTS {
+                    format!(
+                        "no path through it conducts alone, and {EXACT_WORST_MAX_INPUTS} inputs is the most searched"
+                    )
+                } else {
+                    "it never switches the output on this edge".to_string()
+                },
+            });
+            continue;
+        };
+        let g = capacitance[input] / reference_capacitance;
+        let h = if capacitance[input] > 0.0 { load / capacitance[input] } else { 0.0 };
+        delays.push(delay(stage, plan, conditions, &circuit, &measured, units.as_ref(), load, g, h, p_output_node));
     }
     let (fanout, load_c, load_ff) = match conditions.load {
         Load::Fanout(h) => (Some(h), None, None),

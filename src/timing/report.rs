@@ -125,8 +125,8 @@ pub struct Delay {
     pub nodes_at_final_level: Vec<String>,
     /// Whether the conducting network is a tree (else parallel branches were solved as such).
     pub tree: bool,
-    /// `"weakest path"` (the worst-case path through the input) or `"every vector"` (repeated
-    /// inputs: the slowest over every vector where the input switches the output).
+    /// `"every vector"` (the slowest over every side-input vector where the input switches the
+    /// output) or, past 16 inputs, `"weakest path"` (the weakest path through the input alone).
     pub search: &'static str,
     /// The logical-effort view.
     pub logical_effort_view: EffortView,

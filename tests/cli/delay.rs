@@ -228,3 +228,28 @@ fn a_deck_takes_its_load_in_c_or_in_femtofarads() {
     // 3 C of 1.7 fF each (docs/model.md section 7).
     assert!(deck(&["--load", "3"]).contains("Ct1 t1_out 0 5.1f"));
 }
+
+#[test]
+fn past_sixteen_inputs_each_input_gets_its_weakest_path_alone() {
+    // The worst-transition rule enumerates side-input vectors up to 16 inputs (docs/model.md
+    // section 7); past that its stated fallback is the weakest path through the input, alone.
+    let names: Vec<String> = (0..17).map(|i| format!("x{i}")).collect();
+    let text = format!("!({} | {})", names[..9].join(" & "), names[9..].join(" & "));
+    let gate = json(&["size", &text, "--delays", "--format", "json"]);
+    let delays = gate["delays"].as_array().unwrap();
+    assert_eq!(delays.len(), 34);
+    assert!(delays.iter().all(|d| d["search"] == "weakest path"));
+    // x0 rising: its AND9 conducts alone, the other branch off (x9 = 0 ... x16 = 0).
+    let x0 = delays.iter().find(|d| d["input"] == "x0" && d["edge"] == "fall").unwrap();
+    assert_eq!(x0["vector"]["x0"], 1);
+    assert_eq!(x0["vector"]["x16"], 0);
+    widthwise()
+        .args(["size", &text, "--delays"])
+        .assert()
+        .success()
+        .stdout(predicate::str::contains("past 16 inputs the side inputs are not searched"));
+    // At 16 inputs every side-input vector is searched.
+    let text = format!("!({} | {})", names[..8].join(" & "), names[8..16].join(" & "));
+    let gate = json(&["size", &text, "--delays", "--format", "json"]);
+    assert!(gate["delays"].as_array().unwrap().iter().all(|d| d["search"] == "every vector"));
+}
