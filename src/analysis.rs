@@ -12,6 +12,13 @@ use crate::timing::{self, DelayReport, MethodDelay, Timing};
 /// Size `logic` under `plan` and time it: the cell and its delay report, within the plan's work
 /// budget (the sizing, the search, the delays and the comparison of methods share it).
 pub fn size_and_time(logic: &CellLogic, plan: &Plan) -> Result<(SizedCell, DelayReport), SizingError> {
+    if !logic.is_single_stage() {
+        // Elmore delays model one stage; a cell of several has its logical-effort estimate.
+        return Err(SizingError::SeveralStages {
+            what: "the Elmore delay report (--delays, the load options, --method elmore, the delays rows)",
+            stages: logic.stages.len(),
+        });
+    }
     let meter = Meter::new(plan.budget);
     let cell = sizing::size_within(logic, plan, &meter)?;
     let timing = timing::time(&cell, &plan.conditions, &meter)?;

@@ -23,6 +23,18 @@ pub struct SizedCell {
     pub stages: Vec<SizedStage>,
     /// What the stack-order search found, when the plan asked for one.
     pub search: Option<StackOrderReport>,
+    /// The function's other forms, sized under the same plan and not kept (their total W/L is
+    /// larger or equal); empty where the function has one form.
+    pub other_forms: Vec<OtherForm>,
+}
+
+/// A form of the cell's function that was sized and not kept.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct OtherForm {
+    /// `direct` or `inverted`.
+    pub form: &'static str,
+    /// Its total W/L.
+    pub total_w_over_l: f64,
 }
 
 /// One stage, sized.
@@ -34,6 +46,12 @@ pub struct SizedStage {
     pub function: GateFunction,
     /// Its pull-down and pull-up.
     pub networks: Sides<SizedNetwork>,
+    /// The drive it was sized at: the cell's for the output stage; for an earlier stage its load
+    /// over the stage effort times the unit reference inverter's input capacitance, or more where
+    /// that would draw a device below the process's minimum width.
+    pub drive: f64,
+    /// Whether the drive was raised so that no device is below the process's minimum width.
+    pub clamped: bool,
 }
 
 /// One network of a stage, sized: the tree in its chosen stack order with its own device list, and
@@ -64,10 +82,28 @@ impl SizedNetwork {
 }
 
 impl SizedCell {
-    /// The cell's one stage. Every cell sized today has exactly one (sizing refuses
-    /// cells of several stages until their sizing lands).
+    /// The cell's one stage: the one stage of a single-stage cell, the output stage of a cell of
+    /// several stages. What times one stage (delays, decks of one stage, the stack-order search)
+    /// takes only single-stage cells ([`SizedCell::is_single_stage`]).
     pub fn stage(&self) -> &SizedStage {
-        &self.stages[0]
+        self.stages.last().expect("a sized cell has a stage")
+    }
+
+    /// Sum of every device's W/L, every stage.
+    pub fn total_w_over_l(&self) -> f64 {
+        self.stages.iter().flat_map(|s| s.networks.values()).flat_map(|n| &n.widths).sum()
+    }
+
+    /// Whether the cell is one stage.
+    pub fn is_single_stage(&self) -> bool {
+        self.stages.len() == 1
+    }
+
+    /// The name of device `index` of `kind`'s network in stage `stage`: `MN1` in a single-stage
+    /// cell, `MN1_a_n` (the stage's net after it) in a cell of several stages.
+    pub fn device_name(&self, stage: usize, kind: NetworkKind, index: usize) -> String {
+        let name = device_name(kind, index);
+        if self.is_single_stage() { name } else { format!("{name}_{}", self.stages[stage].function.output) }
     }
 
     /// The output net.

@@ -14,6 +14,7 @@ use crate::exit::{EXIT_BAD_INPUT, EXIT_CHECK_FAILED};
 use crate::expr::error::ExprError;
 use crate::io::{InputError, OutputError};
 use crate::library::LibraryError;
+use crate::logic::{LogicError, PullUpError};
 use crate::ngspice::SimulationError;
 use crate::output::deck::DeckError;
 use crate::paths::ListingError;
@@ -31,6 +32,22 @@ pub enum Error {
         /// The stage's error.
         error: ExprError,
         /// The expression.
+        input: Source,
+    },
+    /// A function that has no cell (an XOR past the limits), with the text it came from.
+    #[error("{error}")]
+    Logic {
+        /// The stage's error.
+        error: LogicError,
+        /// The expression.
+        input: Source,
+    },
+    /// A pull-up that is refused, with its text (or, for a mirror, the cell's).
+    #[error("{error}")]
+    PullUp {
+        /// Why.
+        error: PullUpError,
+        /// The pull-up as written, or the expression.
         input: Source,
     },
     /// A bad process file, with the file.
@@ -138,6 +155,8 @@ impl Error {
             Error::Simulation(error) => return error.exit_code(),
             Error::VerifyFailed(_) | Error::VariantsUnverified { .. } => true,
             Error::Expression { .. }
+            | Error::Logic { .. }
+            | Error::PullUp { .. }
             | Error::Process { .. }
             | Error::Library { .. }
             | Error::Input(_)
@@ -177,6 +196,8 @@ impl Error {
     pub fn diagnostic(&self) -> Diagnostic {
         match self {
             Error::Expression { error, input } => Diagnostic::error(error.to_string()).at(input, error.span()),
+            Error::Logic { error, input } => Diagnostic::error(error.to_string()).at(input, error.span()),
+            Error::PullUp { error, input } => Diagnostic::error(error.to_string()).at_or_within(input, error.span()),
             Error::Process { error, file } => Diagnostic::error(error.to_string()).at_or_within(file, error.span()),
             Error::Library { error, file } => error.diagnostic(file),
             other if other.is_internal() => {

@@ -7,6 +7,8 @@
 //! and parasitic delay divide by the reference inverter's input capacitance at the same drive, which
 //! is the unit gate against the unit inverter, so neither changes with drive.
 
+pub mod stages;
+
 use std::sync::Arc;
 
 use crate::cell::{SizedCell, SizedNetwork, SizedStage, device_name};
@@ -20,8 +22,11 @@ use crate::sizing::rules::{self, Rule};
 /// One sized transistor, as netlists write it.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct Transistor {
-    /// `MN1`, `MP1` ...: the number is the device's index in its network.
+    /// `MN1`, `MP1` ...: the number is the device's index in its network; in a cell of several
+    /// stages the stage's net follows (`MN1_a_n`).
     pub name: String,
+    /// The stage it belongs to, by the net the stage drives.
+    pub stage: String,
     /// `"nmos"` or `"pmos"`.
     #[serde(rename = "type")]
     pub device_type: &'static str,
@@ -120,6 +125,11 @@ pub struct CellFigures {
     pub expression: String,
     /// Output node.
     pub output: String,
+    /// How the cell's logic stage reaches the output: `direct` (a one-stage cell, or a logic stage
+    /// driving the output) or `inverted` (an output inverter after it).
+    pub form: &'static str,
+    /// The function's other forms, not kept: each with its total W/L.
+    pub other_forms: Vec<crate::cell::OtherForm>,
     /// Sizing method.
     pub method: Method,
     /// Mobility ratio mu_n / mu_p.
@@ -132,11 +142,17 @@ pub struct CellFigures {
     pub reference_pmos_w_over_l: f64,
     /// The input placed nearest the output, if one was named.
     pub critical_input: Option<String>,
-    /// Every transistor, NMOS then PMOS, in device order.
+    /// Every transistor, stage by stage (in the order of the stages), each stage's NMOS then PMOS,
+    /// in device order.
     pub transistors: Vec<Transistor>,
-    /// Every input, in order of first appearance.
+    /// Every input, in order of first appearance; the capacitance of an input that several stages
+    /// read is their sum.
     pub inputs: Vec<InputFigures>,
-    /// Parasitic delay, output node only, in units of the reference inverter's.
+    /// Every stage, first to last (one for a one-stage cell).
+    pub stages: Vec<stages::StageFigures>,
+    /// Each input's logical-effort delay estimate through the cell, sum(g h + p) in tau.
+    pub delay_estimates: Vec<stages::DelayEstimate>,
+    /// Parasitic delay of the output stage, output node only, in units of the reference inverter's.
     pub parasitic_delay: f64,
     /// The devices whose drain is the output node.
     pub output_devices: Vec<String>,
@@ -144,7 +160,8 @@ pub struct CellFigures {
     pub transistor_count: usize,
     /// Sum of all W/L.
     pub total_w_over_l: f64,
-    /// Pull-down then pull-up.
+    /// The output stage's pull-down then pull-up (the networks sized against the reference inverter
+    /// at the cell's drive).
     pub networks: Vec<NetworkFigures>,
     /// The other method's total.
     pub comparison: Comparison,
@@ -187,8 +204,9 @@ impl CellFigures {
         let function = &stage.function;
         let process = &plan.process;
         let reference_capacitance = plan.reference_capacitance();
-        let capacitance = input_capacitance(stage);
-        let inputs = function
+        let capacitance = pin_capacitance(cell);
+        let inputs = cell
+            .logic
             .inputs
             .iter()
             .zip(&capacitance)
@@ -199,27 +217,32 @@ impl CellFigures {
                 logical_effort: c / reference_capacitance,
             })
             .collect();
+        let pins: Vec<(String, f64)> = cell.logic.inputs.iter().cloned().zip(capacitance.iter().copied()).collect();
+        let (stage_figures, delay_estimates) = stages::of(cell, &pins);
         let parasitic_delay = output_diffusion(stage) / reference_capacitance;
-        let mut transistors = Vec::with_capacity(2 * function.literals.len());
-        for sized in stage.networks.values() {
-            let kind = sized.kind();
-            for (device, node) in sized.terminals.iter().enumerate() {
-                let drawn = &sized.drawn[device];
-                transistors.push(Transistor {
-                    name: device_name(kind, device),
-                    device_type: kind.device_type(),
-                    network: kind,
-                    input: function.inputs[sized.network.inputs[device]].clone(),
-                    drain: node.drain.clone(),
-                    source: node.source.clone(),
-                    w_over_l: sized.widths[device],
-                    width_um: process.width_nm(sized.widths[device]) / 1000.0,
-                    length_um: process.length_nm / 1000.0,
-                    drawn_width_um: drawn.width_nm() / 1000.0,
-                    finger_width_um: drawn.finger_width_nm / 1000.0,
-                    fingers: drawn.fingers,
-                    drawn_w_over_l: drawn.width_nm() / process.unit_width_nm,
-                });
+        let mut transistors = Vec::with_capacity(cell.logic.transistor_count());
+        for (index, sized_stage) in cell.stages.iter().enumerate() {
+            for sized in sized_stage.networks.values() {
+                let kind = sized.kind();
+                for (device, node) in sized.terminals.iter().enumerate() {
+                    let drawn = &sized.drawn[device];
+                    transistors.push(Transistor {
+                        name: cell.device_name(index, kind, device),
+                        stage: sized_stage.function.output.clone(),
+                        device_type: kind.device_type(),
+                        network: kind,
+                        input: sized_stage.function.inputs[sized.network.inputs[device]].clone(),
+                        drain: node.drain.clone(),
+                        source: node.source.clone(),
+                        w_over_l: sized.widths[device],
+                        width_um: process.width_nm(sized.widths[device]) / 1000.0,
+                        length_um: process.length_nm / 1000.0,
+                        drawn_width_um: drawn.width_nm() / 1000.0,
+                        finger_width_um: drawn.finger_width_nm / 1000.0,
+                        fingers: drawn.fingers,
+                        drawn_w_over_l: drawn.width_nm() / process.unit_width_nm,
+                    });
+                }
             }
         }
         let output_devices =
@@ -227,14 +250,16 @@ impl CellFigures {
         let networks = stage.networks.values().map(|sized| network_figures(function, sized, plan)).collect();
         let total_drawn_width_um = transistors.iter().map(|t| t.drawn_width_um).sum();
         let area_um2 = transistors.iter().map(|t| t.drawn_width_um * t.length_um).sum();
-        let total: f64 = stage.networks.values().flat_map(|n| &n.widths).sum();
+        let total = cell.total_w_over_l();
         let other = plan.method.other();
-        let other_total = other_total(stage, plan, other);
-        let drawn = drawn_figures(stage, plan, &transistors);
+        let other_total = cell.stages.iter().map(|s| other_total(s, plan, other)).sum();
+        let drawn = drawn_figures(cell, plan, &transistors);
         CellFigures {
             name: cell.name.clone(),
-            expression: function.text.clone(),
+            expression: if cell.is_single_stage() { function.text.clone() } else { cell.logic.text.clone() },
             output: function.output.clone(),
+            form: cell.logic.form.name(),
+            other_forms: cell.other_forms.clone(),
             method: plan.method,
             mobility_ratio: plan.mobility_ratio,
             drive: plan.drive,
@@ -244,6 +269,8 @@ impl CellFigures {
             transistor_count: transistors.len(),
             transistors,
             inputs,
+            stages: stage_figures,
+            delay_estimates,
             parasitic_delay,
             output_devices,
             total_w_over_l: total,
@@ -262,28 +289,25 @@ impl CellFigures {
 }
 
 /// The drawn figures, where snapping moves some device by more than [`DRAWN_CHANGE_PERCENT`].
-fn drawn_figures(stage: &SizedStage, plan: &Plan, transistors: &[Transistor]) -> Option<DrawnFigures> {
+fn drawn_figures(cell: &SizedCell, plan: &Plan, transistors: &[Transistor]) -> Option<DrawnFigures> {
     let change = transistors.iter().map(|t| (t.drawn_w_over_l / t.w_over_l - 1.0).abs() * 100.0).fold(0.0, f64::max);
     if change.is_nan() || change <= DRAWN_CHANGE_PERCENT {
         return None;
     }
     let reference_capacitance = plan.reference_capacitance();
     let unit_ff = plan.process.unit_capacitance_ff();
-    let mut capacitance = vec![0.0; stage.function.inputs.len()];
+    let pins = &cell.logic.inputs;
+    let mut capacitance = vec![0.0; pins.len()];
     let mut output = 0.0;
-    // The transistors come network by network, each in device order.
-    let (down, up) = transistors.split_at(stage.networks.pull_down.widths.len());
-    for (sized, drawn) in stage.networks.values().zip([down, up]) {
-        for ((&input, terminals), transistor) in sized.network.inputs.iter().zip(&sized.terminals).zip(drawn) {
-            capacitance[input] += transistor.drawn_w_over_l;
-            if terminals.drain == stage.function.output {
-                output += transistor.drawn_w_over_l;
-            }
+    for transistor in transistors {
+        if let Some(pin) = pins.iter().position(|p| *p == transistor.input) {
+            capacitance[pin] += transistor.drawn_w_over_l;
+        }
+        if transistor.drain == cell.logic.output {
+            output += transistor.drawn_w_over_l;
         }
     }
-    let inputs = stage
-        .function
-        .inputs
+    let inputs = pins
         .iter()
         .zip(&capacitance)
         .map(|(name, &c)| InputFigures {
@@ -308,7 +332,23 @@ fn other_total(stage: &SizedStage, plan: &Plan, method: Method) -> f64 {
         Method::LongestPath => Rule::LongestPath,
         Method::MinArea { .. } | Method::Elmore { .. } => Rule::MinArea,
     };
-    stage.networks.values().map(|n| rules::total(&n.network, rule, plan.reference_width(n.kind()))).sum()
+    // At the stage's own drive (the cell's for a one-stage cell).
+    let scale = stage.drive / plan.drive;
+    stage.networks.values().map(|n| rules::total(&n.network, rule, scale * plan.reference_width(n.kind()))).sum()
+}
+
+/// Input capacitance of every pin of the cell, in C: the W/L of every device of every stage it
+/// gates, both networks (docs/model.md sections 6 and 11).
+pub fn pin_capacitance(cell: &SizedCell) -> Vec<f64> {
+    let mut capacitance = vec![0.0; cell.logic.inputs.len()];
+    for stage in &cell.stages {
+        for (net, c) in stage.function.inputs.iter().zip(input_capacitance(stage)) {
+            if let Some(pin) = cell.logic.inputs.iter().position(|p| p == net) {
+                capacitance[pin] += c;
+            }
+        }
+    }
+    capacitance
 }
 
 /// Input capacitance of every stage input, in C: the W/L of every device it gates, both networks
@@ -382,6 +422,8 @@ pub struct ListedPath {
 /// The listed paths of one network.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct PathListing {
+    /// The stage, by the net it drives.
+    pub stage: String,
     /// Which network.
     pub network: NetworkKind,
     /// The target, in units of R.
@@ -392,15 +434,16 @@ pub struct PathListing {
     pub paths: Vec<ListedPath>,
 }
 
-/// The `limit` weakest paths of each network of the cell, with their vectors.
+/// The `limit` weakest paths of each network of each stage of the cell, with their vectors (over
+/// the stage's inputs).
 pub fn path_listings(cell: &SizedCell, limit: usize) -> Vec<PathListing> {
     let plan = &cell.plan;
-    let stage = cell.stage();
-    let function = &stage.function;
-    stage
-        .networks
-        .values()
-        .map(|sized| {
+    let mut listings = Vec::with_capacity(2 * cell.stages.len());
+    for (index, stage) in cell.stages.iter().enumerate() {
+        let function = &stage.function;
+        // Each stage against the reference inverter at its own drive.
+        let scale = plan.drive / stage.drive;
+        for sized in stage.networks.values() {
             let network = &sized.network;
             let kind = network.kind;
             let resistance = plan.resistances(kind, &sized.widths);
@@ -412,17 +455,19 @@ pub fn path_listings(cell: &SizedCell, limit: usize) -> Vec<PathListing> {
                     drawn_resistance: path.devices.iter().map(|&d| drawn[d]).sum(),
                     vector: paths::sensitize(network, &path.devices, function.inputs.len())
                         .map(|values| Vector::new(&function.inputs, &values)),
-                    devices: path.devices.iter().map(|&d| device_name(kind, d)).collect(),
+                    devices: path.devices.iter().map(|&d| cell.device_name(index, kind, d)).collect(),
                 })
                 .collect();
-            PathListing {
+            listings.push(PathListing {
+                stage: function.output.clone(),
                 network: kind,
-                target_resistance: plan.target(kind),
+                target_resistance: plan.target(kind) * scale,
                 path_count: paths::count(network).to_string(),
                 paths,
-            }
-        })
-        .collect()
+            });
+        }
+    }
+    listings
 }
 
 /// How the diffusions on one node make its diffusion width: the one rule the delay stage and the

@@ -45,9 +45,10 @@ pub use expr::ExprError;
 pub use sizing::{Method, Plan, Reference};
 
 /// Read `text` (an expression or a shorthand; the process's model names reserved) as a cell and
-/// size it under `plan` ([`sizing::size`]): the reading and the sizing in one call.
+/// size it under `plan` ([`sizing::size_best`]: of a function's forms, the one of least total W/L):
+/// the reading and the sizing in one call.
 pub fn size_text(text: &str, plan: &Plan) -> Result<SizedCell, Error> {
-    let logic = logic::read_cell(text, &plan.process.model_names())
-        .map_err(|error| Error::Expression { error, input: diagnostic::Source::inline("the expression", text) })?;
-    Ok(sizing::size(&logic, plan)?)
+    let forms = logic::synthesize_with_models(text, &plan.process.model_names())
+        .map_err(|error| Error::Logic { error, input: diagnostic::Source::inline("the expression", text) })?;
+    Ok(sizing::size_best(&forms, plan)?)
 }

@@ -96,6 +96,11 @@ impl<T> Sides<T> {
     pub fn values(&self) -> impl Iterator<Item = &T> {
         [&self.pull_down, &self.pull_up].into_iter()
     }
+
+    /// Both values, mutably, pull-down first.
+    pub fn values_mut(&mut self) -> impl Iterator<Item = &mut T> {
+        [&mut self.pull_down, &mut self.pull_up].into_iter()
+    }
 }
 
 impl<T> Index<NetworkKind> for Sides<T> {

@@ -10,7 +10,7 @@ use proptest::prelude::*;
 mod fuzz_targets;
 use widthwise::commands::batch::write_batch;
 use widthwise::diagnostic::{Diagnostic, Source as TextSource};
-use widthwise::expr::read_gate_with_models;
+use widthwise::logic::synthesize_with_models;
 
 use widthwise::figures::CellFigures;
 use widthwise::io::InputError;
@@ -27,8 +27,9 @@ fn options(method: Method) -> Plan {
 
 /// Everything a reader of expression text does with it: read, size, render an error, verify.
 fn read_everything(text: &str) {
-    // Sizing reads with the process's model names reserved (the built-in process: nmos, pmos).
-    let read = read_gate_with_models(text, &Process::default().model_names());
+    // Sizing reads with the process's model names reserved (the built-in process: nmos, pmos): a
+    // function of one stage or several.
+    let read = synthesize_with_models(text, &Process::default().model_names());
     for method in [Method::LongestPath, Method::MIN_AREA] {
         match size_text(text, &options(method)) {
             Ok(gate) => {

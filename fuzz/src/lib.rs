@@ -5,10 +5,10 @@
 
 use widthwise::commands::batch::write_batch;
 use widthwise::diagnostic::Source as TextSource;
-use widthwise::expr;
 use widthwise::figures::{self, CellFigures};
 use widthwise::io::InputError;
 use widthwise::library::Library;
+use widthwise::logic;
 use widthwise::output::CellReport;
 use widthwise::output::{self, Format, Rows};
 use widthwise::process::Process;
@@ -23,10 +23,10 @@ const VERIFY_INPUTS: usize = 10;
 /// expression must give a netlist that passes every check.
 pub fn expression(text: &str) {
     // Sizing reads with the process's model names reserved (the built-in process: nmos, pmos).
-    let read = expr::read_gate_with_models(text, &Process::default().model_names());
+    let read = logic::synthesize_with_models(text, &Process::default().model_names());
     for method in [Method::LongestPath, Method::MIN_AREA] {
         let sized = size_text(text, &Plan::new(method, 2.0, 1.0, None));
-        assert_eq!(read.is_ok(), sized.is_ok(), "read_gate and size_text disagree on {text:?}");
+        assert_eq!(read.is_ok(), sized.is_ok(), "synthesize and size_text disagree on {text:?}");
         let gate = match sized {
             Ok(gate) => gate,
             Err(error) => {

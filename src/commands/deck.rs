@@ -115,7 +115,7 @@ pub fn run(args: Args) -> Result<(), Error> {
         plan.process = Arc::new(process);
     }
     let text = super::expression_text(&args.expression)?;
-    let sized = super::read_and_size(&text, &plan)?;
+    let sized = super::read_and_size(&text, &plan, args.gate.pull_up.as_deref())?;
     deck::check_size(&sized)?;
     let transitions = deck::transitions(&sized, deck.load_ff)?;
     crate::io::write_output(args.output.as_deref(), |out| deck::write_deck(&sized, &transitions, &deck, out))?;

@@ -121,6 +121,11 @@ pub struct SizingArgs {
     /// regular file: a FIFO, a device or process substitution <(...) is refused.
     #[arg(long, value_name = "FILE")]
     pub process: Option<PathBuf>,
+    /// The effort each stage before the output stage of a cell of several stages bears: its drive is
+    /// what it drives over F times the unit reference inverter's input capacitance, C_in = g C_out / F,
+    /// raised where a device would fall below the process's minimum width [default: 4].
+    #[arg(long, value_name = "F", value_parser = positive_number, allow_hyphen_values = true)]
+    pub stage_effort: Option<f64>,
 }
 
 impl SizingArgs {
@@ -157,6 +162,12 @@ pub struct GateArgs {
     /// it the command stops before any output, exit 2.
     #[arg(long, value_name = "UNITS", default_value_t = DEFAULT_WORK_BUDGET, value_parser = work_budget)]
     pub work_budget: u64,
+    /// The logic stage's pull-up: a series (&) and parallel (|) structure of its uncomplemented input
+    /// nets (each PMOS conducts when its input is 0; ! is refused), or 'mirror' for the pull-down's own
+    /// structure. Taken only where a check of every input vector proves it the pull-down's complement
+    /// [default: the dual of the pull-down].
+    #[arg(long, value_name = "STRUCTURE|mirror")]
+    pub pull_up: Option<String>,
 }
 
 /// Options for Elmore delays: the load, the diffusion capacitance, the stack-order search.
@@ -260,6 +271,7 @@ pub fn plan(args: &GateArgs, order: StackOrder, timed: Timed) -> Result<Plan, Er
         process: Arc::new(process),
         name: args.name.clone(),
         budget: args.work_budget,
+        stage_effort: given.stage_effort.unwrap_or(crate::sizing::plan::DEFAULT_STAGE_EFFORT),
         ..Plan::new(method, mobility_ratio, drive, given.reference)
     };
     plan.check().map_err(SizingError::from)?;
@@ -285,18 +297,40 @@ pub fn expression_text(argument: &OsString) -> Result<String, Error> {
     Ok(crate::io::utf8_text(bytes, "the expression")?)
 }
 
-/// Read the cell `text` with the plan's model names reserved ([`logic::read_cell`]: one stage
-/// today); an error points into the text.
-pub fn read_cell(text: &str, plan: &Plan) -> Result<CellLogic, Error> {
-    logic::read_cell(text, &plan.process.model_names())
-        .map_err(|error| Error::Expression { error, input: Source::inline("the expression", text) })
+/// Every form of the cell `text` (one for a one-stage gate or a non-inverting function, two where
+/// both polarities appear), the plan's model names reserved, each with the pull-up `pull_up` asks for
+/// (forms whose logic stage it does not fit are dropped; where it fits none, the first form's
+/// refusal); an error points into the text it is about.
+pub fn read_cells(text: &str, plan: &Plan, pull_up: Option<&str>) -> Result<Vec<CellLogic>, Error> {
+    let forms = logic::synthesize_with_models(text, &plan.process.model_names())
+        .map_err(|error| Error::Logic { error, input: Source::inline("the expression", text) })?;
+    let Some(written) = pull_up else { return Ok(forms) };
+    let (spec, source) = if written.trim() == "mirror" {
+        (logic::PullUpSpec::Mirror, Source::inline("the expression", text))
+    } else {
+        (logic::PullUpSpec::Written(written), Source::inline("the pull-up", written))
+    };
+    let mut first_error = None;
+    let mut accepted = Vec::new();
+    for form in forms {
+        match form.with_pull_up(spec) {
+            Ok(form) => accepted.push(form),
+            Err(error) => {
+                first_error.get_or_insert(error);
+            }
+        }
+    }
+    match first_error {
+        Some(error) if accepted.is_empty() => Err(Error::PullUp { error, input: source }),
+        _ => Ok(accepted),
+    }
 }
 
 /// Read the cell `text` and size it under `plan`, untimed (for `paths`, `deck`, `verify`, and `size`
-/// without delays).
-pub fn read_and_size(text: &str, plan: &Plan) -> Result<crate::cell::SizedCell, Error> {
-    let logic = read_cell(text, plan)?;
-    Ok(crate::sizing::size(&logic, plan)?)
+/// without delays): of its forms, the one of least total W/L.
+pub fn read_and_size(text: &str, plan: &Plan, pull_up: Option<&str>) -> Result<crate::cell::SizedCell, Error> {
+    let forms = read_cells(text, plan, pull_up)?;
+    Ok(crate::sizing::size_best(&forms, plan)?)
 }
 
 /// A drive, mobility ratio or reference W/L: within [`bounds::SIZING`].

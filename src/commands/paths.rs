@@ -66,8 +66,8 @@ pub fn run(args: Args) -> Result<(), Error> {
     // The elmore method sizes at fan-out 1 and the default diffusion ratio.
     let plan = super::plan(&gate, StackOrder::Default, Timed::default())?;
     let text = super::expression_text(&expression)?;
-    let sized = super::read_and_size(&text, &plan)?;
-    for network in sized.stage().networks.values() {
+    let sized = super::read_and_size(&text, &plan, gate.pull_up.as_deref())?;
+    for network in sized.stages.iter().flat_map(|s| s.networks.values()) {
         paths::check_listing(&network.network, limit)?;
     }
     let listings = figures::path_listings(&sized, limit);

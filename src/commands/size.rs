@@ -127,12 +127,14 @@ pub fn run(args: Args) -> Result<(), Error> {
     let conditions = Timed { load: delay.load(), diffusion_ratio: delay.diffusion_ratio, matter: timed };
     let plan = super::plan(&gate, delay.stack_order.unwrap_or_default(), conditions)?;
     let text = super::expression_text(&expression)?;
-    let logic = super::read_cell(&text, &plan)?;
+    let forms = super::read_cells(&text, &plan, gate.pull_up.as_deref())?;
     let sized = if timed {
-        let (cell, report) = analysis::size_and_time(&logic, &plan)?;
+        // The form of least total W/L, timed.
+        let untimed = crate::sizing::size_best(&forms, &plan)?;
+        let (cell, report) = analysis::size_and_time(&untimed.logic, &plan)?;
         CellReport { figures: CellFigures::of(&cell), delays: Some(report) }
     } else {
-        CellReport::of(&crate::sizing::size(&logic, &plan)?)
+        CellReport::of(&crate::sizing::size_best(&forms, &plan)?)
     };
     let (format, rows) = (format.into(), rows.into());
     crate::io::write_output(output.output.as_deref(), |out| {

@@ -88,7 +88,7 @@ pub fn run(args: Args) -> Result<(), Error> {
     let Args { expression, gate, format, output, random_vectors, seed } = args;
     let text = super::expression_text(&expression)?;
     let plan = super::plan(&gate, StackOrder::Default, Timed::default())?;
-    let sized = super::read_and_size(&text, &plan)?;
+    let sized = super::read_and_size(&text, &plan, gate.pull_up.as_deref())?;
     let options = VerifyOptions { random_vectors, seed, work_budget: gate.work_budget, ..VerifyOptions::default() };
     let result = verify::verify(&CellFigures::of(&sized), &options)?;
     let format = format.into();

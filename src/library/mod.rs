@@ -27,7 +27,7 @@ use crate::cell::SizedCell;
 use crate::diagnostic::{Source, Span, escaped};
 use crate::expr::read_gate_with_models;
 use crate::figures::CellFigures;
-use crate::logic::read_cell;
+use crate::logic::synthesize_with_models;
 use crate::names;
 use crate::process::Process;
 use crate::sizing::{self, MethodName, StackOrder};
@@ -277,8 +277,9 @@ pub struct Outcome {
 
 /// Size one gate in each of its drives, or say why it cannot be.
 pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedCell>, GateProblem> {
-    let logic = read_cell(&plan.expression, &process.model_names())
+    let forms = synthesize_with_models(&plan.expression, &process.model_names())
         .map_err(|error| plan.expression_problem(error.to_string(), error.span()))?;
+    let logic = &forms[0];
     if let Some(critical) = &plan.critical
         && !logic.inputs.contains(critical)
     {
@@ -294,7 +295,7 @@ pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedCel
     }
     let mut variants = Vec::with_capacity(plan.drives.len());
     for &drive in &plan.drives {
-        let sized = sizing::size(&logic, &plan.plan(drive, process)?)
+        let sized = sizing::size_best(&forms, &plan.plan(drive, process)?)
             .map_err(|error| plan.problem(error.to_string(), Place::File(plan.name_span)))?;
         variants.push(sized);
     }

@@ -54,14 +54,15 @@ pub const GATE_COLUMNS: [&str; 38] = [
 ];
 
 /// Columns of the devices view, in order: keys to join on (the variant, its drive and method, the
-/// device, its network and input), then the device's own values. Every number sums per gate to the
+/// device, its stage (the net the stage drives), its network and input), then the device's own values. Every number sums per gate to the
 /// gate's figure (W/L, widths, area, fingers; gate capacitance per gate and input to the input's
 /// capacitance), except the one named per finger.
-pub const DEVICE_COLUMNS: [&str; 18] = [
+pub const DEVICE_COLUMNS: [&str; 19] = [
     "gate",
     "drive",
     "method",
     "device",
+    "stage",
     "type",
     "network",
     "input",
@@ -190,6 +191,7 @@ fn gates_view(reports: &[CellReport], rows: Rows, out: &mut dyn Write) -> csv::R
                         value(gate.drive),
                         gate.method.name().to_string(),
                         transistor.name.clone(),
+                        transistor.stage.clone(),
                         transistor.device_type.to_string(),
                         transistor.network.name().to_string(),
                         transistor.input.clone(),
@@ -235,8 +237,8 @@ fn gates_view(reports: &[CellReport], rows: Rows, out: &mut dyn Write) -> csv::R
 }
 
 /// Columns of the path listing, in order.
-pub const PATH_COLUMNS: [&str; 7] =
-    ["gate", "network", "rank", "resistance_r", "devices", "vector", "drawn_resistance_r"];
+pub const PATH_COLUMNS: [&str; 8] =
+    ["gate", "stage", "network", "rank", "resistance_r", "devices", "vector", "drawn_resistance_r"];
 
 /// One row per listed path.
 pub fn write_paths(gate: &CellFigures, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
@@ -250,6 +252,7 @@ fn paths_view(gate: &CellFigures, listings: &[PathListing], out: &mut dyn Write)
         for (rank, path) in listing.paths.iter().enumerate() {
             writer.write_record([
                 gate.name.clone(),
+                listing.stage.clone(),
                 listing.network.name().to_string(),
                 (rank + 1).to_string(),
                 value(path.resistance),

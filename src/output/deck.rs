@@ -58,6 +58,15 @@ impl Models {
 /// Why a deck is not written.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum DeckError {
+    /// A cell of several stages: the deck times one stage against the reference inverter.
+    #[error(
+        "the deck simulates cells of one stage, and this one has {stages} stages: verify it with 'widthwise \
+         verify', or write its netlist with 'widthwise size --format spice' and simulate that"
+    )]
+    SeveralStages {
+        /// Its stages.
+        stages: usize,
+    },
     /// A model-library path with a character a `.include` line cannot hold.
     #[error(
         "the --models path '{}' holds a double quote or a control character, which a SPICE .include line \
@@ -102,6 +111,9 @@ pub enum DeckError {
 
 /// Refuse a gate too large for a deck ([`MAX_DECK_OCCURRENCES`]).
 pub fn check_size(cell: &SizedCell) -> Result<(), DeckError> {
+    if !cell.is_single_stage() {
+        return Err(DeckError::SeveralStages { stages: cell.stages.len() });
+    }
     let count = cell.stage().function.literals.len();
     if count > MAX_DECK_OCCURRENCES {
         return Err(DeckError::TooLarge { count, limit: MAX_DECK_OCCURRENCES });

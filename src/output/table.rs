@@ -89,7 +89,12 @@ fn write_gate(report: &CellReport, out: &mut dyn Write) -> io::Result<()> {
     }));
     write_columns(&rows, out)?;
 
-    writeln!(out, "\nnetworks (resistance in units of R, the unit NMOS)")?;
+    if gate.stages.len() > 1 {
+        write_stages(gate, out)?;
+        writeln!(out, "\nnetworks of the output stage {} (resistance in units of R, the unit NMOS)", gate.output)?;
+    } else {
+        writeln!(out, "\nnetworks (resistance in units of R, the unit NMOS)")?;
+    }
     let mut rows = vec![strings([
         "network",
         "target",
@@ -165,6 +170,58 @@ fn write_gate(report: &CellReport, out: &mut dyn Write) -> io::Result<()> {
     Ok(())
 }
 
+/// The stages of a cell of several stages, and each input's logical-effort delay estimate.
+fn write_stages(gate: &CellFigures, out: &mut dyn Write) -> io::Result<()> {
+    writeln!(out, "\nstages ({} form; {})", gate.form, form_note(gate))?;
+    let mut rows = vec![strings(["stage", "role", "computes", "drive", "input", "C in", "g", "h", "f = g h", "p"])];
+    for stage in &gate.stages {
+        let drive = if stage.clamped {
+            format!("{} (raised to the minimum width)", number(stage.drive))
+        } else {
+            number(stage.drive)
+        };
+        for (index, input) in stage.inputs.iter().enumerate() {
+            let first = index == 0;
+            let shown = |text: String| if first { text } else { String::new() };
+            rows.push(vec![
+                shown(stage.stage.clone()),
+                shown(stage.role.to_string()),
+                shown(format!("{} = {}", stage.stage, stage.expression)),
+                shown(drive.clone()),
+                input.net.clone(),
+                number(input.input_capacitance),
+                number(input.logical_effort),
+                number(input.electrical_effort),
+                shown(number(stage.effort)),
+                shown(number(stage.parasitic_delay)),
+            ]);
+        }
+    }
+    write_columns(&rows, out)?;
+    writeln!(out, "\ndelay estimate (logical effort: the largest sum of g h + p along the input's paths, in tau)")?;
+    let mut rows = vec![strings(["input", "load (unit C)", "delay (tau)", "through"])];
+    rows.extend(
+        gate.delay_estimates
+            .iter()
+            .map(|e| vec![e.input.clone(), number(e.load_capacitance), number(e.delay_tau), e.path.join(" -> ")]),
+    );
+    write_columns(&rows, out)
+}
+
+/// Which form the cell takes, and why.
+fn form_note(gate: &CellFigures) -> String {
+    let others: Vec<String> = gate
+        .other_forms
+        .iter()
+        .map(|f| format!("the {} form would take total W/L {}", f.form, number(f.total_w_over_l)))
+        .collect();
+    if others.is_empty() {
+        "the only form".to_string()
+    } else {
+        format!("the smaller total W/L: {}", others.join(", "))
+    }
+}
+
 /// A signed percentage: `-0.1126003414%`, `0%`.
 fn percent(value: f64) -> String {
     format!("{}%", number(value))
@@ -173,10 +230,12 @@ fn percent(value: f64) -> String {
 /// Write the path listing of both networks.
 pub fn write_paths(gate: &CellFigures, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
     writeln!(out, "{}: {} = {} ({} sizing)", gate.name, gate.output, gate.expression, gate.method.name())?;
+    let several = listings.iter().any(|l| l.stage != gate.output);
     for listing in listings {
+        let stage = if several { format!("stage {}, ", listing.stage) } else { String::new() };
         writeln!(
             out,
-            "\n{}: {} paths, target {} R; {} weakest shown",
+            "\n{stage}{}: {} paths, target {} R; {} weakest shown",
             listing.network.name(),
             listing.path_count,
             number(listing.target_resistance),

@@ -45,7 +45,13 @@ pub fn stage(
     }
     let pull_up = sized.pop().expect("two networks");
     let pull_down = sized.pop().expect("two networks");
-    Ok(SizedStage { role, function: function.clone(), networks: Sides::new(pull_down, pull_up) })
+    Ok(SizedStage {
+        role,
+        function: function.clone(),
+        networks: Sides::new(pull_down, pull_up),
+        drive: plan.drive,
+        clamped: false,
+    })
 }
 
 /// The cell name `plan` gives a cell: the name given, as given; else the shorthand, or `cell` for an
@@ -73,5 +79,12 @@ pub fn check_names(logic: &CellLogic, plan: &Plan) -> Result<(), SizingError> {
 
 /// A cell of one sized stage.
 pub fn cell(logic: &CellLogic, plan: &Plan, stage: SizedStage, search: Option<StackOrderReport>) -> SizedCell {
-    SizedCell { name: cell_name(logic, plan), logic: logic.clone(), plan: plan.clone(), stages: vec![stage], search }
+    SizedCell {
+        name: cell_name(logic, plan),
+        logic: logic.clone(),
+        plan: plan.clone(),
+        stages: vec![stage],
+        search,
+        other_forms: Vec::new(),
+    }
 }

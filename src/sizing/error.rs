@@ -53,9 +53,14 @@ pub enum SizingError {
         /// The gate's inputs, listed.
         inputs: String,
     },
-    /// A cell of several stages, whose sizing has not landed yet.
-    #[error("a cell of {stages} stages cannot be sized yet: only single-stage cells are")]
+    /// What takes one stage only (the stack-order search), asked of a cell of several stages.
+    #[error(
+        "{what} takes cells of one stage, and this one has {stages} stages (docs/model.md section 11): drop it, \
+         or size the cell's stages as expressions of their own"
+    )]
     SeveralStages {
+        /// What was asked (`the stack-order search`, `the delay report`).
+        what: &'static str,
         /// Its stages.
         stages: usize,
     },

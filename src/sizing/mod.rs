@@ -7,6 +7,7 @@
 //! W/L (1 is the unit NMOS); resistances are in units of R, the unit NMOS's on-resistance.
 
 pub mod build;
+pub mod cell;
 pub mod elmore;
 pub mod error;
 pub mod order;
@@ -18,6 +19,7 @@ use crate::budget::Meter;
 use crate::cell::SizedCell;
 use crate::logic::CellLogic;
 
+pub use cell::size_best;
 pub use error::SizingError;
 pub use plan::{
     Conditions, CriticalWithWrittenOrder, Load, Method, MethodName, Order, Plan, Reference, StackOrder, WorstCase,
@@ -25,19 +27,20 @@ pub use plan::{
 use stage::{Arrangement, size_stage};
 
 /// Size `logic` under `plan`: names and values checked, then the method in the plan's stack order
-/// (searched for, when it asks), within the plan's work budget.
+/// (searched for, when it asks), within the plan's work budget. A cell of several stages is sized
+/// stage by stage from the output ([`cell`]).
 pub fn size(logic: &CellLogic, plan: &Plan) -> Result<SizedCell, SizingError> {
     size_within(logic, plan, &Meter::new(plan.budget))
 }
 
 /// [`size`], its work counted on `meter` (shared with the timing of the same run).
 pub fn size_within(logic: &CellLogic, plan: &Plan, meter: &Meter) -> Result<SizedCell, SizingError> {
-    if !logic.is_single_stage() {
-        return Err(SizingError::SeveralStages { stages: logic.stages.len() });
-    }
     build::check_names(logic, plan)?;
     plan.check()?;
     plan.conditions.check()?;
+    if !logic.is_single_stage() {
+        return cell::size_stages(logic, plan, meter);
+    }
     let stage = &logic.stages[0];
     let function = &stage.function;
     let critical = match plan.order.critical() {
@@ -53,9 +56,9 @@ pub fn size_within(logic: &CellLogic, plan: &Plan, meter: &Meter) -> Result<Size
     let (sized, search) = match &plan.order {
         Order::Default { .. } => {
             let arrangement = Arrangement::Default(critical.map(|(index, _)| index));
-            (size_stage(function, stage.role, plan, &arrangement, meter)?, None)
+            (size_stage(stage, plan, &arrangement, meter)?, None)
         }
-        Order::Written => (size_stage(function, stage.role, plan, &Arrangement::Written, meter)?, None),
+        Order::Written => (size_stage(stage, plan, &Arrangement::Written, meter)?, None),
         Order::Search { .. } => {
             let (sized, report) = order::search(logic, plan, critical, meter)?;
             (sized, Some(report))
@@ -68,9 +71,12 @@ pub fn size_within(logic: &CellLogic, plan: &Plan, meter: &Meter) -> Result<Size
 /// its work counted on `meter`.
 pub fn resize(cell: &SizedCell, method: Method, meter: &Meter) -> Result<SizedCell, SizingError> {
     let plan = Plan { method, ..cell.plan.clone() };
+    if !cell.is_single_stage() {
+        return cell::size_stages(&cell.logic, &plan, meter);
+    }
     let stage = cell.stage();
     let networks = stage.networks.as_ref().map(|_, n| n.network.clone());
-    let sized = size_stage(&stage.function, stage.role, &plan, &Arrangement::Given(networks), meter)?;
+    let sized = size_stage(&cell.logic.stages[0], &plan, &Arrangement::Given(networks), meter)?;
     Ok(build::cell(&cell.logic, &plan, sized, None))
 }
 
@@ -89,9 +95,10 @@ mod tests {
     }
 
     #[test]
-    fn several_stages_wait_for_their_sizing() {
+    fn the_stack_order_search_takes_one_stage() {
         let cells = crate::logic::synthesize("xor2").unwrap();
-        let error = size(&cells[0], &Plan::new(Method::LongestPath, 2.0, 1.0, None)).unwrap_err();
+        let plan = Plan { order: Order::Search { critical: None }, ..Plan::new(Method::LongestPath, 2.0, 1.0, None) };
+        let error = size(&cells[0], &plan).unwrap_err();
         assert!(matches!(error, SizingError::SeveralStages { .. }), "{error}");
     }
 }

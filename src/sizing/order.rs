@@ -12,8 +12,7 @@
 
 use crate::budget::{Estimate, Meter, Work};
 use crate::cell::{SizedStage, StackOrderReport, describe};
-use crate::expr::GateFunction;
-use crate::logic::{CellLogic, StageRole};
+use crate::logic::{CellLogic, StageLogic};
 use crate::network::{Network, NetworkKind, Node, Sides};
 use crate::sizing::build;
 use crate::sizing::error::SizingError;
@@ -71,8 +70,7 @@ fn next_permutation(order: &mut [usize]) -> bool {
 struct Search<'a> {
     meter: &'a Meter,
     logic: &'a CellLogic,
-    function: &'a GateFunction,
-    role: StageRole,
+    stage: &'a StageLogic,
     plan: &'a Plan,
     critical: Option<&'a str>,
     base: Sides<Network>,
@@ -91,7 +89,7 @@ impl Search<'_> {
         self.tried += 1;
         let arrangement = Arrangement::Given(self.trees(orders));
         let elmore = self.plan.method.sizes_by_delay();
-        let stage = match size_stage(self.function, self.role, self.plan, &arrangement, self.meter) {
+        let stage = match size_stage(self.stage, self.plan, &arrangement, self.meter) {
             Ok(stage) => stage,
             Err(error) if error.is_infeasible() && elmore => return Ok(None),
             Err(error) => return Err(error),
@@ -124,23 +122,14 @@ pub fn search(
     }
     // The default order is the one the cell gets without a search.
     let default = Arrangement::Default(critical.map(|(index, _)| index));
-    let default_stage = size_stage(function, stage.role, plan, &default, meter)?;
+    let default_stage = size_stage(stage, plan, &default, meter)?;
     let base = default_stage.networks.as_ref().map(|_, n| n.network.clone());
     let mut shape = Vec::new();
     for (side, network) in base.iter() {
         stacks(&network.root, side, &mut shape);
     }
     let identity: Vec<Vec<usize>> = shape.iter().map(|&(_, len)| (0..len).collect()).collect();
-    let mut search = Search {
-        meter,
-        logic,
-        function,
-        role: stage.role,
-        plan,
-        critical: critical.map(|(_, name)| name),
-        base,
-        tried: 0,
-    };
+    let mut search = Search { meter, logic, stage, plan, critical: critical.map(|(_, name)| name), base, tried: 0 };
     meter.label(Work::OrderSearch);
     let before = meter.spent();
     let Some((default_value, default_stage)) = search.score(&identity)? else { unreachable_default()? };

@@ -291,7 +291,14 @@ pub struct Plan {
     pub name: Option<String>,
     /// The work budget of each long computation of the sizing and timing ([`crate::budget`]).
     pub budget: u64,
+    /// The effort each stage before the output stage of a cell of several stages bears driving
+    /// what it drives (docs/model.md section 11): its drive is its load over this times the unit
+    /// reference inverter's input capacitance.
+    pub stage_effort: f64,
 }
+
+/// The stage effort when none is given: 4, the usual design value (common practice, no source).
+pub const DEFAULT_STAGE_EFFORT: f64 = 4.0;
 
 impl Plan {
     /// A plan with the given method, mobility ratio, drive and reference (balanced when `None`), in
@@ -308,6 +315,7 @@ impl Plan {
             process: Arc::new(Process::default()),
             name: None,
             budget: DEFAULT_WORK_BUDGET,
+            stage_effort: DEFAULT_STAGE_EFFORT,
         }
     }
 
@@ -352,6 +360,7 @@ impl Plan {
             ("the mobility ratio", self.mobility_ratio),
             ("the reference NMOS W/L", self.reference.nmos),
             ("the reference PMOS W/L", self.reference.pmos),
+            ("the stage effort", self.stage_effort),
         ] {
             bounds::SIZING.check_named(what, value)?;
         }

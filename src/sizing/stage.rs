@@ -3,8 +3,7 @@
 
 use crate::budget::Meter;
 use crate::cell::SizedStage;
-use crate::expr::GateFunction;
-use crate::logic::StageRole;
+use crate::logic::StageLogic;
 use crate::network::{Network, Sides};
 use crate::sizing::build;
 use crate::sizing::elmore;
@@ -38,16 +37,16 @@ fn arrange(written: Sides<Network>, widths: &Sides<Vec<f64>>, arrangement: &Arra
     }
 }
 
-/// Size `function` (a stage of role `role`) by the plan's method in `arrangement`, the elmore
-/// method's work counted on `meter`.
+/// Size `stage` (its pull-up the dual of its pull-down, or the one the user wrote) by the plan's
+/// method in `arrangement`, the elmore method's work counted on `meter`.
 pub fn size_stage(
-    function: &GateFunction,
-    role: StageRole,
+    stage: &StageLogic,
     plan: &Plan,
     arrangement: &Arrangement,
     meter: &Meter,
 ) -> Result<SizedStage, SizingError> {
-    let written = Network::pair(function);
+    let (function, role) = (&stage.function, stage.role);
+    let written = stage.networks();
     match plan.method {
         Method::LongestPath | Method::MinArea { .. } => {
             let rule = if plan.method == Method::LongestPath { Rule::LongestPath } else { Rule::MinArea };

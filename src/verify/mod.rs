@@ -27,7 +27,7 @@ use crate::paths::{EXACT_WORST_MAX_INPUTS, Vector};
 pub use error::VerifyError;
 use netlist::Netlist;
 pub use report::{Check, Coverage, Failure, NetworkBound, Verification, VerifyFailed};
-use simulate::{Program, Simulator, WORD, WordOutcome};
+use simulate::{InnerStage, Program, Simulator, WORD, WordOutcome};
 
 /// Most inputs checked exhaustively (2^30 vectors, about a billion); past it a pseudo-random sample.
 pub const MAX_EXHAUSTIVE_INPUTS: usize = 30;
@@ -87,7 +87,7 @@ pub fn verify(gate: &CellFigures, options: &VerifyOptions) -> Result<Verificatio
     let work = verify_work(inputs.len(), occurrences(gate), options);
     Meter::new(options.work_budget).require(work, Estimate::Exactly, Work::Verify).map_err(VerifyError::OverBudget)?;
     let input_index: HashMap<&str, usize> = inputs.iter().enumerate().map(|(i, n)| (n.as_str(), i)).collect();
-    let netlist = Netlist::new(gate, &input_index)?;
+    let (inner, netlist) = stage_netlists(gate, &inputs)?;
     let text = &gate.expression;
     // The canonical text of an accepted gate: its spaces may take it past the limit written text has.
     let parsed = parser::parse_within(text, text.len())
@@ -100,7 +100,8 @@ pub fn verify(gate: &CellFigures, options: &VerifyOptions) -> Result<Verificatio
     } else {
         Coverage::Random { seed: options.seed }
     };
-    let simulator = Simulator { netlist: &netlist, program: &program, input_count: inputs.len(), coverage };
+    let simulator =
+        Simulator { inner: &inner, netlist: &netlist, program: &program, input_count: inputs.len(), coverage };
     let first = first_failure(&simulator, planned, options.threads.max(1));
 
     let failure = first.map(|(index, check, outcome)| {
@@ -132,6 +133,34 @@ pub fn verify(gate: &CellFigures, options: &VerifyOptions) -> Result<Verificatio
         failure,
         networks: bounds(gate),
     })
+}
+
+/// The netlist of each stage of the gate, the transistors grouped by the stage they name in order of
+/// first appearance: every stage before the last with the slot (after the pins) of its output's word,
+/// and the last's, which drives the output. A one-stage gate is one netlist, as a reader takes it.
+fn stage_netlists(gate: &CellFigures, inputs: &[String]) -> Result<(Vec<InnerStage>, Netlist), VerifyError> {
+    let mut stages: Vec<&str> = Vec::new();
+    for transistor in &gate.transistors {
+        if !stages.contains(&transistor.stage.as_str()) {
+            stages.push(&transistor.stage);
+        }
+    }
+    let mut index: HashMap<&str, usize> = inputs.iter().enumerate().map(|(i, n)| (n.as_str(), i)).collect();
+    let Some((_, earlier)) = stages.split_last() else {
+        return Ok((Vec::new(), Netlist::new(gate, &index)?));
+    };
+    let mut inner = Vec::with_capacity(earlier.len());
+    for &stage in earlier {
+        let transistors: Vec<&crate::figures::Transistor> =
+            gate.transistors.iter().filter(|t| t.stage == stage).collect();
+        let netlist = Netlist::of(stage, transistors.iter().copied(), &index)?;
+        let slot = inputs.len() + inner.len();
+        inner.push(InnerStage { netlist, slot });
+        index.insert(stage, slot);
+    }
+    let last: Vec<&crate::figures::Transistor> =
+        gate.transistors.iter().filter(|t| !earlier.contains(&t.stage.as_str())).collect();
+    Ok((inner, Netlist::of(&gate.output, last.iter().copied(), &index)?))
 }
 
 /// The lowest-indexed failing vector among the first `planned`, with its check and word outcome.
@@ -187,7 +216,14 @@ fn occurrences(gate: &CellFigures) -> usize {
 
 /// Path bound and exact worst case of each network, from the sized gate.
 fn bounds(gate: &CellFigures) -> Vec<NetworkBound> {
-    let repeated = occurrences(gate) > gate.inputs.len();
+    // The networks are the output stage's: its inputs repeat where it has more occurrences than inputs.
+    let repeated = match gate.stages.last() {
+        Some(last) if gate.stages.len() > 1 => {
+            let own = gate.transistors.iter().filter(|t| t.stage == last.stage && t.network == NetworkKind::PullDown);
+            own.count() > last.inputs.len()
+        }
+        _ => occurrences(gate) > gate.inputs.len(),
+    };
     gate.networks
         .iter()
         .map(|network| {
@@ -442,6 +478,7 @@ mod tests {
             let netlist = Netlist::new(&gate, &input_index).unwrap();
             let program = Program::new(&parser::parse(&gate.function.text).unwrap().expr, &input_index).unwrap();
             let simulator = Simulator {
+                inner: &[],
                 netlist: &netlist,
                 program: &program,
                 input_count: 40,

@@ -3,7 +3,7 @@
 
 use std::collections::HashMap;
 
-use crate::figures::CellFigures;
+use crate::figures::{CellFigures, Transistor};
 use crate::network::NetworkKind;
 use crate::verify::error::VerifyError;
 
@@ -60,20 +60,29 @@ pub(crate) struct Netlist {
 
 impl Netlist {
     pub(crate) fn new(gate: &CellFigures, input_index: &HashMap<&str, usize>) -> Result<Netlist, VerifyError> {
+        Netlist::of(&gate.output, gate.transistors.iter(), input_index)
+    }
+
+    /// The netlist of the transistors `transistors` driving `output` (one stage of a cell), each
+    /// gated by the word `input_index` gives its input net.
+    pub(crate) fn of<'t>(
+        output: &str,
+        transistors: impl ExactSizeIterator<Item = &'t Transistor> + Clone,
+        input_index: &HashMap<&str, usize>,
+    ) -> Result<Netlist, VerifyError> {
         fn node<'a>(name: &'a str, nodes: &mut HashMap<&'a str, u32>) -> u32 {
             let next = nodes.len() as u32;
             *nodes.entry(name).or_insert(next)
         }
         let mut nodes: HashMap<&str, u32> = HashMap::new();
-        for (name, number) in
-            [(NetworkKind::PullUp.rail(), VDD), (NetworkKind::PullDown.rail(), VSS), (&gate.output, OUTPUT)]
+        for (name, number) in [(NetworkKind::PullUp.rail(), VDD), (NetworkKind::PullDown.rail(), VSS), (output, OUTPUT)]
         {
             let given = node(name, &mut nodes);
             debug_assert_eq!(given as usize, number);
         }
-        let mut gating = Vec::with_capacity(gate.transistors.len());
-        let mut ends = Vec::with_capacity(gate.transistors.len());
-        for transistor in &gate.transistors {
+        let mut gating = Vec::with_capacity(transistors.len());
+        let mut ends = Vec::with_capacity(transistors.len());
+        for transistor in transistors.clone() {
             let input = *input_index.get(transistor.input.as_str()).ok_or_else(|| VerifyError::UnknownInput {
                 device: transistor.name.clone(),
                 input: transistor.input.clone(),

@@ -103,6 +103,9 @@ pub(crate) struct WordOutcome {
     pub(crate) down: u64,
     pub(crate) shorted: u64,
     pub(crate) expected: u64,
+    /// Bits where some earlier stage of a cell fails: its output tied to both rails, its rails
+    /// meeting, its output tied to neither (one word each, ORed over the stages).
+    pub(crate) inner: [u64; 3],
 }
 
 impl WordOutcome {
@@ -111,7 +114,9 @@ impl WordOutcome {
         let both = self.up & self.down;
         let neither = !self.up & !self.down;
         let wrong = (self.up & !self.down & !self.expected) | (self.down & !self.up & self.expected);
-        [both, self.shorted & !both, neither, wrong]
+        let [inner_both, inner_shorted, inner_neither] = self.inner;
+        let both = both | inner_both;
+        [both, (self.shorted | inner_shorted) & !both, neither | inner_neither, wrong]
     }
 }
 
@@ -121,9 +126,20 @@ pub(crate) struct Workspace {
     pub(crate) words: Vec<u64>,
     pub(crate) reach: Vec<u64>,
     pub(crate) stack: Vec<u64>,
+    /// Switch words and reach of each earlier stage.
+    pub(crate) inner: Vec<(Vec<u64>, Vec<u64>)>,
+}
+
+/// An earlier stage of a cell: its netlist, and the slot after the pins its output's word takes.
+pub(crate) struct InnerStage {
+    pub(crate) netlist: Netlist,
+    pub(crate) slot: usize,
 }
 
 pub(crate) struct Simulator<'a> {
+    /// The earlier stages of a cell, in order (none for a one-stage gate).
+    pub(crate) inner: &'a [InnerStage],
+    /// The stage that drives the output.
     pub(crate) netlist: &'a Netlist,
     pub(crate) program: &'a Program,
     pub(crate) input_count: usize,
@@ -133,10 +149,15 @@ pub(crate) struct Simulator<'a> {
 impl Simulator<'_> {
     pub(crate) fn workspace(&self) -> Workspace {
         Workspace {
-            inputs: vec![0; self.input_count],
+            inputs: vec![0; self.input_count + self.inner.len()],
             words: vec![0; self.netlist.gating.len() + self.netlist.combine.len()],
             reach: vec![0; self.netlist.node_count],
             stack: Vec::with_capacity(self.program.steps.len()),
+            inner: self
+                .inner
+                .iter()
+                .map(|s| (vec![0; s.netlist.gating.len() + s.netlist.combine.len()], vec![0; s.netlist.node_count]))
+                .collect(),
         }
     }
 
@@ -162,29 +183,43 @@ impl Simulator<'_> {
     }
 
     pub(crate) fn word(&self, word: u64, space: &mut Workspace) -> WordOutcome {
-        self.inputs(word, &mut space.inputs);
-        let netlist = self.netlist;
-        let (gated, combined) = space.words.split_at_mut(netlist.gating.len());
-        for (on, gating) in gated.iter_mut().zip(&netlist.gating) {
-            *on = space.inputs[gating.input as usize] ^ gating.flip;
+        self.inputs(word, &mut space.inputs[..self.input_count]);
+        // Each earlier stage in order: its output's word is where its pull-up ties it to vdd.
+        let mut inner = [0u64; 3];
+        for (stage, (words, reach)) in self.inner.iter().zip(&mut space.inner) {
+            let (up, down, shorted) = switch(&stage.netlist, &space.inputs, words, reach);
+            inner[0] |= up & down;
+            inner[1] |= shorted;
+            inner[2] |= !up & !down;
+            space.inputs[stage.slot] = up;
         }
-        for (k, combine) in netlist.combine.iter().enumerate() {
-            let word = |slot: u32| {
-                let slot = slot as usize;
-                if slot < gated.len() { gated[slot] } else { combined[slot - gated.len()] }
-            };
-            let (x, y) = (word(combine.x), word(combine.y));
-            combined[k] = if combine.series { x & y } else { x | y };
-        }
-        netlist.reach(VDD, &space.words, &mut space.reach);
-        let up = space.reach[OUTPUT];
-        let shorted = space.reach[VSS];
-        netlist.reach(VSS, &space.words, &mut space.reach);
-        let down = space.reach[OUTPUT];
+        let (up, down, shorted) = switch(self.netlist, &space.inputs, &mut space.words, &mut space.reach);
         // The gate computes the expression: high when it is true.
-        let expected = self.program.evaluate(&space.inputs, &mut space.stack);
-        WordOutcome { up, down, shorted, expected }
+        let expected = self.program.evaluate(&space.inputs[..self.input_count], &mut space.stack);
+        WordOutcome { up, down, shorted, expected, inner }
     }
+}
+
+/// One stage's netlist on one word of input values: where its output is tied to vdd, to vss, and
+/// where the rails meet.
+fn switch(netlist: &Netlist, inputs: &[u64], words: &mut [u64], reach: &mut [u64]) -> (u64, u64, u64) {
+    let (gated, combined) = words.split_at_mut(netlist.gating.len());
+    for (on, gating) in gated.iter_mut().zip(&netlist.gating) {
+        *on = inputs[gating.input as usize] ^ gating.flip;
+    }
+    for (k, combine) in netlist.combine.iter().enumerate() {
+        let word = |slot: u32| {
+            let slot = slot as usize;
+            if slot < gated.len() { gated[slot] } else { combined[slot - gated.len()] }
+        };
+        let (x, y) = (word(combine.x), word(combine.y));
+        combined[k] = if combine.series { x & y } else { x | y };
+    }
+    netlist.reach(VDD, words, reach);
+    let up = reach[OUTPUT];
+    let shorted = reach[VSS];
+    netlist.reach(VSS, words, reach);
+    (up, reach[OUTPUT], shorted)
 }
 
 /// SplitMix64's output function: a fast, well-mixed 64-bit hash (common practice, no source).

@@ -109,7 +109,7 @@ fn bad_input_exits_2_with_a_caret() {
         &["size", "a # b"],
         &["size", "&"],
         &["size", "nand9"],
-        &["size", "a & b"],
+        &["size", "xor2", "--pull-up", "a | b"],
         &["size", "nand2", "--drive", "-1"],
         &["size", "nand2", "--mobility-ratio", "nan"],
         &["size", "nand2", "--critical", "q"],

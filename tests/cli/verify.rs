@@ -52,7 +52,11 @@ fn bad_requests_exit_2() {
     widthwise().args(["verify", "nand2", "--format", "spice"]).assert().code(2);
     widthwise().args(["verify", "nand2", "--random-vectors", "0"]).assert().code(2);
     widthwise().args(["verify", "nand2", "--random-vectors", "1073741825"]).assert().code(2);
-    widthwise().args(["verify", "a & b"]).assert().code(2).stderr(predicate::str::contains("non-inverting"));
+    widthwise()
+        .args(["verify", "xor2", "--pull-up", "!a"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("'!' is refused"));
 }
 
 #[test]
