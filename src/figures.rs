@@ -338,7 +338,7 @@ fn other_total(stage: &SizedStage, plan: &Plan, method: Method) -> f64 {
 }
 
 /// Input capacitance of every pin of the cell, in C: the W/L of every device of every stage it
-/// gates, both networks (docs/model.md sections 6 and 11).
+/// gates, both networks (docs/model.md sections 6 and 9).
 pub fn pin_capacitance(cell: &SizedCell) -> Vec<f64> {
     let mut capacitance = vec![0.0; cell.logic.inputs.len()];
     for stage in &cell.stages {

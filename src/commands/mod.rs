@@ -52,10 +52,15 @@ pub(crate) use estimates_note;
 pub const AFTER_HELP: &str = concat!(
     "\
 Expressions: NOT as !, ~ or postfix '; AND as &, *, . or juxtaposition; OR as | or +; parentheses;
-an optional 'name =' prefix names the output (default y). Precedence NOT > AND > OR. Any expression
-whose negation-normal form is one inverting stage is accepted (!a & !b is a NOR). Shorthands: inv,
+an optional 'name =' prefix names the output (default y); XOR as ^. Precedence NOT > AND > XOR > OR.
+A function whose negation-normal form is one inverting stage is one stage (!a & !b is a NOR); any
+other is a cell of several stages: input inverters for the complements it needs (a_n, shared), the
+logic stage, an output inverter where the polarity asks (where both forms exist, the one of smaller
+total W/L). Earlier stages bear --stage-effort F driving what they drive. Shorthands: inv,
 nand2..nand8, nor2..nor8, aoi21, aoi22, aoi211 ..., oai21, oai22 ... (inputs a, b, c ... z, a1 ...,
-skipping the output's name). Reserved, compared without case, for inputs, the output and the cell
+skipping the output's name); buf, and2..and8, or2..or8, ao21, ao22, oa21, oa22 (the same inputs);
+xor2, xnor2, xor3; mux2 (inputs a, b, s: y = a at s = 0, b at s = 1), mux2i (its complement); maj3
+(majority of a, b, c). Cells of several stages take no Elmore delays, stack-order search or deck yet. Reserved, compared without case, for inputs, the output and the cell
 name: vdd, vss, gnd, 0 and the model names in use (the process's nmos_model and pmos_model).
 
 Units: sizes are relative W/L, 1 = the unit NMOS; resistances are in units of R, the unit NMOS's

@@ -1,5 +1,5 @@
 //! Figures of each stage of a cell and the cell's logical-effort delay estimate per input
-//! (docs/model.md section 11): each stage's drive, load, logical effort g and electrical effort h
+//! (docs/model.md section 9): each stage's drive, load, logical effort g and electrical effort h
 //! per input, effort f = g h and parasitic delay p, as sized (after any clamp); and, per cell input,
 //! the largest sum of g h + p over the stages along its paths to the output, in tau.
 

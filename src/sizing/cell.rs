@@ -1,4 +1,4 @@
-//! Cells of several stages sized (docs/model.md section 11): the output stage by the plan's method at
+//! Cells of several stages sized (docs/model.md section 9): the output stage by the plan's method at
 //! the cell's drive, exactly as a one-stage cell; each earlier stage backwards, at the drive that
 //! makes it bear the plan's stage effort driving what it drives, raised where a device would fall
 //! below the process's minimum width. Of a function's forms, the one of least total W/L is kept.
@@ -154,7 +154,7 @@ mod tests {
     fn and2_is_a_nand2_sized_back_from_its_output_inverter() {
         // AND2 at drive 4, mu = 2: the output inverter NMOS 4, PMOS 8 (C_in 12); the NAND2 bears
         // effort 4 driving 12, so its drive is 12 / (4 x 3) = 1: NMOS 2, PMOS 2 (the stage-effort rule
-        // C_in = g C_out / F, docs/model.md section 11; NAND2 g = 4/3: 4 / 3 x 12 / 4 = 4 per input).
+        // C_in = g C_out / F, docs/model.md section 9; NAND2 g = 4/3: 4 / 3 x 12 / 4 = 4 per input).
         let cell = sized("and2", 4.0);
         assert_eq!(cell.stages.len(), 2);
         let nand = &cell.stages[0];

@@ -55,7 +55,7 @@ pub enum SizingError {
     },
     /// What takes one stage only (the stack-order search), asked of a cell of several stages.
     #[error(
-        "{what} takes cells of one stage, and this one has {stages} stages (docs/model.md section 11): drop it, \
+        "{what} takes cells of one stage, and this one has {stages} stages (docs/model.md section 9): drop it, \
          or size the cell's stages as expressions of their own"
     )]
     SeveralStages {

@@ -292,7 +292,7 @@ pub struct Plan {
     /// The work budget of each long computation of the sizing and timing ([`crate::budget`]).
     pub budget: u64,
     /// The effort each stage before the output stage of a cell of several stages bears driving
-    /// what it drives (docs/model.md section 11): its drive is its load over this times the unit
+    /// what it drives (docs/model.md section 9): its drive is its load over this times the unit
     /// reference inverter's input capacitance.
     pub stage_effort: f64,
 }

@@ -10,5 +10,6 @@ mod netlist_names;
 mod published;
 mod render;
 mod scipy;
+mod stages;
 mod support;
 mod vectors;
