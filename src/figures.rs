@@ -9,13 +9,15 @@
 
 use std::sync::Arc;
 
+use crate::budget::Meter;
 use crate::cell::{SizedCell, SizedNetwork, SizedStage, device_name};
 use crate::expr::GateFunction;
 use crate::network::NetworkKind;
 use crate::paths::{self, Vector};
 use crate::process::Process;
-use crate::sizing::plan::{Method, Plan};
+use crate::sizing::plan::{Method, Plan, WorstCase};
 use crate::sizing::rules::{self, Rule};
+use crate::sizing::vectors;
 
 /// One sized transistor, as netlists write it.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -94,7 +96,8 @@ pub struct NetworkFigures {
     pub path_count: String,
     /// Sum of the network's W/L.
     pub total_w_over_l: f64,
-    /// The weakest path's resistance with the drawn (snapped) widths, in units of R.
+    /// The worst case with the drawn (snapped) widths, in units of R, by the definition the cell was
+    /// sized to: the weakest path, or (sized against vectors) the exact worst over input vectors.
     pub drawn_worst_resistance: f64,
     /// Its error against the target, percent (negative: faster than the reference).
     pub drawn_error_percent: f64,
@@ -111,6 +114,21 @@ pub struct Comparison {
     pub change_percent: f64,
 }
 
+/// What min-area under the other worst-case definition would use, for a cell with repeated inputs
+/// sized by a path rule (docs/model.md section 9).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct WorstCaseComparison {
+    /// The other definition: `vectors` for a cell sized against paths, `paths` for one sized
+    /// against vectors.
+    pub worst_case: WorstCase,
+    /// Min-area's total W/L under it, where it could be worked out.
+    pub total_w_over_l: Option<f64>,
+    /// That total relative to this cell's, in percent (negative: it would save).
+    pub change_percent: Option<f64>,
+    /// Why it could not be worked out (a limit or the work budget of the sizing over vectors).
+    pub not_computed: Option<String>,
+}
+
 /// Every figure of a sized cell; its serde form is the JSON output (with the delays beside it).
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct CellFigures {
@@ -122,6 +140,8 @@ pub struct CellFigures {
     pub output: String,
     /// Sizing method.
     pub method: Method,
+    /// What the method sizes against: `paths` or `vectors` (docs/model.md section 9).
+    pub worst_case: WorstCase,
     /// Mobility ratio mu_n / mu_p.
     pub mobility_ratio: f64,
     /// Drive strength.
@@ -148,6 +168,9 @@ pub struct CellFigures {
     pub networks: Vec<NetworkFigures>,
     /// The other method's total.
     pub comparison: Comparison,
+    /// With repeated inputs and a path rule: what min-area under the other worst-case definition
+    /// would use; else `null`.
+    pub worst_case_comparison: Option<WorstCaseComparison>,
     /// Sum of all drawn widths, um.
     pub total_drawn_width_um: f64,
     /// Drawn area, um^2: the sum over devices of drawn width x length, the channel areas. Not a
@@ -231,11 +254,13 @@ impl CellFigures {
         let other = plan.method.other();
         let other_total = other_total(stage, plan, other);
         let drawn = drawn_figures(stage, plan, &transistors);
+        let worst_case_comparison = worst_case_comparison(stage, plan, total);
         CellFigures {
             name: cell.name.clone(),
             expression: function.text.clone(),
             output: function.output.clone(),
             method: plan.method,
+            worst_case: plan.method.worst_case(),
             mobility_ratio: plan.mobility_ratio,
             drive: plan.drive,
             reference_nmos_w_over_l: plan.reference_width(NetworkKind::PullDown),
@@ -253,6 +278,7 @@ impl CellFigures {
                 total_w_over_l: other_total,
                 change_percent: (other_total / total - 1.0) * 100.0,
             },
+            worst_case_comparison,
             total_drawn_width_um,
             area_um2,
             drawn,
@@ -311,6 +337,36 @@ fn other_total(stage: &SizedStage, plan: &Plan, method: Method) -> f64 {
     stage.networks.values().map(|n| rules::total(&n.network, rule, plan.reference_width(n.kind()))).sum()
 }
 
+/// Min-area's total under the other worst-case definition than the plan's, where the stage has
+/// repeated inputs (without them both give the same) and the method is a path rule. Sizing over
+/// vectors runs within the plan's work budget, as a computation of its own.
+fn worst_case_comparison(stage: &SizedStage, plan: &Plan, total: f64) -> Option<WorstCaseComparison> {
+    if !stage.function.has_repeated_inputs() || plan.method.sizes_by_delay() {
+        return None;
+    }
+    let networks = stage.networks.as_ref().map(|_, n| n.network.clone());
+    let (worst_case, other) = match plan.method.worst_case() {
+        WorstCase::Vectors => (WorstCase::Paths, Ok(other_total(stage, plan, Method::MIN_AREA))),
+        WorstCase::Paths => {
+            (WorstCase::Vectors, vectors::total(&networks, stage.function.inputs.len(), plan, &Meter::new(plan.budget)))
+        }
+    };
+    Some(match other {
+        Ok(other) => WorstCaseComparison {
+            worst_case,
+            total_w_over_l: Some(other),
+            change_percent: Some((other / total - 1.0) * 100.0),
+            not_computed: None,
+        },
+        Err(error) => WorstCaseComparison {
+            worst_case,
+            total_w_over_l: None,
+            change_percent: None,
+            not_computed: Some(error.to_string()),
+        },
+    })
+}
+
 /// Input capacitance of every stage input, in C: the W/L of every device it gates, both networks
 /// (docs/model.md section 6).
 pub fn input_capacitance(stage: &SizedStage) -> Vec<f64> {
@@ -340,9 +396,15 @@ fn network_figures(function: &GateFunction, sized: &SizedNetwork, plan: &Plan) -
     let network = &sized.network;
     let kind = network.kind;
     let resistance = plan.resistances(kind, &sized.widths);
-    let drawn_worst = paths::highest(&network.root, &plan.resistances(kind, &sized.drawn_widths(&plan.process)));
-    let weakest = paths::weakest(network, &resistance);
+    let drawn_resistance = plan.resistances(kind, &sized.drawn_widths(&plan.process));
     let input_count = function.inputs.len();
+    // The drawn worst case by the definition the cell was sized to.
+    let drawn_worst = match plan.method.worst_case() {
+        WorstCase::Vectors => paths::exact_worst(network, &drawn_resistance, input_count).map(|(r, _)| r),
+        WorstCase::Paths => None,
+    }
+    .unwrap_or_else(|| paths::highest(&network.root, &drawn_resistance));
+    let weakest = paths::weakest(network, &resistance);
     let worst_vector =
         paths::sensitize(network, &weakest.devices, input_count).map(|values| Vector::new(&function.inputs, &values));
     let exact_worst = if function.has_repeated_inputs() {

@@ -29,7 +29,7 @@ use crate::logic::{self, CellLogic};
 use crate::names;
 use crate::process::{MAX_PROCESS_FILE_BYTES, Process};
 use crate::sizing::plan::default_diffusion_ratio;
-use crate::sizing::{Conditions, Load, Method, MethodName, Order, Plan, Reference, SizingError, StackOrder};
+use crate::sizing::{Conditions, Load, Method, MethodName, Order, Plan, Reference, SizingError, StackOrder, WorstCase};
 
 /// The exit codes as the help texts give them (the contributor guide states them in full).
 macro_rules! exit_codes_line {
@@ -106,6 +106,12 @@ pub struct SizingArgs {
     /// a library) [default: longest-path].
     #[arg(long, value_enum)]
     pub method: Option<MethodName>,
+    /// What min-area sizes against: paths (every conducting path as if it conducted alone) or
+    /// vectors (every input vector, with everything it turns on: less W/L where inputs repeat; a
+    /// convex program, up to 16 inputs) [default: paths]. Longest-path is a rule, not an optimum,
+    /// and takes paths only; so does elmore, for now.
+    #[arg(long, value_enum, value_name = "WHAT")]
+    pub worst_case: Option<WorstCase>,
     /// Mobility ratio mu_n / mu_p (real processes run about 2 to 3) [default: the process's, 2 for
     /// the built-in one].
     #[arg(long, value_name = "MU", value_parser = positive_number, allow_hyphen_values = true)]
@@ -124,9 +130,16 @@ pub struct SizingArgs {
 }
 
 impl SizingArgs {
-    /// The method given, else longest-path.
-    pub fn method(&self) -> Method {
-        Method::of(self.method.unwrap_or(MethodName::LongestPath))
+    /// The method given (else longest-path) with the worst case given (else paths); refused where
+    /// the method does not take that worst case.
+    pub fn method(&self) -> Result<Method, SizingError> {
+        let name = self.method.unwrap_or(MethodName::LongestPath);
+        Ok(Method::with(name, self.worst_case.unwrap_or_default())?)
+    }
+
+    /// Whether the method given sizes by delay (the elmore method), so the load sizes the cell.
+    pub fn sizes_by_delay(&self) -> bool {
+        Method::of(self.method.unwrap_or(MethodName::LongestPath)).sizes_by_delay()
     }
 
     /// The process of `--process`, or the built-in one.
@@ -244,7 +257,7 @@ pub fn plan(args: &GateArgs, order: StackOrder, timed: Timed) -> Result<Plan, Er
     let process = given.read_process()?;
     let mobility_ratio = given.mobility_ratio.unwrap_or(process.mobility_ratio);
     let drive = given.drive.unwrap_or(1.0);
-    let method = given.method();
+    let method = given.method()?;
     let order = Order::new(order, args.critical.clone()).map_err(SizingError::from)?;
     let process_file = given.process.as_ref().map(|_| &process);
     let diffusion_ratio = match timed.diffusion_ratio {

@@ -13,6 +13,7 @@ pub mod order;
 pub mod plan;
 pub mod rules;
 pub mod stage;
+pub mod vectors;
 
 use crate::budget::Meter;
 use crate::cell::SizedCell;
@@ -21,6 +22,7 @@ use crate::logic::CellLogic;
 pub use error::SizingError;
 pub use plan::{
     Conditions, CriticalWithWrittenOrder, Load, Method, MethodName, Order, Plan, Reference, StackOrder, WorstCase,
+    WorstCaseRefused,
 };
 use stage::{Arrangement, size_stage};
 
