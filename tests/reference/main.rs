@@ -12,3 +12,4 @@ mod render;
 mod scipy;
 mod support;
 mod vectors;
+mod worst_case;
