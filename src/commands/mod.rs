@@ -69,7 +69,9 @@ Limits: expressions up to 1 MiB and 256 levels of parentheses; up to 10000 input
 (transistors per network) and 10000 distinct inputs; up to 10000 listed paths and 1000000 device
 names in one listing (paths x devices on the longest path); one path listing builds at most 5000000
 partial paths; the exact worst case over input vectors (for repeated inputs) and each input's worst
-transition over every side-input vector up to 16 inputs (past that, its weakest path alone); verify
+transition over every side-input vector up to 16 inputs (past that, its weakest path alone);
+--worst-case vectors up to 16 inputs, 4096 minimal conducting vectors and 256 transistors per
+network (past them, exit 2); verify
 checks every input vector up to 30 inputs, a stated pseudo-random sample (at most 2^30 vectors) past
 that; process files up to 1 MiB, library files up to 64 MiB, both regular files; drive, mobility
 ratio and reference W/L from 1e-6 to 1e6, fan-out, load and diffusion ratio 0 or 1e-6 to 1e6,
@@ -83,7 +85,8 @@ default allows every gate up to 20 inputs, 30 inputs with up to 64 occurrences);
 search counts orders tried x the work of timing one order and stops after the first order when the
 rest would pass (six AND3 groups over 16 inputs); delays count each network's devices per word of 64
 vectors, the devices of every switching vector and conducting network timed, and, past 16 inputs,
-of every path tried; the elmore method's solver counts 600 Newton steps
+of every path tried; --worst-case vectors counts the multiply-adds of its Newton steps (minimal
+vectors x devices^2 + devices^3 / 3 each) as it runs; the elmore method's solver counts 600 Newton steps
 (its most) x the multiply-adds of one before it starts (about 1.8e6 per step, e.g. 40 transistors
 with 625 paths). At the budget each takes a few seconds.
 
