@@ -104,7 +104,8 @@ with 625 paths). At the budget each takes a few seconds.
 #[derive(Debug, Clone, Default, Args)]
 pub struct SizingArgs {
     /// Sizing method: longest-path (each device: reference W/L x devices on the longest path through
-    /// it), min-area (least total W/L with every path at the target) or elmore (least total W/L with
+    /// it), min-area (least total W/L with every path, or with --worst-case vectors every input vector, at
+    /// the target) or elmore (least total W/L with
     /// every worst-case Elmore delay at most the reference inverter's driving the same load; not in
     /// a library) [default: longest-path].
     #[arg(long, value_enum)]

@@ -196,7 +196,8 @@ fn percent(value: f64) -> String {
 
 /// Write the path listing of both networks.
 pub fn write_paths(gate: &CellFigures, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
-    writeln!(out, "{}: {} = {} ({} sizing)", gate.name, gate.output, gate.expression, gate.method.name())?;
+    let against = if gate.worst_case == WorstCase::Vectors { " against every input vector" } else { "" };
+    writeln!(out, "{}: {} = {} ({} sizing{against})", gate.name, gate.output, gate.expression, gate.method.name())?;
     for listing in listings {
         writeln!(
             out,
