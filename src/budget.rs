@@ -24,6 +24,8 @@ pub enum Work {
     Elmore,
     /// Verification of a netlist on its input vectors.
     Verify,
+    /// Min-area sizing against every input vector (its convex program's solver).
+    Exact,
 }
 
 impl Work {
@@ -42,6 +44,11 @@ impl Work {
                 "the elmore method's solver",
                 "Newton iterations, at most 600, x the multiply-adds of one Newton step",
                 ", or size the gate by longest-path or min-area",
+            ),
+            Work::Exact => (
+                "min-area sizing over input vectors",
+                "multiply-adds of the Newton steps: minimal vectors x devices^2 + devices^3 / 3 per step",
+                ", or size against every path with --worst-case paths",
             ),
             Work::Verify => (
                 "verification",

@@ -11,13 +11,15 @@ pub mod stages;
 
 use std::sync::Arc;
 
+use crate::budget::Meter;
 use crate::cell::{SizedCell, SizedNetwork, SizedStage, device_name};
 use crate::expr::GateFunction;
 use crate::network::NetworkKind;
 use crate::paths::{self, Vector};
 use crate::process::Process;
-use crate::sizing::plan::{Method, Plan};
+use crate::sizing::plan::{Method, Plan, WorstCase};
 use crate::sizing::rules::{self, Rule};
+use crate::sizing::vectors;
 
 /// One sized transistor, as netlists write it.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
@@ -99,7 +101,8 @@ pub struct NetworkFigures {
     pub path_count: String,
     /// Sum of the network's W/L.
     pub total_w_over_l: f64,
-    /// The weakest path's resistance with the drawn (snapped) widths, in units of R.
+    /// The worst case with the drawn (snapped) widths, in units of R, by the definition the cell was
+    /// sized to: the weakest path, or (sized against vectors) the exact worst over input vectors.
     pub drawn_worst_resistance: f64,
     /// Its error against the target, percent (negative: faster than the reference).
     pub drawn_error_percent: f64,
@@ -114,6 +117,21 @@ pub struct Comparison {
     pub total_w_over_l: f64,
     /// Its total relative to this one's, in percent (negative: it would save).
     pub change_percent: f64,
+}
+
+/// What min-area under the other worst-case definition would use, for a cell with repeated inputs
+/// sized by a path rule (docs/model.md section 10).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct WorstCaseComparison {
+    /// The other definition: `vectors` for a cell sized against paths, `paths` for one sized
+    /// against vectors.
+    pub worst_case: WorstCase,
+    /// Min-area's total W/L under it, where it could be worked out.
+    pub total_w_over_l: Option<f64>,
+    /// That total relative to this cell's, in percent (negative: it would save).
+    pub change_percent: Option<f64>,
+    /// Why it could not be worked out (a limit or the work budget of the sizing over vectors).
+    pub not_computed: Option<String>,
 }
 
 /// Every figure of a sized cell; its serde form is the JSON output (with the delays beside it).
@@ -132,6 +150,8 @@ pub struct CellFigures {
     pub other_forms: Vec<crate::cell::OtherForm>,
     /// Sizing method.
     pub method: Method,
+    /// What the method sizes against: `paths` or `vectors` (docs/model.md section 10).
+    pub worst_case: WorstCase,
     /// Mobility ratio mu_n / mu_p.
     pub mobility_ratio: f64,
     /// Drive strength.
@@ -165,6 +185,9 @@ pub struct CellFigures {
     pub networks: Vec<NetworkFigures>,
     /// The other method's total.
     pub comparison: Comparison,
+    /// With repeated inputs and a path rule: what min-area under the other worst-case definition
+    /// would use; else `null`.
+    pub worst_case_comparison: Option<WorstCaseComparison>,
     /// Sum of all drawn widths, um.
     pub total_drawn_width_um: f64,
     /// Drawn area, um^2: the sum over devices of drawn width x length, the channel areas. Not a
@@ -254,6 +277,7 @@ impl CellFigures {
         let other = plan.method.other();
         let other_total = cell.stages.iter().map(|s| other_total(s, plan, other)).sum();
         let drawn = drawn_figures(cell, plan, &transistors);
+        let worst_case_comparison = worst_case_comparison(cell, plan, total);
         CellFigures {
             name: cell.name.clone(),
             expression: if cell.is_single_stage() { function.text.clone() } else { cell.logic.text.clone() },
@@ -261,6 +285,7 @@ impl CellFigures {
             form: cell.logic.form.name(),
             other_forms: cell.other_forms.clone(),
             method: plan.method,
+            worst_case: plan.method.worst_case(),
             mobility_ratio: plan.mobility_ratio,
             drive: plan.drive,
             reference_nmos_w_over_l: plan.reference_width(NetworkKind::PullDown),
@@ -280,6 +305,7 @@ impl CellFigures {
                 total_w_over_l: other_total,
                 change_percent: (other_total / total - 1.0) * 100.0,
             },
+            worst_case_comparison,
             total_drawn_width_um,
             area_um2,
             drawn,
@@ -351,6 +377,53 @@ pub fn pin_capacitance(cell: &SizedCell) -> Vec<f64> {
     capacitance
 }
 
+/// Min-area's total under the other worst-case definition than the plan's, where a stage has
+/// repeated inputs (without them both give the same) and the method is a path rule: each stage with
+/// repeated inputs sized the other way at its own drive, the others as they are. Sizing over
+/// vectors runs within the plan's work budget, as a computation of its own.
+fn worst_case_comparison(cell: &SizedCell, plan: &Plan, total: f64) -> Option<WorstCaseComparison> {
+    if plan.method.sizes_by_delay() || !cell.stages.iter().any(|s| s.function.has_repeated_inputs()) {
+        return None;
+    }
+    let worst_case = match plan.method.worst_case() {
+        WorstCase::Vectors => WorstCase::Paths,
+        WorstCase::Paths => WorstCase::Vectors,
+    };
+    let meter = Meter::new(plan.budget);
+    let mut other = 0.0;
+    for stage in &cell.stages {
+        if !stage.function.has_repeated_inputs() {
+            other += stage.networks.values().flat_map(|n| &n.widths).sum::<f64>();
+            continue;
+        }
+        let stage_total = match worst_case {
+            WorstCase::Paths => Ok(other_total(stage, plan, Method::MIN_AREA)),
+            WorstCase::Vectors => {
+                let networks = stage.networks.as_ref().map(|_, n| n.network.clone());
+                let stage_plan = Plan { drive: stage.drive, ..plan.clone() };
+                vectors::total(&networks, stage.function.inputs.len(), &stage_plan, &meter)
+            }
+        };
+        match stage_total {
+            Ok(value) => other += value,
+            Err(error) => {
+                return Some(WorstCaseComparison {
+                    worst_case,
+                    total_w_over_l: None,
+                    change_percent: None,
+                    not_computed: Some(error.to_string()),
+                });
+            }
+        }
+    }
+    Some(WorstCaseComparison {
+        worst_case,
+        total_w_over_l: Some(other),
+        change_percent: Some((other / total - 1.0) * 100.0),
+        not_computed: None,
+    })
+}
+
 /// Input capacitance of every stage input, in C: the W/L of every device it gates, both networks
 /// (docs/model.md section 6).
 pub fn input_capacitance(stage: &SizedStage) -> Vec<f64> {
@@ -380,9 +453,15 @@ fn network_figures(function: &GateFunction, sized: &SizedNetwork, plan: &Plan) -
     let network = &sized.network;
     let kind = network.kind;
     let resistance = plan.resistances(kind, &sized.widths);
-    let drawn_worst = paths::highest(&network.root, &plan.resistances(kind, &sized.drawn_widths(&plan.process)));
-    let weakest = paths::weakest(network, &resistance);
+    let drawn_resistance = plan.resistances(kind, &sized.drawn_widths(&plan.process));
     let input_count = function.inputs.len();
+    // The drawn worst case by the definition the cell was sized to.
+    let drawn_worst = match plan.method.worst_case() {
+        WorstCase::Vectors => paths::exact_worst(network, &drawn_resistance, input_count).map(|(r, _)| r),
+        WorstCase::Paths => None,
+    }
+    .unwrap_or_else(|| paths::highest(&network.root, &drawn_resistance));
+    let weakest = paths::weakest(network, &resistance);
     let worst_vector =
         paths::sensitize(network, &weakest.devices, input_count).map(|values| Vector::new(&function.inputs, &values));
     let exact_worst = if function.has_repeated_inputs() {

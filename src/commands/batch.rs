@@ -18,7 +18,7 @@ use crate::library::{GateProblem, Library, MAX_LIBRARY_BYTES, Outcome, Overrides
 use crate::output::batch::{BatchWriter, Heading};
 use crate::output::{self};
 use crate::process::MAX_PROCESS_FILE_BYTES;
-use crate::sizing::{MethodName, StackOrder};
+use crate::sizing::{Method, MethodName, SizingError, StackOrder};
 use crate::verify::VerifyOptions;
 
 /// Help shown after `widthwise batch --help`.
@@ -214,6 +214,9 @@ fn overrides(args: &Args) -> Result<Overrides, Error> {
                   min-area, or size the gate with 'widthwise size --method elmore --fanout H'",
         });
     }
+    if let (Some(method), Some(worst_case)) = (args.sizing.method, args.sizing.worst_case) {
+        Method::with(method, worst_case).map_err(SizingError::from)?;
+    }
     let process = match &args.sizing.process {
         Some(_) => Some(Arc::new(args.sizing.read_process()?)),
         None => None,
@@ -221,6 +224,7 @@ fn overrides(args: &Args) -> Result<Overrides, Error> {
     Ok(Overrides {
         process,
         method: args.sizing.method,
+        worst_case: args.sizing.worst_case,
         mobility_ratio: args.sizing.mobility_ratio,
         drive: args.sizing.drive,
         reference: args.sizing.reference,

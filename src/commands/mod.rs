@@ -29,7 +29,7 @@ use crate::logic::{self, CellLogic};
 use crate::names;
 use crate::process::{MAX_PROCESS_FILE_BYTES, Process};
 use crate::sizing::plan::default_diffusion_ratio;
-use crate::sizing::{Conditions, Load, Method, MethodName, Order, Plan, Reference, SizingError, StackOrder};
+use crate::sizing::{Conditions, Load, Method, MethodName, Order, Plan, Reference, SizingError, StackOrder, WorstCase};
 
 /// The exit codes as the help texts give them (the contributor guide states them in full).
 macro_rules! exit_codes_line {
@@ -74,7 +74,9 @@ Limits: expressions up to 1 MiB and 256 levels of parentheses; up to 10000 input
 (transistors per network) and 10000 distinct inputs; up to 10000 listed paths and 1000000 device
 names in one listing (paths x devices on the longest path); one path listing builds at most 5000000
 partial paths; the exact worst case over input vectors (for repeated inputs) and each input's worst
-transition over every side-input vector up to 16 inputs (past that, its weakest path alone); verify
+transition over every side-input vector up to 16 inputs (past that, its weakest path alone);
+--worst-case vectors up to 16 inputs, 4096 minimal conducting vectors and 256 transistors per
+network (past them, exit 2); verify
 checks every input vector up to 30 inputs, a stated pseudo-random sample (at most 2^30 vectors) past
 that; process files up to 1 MiB, library files up to 64 MiB, both regular files; drive, mobility
 ratio and reference W/L from 1e-6 to 1e6, fan-out, load and diffusion ratio 0 or 1e-6 to 1e6,
@@ -88,7 +90,8 @@ default allows every gate up to 20 inputs, 30 inputs with up to 64 occurrences);
 search counts orders tried x the work of timing one order and stops after the first order when the
 rest would pass (six AND3 groups over 16 inputs); delays count each network's devices per word of 64
 vectors, the devices of every switching vector and conducting network timed, and, past 16 inputs,
-of every path tried; the elmore method's solver counts 600 Newton steps
+of every path tried; --worst-case vectors counts the multiply-adds of its Newton steps (minimal
+vectors x devices^2 + devices^3 / 3 each) as it runs; the elmore method's solver counts 600 Newton steps
 (its most) x the multiply-adds of one before it starts (about 1.8e6 per step, e.g. 40 transistors
 with 625 paths). At the budget each takes a few seconds.
 
@@ -106,11 +109,18 @@ with 625 paths). At the budget each takes a few seconds.
 #[derive(Debug, Clone, Default, Args)]
 pub struct SizingArgs {
     /// Sizing method: longest-path (each device: reference W/L x devices on the longest path through
-    /// it), min-area (least total W/L with every path at the target) or elmore (least total W/L with
+    /// it), min-area (least total W/L with every path, or with --worst-case vectors every input vector, at
+    /// the target) or elmore (least total W/L with
     /// every worst-case Elmore delay at most the reference inverter's driving the same load; not in
     /// a library) [default: longest-path].
     #[arg(long, value_enum)]
     pub method: Option<MethodName>,
+    /// What min-area sizes against: paths (every conducting path as if it conducted alone) or
+    /// vectors (every input vector, with everything it turns on: less W/L where inputs repeat; a
+    /// convex program, up to 16 inputs) [default: paths]. Longest-path is a rule, not an optimum,
+    /// and takes paths only; so does elmore, for now.
+    #[arg(long, value_enum, value_name = "WHAT")]
+    pub worst_case: Option<WorstCase>,
     /// Mobility ratio mu_n / mu_p (real processes run about 2 to 3) [default: the process's, 2 for
     /// the built-in one].
     #[arg(long, value_name = "MU", value_parser = positive_number, allow_hyphen_values = true)]
@@ -134,9 +144,16 @@ pub struct SizingArgs {
 }
 
 impl SizingArgs {
-    /// The method given, else longest-path.
-    pub fn method(&self) -> Method {
-        Method::of(self.method.unwrap_or(MethodName::LongestPath))
+    /// The method given (else longest-path) with the worst case given (else paths); refused where
+    /// the method does not take that worst case.
+    pub fn method(&self) -> Result<Method, SizingError> {
+        let name = self.method.unwrap_or(MethodName::LongestPath);
+        Ok(Method::with(name, self.worst_case.unwrap_or_default())?)
+    }
+
+    /// Whether the method given sizes by delay (the elmore method), so the load sizes the cell.
+    pub fn sizes_by_delay(&self) -> bool {
+        Method::of(self.method.unwrap_or(MethodName::LongestPath)).sizes_by_delay()
     }
 
     /// The process of `--process`, or the built-in one.
@@ -260,7 +277,7 @@ pub fn plan(args: &GateArgs, order: StackOrder, timed: Timed) -> Result<Plan, Er
     let process = given.read_process()?;
     let mobility_ratio = given.mobility_ratio.unwrap_or(process.mobility_ratio);
     let drive = given.drive.unwrap_or(1.0);
-    let method = given.method();
+    let method = given.method()?;
     let order = Order::new(order, args.critical.clone()).map_err(SizingError::from)?;
     let process_file = given.process.as_ref().map(|_| &process);
     let diffusion_ratio = match timed.diffusion_ratio {

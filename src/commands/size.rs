@@ -94,8 +94,7 @@ fn check_applies(args: &Args) -> Result<(), Error> {
             why: "only the CSV has rows (the table shows every section, JSON every figure); add --format csv",
         });
     }
-    let sizes_by_delay =
-        args.gate.sizing.method().sizes_by_delay() || args.delay.stack_order == Some(StackOrder::Search);
+    let sizes_by_delay = args.gate.sizing.sizes_by_delay() || args.delay.stack_order == Some(StackOrder::Search);
     if args.format == Format::Spice && !sizes_by_delay {
         let given = [
             (args.delay.delays, "--delays"),
@@ -122,7 +121,7 @@ pub fn run(args: Args) -> Result<(), Error> {
     check_applies(&args)?;
     let Args { expression, gate, delay, format, output, rows } = args;
     let rows = rows.unwrap_or(Rows::Devices);
-    let timed = delay.wanted() || gate.sizing.method().sizes_by_delay() || rows == Rows::Delays;
+    let timed = delay.wanted() || gate.sizing.sizes_by_delay() || rows == Rows::Delays;
     // Untimed, only the stack order of the delay options matters.
     let conditions = Timed { load: delay.load(), diffusion_ratio: delay.diffusion_ratio, matter: timed };
     let plan = super::plan(&gate, delay.stack_order.unwrap_or_default(), conditions)?;

@@ -19,7 +19,7 @@ use crate::library::error::LibraryError;
 use crate::library::plan::{ExpressionPlace, GatePlan, GateProblem, Place};
 use crate::names;
 use crate::process::{Process, ProcessFile};
-use crate::sizing::{Method, MethodName, Reference, SizingError, StackOrder};
+use crate::sizing::{Method, MethodName, Reference, SizingError, StackOrder, WorstCase};
 
 /// Why a library sizes by longest-path or min-area only.
 const ELMORE_IN_A_LIBRARY: &str = "method = \"elmore\" sizes against a load, which a library does not give: \
@@ -40,6 +40,8 @@ pub struct Overrides {
     pub process: Option<Arc<Process>>,
     /// The method of every gate (longest-path or min-area).
     pub method: Option<MethodName>,
+    /// What min-area sizes every gate against.
+    pub worst_case: Option<WorstCase>,
     /// The mobility ratio every gate is sized with.
     pub mobility_ratio: Option<f64>,
     /// One drive for every gate, in place of the drive lists: each gate becomes one variant.
@@ -170,6 +172,7 @@ pub(crate) fn repeated_drive(drives: &[(f64, Span)]) -> Option<(f64, Span)> {
 #[serde(deny_unknown_fields)]
 pub(crate) struct DefaultsEntry {
     pub(crate) method: Option<MethodName>,
+    pub(crate) worst_case: Option<WorstCase>,
     pub(crate) stack_order: Option<Spanned<StackOrder>>,
     pub(crate) drive: Option<Spanned<Drives>>,
     pub(crate) mobility_ratio: Option<Spanned<f64>>,
@@ -183,6 +186,7 @@ pub(crate) struct GateEntry {
     name: Spanned<String>,
     expr: Spanned<String>,
     pub(crate) method: Option<MethodName>,
+    pub(crate) worst_case: Option<Spanned<WorstCase>>,
     pub(crate) stack_order: Option<Spanned<StackOrder>>,
     pub(crate) drive: Option<Spanned<Drives>>,
     critical: Option<Spanned<String>>,
@@ -226,6 +230,7 @@ pub(crate) fn verbatim_start(text: &str, span: Range<usize>, value: &str) -> Opt
 /// What `[defaults]` and the process give every gate, and what the command line sets over all.
 pub(crate) struct Common {
     pub(crate) method: MethodName,
+    pub(crate) worst_case: WorstCase,
     pub(crate) stack_order: StackOrder,
     pub(crate) mobility_ratio: f64,
     pub(crate) drives: Vec<(f64, Span)>,
@@ -322,10 +327,15 @@ pub(crate) fn read_gate_entry(
             check_drives(written).map_err(|(message, span)| problem(message, span))?.into_iter().unzip()
         }
     };
-    let method = Method::of(common.overrides.method.or(gate.method).unwrap_or(common.method));
-    if method.sizes_by_delay() {
+    let method_name = common.overrides.method.or(gate.method).unwrap_or(common.method);
+    if Method::of(method_name).sizes_by_delay() {
         return Err(problem(ELMORE_IN_A_LIBRARY.to_string(), name_span));
     }
+    let worst_case_span = gate.worst_case.as_ref().map_or(name_span, |w| to_span(w.span()));
+    let worst_case =
+        common.overrides.worst_case.or(gate.worst_case.map(Spanned::into_inner)).unwrap_or(common.worst_case);
+    let method = Method::with(method_name, worst_case)
+        .map_err(|error| problem(format!("worst_case = \"{}\": {error}", worst_case.name()), worst_case_span))?;
     let stack_order = match (common.overrides.stack_order, &gate.stack_order) {
         (Some(order), _) => order,
         (None, Some(order)) => {

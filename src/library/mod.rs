@@ -165,6 +165,7 @@ impl Library {
         };
         let common = Common {
             method: defaults.method.unwrap_or(DEFAULT_METHOD),
+            worst_case: defaults.worst_case.unwrap_or_default(),
             stack_order,
             mobility_ratio,
             drives: default_drives,

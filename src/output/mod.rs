@@ -97,8 +97,9 @@ pub fn write_paths(
 /// the reference inverter at that drive.
 pub fn sizing_line(gate: &CellFigures) -> String {
     format!(
-        "{} sizing, mobility ratio {}, drive {}, reference inverter NMOS {} PMOS {} (W/L)",
+        "{} sizing{}, mobility ratio {}, drive {}, reference inverter NMOS {} PMOS {} (W/L)",
         gate.method.name(),
+        if gate.worst_case == crate::sizing::WorstCase::Vectors { " against every input vector" } else { "" },
         number(gate.mobility_ratio),
         number(gate.drive),
         number(gate.reference_nmos_w_over_l),

@@ -5,6 +5,7 @@ use std::io::{self, Write};
 use super::CellReport;
 use super::number;
 use crate::figures::{CellFigures, PathListing};
+use crate::sizing::WorstCase;
 
 /// Write rows as aligned columns, the first row a header, two spaces of indent.
 pub fn write_columns(rows: &[Vec<String>], out: &mut dyn Write) -> io::Result<()> {
@@ -116,30 +117,42 @@ fn write_gate(report: &CellReport, out: &mut dyn Write) -> io::Result<()> {
         ]);
     }
     write_columns(&rows, out)?;
+    let sized_to_vectors = gate.worst_case == WorstCase::Vectors;
     for network in &gate.networks {
         if let Some(exact) = &network.exact_worst
             && (exact.resistance - network.worst_resistance).abs() > 1e-9
         {
-            writeln!(
-                out,
-                "  {}: exact worst over input vectors {} at {} (the path value {} is an upper bound)",
-                network.network.name(),
-                number(exact.resistance),
-                exact.vector,
-                number(network.worst_resistance)
-            )?;
+            let name = network.network.name();
+            let (worst, at, path) = (number(exact.resistance), &exact.vector, number(network.worst_resistance));
+            if sized_to_vectors {
+                writeln!(
+                    out,
+                    "  {name}: sized to its exact worst over input vectors, {worst} at {at}; the weakest path's \
+                     {path} never conducts alone (repeated inputs)"
+                )?;
+            } else {
+                writeln!(
+                    out,
+                    "  {name}: exact worst over input vectors {worst} at {at} (the path value {path} is an upper bound)"
+                )?;
+            }
         }
+    }
+    if sized_to_vectors {
+        writeln!(out, "  drawn worst: the exact worst over input vectors with the drawn widths")?;
     }
 
     writeln!(out, "\ngate")?;
     let comparison = &gate.comparison;
-    let change = if comparison.change_percent.abs() < 1e-9 {
-        format!("{} would use the same", comparison.method.name())
-    } else if comparison.change_percent < 0.0 {
-        format!("{} would save {}%", comparison.method.name(), number(-comparison.change_percent))
-    } else {
-        format!("{} would use {}% more", comparison.method.name(), number(comparison.change_percent))
-    };
+    let mut change = would(comparison.method.name(), comparison.change_percent);
+    if let Some(other) = &gate.worst_case_comparison {
+        let name = format!("min-area over {}", other.worst_case.name());
+        match (other.change_percent, &other.not_computed) {
+            (Some(percent), _) => change = format!("{change}; {}", would(&name, percent)),
+            (None, Some(why)) => change = format!("{change}; {name} not worked out: {why}"),
+            (None, None) => {}
+        }
+    }
     let rows = vec![
         vec![
             "parasitic delay".to_string(),
@@ -222,6 +235,17 @@ fn form_note(gate: &CellFigures) -> String {
     }
 }
 
+/// What another sizing would use, from its total's change in percent.
+fn would(name: &str, change_percent: f64) -> String {
+    if change_percent.abs() < 1e-9 {
+        format!("{name} would use the same")
+    } else if change_percent < 0.0 {
+        format!("{name} would save {}%", number(-change_percent))
+    } else {
+        format!("{name} would use {}% more", number(change_percent))
+    }
+}
+
 /// A signed percentage: `-0.1126003414%`, `0%`.
 fn percent(value: f64) -> String {
     format!("{}%", number(value))
@@ -229,7 +253,8 @@ fn percent(value: f64) -> String {
 
 /// Write the path listing of both networks.
 pub fn write_paths(gate: &CellFigures, listings: &[PathListing], out: &mut dyn Write) -> io::Result<()> {
-    writeln!(out, "{}: {} = {} ({} sizing)", gate.name, gate.output, gate.expression, gate.method.name())?;
+    let against = if gate.worst_case == WorstCase::Vectors { " against every input vector" } else { "" };
+    writeln!(out, "{}: {} = {} ({} sizing{against})", gate.name, gate.output, gate.expression, gate.method.name())?;
     let several = listings.iter().any(|l| l.stage != gate.output);
     for listing in listings {
         let stage = if several { format!("stage {}, ", listing.stage) } else { String::new() };

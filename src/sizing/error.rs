@@ -5,8 +5,9 @@ use thiserror::Error;
 use crate::bounds::OutOfBounds;
 use crate::budget::OverBudget;
 use crate::diagnostic::escaped;
+use crate::exact::ExactError;
 use crate::optimize::geometric::SolveError;
-use crate::sizing::plan::CriticalWithWrittenOrder;
+use crate::sizing::plan::{CriticalWithWrittenOrder, WorstCaseRefused};
 use crate::timing::error::TimingError;
 
 /// Why sizing gave no cell.
@@ -148,6 +149,29 @@ pub enum SizingError {
     /// More work than the budget allows.
     #[error("{0}")]
     OverBudget(OverBudget),
+    /// A worst-case definition the method does not take.
+    #[error(transparent)]
+    WorstCase(#[from] WorstCaseRefused),
+    /// A network the worst case over input vectors cannot size: past a limit, or its solver failed.
+    #[error("{}", exact_message(error))]
+    Exact {
+        /// `"pull-down"` or `"pull-up"`.
+        network: &'static str,
+        /// Why.
+        error: ExactError,
+    },
+}
+
+/// An exact-sizing error, with the way out where it is a limit.
+fn exact_message(error: &ExactError) -> String {
+    if matches!(
+        error,
+        ExactError::TooManyInputs { .. } | ExactError::TooManyDevices { .. } | ExactError::TooManyVectors { .. }
+    ) {
+        format!("{error}: size against every path with --worst-case paths")
+    } else {
+        error.to_string()
+    }
 }
 
 impl From<OverBudget> for SizingError {
@@ -166,13 +190,17 @@ impl SizingError {
     /// Whether a computation did not succeed (exit 1): infeasible bounds, a solver that did not
     /// converge; everything else is bad input, a limit or a budget (exit 2), or internal.
     pub fn is_check_failure(&self) -> bool {
-        self.is_infeasible() || matches!(self, SizingError::Solver(_))
+        self.is_infeasible()
+            || matches!(self, SizingError::Solver(_))
+            || matches!(self, SizingError::Exact { error, .. } if !error.past_limit())
     }
 
     /// Whether the error is an internal inconsistency: a bug when the binary meets it.
     pub fn is_internal(&self) -> bool {
         match self {
-            SizingError::DefaultOrderChanged | SizingError::Solver(SolveError::Bad(_)) => true,
+            SizingError::DefaultOrderChanged
+            | SizingError::Solver(SolveError::Bad(_))
+            | SizingError::Exact { error: ExactError::Bad(_), .. } => true,
             SizingError::Timing(error) => error.is_internal(),
             _ => false,
         }

@@ -14,6 +14,7 @@ pub mod order;
 pub mod plan;
 pub mod rules;
 pub mod stage;
+pub mod vectors;
 
 use crate::budget::Meter;
 use crate::cell::SizedCell;
@@ -23,6 +24,7 @@ pub use cell::size_best;
 pub use error::SizingError;
 pub use plan::{
     Conditions, CriticalWithWrittenOrder, Load, Method, MethodName, Order, Plan, Reference, StackOrder, WorstCase,
+    WorstCaseRefused,
 };
 use stage::{Arrangement, size_stage};
 

@@ -26,11 +26,52 @@ pub enum MethodName {
 }
 
 /// What "the worst case" of a network is, for the methods that size against one.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Default, serde::Serialize, serde::Deserialize, clap::ValueEnum)]
+#[serde(rename_all = "kebab-case")]
 pub enum WorstCase {
     /// Every conducting path of the network, each as if it conducted alone (docs/model.md section 4).
     #[default]
     Paths,
+    /// Every input vector under which the network conducts, with everything it turns on
+    /// (docs/model.md section 10): below the path bound where inputs repeat.
+    Vectors,
+}
+
+impl WorstCase {
+    /// `"paths"` or `"vectors"`.
+    pub fn name(self) -> &'static str {
+        match self {
+            WorstCase::Paths => "paths",
+            WorstCase::Vectors => "vectors",
+        }
+    }
+
+    /// The other definition.
+    pub fn other(self) -> WorstCase {
+        match self {
+            WorstCase::Paths => WorstCase::Vectors,
+            WorstCase::Vectors => WorstCase::Paths,
+        }
+    }
+}
+
+/// A worst-case definition that a method does not take, refused where the user's values come in.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, thiserror::Error)]
+pub enum WorstCaseRefused {
+    /// Longest-path with the worst case over vectors.
+    #[error(
+        "the worst case over input vectors does not apply to longest-path: longest-path is a rule, not an \
+         optimum (each device gets the reference W/L times the devices on the longest path through it); size \
+         by min-area to size against every input vector"
+    )]
+    LongestPath,
+    /// The elmore method with the worst case over vectors (its constraints still start from paths).
+    #[error(
+        "the elmore method sizes against the worst case over paths only: its delay constraints over input \
+         vectors are not built yet; size by min-area to size against every input vector, or use the elmore \
+         method with the worst case over paths"
+    )]
+    Elmore,
 }
 
 /// How widths are chosen.
@@ -63,6 +104,25 @@ impl Method {
         Method::MinArea { worst_case: WorstCase::Paths },
         Method::Elmore { worst_case: WorstCase::Paths },
     ];
+
+    /// The method a name gives with the worst case `worst_case`: refused for longest-path (a rule,
+    /// not an optimum) and, for now, the elmore method.
+    pub fn with(name: MethodName, worst_case: WorstCase) -> Result<Method, WorstCaseRefused> {
+        match (name, worst_case) {
+            (_, WorstCase::Paths) => Ok(Method::of(name)),
+            (MethodName::MinArea, worst_case) => Ok(Method::MinArea { worst_case }),
+            (MethodName::LongestPath, WorstCase::Vectors) => Err(WorstCaseRefused::LongestPath),
+            (MethodName::Elmore, WorstCase::Vectors) => Err(WorstCaseRefused::Elmore),
+        }
+    }
+
+    /// What the method takes as the worst case (longest-path, a rule over paths: paths).
+    pub fn worst_case(self) -> WorstCase {
+        match self {
+            Method::LongestPath => WorstCase::Paths,
+            Method::MinArea { worst_case } | Method::Elmore { worst_case } => worst_case,
+        }
+    }
 
     /// The method a name gives, with the default worst case.
     pub fn of(name: MethodName) -> Method {
@@ -394,5 +454,17 @@ mod tests {
             assert_eq!(Method::of(method.named()), method);
         }
         assert_eq!(serde_json::to_string(&Method::of(MethodName::MinArea)).unwrap(), "\"min-area\"");
+    }
+
+    #[test]
+    fn only_min_area_takes_the_worst_case_over_vectors() {
+        let vectors = Method::with(MethodName::MinArea, WorstCase::Vectors).unwrap();
+        assert_eq!((vectors.name(), vectors.worst_case()), ("min-area", WorstCase::Vectors));
+        assert_eq!(Method::with(MethodName::LongestPath, WorstCase::Vectors), Err(WorstCaseRefused::LongestPath));
+        assert!(WorstCaseRefused::LongestPath.to_string().contains("a rule, not an optimum"));
+        assert_eq!(Method::with(MethodName::Elmore, WorstCase::Vectors), Err(WorstCaseRefused::Elmore));
+        for name in [MethodName::LongestPath, MethodName::MinArea, MethodName::Elmore] {
+            assert_eq!(Method::with(name, WorstCase::Paths), Ok(Method::of(name)));
+        }
     }
 }

@@ -8,8 +8,9 @@ use crate::network::{Network, Sides};
 use crate::sizing::build;
 use crate::sizing::elmore;
 use crate::sizing::error::SizingError;
-use crate::sizing::plan::{Method, Plan};
+use crate::sizing::plan::{Method, Plan, WorstCase, WorstCaseRefused};
 use crate::sizing::rules::{self, Rule};
+use crate::sizing::vectors;
 
 /// Which order the stacks of a stage are sized in.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -48,13 +49,21 @@ pub fn size_stage(
     let (function, role) = (&stage.function, stage.role);
     let written = stage.networks();
     match plan.method {
+        Method::MinArea { worst_case: WorstCase::Vectors } => {
+            // Resistances do not depend on the order of series members: the written networks are
+            // sized, then arranged by those widths.
+            let widths = vectors::widths(&written, function.inputs.len(), plan, meter)?;
+            let networks = arrange(written, &widths, arrangement);
+            build::stage(function, role, networks, widths, plan)
+        }
+        Method::Elmore { worst_case: WorstCase::Vectors } => Err(WorstCaseRefused::Elmore.into()),
         Method::LongestPath | Method::MinArea { .. } => {
             let rule = if plan.method == Method::LongestPath { Rule::LongestPath } else { Rule::MinArea };
             let widths = rule_widths(&written, plan, rule);
             let networks = arrange(written, &widths, arrangement);
             build::stage(function, role, networks, widths, plan)
         }
-        Method::Elmore { .. } => {
+        Method::Elmore { worst_case: WorstCase::Paths } => {
             // The program runs on the structure the longest-path rule's order gives (or the order asked
             // for), starting from the min-area widths.
             let longest = rule_widths(&written, plan, Rule::LongestPath);

@@ -23,6 +23,7 @@ use crate::expr::parser;
 use crate::figures::CellFigures;
 use crate::network::NetworkKind;
 use crate::paths::{EXACT_WORST_MAX_INPUTS, Vector};
+use crate::sizing::WorstCase;
 
 pub use error::VerifyError;
 use netlist::Netlist;
@@ -233,6 +234,14 @@ fn bounds(gate: &CellFigures) -> Vec<NetworkBound> {
                     Some(path_bound),
                     network.worst_vector.clone(),
                     "no repeated inputs: the weakest path conducts alone, so the bound is exact".to_string(),
+                ),
+                (Some(exact), true) if gate.worst_case == WorstCase::Vectors => (
+                    Some(exact.resistance),
+                    Some(exact.vector.clone()),
+                    format!(
+                        "sized against every input vector: its worst vector, enumerated, at the target {}",
+                        crate::number::format(network.target_resistance)
+                    ),
                 ),
                 (Some(exact), true) => (
                     Some(exact.resistance),
@@ -504,6 +513,21 @@ mod tests {
         assert!((up.path_bound - 1.0).abs() < 1e-12);
         assert!((up.exact_worst.unwrap() - 2.5 / 3.0).abs() < 1e-12);
         assert!(up.below_bound && !result.networks[0].below_bound);
+    }
+
+    #[test]
+    fn a_sizing_over_vectors_reports_each_network_at_its_target() {
+        // Sized against every input vector, each network's worst vector sits on its target (scaling
+        // every width by s divides every resistance by s, so the least area puts the worst vector
+        // there; docs/model.md section 10); the carry's pull-up path bound stays above it.
+        let method = Method::with(crate::sizing::MethodName::MinArea, WorstCase::Vectors).unwrap();
+        let result = verify(&sized("!(a & b | c & (a | b))", method), &options(1)).unwrap();
+        for network in &result.networks {
+            assert!((network.exact_worst.unwrap() - 1.0).abs() < 1e-9, "{network:?}");
+            assert!(network.note.starts_with("sized against every input vector"), "{}", network.note);
+            assert!(network.exact_worst_vector.is_some());
+        }
+        assert!(result.networks[1].path_bound > 1.2 && result.networks[1].below_bound);
     }
 
     /// The plain reference: per vector, components of the conducting switches (union-find) and the

@@ -875,3 +875,40 @@ fn a_toml_recursion_limit_error_has_a_place() {
     let stderr = String::from_utf8(output.stderr).unwrap();
     assert!(stderr.contains("recursion limit") && stderr.contains("line 2, column 598"), "{stderr}");
 }
+
+#[test]
+fn worst_case_goes_command_line_then_gate_then_defaults() {
+    // Each variant against `widthwise size` of the same gate with the worst case the precedence
+    // gives (README, "Precedence"), row by row.
+    let library = "[defaults]\nmethod = \"min-area\"\nworst_case = \"vectors\"\n\n\
+                   [[gate]]\nname = \"carry\"\nexpr = \"!(a & b | c & (a | b))\"\n\n\
+                   [[gate]]\nname = \"lone\"\nexpr = \"!(a & b | c & (a | b))\"\nworst_case = \"paths\"\n";
+    let carry =
+        size_row(&["!(a & b | c & (a | b))", "--name", "carry_x1", "--method", "min-area", "--worst-case", "vectors"]);
+    let lone = size_row(&["!(a & b | c & (a | b))", "--name", "lone_x1", "--method", "min-area"]);
+    assert_ne!(carry["total_w_over_l"], lone["total_w_over_l"]);
+    assert_eq!(batch_row(library, &[], "carry_x1"), carry);
+    assert_eq!(batch_row(library, &[], "lone_x1"), lone);
+    let lone_as_vectors =
+        size_row(&["!(a & b | c & (a | b))", "--name", "lone_x1", "--method", "min-area", "--worst-case", "vectors"]);
+    assert_eq!(batch_row(library, &["--worst-case", "vectors"], "lone_x1"), lone_as_vectors);
+}
+
+#[test]
+fn worst_case_vectors_with_longest_path_is_refused_at_its_key() {
+    let library = "[[gate]]\nname = \"carry\"\nexpr = \"!(a & b | c & (a | b))\"\nworst_case = \"vectors\"\n";
+    widthwise()
+        .args(["batch", "-"])
+        .write_stdin(library)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("gate 'carry': worst_case = \"vectors\": "))
+        .stderr(predicate::str::contains("longest-path is a rule, not an optimum"))
+        .stderr(predicate::str::contains("line 4"));
+    widthwise()
+        .args(["batch", "-", "--method", "longest-path", "--worst-case", "vectors"])
+        .write_stdin(library)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("a rule, not an optimum"));
+}

@@ -13,3 +13,4 @@ mod scipy;
 mod stages;
 mod support;
 mod vectors;
+mod worst_case;

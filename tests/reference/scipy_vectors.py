@@ -3,8 +3,8 @@
 
 Reads a JSON array of networks on standard input, each with its transistors as a netlist: for
 every device its drain and source node and its input, the output and rail node, how many inputs
-there are, the unit resistance (the resistance of a device of W/L 1, in units of R) and the target
-resistance. An input vector is taken as the set of inputs at the level that turns their devices on
+there are, the unit resistance (the resistance of a device of W/L 1, in units of R), the target
+resistance and, optionally, the least W/L of each device ("lower"). An input vector is taken as the set of inputs at the level that turns their devices on
 (1 for NMOS, 0 for PMOS): every vector is one such set, whatever the device type.
 
 For each network it works out everything itself from the netlist: which input vectors make the
@@ -108,6 +108,8 @@ def solve(network):
     unit = network["unit_resistance"]
     target = network["target"]
     count = len(net.edges)
+    # Optional least W/L of each device (default: none beyond staying positive).
+    lower = network.get("lower") or [1e-9] * count
     on_sets = range(1 << net.inputs)
     conducting = [u for u in on_sets if net.conducts(u)]
     conducting_set = set(conducting)
@@ -124,6 +126,7 @@ def solve(network):
     # width by s divides every resistance by s).
     ones = np.ones(count)
     start = ones * max(resistance(d, ones) for d in device_sets) / target
+    start = np.maximum(start, np.array(lower) * 1.01)
 
     def constraint(devices):
         def value(w):
@@ -142,7 +145,7 @@ def solve(network):
         start,
         jac=lambda w: np.ones(count),
         method="SLSQP",
-        bounds=[(1e-9, None)] * count,
+        bounds=[(max(low, 1e-9), None) for low in lower],
         constraints=[constraint(d) for d in device_sets],
         options={"ftol": 1e-12, "maxiter": 2000},
     )
