@@ -221,6 +221,8 @@ pub enum LookupError {
         length_m: f64,
         /// The nearest bins, each as `name (L a-b um, W c-d um)`.
         nearest: Vec<String>,
+        /// Where the nearest bin is defined, if any bin has numeric limits.
+        nearest_at: Option<Location>,
     },
 }
 
@@ -248,7 +250,8 @@ impl LookupError {
             | LookupError::NotBinned { at, .. }
             | LookupError::InsideSubcircuit { at, .. }
             | LookupError::Subcircuit { at, .. } => Some(*at),
-            LookupError::NotFound { .. } | LookupError::Uncovered { .. } => None,
+            LookupError::Uncovered { nearest_at, .. } => *nearest_at,
+            LookupError::NotFound { .. } => None,
         }
     }
 }

@@ -167,6 +167,7 @@ impl Library {
                     format!("{} ({})", model.name, model.bin.as_ref().map(ToString::to_string).unwrap_or_default())
                 })
                 .collect(),
+            nearest_at: nearest.first().map(|(_, model)| model.at),
         })
     }
 

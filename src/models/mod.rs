@@ -30,6 +30,7 @@
 //! read, and at a file that includes itself.
 
 mod cards;
+pub mod check;
 pub mod error;
 pub mod library;
 pub mod names;
@@ -37,6 +38,7 @@ pub mod scan;
 pub mod types;
 
 pub use cards::spice_number;
+pub use check::{DeviceUse, ModelCheckError, check_devices, scan_errors};
 pub use error::{LookupError, Problem, ScanError};
 pub use library::{Library, ModelSet, Served};
 pub use names::{Unwritable, check_deck_path, check_model_name, check_section_name};

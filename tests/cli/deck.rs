@@ -57,7 +57,7 @@ fn options_add_diffusion_capacitors_and_a_summary() {
 fn a_model_library_is_included_by_absolute_path() {
     let directory = tempfile::tempdir().unwrap();
     let library = directory.path().join("my models.lib");
-    std::fs::write(&library, "* models\n").unwrap();
+    std::fs::write(&library, "* models\n.model nch nmos\n.model pch pmos\n").unwrap();
     let text = deck(&["nand2", "--models", library.to_str().unwrap(), "--nmos-model", "nch", "--pmos-model", "pch"]);
     let absolute = std::fs::canonicalize(&library).unwrap();
     assert!(text.contains(&format!(".include \"{}\"", absolute.display())), "{text}");
