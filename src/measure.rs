@@ -206,3 +206,64 @@ fn falling_or_rising(kind: NetworkKind) -> &'static str {
         NetworkKind::PullUp => "rising",
     }
 }
+
+#[cfg(all(test, unix))]
+mod tests {
+    use std::os::unix::fs::PermissionsExt;
+
+    use super::*;
+    use crate::output::deck::DeckLoad;
+    use crate::sizing::{Method, Plan};
+
+    /// A stand-in for ngspice that prints what ngspice-39 prints for a deck whose measurement
+    /// `tpd_a_rise_gate` failed (its format: src/ngspice.rs), and measures the rest.
+    const FAKE: &str = "#!/bin/sh\n\
+        if [ \"$1\" = --version ]; then echo '** ngspice-39 : Circuit level simulation program'; exit 0; fi\n\
+        echo 'tpd_fall_ref = 1.0e-11 targ= 2e-11 trig= 1e-11'\n\
+        echo 'tpd_rise_ref = 1.2e-11 targ= 2e-11 trig= 1e-11'\n\
+        echo 'tpd_a_fall_gate = 1.1e-11 targ= 2e-11 trig= 1e-11'\n\
+        echo 'tpd_b_fall_gate = 1.3e-11 targ= 2e-11 trig= 1e-11'\n\
+        echo 'tpd_b_rise_gate = 1.4e-11 targ= 2e-11 trig= 1e-11'\n\
+        echo 'Error: measure  tpd_a_rise_gate  trig(TARG) : out of interval' >&2\n\
+        echo ' .meas tran tpd_a_rise_gate trig v(t2_in1) val=1.65 fall=1 targ v(t2_out) val=1.65 rise=1 failed!' >&2\n";
+
+    #[test]
+    fn a_failed_measurement_names_its_transition() {
+        let directory = tempfile::tempdir().unwrap();
+        let program = directory.path().join("fake-ngspice");
+        std::fs::write(&program, FAKE).unwrap();
+        std::fs::set_permissions(&program, std::fs::Permissions::from_mode(0o755)).unwrap();
+        let simulator = ngspice::Options { program: program.into_os_string(), ..ngspice::Options::default() };
+        let cell = crate::size_text("nand2", &Plan::new(Method::LongestPath, 2.0, 1.0, None)).unwrap();
+        let transitions = deck::transitions(&cell, 20.0).unwrap();
+        let options = DeckOptions {
+            models: Models::Process,
+            diffusion_capacitance: false,
+            summary: false,
+            load: DeckLoad::Femtofarads(20.0),
+            slew_s: None,
+            window: Window::Estimate,
+        };
+        let error = measure(&cell, &transitions, &options, &simulator).unwrap_err();
+        assert_eq!(
+            error.to_string(),
+            "transition t2 (a falling, output rising, held b=1) was not measured: measurement 'tpd_a_rise_gate' \
+             failed: trig(TARG) : out of interval"
+        );
+        assert_eq!(error.exit_code(), crate::exit::EXIT_CHECK_FAILED);
+        // Measured in full, every transition is read, in the deck's order.
+        let all = FAKE.replace("' >&2", "' >/dev/null").replace(
+            "echo 'Error: measure",
+            "echo 'tpd_a_rise_gate = 1.5e-11 targ= 2e-11 trig= 1e-11'\necho 'Error: measure",
+        );
+        std::fs::write(directory.path().join("fake-ngspice"), all).unwrap();
+        let measured = measure(&cell, &transitions, &options, &simulator).unwrap();
+        let delays: Vec<(&str, f64, f64)> =
+            measured.delays.iter().map(|d| (d.tag.as_str(), d.delay_s, d.reference_s)).collect();
+        assert_eq!(
+            delays,
+            [("t1", 1.1e-11, 1.0e-11), ("t2", 1.5e-11, 1.2e-11), ("t3", 1.3e-11, 1.0e-11), ("t4", 1.4e-11, 1.2e-11)]
+        );
+        assert_eq!(measured.simulator, "ngspice-39");
+    }
+}
