@@ -164,7 +164,7 @@ pub struct GateArgs {
 #[derive(Debug, Clone, Default, Args)]
 pub struct LoadArgs {
     /// Load: H times the timed input's own capacitance in the gate as sized, the textbook fan-out
-    /// h = C_out / C_in [default: 1].
+    /// h = C_out / C_in [default: 1; deck: the process's load_ff].
     #[arg(long, value_name = "H", value_parser = non_negative_number, conflicts_with_all = ["load", "load_ff"])]
     pub fanout: Option<f64>,
     /// Load: a fixed capacitance in units of C, the gate capacitance of a unit transistor
