@@ -104,8 +104,8 @@ pub enum DeckError {
     },
     /// A load that is no capacitance (a load in C with a process whose gate capacitance is 0).
     #[error(
-        "the deck's load comes to {} fF: a deck needs a positive load (with a gate capacitance of 0 per um, give \
-         --load-ff)",
+        "the deck's load comes to {} fF: a deck needs a positive load (a fan-out above 0; with a gate capacitance \
+         of 0 per um, give --load-ff)",
         crate::number::format(*load_ff)
     )]
     NoLoad {
