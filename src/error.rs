@@ -15,6 +15,8 @@ use crate::expr::error::ExprError;
 use crate::io::{InputError, OutputError};
 use crate::library::LibraryError;
 use crate::logic::{LogicError, PullUpError};
+use crate::measure::MeasureError;
+use crate::models::{Library as ModelLibrary, ModelCheckError};
 use crate::ngspice::SimulationError;
 use crate::output::deck::DeckError;
 use crate::paths::ListingError;
@@ -97,6 +99,18 @@ pub enum Error {
     /// A simulation that gave no result.
     #[error(transparent)]
     Simulation(#[from] SimulationError),
+    /// A model library that does not serve a deck, with the library as scanned (its files, to
+    /// point into them).
+    #[error("{error}")]
+    Models {
+        /// What is wrong.
+        error: Box<ModelCheckError>,
+        /// The library as scanned.
+        library: Box<ModelLibrary>,
+    },
+    /// A deck run through ngspice that gave no delays.
+    #[error(transparent)]
+    Measure(#[from] MeasureError),
     /// A command name that is not one of widthwise's (`man-page NAME`).
     #[error("there is no command '{}': the commands are {commands}", crate::diagnostic::escaped(name))]
     NoSuchCommand {
@@ -153,6 +167,7 @@ impl Error {
             Error::Timing(error) => error.is_internal(),
             Error::Verify(error) => error.is_internal(),
             Error::Simulation(error) => return error.exit_code(),
+            Error::Measure(error) => return error.exit_code(),
             Error::VerifyFailed(_) | Error::VariantsUnverified { .. } => true,
             Error::Expression { .. }
             | Error::Logic { .. }
@@ -163,6 +178,7 @@ impl Error {
             | Error::Output(_)
             | Error::Listing(_)
             | Error::Deck(_)
+            | Error::Models { .. }
             | Error::OverBudget(_)
             | Error::NotApplicable { .. }
             | Error::NoSuchCommand { .. }
@@ -200,6 +216,9 @@ impl Error {
             Error::PullUp { error, input } => Diagnostic::error(error.to_string()).at_or_within(input, error.span()),
             Error::Process { error, file } => Diagnostic::error(error.to_string()).at_or_within(file, error.span()),
             Error::Library { error, file } => error.diagnostic(file),
+            Error::Models { error, library } => {
+                library.diagnostic(error.to_string(), error.at(), crate::diagnostic::Severity::Error)
+            }
             other if other.is_internal() => {
                 Diagnostic::error(format!("{other} (an internal inconsistency: a bug in widthwise, not in the input)"))
             }

@@ -25,6 +25,7 @@ pub mod figures;
 pub mod io;
 pub mod library;
 pub mod logic;
+pub mod measure;
 pub mod models;
 pub mod names;
 pub mod network;

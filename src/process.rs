@@ -53,6 +53,15 @@ pub struct Process {
     pub diffusion_cap_ff_per_um: f64,
     /// Load on the output in decks, fF.
     pub load_ff: f64,
+    /// Length of a contacted source or drain region, from the gate edge to the region's far end,
+    /// nm; with it decks write AS, AD, PS and PD on every device, so that a model library's own
+    /// junction model charges the diffusions. `None`: no geometry is written.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub diffusion_length_nm: Option<f64>,
+    /// Length of the uncontacted region two series devices share, between their gates, nm
+    /// (default: `diffusion_length_nm`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub shared_diffusion_length_nm: Option<f64>,
 }
 
 impl Default for Process {
@@ -76,6 +85,8 @@ impl Default for Process {
             gate_cap_ff_per_um: 1.7,
             diffusion_cap_ff_per_um: 1.0,
             load_ff: 20.0,
+            diffusion_length_nm: None,
+            shared_diffusion_length_nm: None,
         }
     }
 }
@@ -155,6 +166,10 @@ pub struct ProcessFile {
     pub diffusion_cap_ff_per_um: Spanned<f64>,
     /// See [`Process::load_ff`].
     pub load_ff: Spanned<f64>,
+    /// See [`Process::diffusion_length_nm`]; optional.
+    pub diffusion_length_nm: Option<Spanned<f64>>,
+    /// See [`Process::shared_diffusion_length_nm`]; optional, needs `diffusion_length_nm`.
+    pub shared_diffusion_length_nm: Option<Spanned<f64>>,
 }
 
 fn span_of<T>(value: &Spanned<T>) -> Span {
@@ -195,15 +210,13 @@ fn model_name(key: &'static str, value: &Spanned<String>) -> Result<String, Proc
     Ok(text.clone())
 }
 
-/// A device model's name: an identifier, not a reserved name (a rail or ground).
+/// A device model's name: one a SPICE instance line can hold ([`crate::models::check_model_name`]:
+/// binned libraries' names such as `nch.1` included), not a reserved name (a rail or ground).
 pub fn check_model_name(text: &str) -> Result<(), String> {
-    if !crate::names::is_identifier(text) {
-        return Err(format!("a model name is {}", crate::names::IDENTIFIER_RULE));
-    }
     if let Some(why) = crate::names::reserved_reason(text, &[]) {
         return Err(format!("a model may not take a reserved name: {why}"));
     }
-    Ok(())
+    crate::models::check_model_name(text).map_err(|why| why.to_string())
 }
 
 impl ProcessFile {
@@ -239,7 +252,23 @@ impl ProcessFile {
                 CAPACITANCE_PER_UM,
             )?,
             load_ff: check("load_ff", &self.load_ff, LOAD_FF)?,
+            diffusion_length_nm: match &self.diffusion_length_nm {
+                Some(value) => Some(check("diffusion_length_nm", value, LENGTH_NM)?),
+                None => None,
+            },
+            shared_diffusion_length_nm: match &self.shared_diffusion_length_nm {
+                Some(value) => Some(check("shared_diffusion_length_nm", value, LENGTH_NM)?),
+                None => None,
+            },
         };
+        if let (Some(shared), None) = (&self.shared_diffusion_length_nm, &self.diffusion_length_nm) {
+            return Err(ProcessError::Value {
+                key: "shared_diffusion_length_nm",
+                value: show(*shared.get_ref()),
+                why: "needs diffusion_length_nm, the length of a contacted region, beside it".to_string(),
+                span: span_of(shared),
+            });
+        }
         if process.nmos_model.eq_ignore_ascii_case(&process.pmos_model) {
             return Err(ProcessError::Value {
                 key: "pmos_model",
@@ -382,8 +411,13 @@ impl Process {
     /// The process as a commented TOML file a user can start from; it reads back as itself.
     pub fn to_commented_toml(&self) -> String {
         let mut out = String::new();
+        // A key with its comment; an optional key not set is written commented out, with an example.
         let mut line = |comment: &str, key: &str, value: String| {
-            let _ = writeln!(out, "# {comment}\n{key} = {value}\n");
+            let _ = if let Some(example) = value.strip_prefix('#') {
+                writeln!(out, "# {comment}\n# {key} = {example}\n")
+            } else {
+                writeln!(out, "# {comment}\n{key} = {value}\n")
+            };
         };
         line("A label for reports.", "name", toml_string(&self.name));
         line(
@@ -431,6 +465,12 @@ impl Process {
             float(self.diffusion_cap_ff_per_um),
         );
         line("Load on the output in simulation decks, fF.", "load_ff", float(self.load_ff));
+        let geometry = "Optional: length of a contacted source or drain region (gate edge to far end), nm; with it \
+                        decks write AS, AD, PS and PD on every device for a model library's junctions.";
+        let shared = "Optional: length of the region two series devices share between their gates, nm \
+                      (default: diffusion_length_nm).";
+        line(geometry, "diffusion_length_nm", self.diffusion_length_nm.map_or("#300.0".to_string(), float));
+        line(shared, "shared_diffusion_length_nm", self.shared_diffusion_length_nm.map_or("#200.0".to_string(), float));
         let header = "# widthwise process file. Every key is required unless marked optional.\n\
                       # First-order values: sign-off needs the foundry's models and design rules.\n\n";
         format!("{header}{}", out.trim_end()) + "\n"
@@ -586,7 +626,7 @@ mod tests {
     #[test]
     fn model_names_are_identifiers_not_reserved_and_distinct() {
         for (nmos, pmos, start) in [
-            ("\"n-fet\"", "\"pmos\"", "nmos_model = 'n-fet': a model name is"),
+            ("\"n fet\"", "\"pmos\"", "nmos_model = 'n fet': the model name 'n fet' holds ' '"),
             ("\"Gnd\"", "\"pmos\"", "nmos_model = 'Gnd': a model may not take a reserved name"),
             ("\"nmos\"", "\"vdd\"", "pmos_model = 'vdd': a model may not take a reserved name"),
             ("\"fet\"", "\"FET\"", "pmos_model = 'FET': the NMOS and PMOS models must differ"),

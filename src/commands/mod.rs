@@ -192,15 +192,12 @@ pub struct GateArgs {
     pub pull_up: Option<String>,
 }
 
-/// Options for Elmore delays: the load, the diffusion capacitance, the stack-order search.
-#[derive(Debug, Clone, Args)]
-pub struct DelayArgs {
-    /// Report the Elmore delay of every input on both output edges, with the logical-effort view and
-    /// the three methods side by side (implied by every option below and by --method elmore).
-    #[arg(long)]
-    pub delays: bool,
+/// The load on a cell's output, as `size` (with delays) and `deck` take it: a fan-out or a fixed
+/// capacitance, in C or in fF.
+#[derive(Debug, Clone, Default, Args)]
+pub struct LoadArgs {
     /// Load: H times the timed input's own capacitance in the gate as sized, the textbook fan-out
-    /// h = C_out / C_in [default: 1].
+    /// h = C_out / C_in [default: 1; deck: the process's load_ff].
     #[arg(long, value_name = "H", value_parser = non_negative_number, conflicts_with_all = ["load", "load_ff"])]
     pub fanout: Option<f64>,
     /// Load: a fixed capacitance in units of C, the gate capacitance of a unit transistor
@@ -211,6 +208,35 @@ pub struct DelayArgs {
     /// (gate_cap_ff_per_um x unit_width_nm).
     #[arg(long, value_name = "FF", value_parser = non_negative_number)]
     pub load_ff: Option<f64>,
+}
+
+impl LoadArgs {
+    /// Whether a load was given.
+    pub fn given(&self) -> bool {
+        self.fanout.is_some() || self.load.is_some() || self.load_ff.is_some()
+    }
+
+    /// The load these arguments give, if any.
+    pub fn load(&self) -> Option<Load> {
+        match (self.load, self.load_ff, self.fanout) {
+            (Some(c), _, _) => Some(Load::Units(c)),
+            (None, Some(ff), _) => Some(Load::Femtofarads(ff)),
+            (None, None, Some(h)) => Some(Load::Fanout(h)),
+            (None, None, None) => None,
+        }
+    }
+}
+
+/// Options for Elmore delays: the load, the diffusion capacitance, the stack-order search.
+#[derive(Debug, Clone, Args)]
+pub struct DelayArgs {
+    /// Report the Elmore delay of every input on both output edges, with the logical-effort view and
+    /// the three methods side by side (implied by every option below and by --method elmore).
+    #[arg(long)]
+    pub delays: bool,
+    /// The load.
+    #[command(flatten)]
+    pub load: LoadArgs,
     /// Diffusion capacitance of one source or drain per unit W/L, over the gate capacitance per unit
     /// W/L [default: with --process, the file's diffusion_cap_ff_per_um / gate_cap_ff_per_um, the ratio
     /// of its deck's capacitors; without, 1, as in the published worked examples].
@@ -228,21 +254,14 @@ impl DelayArgs {
     /// Whether any delay option was given.
     pub fn wanted(&self) -> bool {
         self.delays
-            || self.fanout.is_some()
-            || self.load.is_some()
-            || self.load_ff.is_some()
+            || self.load.given()
             || self.diffusion_ratio.is_some()
             || self.stack_order == Some(StackOrder::Search)
     }
 
     /// The load these arguments give, if any.
     pub fn load(&self) -> Option<Load> {
-        match (self.load, self.load_ff, self.fanout) {
-            (Some(c), _, _) => Some(Load::Units(c)),
-            (None, Some(ff), _) => Some(Load::Femtofarads(ff)),
-            (None, None, Some(h)) => Some(Load::Fanout(h)),
-            (None, None, None) => None,
-        }
+        self.load.load()
     }
 }
 

@@ -98,9 +98,9 @@ fn check_applies(args: &Args) -> Result<(), Error> {
     if args.format == Format::Spice && !sizes_by_delay {
         let given = [
             (args.delay.delays, "--delays"),
-            (args.delay.fanout.is_some(), "--fanout"),
-            (args.delay.load.is_some(), "--load"),
-            (args.delay.load_ff.is_some(), "--load-ff"),
+            (args.delay.load.fanout.is_some(), "--fanout"),
+            (args.delay.load.load.is_some(), "--load"),
+            (args.delay.load.load_ff.is_some(), "--load-ff"),
             (args.delay.diffusion_ratio.is_some(), "--diffusion-ratio"),
         ];
         if let Some((_, option)) = given.into_iter().find(|(given, _)| *given) {

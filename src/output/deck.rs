@@ -1,11 +1,12 @@
 //! The simulation deck: a self-contained SPICE file that makes a simulator measure every input's
 //! worst-case delay against the reference inverter's, so the sizing can be checked outside widthwise.
 //!
-//! Layout: header comments; models (level 1 from the process, or `.include` of a user library);
+//! Layout: header comments; models (level 1 from the process, or `.include` of a user library, or
+//! `.lib` of one of its sections);
 //! the gate's `.subckt` and the reference inverter's (drawn sizes, optional diffusion capacitors);
 //! the supply; then one block per transition, each its own copy of the gate (or the reference)
 //! with its own sources, load and `.meas`; `.tran`; an optional ngspice `.control` summary.
-//! Nothing here runs a simulator.
+//! Nothing here runs a simulator (the measure module does, on the text written here).
 
 use std::io::{self, Write};
 
@@ -19,21 +20,29 @@ use crate::timing::transition::WEAKEST_PATH;
 use super::number;
 use super::spice::{mosfet_line, transistor_line};
 
+mod geometry;
+mod library;
 mod physics;
 mod transitions;
 
-use physics::{TimeScale, femtofarads, reference_devices, seconds};
-pub use transitions::{Transition, transitions};
+use geometry::Device;
+pub use library::device_uses;
+pub use physics::{DeckLoad, Window};
+use physics::{femtofarads, reference_devices, seconds};
+pub use transitions::{Transition, transitions, transitions_under};
 
 /// Where the deck's device models come from.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum Models {
     /// Level-1 models written from the process's device values.
     Process,
-    /// A user's library, included by path, with the names of its two models.
+    /// A user's library, included by path (or one of its sections), with the names of its two
+    /// models.
     Library {
-        /// The path as written in `.include` (absolute).
+        /// The path as written in `.include` or `.lib` (absolute).
         include: String,
+        /// The section read (`.lib PATH SECTION`), or `None` for the whole file (`.include PATH`).
+        section: Option<String>,
         /// The NMOS model's name.
         nmos: String,
         /// The PMOS model's name.
@@ -42,16 +51,22 @@ pub enum Models {
 }
 
 impl Models {
-    /// A user's library at `include` (an absolute path) with its NMOS and PMOS models' names:
-    /// refused when a SPICE `.include` line cannot hold the path, or when the two names are one.
-    pub fn library(include: String, nmos: String, pmos: String) -> Result<Models, DeckError> {
+    /// A user's library at `include` (an absolute path), or its `section`, with its NMOS and PMOS
+    /// models' names: refused when a SPICE `.include` (or `.lib`) line cannot hold the path or the
+    /// section, or when the two names are one.
+    pub fn library(include: String, section: Option<String>, nmos: String, pmos: String) -> Result<Models, DeckError> {
         if include.chars().any(|c| c == '"' || c.is_control()) {
             return Err(DeckError::UnquotablePath { path: include });
+        }
+        if let Some(section) = &section {
+            // `.lib PATH SECTION` cannot quote: the path takes the stricter rule of a `.lib` word.
+            crate::models::check_deck_path(std::path::Path::new(&include)).map_err(DeckError::Unwritable)?;
+            crate::models::check_section_name(section).map_err(DeckError::Unwritable)?;
         }
         if nmos.eq_ignore_ascii_case(&pmos) {
             return Err(DeckError::SameModels { name: nmos });
         }
-        Ok(Models::Library { include, nmos, pmos })
+        Ok(Models::Library { include, section, nmos, pmos })
     }
 }
 
@@ -77,6 +92,16 @@ pub enum DeckError {
         /// The absolute path.
         path: String,
     },
+    /// A path or section name a `.lib` line cannot hold.
+    #[error("{0}")]
+    Unwritable(crate::models::Unwritable),
+    /// Explicit diffusion capacitors beside a model library's own junctions, not asked for both.
+    #[error(
+        "--diffusion-capacitance adds a capacitor for every diffusion, which a model library's own junction model \
+         charges too (from AS/AD/PS/PD when the process sets diffusion_length_nm, else from its defaults): the \
+         deck would count them twice; give --count-diffusion-twice to write both anyway"
+    )]
+    DoubleDiffusion,
     /// The NMOS and PMOS models have one name (netlists ignore case).
     #[error(
         "the NMOS and PMOS models must differ (netlists ignore case): both are '{name}'; give --nmos-model and \
@@ -88,8 +113,8 @@ pub enum DeckError {
     },
     /// A load that is no capacitance (a load in C with a process whose gate capacitance is 0).
     #[error(
-        "the deck's load comes to {} fF: a deck needs a positive load (with a gate capacitance of 0 per um, give \
-         --load-ff)",
+        "the deck's load comes to {} fF: a deck needs a positive load (a fan-out above 0; with a gate capacitance \
+         of 0 per um, give --load-ff)",
         crate::number::format(*load_ff)
     )]
     NoLoad {
@@ -130,8 +155,13 @@ pub struct DeckOptions {
     pub diffusion_capacitance: bool,
     /// An ngspice `.control` block that prints every delay, its reference and their ratio.
     pub summary: bool,
-    /// The load on every copy's output, fF.
-    pub load_ff: f64,
+    /// The load on every copy's output.
+    pub load: DeckLoad,
+    /// How long the inputs take to ramp rail to rail, s (default: a thousandth of the time scale,
+    /// a step).
+    pub slew_s: Option<f64>,
+    /// How the run's time window is chosen.
+    pub window: Window,
 }
 
 /// Most input occurrences per network a deck is written for: each of the 2n transitions holds a
@@ -178,6 +208,7 @@ pub fn write_deck(
     let process = &gate.process;
     let supply = process.supply_v;
     let half = number(supply / 2.0);
+    let library = matches!(options.models, Models::Library { .. });
     let models: [&str; 2] = match &options.models {
         Models::Process => [&process.nmos_model, &process.pmos_model],
         Models::Library { nmos, pmos, .. } => [nmos, pmos],
@@ -194,25 +225,53 @@ pub fn write_deck(
         node_diffusion_um(&[("y", "vss", n), ("y", "vdd", p)], "y")
     };
 
-    // The time scale: the reference inverter charging its load (plus, when asked, every diffusion
-    // of the gate) at its saturation current, the slower edge.
-    let mut load_ff = options.load_ff;
+    let gate_devices: Vec<Device<'_>> = gate
+        .transistors
+        .iter()
+        .map(|t| Device { drain: &t.drain, source: &t.source, finger_um: t.finger_width_um, fingers: t.fingers })
+        .collect();
+    let gate_geometry = geometry::suffixes(&gate_devices, &gate.output, process);
+    let reference_geometry = {
+        let [(n_fingers, n_finger), (p_fingers, p_finger)] = reference;
+        let devices = [
+            Device { drain: "y", source: "vss", finger_um: n_finger / 1000.0, fingers: n_fingers },
+            Device { drain: "y", source: "vdd", finger_um: p_finger / 1000.0, fingers: p_fingers },
+        ];
+        geometry::suffixes(&devices, "y", process)
+    };
+    let gate_loads: Vec<f64> = (0..gate.inputs.len()).map(|input| options.load.gate_ff(gate, input)).collect();
+    let reference_load = options.load.reference_ff(gate);
+
+    // The time scale: the reference inverter charging the largest load (plus, when asked, every
+    // diffusion of the gate) at its saturation current, the slower edge, or as measured.
+    let mut load_ff = transitions.iter().map(|t| gate_loads[t.input]).fold(reference_load, f64::max);
     if options.diffusion_capacitance {
         load_ff += gate_diffusion.iter().map(|(_, w)| w).sum::<f64>() * process.diffusion_cap_ff_per_um;
     }
-    let TimeScale { rise, start, stop, step } = TimeScale::of(process, reference, load_ff);
+    let scale = options.window.scale(library, process, reference, load_ff / reference_load, load_ff, options.slew_s);
+    let (rise, start, stop, step) = (scale.rise, scale.start, scale.stop, scale.step);
 
     writeln!(out, "* widthwise simulation deck: {}: {} = {}", gate.name, gate.output, gate.expression)?;
     writeln!(out, "* {}; process: {}", super::sizing_line(gate), process.name)?;
     writeln!(out, "* One copy of the gate per worst-case transition and one of the reference inverter per output")?;
+    match options.load {
+        DeckLoad::Femtofarads(load_ff) => writeln!(
+            out,
+            "* edge, each with its own sources and a {} fF load; one transient run measures them all.",
+            number(load_ff)
+        )?,
+        DeckLoad::Fanout(h) => writeln!(
+            out,
+            "* edge, each with its own sources and a load of {} x the toggling input's capacitance (the \
+             reference: {} x its own); one transient run measures them all.",
+            number(h),
+            number(h)
+        )?,
+    }
     writeln!(
         out,
-        "* edge, each with its own sources and a {} fF load; one transient run measures them all.",
-        number(options.load_ff)
-    )?;
-    writeln!(
-        out,
-        "* Delays: input crossing {half} V to output crossing {half} V; inputs step in {} s.",
+        "* Delays: input crossing {half} V to output crossing {half} V; inputs {} {} s.",
+        if options.slew_s.is_some() { "ramp rail to rail in" } else { "step in" },
         seconds(rise)
     )?;
     writeln!(out, "* Devices: W = finger width, m = fingers. First-order estimates: sign off with the foundry's")?;
@@ -235,11 +294,19 @@ pub fn write_deck(
                 )?;
             }
         }
-        Models::Library { include, nmos, pmos } => {
+        Models::Library { include, section, nmos, pmos } => {
             writeln!(out, "* Models from the user's library: NMOS {nmos}, PMOS {pmos}.")?;
-            let quoted =
-                if include.chars().any(char::is_whitespace) { format!("\"{include}\"") } else { include.clone() };
-            writeln!(out, ".include {quoted}")?;
+            match section {
+                Some(section) => writeln!(out, ".lib {include} {section}")?,
+                None => {
+                    let quoted = if include.chars().any(char::is_whitespace) {
+                        format!("\"{include}\"")
+                    } else {
+                        include.clone()
+                    };
+                    writeln!(out, ".include {quoted}")?;
+                }
+            }
         }
     }
 
@@ -247,8 +314,9 @@ pub fn write_deck(
     let inputs: Vec<&str> = gate.inputs.iter().map(|i| i.name.as_str()).collect();
     writeln!(out, "* The gate, drawn sizes.")?;
     writeln!(out, ".subckt {} {} {} vdd vss", gate.name, inputs.join(" "), gate.output)?;
-    for transistor in &gate.transistors {
-        writeln!(out, "{}", transistor_line(transistor, models))?;
+    for (index, transistor) in gate.transistors.iter().enumerate() {
+        let geometry = gate_geometry.as_ref().map_or("", |lines| lines[index].as_str());
+        writeln!(out, "{}{geometry}", transistor_line(transistor, models))?;
     }
     if options.diffusion_capacitance {
         write_diffusion(&gate_diffusion, process, out)?;
@@ -258,11 +326,15 @@ pub fn write_deck(
     writeln!(out)?;
     writeln!(out, "* The reference inverter at drive {}, drawn sizes.", number(gate.drive))?;
     writeln!(out, ".subckt {reference_name} a y vdd vss")?;
-    for (name, nodes, model, (fingers, finger)) in [
+    for (index, (name, nodes, model, (fingers, finger))) in [
         ("MN1", ["y", "a", "vss", "vss"], models[0], reference[0]),
         ("MP1", ["y", "a", "vdd", "vdd"], models[1], reference[1]),
-    ] {
-        writeln!(out, "{}", mosfet_line(name, nodes, model, finger, process.length_nm, fingers))?;
+    ]
+    .into_iter()
+    .enumerate()
+    {
+        let geometry = reference_geometry.as_ref().map_or("", |lines| lines[index].as_str());
+        writeln!(out, "{}{geometry}", mosfet_line(name, nodes, model, finger, process.length_nm, fingers))?;
     }
     if options.diffusion_capacitance {
         write_diffusion(&reference_diffusion, process, out)?;
@@ -330,7 +402,7 @@ pub fn write_deck(
             nodes.push(node);
         }
         writeln!(out, "X{tag} {} {tag}_out vdd 0 {}", nodes.join(" "), gate.name)?;
-        writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(options.load_ff))?;
+        writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(gate_loads[transition.input]))?;
         let measure = gate_measure(name, transition.kind);
         let statement = format!(
             "meas tran {measure} TRIG v({tag}_in{}) VAL={half} {} TARG v({tag}_out) VAL={half} {}",
@@ -354,7 +426,7 @@ pub fn write_deck(
         )?;
         writeln!(out, "V{tag} {tag}_in 0 {}", toggle(!rising_input))?;
         writeln!(out, "X{tag} {tag}_in {tag}_out vdd 0 {reference_name}")?;
-        writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(options.load_ff))?;
+        writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(reference_load))?;
         let measure = reference_measure(kind);
         let statement = format!(
             "meas tran {measure} TRIG v({tag}_in) VAL={half} {} TARG v({tag}_out) VAL={half} {}",

@@ -5,6 +5,7 @@ pub mod csv;
 pub mod deck;
 pub mod delays;
 pub mod json;
+pub mod measured;
 pub mod plot;
 pub mod schematic;
 pub mod spice;

@@ -57,7 +57,7 @@ fn options_add_diffusion_capacitors_and_a_summary() {
 fn a_model_library_is_included_by_absolute_path() {
     let directory = tempfile::tempdir().unwrap();
     let library = directory.path().join("my models.lib");
-    std::fs::write(&library, "* models\n").unwrap();
+    std::fs::write(&library, "* models\n.model nch nmos\n.model pch pmos\n").unwrap();
     let text = deck(&["nand2", "--models", library.to_str().unwrap(), "--nmos-model", "nch", "--pmos-model", "pch"]);
     let absolute = std::fs::canonicalize(&library).unwrap();
     assert!(text.contains(&format!(".include \"{}\"", absolute.display())), "{text}");
@@ -122,4 +122,122 @@ fn a_model_library_path_a_deck_cannot_hold_is_refused() {
             .stdout(predicate::str::is_empty())
             .stderr(predicate::str::contains("cannot hold"));
     }
+}
+
+/// `deck GATE` on the shipped demo card (examples/demo130.lib with its process file), `extra` after.
+fn demo(gate: &str, extra: &[&str]) -> assert_cmd::Command {
+    demo_with("examples/demo130-process.toml", gate, extra)
+}
+
+/// The same with another process file.
+fn demo_with(process: &str, gate: &str, extra: &[&str]) -> assert_cmd::Command {
+    let mut command = widthwise();
+    command.current_dir(env!("CARGO_MANIFEST_DIR")).args([
+        "deck",
+        gate,
+        "--process",
+        process,
+        "--models",
+        "examples/demo130.lib",
+    ]);
+    command.args(extra);
+    command
+}
+
+#[test]
+fn a_library_that_does_not_serve_the_deck_is_refused_before_ngspice_runs() {
+    // PATH without ngspice: had widthwise got as far as running it, it would say ngspice is
+    // missing (the last case shows it would); each refusal comes first, exit 2, with a place.
+    let nowhere = "/nonexistent-widthwise-path";
+    let directory = tempfile::tempdir().unwrap();
+    // L = 0.1 um is below every bin's lmin of 0.12 um (examples/demo130.lib's header).
+    let short = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/examples/demo130-process.toml"))
+        .unwrap()
+        .replace("length_nm = 130.0", "length_nm = 100.0");
+    let short_process = directory.path().join("short.toml");
+    std::fs::write(&short_process, short).unwrap();
+    let short_process = short_process.to_str().unwrap();
+    let demo130 = "examples/demo130-process.toml";
+    for (process, extra, says, place) in [
+        (
+            demo130,
+            vec!["--models-section", "typical", "--nmos-model", "nosuch"],
+            "error: MN1 of nand2_x1: no model 'nosuch' in section 'typical' of the library; its nmos models are: \
+             demo130_n, demo130w_n",
+            "  in ",
+        ),
+        (demo130, vec!["--models-section", "nominal"], "no section 'nominal' in ", "  in "),
+        (
+            short_process,
+            vec!["--models-section", "typical", "--nmos-model", "demo130w_n"],
+            "no bin of 'demo130w_n' covers a device of W = 0.8 um, L = 0.1 um; nearest: demo130w_n.1 (L 0.12-10 um, W \
+             0.15-1 um)",
+            "demo130-devices.inc, line 74, column 8:",
+        ),
+        // The library read whole: ngspice rejects its section lines.
+        (demo130, vec![], "name one section", "demo130.lib, line 26, column 1:"),
+    ] {
+        demo_with(process, "nand2", &extra)
+            .args(["--run"])
+            .env("PATH", nowhere)
+            .assert()
+            .code(2)
+            .stdout(predicate::str::is_empty())
+            .stderr(predicate::str::contains(says))
+            .stderr(predicate::str::contains(place))
+            .stderr(predicate::str::contains("ngspice is not installed").not());
+    }
+    demo("nand2", &["--models-section", "typical", "--run"])
+        .env("PATH", nowhere)
+        .assert()
+        .code(2)
+        .stdout(predicate::str::is_empty())
+        .stderr(predicate::str::contains("error: ngspice is not installed or not on PATH"));
+}
+
+#[test]
+fn a_section_binned_names_loads_slew_and_diffusion_geometry() {
+    let output = demo(
+        "nand2",
+        &["--models-section", "typical", "--nmos-model", "demo130w_n", "--pmos-model", "demo130w_p", "--fanout", "4"],
+    )
+    .args(["--slew-ps", "20"])
+    .output()
+    .unwrap();
+    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
+    let text = String::from_utf8(output.stdout).unwrap();
+    let library = std::fs::canonicalize(concat!(env!("CARGO_MANIFEST_DIR"), "/examples/demo130.lib")).unwrap();
+    assert!(text.contains(&format!("\n.lib {} typical\n", library.display())), "{text}");
+    // demo130: contacted regions 0.3 um, shared 0.2 um; NAND2 NMOS 0.8 um: y gets 0.8 x 0.3 =
+    // 0.24 um^2 and 2 (0.8 + 0.3) = 2.2 um, the shared n1 half of 0.8 x 0.2 (rectangles, by hand).
+    assert!(text.contains("MN1 y a n1 vss demo130w_n W=0.8u L=0.13u m=1 AD=0.24p AS=0.08p PD=2.2u PS=1u"), "{text}");
+    // Fan-out 4: each copy drives 4 x its input's capacitance, C_in = 2 + 2.25 = 4.25 C of
+    // 0.76 fF (1.9 fF/um x 0.4 um): 12.92 fF; the reference 4 x (1 + 2.25) C = 9.88 fF.
+    assert!(text.contains("Ct1 t1_out 0 12.92f"), "{text}");
+    assert!(text.contains("Crfall rfall_out 0 9.88f"), "{text}");
+    // The inputs ramp in 20 ps.
+    assert!(text.contains("inputs ramp rail to rail in 2e-11 s"), "{text}");
+    let ramp = text.lines().find(|line| line.starts_with("Vt1_1 ")).unwrap();
+    let times: Vec<f64> = ramp
+        .trim_end_matches(')')
+        .split_whitespace()
+        .skip(3)
+        .step_by(2)
+        .map(|t| t.trim_start_matches("PWL(").parse().unwrap())
+        .collect();
+    // (stimulus times are written to four significant digits)
+    assert!((times[2] - times[1] - 20e-12).abs() < 0.05e-12, "{ramp}");
+    // Explicit diffusion capacitors beside the library's junctions only when asked for both.
+    demo("nand2", &["--models-section", "typical", "--diffusion-capacitance"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("--count-diffusion-twice"));
+    let both = demo("nand2", &["--models-section", "typical", "--diffusion-capacitance", "--count-diffusion-twice"])
+        .output()
+        .unwrap();
+    assert!(both.status.success());
+    assert!(String::from_utf8(both.stdout).unwrap().contains("\nCD1 y vss "));
+    // --summary writes a deck for ngspice to print; --run prints the delays itself.
+    demo("nand2", &["--models-section", "typical", "--run", "--summary"]).assert().code(2);
+    widthwise().args(["deck", "nand2", "--format", "csv"]).assert().code(2);
 }

@@ -52,19 +52,104 @@ pub(crate) struct TimeScale {
 }
 
 impl TimeScale {
-    /// The scale of the reference inverter (`reference`: NMOS and PMOS fingers and finger width, nm)
-    /// charging `load_ff` to half the supply at its saturation current, the slower edge: the inputs
-    /// step in a thousandth of it, 1/20 of it in, and the run lasts 20 of it.
-    pub fn of(process: &Process, reference: [(usize, f64); 2], load_ff: f64) -> TimeScale {
-        let supply = process.supply_v;
-        let slowest = NetworkKind::BOTH
-            .into_iter()
-            .zip(reference)
-            .map(|(kind, (fingers, finger))| {
-                load_ff * 1e-15 * (supply / 2.0) / saturation_current(process, kind, fingers as f64 * finger)
-            })
-            .fold(0.0, f64::max);
+    /// The scale of a run whose slowest expected delay is `slowest` (s): the inputs start 1/20 of
+    /// it in and ramp in `slew` (rail to rail; default a thousandth of it); the run lasts `runs`
+    /// of it after the ramp, in steps of 1/200 of it.
+    pub fn new(slowest: f64, runs: f64, slew: Option<f64>) -> TimeScale {
         let start = slowest / 20.0;
-        TimeScale { rise: slowest / 1000.0, start, stop: start + 20.0 * slowest, step: slowest / 200.0 }
+        let stop = match slew {
+            Some(slew) => start + slew + runs * slowest,
+            None => start + runs * slowest,
+        };
+        TimeScale { rise: slew.unwrap_or(slowest / 1000.0), start, stop, step: slowest / 200.0 }
+    }
+}
+
+/// The level-1 estimate of the slowest edge (s): the reference inverter (`reference`: NMOS and
+/// PMOS fingers and finger width, nm) charging `load_ff` to half the supply at its saturation
+/// current.
+pub(crate) fn estimate(process: &Process, reference: [(usize, f64); 2], load_ff: f64) -> f64 {
+    let supply = process.supply_v;
+    NetworkKind::BOTH
+        .into_iter()
+        .zip(reference)
+        .map(|(kind, (fingers, finger))| {
+            load_ff * 1e-15 * (supply / 2.0) / saturation_current(process, kind, fingers as f64 * finger)
+        })
+        .fold(0.0, f64::max)
+}
+
+/// The load on every copy's output.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum DeckLoad {
+    /// The same capacitance, fF, on every copy of the gate and of the reference.
+    Femtofarads(f64),
+    /// A fan-out H: each copy of the gate drives H times the toggling input's own capacitance in
+    /// the gate as sized, the reference H times its own input capacitance.
+    Fanout(f64),
+}
+
+impl DeckLoad {
+    /// The load of a copy of the gate whose toggling input is `input`, fF.
+    pub fn gate_ff(&self, gate: &CellFigures, input: usize) -> f64 {
+        match *self {
+            DeckLoad::Femtofarads(load_ff) => load_ff,
+            DeckLoad::Fanout(h) => h * gate.inputs[input].input_capacitance * gate.process.unit_capacitance_ff(),
+        }
+    }
+
+    /// The load of a copy of the reference inverter, fF.
+    pub fn reference_ff(&self, gate: &CellFigures) -> f64 {
+        match *self {
+            DeckLoad::Femtofarads(load_ff) => load_ff,
+            DeckLoad::Fanout(h) => {
+                h * (gate.reference_nmos_w_over_l + gate.reference_pmos_w_over_l) * gate.process.unit_capacitance_ff()
+            }
+        }
+    }
+}
+
+/// How a deck's time window is chosen.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Window {
+    /// From the process's level-1 values: 20 times the reference inverter's estimated delay at the
+    /// largest load with the level-1 models the deck writes; 100 times with a model library, whose
+    /// devices the estimate may not describe.
+    Estimate,
+    /// A calibration run: 1000 times the estimate, in coarse steps that ngspice refines where
+    /// the circuit moves; for the reference inverter's delays only.
+    Calibration,
+    /// From the reference inverter's delay as simulated (s, the slower edge, at its own load):
+    /// scaled to the largest load, the run lasts 50 times it.
+    Measured {
+        /// The reference inverter's delay, s.
+        reference_s: f64,
+    },
+}
+
+impl Window {
+    /// The run's times for a deck whose largest load is `load_ratio` times the reference's
+    /// (`load_ff` with the diffusions), with inputs ramping in `slew`; `library`: the models come
+    /// from a library, not the process.
+    pub(crate) fn scale(
+        &self,
+        library: bool,
+        process: &Process,
+        reference: [(usize, f64); 2],
+        load_ratio: f64,
+        load_ff: f64,
+        slew: Option<f64>,
+    ) -> TimeScale {
+        match *self {
+            Window::Estimate => {
+                let runs = if library { 100.0 } else { 20.0 };
+                TimeScale::new(estimate(process, reference, load_ff), runs, slew)
+            }
+            Window::Calibration => {
+                let scale = TimeScale::new(estimate(process, reference, load_ff), 1000.0, slew);
+                TimeScale { step: scale.stop / 2000.0, ..scale }
+            }
+            Window::Measured { reference_s } => TimeScale::new(reference_s * load_ratio.max(1.0), 50.0, slew),
+        }
     }
 }

@@ -40,13 +40,25 @@ pub struct Transition {
 /// (its toggling never moves the output) is left out. Where the process's gate capacitance is 0,
 /// so neither has a value in C, the transitions are ranked by resistance alone.
 pub fn transitions(cell: &SizedCell, load_ff: f64) -> Result<Vec<Transition>, TimingError> {
+    transitions_under(cell, Load::Femtofarads(load_ff))
+}
+
+/// The same under any load: a capacitance (fF or C) on every copy, or a fan-out of the toggling
+/// input's own capacitance.
+pub fn transitions_under(cell: &SizedCell, load: Load) -> Result<Vec<Transition>, TimingError> {
     let plan = &cell.plan;
     let process = &plan.process;
     let stage = cell.stage();
     let ratio = process.diffusion_cap_ff_per_um / process.gate_cap_ff_per_um;
-    let load = load_ff / process.unit_capacitance_ff();
-    let conditions = if ratio.is_finite() && load.is_finite() {
-        Conditions { load: Load::Units(load), diffusion_ratio: ratio }
+    let load = match load {
+        Load::Femtofarads(load_ff) => Load::Units(load_ff / process.unit_capacitance_ff()),
+        other => other,
+    };
+    let finite = match load {
+        Load::Units(value) | Load::Fanout(value) | Load::Femtofarads(value) => value.is_finite(),
+    };
+    let conditions = if ratio.is_finite() && finite {
+        Conditions { load, diffusion_ratio: ratio }
     } else {
         Conditions { load: Load::Units(1.0), diffusion_ratio: 0.0 }
     };

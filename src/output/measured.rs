@@ -1,0 +1,162 @@
+//! The delays `deck --run` measured, per transition beside the reference inverter's: a table, CSV
+//! (one row per transition) or JSON. Times in ps, loads in fF, every number by [`crate::number`].
+
+use std::io::{self, Write};
+
+use serde::Serialize;
+
+use crate::measure::Measured;
+use crate::number::format as number;
+
+/// Picoseconds from seconds.
+fn ps(seconds: f64) -> f64 {
+    seconds * 1e12
+}
+
+/// The measured delays as an aligned table with a heading.
+pub fn write_table(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
+    writeln!(out, "{}: delays simulated by {}", measured.cell, measured.simulator)?;
+    writeln!(out, "models: {}", measured.models)?;
+    let slew = match measured.slew_s {
+        Some(slew) => format!("inputs ramp rail to rail in {} ps", number(ps(slew))),
+        None => "inputs step".to_string(),
+    };
+    writeln!(
+        out,
+        "reference inverter: fall {} ps, rise {} ps at {} fF; {slew}{}",
+        number(ps(measured.reference_s[0])),
+        number(ps(measured.reference_s[1])),
+        number(measured.reference_load_ff),
+        if measured.calibrated { "; time window from a calibration run" } else { "" }
+    )?;
+    let header = ["transition", "input", "output", "held", "load_fF", "delay_ps", "reference_ps", "ratio"];
+    let rows: Vec<[String; 8]> = measured
+        .delays
+        .iter()
+        .map(|d| {
+            [
+                d.tag.clone(),
+                format!("{} {}", d.input, d.input_edge),
+                d.output_edge.to_string(),
+                if d.held.is_empty() { "-".to_string() } else { d.held.clone() },
+                number(d.load_ff),
+                number(ps(d.delay_s)),
+                number(ps(d.reference_s)),
+                number(d.delay_s / d.reference_s),
+            ]
+        })
+        .collect();
+    let mut widths = header.map(str::len);
+    for row in &rows {
+        for (width, cell) in widths.iter_mut().zip(row) {
+            *width = (*width).max(cell.len());
+        }
+    }
+    let line = |cells: Vec<&str>| {
+        let padded: Vec<String> = cells.iter().zip(widths).map(|(cell, width)| format!("{cell:<width$}")).collect();
+        padded.join("  ").trim_end().to_string()
+    };
+    writeln!(out, "{}", line(header.to_vec()))?;
+    for row in &rows {
+        writeln!(out, "{}", line(row.iter().map(String::as_str).collect()))?;
+    }
+    Ok(())
+}
+
+/// One CSV row per transition, with a header.
+pub fn write_csv(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
+    let mut writer = csv::Writer::from_writer(out);
+    let fail = |error: csv::Error| io::Error::other(error.to_string());
+    writer
+        .write_record([
+            "cell",
+            "transition",
+            "input",
+            "input_edge",
+            "output_edge",
+            "held",
+            "load_ff",
+            "delay_ps",
+            "reference_delay_ps",
+            "ratio",
+        ])
+        .map_err(fail)?;
+    for d in &measured.delays {
+        writer
+            .write_record([
+                measured.cell.as_str(),
+                &d.tag,
+                &d.input,
+                d.input_edge,
+                d.output_edge,
+                &d.held,
+                &number(d.load_ff),
+                &number(ps(d.delay_s)),
+                &number(ps(d.reference_s)),
+                &number(d.delay_s / d.reference_s),
+            ])
+            .map_err(fail)?;
+    }
+    writer.flush()
+}
+
+#[derive(Serialize)]
+struct JsonDelay<'a> {
+    transition: &'a str,
+    input: &'a str,
+    input_edge: &'a str,
+    output_edge: &'a str,
+    held: &'a str,
+    load_ff: f64,
+    delay_ps: f64,
+    reference_delay_ps: f64,
+    ratio: f64,
+}
+
+#[derive(Serialize)]
+struct JsonMeasured<'a> {
+    cell: &'a str,
+    simulator: &'a str,
+    models: &'a str,
+    reference_fall_ps: f64,
+    reference_rise_ps: f64,
+    reference_load_ff: f64,
+    slew_ps: Option<f64>,
+    calibrated: bool,
+    delays: Vec<JsonDelay<'a>>,
+}
+
+/// One JSON object.
+pub fn write_json(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
+    let value = JsonMeasured {
+        cell: &measured.cell,
+        simulator: &measured.simulator,
+        models: &measured.models,
+        reference_fall_ps: ps(measured.reference_s[0]),
+        reference_rise_ps: ps(measured.reference_s[1]),
+        reference_load_ff: measured.reference_load_ff,
+        slew_ps: measured.slew_s.map(ps),
+        calibrated: measured.calibrated,
+        delays: measured
+            .delays
+            .iter()
+            .map(|d| JsonDelay {
+                transition: &d.tag,
+                input: &d.input,
+                input_edge: d.input_edge,
+                output_edge: d.output_edge,
+                held: &d.held,
+                load_ff: d.load_ff,
+                delay_ps: ps(d.delay_s),
+                reference_delay_ps: ps(d.reference_s),
+                ratio: d.delay_s / d.reference_s,
+            })
+            .collect(),
+    };
+    let mut serializer = serde_json::Serializer::with_formatter(
+        &mut *out,
+        super::json::Numbers(serde_json::ser::PrettyFormatter::with_indent(b"  ")),
+    );
+    value.serialize(&mut serializer).map_err(io::Error::other)?;
+    writeln!(out)
+}
