@@ -7,15 +7,16 @@ use crate::cell::SizedCell;
 use crate::logic::CellLogic;
 use crate::network::Sides;
 use crate::sizing::{self, Method, Plan, SizingError};
-use crate::timing::{self, DelayReport, MethodDelay, Timing};
+use crate::timing::{self, CellTiming, DelayReport, MethodDelay, Timing};
 
 /// Size `logic` under `plan` and time it: the cell and its delay report, within the plan's work
 /// budget (the sizing, the search, the delays and the comparison of methods share it).
 pub fn size_and_time(logic: &CellLogic, plan: &Plan) -> Result<(SizedCell, DelayReport), SizingError> {
     if !logic.is_single_stage() {
-        // Elmore delays model one stage; a cell of several has its logical-effort estimate.
+        // The methods side by side and the search take one stage; a cell of several has
+        // [`size_and_time_stages`].
         return Err(SizingError::SeveralStages {
-            what: "the Elmore delay report (--delays, the load options, --method elmore, the delays rows)",
+            what: "the delay report of one stage (the methods side by side)",
             stages: logic.stages.len(),
         });
     }
@@ -25,6 +26,15 @@ pub fn size_and_time(logic: &CellLogic, plan: &Plan) -> Result<(SizedCell, Delay
     let method_comparison = compare_methods(&cell, &timing, &meter)?;
     let stack_order = cell.search.clone();
     Ok((cell, DelayReport { timing, method_comparison, stack_order }))
+}
+
+/// Size `logic`, a cell of several stages, under `plan` and time it through all its stages, within
+/// the plan's work budget.
+pub fn size_and_time_stages(logic: &CellLogic, plan: &Plan) -> Result<(SizedCell, CellTiming), SizingError> {
+    let meter = Meter::new(plan.budget);
+    let cell = sizing::size_within(logic, plan, &meter)?;
+    let timing = timing::time_stages(&cell, &plan.conditions, &meter)?;
+    Ok((cell, timing))
 }
 
 fn widths(cell: &SizedCell) -> Sides<Vec<f64>> {

@@ -213,7 +213,10 @@ impl Error {
         match self {
             Error::Expression { error, input } => Diagnostic::error(error.to_string()).at(input, error.span()),
             Error::Logic { error, input } => Diagnostic::error(error.to_string()).at(input, error.span()),
-            Error::PullUp { error, input } => Diagnostic::error(error.to_string()).at_or_within(input, error.span()),
+            // A pull-up refused as a whole (too large to check, or a mirror that does not fit) is
+            // pointed at whole.
+            Error::PullUp { error, input } => Diagnostic::error(error.to_string())
+                .at_or_within(input, error.span().or(Some(crate::diagnostic::Span::new(0, input.text().len())))),
             Error::Process { error, file } => Diagnostic::error(error.to_string()).at_or_within(file, error.span()),
             Error::Library { error, file } => error.diagnostic(file),
             Error::Models { error, library } => {

@@ -31,16 +31,19 @@ The library file (TOML):
   [defaults]                optional: method, drive (a number or a list such as [1, 2, 4]),
                             stack_order (\"default\" or \"written\"), mobility_ratio (default: the
                             process's), reference (a skewed reference inverter, NMOS and PMOS W/L
-                            at drive 1: [1, 3] or \"1:3\"; default: balanced, [1, mobility ratio]).
+                            at drive 1: [1, 3] or \"1:3\"; default: balanced, [1, mobility ratio]),
+                            worst_case, stage_effort (cells of several stages; default 4), pull_up
+                            (the logic stage's PMOS structure, or \"mirror\").
   [[gate]]                  one per cell: name (an identifier), expr (an expression or a shorthand
                             such as nand2), and optional method, drive (number or list), critical
-                            (the input to place nearest the output), stack_order, reference.
+                            (the input to place nearest the output), stack_order, reference,
+                            worst_case, stage_effort, pull_up.
 Each drive of a gate is one variant, named <name>_x<drive> with p for a decimal point (nand2_x1p5):
 at most 100000 drives per gate and 200000 variants per library, checked before any gate is sized.
 A high- or low-skew family is a set of gates with names of their own and a reference each.
 
-Precedence: the command line (--process, --method, --mobility-ratio, --drive, --reference,
---stack-order) over the gate's keys, over [defaults], over the process file (its mobility ratio),
+Precedence: the command line (--process, --method, --worst-case, --mobility-ratio, --drive,
+--reference, --stack-order, --stage-effort, --pull-up) over the gate's keys, over [defaults], over the process file (its mobility ratio),
 over the built-in defaults. --drive D replaces every drive list: each gate becomes the one variant
 <name>_x<D>. --process FILE replaces the library's process (its process key is not read).
 
@@ -78,6 +81,11 @@ pub struct Args {
     /// else the least diffusion facing the output, nearest the output) or written.
     #[arg(long, value_enum, value_name = "ORDER")]
     pub stack_order: Option<LibraryStackOrder>,
+    /// The logic stage's pull-up of every gate, over the library's pull_up keys: a series (&) and
+    /// parallel (|) structure of its uncomplemented input nets, or 'mirror' for the pull-down's own
+    /// structure; a gate it does not fit (not proved the pull-down's complement) is reported.
+    #[arg(long, value_name = "STRUCTURE|mirror")]
+    pub pull_up: Option<String>,
     /// With a library on standard input (-): the folder its relative process path is relative to.
     /// Without it such a path is refused (a library file's path is relative to the file's folder).
     #[arg(long, value_name = "DIR")]
@@ -232,6 +240,8 @@ fn overrides(args: &Args) -> Result<Overrides, Error> {
             LibraryStackOrder::Default => StackOrder::Default,
             LibraryStackOrder::Written => StackOrder::Written,
         }),
+        stage_effort: args.sizing.stage_effort,
+        pull_up: args.pull_up.clone(),
     })
 }
 

@@ -60,8 +60,11 @@ total W/L). Earlier stages bear --stage-effort F driving what they drive. Shorth
 nand2..nand8, nor2..nor8, aoi21, aoi22, aoi211 ..., oai21, oai22 ... (inputs a, b, c ... z, a1 ...,
 skipping the output's name); buf, and2..and8, or2..or8, ao21, ao22, oa21, oa22 (the same inputs);
 xor2, xnor2, xor3; mux2 (inputs a, b, s: y = a at s = 0, b at s = 1), mux2i (its complement); maj3
-(majority of a, b, c). Cells of several stages take no Elmore delays, stack-order search or deck yet. Reserved, compared without case, for inputs, the output and the cell
-name: vdd, vss, gnd, 0 and the model names in use (the process's nmos_model and pmos_model).
+(majority of a, b, c). A cell of several stages is timed through its stages (--delays, the load
+options: each stage's worst transition at what it drives, summed along each pin's slowest path);
+--method elmore, the stack-order search and deck take one stage. Reserved, compared without case,
+for inputs, the output and the cell name: vdd, vss, gnd, 0 and the model names in use (the
+process's nmos_model and pmos_model).
 
 Units: sizes are relative W/L, 1 = the unit NMOS; resistances are in units of R, the unit NMOS's
 on-resistance; capacitances in unit-NMOS gate capacitances. Physical sizes use the built-in process

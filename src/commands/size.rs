@@ -130,8 +130,15 @@ pub fn run(args: Args) -> Result<(), Error> {
     let sized = if timed {
         // The form of least total W/L, timed.
         let untimed = crate::sizing::size_best(&forms, &plan)?;
-        let (cell, report) = analysis::size_and_time(&untimed.logic, &plan)?;
-        CellReport { figures: CellFigures::of(&cell), delays: Some(report) }
+        if untimed.is_single_stage() {
+            let (cell, report) = analysis::size_and_time(&untimed.logic, &plan)?;
+            CellReport { figures: CellFigures::of(&cell), delays: Some(report), cell_delays: None }
+        } else {
+            // Through every stage; the form kept is the untimed choice, its other forms named.
+            let (mut cell, timing) = analysis::size_and_time_stages(&untimed.logic, &plan)?;
+            cell.other_forms = untimed.other_forms;
+            CellReport { figures: CellFigures::of(&cell), delays: None, cell_delays: Some(timing) }
+        }
     } else {
         CellReport::of(&crate::sizing::size_best(&forms, &plan)?)
     };

@@ -16,7 +16,7 @@ use crate::bounds;
 use crate::diagnostic::{Source, Span, escaped};
 use crate::io::InputError;
 use crate::library::error::LibraryError;
-use crate::library::plan::{ExpressionPlace, GatePlan, GateProblem, Place};
+use crate::library::plan::{ExpressionPlace, GatePlan, GateProblem, Place, PullUpPlace};
 use crate::names;
 use crate::process::{Process, ProcessFile};
 use crate::sizing::{Method, MethodName, Reference, SizingError, StackOrder, WorstCase};
@@ -50,6 +50,10 @@ pub struct Overrides {
     pub reference: Option<Reference>,
     /// The series-stack order of every gate (default or written).
     pub stack_order: Option<StackOrder>,
+    /// The stage effort of every cell of several stages.
+    pub stage_effort: Option<f64>,
+    /// The logic stage's pull-up of every gate: a structure, or `mirror`.
+    pub pull_up: Option<String>,
 }
 
 /// A skewed reference inverter as written: `reference = [N, P]` or `reference = "N:P"`, the NMOS and
@@ -177,6 +181,8 @@ pub(crate) struct DefaultsEntry {
     pub(crate) drive: Option<Spanned<Drives>>,
     pub(crate) mobility_ratio: Option<Spanned<f64>>,
     pub(crate) reference: Option<Spanned<WrittenReference>>,
+    pub(crate) stage_effort: Option<Spanned<f64>>,
+    pub(crate) pull_up: Option<Spanned<String>>,
 }
 
 /// One `[[gate]]` as written.
@@ -191,6 +197,8 @@ pub(crate) struct GateEntry {
     pub(crate) drive: Option<Spanned<Drives>>,
     critical: Option<Spanned<String>>,
     pub(crate) reference: Option<Spanned<WrittenReference>>,
+    pub(crate) stage_effort: Option<Spanned<f64>>,
+    pub(crate) pull_up: Option<Spanned<String>>,
 }
 
 pub(crate) fn to_span(range: Range<usize>) -> Span {
@@ -235,7 +243,18 @@ pub(crate) struct Common {
     pub(crate) mobility_ratio: f64,
     pub(crate) drives: Vec<(f64, Span)>,
     pub(crate) reference: Option<Reference>,
+    pub(crate) stage_effort: f64,
+    /// `[defaults]`'s pull-up and where it is written.
+    pub(crate) pull_up: Option<(String, Span)>,
     pub(crate) overrides: Overrides,
+}
+
+/// Check a written stage effort: within [`bounds::SIZING`].
+pub(crate) fn check_stage_effort(written: &Spanned<f64>) -> Result<f64, (String, Span)> {
+    let value = *written.get_ref();
+    bounds::SIZING.check(value).map_err(|why| {
+        (format!("stage_effort = {}: a stage effort {why}", bounds::show(value)), to_span(written.span()))
+    })
 }
 
 /// The option of `batch` that states the folder of a library read from standard input.
@@ -349,6 +368,24 @@ pub(crate) fn read_gate_entry(
         (None, Some(written)) => Some(check_reference(written).map_err(|(message, span)| problem(message, span))?),
         (None, None) => common.reference,
     };
+    let stage_effort = match (common.overrides.stage_effort, &gate.stage_effort) {
+        (Some(effort), _) => effort,
+        (None, Some(written)) => check_stage_effort(written).map_err(|(message, span)| problem(message, span))?,
+        (None, None) => common.stage_effort,
+    };
+    let pull_up = match (&common.overrides.pull_up, &gate.pull_up) {
+        (Some(written), _) => Some(PullUpPlace { text: written.clone(), span: name_span, verbatim_start: None }),
+        (None, Some(written)) => Some(PullUpPlace {
+            text: written.get_ref().clone(),
+            span: to_span(written.span()),
+            verbatim_start: verbatim_start(source.text(), written.span(), written.get_ref()),
+        }),
+        (None, None) => common.pull_up.as_ref().map(|(text, span)| PullUpPlace {
+            text: text.clone(),
+            span: *span,
+            verbatim_start: verbatim_start(source.text(), span.start..span.end, text),
+        }),
+    };
     let expression = gate.expr.get_ref().clone();
     let expression_place = ExpressionPlace {
         string: to_span(gate.expr.span()),
@@ -366,6 +403,8 @@ pub(crate) fn read_gate_entry(
         critical: gate.critical.map(Spanned::into_inner),
         stack_order,
         reference,
+        stage_effort,
+        pull_up,
         name_span,
         expression_place,
     })

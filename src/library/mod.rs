@@ -27,15 +27,15 @@ use crate::cell::SizedCell;
 use crate::diagnostic::{Source, Span, escaped};
 use crate::expr::read_gate_with_models;
 use crate::figures::CellFigures;
-use crate::logic::synthesize_with_models;
+use crate::logic::{PullUpSpec, synthesize_with_models};
 use crate::names;
 use crate::process::Process;
 use crate::sizing::{self, MethodName, StackOrder};
 use crate::verify::{self, VerifyOptions};
 
 use entries::{
-    Common, DefaultsEntry, check_drives, check_reference, check_stack_order, read_gate_entry, read_process,
-    repeated_drive, taken, to_span,
+    Common, DefaultsEntry, check_drives, check_reference, check_stack_order, check_stage_effort, read_gate_entry,
+    read_process, repeated_drive, taken, to_span,
 };
 pub use entries::{MAX_DRIVES_PER_GATE, Overrides, ReadFile};
 pub use error::LibraryError;
@@ -163,6 +163,14 @@ impl Library {
             })?),
             None => None,
         };
+        let stage_effort = match (overrides.stage_effort, &defaults.stage_effort) {
+            (Some(given), _) => given,
+            (None, None) => crate::sizing::plan::DEFAULT_STAGE_EFFORT,
+            (None, Some(written)) => check_stage_effort(written).map_err(|(message, span)| {
+                LibraryError::at(format!("[defaults]: {message}"), Some(span.start..span.end))
+            })?,
+        };
+        let pull_up = defaults.pull_up.as_ref().map(|written| (written.get_ref().clone(), to_span(written.span())));
         let common = Common {
             method: defaults.method.unwrap_or(DEFAULT_METHOD),
             worst_case: defaults.worst_case.unwrap_or_default(),
@@ -170,6 +178,8 @@ impl Library {
             mobility_ratio,
             drives: default_drives,
             reference,
+            stage_effort,
+            pull_up,
             overrides: overrides.clone(),
         };
 
@@ -278,8 +288,29 @@ pub struct Outcome {
 
 /// Size one gate in each of its drives, or say why it cannot be.
 pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedCell>, GateProblem> {
-    let forms = synthesize_with_models(&plan.expression, &process.model_names())
+    let mut forms = synthesize_with_models(&plan.expression, &process.model_names())
         .map_err(|error| plan.expression_problem(error.to_string(), error.span()))?;
+    if let Some(pull_up) = &plan.pull_up {
+        let spec =
+            if pull_up.text.trim() == "mirror" { PullUpSpec::Mirror } else { PullUpSpec::Written(&pull_up.text) };
+        // As for one gate: the forms whose logic stage it fits; where it fits none, the first refusal.
+        let mut first_error = None;
+        let mut accepted = Vec::with_capacity(forms.len());
+        for form in forms {
+            match form.with_pull_up(spec) {
+                Ok(form) => accepted.push(form),
+                Err(error) => {
+                    first_error.get_or_insert(error);
+                }
+            }
+        }
+        if let (true, Some(error)) = (accepted.is_empty(), first_error) {
+            let place =
+                if spec == PullUpSpec::Mirror { Place::File(pull_up.span) } else { pull_up.place(error.span()) };
+            return Err(plan.problem(format!("pull_up: {error}"), place));
+        }
+        forms = accepted;
+    }
     let logic = &forms[0];
     if let Some(critical) = &plan.critical
         && !logic.inputs.contains(critical)

@@ -16,6 +16,28 @@ pub(crate) struct ExpressionPlace {
     pub(crate) verbatim_start: Option<usize>,
 }
 
+/// A pull-up as a library gives it: its text and where it is written (the command line's: at the
+/// gate's name).
+#[derive(Debug, Clone, PartialEq)]
+pub struct PullUpPlace {
+    /// The structure, or `mirror`.
+    pub text: String,
+    /// The value in the file (with its quotes), or the gate's name for the command line's.
+    pub(crate) span: Span,
+    /// Where its contents start, when the file holds them verbatim.
+    pub(crate) verbatim_start: Option<usize>,
+}
+
+impl PullUpPlace {
+    /// Where byte `span` of the pull-up text (or the whole value, without one) is in the file.
+    pub(crate) fn place(&self, span: Option<Span>) -> Place {
+        match (self.verbatim_start, span) {
+            (Some(start), Some(span)) => Place::File(Span::new(start + span.start, start + span.end)),
+            _ => Place::File(self.span),
+        }
+    }
+}
+
 /// One gate, read and checked, ready to size in each of its drives.
 #[derive(Debug, Clone, PartialEq)]
 pub struct GatePlan {
@@ -40,6 +62,10 @@ pub struct GatePlan {
     /// A skewed reference inverter (NMOS and PMOS W/L at drive 1); `None`: balanced, 1 and the
     /// mobility ratio.
     pub reference: Option<Reference>,
+    /// The effort each stage before the output stage bears, in a cell of several stages.
+    pub stage_effort: f64,
+    /// The logic stage's pull-up as written (a structure or `mirror`), with its place.
+    pub pull_up: Option<PullUpPlace>,
     pub(crate) name_span: Span,
     pub(crate) expression_place: ExpressionPlace,
     pub(crate) critical_span: Option<Span>,
@@ -61,6 +87,7 @@ impl GatePlan {
             order,
             process: Arc::clone(process),
             name: Some(self.variant_name(drive)),
+            stage_effort: self.stage_effort,
             ..Plan::new(self.method, self.mobility_ratio, drive, self.reference)
         })
     }

@@ -11,8 +11,10 @@ use super::{CellReport, Rows};
 /// compared by. Units are in the names (`_um`, `_um2`, `_c` for unit-NMOS gate capacitances, `_ff`,
 /// `_r` for unit-NMOS on-resistances, `_percent`); the rest are dimensionless or text (README). The
 /// `drawn_` columns give the same figures from the drawn W/L where snapping moves some device's W/L
-/// by more than 0.5% (else they are empty).
-pub const GATE_COLUMNS: [&str; 38] = [
+/// by more than 0.5% (else they are empty). `stages` counts the cell's stages and `form` says how
+/// its logic stage reaches the output (`direct` or `inverted`, the devices view's `stage` column
+/// names each device's stage); the network columns are the output stage's.
+pub const GATE_COLUMNS: [&str; 40] = [
     "gate",
     "expression",
     "output",
@@ -51,6 +53,8 @@ pub const GATE_COLUMNS: [&str; 38] = [
     "drawn_max_input_cap_c",
     "drawn_parasitic_delay",
     "drawn_total_w_over_l",
+    "stages",
+    "form",
 ];
 
 /// Columns of the devices view, in order: keys to join on (the variant, its drive and method, the
@@ -178,6 +182,8 @@ fn gates_view(reports: &[CellReport], rows: Rows, out: &mut dyn Write) -> csv::R
                     ]),
                     None => record.extend(std::iter::repeat_n(String::new(), 4)),
                 }
+                record.push(gate.stages.len().max(1).to_string());
+                record.push(gate.form.to_string());
                 writer.write_record(&record)?;
             }
         }
@@ -229,6 +235,10 @@ fn gates_view(reports: &[CellReport], rows: Rows, out: &mut dyn Write) -> csv::R
                     ])?;
                 }
             }
+        }
+        // A cell of several stages has a delays view of its own (its paths cross stages).
+        Rows::Delays if reports.iter().any(|r| r.cell_delays.is_some()) => {
+            super::cell_delays::write_csv(reports, &mut writer)?
         }
         Rows::Delays => super::delays::write_csv(reports, &mut writer)?,
     }

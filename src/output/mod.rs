@@ -1,6 +1,7 @@
 //! Writers: the same sized gates as a readable table, CSV, JSON or a SPICE netlist, to any `Write`.
 
 pub mod batch;
+pub mod cell_delays;
 pub mod csv;
 pub mod deck;
 pub mod delays;
@@ -18,7 +19,7 @@ use std::io::{self, Write};
 
 use crate::cell::SizedCell;
 use crate::figures::{CellFigures, PathListing};
-use crate::timing::DelayReport;
+use crate::timing::{CellTiming, DelayReport};
 
 /// Output format, chosen once per run.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -57,12 +58,16 @@ pub struct CellReport {
     /// Its delays, the methods side by side and the stack-order search, where asked for.
     #[serde(flatten)]
     pub delays: Option<DelayReport>,
+    /// A cell of several stages: its delays through all its stages, where asked for (the same
+    /// keys as a one-stage cell's delays, each delay with its stages).
+    #[serde(flatten)]
+    pub cell_delays: Option<CellTiming>,
 }
 
 impl CellReport {
     /// The report of `cell`, untimed.
     pub fn of(cell: &SizedCell) -> CellReport {
-        CellReport { figures: CellFigures::of(cell), delays: None }
+        CellReport { figures: CellFigures::of(cell), delays: None, cell_delays: None }
     }
 }
 

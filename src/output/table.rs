@@ -177,6 +177,9 @@ fn write_gate(report: &CellReport, out: &mut dyn Write) -> io::Result<()> {
         rows.push(vec!["total W/L".to_string(), number(drawn.total_w_over_l)]);
         write_columns(&rows, out)?;
     }
+    if let Some(timing) = &report.cell_delays {
+        super::cell_delays::write_table(timing, out)?;
+    }
     if let Some(delays) = &report.delays {
         super::delays::write_table(delays, out)?;
     }

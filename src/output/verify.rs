@@ -68,9 +68,10 @@ fn write_table(results: &[Verification], out: &mut dyn Write) -> io::Result<()> 
         for check in Check::ALL {
             let cell = match &result.failure {
                 None => format!("holds for all {} vectors", result.vectors_checked),
-                Some(failure) if failure.check == check => {
-                    format!("FAILS at vector {}: {}", failure.index, failure.vector)
-                }
+                Some(failure) if failure.check == check => match &failure.stage {
+                    Some(stage) => format!("FAILS at vector {}: {}, in stage {stage}", failure.index, failure.vector),
+                    None => format!("FAILS at vector {}: {}", failure.index, failure.vector),
+                },
                 Some(failure) => format!("holds for the {} vectors before it", failure.index),
             };
             rows.push(vec![check.describe().to_string(), cell]);

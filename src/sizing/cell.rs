@@ -40,8 +40,20 @@ pub fn size_best(forms: &[CellLogic], plan: &Plan) -> Result<SizedCell, SizingEr
 /// Size `logic`, a cell of several stages, under `plan` (names and values already checked), its
 /// work counted on `meter`.
 pub fn size_stages(logic: &CellLogic, plan: &Plan, meter: &Meter) -> Result<SizedCell, SizingError> {
+    // Both size the output stage against the cell's load, which under a fan-out is the cell's own
+    // pin capacitance, set by the earlier stages, which are sized back from the output stage: the
+    // load would depend on the sizing it drives (docs/model.md section 9).
     if matches!(plan.order, Order::Search { .. }) {
-        return Err(SizingError::SeveralStages { what: "the stack-order search", stages: logic.stages.len() });
+        return Err(SizingError::SeveralStages {
+            what: "the stack-order search (--stack-order search)",
+            stages: logic.stages.len(),
+        });
+    }
+    if plan.method.sizes_by_delay() {
+        return Err(SizingError::SeveralStages {
+            what: "the elmore method (--method elmore)",
+            stages: logic.stages.len(),
+        });
     }
     if let Some(name) = plan.order.critical()
         && !logic.inputs.iter().any(|input| input == name)
@@ -73,13 +85,24 @@ pub fn size_stages(logic: &CellLogic, plan: &Plan, meter: &Meter) -> Result<Size
         };
         let mut done = size_stage(stage, &stage_plan, &arrangement, meter)?;
         if !output_stage {
-            let smallest = done.networks.values().flat_map(|n| n.widths.iter().copied()).fold(f64::INFINITY, f64::min);
-            // Widths scale with the drive, so the least drive that draws no device below the
-            // minimum is the drive times the shortfall.
-            if smallest < least * (1.0 - 1e-12) {
-                let raised = Plan { drive: stage_plan.drive * least / smallest, ..stage_plan };
+            // Under a path rule widths scale with the drive, so the least drive that draws no device
+            // below the minimum is the drive times the shortfall. Against every input vector a
+            // device's lower bound is the smaller of the minimum and its path-rule width, which does
+            // not scale with the drive: the raised stage can land a hair below, so raise again.
+            let mut drive = stage_plan.drive;
+            for _ in 0..MAX_RAISES {
+                let smallest = smallest_width(&done);
+                if smallest >= least * (1.0 - 1e-12) {
+                    break;
+                }
+                drive *= least / smallest;
+                let raised = Plan { drive, ..stage_plan.clone() };
                 done = size_stage(stage, &raised, &arrangement, meter)?;
                 done.clamped = true;
+            }
+            let smallest = smallest_width(&done);
+            if smallest < least * (1.0 - 1e-9) {
+                return Err(SizingError::BelowMinimum { stage: stage.net().to_string(), width: smallest, least });
             }
         }
         for network in done.networks.values() {
@@ -99,6 +122,14 @@ pub fn size_stages(logic: &CellLogic, plan: &Plan, meter: &Meter) -> Result<Size
         search: None,
         other_forms: Vec::new(),
     })
+}
+
+/// How many times an earlier stage's drive is raised toward the minimum width before giving up.
+const MAX_RAISES: usize = 16;
+
+/// The smallest W/L of a sized stage.
+fn smallest_width(stage: &SizedStage) -> f64 {
+    stage.networks.values().flat_map(|n| n.widths.iter().copied()).fold(f64::INFINITY, f64::min)
 }
 
 /// Internal nodes of stage `k` (from 1) are its own names (`n1`, `p1`) after a tag and `k`:
@@ -176,6 +207,21 @@ mod tests {
         assert!(first.clamped);
         assert_relative_eq!(first.networks.pull_down.widths[0], 0.5, epsilon = 1e-12);
         assert_relative_eq!(first.drive, 0.5, epsilon = 1e-12);
+    }
+
+    #[test]
+    fn a_stage_raised_against_every_input_vector_stays_at_the_minimum_width() {
+        // maj3 by min-area over vectors: its logic stage is raised to the minimum width (0.5 W/L in
+        // the built-in process); the vectors program's lower bounds do not scale with the drive,
+        // so one raise once left a device a hair below. No width may be below the process minimum
+        // (common practice, no source: a design rule).
+        let forms = crate::logic::synthesize("maj3").unwrap();
+        let plan = Plan::new(Method::MinArea { worst_case: crate::sizing::WorstCase::Vectors }, 2.0, 1.0, None);
+        let cell = size_best(&forms, &plan).unwrap();
+        assert!(cell.stages[0].clamped);
+        let smallest = cell.stages.iter().map(smallest_width).fold(f64::INFINITY, f64::min);
+        assert!(smallest >= 0.5 * (1.0 - 1e-12), "{smallest}");
+        assert_relative_eq!(smallest, 0.5, epsilon = 1e-9);
     }
 
     #[test]

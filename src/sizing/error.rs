@@ -65,6 +65,22 @@ pub enum SizingError {
         /// Its stages.
         stages: usize,
     },
+    /// An earlier stage whose drive, raised again and again, still draws a device below the
+    /// process's minimum width (the raise did not converge).
+    #[error(
+        "stage {stage}: raising its drive did not bring every device to the process's minimum width (smallest W/L \
+         {}, minimum {}); the sizing did not converge",
+        crate::number::format(*width),
+        crate::number::format(*least)
+    )]
+    BelowMinimum {
+        /// The net the stage drives.
+        stage: String,
+        /// Its smallest W/L.
+        width: f64,
+        /// The minimum W/L.
+        least: f64,
+    },
     /// A device drawn with more fingers than allowed.
     #[error(
         "{device} (W/L {}) would be drawn as {fingers} fingers; the limit is {limit} fingers per device: a \
@@ -191,7 +207,7 @@ impl SizingError {
     /// converge; everything else is bad input, a limit or a budget (exit 2), or internal.
     pub fn is_check_failure(&self) -> bool {
         self.is_infeasible()
-            || matches!(self, SizingError::Solver(_))
+            || matches!(self, SizingError::Solver(_) | SizingError::BelowMinimum { .. })
             || matches!(self, SizingError::Exact { error, .. } if !error.past_limit())
     }
 

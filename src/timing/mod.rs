@@ -7,6 +7,7 @@
 //! Units: delays in RC, where R is the on-resistance of the unit NMOS (W/L = 1) and C the gate
 //! capacitance of a unit transistor; a process turns RC into picoseconds ([`units`]).
 
+pub mod cell;
 pub mod circuit;
 pub mod delays;
 pub mod error;
@@ -20,6 +21,7 @@ use crate::budget::Meter;
 use crate::cell::SizedCell;
 use crate::sizing::plan::Conditions;
 
+pub use cell::{CellDelay, CellTiming, StageStep};
 pub use delays::MAX_TIMED_OCCURRENCES;
 pub use error::{NetworkFault, TimingError};
 pub use report::{
@@ -32,6 +34,13 @@ pub use report::{
 pub fn time(cell: &SizedCell, conditions: &Conditions, meter: &Meter) -> Result<Timing, TimingError> {
     let units = ProcessUnits::of(&cell.plan.process)?;
     delays::time_stage(cell.stage(), &cell.plan, conditions, Some(units), meter)
+}
+
+/// The delays of `cell`, a cell of several stages, through all its stages (`cell`), in RC and in
+/// the picoseconds of its process.
+pub fn time_stages(cell: &SizedCell, conditions: &Conditions, meter: &Meter) -> Result<CellTiming, TimingError> {
+    let units = ProcessUnits::of(&cell.plan.process)?;
+    cell::time_cell(cell, conditions, Some(units), meter)
 }
 
 /// [`time`] without the picoseconds: what the sizing strategies compare.

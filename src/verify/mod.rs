@@ -107,6 +107,11 @@ pub fn verify(gate: &CellFigures, options: &VerifyOptions) -> Result<Verificatio
 
     let failure = first.map(|(index, check, outcome)| {
         let bit = index % WORD;
+        // A cell of several stages: the first stage, in order, that fails the check there.
+        let stage = (!inner.is_empty()).then(|| {
+            let failing = simulator.failing_stage(index / WORD, bit, check, &mut simulator.workspace());
+            failing.map_or_else(|| gate.output.clone(), |s| inner[s].name.clone())
+        });
         let mut words = vec![0; inputs.len()];
         simulator.inputs(index / WORD, &mut words);
         let values: Vec<(String, bool)> =
@@ -118,6 +123,7 @@ pub fn verify(gate: &CellFigures, options: &VerifyOptions) -> Result<Verificatio
             pull_down_conducts: outcome.down >> bit & 1 == 1,
             pull_up_conducts: outcome.up >> bit & 1 == 1,
             expected_output: outcome.expected >> bit & 1 == 1,
+            stage,
         }
     });
     Ok(Verification {
@@ -156,7 +162,7 @@ fn stage_netlists(gate: &CellFigures, inputs: &[String]) -> Result<(Vec<InnerSta
             gate.transistors.iter().filter(|t| t.stage == stage).collect();
         let netlist = Netlist::of(stage, transistors.iter().copied(), &index)?;
         let slot = inputs.len() + inner.len();
-        inner.push(InnerStage { netlist, slot });
+        inner.push(InnerStage { name: stage.to_string(), netlist, slot });
         index.insert(stage, slot);
     }
     let last: Vec<&crate::figures::Transistor> =
@@ -360,6 +366,34 @@ mod tests {
         assert_eq!(crate::Error::from(error.clone()).exit_code(), crate::exit::EXIT_CHECK_FAILED);
         assert!(error.to_string().contains("never both off"), "{error}");
         assert!(error.to_string().contains("a=1 b=0"), "{error}");
+    }
+
+    #[test]
+    fn a_failure_in_a_cell_of_several_stages_names_its_stage() {
+        let forms = crate::logic::synthesize("and2").unwrap();
+        let cell = crate::sizing::size_best(&forms, &Plan::new(Method::LongestPath, 2.0, 1.0, None)).unwrap();
+        let plain = CellFigures::of(&cell);
+        assert!(verify(&plain, &options(1)).unwrap().passed);
+        // The NAND stage's second PMOS moved to a: derived by hand, at a=1 b=0 (vector 1) its PMOS are
+        // both off and b holds its NMOS stack off, so y_n floats.
+        let mut gate = plain.clone();
+        transistor(&mut gate, "MP2_y_n").input = "a".into();
+        let failure = verify(&gate, &options(1)).unwrap().failure.expect("caught");
+        assert_eq!((failure.check, failure.index), (Check::NeitherConducts, 1));
+        assert_eq!(failure.stage.as_deref(), Some("y_n"));
+        let error = verify(&gate, &options(1)).unwrap().outcome().unwrap_err();
+        assert!(error.to_string().ends_with("(a=1 b=0), in stage y_n"), "{error}");
+        // The output inverter's PMOS moved to a: at a=0 b=0 (vector 0) y_n is high, so its NMOS is on
+        // beside the PMOS, now on: y is tied to both rails.
+        let mut gate = plain.clone();
+        transistor(&mut gate, "MP1_y").input = "a".into();
+        let failure = verify(&gate, &options(1)).unwrap().failure.expect("caught");
+        assert_eq!((failure.check, failure.index), (Check::BothConduct, 0));
+        assert_eq!(failure.stage.as_deref(), Some("y"));
+        // A one-stage gate names no stage.
+        let mut gate = sized("nand2", Method::LongestPath);
+        transistor(&mut gate, "MP2").input = "a".into();
+        assert_eq!(verify(&gate, &options(1)).unwrap().failure.expect("caught").stage, None);
     }
 
     #[test]

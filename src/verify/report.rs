@@ -9,10 +9,11 @@ use crate::paths::Vector;
 /// A gate that fails verification: its name and the first failing vector.
 #[derive(Debug, Clone, PartialEq, Error)]
 #[error(
-    "'{name}' fails verification: {} does not hold at vector {} ({})",
+    "'{name}' fails verification: {} does not hold at vector {} ({}){}",
     failure.check.describe(),
     failure.index,
-    failure.vector
+    failure.vector,
+    failure.stage.as_ref().map_or_else(String::new, |stage| format!(", in stage {stage}"))
 )]
 pub struct VerifyFailed {
     /// The gate.
@@ -90,6 +91,11 @@ pub struct Failure {
     pub pull_up_conducts: bool,
     /// The output the expression gives.
     pub expected_output: bool,
+    /// In a cell of several stages, the first stage (by the net it drives) that fails the check at
+    /// this vector: an earlier stage's output tied to both rails or to neither, or the output
+    /// stage's; absent for a one-stage gate.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stage: Option<String>,
 }
 
 /// The path bound and the exact worst case of one network.

@@ -7,7 +7,7 @@ use crate::expr::{Expr, ExprKind};
 use crate::paths;
 use crate::verify::error::VerifyError;
 use crate::verify::netlist::{Netlist, OUTPUT, VDD, VSS};
-use crate::verify::report::Coverage;
+use crate::verify::report::{Check, Coverage};
 
 /// Vectors per machine word.
 pub(crate) const WORD: u64 = 64;
@@ -132,6 +132,8 @@ pub(crate) struct Workspace {
 
 /// An earlier stage of a cell: its netlist, and the slot after the pins its output's word takes.
 pub(crate) struct InnerStage {
+    /// The net it drives, which names it.
+    pub(crate) name: String,
     pub(crate) netlist: Netlist,
     pub(crate) slot: usize,
 }
@@ -180,6 +182,27 @@ impl Simulator<'_> {
                 }
             }
         }
+    }
+
+    /// The first earlier stage (its index) whose own check `check` fails at vector `bit` of word
+    /// `word`, in the order the stages compute; `None` where no earlier stage fails it (the output
+    /// stage does).
+    pub(crate) fn failing_stage(&self, word: u64, bit: u64, check: Check, space: &mut Workspace) -> Option<usize> {
+        self.inputs(word, &mut space.inputs[..self.input_count]);
+        for (index, (stage, (words, reach))) in self.inner.iter().zip(&mut space.inner).enumerate() {
+            let (up, down, shorted) = switch(&stage.netlist, &space.inputs, words, reach);
+            let failing = match check {
+                Check::BothConduct => up & down,
+                Check::RailsShorted => shorted & !(up & down),
+                Check::NeitherConducts => !up & !down,
+                Check::WrongOutput => 0,
+            };
+            if failing >> bit & 1 == 1 {
+                return Some(index);
+            }
+            space.inputs[stage.slot] = up;
+        }
+        None
     }
 
     pub(crate) fn word(&self, word: u64, space: &mut Workspace) -> WordOutcome {

@@ -262,7 +262,7 @@ fn csv_views_have_the_documented_columns() {
                  pull_down_target_r,worst_pull_down_r,pull_down_vector,best_pull_down_r,pull_down_paths,\
                  drawn_worst_pull_down_r,pull_down_error_percent,pull_up_target_r,worst_pull_up_r,pull_up_vector,\
                  best_pull_up_r,pull_up_paths,drawn_worst_pull_up_r,pull_up_error_percent,process,\
-                 drawn_change_percent,drawn_max_input_cap_c,drawn_parasitic_delay,drawn_total_w_over_l";
+                 drawn_change_percent,drawn_max_input_cap_c,drawn_parasitic_delay,drawn_total_w_over_l,stages,form";
     let devices = "gate,drive,method,device,stage,type,network,input,drain,source,w_over_l,width_um,drawn_w_over_l,\
                    drawn_width_um,fingers,per_finger_width_um,area_um2,gate_cap_c,gate_cap_ff";
     let inputs = "gate,drive,method,input,input_cap_c,input_cap_ff,logical_effort,drawn_input_cap_c,\
@@ -445,6 +445,55 @@ fn the_command_line_comes_before_gate_keys_before_defaults_before_the_process() 
     let output =
         widthwise().args(["batch", "-", "--format", "csv", "--drive", "3"]).write_stdin(library).output().unwrap();
     assert_eq!(records(&output.stdout).1.len(), 2);
+}
+
+#[test]
+fn stage_effort_and_pull_up_keys_come_after_the_command_line_and_before_defaults() {
+    // Cells of several stages: each variant against `widthwise size` with the options the precedence
+    // gives (README, "Precedence"; the single-gate sizing is checked against docs/model.md section 9).
+    let library = "[defaults]\nstage_effort = 2\n\n[[gate]]\nname = \"own\"\nexpr = \"and3\"\nstage_effort = 6\n\n\
+                   [[gate]]\nname = \"plain\"\nexpr = \"and3\"\n\n\
+                   [[gate]]\nname = \"carry\"\nexpr = \"maj3\"\npull_up = \"mirror\"\n";
+    // The command line's pull-up applies to every gate (and3's would be refused): a library of maj3.
+    let carry = "[defaults]\nstage_effort = 2\n\n[[gate]]\nname = \"carry\"\nexpr = \"maj3\"\n";
+    let cases: [(&str, &[&str], &str, &[&str]); 5] = [
+        (library, &[], "own_x1", &["and3", "--stage-effort", "6"]),
+        (library, &[], "plain_x1", &["and3", "--stage-effort", "2"]),
+        (library, &["--stage-effort", "3"], "own_x1", &["and3", "--stage-effort", "3"]),
+        (library, &[], "carry_x1", &["maj3", "--stage-effort", "2", "--pull-up", "mirror"]),
+        (carry, &["--pull-up", "mirror"], "carry_x1", &["maj3", "--stage-effort", "2", "--pull-up", "mirror"]),
+    ];
+    for (library, overrides, variant, single) in cases {
+        let batch = batch_row(library, overrides, variant);
+        let expected = size_row(&[single, &["--name", variant]].concat());
+        assert_same_row(&batch, &expected, &format!("{variant} with {overrides:?}"));
+    }
+    // The stage effort changes the sizing (so the rows above can tell the keys apart).
+    let (low, high) = (batch_row(library, &[], "plain_x1"), batch_row(library, &[], "own_x1"));
+    assert_ne!(low["total_w_over_l"], high["total_w_over_l"]);
+    // A mirror pull-up differs from the dual one.
+    let dual = size_row(&["maj3", "--stage-effort", "2", "--name", "carry_x1"]);
+    assert_ne!(batch_row(library, &[], "carry_x1")["total_w_over_l"], dual["total_w_over_l"]);
+}
+
+#[test]
+fn bad_stage_effort_and_pull_up_keys_are_reported_at_their_place() {
+    let library = "[[gate]]\nname = \"slow\"\nexpr = \"and2\"\nstage_effort = 0\n\n\
+                   [[gate]]\nname = \"odd\"\nexpr = \"and2\"\npull_up = \"a | !b\"\n\n\
+                   [[gate]]\nname = \"wrong\"\nexpr = \"and2\"\npull_up = \"a & b\"\n\n\
+                   [[gate]]\nname = \"fine\"\nexpr = \"and2\"\npull_up = \"a | b\"\n";
+    let output = widthwise().args(["batch", "-", "--format", "csv"]).write_stdin(library).output().unwrap();
+    assert_eq!(output.status.code(), Some(2));
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert!(stderr.contains("gate 'slow': stage_effort = 0"), "{stderr}");
+    assert!(stderr.contains("line 4, column 16"), "{stderr}");
+    // `!` in a pull-up: at the `!` itself (line 9, the value starts at column 12).
+    assert!(stderr.contains("gate 'odd': pull_up:"), "{stderr}");
+    assert!(stderr.contains("line 9, column 16"), "{stderr}");
+    assert!(stderr.contains("gate 'wrong': pull_up:"), "{stderr}");
+    let (_, rows) = records(&output.stdout);
+    let gates: Vec<&str> = rows.iter().map(|row| row["gate"].as_str()).collect();
+    assert_eq!(gates, ["fine_x1"]);
 }
 
 #[test]
