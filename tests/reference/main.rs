@@ -12,6 +12,7 @@ mod published;
 mod render;
 mod scipy;
 mod stage_effort;
+mod stage_rails;
 mod stages;
 mod support;
 mod vectors;
