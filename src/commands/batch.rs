@@ -10,7 +10,7 @@ use clap::ValueEnum;
 use std::sync::Arc;
 
 use super::{OutputFile, SizingArgs, estimates_note, exit_codes_line, work_budget};
-use crate::budget::{DEFAULT_WORK_BUDGET, Estimate, Meter, Work};
+use crate::budget::{DEFAULT_WORK_BUDGET, Meter, Work};
 use crate::diagnostic::Source;
 use crate::error::Error;
 use crate::io::{Diagnostics, diagnose};
@@ -105,8 +105,8 @@ pub struct Args {
     #[arg(long)]
     pub verify: bool,
     /// The work budget, in work units, of --verify over the whole library (vectors / 64 x input
-    /// occurrences, summed over every variant); past it nothing is written, exit 2 [default:
-    /// 1073741824].
+    /// occurrences of every stage, summed over every variant); past it nothing is written, exit 2
+    /// [default: 1073741824].
     #[arg(long, value_name = "UNITS", value_parser = work_budget, requires = "verify")]
     pub work_budget: Option<u64>,
 }
@@ -285,7 +285,8 @@ pub fn run(args: Args) -> Result<(), Error> {
         return Err(Error::NameClashes { count: clashes.len() });
     }
     if let Some(options) = &verify {
-        Meter::new(options.work_budget).require(library.verify_work(options), Estimate::Exactly, Work::Verify)?;
+        let (work, estimate) = library.verify_work(options);
+        Meter::new(options.work_budget).require(work, estimate, Work::Verify)?;
     }
     let (format, rows) = (args.format.into(), args.rows.unwrap_or(Rows::Gates).into());
     let mut outcome = Outcome::default();

@@ -23,9 +23,9 @@ use serde::Deserialize;
 use toml::de::{DeArray, DeTable, DeValue, ValueDeserializer};
 
 use crate::bounds;
+use crate::budget::Estimate;
 use crate::cell::SizedCell;
 use crate::diagnostic::{Source, Span, escaped};
-use crate::expr::read_gate_with_models;
 use crate::figures::CellFigures;
 use crate::logic::{PullUpSpec, synthesize_with_models};
 use crate::names;
@@ -212,19 +212,34 @@ impl Library {
         Ok(Library { process, mobility_ratio, gates })
     }
 
-    /// The work units of verifying every variant ([`verify::verify_work`]), from each gate's inputs and
-    /// occurrences; a gate that cannot be read counts nothing (it is reported when it is sized).
-    pub fn verify_work(&self, options: &VerifyOptions) -> u128 {
+    /// The work units of verifying every variant ([`verify::verify_work`]), from each gate's pins and
+    /// input occurrences, every stage of a cell counted (the pull-down devices of all its stages, as
+    /// verify counts them); a gate that cannot be read counts nothing (it is reported when it is
+    /// sized). A function with two forms (docs/model.md section 9) counts the larger, since the one
+    /// kept is known only once both are sized: the estimate is then an upper bound.
+    pub fn verify_work(&self, options: &VerifyOptions) -> (u128, Estimate) {
         let models = self.process.model_names();
-        self.gates
+        let mut estimate = Estimate::Exactly;
+        let work = self
+            .gates
             .iter()
             .flatten()
             .filter_map(|plan| {
-                let function = read_gate_with_models(&plan.expression, &models).ok()?;
-                let one = verify::verify_work(function.inputs.len(), function.literals.len(), options);
+                let forms = synthesize_with_models(&plan.expression, &models).ok()?;
+                if forms.len() > 1 {
+                    estimate = Estimate::UpTo;
+                }
+                let one = forms
+                    .iter()
+                    .map(|form| {
+                        let occurrences = form.stages.iter().map(|stage| stage.function.literals.len()).sum();
+                        verify::verify_work(form.inputs.len(), occurrences, options)
+                    })
+                    .max()?;
                 Some(one * plan.drives.len() as u128)
             })
-            .sum()
+            .sum();
+        (work, estimate)
     }
 
     /// Names that would clash in the output, each reported at its second use: a gate name used
@@ -547,5 +562,31 @@ mod tests {
     fn unknown_critical_input_points_at_the_key() {
         let rendered = problem("[[gate]]\nname = \"g\"\nexpr = \"nand2\"\ncritical = \"q\"\n", 0);
         assert!(rendered.contains("'q'") && rendered.contains("line 4, column 12"), "{rendered}");
+    }
+
+    #[test]
+    fn verify_work_counts_every_stage() {
+        // and2 is a NAND2 and an inverter: 3 pull-down devices on one word of 4 vectors, per drive;
+        // verify charges the sized cell the same (its pull-down transistors of every stage).
+        let options = VerifyOptions::default();
+        let text =
+            "[[gate]]\nname = \"a\"\nexpr = \"and2\"\ndrive = [1, 2]\n\n[[gate]]\nname = \"n\"\nexpr = \"nand2\"\n";
+        let read = library(text);
+        assert_eq!(read.verify_work(&options), (3 * 2 + 2, Estimate::Exactly));
+        let plan = read.gates[0].as_ref().unwrap();
+        let sized = size_plan(plan, &Arc::new(Process::default())).unwrap();
+        let charged: u128 = sized
+            .iter()
+            .map(|cell| {
+                let figures = CellFigures::of(cell);
+                let pull_down =
+                    figures.transistors.iter().filter(|t| t.network == crate::network::NetworkKind::PullDown);
+                verify::verify_work(figures.inputs.len(), pull_down.count(), &options)
+            })
+            .sum();
+        assert_eq!(charged, 3 * 2);
+        // xor2 has two forms, 6 and 7 pull-down devices: the larger counts, as an upper bound.
+        let xor = library("[[gate]]\nname = \"x\"\nexpr = \"xor2\"\n");
+        assert_eq!(xor.verify_work(&options), (7, Estimate::UpTo));
     }
 }
