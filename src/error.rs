@@ -19,6 +19,7 @@ use crate::measure::MeasureError;
 use crate::models::{Library as ModelLibrary, ModelCheckError};
 use crate::ngspice::SimulationError;
 use crate::output::deck::DeckError;
+use crate::output::schematic::SchematicError;
 use crate::paths::ListingError;
 use crate::process::ProcessError;
 use crate::sizing::SizingError;
@@ -87,6 +88,9 @@ pub enum Error {
     /// A deck that cannot be written as asked.
     #[error(transparent)]
     Deck(#[from] DeckError),
+    /// A schematic past the writer's limits.
+    #[error(transparent)]
+    Schematic(#[from] SchematicError),
     /// A netlist that verification cannot simulate, or a verification past its limits.
     #[error(transparent)]
     Verify(#[from] VerifyError),
@@ -178,6 +182,7 @@ impl Error {
             | Error::Output(_)
             | Error::Listing(_)
             | Error::Deck(_)
+            | Error::Schematic(_)
             | Error::Models { .. }
             | Error::OverBudget(_)
             | Error::NotApplicable { .. }

@@ -93,6 +93,18 @@ pub enum OutputError {
         /// Its folder (after following symbolic links).
         folder: PathBuf,
     },
+    /// The `-o` folder of a batch's schematics is something other than a folder.
+    #[error(
+        "cannot write into '{}': it is {kind}, not a folder; batch --format svg -o DIR writes one file per \
+         variant in the folder DIR (created if missing)",
+        path.display()
+    )]
+    NotAFolder {
+        /// The folder as given.
+        path: PathBuf,
+        /// What is there instead.
+        kind: &'static str,
+    },
     /// Too many symbolic links from the `-o` path.
     #[error("cannot write '{}': more than {MAX_LINKS} symbolic links to follow", path.display())]
     TooManyLinks {
@@ -233,6 +245,21 @@ pub fn write_output(
             out.flush().map_err(OutputError::Stdout)
         }
         Some(path) => write_atomically(path, write),
+    }
+}
+
+/// Make the folder `path` (and its parents) if it is missing; anything else there (a file, a
+/// FIFO, a device) is refused. A symbolic link to a folder is a folder.
+pub fn create_folder(path: &Path) -> Result<(), OutputError> {
+    let unwritable = |source| OutputError::Unwritable { path: path.to_path_buf(), source };
+    match fs::metadata(path) {
+        Ok(metadata) if metadata.is_dir() => Ok(()),
+        Ok(metadata) => {
+            let kind = if metadata.is_file() { "a file" } else { file_kind(&metadata.file_type()) };
+            Err(OutputError::NotAFolder { path: path.to_path_buf(), kind })
+        }
+        Err(error) if error.kind() == io::ErrorKind::NotFound => fs::create_dir_all(path).map_err(unwritable),
+        Err(error) => Err(unwritable(error)),
     }
 }
 

@@ -11,12 +11,14 @@ use std::sync::Arc;
 
 use super::{OutputFile, SizingArgs, estimates_note, exit_codes_line, work_budget};
 use crate::budget::{DEFAULT_WORK_BUDGET, Meter, Work};
+use crate::cell::SizedCell;
 use crate::diagnostic::Source;
 use crate::error::Error;
+use crate::figures::CellFigures;
 use crate::io::{Diagnostics, diagnose};
 use crate::library::{GateProblem, Library, MAX_LIBRARY_BYTES, Outcome, Overrides, size_all};
 use crate::output::batch::{BatchWriter, Heading};
-use crate::output::{self};
+use crate::output::{self, schematic_cell};
 use crate::process::MAX_PROCESS_FILE_BYTES;
 use crate::sizing::{Method, MethodName, SizingError, StackOrder};
 use crate::verify::VerifyOptions;
@@ -51,7 +53,10 @@ over the built-in defaults. --drive D replaces every drive list: each gate becom
 input occurrences, summed over the variants, counted before anything is written.
 
 Rows: --rows gates (default), devices or inputs choose the table's and the CSV's rows (refused with
-JSON, which has every figure of every variant, and SPICE, one .subckt per variant).
+JSON, which has every figure of every variant, SPICE, one .subckt per variant, and SVG).
+
+Schematics: --format svg -o DIR writes each variant's schematic to DIR/<variant>.svg (DIR is created;
+an existing file named DIR is refused, and so is standard output).
 
 Errors: a bad gate is reported on stderr with its name, line and column and the others are still
 written (exit 2). A TOML error, a bad process or [defaults], a duplicate name or two variants with the
@@ -131,15 +136,19 @@ pub enum Format {
     Json,
     /// A SPICE subcircuit per gate.
     Spice,
+    /// A schematic per variant, DIR/<variant>.svg (with -o DIR; DIR is created).
+    Svg,
 }
 
-impl From<Format> for output::Format {
-    fn from(format: Format) -> output::Format {
-        match format {
-            Format::Table => output::Format::Table,
-            Format::Csv => output::Format::Csv,
-            Format::Json => output::Format::Json,
-            Format::Spice => output::Format::Spice,
+impl Format {
+    /// The writers' format for the library; `None` for the schematics, a file per variant.
+    fn report(self) -> Option<output::Format> {
+        match self {
+            Format::Table => Some(output::Format::Table),
+            Format::Csv => Some(output::Format::Csv),
+            Format::Json => Some(output::Format::Json),
+            Format::Spice => Some(output::Format::Spice),
+            Format::Svg => None,
         }
     }
 }
@@ -196,15 +205,64 @@ pub fn read(source: &Source, directory: Option<&Path>, overrides: &Overrides) ->
         .map_err(|error| Error::Library { error, file: source.clone() })
 }
 
+/// The refusal of `--format svg` without `-o DIR`.
+fn schematics_need_a_folder() -> Error {
+    Error::NotApplicable {
+        option: "--format svg",
+        case: "to standard output",
+        why: "a library's schematics are one SVG file per variant: give -o DIR, the folder to write \
+              DIR/<variant>.svg in (created if missing)",
+    }
+}
+
+/// Size the library and write each variant's schematic to `folder/<variant>.svg` (the folder made if
+/// missing; each file written atomically), each bad gate to standard error as it is found. The
+/// first file that cannot be laid out or written stops the run.
+fn write_schematics(
+    library: &Library,
+    source: &Source,
+    verify: Option<&VerifyOptions>,
+    folder: &Path,
+) -> Result<Outcome, Error> {
+    crate::io::create_folder(folder)?;
+    let mut stopped: Option<Error> = None;
+    let mut report = |problem: &GateProblem| Diagnostics.write_all(problem.render(source).as_bytes());
+    let mut emit = |chunk: &[SizedCell]| {
+        for cell in chunk {
+            let figures = CellFigures::of(cell);
+            let written = schematic_cell::layout(cell, &figures).map_err(Error::from).and_then(|layout| {
+                let path = folder.join(format!("{}.svg", cell.name));
+                crate::io::write_atomically(&path, |out| layout.write_svg(out)).map_err(Error::from)
+            });
+            if let Err(error) = written {
+                stopped = Some(error);
+                return Err(io::Error::other("stopped"));
+            }
+        }
+        Ok(())
+    };
+    let outcome = size_all(library, verify, &mut report, &mut emit);
+    match (stopped, outcome) {
+        (Some(error), _) => Err(error),
+        (None, Ok(outcome)) => Ok(outcome),
+        (None, Err(error)) => {
+            Err(crate::io::OutputError::Unwritable { path: folder.to_path_buf(), source: error }.into())
+        }
+    }
+}
+
 /// Refuse what does not apply, and gather the command line's overrides of the library's keys.
 fn overrides(args: &Args) -> Result<Overrides, Error> {
-    if args.rows.is_some() && matches!(args.format, Format::Json | Format::Spice) {
+    if args.rows.is_some() && matches!(args.format, Format::Json | Format::Spice | Format::Svg) {
         return Err(Error::NotApplicable {
             option: "--rows",
-            case: "with --format json or spice",
+            case: "with --format json, spice or svg",
             why: "only the table and the CSV have rows (JSON has every figure of every variant, SPICE a .subckt \
-                  per variant)",
+                  per variant, SVG a schematic per variant)",
         });
+    }
+    if args.format == Format::Svg && args.output.output.is_none() {
+        return Err(schematics_need_a_folder());
     }
     if args.base_dir.is_some() && args.library.as_os_str() != "-" {
         return Err(Error::NotApplicable {
@@ -288,13 +346,20 @@ pub fn run(args: Args) -> Result<(), Error> {
         let (work, estimate) = library.verify_work(options);
         Meter::new(options.work_budget).require(work, estimate, Work::Verify)?;
     }
-    let (format, rows) = (args.format.into(), args.rows.unwrap_or(Rows::Gates).into());
+    let rows = args.rows.unwrap_or(Rows::Gates).into();
     let mut outcome = Outcome::default();
-    crate::io::write_output(args.output.output.as_deref(), |out| {
-        // Gates are sized one after another, so each verification may use every core.
-        outcome = write_batch(&library, &source, format, rows, verify.as_ref(), out, &mut Diagnostics)?;
-        Ok(())
-    })?;
+    match (args.format.report(), args.output.output.as_deref()) {
+        (Some(format), output) => crate::io::write_output(output, |out| {
+            // Gates are sized one after another, so each verification may use every core.
+            outcome = write_batch(&library, &source, format, rows, verify.as_ref(), out, &mut Diagnostics)?;
+            Ok(())
+        })?,
+        (None, output) => {
+            let folder = output.ok_or_else(schematics_need_a_folder)?;
+            outcome = write_schematics(&library, &source, verify.as_ref(), folder)?;
+            diagnose(&format!("wrote {} schematics in '{}'\n", outcome.variants, folder.display()));
+        }
+    }
     if outcome.failed > 0 {
         return Err(Error::GatesFailed { failed: outcome.failed, total: outcome.gates });
     }

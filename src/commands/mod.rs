@@ -85,7 +85,12 @@ that; process files up to 1 MiB, library files up to 64 MiB, both regular files;
 ratio and reference W/L from 1e-6 to 1e6, fan-out, load and diffusion ratio 0 or 1e-6 to 1e6,
 process values each in its range (README), 1000000 fingers per device; decks up to 256 input
 occurrences per network; delays up to 1000 input occurrences per network, the stack-order search up
-to 64, the elmore method up to 96 transistors and 10000 paths per network.
+to 64, the elmore method up to 96 transistors and 10000 paths per network; a schematic (--format
+svg) up to 1024 devices, groups nested 64 deep.
+
+Schematic: --format svg writes the sized cell as a plain SVG picture: pull-ups above pull-downs
+between the rails, stages left to right, each device named with its W/L (with --process, its drawn
+width and fingers), nodes and pins named, the worst path of each network heavy, with a legend.
 
 Work budget (--work-budget UNITS, default 2^30 = 1073741824 for each computation of a run; past it,
 exit 2 before any output): verify counts vectors / 64 x input occurrences before it starts (the

@@ -7,7 +7,7 @@ use clap::ValueEnum;
 
 use super::{DelayArgs, GateArgs, OutputFile, Timed};
 use crate::error::Error;
-use crate::output::{self, CellReport};
+use crate::output::{self, CellReport, schematic_cell};
 use crate::sizing::StackOrder;
 use crate::{analysis, figures::CellFigures};
 
@@ -47,15 +47,20 @@ pub enum Format {
     Json,
     /// A SPICE subcircuit per gate.
     Spice,
+    /// The sized cell's schematic as a plain SVG picture: every device with its W/L, the weakest
+    /// path of each network marked.
+    Svg,
 }
 
-impl From<Format> for output::Format {
-    fn from(format: Format) -> output::Format {
-        match format {
-            Format::Table => output::Format::Table,
-            Format::Csv => output::Format::Csv,
-            Format::Json => output::Format::Json,
-            Format::Spice => output::Format::Spice,
+impl Format {
+    /// The writers' format for the report; `None` for the schematic, which its own writer draws.
+    fn report(self) -> Option<output::Format> {
+        match self {
+            Format::Table => Some(output::Format::Table),
+            Format::Csv => Some(output::Format::Csv),
+            Format::Json => Some(output::Format::Json),
+            Format::Spice => Some(output::Format::Spice),
+            Format::Svg => None,
         }
     }
 }
@@ -90,12 +95,12 @@ fn check_applies(args: &Args) -> Result<(), Error> {
     if args.rows.is_some() && args.format != Format::Csv {
         return Err(Error::NotApplicable {
             option: "--rows",
-            case: "with --format table, json or spice",
+            case: "with --format table, json, spice or svg",
             why: "only the CSV has rows (the table shows every section, JSON every figure); add --format csv",
         });
     }
     let sizes_by_delay = args.gate.sizing.sizes_by_delay() || args.delay.stack_order == Some(StackOrder::Search);
-    if args.format == Format::Spice && !sizes_by_delay {
+    if matches!(args.format, Format::Spice | Format::Svg) && !sizes_by_delay {
         let given = [
             (args.delay.delays, "--delays"),
             (args.delay.load.fanout.is_some(), "--fanout"),
@@ -106,9 +111,9 @@ fn check_applies(args: &Args) -> Result<(), Error> {
         if let Some((_, option)) = given.into_iter().find(|(given, _)| *given) {
             return Err(Error::NotApplicable {
                 option,
-                case: "with --format spice",
-                why: "a netlist holds no delays, and the load sizes a gate only with --method elmore or \
-                      --stack-order search; time the gate in the table, JSON or --format csv --rows delays",
+                case: "with --format spice or svg",
+                why: "a netlist or a schematic holds no delays, and the load sizes a gate only with --method \
+                      elmore or --stack-order search; time the gate in the table, JSON or --format csv --rows delays",
             });
         }
     }
@@ -127,22 +132,31 @@ pub fn run(args: Args) -> Result<(), Error> {
     let plan = super::plan(&gate, delay.stack_order.unwrap_or_default(), conditions)?;
     let text = super::expression_text(&expression)?;
     let forms = super::read_cells(&text, &plan, gate.pull_up.as_deref())?;
-    let sized = if timed {
+    let (cell, sized) = if timed {
         // The form of least total W/L, timed.
         let untimed = crate::sizing::size_best(&forms, &plan)?;
         if untimed.is_single_stage() {
             let (cell, report) = analysis::size_and_time(&untimed.logic, &plan)?;
-            CellReport { figures: CellFigures::of(&cell), delays: Some(report), cell_delays: None }
+            let figures = CellFigures::of(&cell);
+            (cell, CellReport { figures, delays: Some(report), cell_delays: None })
         } else {
             // Through every stage; the form kept is the untimed choice, its other forms named.
             let (mut cell, timing) = analysis::size_and_time_stages(&untimed.logic, &plan)?;
             cell.other_forms = untimed.other_forms;
-            CellReport { figures: CellFigures::of(&cell), delays: None, cell_delays: Some(timing) }
+            let figures = CellFigures::of(&cell);
+            (cell, CellReport { figures, delays: None, cell_delays: Some(timing) })
         }
     } else {
-        CellReport::of(&crate::sizing::size_best(&forms, &plan)?)
+        let cell = crate::sizing::size_best(&forms, &plan)?;
+        let report = CellReport::of(&cell);
+        (cell, report)
     };
-    let (format, rows) = (format.into(), rows.into());
+    let Some(format) = format.report() else {
+        let layout = schematic_cell::layout(&cell, &sized.figures)?;
+        crate::io::write_output(output.output.as_deref(), |out| layout.write_svg(out))?;
+        return Ok(());
+    };
+    let rows = rows.into();
     crate::io::write_output(output.output.as_deref(), |out| {
         output::write_gates(std::slice::from_ref(&sized), format, rows, out)
     })?;

@@ -9,6 +9,7 @@ pub mod json;
 pub mod measured;
 pub mod plot;
 pub mod schematic;
+pub mod schematic_cell;
 pub mod spice;
 pub mod summary;
 pub mod svg;

@@ -545,7 +545,7 @@ fn a_library_on_standard_input_resolves_its_process_against_the_stated_folder() 
 fn batch_options_that_do_not_apply_are_refused() {
     let library = example("tern8-cells.toml");
     for (args, message) in [
-        (&["--format", "json", "--rows", "devices"][..], "--rows does not apply with --format json or spice"),
+        (&["--format", "json", "--rows", "devices"][..], "--rows does not apply with --format json, spice or svg"),
         (&["--format", "spice", "--rows", "gates"], "--rows does not apply"),
         (&["--base-dir", "."], "--base-dir does not apply to a library file"),
         (&["--method", "elmore"], "--method elmore does not apply to a library"),
@@ -960,4 +960,55 @@ fn worst_case_vectors_with_longest_path_is_refused_at_its_key() {
         .assert()
         .code(2)
         .stderr(predicate::str::contains("a rule, not an optimum"));
+}
+
+#[test]
+fn svg_writes_a_schematic_per_variant_in_a_folder() {
+    let directory = tempfile::tempdir().unwrap();
+    let folder = directory.path().join("new").join("schematics");
+    let library = directory.path().join("lib.toml");
+    std::fs::write(
+        &library,
+        "[[gate]]\nname = \"n2\"\nexpr = \"nand2\"\ndrive = [1, 2]\n\n[[gate]]\nname = \"a2\"\nexpr = \"and2\"\n",
+    )
+    .unwrap();
+    widthwise()
+        .args(["batch", "--format", "svg", "-o"])
+        .arg(&folder)
+        .arg(&library)
+        .assert()
+        .success()
+        .stdout("")
+        .stderr(predicate::str::contains("wrote 3 schematics"));
+    let mut names: Vec<String> =
+        std::fs::read_dir(&folder).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().into_owned()).collect();
+    names.sort();
+    assert_eq!(names, ["a2_x1.svg", "n2_x1.svg", "n2_x2.svg"]);
+    // Drive 2 doubles every W/L of NAND2 (common practice, no source): NMOS 4 in series.
+    let svg = std::fs::read_to_string(folder.join("n2_x2.svg")).unwrap();
+    let document = roxmltree::Document::parse(&svg).expect("well-formed XML");
+    let texts: Vec<&str> = document.descendants().filter(|n| n.has_tag_name("text")).filter_map(|n| n.text()).collect();
+    let at = texts.iter().position(|t| *t == "MN1").unwrap();
+    assert_eq!(texts[at + 1], "W/L 4");
+    // Standard output, an existing file named DIR and rows are refused, exit 2.
+    widthwise()
+        .args(["batch", "--format", "svg"])
+        .arg(&library)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("give -o DIR"));
+    widthwise()
+        .args(["batch", "--format", "svg", "-o"])
+        .arg(&library)
+        .arg(&library)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("it is a file, not a folder"));
+    widthwise()
+        .args(["batch", "--format", "svg", "--rows", "gates", "-o"])
+        .arg(&folder)
+        .arg(&library)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("--rows does not apply"));
 }

@@ -73,7 +73,10 @@ fn a_default_cell_name_carries_its_drive_and_a_given_name_is_used_as_given() {
 #[test]
 fn options_that_do_not_apply_are_refused() {
     for (args, message) in [
-        (&["--format", "json", "--rows", "inputs"][..], "--rows does not apply with --format table, json or spice"),
+        (
+            &["--format", "json", "--rows", "inputs"][..],
+            "--rows does not apply with --format table, json, spice or svg",
+        ),
         (&["--rows", "gates"], "--rows does not apply"),
         (&["--format", "spice", "--rows", "delays"], "--rows does not apply"),
         (&["--format", "spice", "--delays"], "--delays does not apply with --format spice"),
@@ -419,4 +422,51 @@ fn the_table_says_what_vectors_would_save_and_what_it_was_sized_to() {
         .assert()
         .code(2)
         .stderr(predicate::str::contains("17 inputs: exact sizing over input vectors handles at most 16"));
+}
+
+#[test]
+fn svg_is_the_cells_schematic() {
+    // NAND2 with a mobility ratio of 2: NMOS W/L 2 in series, PMOS W/L 2 in parallel (longest-path
+    // rule, common practice, no source).
+    let output = widthwise().args(["size", "nand2", "--format", "svg"]).output().unwrap();
+    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
+    let svg = String::from_utf8(output.stdout).unwrap();
+    let document = roxmltree::Document::parse(&svg).expect("well-formed XML");
+    assert!(document.root_element().has_tag_name("svg"));
+    let texts: Vec<&str> = document.descendants().filter(|n| n.has_tag_name("text")).filter_map(|n| n.text()).collect();
+    for device in ["MN1", "MN2", "MP1", "MP2"] {
+        let at = texts.iter().position(|t| *t == device).unwrap_or_else(|| panic!("{device} is not named"));
+        assert_eq!(texts[at + 1], "W/L 2", "{device}");
+    }
+    for name in ["a", "b", "y", "vdd", "vss", "n1"] {
+        assert!(texts.contains(&name), "{name} is not named");
+    }
+    assert!(!svg.contains("<script") && !svg.contains("href"), "plain SVG");
+    // -o writes the same picture.
+    let directory = tempfile::tempdir().unwrap();
+    let file = directory.path().join("nand2.svg");
+    widthwise().args(["size", "nand2", "--format", "svg", "-o"]).arg(&file).assert().success();
+    assert_eq!(std::fs::read_to_string(&file).unwrap(), svg);
+}
+
+#[test]
+fn svg_refuses_what_a_picture_cannot_show() {
+    widthwise()
+        .args(["size", "nand2", "--format", "svg", "--delays"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("--delays does not apply with --format spice or svg"));
+    widthwise()
+        .args(["size", "nand2", "--format", "svg", "--rows", "gates"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("--rows does not apply"));
+    // Past the writer's limit of 1024 devices: a message, exit 2, nothing written.
+    let wide = (0..600).map(|i| format!("x{i}")).collect::<Vec<_>>().join(" & ");
+    widthwise()
+        .args(["size", &format!("!({wide})"), "--format", "svg"])
+        .assert()
+        .code(2)
+        .stdout("")
+        .stderr(predicate::str::contains("too large to draw"));
 }

@@ -431,3 +431,26 @@ fn a_tradeoff_plot_renders_as_a_picture_in_a_browser() {
     layout.write_svg(&mut svg).expect("writing to memory succeeds");
     check_render("tradeoff", &svg, layout.size(), true);
 }
+
+#[test]
+fn sized_cells_render_as_pictures_in_a_browser() {
+    if !chromium_available("sized cell renders") {
+        return;
+    }
+    // What `widthwise size CELL --format svg` writes: NAND2, AOI21, the carry with repeated inputs
+    // and a cell of two stages (a NAND2, then an output inverter).
+    let plan = widthwise::sizing::plan::Plan::new(widthwise::sizing::plan::Method::LongestPath, 2.0, 1.0, None);
+    for (name, text) in [
+        ("cell-nand2", "nand2"),
+        ("cell-aoi21", "aoi21"),
+        ("cell-carry", "!(a & b | c & (a | b))"),
+        ("cell-and2", "and2"),
+    ] {
+        let cell = widthwise::size_text(text, &plan).expect("the cell sizes");
+        let figures = widthwise::figures::CellFigures::of(&cell);
+        let layout = widthwise::output::schematic_cell::layout(&cell, &figures).expect("the cell is drawable");
+        let mut svg = Vec::new();
+        layout.write_svg(&mut svg).expect("writing to memory succeeds");
+        check_render(name, &svg, layout.size(), true);
+    }
+}
