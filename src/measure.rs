@@ -13,7 +13,9 @@ use thiserror::Error;
 use crate::cell::SizedCell;
 use crate::network::NetworkKind;
 use crate::ngspice::{self, SimulationError};
-use crate::output::deck::{self, DeckOptions, Models, Transition, Window, edge, gate_measure, reference_measure};
+use crate::output::deck::{
+    self, DeckOptions, Models, PinTransition, Transition, Window, edge, gate_measure, reference_measure, stage_measure,
+};
 
 /// One transition's simulated delay beside the reference inverter's on the same output edge.
 #[derive(Debug, Clone, PartialEq)]
@@ -34,6 +36,23 @@ pub struct MeasuredDelay {
     pub delay_s: f64,
     /// The reference inverter's delay on the same output edge, s.
     pub reference_s: f64,
+    /// In a cell of several stages: the output stage's delay and the cell's estimates.
+    pub stages: Option<StagesMeasured>,
+}
+
+/// What a transition through a cell of several stages adds: the output stage measured alone
+/// (from the net it switches on), and the cell's delay estimates.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StagesMeasured {
+    /// The output stage's delay: its switching input crossing half the supply to the output
+    /// crossing it, s.
+    pub stage_s: f64,
+    /// The Elmore delay from the pin through the stages, s.
+    pub elmore_s: f64,
+    /// The logical-effort estimate sum(g h + p) of the same stages, s.
+    pub estimate_s: f64,
+    /// The same in tau.
+    pub estimate_tau: f64,
 }
 
 /// What a run measured.
@@ -101,16 +120,27 @@ impl MeasureError {
     }
 }
 
-fn deck_text(cell: &SizedCell, transitions: &[Transition], options: &DeckOptions) -> Result<String, MeasureError> {
+/// The transitions of a deck: one stage's or a cell's of several stages.
+#[derive(Debug, Clone, Copy)]
+enum Blocks<'a> {
+    Stage(&'a [Transition]),
+    Cell(&'a [PinTransition]),
+}
+
+fn deck_text(cell: &SizedCell, blocks: Blocks<'_>, options: &DeckOptions) -> Result<String, MeasureError> {
     let mut bytes = Vec::new();
-    deck::write_deck(cell, transitions, options, &mut bytes).map_err(MeasureError::Write)?;
+    match blocks {
+        Blocks::Stage(transitions) => deck::write_deck(cell, transitions, options, &mut bytes),
+        Blocks::Cell(transitions) => deck::write_cell_deck(cell, transitions, options, &mut bytes),
+    }
+    .map_err(MeasureError::Write)?;
     String::from_utf8(bytes).map_err(|error| MeasureError::Write(std::io::Error::other(error)))
 }
 
 /// The reference inverter's slower delay in a calibration run of `options`' deck without the gate.
 fn calibrate(cell: &SizedCell, options: &DeckOptions, simulator: &ngspice::Options) -> Result<f64, MeasureError> {
     let calibration = DeckOptions { window: Window::Calibration, summary: false, ..options.clone() };
-    let run = ngspice::run(&deck_text(cell, &[], &calibration)?, simulator)?;
+    let run = ngspice::run(&deck_text(cell, Blocks::Stage(&[]), &calibration)?, simulator)?;
     let mut slowest: f64 = 0.0;
     for kind in NetworkKind::BOTH {
         let delay = run
@@ -129,6 +159,26 @@ pub fn measure(
     options: &DeckOptions,
     simulator: &ngspice::Options,
 ) -> Result<Measured, MeasureError> {
+    run(cell, Blocks::Stage(transitions), options, simulator)
+}
+
+/// The same for a cell of several stages: each pin's delay to the output, the output stage's
+/// delay from the net it switches on, and the cell's estimates beside them.
+pub fn measure_cell(
+    cell: &SizedCell,
+    transitions: &[PinTransition],
+    options: &DeckOptions,
+    simulator: &ngspice::Options,
+) -> Result<Measured, MeasureError> {
+    run(cell, Blocks::Cell(transitions), options, simulator)
+}
+
+fn run(
+    cell: &SizedCell,
+    blocks: Blocks<'_>,
+    options: &DeckOptions,
+    simulator: &ngspice::Options,
+) -> Result<Measured, MeasureError> {
     let version = ngspice::check_installed(simulator)?;
     // `ngspice-39 : Circuit level simulation program`: the version alone.
     let version = version.split(" : ").next().unwrap_or(&version).trim().to_string();
@@ -136,7 +186,7 @@ pub fn measure(
     let window =
         if library { Window::Measured { reference_s: calibrate(cell, options, simulator)? } } else { options.window };
     let options = DeckOptions { window, summary: false, ..options.clone() };
-    let run = ngspice::run(&deck_text(cell, transitions, &options)?, simulator)?;
+    let run = ngspice::run(&deck_text(cell, blocks, &options)?, simulator)?;
     let gate = crate::figures::CellFigures::of(cell);
     let mut reference_s = [0.0; 2];
     for (slot, kind) in NetworkKind::BOTH.into_iter().enumerate() {
@@ -146,41 +196,56 @@ pub fn measure(
             source,
         })?;
     }
+    // Each transition as (pin, its vector after the toggle, output network, cell figures).
+    let rows: Vec<(usize, &[bool], NetworkKind, Option<&PinTransition>)> = match blocks {
+        Blocks::Stage(transitions) => transitions.iter().map(|t| (t.input, &t.vector[..], t.kind, None)).collect(),
+        Blocks::Cell(transitions) => transitions.iter().map(|t| (t.pin, &t.vector[..], t.kind, Some(t))).collect(),
+    };
     let mut delays = Vec::new();
-    for (index, transition) in transitions.iter().enumerate() {
+    for (index, &(pin, vector, kind, through)) in rows.iter().enumerate() {
         let tag = format!("t{}", index + 1);
-        let input = gate.inputs[transition.input].name.clone();
-        let rising = transition.vector[transition.input];
-        let held: Vec<String> = transition
-            .vector
+        let input = gate.inputs[pin].name.clone();
+        let rising = vector[pin];
+        let held: Vec<String> = vector
             .iter()
             .enumerate()
-            .filter(|&(i, _)| i != transition.input)
+            .filter(|&(i, _)| i != pin)
             .map(|(i, &v)| format!("{}={}", gate.inputs[i].name, u8::from(v)))
             .collect();
         let held = held.join(" ");
-        let delay_s = run.value(&gate_measure(&input, transition.kind)).map_err(|source| {
+        let failed = |source| {
             let side = if held.is_empty() { String::new() } else { format!(", held {held}") };
             MeasureError::Transition {
                 tag: tag.clone(),
                 what: format!(
                     "{input} {}, output {}{side}",
                     if rising { "rising" } else { "falling" },
-                    falling_or_rising(transition.kind)
+                    falling_or_rising(kind)
                 ),
                 source,
             }
-        })?;
-        let slot = usize::from(transition.kind == NetworkKind::PullUp);
+        };
+        let delay_s = run.value(&gate_measure(&input, kind)).map_err(failed)?;
+        let stages = match through {
+            None => None,
+            Some(transition) => Some(StagesMeasured {
+                stage_s: run.value(&stage_measure(&input, kind)).map_err(failed)?,
+                elmore_s: transition.elmore_s,
+                estimate_s: transition.estimate_s,
+                estimate_tau: transition.estimate_tau,
+            }),
+        };
+        let slot = usize::from(kind == NetworkKind::PullUp);
         delays.push(MeasuredDelay {
             tag,
             input,
             input_edge: if rising { "rise" } else { "fall" },
-            output_edge: edge(transition.kind),
+            output_edge: edge(kind),
             held,
-            load_ff: options.load.gate_ff(&gate, transition.input),
+            load_ff: options.load.gate_ff(&gate, pin),
             delay_s,
             reference_s: reference_s[slot],
+            stages,
         });
     }
     let models = match &options.models {

@@ -208,12 +208,24 @@ pub fn run(args: Args) -> Result<(), Error> {
     if let (Models::Library { include, section, nmos, pmos }, Some(_)) = (&deck.models, &args.models) {
         check_library(Path::new(include), section.as_deref(), &sized, [nmos, pmos])?;
     }
-    let transitions = deck::transitions_under(&sized, plan.conditions.load)?;
-    if !args.run {
-        crate::io::write_output(args.output.as_deref(), |out| deck::write_deck(&sized, &transitions, &deck, out))?;
-        return Ok(());
-    }
-    let measured = crate::measure::measure(&sized, &transitions, &deck, &crate::ngspice::Options::default())?;
+    let simulator = crate::ngspice::Options::default();
+    let measured = if sized.is_single_stage() {
+        let transitions = deck::transitions_under(&sized, plan.conditions.load)?;
+        if !args.run {
+            crate::io::write_output(args.output.as_deref(), |out| deck::write_deck(&sized, &transitions, &deck, out))?;
+            return Ok(());
+        }
+        crate::measure::measure(&sized, &transitions, &deck, &simulator)?
+    } else {
+        let transitions = deck::pin_transitions(&sized, plan.conditions.load)?;
+        if !args.run {
+            crate::io::write_output(args.output.as_deref(), |out| {
+                deck::write_cell_deck(&sized, &transitions, &deck, out)
+            })?;
+            return Ok(());
+        }
+        crate::measure::measure_cell(&sized, &transitions, &deck, &simulator)?
+    };
     crate::io::write_output(args.output.as_deref(), |out| match args.format.unwrap_or(Format::Table) {
         Format::Table => measured::write_table(&measured, out),
         Format::Csv => measured::write_csv(&measured, out),

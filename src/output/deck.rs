@@ -20,11 +20,13 @@ use crate::timing::transition::WEAKEST_PATH;
 use super::number;
 use super::spice::{mosfet_line, transistor_line};
 
+mod cell;
 mod geometry;
 mod library;
 mod physics;
 mod transitions;
 
+pub use cell::{PinTransition, pin_transitions, stage_measure};
 use geometry::Device;
 pub use library::device_uses;
 pub use physics::{DeckLoad, Window};
@@ -73,14 +75,16 @@ impl Models {
 /// Why a deck is not written.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum DeckError {
-    /// A cell of several stages: the deck times one stage against the reference inverter.
+    /// A cell of several stages with more pins than its transitions are chosen over.
     #[error(
-        "the deck simulates cells of one stage, and this one has {stages} stages: verify it with 'widthwise \
-         verify', or write its netlist with 'widthwise size --format spice' and simulate that"
+        "a deck of a cell of several stages chooses each pin's transition over every vector of its pins, for cells \
+         of up to {limit} pins; this one has {count}"
     )]
-    SeveralStages {
-        /// Its stages.
-        stages: usize,
+    TooManyPins {
+        /// The cell's pins.
+        count: usize,
+        /// The limit.
+        limit: usize,
     },
     /// A model-library path with a character a `.include` line cannot hold.
     #[error(
@@ -136,12 +140,15 @@ pub enum DeckError {
 
 /// Refuse a gate too large for a deck ([`MAX_DECK_OCCURRENCES`]).
 pub fn check_size(cell: &SizedCell) -> Result<(), DeckError> {
-    if !cell.is_single_stage() {
-        return Err(DeckError::SeveralStages { stages: cell.stages.len() });
+    let pins = cell.logic.inputs.len();
+    if !cell.is_single_stage() && pins > crate::timing::MAX_CELL_PINS {
+        return Err(DeckError::TooManyPins { count: pins, limit: crate::timing::MAX_CELL_PINS });
     }
-    let count = cell.stage().function.literals.len();
-    if count > MAX_DECK_OCCURRENCES {
-        return Err(DeckError::TooLarge { count, limit: MAX_DECK_OCCURRENCES });
+    for stage in &cell.stages {
+        let count = stage.function.literals.len();
+        if count > MAX_DECK_OCCURRENCES {
+            return Err(DeckError::TooLarge { count, limit: MAX_DECK_OCCURRENCES });
+        }
     }
     Ok(())
 }
@@ -197,13 +204,35 @@ pub fn node_diffusion_um(devices: &[(&str, &str, f64)], output: &str) -> Vec<(St
     node_diffusions(&terminals, output).into_iter().map(|(name, rule)| (name, rule.width(&widths))).collect()
 }
 
-/// Write the deck.
+/// The transitions a deck holds: one stage's, or each pin's through a cell of several stages.
+#[derive(Debug, Clone, Copy)]
+enum Blocks<'a> {
+    Stage(&'a [Transition]),
+    Cell(&'a [PinTransition]),
+}
+
+/// Write the deck of a cell of one stage.
 pub fn write_deck(
     cell: &SizedCell,
     transitions: &[Transition],
     options: &DeckOptions,
     out: &mut dyn Write,
 ) -> io::Result<()> {
+    write(cell, Blocks::Stage(transitions), options, out)
+}
+
+/// Write the deck of a cell of several stages: each pin's transition through the cell, measured
+/// from the pin and from the net the output stage switches on (docs/model.md section 11).
+pub fn write_cell_deck(
+    cell: &SizedCell,
+    transitions: &[PinTransition],
+    options: &DeckOptions,
+    out: &mut dyn Write,
+) -> io::Result<()> {
+    write(cell, Blocks::Cell(transitions), options, out)
+}
+
+fn write(cell: &SizedCell, blocks: Blocks<'_>, options: &DeckOptions, out: &mut dyn Write) -> io::Result<()> {
     let gate = &CellFigures::of(cell);
     let process = &gate.process;
     let supply = process.supply_v;
@@ -244,9 +273,17 @@ pub fn write_deck(
 
     // The time scale: the reference inverter charging the largest load (plus, when asked, every
     // diffusion of the gate) at its saturation current, the slower edge, or as measured.
-    let mut load_ff = transitions.iter().map(|t| gate_loads[t.input]).fold(reference_load, f64::max);
+    let mut load_ff = match blocks {
+        Blocks::Stage(transitions) => transitions.iter().map(|t| gate_loads[t.input]).fold(reference_load, f64::max),
+        Blocks::Cell(transitions) => transitions.iter().map(|t| gate_loads[t.pin]).fold(reference_load, f64::max),
+    };
     if options.diffusion_capacitance {
         load_ff += gate_diffusion.iter().map(|(_, w)| w).sum::<f64>() * process.diffusion_cap_ff_per_um;
+    }
+    if let Blocks::Cell(transitions) = blocks {
+        // Several stages take longer than the reference: the window grows with the slowest
+        // transition's Elmore delay over the reference inverter's.
+        load_ff *= transitions.iter().map(|t| t.elmore_ratio).fold(1.0, f64::max);
     }
     let scale = options.window.scale(library, process, reference, load_ff / reference_load, load_ff, options.slew_s);
     let (rise, start, stop, step) = (scale.rise, scale.start, scale.stop, scale.step);
@@ -318,6 +355,9 @@ pub fn write_deck(
         let geometry = gate_geometry.as_ref().map_or("", |lines| lines[index].as_str());
         writeln!(out, "{}{geometry}", transistor_line(transistor, models))?;
     }
+    if matches!(blocks, Blocks::Cell(_)) && !library {
+        cell::write_gate_capacitance(gate, out)?;
+    }
     if options.diffusion_capacitance {
         write_diffusion(&gate_diffusion, process, out)?;
     }
@@ -350,68 +390,79 @@ pub fn write_deck(
     };
     let direction = |rising: bool| if rising { "RISE=1" } else { "FALL=1" };
     let mut measures: Vec<(String, String)> = Vec::new();
-
-    // An input whose toggle never moves the output on an edge (repeated inputs can make it
-    // redundant, e.g. b in !(a & (a | b))) has no transition there: say so rather than leave it out.
-    for (input, name) in gate.inputs.iter().enumerate() {
-        for kind in NetworkKind::BOTH {
-            if !transitions.iter().any(|t| t.input == input && t.kind == kind) {
-                writeln!(
-                    out,
-                    "* {}: no transition on the output's {} edge: no side inputs let its toggle move the output",
-                    name.name,
-                    edge(kind)
-                )?;
+    let transitions = match blocks {
+        Blocks::Stage(transitions) => transitions,
+        Blocks::Cell(transitions) => {
+            let writer = cell::Writer { gate, half: &half, toggle: &toggle, level: &level, direction: &direction };
+            writer.write_blocks(transitions, &gate_loads, &mut measures, out)?;
+            &[]
+        }
+    };
+    if let Blocks::Stage(_) = blocks {
+        // An input whose toggle never moves the output on an edge (repeated inputs can make it
+        // redundant, e.g. b in !(a & (a | b))) has no transition there: say so rather than leave it out.
+        for (input, name) in gate.inputs.iter().enumerate() {
+            for kind in NetworkKind::BOTH {
+                if !transitions.iter().any(|t| t.input == input && t.kind == kind) {
+                    writeln!(
+                        out,
+                        "* {}: no transition on the output's {} edge: no side inputs let its toggle move the output",
+                        name.name,
+                        edge(kind)
+                    )?;
+                }
             }
         }
-    }
 
-    for (index, transition) in transitions.iter().enumerate() {
-        let tag = format!("t{}", index + 1);
-        let name = &gate.inputs[transition.input].name;
-        let on_level = transition.vector[transition.input];
-        let held: Vec<String> = transition
-            .vector
-            .iter()
-            .enumerate()
-            .filter(|&(i, _)| i != transition.input)
-            .map(|(i, &v)| format!("{}={}", gate.inputs[i].name, u8::from(v)))
-            .collect();
-        let devices = transition.conducting.join(" ");
-        let how = match (transition.search, transition.one_path) {
-            (WEAKEST_PATH, _) => format!("the weakest path alone, {devices} (side inputs not searched past 16 inputs)"),
-            (_, true) => format!("path {devices}"),
-            (_, false) => format!("conducting {devices}"),
-        };
-        writeln!(out)?;
-        writeln!(
-            out,
-            "* {tag}: {name} {}, output {}; held {}; {how}: {} R sized, {} R drawn (target {} R)",
-            if on_level { "rising" } else { "falling" },
-            if transition.kind == NetworkKind::PullDown { "falling" } else { "rising" },
-            if held.is_empty() { "nothing".to_string() } else { held.join(" ") },
-            number(transition.resistance),
-            number(transition.drawn_resistance),
-            number(cell.plan.target(transition.kind)),
-        )?;
-        let mut nodes = Vec::new();
-        for (input, &value) in transition.vector.iter().enumerate() {
-            let node = format!("{tag}_in{}", input + 1);
-            let source = if input == transition.input { toggle(!value) } else { format!("DC {}", level(value)) };
-            writeln!(out, "V{tag}_{} {node} 0 {source}", input + 1)?;
-            nodes.push(node);
+        for (index, transition) in transitions.iter().enumerate() {
+            let tag = format!("t{}", index + 1);
+            let name = &gate.inputs[transition.input].name;
+            let on_level = transition.vector[transition.input];
+            let held: Vec<String> = transition
+                .vector
+                .iter()
+                .enumerate()
+                .filter(|&(i, _)| i != transition.input)
+                .map(|(i, &v)| format!("{}={}", gate.inputs[i].name, u8::from(v)))
+                .collect();
+            let devices = transition.conducting.join(" ");
+            let how = match (transition.search, transition.one_path) {
+                (WEAKEST_PATH, _) => {
+                    format!("the weakest path alone, {devices} (side inputs not searched past 16 inputs)")
+                }
+                (_, true) => format!("path {devices}"),
+                (_, false) => format!("conducting {devices}"),
+            };
+            writeln!(out)?;
+            writeln!(
+                out,
+                "* {tag}: {name} {}, output {}; held {}; {how}: {} R sized, {} R drawn (target {} R)",
+                if on_level { "rising" } else { "falling" },
+                if transition.kind == NetworkKind::PullDown { "falling" } else { "rising" },
+                if held.is_empty() { "nothing".to_string() } else { held.join(" ") },
+                number(transition.resistance),
+                number(transition.drawn_resistance),
+                number(cell.plan.target(transition.kind)),
+            )?;
+            let mut nodes = Vec::new();
+            for (input, &value) in transition.vector.iter().enumerate() {
+                let node = format!("{tag}_in{}", input + 1);
+                let source = if input == transition.input { toggle(!value) } else { format!("DC {}", level(value)) };
+                writeln!(out, "V{tag}_{} {node} 0 {source}", input + 1)?;
+                nodes.push(node);
+            }
+            writeln!(out, "X{tag} {} {tag}_out vdd 0 {}", nodes.join(" "), gate.name)?;
+            writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(gate_loads[transition.input]))?;
+            let measure = gate_measure(name, transition.kind);
+            let statement = format!(
+                "meas tran {measure} TRIG v({tag}_in{}) VAL={half} {} TARG v({tag}_out) VAL={half} {}",
+                transition.input + 1,
+                direction(on_level),
+                direction(!on_level)
+            );
+            writeln!(out, ".{statement}")?;
+            measures.push((measure, statement));
         }
-        writeln!(out, "X{tag} {} {tag}_out vdd 0 {}", nodes.join(" "), gate.name)?;
-        writeln!(out, "C{tag} {tag}_out 0 {}", femtofarads(gate_loads[transition.input]))?;
-        let measure = gate_measure(name, transition.kind);
-        let statement = format!(
-            "meas tran {measure} TRIG v({tag}_in{}) VAL={half} {} TARG v({tag}_out) VAL={half} {}",
-            transition.input + 1,
-            direction(on_level),
-            direction(!on_level)
-        );
-        writeln!(out, ".{statement}")?;
-        measures.push((measure, statement));
     }
 
     for kind in NetworkKind::BOTH {
@@ -447,19 +498,27 @@ pub fn write_deck(
         for (_, statement) in &measures {
             writeln!(out, "{statement}")?;
         }
-        writeln!(out, "echo \"widthwise summary: transition, gate delay (s), reference delay (s), gate/reference\"")?;
-        for transition in transitions {
-            let name = &gate.inputs[transition.input].name;
-            let measure = gate_measure(name, transition.kind);
-            let reference = reference_measure(transition.kind);
-            let ratio = format!("ratio_{}_{}", name.to_ascii_lowercase(), edge(transition.kind));
-            writeln!(out, "let {ratio} = {measure} / {reference}")?;
-            writeln!(
-                out,
-                "echo \"delay {} {}: $&{measure} $&{reference} $&{ratio}\"",
-                name.to_ascii_lowercase(),
-                edge(transition.kind)
-            )?;
+        match blocks {
+            Blocks::Stage(_) => {
+                writeln!(
+                    out,
+                    "echo \"widthwise summary: transition, gate delay (s), reference delay (s), gate/reference\""
+                )?;
+                for transition in transitions {
+                    let name = &gate.inputs[transition.input].name;
+                    let measure = gate_measure(name, transition.kind);
+                    let reference = reference_measure(transition.kind);
+                    let ratio = format!("ratio_{}_{}", name.to_ascii_lowercase(), edge(transition.kind));
+                    writeln!(out, "let {ratio} = {measure} / {reference}")?;
+                    writeln!(
+                        out,
+                        "echo \"delay {} {}: $&{measure} $&{reference} $&{ratio}\"",
+                        name.to_ascii_lowercase(),
+                        edge(transition.kind)
+                    )?;
+                }
+            }
+            Blocks::Cell(transitions) => cell::write_summary(gate, transitions, out)?,
         }
         writeln!(out, "quit")?;
         writeln!(out, ".endc")?;

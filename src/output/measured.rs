@@ -29,12 +29,15 @@ pub fn write_table(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
         number(measured.reference_load_ff),
         if measured.calibrated { "; time window from a calibration run" } else { "" }
     )?;
+    if measured.delays.iter().any(|d| d.stages.is_some()) {
+        return write_stages_table(measured, out);
+    }
     let header = ["transition", "input", "output", "held", "load_fF", "delay_ps", "reference_ps", "ratio"];
-    let rows: Vec<[String; 8]> = measured
+    let rows: Vec<Vec<String>> = measured
         .delays
         .iter()
         .map(|d| {
-            [
+            vec![
                 d.tag.clone(),
                 format!("{} {}", d.input, d.input_edge),
                 d.output_edge.to_string(),
@@ -46,18 +49,71 @@ pub fn write_table(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
             ]
         })
         .collect();
-    let mut widths = header.map(str::len);
-    for row in &rows {
+    write_rows(&header, &rows, out)
+}
+
+/// The table of a cell of several stages: per transition the cell's delay beside its Elmore
+/// delay and its logical-effort estimate, then the output stage's delay beside the reference
+/// inverter's.
+fn write_stages_table(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
+    writeln!(
+        out,
+        "cell delay: pin to output, against the logical-effort estimate sum(g h + p); output stage: from the net it \
+         switches on, against the reference inverter"
+    )?;
+    let header = [
+        "transition",
+        "input",
+        "output",
+        "held",
+        "load_fF",
+        "delay_ps",
+        "elmore_ps",
+        "estimate_ps",
+        "delay/estimate",
+        "stage_ps",
+        "reference_ps",
+        "stage/reference",
+    ];
+    let rows: Vec<Vec<String>> = measured
+        .delays
+        .iter()
+        .map(|d| {
+            let (stage, elmore, estimate) =
+                d.stages.as_ref().map_or((f64::NAN, f64::NAN, f64::NAN), |s| (s.stage_s, s.elmore_s, s.estimate_s));
+            vec![
+                d.tag.clone(),
+                format!("{} {}", d.input, d.input_edge),
+                d.output_edge.to_string(),
+                if d.held.is_empty() { "-".to_string() } else { d.held.clone() },
+                number(d.load_ff),
+                number(ps(d.delay_s)),
+                number(ps(elmore)),
+                number(ps(estimate)),
+                number(d.delay_s / estimate),
+                number(ps(stage)),
+                number(ps(d.reference_s)),
+                number(stage / d.reference_s),
+            ]
+        })
+        .collect();
+    write_rows(&header, &rows, out)
+}
+
+/// An aligned header and rows.
+fn write_rows(header: &[&str], rows: &[Vec<String>], out: &mut dyn Write) -> io::Result<()> {
+    let mut widths: Vec<usize> = header.iter().map(|h| h.len()).collect();
+    for row in rows {
         for (width, cell) in widths.iter_mut().zip(row) {
             *width = (*width).max(cell.len());
         }
     }
     let line = |cells: Vec<&str>| {
-        let padded: Vec<String> = cells.iter().zip(widths).map(|(cell, width)| format!("{cell:<width$}")).collect();
+        let padded: Vec<String> = cells.iter().zip(&widths).map(|(cell, &width)| format!("{cell:<width$}")).collect();
         padded.join("  ").trim_end().to_string()
     };
     writeln!(out, "{}", line(header.to_vec()))?;
-    for row in &rows {
+    for row in rows {
         writeln!(out, "{}", line(row.iter().map(String::as_str).collect()))?;
     }
     Ok(())
@@ -65,6 +121,9 @@ pub fn write_table(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
 
 /// One CSV row per transition, with a header.
 pub fn write_csv(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
+    if measured.delays.iter().any(|d| d.stages.is_some()) {
+        return write_stages_csv(measured, out);
+    }
     let mut writer = csv::Writer::from_writer(out);
     let fail = |error: csv::Error| io::Error::other(error.to_string());
     writer
@@ -100,6 +159,68 @@ pub fn write_csv(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
     writer.flush()
 }
 
+/// The CSV rows of a cell of several stages: the one-stage columns (the ratio the cell's delay
+/// over the reference's), then the estimates and the output stage's delay.
+fn write_stages_csv(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
+    let mut writer = csv::Writer::from_writer(out);
+    let fail = |error: csv::Error| io::Error::other(error.to_string());
+    writer
+        .write_record([
+            "cell",
+            "transition",
+            "input",
+            "input_edge",
+            "output_edge",
+            "held",
+            "load_ff",
+            "delay_ps",
+            "reference_delay_ps",
+            "ratio",
+            "elmore_ps",
+            "estimate_ps",
+            "estimate_tau",
+            "delay_over_estimate",
+            "output_stage_delay_ps",
+            "output_stage_ratio",
+        ])
+        .map_err(fail)?;
+    for d in &measured.delays {
+        let Some(stages) = &d.stages else { continue };
+        writer
+            .write_record([
+                measured.cell.as_str(),
+                &d.tag,
+                &d.input,
+                d.input_edge,
+                d.output_edge,
+                &d.held,
+                &number(d.load_ff),
+                &number(ps(d.delay_s)),
+                &number(ps(d.reference_s)),
+                &number(d.delay_s / d.reference_s),
+                &number(ps(stages.elmore_s)),
+                &number(ps(stages.estimate_s)),
+                &number(stages.estimate_tau),
+                &number(d.delay_s / stages.estimate_s),
+                &number(ps(stages.stage_s)),
+                &number(stages.stage_s / d.reference_s),
+            ])
+            .map_err(fail)?;
+    }
+    writer.flush()
+}
+
+/// A transition through a cell of several stages, in JSON.
+#[derive(Serialize)]
+struct JsonStages {
+    elmore_ps: f64,
+    estimate_ps: f64,
+    estimate_tau: f64,
+    delay_over_estimate: f64,
+    output_stage_delay_ps: f64,
+    output_stage_ratio: f64,
+}
+
 #[derive(Serialize)]
 struct JsonDelay<'a> {
     transition: &'a str,
@@ -111,6 +232,8 @@ struct JsonDelay<'a> {
     delay_ps: f64,
     reference_delay_ps: f64,
     ratio: f64,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    stages: Option<JsonStages>,
 }
 
 #[derive(Serialize)]
@@ -150,6 +273,14 @@ pub fn write_json(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
                 delay_ps: ps(d.delay_s),
                 reference_delay_ps: ps(d.reference_s),
                 ratio: d.delay_s / d.reference_s,
+                stages: d.stages.as_ref().map(|s| JsonStages {
+                    elmore_ps: ps(s.elmore_s),
+                    estimate_ps: ps(s.estimate_s),
+                    estimate_tau: s.estimate_tau,
+                    delay_over_estimate: d.delay_s / s.estimate_s,
+                    output_stage_delay_ps: ps(s.stage_s),
+                    output_stage_ratio: s.stage_s / d.reference_s,
+                }),
             })
             .collect(),
     };

@@ -116,6 +116,13 @@ pub fn stage_loads(cell: &SizedCell) -> Vec<f64> {
         .collect()
 }
 
+/// The logical-effort delay g h + p of stage `index` driving `load` C, in tau: its load and output
+/// diffusion over its reference's input capacitance (docs/model.md section 9).
+pub fn stage_estimate(cell: &SizedCell, index: usize, load: f64) -> f64 {
+    let stage = &cell.stages[index];
+    (load + figures::output_diffusion(stage)) / (stage.drive * cell.plan.reference.input_capacitance())
+}
+
 /// The step of `transition` in stage `index`.
 fn step(
     cell: &SizedCell,
@@ -169,14 +176,9 @@ pub fn time_cell(
     let output = count - 1;
     let built = circuits(cell, conditions)?;
     let loads = stage_loads(cell);
-    let unit_inverter = plan.reference.input_capacitance();
-    // g h + p of each earlier stage: its load and output diffusion over its reference's capacitance.
-    let own_estimate: Vec<f64> = cell
-        .stages
-        .iter()
-        .zip(&loads)
-        .map(|(stage, load)| (load + figures::output_diffusion(stage)) / (stage.drive * unit_inverter))
-        .collect();
+    // g h + p of each earlier stage at its own load.
+    let own_estimate: Vec<f64> =
+        loads.iter().enumerate().map(|(index, &load)| stage_estimate(cell, index, load)).collect();
     let pins = figures::pin_capacitance(cell);
     let pin_loads: Vec<f64> = match conditions.load {
         Load::Fanout(h) => pins.iter().map(|c| h * c).collect(),
@@ -229,8 +231,7 @@ pub fn time_cell(
                         let found = rules[index]
                             .worst(input, edge, load, meter)
                             .map_err(|error| transition_error(stage, input, edge, error))?;
-                        let estimate = (load + figures::output_diffusion(stage)) / (stage.drive * unit_inverter);
-                        (found, load, estimate)
+                        (found, load, stage_estimate(cell, index, load))
                     } else {
                         (inner[index][input][slot(edge)].clone(), loads[index], own_estimate[index])
                     };

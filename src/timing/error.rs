@@ -33,6 +33,17 @@ pub enum TimingError {
         /// The limit.
         limit: usize,
     },
+    /// A cell of several stages with more pins than its transitions are chosen over.
+    #[error(
+        "the worst transitions of a cell of several stages are chosen over every vector of its pins, for cells of up \
+         to {limit} pins; this one has {count}"
+    )]
+    TooManyPins {
+        /// The cell's pins.
+        count: usize,
+        /// The limit.
+        limit: usize,
+    },
     /// More paths than the elmore method lists as constraints.
     #[error("the elmore method lists every conducting path as a constraint; the {network} has {count}, above {limit}")]
     TooManyPaths {

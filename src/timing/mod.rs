@@ -8,6 +8,7 @@
 //! capacitance of a unit transistor; a process turns RC into picoseconds ([`units`]).
 
 pub mod cell;
+pub mod cell_vectors;
 pub mod circuit;
 pub mod delays;
 pub mod error;
@@ -22,6 +23,7 @@ use crate::cell::SizedCell;
 use crate::sizing::plan::Conditions;
 
 pub use cell::{CellDelay, CellTiming, StageStep};
+pub use cell_vectors::{CellStep, CellTransition, MAX_CELL_PINS, cell_transitions};
 pub use delays::MAX_TIMED_OCCURRENCES;
 pub use error::{NetworkFault, TimingError};
 pub use report::{

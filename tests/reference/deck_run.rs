@@ -1,6 +1,6 @@
 //! `widthwise deck --run` on the shipped short-channel card (examples/demo130.lib, section typical,
 //! with examples/demo130-process.toml): ngspice from Debian's packages measures every transition
-//! of the trade's small gates, none blank, and the run's own time window (set by its calibration
+//! of the trade's small gates and of and2 (two stages), none blank, and the run's own time window (set by its calibration
 //! run) gives the delays that ngspice gives on the deck `deck` writes (its window from the
 //! process's level-1 estimate, run here with `ngspice -b`).
 //!
@@ -87,6 +87,13 @@ fn nand2_on_the_demo_card() {
         let other = direct.get(&name).unwrap_or_else(|| panic!("{name} in\n{written}"));
         assert!((other / delay - 1.0).abs() < 0.01, "{name}: --run {delay}, written deck {other}");
     }
+}
+
+#[test]
+fn and2_on_the_demo_card() {
+    // A cell of several stages (NAND2 then an inverter): every pin measured from the pin to the
+    // output, the ratio its delay over the reference inverter's.
+    check("and2", 2);
 }
 
 #[test]

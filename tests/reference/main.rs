@@ -11,6 +11,7 @@ mod netlist_names;
 mod published;
 mod render;
 mod scipy;
+mod stage_decks;
 mod stage_effort;
 mod stage_rails;
 mod stages;

@@ -43,12 +43,11 @@ pub fn transitions(cell: &SizedCell, load_ff: f64) -> Result<Vec<Transition>, Ti
     transitions_under(cell, Load::Femtofarads(load_ff))
 }
 
-/// The same under any load: a capacitance (fF or C) on every copy, or a fan-out of the toggling
-/// input's own capacitance.
-pub fn transitions_under(cell: &SizedCell, load: Load) -> Result<Vec<Transition>, TimingError> {
-    let plan = &cell.plan;
-    let process = &plan.process;
-    let stage = cell.stage();
+/// The deck's capacitance model under `load`: the process's diffusion capacitance over its gate
+/// capacitance per um, and the load in C; where the process's gate capacitance is 0, so neither
+/// has a value in C, no diffusion and a unit load (transitions ranked by resistance alone).
+pub(super) fn deck_conditions(cell: &SizedCell, load: Load) -> Conditions {
+    let process = &cell.plan.process;
     let ratio = process.diffusion_cap_ff_per_um / process.gate_cap_ff_per_um;
     let load = match load {
         Load::Femtofarads(load_ff) => Load::Units(load_ff / process.unit_capacitance_ff()),
@@ -57,11 +56,20 @@ pub fn transitions_under(cell: &SizedCell, load: Load) -> Result<Vec<Transition>
     let finite = match load {
         Load::Units(value) | Load::Fanout(value) | Load::Femtofarads(value) => value.is_finite(),
     };
-    let conditions = if ratio.is_finite() && finite {
+    if ratio.is_finite() && finite {
         Conditions { load, diffusion_ratio: ratio }
     } else {
         Conditions { load: Load::Units(1.0), diffusion_ratio: 0.0 }
-    };
+    }
+}
+
+/// The same under any load: a capacitance (fF or C) on every copy, or a fan-out of the toggling
+/// input's own capacitance.
+pub fn transitions_under(cell: &SizedCell, load: Load) -> Result<Vec<Transition>, TimingError> {
+    let plan = &cell.plan;
+    let process = &plan.process;
+    let stage = cell.stage();
+    let conditions = deck_conditions(cell, load);
     let (circuit, found) = worst_transitions(stage, plan, &conditions, &Meter::new(plan.budget))?;
     let mut out = Vec::new();
     for (input, edge, _, transition) in found {
