@@ -29,7 +29,11 @@ use crate::sizing::{Load, StackOrder};
 /// copy of the reference inverter per output edge; one transient run measures them all.
 /// Measurements: tpd_<input>_fall_gate and tpd_<input>_rise_gate (named by the output's edge),
 /// tpd_fall_ref and tpd_rise_ref, each from the input crossing supply/2 to the output crossing
-/// supply/2. Devices are written as W=<finger width> with SPICE multiplicity m=<fingers>, with
+/// supply/2. A cell of several stages (and2, xor2, mux2 ...) is simulated whole: per pin and output
+/// edge the vector of the other pins with the slowest Elmore delay through the stages the pin
+/// switches, measured pin to output and, as tpd_<input>_<edge>_stage, from the net the output
+/// stage switches on; its delay is stated against its logical-effort estimate sum(g h + p), the
+/// output stage's against the reference inverter's (up to 16 pins). Devices are written as W=<finger width> with SPICE multiplicity m=<fingers>, with
 /// AS/AD/PS/PD when the process sets diffusion_length_nm. The built-in models are level 1 from the
 /// process (threshold, KP, body effect as GAMMA, LAMBDA=0, no parasitic capacitance); --models
 /// includes a library instead, whose model names (binned NAME.N sets too, through its .include

@@ -62,7 +62,9 @@ skipping the output's name); buf, and2..and8, or2..or8, ao21, ao22, oa21, oa22 (
 xor2, xnor2, xor3; mux2 (inputs a, b, s: y = a at s = 0, b at s = 1), mux2i (its complement); maj3
 (majority of a, b, c). A cell of several stages is timed through its stages (--delays, the load
 options: each stage's worst transition at what it drives, summed along each pin's slowest path);
---method elmore, the stack-order search and deck take one stage. Reserved, compared without case,
+deck simulates each pin's worst transition through the whole cell (the output stage against the
+reference inverter, the cell's delay against its logical-effort estimate); --method elmore and the
+stack-order search take one stage. Reserved, compared without case,
 for inputs, the output and the cell name: vdd, vss, gnd, 0 and the model names in use (the
 process's nmos_model and pmos_model).
 

@@ -106,8 +106,8 @@ struct NetState {
     chain: Vec<usize>,
 }
 
-/// A stage, the input that switches it and its inputs after the switch.
-type StepKey = (usize, usize, Vec<bool>);
+/// A stage, the input that switches it, its inputs after the switch and its load's bits.
+type StepKey = (usize, usize, Vec<bool>, u64);
 
 /// A step's Elmore delay (RC), the resistance of what conducts (R) and the conducting devices.
 type StepTiming = (f64, f64, Vec<String>);
@@ -186,7 +186,7 @@ pub fn cell_transitions(
                 }
                 let edge = if target { Edge::Rise } else { Edge::Fall };
                 let load = if index == output { cell_load } else { loads[index] };
-                let key = (index, switching, values.clone());
+                let key = (index, switching, values.clone(), load.to_bits());
                 let (elmore, resistance, conducting) = match solved.get(&key) {
                     Some(held) => held.clone(),
                     None => {

@@ -241,3 +241,27 @@ fn a_section_binned_names_loads_slew_and_diffusion_geometry() {
     demo("nand2", &["--models-section", "typical", "--run", "--summary"]).assert().code(2);
     widthwise().args(["deck", "nand2", "--format", "csv"]).assert().code(2);
 }
+
+#[test]
+fn a_cell_of_several_stages_is_simulated_whole() {
+    // and2: each pin on both output edges, measured from the pin and from the net the output stage
+    // switches on (docs/model.md section 11); the internal net's gate load as a capacitor.
+    let text = deck(&["and2", "--summary"]);
+    for name in ["a", "b"] {
+        for edge in ["fall", "rise"] {
+            assert!(text.contains(&format!(".meas tran tpd_{name}_{edge}_gate TRIG v(")), "{name} {edge}\n{text}");
+            assert!(text.contains(&format!(".meas tran tpd_{name}_{edge}_stage TRIG v(x")), "{name} {edge}\n{text}");
+        }
+    }
+    assert!(text.contains("* t3: b falling, output falling; held a=1; through y_n rise (MP2_y_n), y fall (MN1_y)"));
+    assert!(text.contains("\nCG1 y_n vss "), "{text}");
+    assert!(text.contains("cell delay (s), logical-effort estimate (s)"));
+    // More pins than the vectors are enumerated for: refused before anything is written.
+    let pins: Vec<String> = (0..17).map(|i| format!("x{i}")).collect();
+    widthwise()
+        .args(["deck", &format!("y = {}", pins.join(" & "))])
+        .assert()
+        .code(2)
+        .stdout("")
+        .stderr(predicates::str::contains("for cells of up to 16 pins; this one has 17"));
+}

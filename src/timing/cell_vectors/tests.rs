@@ -123,3 +123,23 @@ fn too_many_pins_are_refused() {
     let error = cell_transitions(&cell, &plan.conditions, &Meter::unlimited()).unwrap_err();
     assert_eq!(error, TimingError::TooManyPins { count: 17, limit: MAX_CELL_PINS });
 }
+
+#[test]
+fn one_vector_is_never_slower_than_the_per_stage_bound() {
+    // Each step is one of its stage's switching vectors for that input and edge, at the same load,
+    // so its delay is at most the stage's worst, and the chain is one of the paths the bound takes
+    // the largest sum over (docs/model.md section 9).
+    for text in ["xor2", "mux2", "maj3", "a ^ b ^ c", "ao22"] {
+        let conditions = Conditions { load: Load::Fanout(2.0), diffusion_ratio: 1.0 };
+        let plan = Plan { conditions, ..Plan::new(Method::LongestPath, 2.0, 1.0, None) };
+        let cell = crate::sizing::size_best(&crate::logic::synthesize(text).unwrap(), &plan).unwrap();
+        let found = cell_transitions(&cell, &conditions, &Meter::unlimited()).unwrap();
+        let bound = crate::timing::cell::time_cell(&cell, &conditions, None, &Meter::unlimited()).unwrap();
+        assert_eq!(found.len(), bound.delays.len(), "{text}");
+        for transition in &found {
+            let pin = &cell.logic.inputs[transition.pin];
+            let held = bound.delays.iter().find(|d| &d.input == pin && d.edge == transition.edge).unwrap();
+            assert!(transition.elmore <= held.elmore_rc * (1.0 + 1e-9), "{text} {pin}: {transition:?} above {held:?}");
+        }
+    }
+}
