@@ -141,6 +141,11 @@ pub struct SizingArgs {
     /// raised where a device would fall below the process's minimum width [default: 4].
     #[arg(long, value_name = "F", value_parser = positive_number, allow_hyphen_values = true)]
     pub stage_effort: Option<f64>,
+    /// With --method elmore: the worst Elmore delay allowed, as a ratio to the reference inverter's
+    /// driving the same load (1 = as fast as the reference) [default: the ratio longest-path sizing
+    /// reaches at that load, so the method is never slower than the classic rule].
+    #[arg(long, value_name = "RATIO", value_parser = positive_number, allow_hyphen_values = true)]
+    pub delay_target: Option<f64>,
 }
 
 impl SizingArgs {
@@ -297,6 +302,13 @@ pub fn plan(args: &GateArgs, order: StackOrder, timed: Timed) -> Result<Plan, Er
     let mobility_ratio = given.mobility_ratio.unwrap_or(process.mobility_ratio);
     let drive = given.drive.unwrap_or(1.0);
     let method = given.method()?;
+    if given.delay_target.is_some() && !method.sizes_by_delay() {
+        return Err(Error::NotApplicable {
+            option: "--delay-target",
+            case: "without --method elmore",
+            why: "only the elmore method sizes for a delay; add --method elmore",
+        });
+    }
     let order = Order::new(order, args.critical.clone()).map_err(SizingError::from)?;
     let process_file = given.process.as_ref().map(|_| &process);
     let diffusion_ratio = match timed.diffusion_ratio {
@@ -313,6 +325,7 @@ pub fn plan(args: &GateArgs, order: StackOrder, timed: Timed) -> Result<Plan, Er
         name: args.name.clone(),
         budget: args.work_budget,
         stage_effort: given.stage_effort.unwrap_or(crate::sizing::plan::DEFAULT_STAGE_EFFORT),
+        delay_target: given.delay_target,
         ..Plan::new(method, mobility_ratio, drive, given.reference)
     };
     plan.check().map_err(SizingError::from)?;

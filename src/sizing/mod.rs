@@ -14,6 +14,7 @@ pub mod order;
 pub mod plan;
 pub mod rules;
 pub mod stage;
+pub mod target;
 pub mod vectors;
 
 use crate::budget::Meter;

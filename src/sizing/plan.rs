@@ -355,6 +355,9 @@ pub struct Plan {
     /// what it drives (docs/model.md section 9): its drive is its load over this times the unit
     /// reference inverter's input capacitance.
     pub stage_effort: f64,
+    /// The elmore method's delay target: the worst Elmore delay over the reference inverter's at the
+    /// same load; `None` is the ratio the longest-path rule reaches (docs/model.md section 12).
+    pub delay_target: Option<f64>,
 }
 
 /// The stage effort when none is given: 4, the usual design value (common practice, no source).
@@ -376,6 +379,7 @@ impl Plan {
             name: None,
             budget: DEFAULT_WORK_BUDGET,
             stage_effort: DEFAULT_STAGE_EFFORT,
+            delay_target: None,
         }
     }
 
@@ -423,6 +427,9 @@ impl Plan {
             ("the stage effort", self.stage_effort),
         ] {
             bounds::SIZING.check_named(what, value)?;
+        }
+        if let Some(ratio) = self.delay_target {
+            bounds::SIZING.check_named("the delay target", ratio)?;
         }
         Ok(())
     }
