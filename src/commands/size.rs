@@ -30,6 +30,12 @@ pub struct Args {
     /// Where to write.
     #[command(flatten)]
     pub output: OutputFile,
+    /// Print the elmore method's trade-off instead of one sizing: the least total W/L for each delay
+    /// target from the ratio longest-path sizing reaches down to the least reachable within 10x its
+    /// total W/L, with longest-path and min-area beside it (table, csv, json, or svg: a plot), at the
+    /// load given (default fan-out 1).
+    #[arg(long)]
+    pub tradeoff: bool,
     /// CSV rows (with --format csv only): one per gate, per transistor, per input, or per input and
     /// output edge (delays) [default: devices].
     #[arg(long, value_enum)]
@@ -47,6 +53,8 @@ pub enum Format {
     Json,
     /// A SPICE subcircuit per gate.
     Spice,
+    /// An SVG plot (with --tradeoff only).
+    Svg,
 }
 
 impl From<Format> for output::Format {
@@ -56,6 +64,8 @@ impl From<Format> for output::Format {
             Format::Csv => output::Format::Csv,
             Format::Json => output::Format::Json,
             Format::Spice => output::Format::Spice,
+            // Only the trade-off plots; `run` writes it before a gate's format is asked for.
+            Format::Svg => output::Format::Table,
         }
     }
 }
@@ -87,6 +97,28 @@ impl From<Rows> for output::Rows {
 /// Refuse what does not apply to the format asked for: rows where there are none, delay options
 /// where nothing shows delays and they do not change the sizing.
 fn check_applies(args: &Args) -> Result<(), Error> {
+    if args.format == Format::Svg && !args.tradeoff {
+        return Err(Error::NotApplicable {
+            option: "--format svg",
+            case: "without --tradeoff",
+            why: "only the trade-off is a plot; add --tradeoff, or use table, csv, json or spice",
+        });
+    }
+    if args.tradeoff {
+        let refused = [
+            (args.format == Format::Spice, "--format spice", "a netlist holds one sizing, the curve many"),
+            (args.rows.is_some(), "--rows", "the trade-off's CSV has one row per point"),
+            (args.gate.sizing.delay_target.is_some(), "--delay-target", "the curve covers every delay target"),
+            (
+                args.delay.stack_order == Some(StackOrder::Search),
+                "--stack-order search",
+                "the curve is drawn on one stack order: give default or written",
+            ),
+        ];
+        if let Some((_, option, why)) = refused.into_iter().find(|(given, _, _)| *given) {
+            return Err(Error::NotApplicable { option, case: "with --tradeoff", why });
+        }
+    }
     if args.rows.is_some() && args.format != Format::Csv {
         return Err(Error::NotApplicable {
             option: "--rows",
@@ -119,7 +151,10 @@ fn check_applies(args: &Args) -> Result<(), Error> {
 /// then write it.
 pub fn run(args: Args) -> Result<(), Error> {
     check_applies(&args)?;
-    let Args { expression, gate, delay, format, output, rows } = args;
+    if args.tradeoff {
+        return run_tradeoff(args);
+    }
+    let Args { expression, gate, delay, format, output, rows, .. } = args;
     let rows = rows.unwrap_or(Rows::Devices);
     let timed = delay.wanted() || gate.sizing.sizes_by_delay() || rows == Rows::Delays;
     // Untimed, only the stack order of the delay options matters.
@@ -135,9 +170,45 @@ pub fn run(args: Args) -> Result<(), Error> {
     } else {
         CellReport::of(&crate::sizing::size_best(&forms, &plan)?)
     };
+    for warning in output::warnings::of(&sized) {
+        crate::io::diagnose(&crate::diagnostic::Diagnostic::warning(warning).render());
+    }
     let (format, rows) = (format.into(), rows.into());
     crate::io::write_output(output.output.as_deref(), |out| {
         output::write_gates(std::slice::from_ref(&sized), format, rows, out)
+    })?;
+    Ok(())
+}
+
+/// `size --tradeoff`: the elmore method's curve for the form of least total W/L.
+fn run_tradeoff(args: Args) -> Result<(), Error> {
+    let Args { expression, gate, delay, format, output, .. } = args;
+    let conditions = Timed { load: delay.load(), diffusion_ratio: delay.diffusion_ratio, matter: true };
+    let plan = super::plan(&gate, delay.stack_order.unwrap_or_default(), conditions)?;
+    let text = super::expression_text(&expression)?;
+    let forms = super::read_cells(&text, &plan, gate.pull_up.as_deref())?;
+    let cell = crate::sizing::size_best(&forms, &plan)?;
+    let meter = crate::budget::Meter::new(plan.budget);
+    let tradeoff = crate::sizing::tradeoff::tradeoff(&cell.logic, &plan, &meter)?;
+    let load = match plan.conditions.load {
+        crate::sizing::Load::Fanout(h) => format!("fan-out {}", output::number(h)),
+        crate::sizing::Load::Units(c) => format!("{} C", output::number(c)),
+        crate::sizing::Load::Femtofarads(ff) => format!("{} fF", output::number(ff)),
+    };
+    let figures = CellFigures::of(&cell);
+    let report = output::tradeoff::TradeoffReport {
+        gate: figures.name.clone(),
+        expression: figures.expression.clone(),
+        load,
+        diffusion_ratio: plan.conditions.diffusion_ratio,
+        tradeoff,
+    };
+    crate::io::write_output(output.output.as_deref(), |out| match format {
+        Format::Table => output::tradeoff::write_table(&report, out),
+        Format::Csv => output::tradeoff::write_csv(&report, out),
+        Format::Json => output::tradeoff::write_json(&report, out),
+        Format::Svg => output::tradeoff::write_svg(&report, out),
+        Format::Spice => Err(std::io::Error::other("a netlist holds one sizing")),
     })?;
     Ok(())
 }

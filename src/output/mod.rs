@@ -12,7 +12,9 @@ pub mod spice;
 pub mod summary;
 pub mod svg;
 pub mod table;
+pub mod tradeoff;
 pub mod verify;
+pub mod warnings;
 
 use std::io::{self, Write};
 

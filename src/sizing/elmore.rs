@@ -388,12 +388,36 @@ pub fn widths(structure: &SizedStage, plan: &Plan, meter: &Meter) -> Result<Side
         Some(ratio) => ratio,
         None => target::classic_ratio(structure, plan, meter)?,
     };
-    let optimum = optimum(structure, plan, Goal::Area { ratio }, meter)?;
+    let optimum = match optimum(structure, plan, Goal::Area { ratio }, None, meter) {
+        Ok(optimum) => optimum,
+        // With a fan-out load the first program's bounds are condensed at the longest-path widths,
+        // below the true ones elsewhere: the least ratio within the cap, timed by the one rule, says
+        // whether the target is reachable; if it is, the program starts again from those widths.
+        Err(SizingError::Infeasible { input, edge, cap, cap_factor, .. }) => {
+            let fastest = optimum(structure, plan, Goal::Ratio, None, meter)?;
+            let best = target::worst_ratio(&stage_at(structure, &fastest.widths, plan)?, plan, meter)?;
+            if best > ratio {
+                return Err(SizingError::Infeasible { target: ratio, best, cap, cap_factor, input, edge });
+            }
+            optimum(structure, plan, Goal::Area { ratio }, Some(&fastest.widths), meter)?
+        }
+        Err(error) => return Err(error),
+    };
     let split = structure.networks.pull_down.widths.len();
     Ok(Sides::new(optimum.widths[..split].to_vec(), optimum.widths[split..].to_vec()))
 }
 
-/// The optimum of `goal` for the structure (stack order) of `structure`.
+/// The stage of `structure`'s networks at these widths (pull-down first).
+pub fn stage_at(structure: &SizedStage, widths: &[f64], plan: &Plan) -> Result<SizedStage, SizingError> {
+    let split = structure.networks.pull_down.widths.len();
+    let widths = Sides::new(widths[..split].to_vec(), widths[split..].to_vec());
+    let networks = structure.networks.as_ref().map(|_, n| n.network.clone());
+    build::stage(&structure.function, structure.role, networks, widths, plan)
+}
+
+/// The optimum of `goal` for the structure (stack order) of `structure`; with a fan-out load the
+/// bounds are first condensed at `from` (widths, pull-down first), else at the longest-path widths:
+/// widths that meet the target there keep the first program feasible.
 ///
 /// The program starts from the transitions through one path that conducts alone; each optimum is
 /// then timed by the one worst-transition rule, and every worst transition above its bound whose
@@ -401,15 +425,21 @@ pub fn widths(structure: &SizedStage, plan: &Plan, meter: &Meter) -> Result<Side
 /// its own, until none is left (a cutting plane), or the rounds run out and the last optimum stands
 /// (its delays, as reported, say by how much a bound is missed). With a fan-out load, each round
 /// also condenses the bounds at the last optimum, until the total W/L settles.
-pub fn optimum(structure: &SizedStage, plan: &Plan, goal: Goal, meter: &Meter) -> Result<Optimum, SizingError> {
+pub fn optimum(
+    structure: &SizedStage,
+    plan: &Plan,
+    goal: Goal,
+    from: Option<&[f64]>,
+    meter: &Meter,
+) -> Result<Optimum, SizingError> {
     let devices: usize = structure.networks.values().map(|n| n.widths.len()).sum();
     if devices > MAX_DEVICES {
         return Err(SizingError::TooLarge { count: devices, limit: MAX_DEVICES });
     }
     let mut setup = Setup::new(structure, plan)?;
-    let mut loads = setup.loads(None)?;
+    let mut loads = setup.loads(from)?;
     let fanout = matches!(loads, Loads::Fanout { .. });
-    let mut last: Option<(Vec<f64>, f64)> = None;
+    let mut last: Option<(Vec<f64>, f64, Program)> = None;
     for round in 0..MAX_ROUNDS {
         let (program, labels) = setup.program(&loads, goal, meter)?;
         let x = match setup.solve(&program, &labels, goal, meter) {
@@ -425,25 +455,25 @@ pub fn optimum(structure: &SizedStage, plan: &Plan, goal: Goal, meter: &Meter) -
             Goal::Ratio => value,
         };
         let settled =
-            !fanout || last.as_ref().is_some_and(|(_, before)| (before - value).abs() <= ROUND_TOLERANCE * value);
+            !fanout || last.as_ref().is_some_and(|(_, before, _)| (before - value).abs() <= ROUND_TOLERANCE * value);
         let cuts = setup.cuts(&x[..devices], ratio, meter)?;
         let done = cuts.is_empty() && settled;
         setup.transitions.extend(cuts);
         if fanout {
             loads = setup.loads(Some(&x[..devices]))?;
         }
-        last = Some((x, value));
+        last = Some((x, value, program));
         if done {
             break;
         }
     }
-    let (x, value) = last.ok_or(SizingError::Solver(SolveError::Stalled))?;
+    let (x, value, program) = last.ok_or(SizingError::Solver(SolveError::Stalled))?;
     let total = x[..devices].iter().sum();
     let ratio = match goal {
         Goal::Area { ratio } => ratio,
         Goal::Ratio => value,
     };
-    Ok(Optimum { widths: x[..devices].to_vec(), total, ratio, cap: setup.cap })
+    Ok(Optimum { widths: x[..devices].to_vec(), total, ratio, cap: setup.cap, program })
 }
 
 #[cfg(test)]

@@ -15,6 +15,7 @@ pub mod plan;
 pub mod rules;
 pub mod stage;
 pub mod target;
+pub mod tradeoff;
 pub mod vectors;
 
 use crate::budget::Meter;

@@ -5,6 +5,7 @@
 
 use crate::budget::Meter;
 use crate::cell::SizedStage;
+use crate::optimize::geometric::Program;
 use crate::sizing::error::SizingError;
 use crate::sizing::plan::Plan;
 use crate::timing::circuit::reference_delay;
@@ -39,6 +40,9 @@ pub struct Optimum {
     pub ratio: f64,
     /// The cap on the total W/L.
     pub cap: f64,
+    /// The last program solved: the transitions it started from and every cut it took, its bounds
+    /// as last condensed (what a reference solver checks the optimum against).
+    pub program: Program,
 }
 
 /// The worst ratio, over every input and edge, of the worst-case Elmore delay (the one

@@ -4,6 +4,7 @@
 mod batch;
 mod deck;
 mod delay;
+mod elmore;
 mod limits;
 mod numbers;
 mod paths;

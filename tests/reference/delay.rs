@@ -340,7 +340,7 @@ fn infeasible_bounds_say_so() {
 /// Run scipy's SLSQP on each program (log variables, the same box), in one python3 process.
 /// `mode` "optimum" minimises the objective; "least-worst" minimises the largest constraint, the
 /// hard ones (a shared diffusion's variable above each of its devices) held at `<= 1`.
-fn scipy(programs: &[Program], mode: &str) -> Vec<serde_json::Value> {
+pub(super) fn scipy(programs: &[Program], mode: &str) -> Vec<serde_json::Value> {
     const SCRIPT: &str = r#"
 import json, sys
 import numpy as np
