@@ -111,8 +111,8 @@ pub struct SizingArgs {
     /// Sizing method: longest-path (each device: reference W/L x devices on the longest path through
     /// it), min-area (least total W/L with every path, or with --worst-case vectors every input vector, at
     /// the target) or elmore (least total W/L with
-    /// every worst-case Elmore delay at most the reference inverter's driving the same load; not in
-    /// a library) [default: longest-path].
+    /// every worst-case Elmore delay at most --delay-target times the reference inverter's driving the
+    /// same load, within 10x longest-path's total W/L; not in a library) [default: longest-path].
     #[arg(long, value_enum)]
     pub method: Option<MethodName>,
     /// What min-area sizes against: paths (every conducting path as if it conducted alone) or
