@@ -50,7 +50,9 @@ pub fn compare_methods(cell: &SizedCell, timing: &Timing, meter: &Meter) -> Resu
     // Widths already timed, so that equal sizings (NAND, NOR ...) are timed once.
     let mut timed: Vec<(Sides<Vec<f64>>, Timing)> = Vec::new();
     for method in Method::ALL {
-        let sized = if method == cell.plan.method { Ok(cell.clone()) } else { sizing::resize(cell, method, meter) };
+        // The elmore row is the cell's own where it is sized by delay (over paths or every vector).
+        let own_method = method == cell.plan.method || (method.sizes_by_delay() && cell.plan.method.sizes_by_delay());
+        let sized = if own_method { Ok(cell.clone()) } else { sizing::resize(cell, method, meter) };
         match sized {
             Ok(sized) => {
                 let sized_widths = widths(&sized);

@@ -118,7 +118,9 @@ pub struct SizingArgs {
     /// What min-area sizes against: paths (every conducting path as if it conducted alone) or
     /// vectors (every input vector, with everything it turns on: less W/L where inputs repeat; a
     /// convex program, up to 16 inputs) [default: paths]. Longest-path is a rule, not an optimum,
-    /// and takes paths only; so does elmore, for now.
+    /// and takes paths only. With elmore: every path as if it conducted alone (a geometric program,
+    /// solved to optimality), or every input vector (a sequence of convex approximations: a local
+    /// optimum, its target checked on every vector).
     #[arg(long, value_enum, value_name = "WHAT")]
     pub worst_case: Option<WorstCase>,
     /// Mobility ratio mu_n / mu_p (real processes run about 2 to 3) [default: the process's, 2 for

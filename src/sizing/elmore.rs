@@ -407,6 +407,42 @@ pub fn widths(structure: &SizedStage, plan: &Plan, meter: &Meter) -> Result<Side
     Ok(Sides::new(optimum.widths[..split].to_vec(), optimum.widths[split..].to_vec()))
 }
 
+/// One step of the sequence of convex approximations (`--worst-case vectors`): the program at
+/// `ratio` with a fan-out's bounds condensed at `x` (device widths), `extra` constraints (each a
+/// monomial approximation of a transition's delay ratio over the target, with its input and edge)
+/// and every width within `trust` of `x` either way, started at `x`. Gives the optimum's widths.
+pub fn trust_step(
+    structure: &SizedStage,
+    plan: &Plan,
+    ratio: f64,
+    x: &[f64],
+    extra: &[(Posynomial, (usize, Edge))],
+    trust: f64,
+    meter: &Meter,
+) -> Result<Vec<f64>, SizingError> {
+    let setup = Setup::new(structure, plan)?;
+    let devices = setup.circuit.devices.len();
+    let loads = setup.loads(Some(x))?;
+    let goal = Goal::Area { ratio };
+    let (mut program, mut labels) = setup.program(&loads, goal, meter)?;
+    for (constraint, label) in extra {
+        program.constraints.push(constraint.clone());
+        labels.push(*label);
+    }
+    for (j, &w) in x.iter().enumerate() {
+        program.lower[j] = program.lower[j].max(w / trust);
+        program.upper[j] = program.upper[j].min(w * trust);
+    }
+    let mut start = setup.variables.at(x);
+    start[devices..].iter_mut().for_each(|t| *t *= 1.25);
+    for (j, value) in start.iter().enumerate() {
+        let (low, high) = (program.lower[j], program.upper[j]);
+        program.start[j] = if *value > low && *value < high { *value } else { (low * high).sqrt() };
+    }
+    let x = setup.solve(&program, &labels, goal, meter)?;
+    Ok(x[..devices].to_vec())
+}
+
 /// The stage of `structure`'s networks at these widths (pull-down first).
 pub fn stage_at(structure: &SizedStage, widths: &[f64], plan: &Plan) -> Result<SizedStage, SizingError> {
     let split = structure.networks.pull_down.widths.len();

@@ -123,6 +123,25 @@ pub enum SizingError {
         /// Its edge.
         edge: &'static str,
     },
+    /// The sequence of convex approximations against every input vector stopped with a vector above
+    /// the target.
+    #[error(
+        "sizing for delay against every input vector did not converge: its last point (a local search) leaves \
+         a worst delay ratio of {} (input '{input}', {edge}) above the target {}; a larger --delay-target, or \
+         --worst-case paths",
+        crate::number::format(*best),
+        crate::number::format(*target)
+    )]
+    VectorsNotMet {
+        /// The delay target.
+        target: f64,
+        /// The worst ratio at the last point.
+        best: f64,
+        /// The input of the worst transition there.
+        input: String,
+        /// Its edge.
+        edge: &'static str,
+    },
     /// Meeting the bounds needs widths beyond the search box.
     #[error("meeting every Elmore delay bound needs widths beyond {factor} times the longest-path widths")]
     Unbounded {
@@ -191,7 +210,7 @@ impl SizingError {
     /// converge; everything else is bad input, a limit or a budget (exit 2), or internal.
     pub fn is_check_failure(&self) -> bool {
         self.is_infeasible()
-            || matches!(self, SizingError::Solver(_))
+            || matches!(self, SizingError::Solver(_) | SizingError::VectorsNotMet { .. })
             || matches!(self, SizingError::Exact { error, .. } if !error.past_limit())
     }
 

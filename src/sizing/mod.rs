@@ -9,6 +9,7 @@
 pub mod build;
 pub mod cell;
 pub mod elmore;
+pub mod elmore_vectors;
 pub mod error;
 pub mod order;
 pub mod plan;

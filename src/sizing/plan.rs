@@ -65,13 +65,6 @@ pub enum WorstCaseRefused {
          by min-area to size against every input vector"
     )]
     LongestPath,
-    /// The elmore method with the worst case over vectors (its constraints still start from paths).
-    #[error(
-        "the elmore method sizes against the worst case over paths only: its delay constraints over input \
-         vectors are not built yet; size by min-area to size against every input vector, or use the elmore \
-         method with the worst case over paths"
-    )]
-    Elmore,
 }
 
 /// How widths are chosen.
@@ -106,13 +99,13 @@ impl Method {
     ];
 
     /// The method a name gives with the worst case `worst_case`: refused for longest-path (a rule,
-    /// not an optimum) and, for now, the elmore method.
+    /// not an optimum).
     pub fn with(name: MethodName, worst_case: WorstCase) -> Result<Method, WorstCaseRefused> {
         match (name, worst_case) {
             (_, WorstCase::Paths) => Ok(Method::of(name)),
             (MethodName::MinArea, worst_case) => Ok(Method::MinArea { worst_case }),
+            (MethodName::Elmore, worst_case) => Ok(Method::Elmore { worst_case }),
             (MethodName::LongestPath, WorstCase::Vectors) => Err(WorstCaseRefused::LongestPath),
-            (MethodName::Elmore, WorstCase::Vectors) => Err(WorstCaseRefused::Elmore),
         }
     }
 
@@ -469,7 +462,8 @@ mod tests {
         assert_eq!((vectors.name(), vectors.worst_case()), ("min-area", WorstCase::Vectors));
         assert_eq!(Method::with(MethodName::LongestPath, WorstCase::Vectors), Err(WorstCaseRefused::LongestPath));
         assert!(WorstCaseRefused::LongestPath.to_string().contains("a rule, not an optimum"));
-        assert_eq!(Method::with(MethodName::Elmore, WorstCase::Vectors), Err(WorstCaseRefused::Elmore));
+        let elmore = Method::with(MethodName::Elmore, WorstCase::Vectors).unwrap();
+        assert_eq!((elmore.name(), elmore.worst_case()), ("elmore", WorstCase::Vectors));
         for name in [MethodName::LongestPath, MethodName::MinArea, MethodName::Elmore] {
             assert_eq!(Method::with(name, WorstCase::Paths), Ok(Method::of(name)));
         }
