@@ -110,6 +110,12 @@ fn check_applies(args: &Args) -> Result<(), Error> {
             (args.rows.is_some(), "--rows", "the trade-off's CSV has one row per point"),
             (args.gate.sizing.delay_target.is_some(), "--delay-target", "the curve covers every delay target"),
             (
+                args.gate.sizing.worst_case == Some(crate::sizing::WorstCase::Vectors),
+                "--worst-case vectors",
+                "the curve is the geometric program over paths; size one target against every vector with \
+                 --method elmore --worst-case vectors --delay-target RATIO",
+            ),
+            (
                 args.delay.stack_order == Some(StackOrder::Search),
                 "--stack-order search",
                 "the curve is drawn on one stack order: give default or written",

@@ -120,6 +120,7 @@ fn the_tradeoff_in_every_format() {
         &["size", "nand2", "--tradeoff", "--format", "spice"],
         &["size", "nand2", "--tradeoff", "--method", "elmore", "--delay-target", "2"],
         &["size", "xor2", "--tradeoff"],
+        &["size", "nand2", "--tradeoff", "--method", "elmore", "--worst-case", "vectors"],
     ] {
         widthwise().args(args).assert().code(2).stdout(predicate::str::is_empty());
     }
