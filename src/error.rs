@@ -241,7 +241,14 @@ mod tests {
 
     #[test]
     fn each_kind_of_error_has_its_exit_code() {
-        let infeasible = SizingError::Infeasible { ratio: 1.5, input: "a".into(), edge: "fall" };
+        let infeasible = SizingError::Infeasible {
+            target: 1.0,
+            best: 1.5,
+            cap: 80.0,
+            cap_factor: 10.0,
+            input: "a".into(),
+            edge: "fall",
+        };
         assert_eq!(Error::from(infeasible).exit_code(), EXIT_CHECK_FAILED);
         let stalled = SizingError::Solver(crate::optimize::geometric::SolveError::Stalled);
         assert_eq!(Error::from(stalled).exit_code(), EXIT_CHECK_FAILED);

@@ -280,6 +280,14 @@ fn overrides(args: &Args) -> Result<Overrides, Error> {
                   min-area, or size the gate with 'widthwise size --method elmore --fanout H'",
         });
     }
+    if args.sizing.delay_target.is_some() {
+        return Err(Error::NotApplicable {
+            option: "--delay-target",
+            case: "in a batch",
+            why: "the delay target belongs to the elmore method, which a library does not take: size the gate \
+                  with 'widthwise size --method elmore --delay-target RATIO'",
+        });
+    }
     if let (Some(method), Some(worst_case)) = (args.sizing.method, args.sizing.worst_case) {
         Method::with(method, worst_case).map_err(SizingError::from)?;
     }

@@ -121,14 +121,16 @@ pub struct SizingArgs {
     /// Sizing method: longest-path (each device: reference W/L x devices on the longest path through
     /// it), min-area (least total W/L with every path, or with --worst-case vectors every input vector, at
     /// the target) or elmore (least total W/L with
-    /// every worst-case Elmore delay at most the reference inverter's driving the same load; not in
-    /// a library) [default: longest-path].
+    /// every worst-case Elmore delay at most --delay-target times the reference inverter's driving the
+    /// same load, within 10x longest-path's total W/L; not in a library) [default: longest-path].
     #[arg(long, value_enum)]
     pub method: Option<MethodName>,
     /// What min-area sizes against: paths (every conducting path as if it conducted alone) or
     /// vectors (every input vector, with everything it turns on: less W/L where inputs repeat; a
     /// convex program, up to 16 inputs) [default: paths]. Longest-path is a rule, not an optimum,
-    /// and takes paths only; so does elmore, for now.
+    /// and takes paths only. With elmore: every path as if it conducted alone (a geometric program,
+    /// solved to optimality), or every input vector (a sequence of convex approximations: a local
+    /// optimum, its target checked on every vector).
     #[arg(long, value_enum, value_name = "WHAT")]
     pub worst_case: Option<WorstCase>,
     /// Mobility ratio mu_n / mu_p (real processes run about 2 to 3) [default: the process's, 2 for
@@ -151,6 +153,11 @@ pub struct SizingArgs {
     /// raised where a device would fall below the process's minimum width [default: 4].
     #[arg(long, value_name = "F", value_parser = positive_number, allow_hyphen_values = true)]
     pub stage_effort: Option<f64>,
+    /// With --method elmore: the worst Elmore delay allowed, as a ratio to the reference inverter's
+    /// driving the same load (1 = as fast as the reference) [default: the ratio longest-path sizing
+    /// reaches at that load, so the method is never slower than the classic rule].
+    #[arg(long, value_name = "RATIO", value_parser = positive_number, allow_hyphen_values = true)]
+    pub delay_target: Option<f64>,
 }
 
 impl SizingArgs {
@@ -307,6 +314,13 @@ pub fn plan(args: &GateArgs, order: StackOrder, timed: Timed) -> Result<Plan, Er
     let mobility_ratio = given.mobility_ratio.unwrap_or(process.mobility_ratio);
     let drive = given.drive.unwrap_or(1.0);
     let method = given.method()?;
+    if given.delay_target.is_some() && !method.sizes_by_delay() {
+        return Err(Error::NotApplicable {
+            option: "--delay-target",
+            case: "without --method elmore",
+            why: "only the elmore method sizes for a delay; add --method elmore",
+        });
+    }
     let order = Order::new(order, args.critical.clone()).map_err(SizingError::from)?;
     let process_file = given.process.as_ref().map(|_| &process);
     let diffusion_ratio = match timed.diffusion_ratio {
@@ -323,6 +337,7 @@ pub fn plan(args: &GateArgs, order: StackOrder, timed: Timed) -> Result<Plan, Er
         name: args.name.clone(),
         budget: args.work_budget,
         stage_effort: given.stage_effort.unwrap_or(crate::sizing::plan::DEFAULT_STAGE_EFFORT),
+        delay_target: given.delay_target,
         ..Plan::new(method, mobility_ratio, drive, given.reference)
     };
     plan.check().map_err(SizingError::from)?;

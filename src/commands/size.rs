@@ -30,6 +30,12 @@ pub struct Args {
     /// Where to write.
     #[command(flatten)]
     pub output: OutputFile,
+    /// Print the elmore method's trade-off instead of one sizing: the least total W/L for each delay
+    /// target from the ratio longest-path sizing reaches down to the least reachable within 10x its
+    /// total W/L, with longest-path and min-area beside it (table, csv, json, or svg: a plot), at the
+    /// load given (default fan-out 1).
+    #[arg(long)]
+    pub tradeoff: bool,
     /// CSV rows (with --format csv only): one per gate, per transistor, per input, or per input and
     /// output edge (delays) [default: devices].
     #[arg(long, value_enum)]
@@ -48,12 +54,12 @@ pub enum Format {
     /// A SPICE subcircuit per gate.
     Spice,
     /// The sized cell's schematic as a plain SVG picture: every device with its W/L, the weakest
-    /// path of each network marked.
+    /// path of each network marked; with --tradeoff, the trade-off plot.
     Svg,
 }
 
 impl Format {
-    /// The writers' format for the report; `None` for the schematic, which its own writer draws.
+    /// The writers' format for the report; `None` for the pictures, which their own writers draw.
     fn report(self) -> Option<output::Format> {
         match self {
             Format::Table => Some(output::Format::Table),
@@ -92,6 +98,27 @@ impl From<Rows> for output::Rows {
 /// Refuse what does not apply to the format asked for: rows where there are none, delay options
 /// where nothing shows delays and they do not change the sizing.
 fn check_applies(args: &Args) -> Result<(), Error> {
+    if args.tradeoff {
+        let refused = [
+            (args.format == Format::Spice, "--format spice", "a netlist holds one sizing, the curve many"),
+            (args.rows.is_some(), "--rows", "the trade-off's CSV has one row per point"),
+            (args.gate.sizing.delay_target.is_some(), "--delay-target", "the curve covers every delay target"),
+            (
+                args.gate.sizing.worst_case == Some(crate::sizing::WorstCase::Vectors),
+                "--worst-case vectors",
+                "the curve is the geometric program over paths; size one target against every vector with \
+                 --method elmore --worst-case vectors --delay-target RATIO",
+            ),
+            (
+                args.delay.stack_order == Some(StackOrder::Search),
+                "--stack-order search",
+                "the curve is drawn on one stack order: give default or written",
+            ),
+        ];
+        if let Some((_, option, why)) = refused.into_iter().find(|(given, _, _)| *given) {
+            return Err(Error::NotApplicable { option, case: "with --tradeoff", why });
+        }
+    }
     if args.rows.is_some() && args.format != Format::Csv {
         return Err(Error::NotApplicable {
             option: "--rows",
@@ -124,7 +151,10 @@ fn check_applies(args: &Args) -> Result<(), Error> {
 /// then write it.
 pub fn run(args: Args) -> Result<(), Error> {
     check_applies(&args)?;
-    let Args { expression, gate, delay, format, output, rows } = args;
+    if args.tradeoff {
+        return run_tradeoff(args);
+    }
+    let Args { expression, gate, delay, format, output, rows, .. } = args;
     let rows = rows.unwrap_or(Rows::Devices);
     let timed = delay.wanted() || gate.sizing.sizes_by_delay() || rows == Rows::Delays;
     // Untimed, only the stack order of the delay options matters.
@@ -151,6 +181,9 @@ pub fn run(args: Args) -> Result<(), Error> {
         let report = CellReport::of(&cell);
         (cell, report)
     };
+    for warning in output::warnings::of(&sized) {
+        crate::io::diagnose(&crate::diagnostic::Diagnostic::warning(warning).render());
+    }
     let Some(format) = format.report() else {
         let layout = schematic_cell::layout(&cell, &sized.figures)?;
         crate::io::write_output(output.output.as_deref(), |out| layout.write_svg(out))?;
@@ -159,6 +192,39 @@ pub fn run(args: Args) -> Result<(), Error> {
     let rows = rows.into();
     crate::io::write_output(output.output.as_deref(), |out| {
         output::write_gates(std::slice::from_ref(&sized), format, rows, out)
+    })?;
+    Ok(())
+}
+
+/// `size --tradeoff`: the elmore method's curve for the form of least total W/L.
+fn run_tradeoff(args: Args) -> Result<(), Error> {
+    let Args { expression, gate, delay, format, output, .. } = args;
+    let conditions = Timed { load: delay.load(), diffusion_ratio: delay.diffusion_ratio, matter: true };
+    let plan = super::plan(&gate, delay.stack_order.unwrap_or_default(), conditions)?;
+    let text = super::expression_text(&expression)?;
+    let forms = super::read_cells(&text, &plan, gate.pull_up.as_deref())?;
+    let cell = crate::sizing::size_best(&forms, &plan)?;
+    let meter = crate::budget::Meter::new(plan.budget);
+    let tradeoff = crate::sizing::tradeoff::tradeoff(&cell.logic, &plan, &meter)?;
+    let load = match plan.conditions.load {
+        crate::sizing::Load::Fanout(h) => format!("fan-out {}", output::number(h)),
+        crate::sizing::Load::Units(c) => format!("{} C", output::number(c)),
+        crate::sizing::Load::Femtofarads(ff) => format!("{} fF", output::number(ff)),
+    };
+    let figures = CellFigures::of(&cell);
+    let report = output::tradeoff::TradeoffReport {
+        gate: figures.name.clone(),
+        expression: figures.expression.clone(),
+        load,
+        diffusion_ratio: plan.conditions.diffusion_ratio,
+        tradeoff,
+    };
+    crate::io::write_output(output.output.as_deref(), |out| match format {
+        Format::Table => output::tradeoff::write_table(&report, out),
+        Format::Csv => output::tradeoff::write_csv(&report, out),
+        Format::Json => output::tradeoff::write_json(&report, out),
+        Format::Svg => output::tradeoff::write_svg(&report, out),
+        Format::Spice => Err(std::io::Error::other("a netlist holds one sizing")),
     })?;
     Ok(())
 }

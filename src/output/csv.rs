@@ -131,7 +131,7 @@ pub fn write_gates(gates: &[CellReport], rows: Rows, out: &mut dyn Write) -> io:
 
 /// The `csv` crate wraps a failed write in its own error; give back the write's own error, so a
 /// reader that closes the pipe early is seen as such.
-fn into_io(error: csv::Error) -> io::Error {
+pub(crate) fn into_io(error: csv::Error) -> io::Error {
     match error.into_kind() {
         csv::ErrorKind::Io(error) => error,
         other => io::Error::other(format!("{other:?}")),

@@ -14,7 +14,9 @@ pub mod spice;
 pub mod summary;
 pub mod svg;
 pub mod table;
+pub mod tradeoff;
 pub mod verify;
+pub mod warnings;
 
 use std::io::{self, Write};
 
@@ -106,7 +108,11 @@ pub fn sizing_line(gate: &CellFigures) -> String {
     format!(
         "{} sizing{}, mobility ratio {}, drive {}, reference inverter NMOS {} PMOS {} (W/L)",
         gate.method.name(),
-        if gate.worst_case == crate::sizing::WorstCase::Vectors { " against every input vector" } else { "" },
+        match (gate.worst_case, gate.method.sizes_by_delay()) {
+            (crate::sizing::WorstCase::Vectors, false) => " against every input vector",
+            (crate::sizing::WorstCase::Vectors, true) => " against every input vector (a local optimum)",
+            _ => "",
+        },
         number(gate.mobility_ratio),
         number(gate.drive),
         number(gate.reference_nmos_w_over_l),

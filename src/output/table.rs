@@ -117,7 +117,9 @@ fn write_gate(report: &CellReport, out: &mut dyn Write) -> io::Result<()> {
         ]);
     }
     write_columns(&rows, out)?;
-    let sized_to_vectors = gate.worst_case == WorstCase::Vectors;
+    // Min-area over vectors sizes each network to its exact worst resistance; the elmore method over
+    // vectors sizes for delay, so its networks report the exact worst beside the path value.
+    let sized_to_vectors = gate.worst_case == WorstCase::Vectors && !gate.method.sizes_by_delay();
     for network in &gate.networks {
         if let Some(exact) = &network.exact_worst
             && (exact.resistance - network.worst_resistance).abs() > 1e-9

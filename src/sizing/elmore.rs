@@ -1,7 +1,9 @@
 //! The elmore method, a sizing strategy that calls timing: the least total W/L such that every
-//! worst-case Elmore delay is at most the reference inverter's driving the same load, as a geometric
-//! program over the W/L of every device, built from timing's delay posynomials
-//! ([`crate::timing::posynomial`]) and solved by [`crate::optimize::geometric`].
+//! worst-case Elmore delay is at most the delay target times the reference inverter's driving the
+//! same load, within a cap on the total W/L ([`crate::sizing::target`]), as a geometric program over
+//! the W/L of every device, built from timing's delay posynomials ([`crate::timing::posynomial`]) and
+//! solved by [`crate::optimize::geometric`]; or, the same program's other question, the least worst
+//! delay ratio within the cap.
 //!
 //! The constraints are every transition through one path that conducts alone, of every input on
 //! both edges (each such path, with each input on it), which include the worst cases timing
@@ -15,16 +17,16 @@ use crate::sizing::build;
 use crate::sizing::error::SizingError;
 use crate::sizing::plan::{Load, Plan};
 use crate::sizing::rules::{self, Rule};
+use crate::sizing::target::{self, Goal, Optimum};
 use crate::timing::circuit::{Circuit, chain, reference_delay};
 use crate::timing::delays::{input_loads, worst_transitions};
 use crate::timing::error::TimingError;
 use crate::timing::posynomial::{PathTransition, Variables, delay_posynomial, path_transitions};
 use crate::timing::report::Edge;
-use crate::timing::transition::lone_path;
 
 /// Most transistors (both networks) a gate may have for the elmore method: its Newton steps are dense.
 pub const MAX_DEVICES: usize = 96;
-/// Every width stays within this factor of its longest-path width, either way.
+/// No width goes above this factor times its longest-path width (the cap on the total W/L binds first).
 pub const BOX: f64 = 1e4;
 
 /// Whether `a >= b` everywhere because every term of `b` is in `a` with at least its coefficient.
@@ -81,6 +83,8 @@ struct Setup<'a> {
     /// device.
     longest: Vec<f64>,
     start: Vec<f64>,
+    /// The most total W/L: [`target::CAP`] times the longest-path total.
+    cap: f64,
 }
 
 impl<'a> Setup<'a> {
@@ -99,7 +103,8 @@ impl<'a> Setup<'a> {
             start.extend(rules::widths(&sized.network, Rule::MinArea, reference));
         }
         let variables = Variables::of(&circuit);
-        let setup = Setup { stage, plan, circuit, variables, transitions: Vec::new(), longest, start };
+        let cap = target::CAP * longest.iter().sum::<f64>();
+        let setup = Setup { stage, plan, circuit, variables, transitions: Vec::new(), longest, start, cap };
         let loads = setup.loads(None)?;
         for input in 0..stage.function.inputs.len() {
             let load = match &loads {
@@ -113,21 +118,13 @@ impl<'a> Setup<'a> {
                     value: load,
                 });
             }
-            for edge in Edge::BOTH {
-                if lone_path(stage, plan, input, edge.network(), &Meter::unlimited())?.is_none() {
-                    return Err(SizingError::NoSinglePath {
-                        input: stage.function.inputs[input].clone(),
-                        edge: edge.name(),
-                    });
-                }
-            }
         }
         let transitions = path_transitions(stage, plan, &setup.circuit)?;
         Ok(Setup { transitions, ..setup })
     }
 
     /// The plan's load as the program sees it, a fan-out's bounds condensed at `point` (else at the
-    /// start, the min-area widths).
+    /// longest-path widths, so that they stay feasible for a target they meet).
     fn loads(&self, point: Option<&[f64]>) -> Result<Loads, SizingError> {
         Ok(match self.plan.conditions.load {
             Load::Fanout(h) => {
@@ -135,7 +132,7 @@ impl<'a> Setup<'a> {
                 for (index, device) in self.circuit.devices.iter().enumerate() {
                     devices[device.input].push(index);
                 }
-                Loads::Fanout { h, devices, point: point.unwrap_or(&self.start).to_vec() }
+                Loads::Fanout { h, devices, point: point.unwrap_or(&self.longest).to_vec() }
             }
             load => Loads::Fixed(input_loads(self.stage, self.plan, load)?),
         })
@@ -205,11 +202,13 @@ impl<'a> Setup<'a> {
         }
     }
 
-    /// The program with `loads`, started at the min-area widths, refused as soon as
+    /// The program with `loads` for `goal`, started at the min-area widths, refused as soon as
     /// the constraints built so far make the solver's Newton steps, as many as it may take, pass the
     /// work budget of `meter` ([`geometric::solve_within`] would refuse the whole program the same
-    /// way, after building all of it). Also gives, per constraint, its input and edge.
-    fn program(&self, loads: &Loads, meter: &Meter) -> Result<(Program, Vec<(usize, Edge)>), SizingError> {
+    /// way, after building all of it). Also gives, per constraint, its input and edge. The total W/L
+    /// is held within the cap (a hard constraint: the start, min-area's widths, is well inside it).
+    /// For [`Goal::Ratio`] the last variable is the worst ratio, the objective.
+    fn program(&self, loads: &Loads, goal: Goal, meter: &Meter) -> Result<(Program, Vec<(usize, Edge)>), SizingError> {
         let devices = self.circuit.devices.len();
         let variables = &self.variables;
         let mut constraints: Vec<Posynomial> = Vec::with_capacity(self.transitions.len());
@@ -218,14 +217,25 @@ impl<'a> Setup<'a> {
         let mut group_start = 0;
         // The Newton step's work: the objective, the box, the hard constraints, then each chain's
         // constraints once they are final (the next chain's first transition comes).
-        let variable_count = variables.count();
-        let objective = objective(devices);
-        let hard = variables.bounds();
+        let ratio_variable = matches!(goal, Goal::Ratio).then_some(variables.count());
+        let variable_count = variables.count() + usize::from(ratio_variable.is_some());
+        let total = objective(devices);
+        let objective = match ratio_variable {
+            Some(t) => Posynomial { terms: vec![Monomial { coefficient: 1.0, exponents: vec![(t, 1.0)] }] },
+            None => total.clone(),
+        };
+        let mut hard = variables.bounds();
+        let mut cap = total;
+        cap.terms.iter_mut().for_each(|term| term.coefficient /= self.cap);
+        hard.push(cap);
         let mut step = hard.iter().chain([&objective]).fold(geometric::base_work(variable_count).0, |total, p| {
             total + geometric::posynomial_work(p, variable_count).0
         });
         for transition in &self.transitions {
-            let posynomial = self.constraint(transition, loads)?;
+            let mut posynomial = self.constraint(transition, loads)?;
+            if let Goal::Area { ratio } = goal {
+                posynomial.terms.iter_mut().for_each(|term| term.coefficient /= ratio);
+            }
             // Of two transitions on one path, one whose every term another has, with at least its
             // coefficient, never binds (typically: the input nearest the rail charges the most nodes).
             let key = (transition.edge, transition.chain.as_slice());
@@ -262,7 +272,10 @@ impl<'a> Setup<'a> {
                 chains.push(key);
             }
         }
-        let mut lower: Vec<f64> = self.longest.iter().map(|w| w / BOX).collect();
+        // No width below the process's minimum (as W/L), or the longest-path width where that is
+        // smaller: a device no constraint needs keeps a drawable width.
+        let minimum = self.plan.process.min_width_nm / self.plan.process.unit_width_nm;
+        let mut lower: Vec<f64> = self.longest.iter().map(|&w| w.min(minimum)).collect();
         let mut upper: Vec<f64> = self.longest.iter().map(|w| w * BOX).collect();
         // A shared diffusion's variable starts above its wider device and may go anywhere its devices
         // may (and a little beyond, so that the box never holds it).
@@ -270,15 +283,27 @@ impl<'a> Setup<'a> {
             lower.push(lower[first].min(lower[second]));
             upper.push(2.0 * upper[first].max(upper[second]));
         }
-        let mut start = variables.at(&self.start);
+        let floor = lower.clone();
+        let mut start = variables.at(&self.start.iter().zip(&floor).map(|(w, f)| w.max(f * 1.01)).collect::<Vec<_>>());
         start[devices..].iter_mut().for_each(|t| *t *= 1.25);
+        if let Some(t) = ratio_variable {
+            // The ratio starts above the worst constraint at the start, so the program starts inside.
+            let worst = constraints.iter().map(|c| c.value(&start)).fold(1e-6, f64::max);
+            for constraint in &mut constraints {
+                constraint.terms.iter_mut().for_each(|term| term.exponents.push((t, -1.0)));
+            }
+            lower.push(RATIO_RANGE.0);
+            upper.push(RATIO_RANGE.1);
+            start.push((2.0 * worst).clamp(RATIO_RANGE.0 * 10.0, RATIO_RANGE.1 / 10.0));
+        }
         let program = Program { variables: variable_count, objective, constraints, hard, lower, upper, start };
         Ok((program, labels))
     }
 
-    /// The worst transitions (by the one rule, at these widths) above their bounds that the program
-    /// does not hold yet and can: those whose conducting network is a tree rooted at the rail.
-    fn cuts(&self, widths: &[f64], meter: &Meter) -> Result<Vec<PathTransition>, SizingError> {
+    /// The worst transitions (by the one rule, at these widths) above `ratio` times their bounds
+    /// that the program does not hold yet and can: those whose conducting network is a tree rooted
+    /// at the rail.
+    fn cuts(&self, widths: &[f64], ratio: f64, meter: &Meter) -> Result<Vec<PathTransition>, SizingError> {
         let split = self.stage.networks.pull_down.widths.len();
         let widths = Sides::new(widths[..split].to_vec(), widths[split..].to_vec());
         let networks = self.stage.networks.as_ref().map(|_, n| n.network.clone());
@@ -287,7 +312,7 @@ impl<'a> Setup<'a> {
         let mut cuts = Vec::new();
         for (input, edge, load, transition) in found {
             let Some(transition) = transition else { continue };
-            let bound = reference_delay(self.plan, self.plan.conditions.diffusion_ratio, edge, load);
+            let bound = ratio * reference_delay(self.plan, self.plan.conditions.diffusion_ratio, edge, load);
             if transition.elmore <= bound * (1.0 + CUT_TOLERANCE) || !transition.tree {
                 continue;
             }
@@ -301,8 +326,14 @@ impl<'a> Setup<'a> {
         Ok(cuts)
     }
 
-    /// Solve a program: the optimum's variables, or why there is none.
-    fn solve(&self, program: &Program, labels: &[(usize, Edge)], meter: &Meter) -> Result<Vec<f64>, SizingError> {
+    /// Solve a program for `goal`: the optimum's variables, or why there is none.
+    fn solve(
+        &self,
+        program: &Program,
+        labels: &[(usize, Edge)],
+        goal: Goal,
+        meter: &Meter,
+    ) -> Result<Vec<f64>, SizingError> {
         let devices = self.circuit.devices.len();
         let outcome = geometric::solve_within(program, meter).map_err(|error| match error {
             SolveError::OverBudget(over) => SizingError::OverBudget(over),
@@ -310,16 +341,24 @@ impl<'a> Setup<'a> {
         })?;
         match outcome {
             Outcome::Optimal { x, at_bound, .. } => {
-                // Only the widths' box counts (a shared diffusion's variable follows its devices).
-                if at_bound.iter().any(|&variable| variable < devices) {
+                // Only the widths' upper bounds count (a shared diffusion's variable follows its
+                // devices; a width at the process's minimum is where the optimum puts it).
+                if at_bound.iter().any(|&variable| variable < devices && x[variable] > self.longest[variable]) {
                     return Err(SizingError::Unbounded { factor: BOX });
                 }
                 Ok(x)
             }
             Outcome::Infeasible { least_worst, worst_constraint } => {
                 let (input, edge) = labels[worst_constraint];
+                let target = match goal {
+                    Goal::Area { ratio } => ratio,
+                    Goal::Ratio => 1.0,
+                };
                 Err(SizingError::Infeasible {
-                    ratio: least_worst,
+                    target,
+                    best: least_worst * target,
+                    cap: self.cap,
+                    cap_factor: target::CAP,
                     input: self.stage.function.inputs[input].clone(),
                     edge: edge.name(),
                 })
@@ -328,18 +367,93 @@ impl<'a> Setup<'a> {
     }
 }
 
+/// The range the worst ratio may take in [`Goal::Ratio`]'s program.
+const RATIO_RANGE: (f64, f64) = (1e-9, 1e9);
+
 /// The elmore method's program for a stage whose structure (stack order) is that of `stage`, under
-/// `plan` (its load and diffusion ratio; a fan-out's bounds condensed at the min-area widths). Also
-/// gives, per constraint, its input and edge.
-pub fn program(stage: &SizedStage, plan: &Plan) -> Result<(Program, Vec<(usize, Edge)>), SizingError> {
+/// `plan` (its load and diffusion ratio; a fan-out's bounds condensed at the longest-path widths),
+/// for `goal`. Also gives, per constraint, its input and edge.
+pub fn program(stage: &SizedStage, plan: &Plan, goal: Goal) -> Result<(Program, Vec<(usize, Edge)>), SizingError> {
     let setup = Setup::new(stage, plan)?;
     let loads = setup.loads(None)?;
-    setup.program(&loads, &Meter::unlimited())
+    setup.program(&loads, goal, &Meter::unlimited())
 }
 
 /// The elmore method's widths for the structure (stack order) of `structure`, a stage sized by
 /// the longest-path rule in the chosen order: the least total W/L with every worst-case Elmore delay
-/// at most the reference inverter's driving the same load.
+/// at most the plan's delay target (by default the ratio the longest-path widths reach,
+/// [`target::classic_ratio`]) times the reference inverter's driving the same load, within the cap.
+pub fn widths(structure: &SizedStage, plan: &Plan, meter: &Meter) -> Result<Sides<Vec<f64>>, SizingError> {
+    let ratio = match plan.delay_target {
+        Some(ratio) => ratio,
+        None => target::classic_ratio(structure, plan, meter)?,
+    };
+    let optimum = match optimum(structure, plan, Goal::Area { ratio }, None, meter) {
+        Ok(optimum) => optimum,
+        // With a fan-out load the first program's bounds are condensed at the longest-path widths,
+        // below the true ones elsewhere: the least ratio within the cap, timed by the one rule, says
+        // whether the target is reachable; if it is, the program starts again from those widths.
+        Err(SizingError::Infeasible { input, edge, cap, cap_factor, .. }) => {
+            let fastest = optimum(structure, plan, Goal::Ratio, None, meter)?;
+            let best = target::worst_ratio(&stage_at(structure, &fastest.widths, plan)?, plan, meter)?;
+            if best > ratio {
+                return Err(SizingError::Infeasible { target: ratio, best, cap, cap_factor, input, edge });
+            }
+            optimum(structure, plan, Goal::Area { ratio }, Some(&fastest.widths), meter)?
+        }
+        Err(error) => return Err(error),
+    };
+    let split = structure.networks.pull_down.widths.len();
+    Ok(Sides::new(optimum.widths[..split].to_vec(), optimum.widths[split..].to_vec()))
+}
+
+/// One step of the sequence of convex approximations (`--worst-case vectors`): the program at
+/// `ratio` with a fan-out's bounds condensed at `x` (device widths), `extra` constraints (each a
+/// monomial approximation of a transition's delay ratio over the target, with its input and edge)
+/// and every width within `trust` of `x` either way, started at `x`. Gives the optimum's widths.
+pub fn trust_step(
+    structure: &SizedStage,
+    plan: &Plan,
+    ratio: f64,
+    x: &[f64],
+    extra: &[(Posynomial, (usize, Edge))],
+    trust: f64,
+    meter: &Meter,
+) -> Result<Vec<f64>, SizingError> {
+    let setup = Setup::new(structure, plan)?;
+    let devices = setup.circuit.devices.len();
+    let loads = setup.loads(Some(x))?;
+    let goal = Goal::Area { ratio };
+    let (mut program, mut labels) = setup.program(&loads, goal, meter)?;
+    for (constraint, label) in extra {
+        program.constraints.push(constraint.clone());
+        labels.push(*label);
+    }
+    for (j, &w) in x.iter().enumerate() {
+        program.lower[j] = program.lower[j].max(w / trust);
+        program.upper[j] = program.upper[j].min(w * trust);
+    }
+    let mut start = setup.variables.at(x);
+    start[devices..].iter_mut().for_each(|t| *t *= 1.25);
+    for (j, value) in start.iter().enumerate() {
+        let (low, high) = (program.lower[j], program.upper[j]);
+        program.start[j] = if *value > low && *value < high { *value } else { (low * high).sqrt() };
+    }
+    let x = setup.solve(&program, &labels, goal, meter)?;
+    Ok(x[..devices].to_vec())
+}
+
+/// The stage of `structure`'s networks at these widths (pull-down first).
+pub fn stage_at(structure: &SizedStage, widths: &[f64], plan: &Plan) -> Result<SizedStage, SizingError> {
+    let split = structure.networks.pull_down.widths.len();
+    let widths = Sides::new(widths[..split].to_vec(), widths[split..].to_vec());
+    let networks = structure.networks.as_ref().map(|_, n| n.network.clone());
+    build::stage(&structure.function, structure.role, networks, widths, plan)
+}
+
+/// The optimum of `goal` for the structure (stack order) of `structure`; with a fan-out load the
+/// bounds are first condensed at `from` (widths, pull-down first), else at the longest-path widths:
+/// widths that meet the target there keep the first program feasible.
 ///
 /// The program starts from the transitions through one path that conducts alone; each optimum is
 /// then timed by the one worst-transition rule, and every worst transition above its bound whose
@@ -347,41 +461,55 @@ pub fn program(stage: &SizedStage, plan: &Plan) -> Result<(Program, Vec<(usize, 
 /// its own, until none is left (a cutting plane), or the rounds run out and the last optimum stands
 /// (its delays, as reported, say by how much a bound is missed). With a fan-out load, each round
 /// also condenses the bounds at the last optimum, until the total W/L settles.
-pub fn widths(structure: &SizedStage, plan: &Plan, meter: &Meter) -> Result<Sides<Vec<f64>>, SizingError> {
+pub fn optimum(
+    structure: &SizedStage,
+    plan: &Plan,
+    goal: Goal,
+    from: Option<&[f64]>,
+    meter: &Meter,
+) -> Result<Optimum, SizingError> {
     let devices: usize = structure.networks.values().map(|n| n.widths.len()).sum();
     if devices > MAX_DEVICES {
         return Err(SizingError::TooLarge { count: devices, limit: MAX_DEVICES });
     }
     let mut setup = Setup::new(structure, plan)?;
-    let mut loads = setup.loads(None)?;
+    let mut loads = setup.loads(from)?;
     let fanout = matches!(loads, Loads::Fanout { .. });
-    let mut last: Option<(Vec<f64>, f64)> = None;
+    let mut last: Option<(Vec<f64>, f64, Program)> = None;
     for round in 0..MAX_ROUNDS {
-        let (program, labels) = setup.program(&loads, meter)?;
-        let x = match setup.solve(&program, &labels, meter) {
+        let (program, labels) = setup.program(&loads, goal, meter)?;
+        let x = match setup.solve(&program, &labels, goal, meter) {
             Ok(x) => x,
             // A later round the solver cannot finish (a bound condensed where it is already tight can
             // leave it no interior to start from) ends the refinement with the last optimum.
             Err(SizingError::Solver(SolveError::Stalled | SolveError::Singular)) if round > 0 => break,
             Err(error) => return Err(error),
         };
-        let total: f64 = x[..devices].iter().sum();
+        let value = program.objective.value(&x);
+        let ratio = match goal {
+            Goal::Area { ratio } => ratio,
+            Goal::Ratio => value,
+        };
         let settled =
-            !fanout || last.as_ref().is_some_and(|(_, before)| (before - total).abs() <= ROUND_TOLERANCE * total);
-        let cuts = setup.cuts(&x[..devices], meter)?;
+            !fanout || last.as_ref().is_some_and(|(_, before, _)| (before - value).abs() <= ROUND_TOLERANCE * value);
+        let cuts = setup.cuts(&x[..devices], ratio, meter)?;
         let done = cuts.is_empty() && settled;
         setup.transitions.extend(cuts);
         if fanout {
             loads = setup.loads(Some(&x[..devices]))?;
         }
-        last = Some((x, total));
+        last = Some((x, value, program));
         if done {
             break;
         }
     }
-    let (x, _) = last.ok_or(SizingError::Solver(SolveError::Stalled))?;
-    let split = structure.networks.pull_down.widths.len();
-    Ok(Sides::new(x[..split].to_vec(), x[split..devices].to_vec()))
+    let (x, value, program) = last.ok_or(SizingError::Solver(SolveError::Stalled))?;
+    let total = x[..devices].iter().sum();
+    let ratio = match goal {
+        Goal::Area { ratio } => ratio,
+        Goal::Ratio => value,
+    };
+    Ok(Optimum { widths: x[..devices].to_vec(), total, ratio, cap: setup.cap, program })
 }
 
 #[cfg(test)]

@@ -115,26 +115,45 @@ pub enum SizingError {
         /// The limit.
         limit: usize,
     },
-    /// An input whose worst case needs more than one path on at once (repeated inputs).
+    /// No widths within the cap meet every delay bound.
     #[error(
-        "the elmore method needs every input to switch the output through one path alone; input '{input}' \
-         ({edge}) cannot (repeated inputs): factor the expression"
-    )]
-    NoSinglePath {
-        /// The input.
-        input: String,
-        /// The edge.
-        edge: &'static str,
-    },
-    /// No widths meet every delay bound.
-    #[error(
-        "no widths make every Elmore delay at most the reference inverter's: the best is {ratio:.4} times it \
-         (input '{input}', {edge}); a larger load or less diffusion capacitance makes it feasible"
+        "no widths within {} times the longest-path total W/L ({} W/L) make every Elmore delay at most {} times \
+         the reference inverter's: the best ratio reached within it is {} (input '{input}', {edge}); a larger \
+         --delay-target, a larger load or less diffusion capacitance makes it feasible",
+        crate::number::format(*cap_factor),
+        crate::number::format(*cap),
+        crate::number::format(*target),
+        crate::number::format(*best)
     )]
     Infeasible {
-        /// Least achievable worst ratio of delay to bound.
-        ratio: f64,
-        /// The input of the transition that keeps it above 1.
+        /// The delay target asked for.
+        target: f64,
+        /// The least worst ratio of delay to the reference's reached within the cap.
+        best: f64,
+        /// The cap on the total W/L.
+        cap: f64,
+        /// The cap, as a multiple of the longest-path total.
+        cap_factor: f64,
+        /// The input of the transition that keeps it above the target.
+        input: String,
+        /// Its edge.
+        edge: &'static str,
+    },
+    /// The sequence of convex approximations against every input vector stopped with a vector above
+    /// the target.
+    #[error(
+        "sizing for delay against every input vector did not converge: its last point (a local search) leaves \
+         a worst delay ratio of {} (input '{input}', {edge}) above the target {}; a larger --delay-target, or \
+         --worst-case paths",
+        crate::number::format(*best),
+        crate::number::format(*target)
+    )]
+    VectorsNotMet {
+        /// The delay target.
+        target: f64,
+        /// The worst ratio at the last point.
+        best: f64,
+        /// The input of the worst transition there.
         input: String,
         /// Its edge.
         edge: &'static str,
@@ -207,7 +226,10 @@ impl SizingError {
     /// converge; everything else is bad input, a limit or a budget (exit 2), or internal.
     pub fn is_check_failure(&self) -> bool {
         self.is_infeasible()
-            || matches!(self, SizingError::Solver(_) | SizingError::BelowMinimum { .. })
+            || matches!(
+                self,
+                SizingError::Solver(_) | SizingError::BelowMinimum { .. } | SizingError::VectorsNotMet { .. }
+            )
             || matches!(self, SizingError::Exact { error, .. } if !error.past_limit())
     }
 

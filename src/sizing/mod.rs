@@ -9,11 +9,14 @@
 pub mod build;
 pub mod cell;
 pub mod elmore;
+pub mod elmore_vectors;
 pub mod error;
 pub mod order;
 pub mod plan;
 pub mod rules;
 pub mod stage;
+pub mod target;
+pub mod tradeoff;
 pub mod vectors;
 
 use crate::budget::Meter;

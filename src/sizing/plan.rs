@@ -65,13 +65,6 @@ pub enum WorstCaseRefused {
          by min-area to size against every input vector"
     )]
     LongestPath,
-    /// The elmore method with the worst case over vectors (its constraints still start from paths).
-    #[error(
-        "the elmore method sizes against the worst case over paths only: its delay constraints over input \
-         vectors are not built yet; size by min-area to size against every input vector, or use the elmore \
-         method with the worst case over paths"
-    )]
-    Elmore,
 }
 
 /// How widths are chosen.
@@ -106,13 +99,13 @@ impl Method {
     ];
 
     /// The method a name gives with the worst case `worst_case`: refused for longest-path (a rule,
-    /// not an optimum) and, for now, the elmore method.
+    /// not an optimum).
     pub fn with(name: MethodName, worst_case: WorstCase) -> Result<Method, WorstCaseRefused> {
         match (name, worst_case) {
             (_, WorstCase::Paths) => Ok(Method::of(name)),
             (MethodName::MinArea, worst_case) => Ok(Method::MinArea { worst_case }),
+            (MethodName::Elmore, worst_case) => Ok(Method::Elmore { worst_case }),
             (MethodName::LongestPath, WorstCase::Vectors) => Err(WorstCaseRefused::LongestPath),
-            (MethodName::Elmore, WorstCase::Vectors) => Err(WorstCaseRefused::Elmore),
         }
     }
 
@@ -355,6 +348,9 @@ pub struct Plan {
     /// what it drives (docs/model.md section 9): its drive is its load over this times the unit
     /// reference inverter's input capacitance.
     pub stage_effort: f64,
+    /// The elmore method's delay target: the worst Elmore delay over the reference inverter's at the
+    /// same load; `None` is the ratio the longest-path rule reaches (docs/model.md section 12).
+    pub delay_target: Option<f64>,
 }
 
 /// The stage effort when none is given: 4, the usual design value (common practice, no source).
@@ -376,6 +372,7 @@ impl Plan {
             name: None,
             budget: DEFAULT_WORK_BUDGET,
             stage_effort: DEFAULT_STAGE_EFFORT,
+            delay_target: None,
         }
     }
 
@@ -424,6 +421,9 @@ impl Plan {
         ] {
             bounds::SIZING.check_named(what, value)?;
         }
+        if let Some(ratio) = self.delay_target {
+            bounds::SIZING.check_named("the delay target", ratio)?;
+        }
         Ok(())
     }
 }
@@ -462,7 +462,8 @@ mod tests {
         assert_eq!((vectors.name(), vectors.worst_case()), ("min-area", WorstCase::Vectors));
         assert_eq!(Method::with(MethodName::LongestPath, WorstCase::Vectors), Err(WorstCaseRefused::LongestPath));
         assert!(WorstCaseRefused::LongestPath.to_string().contains("a rule, not an optimum"));
-        assert_eq!(Method::with(MethodName::Elmore, WorstCase::Vectors), Err(WorstCaseRefused::Elmore));
+        let elmore = Method::with(MethodName::Elmore, WorstCase::Vectors).unwrap();
+        assert_eq!((elmore.name(), elmore.worst_case()), ("elmore", WorstCase::Vectors));
         for name in [MethodName::LongestPath, MethodName::MinArea, MethodName::Elmore] {
             assert_eq!(Method::with(name, WorstCase::Paths), Ok(Method::of(name)));
         }

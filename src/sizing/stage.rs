@@ -7,8 +7,9 @@ use crate::logic::StageLogic;
 use crate::network::{Network, Sides};
 use crate::sizing::build;
 use crate::sizing::elmore;
+use crate::sizing::elmore_vectors;
 use crate::sizing::error::SizingError;
-use crate::sizing::plan::{Method, Plan, WorstCase, WorstCaseRefused};
+use crate::sizing::plan::{Method, Plan, WorstCase};
 use crate::sizing::rules::{self, Rule};
 use crate::sizing::vectors;
 
@@ -56,20 +57,22 @@ pub fn size_stage(
             let networks = arrange(written, &widths, arrangement);
             build::stage(function, role, networks, widths, plan)
         }
-        Method::Elmore { worst_case: WorstCase::Vectors } => Err(WorstCaseRefused::Elmore.into()),
         Method::LongestPath | Method::MinArea { .. } => {
             let rule = if plan.method == Method::LongestPath { Rule::LongestPath } else { Rule::MinArea };
             let widths = rule_widths(&written, plan, rule);
             let networks = arrange(written, &widths, arrangement);
             build::stage(function, role, networks, widths, plan)
         }
-        Method::Elmore { worst_case: WorstCase::Paths } => {
+        Method::Elmore { worst_case } => {
             // The program runs on the structure the longest-path rule's order gives (or the order asked
             // for), starting from the min-area widths.
             let longest = rule_widths(&written, plan, Rule::LongestPath);
             let networks = arrange(written, &longest, arrangement);
             let structure = build::stage(function, role, networks.clone(), longest, plan)?;
-            let widths = elmore::widths(&structure, plan, meter)?;
+            let widths = match worst_case {
+                WorstCase::Paths => elmore::widths(&structure, plan, meter)?,
+                WorstCase::Vectors => elmore_vectors::widths(&structure, plan, meter)?,
+            };
             build::stage(function, role, networks, widths, plan)
         }
     }

@@ -162,6 +162,7 @@ fn delay(
         edge,
         elmore_rc: measured.elmore,
         elmore_ps: units.map(|u| measured.elmore * u.rc_ps),
+        t50_estimate_ps: units.map(|u| std::f64::consts::LN_2 * measured.elmore * u.rc_ps),
         load_c: load,
         reference_elmore_rc: reference,
         delay_ratio: measured.elmore / reference,

@@ -20,7 +20,7 @@ use crate::figures::NodeDiffusion;
 use crate::optimize::geometric::{Monomial, Posynomial};
 use crate::paths::{self, MAX_LISTED_PATHS};
 use crate::sizing::plan::Plan;
-use crate::timing::circuit::{Circuit, Conducting, OUTPUT, conducting};
+use crate::timing::circuit::{Circuit, Conducting, OUTPUT, conducting, rail_of};
 use crate::timing::error::{NetworkFault, TimingError};
 use crate::timing::report::Edge;
 
@@ -34,8 +34,9 @@ pub struct PathTransition {
     pub chain: Vec<usize>,
 }
 
-/// Every transition through one path that conducts alone: each such path of each network, with
-/// each distinct input on it switching.
+/// Every path of each network, with each distinct input on it switching: under the vector that
+/// makes it conduct alone, with whatever side branches that vector connects; where repeated inputs
+/// leave no such vector, the path as if it conducted alone, every node on it charged.
 pub fn path_transitions(
     stage: &SizedStage,
     plan: &Plan,
@@ -56,7 +57,19 @@ pub fn path_transitions(
         }
         let resistance = plan.resistances(kind, &stage.networks[kind].widths);
         for path in paths::list(network, &resistance, MAX_LISTED_PATHS) {
-            let Some(after) = paths::sensitize(network, &path.devices, inputs) else { continue };
+            let chain: Vec<usize> = path.devices.iter().map(|&d| circuit.offsets[kind] + d).collect();
+            let Some(after) = paths::sensitize(network, &path.devices, inputs) else {
+                let shape = alone(circuit, edge, &chain);
+                let mut seen = Vec::new();
+                for &device in &path.devices {
+                    let input = network.inputs[device];
+                    if !seen.contains(&input) {
+                        seen.push(input);
+                        out.push(PathTransition { input, edge, shape: shape.clone(), chain: chain.clone() });
+                    }
+                }
+                continue;
+            };
             let mut seen = Vec::new();
             for &device in &path.devices {
                 let input = network.inputs[device];
@@ -69,12 +82,19 @@ pub fn path_transitions(
                     edge: edge.name(),
                     why,
                 })?;
-                let chain = path.devices.iter().map(|&d| circuit.offsets[kind] + d).collect();
-                out.push(PathTransition { input, edge, shape, chain });
+                out.push(PathTransition { input, edge, shape, chain: chain.clone() });
             }
         }
     }
     Ok(out)
+}
+
+/// A path (circuit devices, output side first) conducting alone on `edge`, every node on it charged.
+fn alone(circuit: &Circuit, edge: Edge, chain: &[usize]) -> Conducting {
+    let mut nodes = vec![OUTPUT];
+    nodes.extend(chain[..chain.len().saturating_sub(1)].iter().map(|&d| circuit.devices[d].source));
+    let at_final = vec![false; nodes.len()];
+    Conducting { nodes, at_final, devices: chain.to_vec(), rail: rail_of(edge.network()) }
 }
 
 /// The program's variables: every circuit device's W/L, then one per shared diffusion standing

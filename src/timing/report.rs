@@ -107,8 +107,12 @@ pub struct Delay {
     pub edge: Edge,
     /// Elmore delay in units of RC.
     pub elmore_rc: f64,
-    /// Elmore delay in picoseconds, with a process.
+    /// The Elmore delay (the first moment of the step response, a time constant) in picoseconds,
+    /// with a process.
     pub elmore_ps: Option<f64>,
+    /// A single-pole estimate of the 50% delay, ln 2 x the Elmore delay, in picoseconds, with a
+    /// process.
+    pub t50_estimate_ps: Option<f64>,
     /// The load, in units of C.
     pub load_c: f64,
     /// The reference inverter's Elmore delay driving the same load, RC: the bound of the elmore method.
@@ -154,8 +158,8 @@ pub struct MethodDelay {
     pub worst_delay_ratio: Option<f64>,
     /// The transition with that ratio: `"input edge"`.
     pub worst_transition: Option<String>,
-    /// Whether every delay is at most the reference's (to 1e-9).
-    pub meets_delay_bound: bool,
+    /// Whether every delay is at most the delay target times the reference's (to 1e-6).
+    pub meets_delay_target: bool,
     /// Why it has no widths, where it has none (e.g. infeasible).
     pub note: Option<String>,
 }
@@ -181,6 +185,11 @@ pub struct DelayReport {
     pub timing: Timing,
     /// Longest-path, min-area and elmore side by side, on this cell's stack order.
     pub method_comparison: Vec<MethodDelay>,
+    /// The delay target the methods are held to (docs/model.md section 12): the plan's, or the
+    /// worst ratio the longest-path widths reach.
+    pub delay_target: f64,
+    /// Whether the target is the default (the longest-path ratio) rather than given.
+    pub delay_target_is_default: bool,
     /// The stack-order search, when asked for.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub stack_order: Option<StackOrderReport>,

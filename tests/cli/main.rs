@@ -5,6 +5,7 @@ mod batch;
 mod cells;
 mod deck;
 mod delay;
+mod elmore;
 mod limits;
 mod numbers;
 mod paths;

@@ -13,6 +13,7 @@ use widthwise::optimize::geometric::{self, Outcome, Program};
 use widthwise::paths;
 use widthwise::process::Process;
 use widthwise::size_text;
+use widthwise::sizing::target::Goal;
 use widthwise::sizing::{Conditions, Load, Method, Order, Plan, elmore};
 use widthwise::timing::circuit::{Circuit, flat_widths};
 use widthwise::timing::transition::{EVERY_VECTOR, time_vector};
@@ -269,7 +270,9 @@ fn stack_order_search_finds_the_faster_oai21() {
 const GATES: [&str; 8] = ["inv", "nand2", "nand3", "nor2", "nor3", "aoi21", "aoi22", "oai21"];
 
 fn elmore_sized(text: &str, load: Load, diffusion_ratio: f64) -> Result<SizedCell, widthwise::Error> {
-    size_text(text, &Plan { conditions: Conditions { load, diffusion_ratio }, ..options(Method::ELMORE) })
+    // The target 1: every delay at most the reference inverter's (docs/model.md section 12).
+    let conditions = Conditions { load, diffusion_ratio };
+    size_text(text, &Plan { conditions, delay_target: Some(1.0), ..options(Method::ELMORE) })
 }
 
 #[test]
@@ -331,13 +334,13 @@ fn infeasible_bounds_say_so() {
     // with them).
     let error = elmore_sized("nand3", Load::Units(5.0), 1.0).unwrap_err();
     assert_eq!(error.exit_code(), 1);
-    assert!(error.to_string().contains("no widths make every Elmore delay"), "{error}");
+    assert!(error.to_string().contains("make every Elmore delay at most 1 times"), "{error}");
 }
 
 /// Run scipy's SLSQP on each program (log variables, the same box), in one python3 process.
 /// `mode` "optimum" minimises the objective; "least-worst" minimises the largest constraint, the
 /// hard ones (a shared diffusion's variable above each of its devices) held at `<= 1`.
-fn scipy(programs: &[Program], mode: &str) -> Vec<serde_json::Value> {
+pub(super) fn scipy(programs: &[Program], mode: &str) -> Vec<serde_json::Value> {
     const SCRIPT: &str = r#"
 import json, sys
 import numpy as np
@@ -423,7 +426,7 @@ fn elmore_optimum_agrees_with_scipy() {
     let mut ours = Vec::new();
     for (text, load, ratio) in cases {
         let plan = Plan { conditions: Conditions { load, diffusion_ratio: ratio }, ..options(Method::ELMORE) };
-        let (program, _) = elmore::program(sized(text).stage(), &plan).unwrap();
+        let (program, _) = elmore::program(sized(text).stage(), &plan, Goal::Area { ratio: 1.0 }).unwrap();
         let Outcome::Optimal { objective, .. } = geometric::solve(&program).unwrap() else {
             panic!("{text} is feasible")
         };
@@ -458,7 +461,7 @@ fn infeasibility_margin_agrees_with_scipy() {
             conditions: Conditions { load: Load::Units(load), diffusion_ratio: 1.0 },
             ..options(Method::ELMORE)
         };
-        let (program, _) = elmore::program(sized(text).stage(), &plan).unwrap();
+        let (program, _) = elmore::program(sized(text).stage(), &plan, Goal::Area { ratio: 1.0 }).unwrap();
         let Outcome::Infeasible { least_worst, .. } = geometric::solve(&program).unwrap() else {
             panic!("{text} at {load} C is infeasible")
         };

@@ -6,6 +6,7 @@ mod deck_run;
 mod deck_simulation;
 mod delay;
 mod delay_ranking;
+mod elmore_target;
 mod models;
 mod netlist_names;
 mod published;
