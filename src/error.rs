@@ -9,6 +9,7 @@
 use thiserror::Error;
 
 use crate::budget::OverBudget;
+use crate::calibrate::CalibrateError;
 use crate::diagnostic::{Diagnostic, Source};
 use crate::exit::{EXIT_BAD_INPUT, EXIT_CHECK_FAILED};
 use crate::expr::error::ExprError;
@@ -111,6 +112,9 @@ pub enum Error {
     /// A deck run through ngspice that gave no delays.
     #[error(transparent)]
     Measure(#[from] MeasureError),
+    /// A calibration by simulation that did not succeed.
+    #[error(transparent)]
+    Calibrate(#[from] CalibrateError),
     /// A command name that is not one of widthwise's (`man-page NAME`).
     #[error("there is no command '{}': the commands are {commands}", crate::diagnostic::escaped(name))]
     NoSuchCommand {
@@ -168,6 +172,7 @@ impl Error {
             Error::Verify(error) => error.is_internal(),
             Error::Simulation(error) => return error.exit_code(),
             Error::Measure(error) => return error.exit_code(),
+            Error::Calibrate(error) => return error.exit_code(),
             Error::VerifyFailed(_) | Error::VariantsUnverified { .. } => true,
             Error::Expression { .. }
             | Error::Logic { .. }

@@ -13,6 +13,7 @@
 pub mod analysis;
 pub mod bounds;
 pub mod budget;
+pub mod calibrate;
 pub mod cell;
 pub mod cli;
 pub mod commands;

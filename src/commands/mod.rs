@@ -11,6 +11,7 @@ pub mod deck;
 pub mod man_page;
 pub mod paths;
 pub mod process;
+pub mod simulate;
 pub mod size;
 pub mod verify;
 

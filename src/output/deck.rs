@@ -20,7 +20,7 @@ use crate::timing::transition::WEAKEST_PATH;
 use super::number;
 use super::spice::{mosfet_line, transistor_line};
 
-mod geometry;
+pub(crate) mod geometry;
 mod library;
 mod physics;
 mod transitions;

@@ -2,6 +2,7 @@
 //! and reference tools (decks simulated by ngspice from Debian's packages, scipy from PyPI). Each
 //! check names its source beside it.
 
+mod calibrate;
 mod deck_run;
 mod deck_simulation;
 mod delay;
