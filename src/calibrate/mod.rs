@@ -12,6 +12,7 @@
 //! slowest transition. No calibrated stage takes more than the area cap times its first-order
 //! total W/L, and every simulator run counts against a budget.
 
+pub mod effort;
 pub mod reference;
 pub mod testbench;
 

@@ -138,12 +138,12 @@ pub fn edge(kind: NetworkKind) -> &'static str {
     }
 }
 
-fn seconds(value: f64) -> String {
+pub(crate) fn seconds(value: f64) -> String {
     let chosen: f64 = format!("{value:.4e}").parse().unwrap_or(value);
     number(chosen)
 }
 
-fn models_text(models: &Models, process: &Process, out: &mut String) -> [String; 2] {
+pub(crate) fn models_text(models: &Models, process: &Process, out: &mut String) -> [String; 2] {
     match models {
         Models::Process => {
             let _ = writeln!(out, "* Level-1 models from the process (LAMBDA=0, no parasitic capacitance).");
@@ -179,7 +179,7 @@ fn models_text(models: &Models, process: &Process, out: &mut String) -> [String;
 }
 
 /// The reference inverter's subcircuit `wwref a y vdd vss` at NMOS `n` and PMOS `p` W/L, drawn.
-fn reference_subckt(process: &Process, models: &[String; 2], n: f64, p: f64, out: &mut String) {
+pub(crate) fn reference_subckt(process: &Process, models: &[String; 2], n: f64, p: f64, out: &mut String) {
     let [dn, dp] = [process.draw(n), process.draw(p)];
     let devices = [
         Device { drain: "y", source: "vss", finger_um: dn.finger_width_nm / 1000.0, fingers: dn.fingers },
@@ -200,7 +200,7 @@ fn reference_subckt(process: &Process, models: &[String; 2], n: f64, p: f64, out
 }
 
 /// The output stage of `cell` as a subcircuit `wwgate <stage inputs> <output> vdd vss`, drawn.
-fn gate_subckt(cell: &SizedCell, models: &[String; 2], out: &mut String) {
+pub(crate) fn gate_subckt(cell: &SizedCell, models: &[String; 2], out: &mut String) {
     let figures = CellFigures::of(cell);
     let stage = cell.stage();
     let output = &stage.function.output;
@@ -219,13 +219,13 @@ fn gate_subckt(cell: &SizedCell, models: &[String; 2], out: &mut String) {
 }
 
 /// A source stepping or ramping from `from` to the other rail at the window's start.
-fn toggle(supply: f64, from: bool, window: &Window) -> String {
+pub(crate) fn toggle(supply: f64, from: bool, window: &Window) -> String {
     let level = |value: bool| if value { number(supply) } else { "0".to_string() };
     let (before, after) = (level(from), level(!from));
     format!("PWL(0 {before} {} {before} {} {after})", seconds(window.start), seconds(window.start + window.ramp))
 }
 
-fn direction(rising: bool) -> &'static str {
+pub(crate) fn direction(rising: bool) -> &'static str {
     if rising { "RISE=1" } else { "FALL=1" }
 }
 

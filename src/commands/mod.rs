@@ -8,6 +8,7 @@
 pub mod batch;
 pub mod completions;
 pub mod deck;
+pub mod effort;
 pub mod man_page;
 pub mod paths;
 pub mod process;

@@ -7,6 +7,7 @@ mod deck_run;
 mod deck_simulation;
 mod delay;
 mod delay_ranking;
+mod effort;
 mod models;
 mod netlist_names;
 mod published;
