@@ -158,6 +158,21 @@ pub enum Error {
         /// Variants sized.
         variants: usize,
     },
+    /// Some variants of a calibrated batch were not calibrated (each was reported as it was
+    /// found); the others were written.
+    #[error(
+        "{failed} of {variants} variants were not calibrated (each named above); the {} others were written",
+        variants - failed
+    )]
+    VariantsNotCalibrated {
+        /// Variants not calibrated.
+        failed: usize,
+        /// Variants sized.
+        variants: usize,
+        /// The exit code: the largest of the failures' (2 where one was past a limit or the run
+        /// budget, else 1).
+        code: u8,
+    },
 }
 
 impl Error {
@@ -173,6 +188,7 @@ impl Error {
             Error::Simulation(error) => return error.exit_code(),
             Error::Measure(error) => return error.exit_code(),
             Error::Calibrate(error) => return error.exit_code(),
+            Error::VariantsNotCalibrated { code, .. } => return *code,
             Error::VerifyFailed(_) | Error::VariantsUnverified { .. } => true,
             Error::Expression { .. }
             | Error::Logic { .. }

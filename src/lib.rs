@@ -33,6 +33,7 @@ pub mod network;
 pub mod ngspice;
 pub mod number;
 pub mod optimize;
+pub mod ordered;
 pub mod output;
 pub mod paths;
 pub mod process;

@@ -140,6 +140,18 @@ pub enum CalibrateError {
         /// The first-order total W/L.
         first_order_area: f64,
     },
+    /// The cell took longer than its time limit (`batch --cell-time-limit`).
+    #[error(
+        "the calibration took longer than the cell's time limit of {} s and was stopped in simulator run {runs}; \
+         give a longer --cell-time-limit (or the library's cell_time_limit key)",
+        number(limit.as_secs_f64())
+    )]
+    TimeLimit {
+        /// The limit.
+        limit: Duration,
+        /// Runs started within it.
+        runs: usize,
+    },
     /// The reference inverter does not balance within the area cap (its PMOS would grow past it).
     #[error(
         "the reference inverter does not balance in these models: its rise over fall is still {} with a PMOS of \
@@ -171,6 +183,7 @@ impl CalibrateError {
             | CalibrateError::TooManyTransitions { .. }
             | CalibrateError::RunBudget { .. } => crate::exit::EXIT_BAD_INPUT,
             CalibrateError::Unmeasured { .. }
+            | CalibrateError::TimeLimit { .. }
             | CalibrateError::AreaCap { .. }
             | CalibrateError::ReferenceUnbalanced { .. } => crate::exit::EXIT_CHECK_FAILED,
         }
@@ -186,12 +199,20 @@ pub struct Runs {
     pub budget: usize,
     /// Time spent in them.
     pub elapsed: Duration,
+    /// When the work must end, and the limit it came from: no run starts after it, and a run
+    /// under way is stopped at it.
+    pub deadline: Option<(Instant, Duration)>,
 }
 
 impl Runs {
     /// No runs yet, `budget` allowed.
     pub fn new(budget: usize) -> Runs {
-        Runs { used: 0, budget, elapsed: Duration::ZERO }
+        Runs { used: 0, budget, elapsed: Duration::ZERO, deadline: None }
+    }
+
+    /// No runs yet, `budget` allowed, every run to end within `limit` from now.
+    pub fn within(budget: usize, limit: Duration) -> Runs {
+        Runs { deadline: Some((Instant::now() + limit, limit)), ..Runs::new(budget) }
     }
 
     /// Whether another run fits the budget.
@@ -200,12 +221,26 @@ impl Runs {
     }
 
     /// Run `deck` (the caller checked [`Runs::left`]).
+    /// Past the deadline no run starts, and a run is held to the time left.
     pub fn run(&mut self, deck: &str, simulator: &ngspice::Options) -> Result<ngspice::Run, CalibrateError> {
         let started = Instant::now();
+        let mut simulator = simulator.clone();
+        if let Some((deadline, limit)) = self.deadline {
+            let left = deadline.saturating_duration_since(started);
+            if left.is_zero() {
+                return Err(CalibrateError::TimeLimit { limit, runs: self.used });
+            }
+            simulator.time_limit = simulator.time_limit.min(left);
+        }
         self.used += 1;
-        let run = ngspice::run(deck, simulator);
+        let run = ngspice::run(deck, &simulator);
         self.elapsed += started.elapsed();
-        Ok(run?)
+        match (run, self.deadline) {
+            (Err(SimulationError::TimedOut { .. }), Some((deadline, limit))) if Instant::now() >= deadline => {
+                Err(CalibrateError::TimeLimit { limit, runs: self.used })
+            }
+            (run, _) => Ok(run?),
+        }
     }
 }
 

@@ -6,6 +6,7 @@
 //! Files and streams are touched through the I/O layer ([`crate::io`]) only.
 
 pub mod batch;
+pub mod batch_calibrate;
 pub mod completions;
 pub mod deck;
 pub mod effort;

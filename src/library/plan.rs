@@ -16,6 +16,20 @@ pub(crate) struct ExpressionPlace {
     pub(crate) verbatim_start: Option<usize>,
 }
 
+/// The calibration settings of a gate (`batch --calibrate`): its keys, else `[defaults]`'s; the
+/// command line's options come before both.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct CalibrationKeys {
+    /// `tolerance`, percent.
+    pub tolerance_percent: Option<f64>,
+    /// `max_runs`.
+    pub max_runs: Option<u16>,
+    /// `area_cap`.
+    pub area_cap: Option<f64>,
+    /// `cell_time_limit`, seconds.
+    pub time_limit_s: Option<f64>,
+}
+
 /// One gate, read and checked, ready to size in each of its drives.
 #[derive(Debug, Clone, PartialEq)]
 pub struct GatePlan {
@@ -40,6 +54,8 @@ pub struct GatePlan {
     /// A skewed reference inverter (NMOS and PMOS W/L at drive 1); `None`: balanced, 1 and the
     /// mobility ratio.
     pub reference: Option<Reference>,
+    /// The calibration settings of the gate and `[defaults]`.
+    pub calibration: CalibrationKeys,
     pub(crate) name_span: Span,
     pub(crate) expression_place: ExpressionPlace,
     pub(crate) critical_span: Option<Span>,

@@ -258,6 +258,22 @@ pub fn write_section(view: &CalibrationView, name: &str, out: &mut dyn Write) ->
     )
 }
 
+/// The SPICE comment line of a calibrated cell: its models, load and worst ratios.
+pub fn write_comment(cell: &CalibratedReport, out: &mut dyn Write) -> io::Result<()> {
+    let view = &cell.calibration;
+    writeln!(
+        out,
+        "* {}: calibrated in ngspice with {}, load {}: worst ratio fall {} rise {} (first-order {} and {})",
+        cell.report.figures.name,
+        view.models,
+        view.load,
+        number(view.worst_fall_after),
+        number(view.worst_rise_after),
+        number(view.worst_fall_before),
+        number(view.worst_rise_before)
+    )
+}
+
 /// Write calibrated cells in `format`: every format at the calibrated sizes; the table adds each
 /// calibration section, JSON a `calibration` object per cell, SPICE comment lines ahead of the
 /// library; CSV carries the calibrated sizes only.
@@ -282,18 +298,7 @@ pub fn write_calibrated(cells: &[CalibratedReport], format: Format, rows: Rows, 
         Format::Csv => super::write_gates(&reports, format, rows, out),
         Format::Spice => {
             for cell in cells {
-                let view = &cell.calibration;
-                writeln!(
-                    out,
-                    "* {}: calibrated in ngspice with {}, load {}: worst ratio fall {} rise {} (first-order {} and {})",
-                    cell.report.figures.name,
-                    view.models,
-                    view.load,
-                    number(view.worst_fall_after),
-                    number(view.worst_rise_after),
-                    number(view.worst_fall_before),
-                    number(view.worst_rise_before)
-                )?;
+                write_comment(cell, out)?;
             }
             super::write_gates(&reports, format, rows, out)
         }

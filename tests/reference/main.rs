@@ -3,6 +3,7 @@
 //! check names its source beside it.
 
 mod calibrate;
+mod calibrate_batch;
 mod deck_run;
 mod deck_simulation;
 mod delay;
