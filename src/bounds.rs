@@ -77,6 +77,15 @@ pub const CAPACITANCE_PER_UM: Bound = Bound { min: 1e-6, max: 1e6, zero: true, u
 /// A process's load_ff.
 pub const LOAD_FF: Bound = Bound { min: 1e-6, max: 1e6, zero: false, unit: "fF" };
 
+/// A calibration's tolerance, percent (`--tolerance`, a library's `tolerance`).
+pub const TOLERANCE_PERCENT: Bound = Bound { min: 0.01, max: 50.0, zero: false, unit: "%" };
+/// A calibration's simulator runs per cell (`--max-runs`, a library's `max_runs`): a whole number.
+pub const RUNS: Bound = Bound { min: 2.0, max: 1000.0, zero: false, unit: "runs" };
+/// A calibration's area cap over the first-order total W/L (`--area-cap`, a library's `area_cap`).
+pub const AREA_CAP: Bound = Bound { min: 1.0, max: 1000.0, zero: false, unit: "" };
+/// One cell's calibration time (`batch --cell-time-limit`, a library's `cell_time_limit`).
+pub const TIME_LIMIT_S: Bound = Bound { min: 1e-3, max: 1e6, zero: false, unit: "s" };
+
 /// Most fingers one device is drawn with (SPICE `m=`): the numbers above allow sizes far past any
 /// real cell (a drive of 1e6 on a reference of 1e6), so the drawn result is bounded too.
 pub const MAX_FINGERS: usize = 1_000_000;

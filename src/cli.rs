@@ -3,7 +3,7 @@
 
 use clap::{Parser, Subcommand};
 
-use crate::commands::{AFTER_HELP, batch, completions, deck, man_page, paths, process, size, verify};
+use crate::commands::{AFTER_HELP, batch, completions, deck, effort, man_page, paths, process, size, verify};
 
 const ABOUT: &str = "Size the transistors of static CMOS gates so that each gate's worst case drives like a \
 reference inverter, and report what that costs.";
@@ -25,6 +25,7 @@ pub enum Command {
     Size(size::Args),
     Paths(paths::Args),
     Deck(deck::Args),
+    Effort(effort::Args),
     Process(process::Args),
     Batch(batch::Args),
     Verify(verify::Args),

@@ -9,6 +9,7 @@
 use thiserror::Error;
 
 use crate::budget::OverBudget;
+use crate::calibrate::CalibrateError;
 use crate::diagnostic::{Diagnostic, Source};
 use crate::exit::{EXIT_BAD_INPUT, EXIT_CHECK_FAILED};
 use crate::expr::error::ExprError;
@@ -115,6 +116,9 @@ pub enum Error {
     /// A deck run through ngspice that gave no delays.
     #[error(transparent)]
     Measure(#[from] MeasureError),
+    /// A calibration by simulation that did not succeed.
+    #[error(transparent)]
+    Calibrate(#[from] CalibrateError),
     /// A command name that is not one of widthwise's (`man-page NAME`).
     #[error("there is no command '{}': the commands are {commands}", crate::diagnostic::escaped(name))]
     NoSuchCommand {
@@ -158,6 +162,21 @@ pub enum Error {
         /// Variants sized.
         variants: usize,
     },
+    /// Some variants of a calibrated batch were not calibrated (each was reported as it was
+    /// found); the others were written.
+    #[error(
+        "{failed} of {variants} variants were not calibrated (each named above); the {} others were written",
+        variants - failed
+    )]
+    VariantsNotCalibrated {
+        /// Variants not calibrated.
+        failed: usize,
+        /// Variants sized.
+        variants: usize,
+        /// The exit code: the largest of the failures' (2 where one was past a limit or the run
+        /// budget, else 1).
+        code: u8,
+    },
 }
 
 impl Error {
@@ -172,6 +191,8 @@ impl Error {
             Error::Verify(error) => error.is_internal(),
             Error::Simulation(error) => return error.exit_code(),
             Error::Measure(error) => return error.exit_code(),
+            Error::Calibrate(error) => return error.exit_code(),
+            Error::VariantsNotCalibrated { code, .. } => return *code,
             Error::VerifyFailed(_) | Error::VariantsUnverified { .. } => true,
             Error::Expression { .. }
             | Error::Logic { .. }

@@ -232,6 +232,61 @@ pub fn diagnose(text: &str) {
     let _ = Diagnostics.write_all(text.as_bytes());
 }
 
+/// A progress bar of work done on standard error, drawn only where standard error is a terminal
+/// (never on a pipe or a file, where it would be noise in a log). Diagnostics given while it is
+/// drawn go through [`Progress::diagnose`], which lifts the bar, writes through [`diagnose`] and
+/// draws it again; the bar's own drawing drops a failed write, as [`Diagnostics`] does.
+pub struct Progress {
+    bar: Option<indicatif::ProgressBar>,
+}
+
+impl Progress {
+    /// A bar of `total` steps, each a `unit` (`cells`), where standard error is a terminal.
+    pub fn start(total: u64, unit: &str) -> Progress {
+        use std::io::IsTerminal;
+        if !io::stderr().is_terminal() {
+            return Progress { bar: None };
+        }
+        let bar = indicatif::ProgressBar::with_draw_target(Some(total), indicatif::ProgressDrawTarget::stderr());
+        let template = format!("{{elapsed:>4}} [{{wide_bar}}] {{pos}}/{{len}} {unit} {{msg}}");
+        if let Ok(style) = indicatif::ProgressStyle::with_template(&template) {
+            bar.set_style(style.progress_chars("=> "));
+        }
+        bar.enable_steady_tick(std::time::Duration::from_millis(250));
+        Progress { bar: Some(bar) }
+    }
+
+    /// One step done; `message` says what comes next.
+    pub fn step(&self, message: &str) {
+        if let Some(bar) = &self.bar {
+            bar.inc(1);
+            bar.set_message(message.to_string());
+        }
+    }
+
+    /// Say what is at work now.
+    pub fn say(&self, message: &str) {
+        if let Some(bar) = &self.bar {
+            bar.set_message(message.to_string());
+        }
+    }
+
+    /// Write a diagnostic through [`diagnose`], the bar lifted while it is written.
+    pub fn diagnose(&self, text: &str) {
+        match &self.bar {
+            Some(bar) => bar.suspend(|| diagnose(text)),
+            None => diagnose(text),
+        }
+    }
+
+    /// Take the bar off the terminal.
+    pub fn finish(self) {
+        if let Some(bar) = self.bar {
+            bar.finish_and_clear();
+        }
+    }
+}
+
 /// Write to standard output, or atomically to `target` ([`write_atomically`]).
 pub fn write_output(
     target: Option<&Path>,

@@ -13,6 +13,7 @@
 pub mod analysis;
 pub mod bounds;
 pub mod budget;
+pub mod calibrate;
 pub mod cell;
 pub mod cli;
 pub mod commands;
@@ -32,6 +33,7 @@ pub mod network;
 pub mod ngspice;
 pub mod number;
 pub mod optimize;
+pub mod ordered;
 pub mod output;
 pub mod paths;
 pub mod process;

@@ -34,6 +34,7 @@ fn main() -> ExitCode {
         Command::Size(args) => commands::size::run(args),
         Command::Paths(args) => commands::paths::run(args),
         Command::Deck(args) => commands::deck::run(args),
+        Command::Effort(args) => commands::effort::run(args),
         Command::Process(args) => commands::process::run(args),
         Command::Batch(args) => commands::batch::run(args),
         Command::Verify(args) => commands::verify::run(args),

@@ -9,7 +9,8 @@ use clap::ValueEnum;
 
 use std::sync::Arc;
 
-use super::{OutputFile, SizingArgs, estimates_note, exit_codes_line, work_budget};
+use super::simulate::CalibrateArgs;
+use super::{LoadArgs, OutputFile, SizingArgs, estimates_note, exit_codes_line, work_budget};
 use crate::budget::{DEFAULT_WORK_BUDGET, Meter, Work};
 use crate::cell::SizedCell;
 use crate::diagnostic::Source;
@@ -57,6 +58,17 @@ JSON, which has every figure of every variant, SPICE, one .subckt per variant, a
 
 Schematics: --format svg -o DIR writes each variant's schematic to DIR/<variant>.svg (DIR is created;
 an existing file named DIR is refused, and so is standard output).
+
+Calibration (--calibrate, ngspice on PATH; checked before any work): every variant is calibrated
+as 'size --calibrate' calibrates one, --jobs N at once (default: the cores), each ngspice run held
+to one thread, and written in the library's order as each completes; a progress bar shows on a
+terminal only. Each distinct reference inverter (drive, reference, mobility ratio) is balanced once
+and shared. Keys in [defaults] or a [[gate]]: tolerance (percent), max_runs, area_cap,
+cell_time_limit (seconds; default none); --tolerance, --max-runs, --area-cap and --cell-time-limit
+come before them. The load (--load-ff, --load, --fanout; default the process's load_ff), the slew
+and the models are the command line's. A variant not calibrated (its time limit, its run budget,
+its area cap) is reported on stderr and left out; the others are written (exit 1; 2 where one was
+past its run budget).
 
 Errors: a bad gate is reported on stderr with its name, line and column and the others are still
 written (exit 2). A TOML error, a bad process or [defaults], a duplicate name or two variants with the
@@ -114,6 +126,30 @@ pub struct Args {
     /// [default: 1073741824].
     #[arg(long, value_name = "UNITS", value_parser = work_budget, requires = "verify")]
     pub work_budget: Option<u64>,
+    /// Calibration by simulation: every variant, as 'size --calibrate' does one, several at once.
+    #[command(flatten)]
+    pub calibration: CalibrateArgs,
+    /// The calibration's load (with --calibrate only): every variant and its reference inverter
+    /// drive it [default: the process's load_ff].
+    #[command(flatten)]
+    pub load: LoadArgs,
+    /// With --calibrate: variants calibrated at once, each through its own ngspice process held
+    /// to one thread [default: the machine's cores].
+    #[arg(long, value_name = "N", requires = "calibrate", value_parser = clap::value_parser!(u16).range(1..=1024))]
+    pub jobs: Option<u16>,
+    /// With --calibrate: the most seconds one variant's calibration may take; past it the variant
+    /// is reported not calibrated and left out, the others are written, and the exit code is 1
+    /// [default: none].
+    #[arg(long, value_name = "SECONDS", requires = "calibrate", value_parser = cell_time_limit)]
+    pub cell_time_limit: Option<f64>,
+}
+
+fn cell_time_limit(text: &str) -> Result<f64, String> {
+    let value = super::positive_number(text)?;
+    if value > 1e6 {
+        return Err(format!("the time limit is at most 1000000 seconds, found '{text}'"));
+    }
+    Ok(value)
 }
 
 /// The stack orders a library takes (the search times every order: one gate at a time, by `size`).
@@ -142,7 +178,7 @@ pub enum Format {
 
 impl Format {
     /// The writers' format for the library; `None` for the schematics, a file per variant.
-    fn report(self) -> Option<output::Format> {
+    pub(super) fn report(self) -> Option<output::Format> {
         match self {
             Format::Table => Some(output::Format::Table),
             Format::Csv => Some(output::Format::Csv),
@@ -272,6 +308,29 @@ fn overrides(args: &Args) -> Result<Overrides, Error> {
                   it for a library read from standard input (-)",
         });
     }
+    let calibration = &args.calibration;
+    let simulation_given = [
+        (calibration.models.models.is_some(), "--models"),
+        (calibration.models.slew_ps.is_some(), "--slew-ps"),
+        (args.load.fanout.is_some(), "--fanout"),
+        (args.load.load.is_some(), "--load"),
+        (args.load.load_ff.is_some(), "--load-ff"),
+    ];
+    if let Some((_, option)) = simulation_given.into_iter().find(|(given, _)| *given && !calibration.calibrate) {
+        return Err(Error::NotApplicable {
+            option,
+            case: "without --calibrate",
+            why: "only a calibration simulates the cells and loads them; add --calibrate",
+        });
+    }
+    if calibration.calibrate && args.verify {
+        return Err(Error::NotApplicable {
+            option: "--verify",
+            case: "with --calibrate",
+            why: "verify the library first ('widthwise batch --verify'): calibration changes widths only, never \
+                  the transistors' connections",
+        });
+    }
     if args.sizing.method == Some(MethodName::Elmore) {
         return Err(Error::NotApplicable {
             option: "--method elmore",
@@ -349,6 +408,9 @@ pub fn run(args: Args) -> Result<(), Error> {
             diagnose(&clash.render(&source));
         }
         return Err(Error::NameClashes { count: clashes.len() });
+    }
+    if args.calibration.calibrate {
+        return super::batch_calibrate::run(&args, library, &source);
     }
     if let Some(options) = &verify {
         let (work, estimate) = library.verify_work(options);

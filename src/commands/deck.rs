@@ -113,14 +113,14 @@ pub enum Format {
 }
 
 /// A device model's name: one a SPICE instance line can hold, not a reserved name.
-fn model_name(text: &str) -> Result<String, String> {
+pub(crate) fn model_name(text: &str) -> Result<String, String> {
     crate::process::check_model_name(text)
         .map_err(|why| format!("{why}, found '{}'", crate::diagnostic::escaped(text)))?;
     Ok(text.to_string())
 }
 
 /// A section name a `.lib` line can hold.
-fn section_name(text: &str) -> Result<String, String> {
+pub(crate) fn section_name(text: &str) -> Result<String, String> {
     models::check_section_name(text).map_err(|why| why.to_string())?;
     Ok(text.to_string())
 }
@@ -160,7 +160,12 @@ fn deck_options(args: &Args, process: &Process, load: DeckLoad) -> Result<DeckOp
 
 /// Scan the library as ngspice reads it and check every device of the deck against it; warnings
 /// (what the scan cannot check) go to standard error.
-fn check_library(path: &Path, section: Option<&str>, cell: &SizedCell, names: [&str; 2]) -> Result<(), Error> {
+pub(crate) fn check_library(
+    path: &Path,
+    section: Option<&str>,
+    cell: &SizedCell,
+    names: [&str; 2],
+) -> Result<(), Error> {
     let text = crate::io::read_text(path, MAX_LIBRARY_BYTES, "the --models file")?;
     let mut read = |file: &Path| {
         crate::io::read_text(file, MAX_LIBRARY_BYTES, "a file the model library names").map_err(std::io::Error::other)

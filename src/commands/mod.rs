@@ -6,11 +6,14 @@
 //! Files and streams are touched through the I/O layer ([`crate::io`]) only.
 
 pub mod batch;
+pub mod batch_calibrate;
 pub mod completions;
 pub mod deck;
+pub mod effort;
 pub mod man_page;
 pub mod paths;
 pub mod process;
+pub mod simulate;
 pub mod size;
 pub mod verify;
 

@@ -5,6 +5,7 @@ use std::ffi::OsString;
 
 use clap::ValueEnum;
 
+use super::simulate::{self, CalibrateArgs};
 use super::{DelayArgs, GateArgs, OutputFile, Timed};
 use crate::error::Error;
 use crate::output::{self, CellReport, schematic_cell};
@@ -24,6 +25,9 @@ pub struct Args {
     /// Delays and the stack-order search.
     #[command(flatten)]
     pub delay: DelayArgs,
+    /// Calibration by simulation.
+    #[command(flatten)]
+    pub calibration: CalibrateArgs,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
@@ -154,6 +158,16 @@ pub fn run(args: Args) -> Result<(), Error> {
     if args.tradeoff {
         return run_tradeoff(args);
     }
+    if args.calibration.calibrate {
+        return run_calibrated(args);
+    }
+    if args.calibration.models.slew_ps.is_some() || args.calibration.models.models.is_some() {
+        return Err(Error::NotApplicable {
+            option: if args.calibration.models.models.is_some() { "--models" } else { "--slew-ps" },
+            case: "without --calibrate",
+            why: "only a calibration simulates the cell; add --calibrate, or write a deck with 'widthwise deck'",
+        });
+    }
     let Args { expression, gate, delay, format, output, rows, .. } = args;
     let rows = rows.unwrap_or(Rows::Devices);
     let timed = delay.wanted() || gate.sizing.sizes_by_delay() || rows == Rows::Delays;
@@ -225,6 +239,58 @@ fn run_tradeoff(args: Args) -> Result<(), Error> {
         Format::Json => output::tradeoff::write_json(&report, out),
         Format::Svg => output::tradeoff::write_svg(&report, out),
         Format::Spice => Err(std::io::Error::other("a netlist holds one sizing")),
+    })?;
+    Ok(())
+}
+
+/// `size --calibrate`: size the cell, then adjust its output stage in ngspice until each network's
+/// worst transition matches the reference inverter's; write it at the calibrated sizes.
+fn run_calibrated(args: Args) -> Result<(), Error> {
+    let refused = [
+        (args.delay.delays, "--delays"),
+        (args.delay.diffusion_ratio.is_some(), "--diffusion-ratio"),
+        (args.delay.stack_order == Some(StackOrder::Search), "--stack-order search"),
+        (args.rows == Some(Rows::Delays), "--rows delays"),
+        (args.tradeoff, "--tradeoff"),
+    ];
+    if let Some((_, option)) = refused.into_iter().find(|(given, _)| *given) {
+        return Err(Error::NotApplicable {
+            option,
+            case: "with --calibrate",
+            why: "the Elmore delays model the first-order sizes, not the calibrated ones; the calibration reports \
+                  every transition's simulated delay before and after",
+        });
+    }
+    let rows = args.rows.unwrap_or(Rows::Devices);
+    let load = args.delay.load();
+    let timed = Timed { load, diffusion_ratio: None, matter: false };
+    let mut plan = super::plan(&args.gate, args.delay.stack_order.unwrap_or_default(), timed)?;
+    if load.is_none() {
+        plan.conditions.load = crate::sizing::Load::Femtofarads(plan.process.load_ff);
+    }
+    // Every input is checked, and ngspice found, before anything is sized or run.
+    let simulation = simulate::simulation(&args.calibration, &plan.process, load)?;
+    plan.process = simulate::with_model_names(&plan.process, &simulation.options.setting.models);
+    let text = super::expression_text(&args.expression)?;
+    let forms = super::read_cells(&text, &plan, args.gate.pull_up.as_deref())?;
+    let sized = crate::sizing::size_best(&forms, &plan)?;
+    simulate::check_cell(&simulation, &sized)?;
+    let calibrated = simulate::calibrate_cell(&sized, &simulation)?;
+    let view = output::calibration::CalibrationView::of(
+        &calibrated,
+        &simulation.models,
+        &simulation.load,
+        simulation.options.setting.slew_s,
+    );
+    let report = output::calibration::CalibratedReport { report: CellReport::of(&calibrated.cell), calibration: view };
+    let Some(format) = args.format.report() else {
+        // The schematic of the calibrated cell.
+        let layout = schematic_cell::layout(&calibrated.cell, &report.report.figures)?;
+        crate::io::write_output(args.output.output.as_deref(), |out| layout.write_svg(out))?;
+        return Ok(());
+    };
+    crate::io::write_output(args.output.output.as_deref(), |out| {
+        output::calibration::write_calibrated(std::slice::from_ref(&report), format, rows.into(), out)
     })?;
     Ok(())
 }

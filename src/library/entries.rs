@@ -16,7 +16,7 @@ use crate::bounds;
 use crate::diagnostic::{Source, Span, escaped};
 use crate::io::InputError;
 use crate::library::error::LibraryError;
-use crate::library::plan::{ExpressionPlace, GatePlan, GateProblem, Place, PullUpPlace};
+use crate::library::plan::{CalibrationKeys, ExpressionPlace, GatePlan, GateProblem, Place, PullUpPlace};
 use crate::names;
 use crate::process::{Process, ProcessFile};
 use crate::sizing::{Method, MethodName, Reference, SizingError, StackOrder, WorstCase};
@@ -183,6 +183,10 @@ pub(crate) struct DefaultsEntry {
     pub(crate) reference: Option<Spanned<WrittenReference>>,
     pub(crate) stage_effort: Option<Spanned<f64>>,
     pub(crate) pull_up: Option<Spanned<String>>,
+    pub(crate) tolerance: Option<Spanned<f64>>,
+    pub(crate) max_runs: Option<Spanned<f64>>,
+    pub(crate) area_cap: Option<Spanned<f64>>,
+    pub(crate) cell_time_limit: Option<Spanned<f64>>,
 }
 
 /// One `[[gate]]` as written.
@@ -199,6 +203,38 @@ pub(crate) struct GateEntry {
     pub(crate) reference: Option<Spanned<WrittenReference>>,
     pub(crate) stage_effort: Option<Spanned<f64>>,
     pub(crate) pull_up: Option<Spanned<String>>,
+    pub(crate) tolerance: Option<Spanned<f64>>,
+    pub(crate) max_runs: Option<Spanned<f64>>,
+    pub(crate) area_cap: Option<Spanned<f64>>,
+    pub(crate) cell_time_limit: Option<Spanned<f64>>,
+}
+
+/// The calibration keys as written (`tolerance`, `max_runs`, `area_cap`, `cell_time_limit`),
+/// checked against their bounds; where a key is not written, `under`'s.
+pub(crate) fn check_calibration(
+    [tolerance, max_runs, area_cap, time_limit]: [&Option<Spanned<f64>>; 4],
+    under: CalibrationKeys,
+) -> Result<CalibrationKeys, (String, Span)> {
+    let check =
+        |key: &str, written: &Option<Spanned<f64>>, bound: bounds::Bound| -> Result<Option<f64>, (String, Span)> {
+            let Some(written) = written else { return Ok(None) };
+            let value = *written.get_ref();
+            let whole = key != "max_runs" || value.fract() == 0.0;
+            match bound.check(value) {
+                Ok(value) if whole => Ok(Some(value)),
+                Ok(_) => Err((
+                    format!("max_runs = {}: must be a whole number", bounds::show(value)),
+                    to_span(written.span()),
+                )),
+                Err(why) => Err((format!("{key} = {}: {why}", bounds::show(value)), to_span(written.span()))),
+            }
+        };
+    Ok(CalibrationKeys {
+        tolerance_percent: check("tolerance", tolerance, bounds::TOLERANCE_PERCENT)?.or(under.tolerance_percent),
+        max_runs: check("max_runs", max_runs, bounds::RUNS)?.map(|runs| runs as u16).or(under.max_runs),
+        area_cap: check("area_cap", area_cap, bounds::AREA_CAP)?.or(under.area_cap),
+        time_limit_s: check("cell_time_limit", time_limit, bounds::TIME_LIMIT_S)?.or(under.time_limit_s),
+    })
 }
 
 pub(crate) fn to_span(range: Range<usize>) -> Span {
@@ -246,6 +282,7 @@ pub(crate) struct Common {
     pub(crate) stage_effort: f64,
     /// `[defaults]`'s pull-up and where it is written.
     pub(crate) pull_up: Option<(String, Span)>,
+    pub(crate) calibration: CalibrationKeys,
     pub(crate) overrides: Overrides,
 }
 
@@ -386,6 +423,9 @@ pub(crate) fn read_gate_entry(
             verbatim_start: verbatim_start(source.text(), span.start..span.end, text),
         }),
     };
+    let calibration =
+        check_calibration([&gate.tolerance, &gate.max_runs, &gate.area_cap, &gate.cell_time_limit], common.calibration)
+            .map_err(|(message, span)| problem(message, span))?;
     let expression = gate.expr.get_ref().clone();
     let expression_place = ExpressionPlace {
         string: to_span(gate.expr.span()),
@@ -405,6 +445,7 @@ pub(crate) fn read_gate_entry(
         reference,
         stage_effort,
         pull_up,
+        calibration,
         name_span,
         expression_place,
     })

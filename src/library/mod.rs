@@ -27,19 +27,19 @@ use crate::budget::Estimate;
 use crate::cell::SizedCell;
 use crate::diagnostic::{Source, Span, escaped};
 use crate::figures::CellFigures;
-use crate::logic::{PullUpSpec, synthesize_with_models};
+use crate::logic::{CellLogic, PullUpSpec, synthesize_with_models};
 use crate::names;
 use crate::process::Process;
 use crate::sizing::{self, MethodName, StackOrder};
 use crate::verify::{self, VerifyOptions};
 
 use entries::{
-    Common, DefaultsEntry, check_drives, check_reference, check_stack_order, check_stage_effort, read_gate_entry,
-    read_process, repeated_drive, taken, to_span,
+    Common, DefaultsEntry, check_calibration, check_drives, check_reference, check_stack_order, check_stage_effort,
+    read_gate_entry, read_process, repeated_drive, taken, to_span,
 };
 pub use entries::{MAX_DRIVES_PER_GATE, Overrides, ReadFile};
 pub use error::LibraryError;
-pub use plan::{GatePlan, GateProblem, Place};
+pub use plan::{CalibrationKeys, GatePlan, GateProblem, Place};
 
 /// The drive of a gate that neither it nor `[defaults]` sets.
 pub const DEFAULT_DRIVE: f64 = 1.0;
@@ -171,7 +171,13 @@ impl Library {
             })?,
         };
         let pull_up = defaults.pull_up.as_ref().map(|written| (written.get_ref().clone(), to_span(written.span())));
+        let calibration = check_calibration(
+            [&defaults.tolerance, &defaults.max_runs, &defaults.area_cap, &defaults.cell_time_limit],
+            CalibrationKeys::default(),
+        )
+        .map_err(|(message, span)| LibraryError::at(format!("[defaults]: {message}"), Some(span.start..span.end)))?;
         let common = Common {
+            calibration,
             method: defaults.method.unwrap_or(DEFAULT_METHOD),
             worst_case: defaults.worst_case.unwrap_or_default(),
             stack_order,
@@ -303,6 +309,31 @@ pub struct Outcome {
 
 /// Size one gate in each of its drives, or say why it cannot be.
 pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedCell>, GateProblem> {
+    let forms = forms_of(plan, process)?;
+    let mut variants = Vec::with_capacity(plan.drives.len());
+    for &drive in &plan.drives {
+        variants.push(size_form(plan, &forms, drive, process)?);
+    }
+    Ok(variants)
+}
+
+/// Size one variant of a gate, the one at `drive`, or say why the gate cannot be sized.
+pub fn size_variant(plan: &GatePlan, drive: f64, process: &Arc<Process>) -> Result<SizedCell, GateProblem> {
+    size_form(plan, &forms_of(plan, process)?, drive, process)
+}
+
+fn size_form(
+    plan: &GatePlan,
+    forms: &[CellLogic],
+    drive: f64,
+    process: &Arc<Process>,
+) -> Result<SizedCell, GateProblem> {
+    sizing::size_best(forms, &plan.plan(drive, process)?)
+        .map_err(|error| plan.problem(error.to_string(), Place::File(plan.name_span)))
+}
+
+/// Every form of a gate's function, its critical input checked.
+fn forms_of(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<CellLogic>, GateProblem> {
     let mut forms = synthesize_with_models(&plan.expression, &process.model_names())
         .map_err(|error| plan.expression_problem(error.to_string(), error.span()))?;
     if let Some(pull_up) = &plan.pull_up {
@@ -340,13 +371,7 @@ pub fn size_plan(plan: &GatePlan, process: &Arc<Process>) -> Result<Vec<SizedCel
             Place::File(span),
         ));
     }
-    let mut variants = Vec::with_capacity(plan.drives.len());
-    for &drive in &plan.drives {
-        let sized = sizing::size_best(&forms, &plan.plan(drive, process)?)
-            .map_err(|error| plan.problem(error.to_string(), Place::File(plan.name_span)))?;
-        variants.push(sized);
-    }
-    Ok(variants)
+    Ok(forms)
 }
 
 /// Size every gate in file order, reporting each bad one as it is found and handing the sized

@@ -38,6 +38,20 @@ impl PullUpPlace {
     }
 }
 
+/// The calibration settings of a gate (`batch --calibrate`): its keys, else `[defaults]`'s; the
+/// command line's options come before both.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct CalibrationKeys {
+    /// `tolerance`, percent.
+    pub tolerance_percent: Option<f64>,
+    /// `max_runs`.
+    pub max_runs: Option<u16>,
+    /// `area_cap`.
+    pub area_cap: Option<f64>,
+    /// `cell_time_limit`, seconds.
+    pub time_limit_s: Option<f64>,
+}
+
 /// One gate, read and checked, ready to size in each of its drives.
 #[derive(Debug, Clone, PartialEq)]
 pub struct GatePlan {
@@ -66,6 +80,8 @@ pub struct GatePlan {
     pub stage_effort: f64,
     /// The logic stage's pull-up as written (a structure or `mirror`), with its place.
     pub pull_up: Option<PullUpPlace>,
+    /// The calibration settings of the gate and `[defaults]`.
+    pub calibration: CalibrationKeys,
     pub(crate) name_span: Span,
     pub(crate) expression_place: ExpressionPlace,
     pub(crate) critical_span: Option<Span>,

@@ -4,6 +4,7 @@
 
 use std::io::{self, Write};
 
+use super::calibration::CalibratedReport;
 use super::summary::SummaryTable;
 use super::{CellReport, Format, Rows, csv, number, spice};
 use crate::cell::SizedCell;
@@ -34,6 +35,8 @@ pub struct BatchWriter<'a> {
     written: bool,
     /// The table's rows, kept until the end.
     table: Option<SummaryTable>,
+    /// The table's calibration sections, written after it.
+    sections: Vec<u8>,
 }
 
 impl<'a> BatchWriter<'a> {
@@ -48,13 +51,53 @@ impl<'a> BatchWriter<'a> {
             Format::Csv | Format::Table => {}
         }
         let table = (format == Format::Table).then(|| SummaryTable::new(rows));
-        Ok(BatchWriter { format, rows, process, out, written: false, table })
+        Ok(BatchWriter { format, rows, process, out, written: false, table, sections: Vec::new() })
     }
 
     /// Write (or, for the table, keep) a chunk of sized variants.
     pub fn write(&mut self, chunk: &[SizedCell]) -> io::Result<()> {
         let chunk: Vec<CellReport> = chunk.iter().map(CellReport::of).collect();
-        let chunk = chunk.as_slice();
+        self.write_reports(&chunk)
+    }
+
+    /// Write (or, for the table, keep) calibrated variants, at their calibrated sizes: JSON with
+    /// each one's `calibration` object, SPICE with its comment line of ratios ahead of the
+    /// subcircuit, the table's calibration sections after the table; CSV carries the sizes.
+    pub fn write_calibrated(&mut self, cells: &[CalibratedReport]) -> io::Result<()> {
+        for cell in cells {
+            match self.format {
+                Format::Json => {
+                    self.out.write_all(if self.written { b",\n" } else { b"\n" })?;
+                    super::json::write_compact(cell, self.out)?;
+                    self.written = true;
+                }
+                Format::Spice => {
+                    writeln!(self.out)?;
+                    super::calibration::write_comment(cell, self.out)?;
+                    spice::write_subcircuit(&cell.report.figures, self.process, self.out)?;
+                    self.written = true;
+                }
+                Format::Table => {
+                    writeln!(self.sections)?;
+                    super::calibration::write_section(
+                        &cell.calibration,
+                        &cell.report.figures.name,
+                        &mut self.sections,
+                    )?;
+                    self.write_reports(std::slice::from_ref(&cell.report))?;
+                }
+                Format::Csv => self.write_reports(std::slice::from_ref(&cell.report))?,
+            }
+        }
+        Ok(())
+    }
+
+    /// Hand on what is written so far, so that each variant shows as it completes.
+    pub fn flush(&mut self) -> io::Result<()> {
+        self.out.flush()
+    }
+
+    fn write_reports(&mut self, chunk: &[CellReport]) -> io::Result<()> {
         match self.format {
             Format::Csv if self.written => {
                 csv::write_gates(chunk, self.rows, &mut SkipFirstLine { inner: &mut *self.out, skipping: true })?
@@ -110,7 +153,8 @@ impl<'a> BatchWriter<'a> {
                 )?;
                 let table = self.table.unwrap_or_else(|| SummaryTable::new(self.rows));
                 writeln!(self.out, "{}\n", table.legend())?;
-                table.write(self.out)
+                table.write(self.out)?;
+                self.out.write_all(&self.sections)
             }
         }
     }

@@ -21,7 +21,7 @@ use super::number;
 use super::spice::{mosfet_line, transistor_line};
 
 mod cell;
-mod geometry;
+pub(crate) mod geometry;
 mod library;
 mod physics;
 mod transitions;

@@ -1,6 +1,7 @@
 //! Writers: the same sized gates as a readable table, CSV, JSON or a SPICE netlist, to any `Write`.
 
 pub mod batch;
+pub mod calibration;
 pub mod cell_delays;
 pub mod csv;
 pub mod deck;

@@ -2,10 +2,13 @@
 //! and reference tools (decks simulated by ngspice from Debian's packages, scipy from PyPI). Each
 //! check names its source beside it.
 
+mod calibrate;
+mod calibrate_batch;
 mod deck_run;
 mod deck_simulation;
 mod delay;
 mod delay_ranking;
+mod effort;
 mod elmore_target;
 mod models;
 mod netlist_names;

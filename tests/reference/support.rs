@@ -71,7 +71,15 @@ pub fn ngspice_output(deck: &str) -> std::process::Output {
     let directory = tempfile::tempdir().expect("a temporary directory");
     let path = directory.path().join("deck.sp");
     std::fs::write(&path, deck).expect("the deck is written");
-    Command::new("ngspice").arg("-b").arg(&path).current_dir(directory.path()).output().expect("ngspice runs")
+    // One thread: the Debian build spins OpenMP threads, and two runs at once then take many times longer.
+    Command::new("ngspice")
+        .arg("-b")
+        .arg(&path)
+        .current_dir(directory.path())
+        .env("OMP_NUM_THREADS", "1")
+        .env("OMP_WAIT_POLICY", "passive")
+        .output()
+        .expect("ngspice runs")
 }
 
 /// Measurement results from ngspice's output: lines `name = value ...` with a lowercase name and a
