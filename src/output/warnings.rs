@@ -50,7 +50,9 @@ pub fn of(report: &CellReport) -> Vec<String> {
             ));
         }
     }
-    if figures.stages.len() > 1 {
+    // A stage's h depends on the load only when the cell is timed against one (a delay option, the
+    // delays view): untimed, the default fan-out would warn of every cell of several stages.
+    if figures.stages.len() > 1 && report.cell_delays.is_some() {
         for stage in &figures.stages {
             if let Some(input) = stage.inputs.iter().find(|input| input.electrical_effort < 1.0) {
                 warnings.push(format!(

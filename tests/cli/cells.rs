@@ -106,3 +106,15 @@ fn past_the_limits_a_cell_is_refused_with_a_position() {
             .stderr(predicate::str::contains("^"));
     }
 }
+
+#[test]
+fn a_stage_below_h_1_is_warned_of_only_when_the_cell_is_timed_against_a_load() {
+    // and2 at drive 1: the output inverter's input is 3 C and the cell's pin 1 C (docs/model.md
+    // section 9), so a fan-out of 0.2 loads it with 0.2 C: h = 0.2 / 3.
+    widthwise().args(["size", "and2"]).assert().success().stderr(predicate::str::is_empty());
+    widthwise()
+        .args(["size", "and2", "--fanout", "0.2"])
+        .assert()
+        .success()
+        .stderr(predicate::str::contains("stage y (output-inverter) has h = 0.06666666667 below 1"));
+}
