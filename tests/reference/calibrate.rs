@@ -359,3 +359,42 @@ fn demo_card_aoi21() {
 fn demo_card_oai22() {
     demo_card(&OAI22);
 }
+
+/// In a cell of several stages only the output stage is calibrated against the reference; the
+/// earlier stages keep their stage-effort sizes (docs/model.md sections 9 and 14). With body effect
+/// (GAMMA 0.4) the NAND stage of and2 would be slow in its stack, and still keeps its widths.
+#[test]
+fn a_cell_of_several_stages_calibrates_its_output_stage_only() {
+    if !ngspice_available("calibrate and2 body effect") {
+        return;
+    }
+    let directory = tempfile::tempdir().unwrap();
+    let path = directory.path().join("gamma.toml");
+    std::fs::write(&path, process_with(&[("body_effect_sqrt_v", "0.4".into()), ("grid_nm", "1.0".into())])).unwrap();
+    let process = path.to_str().unwrap();
+    let and2 = Gate { shorthand: "and2", inputs: &["a", "b"], function: |v| v[0] && v[1] };
+    let json = calibrated(&and2, &["--process", process, "--load-ff", "20"]);
+    let first_order: serde_json::Value =
+        serde_json::from_str(&widthwise(&["size", "and2", "--process", process, "--format", "json"])).unwrap();
+    let calibrated_devices: Vec<&str> =
+        json["calibration"]["devices"].as_array().unwrap().iter().map(|d| d["name"].as_str().unwrap()).collect();
+    assert_eq!(calibrated_devices, ["MN1_y", "MP1_y"]);
+    let widths = |cell: &serde_json::Value, stage: &str| -> Vec<f64> {
+        cell["transistors"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .filter(|t| t["stage"] == stage)
+            .map(|t| t["w_over_l"].as_f64().unwrap())
+            .collect()
+    };
+    assert_eq!(widths(&json, "y_n").len(), 4);
+    assert_eq!(widths(&json, "y_n"), widths(&first_order, "y_n"));
+    let worst = [
+        json["calibration"]["worst_fall_after"].as_f64().unwrap(),
+        json["calibration"]["worst_rise_after"].as_f64().unwrap(),
+    ];
+    for ratio in worst {
+        assert!((ratio - 1.0).abs() <= 0.01, "and2 output stage: {worst:?}");
+    }
+}
