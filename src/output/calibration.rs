@@ -152,24 +152,6 @@ pub struct CalibratedReport {
     pub calibration: CalibrationView,
 }
 
-fn aligned(header: &[&str], rows: &[Vec<String>], out: &mut dyn Write) -> io::Result<()> {
-    let mut widths: Vec<usize> = header.iter().map(|h| h.len()).collect();
-    for row in rows {
-        for (width, cell) in widths.iter_mut().zip(row) {
-            *width = (*width).max(cell.len());
-        }
-    }
-    let line = |cells: Vec<&str>| {
-        let padded: Vec<String> = cells.iter().zip(&widths).map(|(cell, &width)| format!("{cell:<width$}")).collect();
-        padded.join("  ").trim_end().to_string()
-    };
-    writeln!(out, "{}", line(header.to_vec()))?;
-    for row in rows {
-        writeln!(out, "{}", line(row.iter().map(String::as_str).collect()))?;
-    }
-    Ok(())
-}
-
 /// The calibration section of the table.
 pub fn write_section(view: &CalibrationView, name: &str, out: &mut dyn Write) -> io::Result<()> {
     let slew = match view.slew_ps {
@@ -209,7 +191,11 @@ pub fn write_section(view: &CalibrationView, name: &str, out: &mut dyn Write) ->
             ]
         })
         .collect();
-    aligned(&["device", "input", "first-order W/L", "calibrated W/L", "drawn W/L", "change %"], &rows, out)?;
+    super::table::write_headed(
+        &["device", "input", "first-order W/L", "calibrated W/L", "drawn W/L", "change %"],
+        &rows,
+        out,
+    )?;
     let factors: Vec<String> = view
         .factors
         .iter()
@@ -240,7 +226,7 @@ pub fn write_section(view: &CalibrationView, name: &str, out: &mut dyn Write) ->
             ]
         })
         .collect();
-    aligned(
+    super::table::write_headed(
         &["input", "output", "held", "load_fF", "before_ps", "before_ratio", "after_ps", "after_ratio"],
         &rows,
         out,

@@ -49,7 +49,7 @@ pub fn write_table(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
             ]
         })
         .collect();
-    write_rows(&header, &rows, out)
+    super::table::write_headed(&header, &rows, out)
 }
 
 /// The table of a cell of several stages: per transition the cell's delay beside its Elmore
@@ -97,26 +97,7 @@ fn write_stages_table(measured: &Measured, out: &mut dyn Write) -> io::Result<()
             ]
         })
         .collect();
-    write_rows(&header, &rows, out)
-}
-
-/// An aligned header and rows.
-fn write_rows(header: &[&str], rows: &[Vec<String>], out: &mut dyn Write) -> io::Result<()> {
-    let mut widths: Vec<usize> = header.iter().map(|h| h.len()).collect();
-    for row in rows {
-        for (width, cell) in widths.iter_mut().zip(row) {
-            *width = (*width).max(cell.len());
-        }
-    }
-    let line = |cells: Vec<&str>| {
-        let padded: Vec<String> = cells.iter().zip(&widths).map(|(cell, &width)| format!("{cell:<width$}")).collect();
-        padded.join("  ").trim_end().to_string()
-    };
-    writeln!(out, "{}", line(header.to_vec()))?;
-    for row in rows {
-        writeln!(out, "{}", line(row.iter().map(String::as_str).collect()))?;
-    }
-    Ok(())
+    super::table::write_headed(&header, &rows, out)
 }
 
 /// One CSV row per transition, with a header.

@@ -9,6 +9,19 @@ use crate::sizing::WorstCase;
 
 /// Write rows as aligned columns, the first row a header, two spaces of indent.
 pub fn write_columns(rows: &[Vec<String>], out: &mut dyn Write) -> io::Result<()> {
+    write_aligned(rows, "  ", out)
+}
+
+/// A header line and its rows, aligned at the margin (the simulation reports).
+pub fn write_headed(header: &[&str], rows: &[Vec<String>], out: &mut dyn Write) -> io::Result<()> {
+    let mut all = vec![header.iter().map(|h| h.to_string()).collect::<Vec<String>>()];
+    all.extend(rows.iter().cloned());
+    write_aligned(&all, "", out)
+}
+
+/// Write rows as columns aligned on their widest cell, two spaces apart, each line after `indent`
+/// (the report's sections indent by two spaces; the simulation reports start at the margin).
+pub fn write_aligned(rows: &[Vec<String>], indent: &str, out: &mut dyn Write) -> io::Result<()> {
     let width = rows.iter().map(Vec::len).max().unwrap_or(0);
     let mut widths = vec![0; width];
     for row in rows {
@@ -17,7 +30,7 @@ pub fn write_columns(rows: &[Vec<String>], out: &mut dyn Write) -> io::Result<()
         }
     }
     for row in rows {
-        let mut line = String::from("  ");
+        let mut line = String::from(indent);
         for (column, cell) in row.iter().enumerate() {
             line.push_str(cell);
             if column + 1 < row.len() {
