@@ -9,6 +9,8 @@
 
 pub mod stages;
 
+pub use stages::output_diffusion;
+
 use std::sync::Arc;
 
 use crate::budget::Meter;
@@ -434,19 +436,6 @@ pub fn input_capacitance(stage: &SizedStage) -> Vec<f64> {
         }
     }
     capacitance
-}
-
-/// Diffusion width on the stage's output node, in W/L: the W/L of every device whose drain is the
-/// output.
-pub fn output_diffusion(stage: &SizedStage) -> f64 {
-    let output = &stage.function.output;
-    stage
-        .networks
-        .values()
-        .flat_map(|n| n.terminals.iter().zip(&n.widths))
-        .filter(|(terminals, _)| terminals.drain == *output)
-        .map(|(_, width)| width)
-        .sum()
 }
 
 fn network_figures(function: &GateFunction, sized: &SizedNetwork, plan: &Plan) -> NetworkFigures {

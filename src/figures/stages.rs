@@ -82,8 +82,9 @@ fn gate_capacitance(stage: &SizedStage) -> Vec<f64> {
     capacitance
 }
 
-/// Diffusion W/L on the stage's output node.
-fn output_diffusion(stage: &SizedStage) -> f64 {
+/// Diffusion width on the stage's output node, in W/L: the W/L of every device whose drain is the
+/// output (the parasitic delay of a stage, in one stage's figures and a cell's alike).
+pub fn output_diffusion(stage: &SizedStage) -> f64 {
     let output = &stage.function.output;
     stage
         .networks

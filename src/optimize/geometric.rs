@@ -567,11 +567,9 @@ mod tests {
         Monomial { coefficient, exponents: exponents.to_vec() }
     }
 
-    #[test]
-    fn box_volume_by_hand() {
-        // Minimise 1/(x y) with x + y <= 2 (as x/2 + y/2 <= 1): x = y = 1 by AM-GM
-        // (common practice, no source)
-        let program = Program {
+    /// Minimise 1/(x y) with x + y <= 2 (as x/2 + y/2 <= 1), from x = 0.1, y = 5.
+    fn box_volume() -> Program {
+        Program {
             variables: 2,
             objective: Posynomial { terms: vec![monomial(1.0, &[(0, -1.0), (1, -1.0)])] },
             constraints: vec![Posynomial { terms: vec![monomial(0.5, &[(0, 1.0)]), monomial(0.5, &[(1, 1.0)])] }],
@@ -579,7 +577,13 @@ mod tests {
             upper: vec![1e3; 2],
             start: vec![0.1, 5.0],
             hard: Vec::new(),
-        };
+        }
+    }
+
+    #[test]
+    fn box_volume_by_hand() {
+        // x = y = 1 by AM-GM (common practice, no source)
+        let program = box_volume();
         let Outcome::Optimal { x, objective, at_bound } = solve(&program).unwrap() else { panic!("feasible") };
         assert!((x[0] - 1.0).abs() < 1e-6 && (x[1] - 1.0).abs() < 1e-6, "{x:?}");
         assert!((objective - 1.0).abs() < 1e-8);
@@ -588,15 +592,7 @@ mod tests {
 
     #[test]
     fn the_solver_keeps_to_its_work_budget() {
-        let program = Program {
-            variables: 2,
-            objective: Posynomial { terms: vec![monomial(1.0, &[(0, -1.0), (1, -1.0)])] },
-            constraints: vec![Posynomial { terms: vec![monomial(0.5, &[(0, 1.0)]), monomial(0.5, &[(1, 1.0)])] }],
-            lower: vec![1e-3; 2],
-            upper: vec![1e3; 2],
-            start: vec![0.1, 5.0],
-            hard: Vec::new(),
-        };
+        let program = box_volume();
         let (step, trial) = step_work(&program);
         assert!(step > trial && trial > 0);
         // Refused before it starts when its most Newton steps pass the whole budget.

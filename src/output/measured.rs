@@ -100,93 +100,60 @@ fn write_stages_table(measured: &Measured, out: &mut dyn Write) -> io::Result<()
     super::table::write_headed(&header, &rows, out)
 }
 
-/// One CSV row per transition, with a header.
+/// One CSV row per transition, with a header; a cell of several stages adds its estimates and
+/// its output stage's delay after the one-stage columns (the ratio is the cell's delay over the
+/// reference's).
 pub fn write_csv(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
-    if measured.delays.iter().any(|d| d.stages.is_some()) {
-        return write_stages_csv(measured, out);
-    }
+    let several = measured.delays.iter().any(|d| d.stages.is_some());
     let mut writer = csv::Writer::from_writer(out);
     let fail = |error: csv::Error| io::Error::other(error.to_string());
-    writer
-        .write_record([
-            "cell",
-            "transition",
-            "input",
-            "input_edge",
-            "output_edge",
-            "held",
-            "load_ff",
-            "delay_ps",
-            "reference_delay_ps",
-            "ratio",
-        ])
-        .map_err(fail)?;
-    for d in &measured.delays {
-        writer
-            .write_record([
-                measured.cell.as_str(),
-                &d.tag,
-                &d.input,
-                d.input_edge,
-                d.output_edge,
-                &d.held,
-                &number(d.load_ff),
-                &number(ps(d.delay_s)),
-                &number(ps(d.reference_s)),
-                &number(d.delay_s / d.reference_s),
-            ])
-            .map_err(fail)?;
-    }
-    writer.flush()
-}
-
-/// The CSV rows of a cell of several stages: the one-stage columns (the ratio the cell's delay
-/// over the reference's), then the estimates and the output stage's delay.
-fn write_stages_csv(measured: &Measured, out: &mut dyn Write) -> io::Result<()> {
-    let mut writer = csv::Writer::from_writer(out);
-    let fail = |error: csv::Error| io::Error::other(error.to_string());
-    writer
-        .write_record([
-            "cell",
-            "transition",
-            "input",
-            "input_edge",
-            "output_edge",
-            "held",
-            "load_ff",
-            "delay_ps",
-            "reference_delay_ps",
-            "ratio",
+    let mut header = vec![
+        "cell",
+        "transition",
+        "input",
+        "input_edge",
+        "output_edge",
+        "held",
+        "load_ff",
+        "delay_ps",
+        "reference_delay_ps",
+        "ratio",
+    ];
+    if several {
+        header.extend([
             "elmore_ps",
             "estimate_ps",
             "estimate_tau",
             "delay_over_estimate",
             "output_stage_delay_ps",
             "output_stage_ratio",
-        ])
-        .map_err(fail)?;
+        ]);
+    }
+    writer.write_record(&header).map_err(fail)?;
     for d in &measured.delays {
-        let Some(stages) = &d.stages else { continue };
-        writer
-            .write_record([
-                measured.cell.as_str(),
-                &d.tag,
-                &d.input,
-                d.input_edge,
-                d.output_edge,
-                &d.held,
-                &number(d.load_ff),
-                &number(ps(d.delay_s)),
-                &number(ps(d.reference_s)),
-                &number(d.delay_s / d.reference_s),
-                &number(ps(stages.elmore_s)),
-                &number(ps(stages.estimate_s)),
-                &number(stages.estimate_tau),
-                &number(d.delay_s / stages.estimate_s),
-                &number(ps(stages.stage_s)),
-                &number(stages.stage_s / d.reference_s),
-            ])
-            .map_err(fail)?;
+        let mut row = vec![
+            measured.cell.clone(),
+            d.tag.clone(),
+            d.input.clone(),
+            d.input_edge.to_string(),
+            d.output_edge.to_string(),
+            d.held.clone(),
+            number(d.load_ff),
+            number(ps(d.delay_s)),
+            number(ps(d.reference_s)),
+            number(d.delay_s / d.reference_s),
+        ];
+        if let Some(stages) = &d.stages {
+            row.extend([
+                number(ps(stages.elmore_s)),
+                number(ps(stages.estimate_s)),
+                number(stages.estimate_tau),
+                number(d.delay_s / stages.estimate_s),
+                number(ps(stages.stage_s)),
+                number(stages.stage_s / d.reference_s),
+            ]);
+        }
+        writer.write_record(&row).map_err(fail)?;
     }
     writer.flush()
 }

@@ -11,7 +11,7 @@ use crate::figures;
 use crate::paths::Vector;
 use crate::sizing::plan::{Conditions, Load};
 use crate::timing::circuit::{Circuit, conducting_devices, flat_widths, reference_delay, tau};
-use crate::timing::delays::{MAX_TIMED_OCCURRENCES, transition_error, units_of};
+use crate::timing::delays::{MAX_TIMED_OCCURRENCES, delay_model, transition_error, units_of};
 use crate::timing::error::TimingError;
 use crate::timing::report::{DelayModel, Edge, ProcessUnits, Unavailable};
 use crate::timing::transition::{Rule, Transition};
@@ -278,24 +278,7 @@ pub fn time_cell(
             });
         }
     }
-    let (fanout, load_c, load_ff) = match conditions.load {
-        Load::Fanout(h) => (Some(h), None, None),
-        Load::Units(c) => (None, Some(c), None),
-        Load::Femtofarads(ff) => (None, Some(units_of(plan, ff)?), Some(ff)),
-    };
-    Ok(CellTiming {
-        delay_model: DelayModel {
-            diffusion_ratio: conditions.diffusion_ratio,
-            fanout,
-            load_c,
-            load_ff,
-            tau_fall_rc: tau(plan, Edge::Fall),
-            tau_rise_rc: tau(plan, Edge::Rise),
-            process: units,
-        },
-        delays,
-        unavailable_delays: unavailable,
-    })
+    Ok(CellTiming { delay_model: delay_model(plan, conditions, units)?, delays, unavailable_delays: unavailable })
 }
 
 #[cfg(test)]

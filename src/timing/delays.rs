@@ -28,6 +28,29 @@ pub fn input_loads(stage: &SizedStage, plan: &Plan, load: Load) -> Result<Vec<f6
     })
 }
 
+/// What every delay of a cell was timed under: the load as given (and in C), the diffusion ratio,
+/// tau for each edge and the process's units; one-stage and several-stage timing alike.
+pub fn delay_model(
+    plan: &Plan,
+    conditions: &Conditions,
+    units: Option<ProcessUnits>,
+) -> Result<DelayModel, TimingError> {
+    let (fanout, load_c, load_ff) = match conditions.load {
+        Load::Fanout(h) => (Some(h), None, None),
+        Load::Units(c) => (None, Some(c), None),
+        Load::Femtofarads(ff) => (None, Some(units_of(plan, ff)?), Some(ff)),
+    };
+    Ok(DelayModel {
+        diffusion_ratio: conditions.diffusion_ratio,
+        fanout,
+        load_c,
+        load_ff,
+        tau_fall_rc: tau(plan, Edge::Fall),
+        tau_rise_rc: tau(plan, Edge::Rise),
+        process: units,
+    })
+}
+
 /// A capacitance in fF in units of C, the process's unit gate capacitance.
 pub fn units_of(plan: &Plan, load_ff: f64) -> Result<f64, TimingError> {
     let c = load_ff / plan.process.unit_capacitance_ff();
@@ -113,24 +136,7 @@ pub fn time_stage(
         let h = if capacitance[input] > 0.0 { load / capacitance[input] } else { 0.0 };
         delays.push(delay(stage, plan, conditions, &circuit, &measured, units.as_ref(), load, g, h, p_output_node));
     }
-    let (fanout, load_c, load_ff) = match conditions.load {
-        Load::Fanout(h) => (Some(h), None, None),
-        Load::Units(c) => (None, Some(c), None),
-        Load::Femtofarads(ff) => (None, Some(units_of(plan, ff)?), Some(ff)),
-    };
-    Ok(Timing {
-        delay_model: DelayModel {
-            diffusion_ratio: conditions.diffusion_ratio,
-            fanout,
-            load_c,
-            load_ff,
-            tau_fall_rc: tau(plan, Edge::Fall),
-            tau_rise_rc: tau(plan, Edge::Rise),
-            process: units,
-        },
-        delays,
-        unavailable_delays: unavailable,
-    })
+    Ok(Timing { delay_model: delay_model(plan, conditions, units)?, delays, unavailable_delays: unavailable })
 }
 
 /// The report of one timed transition.

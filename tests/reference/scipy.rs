@@ -1,9 +1,6 @@
 //! The min-area optimum against scipy's SLSQP (scipy from PyPI, run by
 //! `tests/reference/scipy_min_area.py`, which finds the paths itself from the netlist).
 
-use std::io::Write;
-use std::process::{Command, Stdio};
-
 use widthwise::figures::CellFigures;
 use widthwise::{Method, Plan, size_text};
 
@@ -32,15 +29,7 @@ fn min_area_matches_slsqp() {
     let plan = Plan::new(Method::MIN_AREA, 2.0, 1.0, None);
     let gates: Vec<_> = GATES.iter().map(|text| CellFigures::of(&size_text(text, &plan).unwrap())).collect();
     let input = serde_json::to_vec(&gates).unwrap();
-    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/scipy_min_area.py");
-    let child =
-        Command::new("python3").arg(script).stdin(Stdio::piped()).stdout(Stdio::piped()).stderr(Stdio::piped()).spawn();
-    let mut child = child.expect("python3 runs (it imported scipy above)");
-    child.stdin.take().unwrap().write_all(&input).unwrap();
-    let output = child.wait_with_output().unwrap();
-    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
-    let lines: Vec<serde_json::Value> =
-        String::from_utf8(output.stdout).unwrap().lines().map(|l| serde_json::from_str(l).unwrap()).collect();
+    let lines = crate::support::run_scipy("scipy_min_area.py", &input);
     assert_eq!(lines.len(), 2 * GATES.len());
     let mut largest = 0.0f64;
     for (line, (gate, network)) in lines.iter().zip(gates.iter().flat_map(|g| g.networks.iter().map(move |n| (g, n)))) {

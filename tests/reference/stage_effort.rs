@@ -3,8 +3,7 @@
 //! inner stages' sizes (run by `tests/reference/scipy_stage_effort.py`, which reads the written
 //! netlist itself) lands on the tool's sizes.
 
-use std::io::Write;
-use std::process::{Command, Stdio};
+use std::io::Write as _;
 use std::sync::Arc;
 
 use widthwise::figures::CellFigures;
@@ -64,15 +63,7 @@ fn inner_stage_sizes_minimise_the_path_delay() {
             cases.push(format!("{text} at drive {drive}, F = {effort}"));
         }
     }
-    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/scipy_stage_effort.py");
-    let child =
-        Command::new("python3").arg(script).stdin(Stdio::piped()).stdout(Stdio::piped()).stderr(Stdio::piped()).spawn();
-    let mut child = child.expect("python3 runs (it imported scipy above)");
-    child.stdin.take().unwrap().write_all(&input).unwrap();
-    let output = child.wait_with_output().unwrap();
-    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
-    let lines: Vec<serde_json::Value> =
-        String::from_utf8(output.stdout).unwrap().lines().map(|l| serde_json::from_str(l).unwrap()).collect();
+    let lines = crate::support::run_scipy("scipy_stage_effort.py", &input);
     assert_eq!(lines.len(), cases.len());
     let mut largest = 0.0f64;
     for (line, case) in lines.iter().zip(&cases) {

@@ -128,3 +128,18 @@ pub fn process_with(values: &[(&str, String)]) -> String {
         .join("\n")
         + "\n"
 }
+
+/// Run the scipy script `tests/reference/<script>` with `input` on its standard input; each line it
+/// prints, as JSON (panics, with its stderr, when it fails).
+pub fn run_scipy(script: &str, input: &[u8]) -> Vec<serde_json::Value> {
+    use std::io::Write as _;
+    use std::process::Stdio;
+    let path = format!("{}/tests/reference/{script}", env!("CARGO_MANIFEST_DIR"));
+    let child =
+        Command::new("python3").arg(path).stdin(Stdio::piped()).stdout(Stdio::piped()).stderr(Stdio::piped()).spawn();
+    let mut child = child.expect("python3 runs (it imported scipy above)");
+    child.stdin.take().unwrap().write_all(input).unwrap();
+    let output = child.wait_with_output().unwrap();
+    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
+    String::from_utf8(output.stdout).unwrap().lines().map(|l| serde_json::from_str(l).unwrap()).collect()
+}

@@ -2,9 +2,6 @@
 //! `tests/reference/scipy_vectors.py`, which finds the conducting and minimal vectors and the
 //! effective resistances itself from the netlist, by node-voltage analysis).
 
-use std::io::Write;
-use std::process::{Command, Stdio};
-
 use widthwise::exact::{DEFAULT_BUDGET, ExactSizing, size_network};
 use widthwise::expr::read_gate;
 use widthwise::network::{Network, NetworkKind};
@@ -128,15 +125,7 @@ fn exact_sizing_matches_slsqp() {
     }
     let cases = cases();
     let input = serde_json::to_vec(&cases.iter().map(Case::json).collect::<Vec<_>>()).unwrap();
-    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/scipy_vectors.py");
-    let child =
-        Command::new("python3").arg(script).stdin(Stdio::piped()).stdout(Stdio::piped()).stderr(Stdio::piped()).spawn();
-    let mut child = child.expect("python3 runs (it imported scipy above)");
-    child.stdin.take().unwrap().write_all(&input).unwrap();
-    let output = child.wait_with_output().unwrap();
-    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
-    let lines: Vec<serde_json::Value> =
-        String::from_utf8(output.stdout).unwrap().lines().map(|l| serde_json::from_str(l).unwrap()).collect();
+    let lines = crate::support::run_scipy("scipy_vectors.py", &input);
     assert_eq!(lines.len(), cases.len());
     let mut largest = 0.0f64;
     for (case, line) in cases.iter().zip(&lines) {

@@ -6,9 +6,6 @@
 //! minimal vectors and resistances itself from the netlist); the pull-ups quoted in the
 //! repository's issue on exact sizing through the command line.
 
-use std::io::Write;
-use std::process::{Command, Stdio};
-
 use proptest::prelude::*;
 use proptest::strategy::ValueTree;
 use proptest::test_runner::{Config, RngAlgorithm, TestRng, TestRunner};
@@ -265,15 +262,7 @@ fn totals_match_slsqp_on_random_repeated_input_gates() {
             ours.push(list.iter().map(|d| d.3).sum::<f64>());
         }
     }
-    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/reference/scipy_vectors.py");
-    let child =
-        Command::new("python3").arg(script).stdin(Stdio::piped()).stdout(Stdio::piped()).stderr(Stdio::piped()).spawn();
-    let mut child = child.expect("python3 runs (it imported scipy above)");
-    child.stdin.take().unwrap().write_all(&serde_json::to_vec(&cases).unwrap()).unwrap();
-    let output = child.wait_with_output().unwrap();
-    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
-    let lines: Vec<serde_json::Value> =
-        String::from_utf8(output.stdout).unwrap().lines().map(|l| serde_json::from_str(l).unwrap()).collect();
+    let lines = crate::support::run_scipy("scipy_vectors.py", &serde_json::to_vec(&cases).unwrap());
     assert_eq!(lines.len(), cases.len());
     let mut largest = 0.0f64;
     for ((case, line), ours) in cases.iter().zip(&lines).zip(&ours) {
