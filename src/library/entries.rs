@@ -241,11 +241,6 @@ pub(crate) fn to_span(range: Range<usize>) -> Span {
     Span::from(range)
 }
 
-/// A placeholder left where a value was taken out of the parsed tree.
-pub(crate) fn taken() -> Spanned<DeValue<'static>> {
-    Spanned::new(0..0, DeValue::Boolean(false))
-}
-
 /// Where a string value's contents start in the file, when the file holds them verbatim (no
 /// escapes or line continuations), so that a place in the value is a place in the file.
 pub(crate) fn verbatim_start(text: &str, span: Range<usize>, value: &str) -> Option<usize> {
@@ -272,6 +267,7 @@ pub(crate) fn verbatim_start(text: &str, span: Range<usize>, value: &str) -> Opt
 }
 
 /// What `[defaults]` and the process give every gate, and what the command line sets over all.
+#[derive(Debug, Clone)]
 pub(crate) struct Common {
     pub(crate) method: MethodName,
     pub(crate) worst_case: WorstCase,
