@@ -240,9 +240,10 @@ min-area sizing in-process, the gates of benches/scipy_min_area.py (compare its 
     println!("  median {:.2} us per gate", times[times.len() / 2].as_secs_f64() * 1e6);
 }
 
-/// The 20,000-gate library of the batch figures: shorthands and expressions, a third of the gates in
-/// three drives (invented, generated; the same file on every run).
-fn batch_library() -> String {
+/// The library of the batch figures, `gates` gates: shorthands and expressions, a third of the gates
+/// in three drives (invented, generated; the same file on every run). 20,000 gates are 33,334
+/// variants.
+fn batch_library(gates: usize) -> String {
     const EXPRESSIONS: [&str; 12] = [
         "inv",
         "nand2",
@@ -258,7 +259,7 @@ fn batch_library() -> String {
         "(p q + r)'",
     ];
     let mut text = String::from("[defaults]\nmethod = \"longest-path\"\n\n");
-    for index in 0..20_000 {
+    for index in 0..gates {
         let expression = EXPRESSIONS[index % EXPRESSIONS.len()];
         let method = if index % 5 == 0 { "method = \"min-area\"\n" } else { "" };
         let drive = if index % 3 == 0 { "drive = [1, 2, 4]\n" } else { "" };
@@ -267,52 +268,109 @@ fn batch_library() -> String {
     text
 }
 
-/// The batch command on 20,000 gates, end to end as a user runs it: wall time and peak resident
-/// memory of the process (GNU time's %e and %M), per output format.
-fn batch_end_to_end() {
-    println!("\nbatch of 20,000 gates (33,334 variants), the release binary end to end, output to a file");
+/// One gate of `drives` drives, 1 to `drives`: a library of one gate's variants.
+fn one_gate_library(drives: usize) -> String {
+    let list: Vec<String> = (1..=drives).map(|drive| drive.to_string()).collect();
+    format!("[[gate]]\nname = \"n\"\nexpr = \"nand2\"\ndrive = [{}]\n", list.join(", "))
+}
+
+/// What GNU time says of one run: wall, user and system seconds, peak resident MB.
+struct Run {
+    wall: f64,
+    user: f64,
+    system: f64,
+    peak_mb: f64,
+}
+
+/// `widthwise batch LIBRARY --format FORMAT [--rows ROWS] -o OUTPUT` under GNU time, the best wall
+/// time of `rounds` runs; `None` where GNU time is not installed.
+fn timed_batch(
+    library: &std::path::Path,
+    format: &str,
+    rows: &str,
+    output: &std::path::Path,
+    rounds: usize,
+) -> Option<Run> {
+    let binary = env!("CARGO_BIN_EXE_widthwise");
+    let mut best: Option<Run> = None;
+    for _ in 0..rounds {
+        // Rows are a table's and a CSV's (batch refuses them with JSON and SPICE).
+        let rows_option: &[&str] = if matches!(format, "csv" | "table") { &["--rows", rows] } else { &[] };
+        let run = std::process::Command::new("/usr/bin/time")
+            .args(["-f", "%e %U %S %M", binary, "batch"])
+            .arg(library)
+            .args(["--format", format])
+            .args(rows_option)
+            .arg("-o")
+            .arg(output)
+            .output()
+            .ok()?;
+        assert!(run.status.success(), "{}", String::from_utf8_lossy(&run.stderr));
+        let stderr = String::from_utf8_lossy(&run.stderr);
+        let figures: Vec<f64> =
+            stderr.lines().last().unwrap_or("").split_whitespace().map(|f| f.parse().unwrap_or(f64::NAN)).collect();
+        let [wall, user, system, peak_kb] = figures[..] else { panic!("GNU time's line: {stderr}") };
+        if best.as_ref().is_none_or(|b| wall < b.wall) {
+            best = Some(Run { wall, user, system, peak_mb: peak_kb / 1024.0 });
+        }
+    }
+    best
+}
+
+/// Every format and view of the batch.
+const BATCH_FORMATS: [(&str, &str); 5] =
+    [("csv", "gates"), ("csv", "devices"), ("json", "gates"), ("table", "gates"), ("spice", "gates")];
+
+/// Write `text` as a library in a fresh temporary folder and run the batch on it in every format,
+/// `rounds` runs each, printing GNU time's figures.
+fn batch_figures(title: &str, text: &str, rounds: usize) {
+    println!("\n{title}");
     let directory = std::env::temp_dir().join(format!("widthwise-bench-{}", std::process::id()));
     std::fs::create_dir_all(&directory).expect("a temporary directory");
     let library = directory.join("library.toml");
-    std::fs::write(&library, batch_library()).expect("the library is written");
+    std::fs::write(&library, text).expect("the library is written");
     let output = directory.join("out");
-    let binary = env!("CARGO_BIN_EXE_widthwise");
-    for (format, rows) in
-        [("csv", "gates"), ("csv", "devices"), ("json", "gates"), ("table", "gates"), ("spice", "gates")]
-    {
-        let mut best: Option<(f64, f64)> = None;
-        for _ in 0..3 {
-            // Rows are a table's and a CSV's (batch refuses them with JSON and SPICE).
-            let rows_option: &[&str] = if matches!(format, "csv" | "table") { &["--rows", rows] } else { &[] };
-            let run = std::process::Command::new("/usr/bin/time")
-                .args(["-f", "%e %M", binary, "batch"])
-                .arg(&library)
-                .args(["--format", format])
-                .args(rows_option)
-                .arg("-o")
-                .arg(&output)
-                .output();
-            let Ok(run) = run else {
-                println!("  /usr/bin/time (GNU time) is not installed: batch figures skipped");
-                return;
-            };
-            assert!(run.status.success(), "{}", String::from_utf8_lossy(&run.stderr));
-            let stderr = String::from_utf8_lossy(&run.stderr);
-            let mut figures = stderr.lines().last().unwrap_or("").split_whitespace();
-            let wall: f64 = figures.next().and_then(|f| f.parse().ok()).unwrap_or(f64::NAN);
-            let peak_mb = figures.next().and_then(|f| f.parse::<f64>().ok()).unwrap_or(f64::NAN) / 1024.0;
-            if best.is_none_or(|(w, _)| wall < w) {
-                best = Some((wall, peak_mb));
-            }
-        }
-        let (wall, peak_mb) = best.expect("three runs");
+    for (format, rows) in BATCH_FORMATS {
+        let Some(run) = timed_batch(&library, format, rows, &output, rounds) else {
+            println!("  /usr/bin/time (GNU time) is not installed: batch figures skipped");
+            break;
+        };
         let size = std::fs::metadata(&output).map_or(0, |m| m.len());
         println!(
-            "  {format:<5} {rows:<8} {wall:>6.2} s wall, peak {peak_mb:>5.1} MB, {:>6.1} MB written",
+            "  {format:<5} {rows:<8} {:>6.2} s wall ({:.2} s user, {:.2} s system), peak {:>5.1} MB, {:>6.1} MB written",
+            run.wall,
+            run.user,
+            run.system,
+            run.peak_mb,
             size as f64 / 1e6
         );
     }
     let _ = std::fs::remove_dir_all(&directory);
+}
+
+/// The batch command on 20,000 gates, end to end as a user runs it: wall time and peak resident
+/// memory of the process (GNU time's %e and %M), per output format, the best of three runs.
+fn batch_end_to_end() {
+    batch_figures(
+        "batch of 20,000 gates (33,334 variants), the release binary end to end, output to a file",
+        &batch_library(20_000),
+        3,
+    );
+}
+
+/// Memory against the library's size: 100,000 gates (166,667 variants), and one gate of 100,000
+/// drives, every format, one run each (peak resident memory is the figure; target < 100 MB).
+fn batch_memory() {
+    batch_figures(
+        "batch of 100,000 gates (166,667 variants): peak memory (target < 100 MB)",
+        &batch_library(100_000),
+        1,
+    );
+    batch_figures(
+        "batch of one nand2 gate in 100,000 drives: peak memory (target < 100 MB)",
+        &one_gate_library(100_000),
+        1,
+    );
 }
 
 fn main() {
@@ -352,5 +410,8 @@ fn main() {
     }
     if run("batch") {
         batch_end_to_end();
+    }
+    if run("batch memory") {
+        batch_memory();
     }
 }

@@ -70,9 +70,10 @@ and the models are the command line's. A variant not calibrated (its time limit,
 its area cap) is reported on stderr and left out; the others are written (exit 1; 2 where one was
 past its run budget).
 
-Errors: a bad gate is reported on stderr with its name, line and column and the others are still
-written (exit 2). A TOML error, a bad process or [defaults], a duplicate name or two variants with the
-same name stop the run before any output (exit 2).
+Errors: a bad gate (a TOML error inside its [[gate]] table included) is reported on stderr with its
+name, line and column and the others are still written (exit 2). A TOML error outside the gate
+tables, a bad process or [defaults], a duplicate name or two variants with the same name stop the
+run before any output (exit 2).
 
 ",
     exit_codes_line!(),

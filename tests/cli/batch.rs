@@ -1012,3 +1012,128 @@ fn svg_writes_a_schematic_per_variant_in_a_folder() {
         .code(2)
         .stderr(predicate::str::contains("--rows does not apply"));
 }
+
+/// The batch's CSV of `text` on standard input: exit code, gate column of every row, stderr.
+fn batch_stdin(text: &str) -> (Option<i32>, Vec<String>, String) {
+    let output = widthwise().args(["batch", "-", "--format", "csv"]).write_stdin(text).output().unwrap();
+    let (_, rows) = if output.stdout.is_empty() { (Vec::new(), Vec::new()) } else { records(&output.stdout) };
+    let names = rows.iter().map(|row| row["gate"].clone()).collect();
+    (output.status.code(), names, String::from_utf8(output.stderr).unwrap())
+}
+
+#[test]
+fn a_toml_error_in_one_gate_table_costs_only_that_gate() {
+    // Key/value pairs are one to a line: a second pair on the line is an error (TOML 1.0
+    // specification (toml.io), from memory).
+    let text = "[defaults]\ndrive = [1, 2]\n\n[[gate]]\nname = \"one\"\nexpr = \"nand2\"\n\n\
+                [[gate]]\nname = \"two\"\nexpr = \"nor2\" drive = 4\n\n[[gate]]\nname = \"three\"\nexpr = \"aoi21\"\n";
+    let (code, names, stderr) = batch_stdin(text);
+    assert_eq!(code, Some(2), "{stderr}");
+    assert_eq!(names, ["one_x1", "one_x2", "three_x1", "three_x2"]);
+    assert!(stderr.starts_with("error: gate 'two': "), "{stderr}");
+    // The place is the file's: line 10, the caret under the second pair.
+    assert!(
+        stderr
+            .contains("  at standard input, line 10, column 15:\n    expr = \"nor2\" drive = 4\n                  ^\n"),
+        "{stderr}"
+    );
+    assert!(stderr.trim_end().ends_with("error: 1 of 3 gates could not be sized (reported above); gates written: 2"));
+    // An unclosed array in a gate ends at the next [[gate]] header (no value is a bare word): the
+    // gate after it is still written.
+    let text = "[[gate]]\nname = \"one\"\nexpr = \"inv\"\ndrive = [1, 2\n\n[[gate]]\nname = \"two\"\nexpr = \"inv\"\n";
+    let (code, names, stderr) = batch_stdin(text);
+    assert_eq!((code, names), (Some(2), vec!["two_x1".to_string()]), "{stderr}");
+    assert!(stderr.starts_with("error: gate 'one': ") && stderr.contains("line 4, column"), "{stderr}");
+}
+
+#[test]
+fn text_like_a_header_inside_a_string_or_an_array_is_no_table() {
+    // A multi-line string runs to its closing quotes and an array to its closing bracket, so a
+    // `[[gate]]` inside either is text (or a comment), not a header (TOML 1.0 specification
+    // (toml.io), from memory): the file has three gates, the second with a bad expression.
+    let text = "[[gate]]\nname = \"one\"\nexpr = \"nand2\"\n\n[[gate]]\nname = \"two\"\nexpr = '''\n[[gate]]\n\
+                name = \"x\"\n'''\n\n[[gate]]\nname = \"three\"\nexpr = \"inv\"\ndrive = [\n  1,\n  2, # [[gate]]\n]\n\
+                reference = \"\"\"1:\\\n[[gate]]\"\"\"\n";
+    let (code, names, stderr) = batch_stdin(text);
+    assert_eq!(code, Some(2), "{stderr}");
+    assert_eq!(names, ["one_x1"], "{stderr}");
+    assert!(stderr.contains("error: gate 'two': "), "{stderr}");
+    // A line-ending backslash joins the lines of a multi-line basic string (TOML 1.0
+    // specification (toml.io), from memory).
+    assert!(stderr.contains("error: gate 'three': invalid value: string \"1:[[gate]]\""), "{stderr}");
+    assert!(stderr.trim_end().ends_with("error: 2 of 3 gates could not be sized (reported above); gates written: 1"));
+    // Without the bad values, all three are written, and nothing called x.
+    let good =
+        text.replace("'''\n[[gate]]\nname = \"x\"\n'''", "'''nor2'''").replace("\"\"\"1:\\\n[[gate]]\"\"\"", "\"1:2\"");
+    let (code, names, stderr) = batch_stdin(&good);
+    assert_eq!(code, Some(0), "{stderr}");
+    assert_eq!(names, ["one_x1", "two_x1", "three_x1", "three_x2"]);
+}
+
+#[test]
+fn places_in_a_late_gate_table_are_the_file_lines() {
+    // Forty good gates, then three bad ones: each message names its own line and column.
+    let mut text = String::from("# a long library\n[defaults]\nmethod = \"min-area\"\n");
+    for index in 0..40 {
+        text.push_str(&format!("\n[[gate]]\nname = \"g{index}\"\nexpr = \"nand3\"\n"));
+    }
+    let line_of = |text: &str| text.lines().count() + 1;
+    text.push_str("\n[[gate]]\nname = \"late_value\"\nexpr = \"nor2\"\n");
+    let value_line = line_of(&text);
+    text.push_str("stage_effort = -4\n\n[[gate]]\nname = \"late_key\"\n");
+    let key_line = line_of(&text);
+    text.push_str("  size = 3\nexpr = \"inv\"\n\n[[gate]]\nname = \"late_syntax\"\n");
+    let syntax_line = line_of(&text);
+    text.push_str("expr = = \"inv\"\n");
+    let (code, names, stderr) = batch_stdin(&text);
+    assert_eq!(code, Some(2), "{stderr}");
+    assert_eq!(names.len(), 40);
+    for (name, line, column) in
+        [("late_value", value_line, 16), ("late_key", key_line, 3), ("late_syntax", syntax_line, 8)]
+    {
+        let at = stderr.find(&format!("error: gate '{name}': ")).unwrap_or_else(|| panic!("{name}: {stderr}"));
+        let place = format!("  at standard input, line {line}, column {column}:");
+        assert_eq!(stderr[at..].lines().nth(1), Some(place.as_str()), "{name}: {stderr}");
+    }
+}
+
+#[test]
+fn a_name_clash_stops_the_run_whatever_lies_between() {
+    // The first pass reads every gate for its name before anything is written: a clash far apart,
+    // with a gate table the TOML reader refuses between, still stops the run.
+    let mut text = String::from("[[gate]]\nname = \"twin\"\nexpr = \"nand2\"\n");
+    for index in 0..50 {
+        text.push_str(&format!("[[gate]]\nname = \"g{index}\"\nexpr = \"inv\"\n"));
+    }
+    text.push_str("[[gate]]\nname = \"broken\"\nexpr = \"inv\" x\n[[gate]]\nname = \"Twin\"\nexpr = \"nor2\"\n");
+    for format in ["csv", "table", "json", "spice"] {
+        widthwise()
+            .args(["batch", "-", "--format", format])
+            .write_stdin(text.clone())
+            .assert()
+            .code(2)
+            .stdout(predicate::str::is_empty())
+            .stderr(predicate::str::contains("error: gate 'Twin': the name is already used by gate 1 as 'twin'"))
+            .stderr(predicate::str::contains("line 158, column 8"))
+            .stderr(predicate::str::contains("nothing was written"));
+    }
+}
+
+#[test]
+fn gates_after_a_table_of_defaults_and_as_an_inline_list() {
+    // `[defaults]` may follow gates (a table is a table wherever it is; TOML 1.0 specification
+    // (toml.io), from memory); gates may be an inline list; both forms at once are refused.
+    let after =
+        "[[gate]]\nname = \"a\"\nexpr = \"inv\"\n[defaults]\ndrive = 2\n[[gate]]\nname = \"b\"\nexpr = \"inv\"\n";
+    let (code, names, stderr) = batch_stdin(after);
+    assert_eq!((code, names), (Some(0), vec!["a_x2".to_string(), "b_x2".to_string()]), "{stderr}");
+    let inline = "gate = [\n  { name = \"a\", expr = \"inv\" },\n  { name = \"b\", expr = \"nand2\", size = 1 },\n]\n";
+    let (code, names, stderr) = batch_stdin(inline);
+    assert_eq!((code, names), (Some(2), vec!["a_x1".to_string()]), "{stderr}");
+    assert!(stderr.contains("unknown field `size`") && stderr.contains("line 3, column 33"), "{stderr}");
+    let both = "gate = []\n[[gate]]\nname = \"a\"\nexpr = \"inv\"\n";
+    let (code, names, stderr) = batch_stdin(both);
+    assert_eq!((code, names.len()), (Some(2), 0));
+    assert!(stderr.contains("gate is written here and as [[gate]] tables (the first at line 2)"), "{stderr}");
+    assert!(stderr.contains("line 1, column 1"), "{stderr}");
+}
