@@ -334,8 +334,8 @@ impl<'a> Simulator<'a> {
             }
             Coverage::Random { .. } => {
                 let mut words = vec![0; self.input_count];
-                for lane in 0..LANES {
-                    self.inputs(first + lane as u64, &mut words);
+                for (lane, word) in (first..first + LANES as u64).enumerate() {
+                    self.inputs(word, &mut words);
                     for (input, word) in words.iter().enumerate() {
                         values[2 * input][lane] = *word;
                         values[2 * input + 1][lane] = !*word;
