@@ -133,17 +133,9 @@ impl Table {
         top + terms.map(|t| (self.exponent(t, y) - top).exp()).sum::<f64>().ln()
     }
 
-    /// Every function's value at `y` into `values`, its term shares into `weights` (one per term)
-    /// and its gradient over its variables into `gradients` (at `touched_at`), with `powers` (one
-    /// per monomial) and `dense` (one per variable, left at zero) as scratch.
-    fn evaluate(
-        &self,
-        y: &[f64],
-        values: &mut [f64],
-        weights: &mut [f64],
-        gradients: &mut [f64],
-        scratch: &mut Scratch,
-    ) {
+    /// Every function's value at `y` into `values` and its term shares into `weights` (one per
+    /// term), with `scratch.powers` (one per monomial) as scratch.
+    fn evaluate(&self, y: &[f64], values: &mut [f64], weights: &mut [f64], scratch: &mut Scratch) {
         let mut top = f64::NEG_INFINITY;
         for (u, power) in scratch.powers.iter_mut().enumerate() {
             *power = self.monomial_pairs(u).iter().map(|&(k, e)| e * y[k]).sum::<f64>();
@@ -171,7 +163,14 @@ impl Table {
                 terms.clone().for_each(|t| weights[t] /= total);
                 values[f] = own + total.ln();
             }
-            for t in terms {
+        }
+    }
+
+    /// Every function's gradient over its variables into `gradients` (at `touched_at`), from the
+    /// term shares [`Table::evaluate`] gave, with `scratch.dense` (left at zero) as scratch.
+    fn gradients(&self, weights: &[f64], gradients: &mut [f64], scratch: &mut Scratch) {
+        for f in 0..self.functions() {
+            for t in self.term_at[f]..self.term_at[f + 1] {
                 for &(k, e) in self.monomial_pairs(self.monomial[t]) {
                     scratch.dense[k] += weights[t] * e;
                 }
@@ -186,7 +185,7 @@ impl Table {
     }
 
     /// Add `sum_f scale_f (Hessian of f)` to the lower triangle of `hessian` (`size x size`,
-    /// row-major), from the shares and gradients [`Table::evaluate`] gave: each monomial's outer
+    /// row-major), from the shares and gradients [`Table::evaluate`] and [`Table::gradients`] gave: each monomial's outer
     /// product once with its summed weight, then each function's rank-one part `(outer_f - scale_f)
     /// g g^T` (`scales` and `outers` per function; a function of scale 0 and outer 0 adds nothing).
     /// `shares` (one per monomial) is scratch.
@@ -237,7 +236,7 @@ impl Table {
     }
 }
 
-/// Scratch of [`Table::evaluate`].
+/// Scratch of [`Table::evaluate`] and [`Table::gradients`].
 struct Scratch {
     powers: Vec<f64>,
     dense: Vec<f64>,
@@ -272,7 +271,7 @@ struct Point {
     /// Constraint values `G_i` (posynomials less the slack where it relaxes them, then
     /// `y - upper`, then `lower - y`).
     values: Vec<f64>,
-    /// Each function's value, term shares and gradient ([`Table::evaluate`]).
+    /// Each function's value, term shares and gradient ([`Table::evaluate`], [`Table::gradients`]).
     functions: Vec<f64>,
     weights: Vec<f64>,
     gradients: Vec<f64>,
@@ -322,9 +321,10 @@ impl Problem<'_> {
     }
 
     /// Fill `point` at `z`; whether `z` is strictly inside (every value negative and finite).
+    /// Outside, the gradients are left as they were (a trial there is dropped before they are read).
     fn evaluate(&self, z: &[f64], point: &mut Point, scratch: &mut Scratch) -> bool {
         let s = if self.phase_one { z[self.n] } else { 0.0 };
-        self.table.evaluate(z, &mut point.functions, &mut point.weights, &mut point.gradients, scratch);
+        self.table.evaluate(z, &mut point.functions, &mut point.weights, scratch);
         let m = self.constraints();
         for i in 0..m {
             point.values[i] = point.functions[i + 1] - if i < self.soft { s } else { 0.0 };
@@ -333,7 +333,11 @@ impl Problem<'_> {
             point.values[m + j] = z[j] - self.upper[j];
             point.values[m + self.n + j] = self.lower[j] - z[j];
         }
-        point.values.iter().all(|v| *v < 0.0 && v.is_finite())
+        let inside = point.values.iter().all(|v| *v < 0.0 && v.is_finite());
+        if inside {
+            self.table.gradients(&point.weights, &mut point.gradients, scratch);
+        }
+        inside
     }
 
     /// The residual `(grad f + sum lambda_i grad G_i, -lambda_i G_i - 1/t)`: its dual part in
