@@ -201,6 +201,23 @@ fn verify_24_inputs() {
     }
 }
 
+/// `verify` of a 30-input gate of 60 input occurrences (2^30 vectors), the size the work budget
+/// allows, on one thread and on every core.
+fn verify_30_inputs() {
+    println!("\nverify of a 30-input random tree, 60 literals, all 2^30 vectors (target < 4 s on two cores)");
+    let gate = sized(&big_expression(60, 30), &options(Method::LongestPath));
+    assert_eq!(gate.inputs.len(), 30);
+    let threads = VerifyOptions::default().threads;
+    for use_threads in [1, threads] {
+        let options = VerifyOptions { threads: use_threads, ..VerifyOptions::default() };
+        let time = best_of(1, || {
+            let result = verify(&gate, &options).expect("verifies");
+            assert!(result.passed && result.vectors_checked == 1 << 30);
+        });
+        println!("  {:>3} transistors, {use_threads} thread(s): {:>7.2} s", gate.transistor_count, time.as_secs_f64());
+    }
+}
+
 /// The gates of benches/scipy_min_area.py, in the same order.
 const SCIPY_SET: [&str; 15] = [
     "nand3",
@@ -393,6 +410,7 @@ fn main() {
     }
     if run("verify") {
         verify_24_inputs();
+        verify_30_inputs();
     }
     if run("scipy") {
         scipy_set();

@@ -28,7 +28,7 @@ use crate::sizing::WorstCase;
 pub use error::VerifyError;
 use netlist::Netlist;
 pub use report::{Check, Coverage, Failure, NetworkBound, Verification, VerifyFailed};
-use simulate::{InnerStage, Program, Simulator, WORD, WordOutcome};
+use simulate::{InnerStage, LANES, Program, Simulator, WORD, WordOutcome};
 
 /// Most inputs checked exhaustively (2^30 vectors, about a billion); past it a pseudo-random sample.
 pub const MAX_EXHAUSTIVE_INPUTS: usize = 30;
@@ -101,8 +101,7 @@ pub fn verify(gate: &CellFigures, options: &VerifyOptions) -> Result<Verificatio
     } else {
         Coverage::Random { seed: options.seed }
     };
-    let simulator =
-        Simulator { inner: &inner, netlist: &netlist, program: &program, input_count: inputs.len(), coverage };
+    let simulator = Simulator::new(&inner, &netlist, &program, inputs.len(), coverage);
     let first = first_failure(&simulator, planned, options.threads.max(1));
 
     let failure = first.map(|(index, check, outcome)| {
@@ -184,21 +183,26 @@ fn first_failure(simulator: &Simulator, planned: u64, threads: usize) -> Option<
             if chunk >= chunks || chunk * CHUNK_WORDS * WORD > first_bad.load(Ordering::Relaxed) {
                 break;
             }
-            for word in chunk * CHUNK_WORDS..((chunk + 1) * CHUNK_WORDS).min(words) {
-                let outcome = simulator.word(word, &mut space);
-                let valid = if (word + 1) * WORD > planned { (1u64 << (planned - word * WORD)) - 1 } else { u64::MAX };
-                let failing = outcome.failing().map(|bits| bits & valid);
-                let any = failing.iter().fold(0, |acc, bits| acc | bits);
-                if any != 0 {
-                    let bit = any.trailing_zeros() as u64;
-                    let check = Check::ALL[failing.iter().position(|bits| bits >> bit & 1 == 1).unwrap_or(0)];
-                    let index = word * WORD + bit;
-                    first_bad.fetch_min(index, Ordering::Relaxed);
-                    let mut found = found.lock().unwrap_or_else(|e| e.into_inner());
-                    if found.is_none_or(|(other, _, _)| index < other) {
-                        *found = Some((index, check, outcome));
+            let end = ((chunk + 1) * CHUNK_WORDS).min(words);
+            'blocks: for first in (chunk * CHUNK_WORDS..end).step_by(LANES) {
+                let outcome = simulator.block(first, &mut space);
+                for (lane, word) in (first..end.min(first + LANES as u64)).enumerate() {
+                    let outcome = outcome.lane(lane);
+                    let valid =
+                        if (word + 1) * WORD > planned { (1u64 << (planned - word * WORD)) - 1 } else { u64::MAX };
+                    let failing = outcome.failing().map(|bits| bits & valid);
+                    let any = failing.iter().fold(0, |acc, bits| acc | bits);
+                    if any != 0 {
+                        let bit = any.trailing_zeros() as u64;
+                        let check = Check::ALL[failing.iter().position(|bits| bits >> bit & 1 == 1).unwrap_or(0)];
+                        let index = word * WORD + bit;
+                        first_bad.fetch_min(index, Ordering::Relaxed);
+                        let mut found = found.lock().unwrap_or_else(|e| e.into_inner());
+                        if found.is_none_or(|(other, _, _)| index < other) {
+                            *found = Some((index, check, outcome));
+                        }
+                        break 'blocks;
                     }
-                    break;
                 }
             }
         }
@@ -520,13 +524,7 @@ mod tests {
                 gate.function.inputs.iter().enumerate().map(|(i, n)| (n.as_str(), i)).collect();
             let netlist = Netlist::new(&gate, &input_index).unwrap();
             let program = Program::new(&parser::parse(&gate.function.text).unwrap().expr, &input_index).unwrap();
-            let simulator = Simulator {
-                inner: &[],
-                netlist: &netlist,
-                program: &program,
-                input_count: 40,
-                coverage: Coverage::Random { seed: 7 },
-            };
+            let simulator = Simulator::new(&[], &netlist, &program, 40, Coverage::Random { seed: 7 });
             let mut words = vec![0; 40];
             simulator.inputs(word, &mut words);
             words

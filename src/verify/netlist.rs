@@ -115,35 +115,6 @@ impl Netlist {
         let order = [VDD, VSS].map(|rail| breadth_first_order(node_count, &edges, rail as u32));
         Ok(Netlist { gating, combine, edges, node_count, order })
     }
-
-    /// Nodes reached from `rail` over the conducting edges (`words[slot]`), 64 vectors at a time,
-    /// swept in breadth-first order forwards and backwards until nothing changes.
-    pub(crate) fn reach(&self, rail: usize, words: &[u64], reach: &mut [u64]) {
-        reach.fill(0);
-        reach[rail] = u64::MAX;
-        let order = &self.order[usize::from(rail == VSS)];
-        let mut forward = true;
-        loop {
-            let mut changed = 0;
-            let mut step = |k: &u32| {
-                let edge = self.edges[*k as usize];
-                let (a, b) = (reach[edge.a as usize], reach[edge.b as usize]);
-                let joined = (a | b) & words[edge.slot as usize];
-                changed |= (joined & !a) | (joined & !b);
-                reach[edge.a as usize] = a | joined;
-                reach[edge.b as usize] = b | joined;
-            };
-            if forward {
-                order.iter().for_each(&mut step);
-            } else {
-                order.iter().rev().for_each(&mut step);
-            }
-            if changed == 0 {
-                break;
-            }
-            forward = !forward;
-        }
-    }
 }
 
 /// Series-parallel reduction of switches `ends[k]` (word `k` each) over `node_count` nodes, keeping

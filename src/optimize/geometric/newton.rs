@@ -1,0 +1,574 @@
+//! The primal-dual interior-point iteration of the geometric-program solver (Boyd & Vandenberghe,
+//! "Convex Optimization", 2004, section 11.7), on posynomials compiled once into log-sum-exp form:
+//! each term's exponents are stored against the function's own variables, so a value, its gradient
+//! and its Hessian touch only those, and every buffer (the points, the Newton system, its Cholesky
+//! factor, the steps) is allocated once per phase, never inside the iteration. Only the lower
+//! triangle of the Newton system is assembled: it is symmetric and the factorisation reads no more.
+
+// Dense linear algebra reads best with explicit indices.
+#![allow(clippy::needless_range_loop)]
+
+use crate::budget::{Meter, OverBudget, Work};
+
+/// Why a phase stopped without an answer.
+pub(super) enum Stop {
+    /// The start is not strictly inside.
+    Outside,
+    /// A Newton system that could not be factorised.
+    Singular,
+    /// No convergence within the iteration limit.
+    Stalled,
+    /// More work than the budget allows.
+    OverBudget(OverBudget),
+}
+
+impl From<OverBudget> for Stop {
+    fn from(over: OverBudget) -> Stop {
+        Stop::OverBudget(over)
+    }
+}
+
+/// The objective and the constraints in log variables, each `ln sum_t exp(b_t + a_t . y)`, over one
+/// table of distinct monomials `a_u . y`: the elmore method's delays share most of their monomials
+/// (a resistance times a capacitance appears in every delay through both), so each is evaluated,
+/// exponentiated and added into the Hessian once per point, whatever number of functions use it.
+pub(super) struct Table {
+    /// Monomial `u`'s (variable, exponent) pairs at `monomial_at[u]..monomial_at[u + 1]`, sorted
+    /// by variable, each variable once.
+    monomial_at: Vec<usize>,
+    pairs: Vec<(usize, f64)>,
+    /// Function `f`'s terms at `term_at[f]..term_at[f + 1]` (function 0 the objective).
+    term_at: Vec<usize>,
+    /// Each term's monomial, coefficient and its log.
+    monomial: Vec<usize>,
+    coefficient: Vec<f64>,
+    log_coefficient: Vec<f64>,
+    /// Function `f`'s variables, ascending, at `touched_at[f]..touched_at[f + 1]`.
+    touched_at: Vec<usize>,
+    touched: Vec<usize>,
+    variables: usize,
+}
+
+impl Table {
+    /// The table of `functions` (each a list of terms: coefficient, (variable, exponent) pairs)
+    /// over `variables` variables.
+    pub(super) fn new<'a, T>(functions: impl Iterator<Item = T>, variables: usize) -> Table
+    where
+        T: Iterator<Item = (f64, &'a [(usize, f64)])>,
+    {
+        let mut table = Table {
+            monomial_at: vec![0],
+            pairs: Vec::new(),
+            term_at: vec![0],
+            monomial: Vec::new(),
+            coefficient: Vec::new(),
+            log_coefficient: Vec::new(),
+            touched_at: vec![0],
+            touched: Vec::new(),
+            variables,
+        };
+        let mut known: std::collections::HashMap<Vec<(usize, u64)>, usize> = std::collections::HashMap::new();
+        let mut merged: Vec<(usize, f64)> = Vec::new();
+        for terms in functions {
+            let first = table.touched.len();
+            for (coefficient, exponents) in terms {
+                merged.clear();
+                for &(k, e) in exponents {
+                    match merged.iter_mut().find(|(v, _)| *v == k) {
+                        Some(pair) => pair.1 += e,
+                        None => merged.push((k, e)),
+                    }
+                }
+                merged.sort_unstable_by_key(|&(k, _)| k);
+                let key: Vec<(usize, u64)> = merged.iter().map(|&(k, e)| (k, e.to_bits())).collect();
+                let next = table.monomial_at.len() - 1;
+                let u = *known.entry(key).or_insert(next);
+                if u == next {
+                    table.pairs.extend_from_slice(&merged);
+                    table.monomial_at.push(table.pairs.len());
+                }
+                table.monomial.push(u);
+                table.coefficient.push(coefficient);
+                table.log_coefficient.push(coefficient.ln());
+                table.touched.extend(merged.iter().map(|&(k, _)| k));
+            }
+            table.term_at.push(table.monomial.len());
+            table.touched[first..].sort_unstable();
+            let mut kept = first;
+            for index in first..table.touched.len() {
+                if index == first || table.touched[index] != table.touched[kept - 1] {
+                    table.touched[kept] = table.touched[index];
+                    kept += 1;
+                }
+            }
+            table.touched.truncate(kept);
+            table.touched_at.push(kept);
+        }
+        table
+    }
+
+    /// Number of functions.
+    fn functions(&self) -> usize {
+        self.term_at.len() - 1
+    }
+
+    /// Function `f`'s variables.
+    pub(super) fn touched(&self, f: usize) -> &[usize] {
+        &self.touched[self.touched_at[f]..self.touched_at[f + 1]]
+    }
+
+    fn monomial_pairs(&self, u: usize) -> &[(usize, f64)] {
+        &self.pairs[self.monomial_at[u]..self.monomial_at[u + 1]]
+    }
+
+    /// `b_t + a_t . y` of term `t`.
+    fn exponent(&self, t: usize, y: &[f64]) -> f64 {
+        self.log_coefficient[t] + self.monomial_pairs(self.monomial[t]).iter().map(|&(k, e)| e * y[k]).sum::<f64>()
+    }
+
+    /// Function `f`'s value at `y`, stably.
+    pub(super) fn value(&self, f: usize, y: &[f64]) -> f64 {
+        let terms = self.term_at[f]..self.term_at[f + 1];
+        let top = terms.clone().map(|t| self.exponent(t, y)).fold(f64::NEG_INFINITY, f64::max);
+        top + terms.map(|t| (self.exponent(t, y) - top).exp()).sum::<f64>().ln()
+    }
+
+    /// Every function's value at `y` into `values` and its term shares into `weights` (one per
+    /// term), with `scratch.powers` (one per monomial) as scratch.
+    fn evaluate(&self, y: &[f64], values: &mut [f64], weights: &mut [f64], scratch: &mut Scratch) {
+        let mut top = f64::NEG_INFINITY;
+        for (u, power) in scratch.powers.iter_mut().enumerate() {
+            *power = self.monomial_pairs(u).iter().map(|&(k, e)| e * y[k]).sum::<f64>();
+            top = top.max(*power);
+        }
+        for power in scratch.powers.iter_mut() {
+            *power = (*power - top).exp();
+        }
+        for f in 0..self.functions() {
+            let terms = self.term_at[f]..self.term_at[f + 1];
+            let total: f64 = terms.clone().map(|t| self.coefficient[t] * scratch.powers[self.monomial[t]]).sum();
+            if total > 1e-280 && total.is_finite() {
+                values[f] = top + total.ln();
+                for t in terms.clone() {
+                    weights[t] = self.coefficient[t] * scratch.powers[self.monomial[t]] / total;
+                }
+            } else {
+                // Terms far below the table's largest: each function shifted by its own largest.
+                let own = terms.clone().map(|t| self.exponent(t, y)).fold(f64::NEG_INFINITY, f64::max);
+                let mut total = 0.0;
+                for t in terms.clone() {
+                    weights[t] = (self.exponent(t, y) - own).exp();
+                    total += weights[t];
+                }
+                terms.clone().for_each(|t| weights[t] /= total);
+                values[f] = own + total.ln();
+            }
+        }
+    }
+
+    /// Every function's gradient over its variables into `gradients` (at `touched_at`), from the
+    /// term shares [`Table::evaluate`] gave, with `scratch.dense` (left at zero) as scratch.
+    fn gradients(&self, weights: &[f64], gradients: &mut [f64], scratch: &mut Scratch) {
+        for f in 0..self.functions() {
+            for t in self.term_at[f]..self.term_at[f + 1] {
+                for &(k, e) in self.monomial_pairs(self.monomial[t]) {
+                    scratch.dense[k] += weights[t] * e;
+                }
+            }
+            let touched = self.touched(f);
+            let gradient = &mut gradients[self.touched_at[f]..self.touched_at[f + 1]];
+            for (g, &k) in gradient.iter_mut().zip(touched) {
+                *g = scratch.dense[k];
+                scratch.dense[k] = 0.0;
+            }
+        }
+    }
+
+    /// Add `sum_f scale_f (Hessian of f)` to the lower triangle of `hessian` (`size x size`,
+    /// row-major), from the shares and gradients [`Table::evaluate`] and [`Table::gradients`] gave: each monomial's outer
+    /// product once with its summed weight, then each function's rank-one part `(outer_f - scale_f)
+    /// g g^T` (`scales` and `outers` per function; a function of scale 0 and outer 0 adds nothing).
+    /// `shares` (one per monomial) is scratch.
+    fn add_hessian(
+        &self,
+        (weights, gradients): (&[f64], &[f64]),
+        (scales, outers): (&[f64], &[f64]),
+        hessian: &mut [f64],
+        size: usize,
+        shares: &mut [f64],
+    ) {
+        shares.fill(0.0);
+        for f in 0..self.functions() {
+            if scales[f] != 0.0 {
+                for t in self.term_at[f]..self.term_at[f + 1] {
+                    shares[self.monomial[t]] += scales[f] * weights[t];
+                }
+            }
+        }
+        for (u, &share) in shares.iter().enumerate() {
+            if share == 0.0 {
+                continue;
+            }
+            let pairs = self.monomial_pairs(u);
+            for (p, &(kp, ep)) in pairs.iter().enumerate() {
+                let row = &mut hessian[kp * size..];
+                let factor = share * ep;
+                for &(kq, eq) in &pairs[..=p] {
+                    row[kq] += factor * eq;
+                }
+            }
+        }
+        for f in 0..self.functions() {
+            let rank_one = outers[f] - scales[f];
+            if rank_one == 0.0 {
+                continue;
+            }
+            let touched = self.touched(f);
+            let gradient = &gradients[self.touched_at[f]..self.touched_at[f + 1]];
+            for (p, &vp) in touched.iter().enumerate() {
+                let row = &mut hessian[vp * size..];
+                let factor = rank_one * gradient[p];
+                for (q, &vq) in touched[..=p].iter().enumerate() {
+                    row[vq] += factor * gradient[q];
+                }
+            }
+        }
+    }
+}
+
+/// Scratch of [`Table::evaluate`] and [`Table::gradients`].
+struct Scratch {
+    powers: Vec<f64>,
+    dense: Vec<f64>,
+}
+
+/// One phase of the interior-point method: minimise the objective (phase II) or the slack `s`
+/// (phase I, variable `n`, constraints read `F_i(y) - s <= 0`), with the box as linear constraints.
+pub(super) struct Problem<'a> {
+    pub(super) meter: &'a Meter,
+    /// Work units of one Newton step and of one line-search trial.
+    pub(super) work: (u128, u128),
+    /// The objective (function 0) and the constraints (function `i + 1` is constraint `i`).
+    pub(super) table: &'a Table,
+    /// How many of the constraints (the first ones) phase I relaxes by `s`; the rest are hard.
+    pub(super) soft: usize,
+    pub(super) lower: &'a [f64],
+    pub(super) upper: &'a [f64],
+    pub(super) phase_one: bool,
+    pub(super) n: usize,
+}
+
+/// How a phase ended.
+pub(super) enum Finish {
+    /// Surrogate gap and dual residual below tolerance.
+    Converged,
+    /// The phase's own early stop (phase I: a point with margin was found).
+    Early,
+}
+
+/// Every function's value and derivatives at one point.
+struct Point {
+    /// Constraint values `G_i` (posynomials less the slack where it relaxes them, then
+    /// `y - upper`, then `lower - y`).
+    values: Vec<f64>,
+    /// Each function's value, term shares and gradient ([`Table::evaluate`], [`Table::gradients`]).
+    functions: Vec<f64>,
+    weights: Vec<f64>,
+    gradients: Vec<f64>,
+}
+
+/// The buffers of one phase.
+struct Space {
+    scratch: Scratch,
+    scales: Vec<f64>,
+    outers: Vec<f64>,
+    shares: Vec<f64>,
+    hessian: Vec<f64>,
+    factor: Vec<f64>,
+    right: Vec<f64>,
+    step: Vec<f64>,
+    dual_step: Vec<f64>,
+    dual: Vec<f64>,
+}
+
+impl Problem<'_> {
+    fn size(&self) -> usize {
+        self.n + usize::from(self.phase_one)
+    }
+
+    /// Number of posynomial constraints.
+    fn constraints(&self) -> usize {
+        self.table.functions() - 1
+    }
+
+    fn count(&self) -> usize {
+        self.constraints() + 2 * self.n
+    }
+
+    fn point(&self) -> Point {
+        let table = self.table;
+        Point {
+            values: vec![0.0; self.count()],
+            functions: vec![0.0; table.functions()],
+            weights: vec![0.0; table.monomial.len()],
+            gradients: vec![0.0; table.touched.len()],
+        }
+    }
+
+    /// Constraint `i`'s gradient over its variables ([`Table::touched`] of function `i + 1`).
+    fn gradient<'p>(&self, point: &'p Point, f: usize) -> &'p [f64] {
+        &point.gradients[self.table.touched_at[f]..self.table.touched_at[f + 1]]
+    }
+
+    /// Fill `point` at `z`; whether `z` is strictly inside (every value negative and finite).
+    /// Outside, the gradients are left as they were (a trial there is dropped before they are read).
+    fn evaluate(&self, z: &[f64], point: &mut Point, scratch: &mut Scratch) -> bool {
+        let s = if self.phase_one { z[self.n] } else { 0.0 };
+        self.table.evaluate(z, &mut point.functions, &mut point.weights, scratch);
+        let m = self.constraints();
+        for i in 0..m {
+            point.values[i] = point.functions[i + 1] - if i < self.soft { s } else { 0.0 };
+        }
+        for j in 0..self.n {
+            point.values[m + j] = z[j] - self.upper[j];
+            point.values[m + self.n + j] = self.lower[j] - z[j];
+        }
+        let inside = point.values.iter().all(|v| *v < 0.0 && v.is_finite());
+        if inside {
+            self.table.gradients(&point.weights, &mut point.gradients, scratch);
+        }
+        inside
+    }
+
+    /// The residual `(grad f + sum lambda_i grad G_i, -lambda_i G_i - 1/t)`: its dual part in
+    /// `dual`, and the norm of the whole.
+    fn residual(&self, point: &Point, lambda: &[f64], t: f64, dual: &mut [f64]) -> f64 {
+        dual.fill(0.0);
+        if self.phase_one {
+            dual[self.n] = 1.0;
+        } else {
+            for (&k, g) in self.table.touched(0).iter().zip(self.gradient(point, 0)) {
+                dual[k] += g;
+            }
+        }
+        let m = self.constraints();
+        for i in 0..m {
+            for (&k, g) in self.table.touched(i + 1).iter().zip(self.gradient(point, i + 1)) {
+                dual[k] += lambda[i] * g;
+            }
+            if self.phase_one && i < self.soft {
+                dual[self.n] -= lambda[i];
+            }
+        }
+        for j in 0..self.n {
+            dual[j] += lambda[m + j] - lambda[m + self.n + j];
+        }
+        let central: f64 = point.values.iter().zip(lambda).map(|(g, l)| (-l * g - 1.0 / t).powi(2)).sum();
+        (dual.iter().map(|d| d * d).sum::<f64>() + central).sqrt()
+    }
+
+    /// The primal-dual Newton direction at `t`, into `space.step` and `space.dual_step`.
+    fn direction(&self, point: &Point, lambda: &[f64], t: f64, space: &mut Space) -> Result<(), Stop> {
+        let size = self.size();
+        let n = self.n;
+        let m = self.constraints();
+        // The Lagrangian's curvature: the objective's (phase II), each constraint's at its
+        // multiplier, and each constraint's rank-one barrier term at lambda_i / (-G_i).
+        space.scales[0] = if self.phase_one { 0.0 } else { 1.0 };
+        space.outers[0] = 0.0;
+        for i in 0..m {
+            space.scales[i + 1] = lambda[i];
+            space.outers[i + 1] = lambda[i] / -point.values[i];
+        }
+        let (hessian, right) = (&mut space.hessian, &mut space.right);
+        hessian.fill(0.0);
+        right.fill(0.0);
+        let table = self.table;
+        let curvature = (space.scales.as_slice(), space.outers.as_slice());
+        table.add_hessian((&point.weights, &point.gradients), curvature, hessian, size, &mut space.shares);
+        // Right-hand side: -(grad f + (1/t) sum grad G_i / (-G_i)).
+        if self.phase_one {
+            right[n] = -1.0;
+        } else {
+            for (&k, g) in table.touched(0).iter().zip(self.gradient(point, 0)) {
+                right[k] -= g;
+            }
+        }
+        for i in 0..m {
+            let gradient = self.gradient(point, i + 1);
+            let distance = -point.values[i];
+            if self.phase_one && i < self.soft {
+                // The slack's gradient is -1: its row of the rank-one term, and its share of the
+                // right-hand side.
+                let outer = space.outers[i + 1];
+                for (&k, g) in table.touched(i + 1).iter().zip(gradient) {
+                    hessian[n * size + k] -= outer * g;
+                }
+                hessian[n * size + n] += outer;
+                right[n] += 1.0 / (t * distance);
+            }
+            for (&k, g) in table.touched(i + 1).iter().zip(gradient) {
+                right[k] -= g / (t * distance);
+            }
+        }
+        for j in 0..n {
+            let (above, below) = (-point.values[m + j], -point.values[m + n + j]);
+            hessian[j * size + j] += lambda[m + j] / above + lambda[m + n + j] / below;
+            right[j] -= (1.0 / above - 1.0 / below) / t;
+        }
+        solve_spd(&space.hessian, &space.right, size, &mut space.factor, &mut space.step)?;
+        let step = &space.step;
+        // d lambda_i = -lambda_i - 1 / (t G_i) - lambda_i (grad G_i . dz) / G_i
+        for i in 0..m {
+            let gradient = self.gradient(point, i + 1);
+            let mut along: f64 = table.touched(i + 1).iter().zip(gradient).map(|(&k, g)| g * step[k]).sum();
+            if self.phase_one && i < self.soft {
+                along -= step[n];
+            }
+            let value = point.values[i];
+            space.dual_step[i] = -lambda[i] - 1.0 / (t * value) - lambda[i] * along / value;
+        }
+        for j in 0..n {
+            for (i, along) in [(m + j, step[j]), (m + n + j, -step[j])] {
+                let value = point.values[i];
+                space.dual_step[i] = -lambda[i] - 1.0 / (t * value) - lambda[i] * along / value;
+            }
+        }
+        Ok(())
+    }
+
+    /// Primal-dual interior-point iterations from a strictly feasible `z`.
+    pub(super) fn run(&self, z: &mut [f64], early: impl Fn(&[f64]) -> bool) -> Result<Finish, Stop> {
+        let size = self.size();
+        let functions = self.table.functions();
+        let monomials = self.table.monomial_at.len() - 1;
+        let mut space = Space {
+            scratch: Scratch { powers: vec![0.0; monomials], dense: vec![0.0; self.table.variables.max(size)] },
+            scales: vec![0.0; functions],
+            outers: vec![0.0; functions],
+            shares: vec![0.0; monomials],
+            hessian: vec![0.0; size * size],
+            factor: vec![0.0; size * size],
+            right: vec![0.0; size],
+            step: vec![0.0; size],
+            dual_step: vec![0.0; self.count()],
+            dual: vec![0.0; size],
+        };
+        let mut point = self.point();
+        let mut trial_point = self.point();
+        if !self.evaluate(z, &mut point, &mut space.scratch) {
+            return Err(Stop::Outside);
+        }
+        let mut lambda: Vec<f64> = point.values.iter().map(|g| -1.0 / g).collect();
+        let mut trial_lambda = lambda.clone();
+        let mut trial = z.to_vec();
+        let mut trial_dual = vec![0.0; size];
+        let count = self.count() as f64;
+        for _ in 0..ITERATIONS {
+            self.meter.charge(self.work.0, Work::Elmore)?;
+            if early(z) {
+                return Ok(Finish::Early);
+            }
+            let gap: f64 = -point.values.iter().zip(&lambda).map(|(g, l)| g * l).sum::<f64>();
+            let t = GROWTH * count / gap;
+            let norm = self.residual(&point, &lambda, t, &mut space.dual);
+            let dual_norm = space.dual.iter().map(|d| d * d).sum::<f64>().sqrt();
+            if gap <= GAP && dual_norm <= DUAL_TOLERANCE {
+                return Ok(Finish::Converged);
+            }
+            self.direction(&point, &lambda, t, &mut space)?;
+            let mut length: f64 = 1.0;
+            for (l, d) in lambda.iter().zip(&space.dual_step) {
+                if *d < 0.0 {
+                    length = length.min(-l / d);
+                }
+            }
+            length *= 0.99;
+            loop {
+                self.meter.charge(self.work.1, Work::Elmore)?;
+                for (k, value) in trial.iter_mut().enumerate() {
+                    *value = z[k] + length * space.step[k];
+                }
+                for (i, l) in trial_lambda.iter_mut().enumerate() {
+                    *l = lambda[i] + length * space.dual_step[i];
+                }
+                if self.evaluate(&trial, &mut trial_point, &mut space.scratch) {
+                    let trial_norm = self.residual(&trial_point, &trial_lambda, t, &mut trial_dual);
+                    if trial_norm <= (1.0 - 0.01 * length) * norm {
+                        break;
+                    }
+                }
+                length *= 0.5;
+                if length < 1e-14 {
+                    // No progress at this precision: as close as rounding allows.
+                    return Ok(Finish::Converged);
+                }
+            }
+            z.copy_from_slice(&trial);
+            std::mem::swap(&mut point, &mut trial_point);
+            std::mem::swap(&mut lambda, &mut trial_lambda);
+        }
+        Err(Stop::Stalled)
+    }
+}
+
+/// Solve `a x = b` into `x` for a symmetric positive definite `a` (`n x n`, row-major, only its
+/// lower triangle read) by Cholesky into `factor`, with a growing diagonal shift where rounding
+/// leaves it indefinite.
+fn solve_spd(a: &[f64], b: &[f64], n: usize, factor: &mut [f64], x: &mut [f64]) -> Result<(), Stop> {
+    let largest = (0..n).map(|i| a[i * n + i].abs()).fold(0.0, f64::max).max(1e-300);
+    let mut shift = 0.0;
+    for _ in 0..12 {
+        factor.copy_from_slice(a);
+        if cholesky(factor, n, shift) {
+            x.copy_from_slice(b);
+            for i in 0..n {
+                let row = &factor[i * n..i * n + i];
+                let sum: f64 = row.iter().zip(&x[..i]).map(|(l, y)| l * y).sum();
+                x[i] = (x[i] - sum) / factor[i * n + i];
+            }
+            for i in (0..n).rev() {
+                let mut value = x[i];
+                for k in i + 1..n {
+                    value -= factor[k * n + i] * x[k];
+                }
+                x[i] = value / factor[i * n + i];
+            }
+            if x.iter().all(|v| v.is_finite()) {
+                return Ok(());
+            }
+        }
+        shift = if shift == 0.0 { largest * 1e-14 } else { shift * 100.0 };
+    }
+    Err(Stop::Singular)
+}
+
+/// In place: the lower triangle of `a` (with `shift` added to its diagonal) becomes `L` with
+/// `L L^T = a`; false if it is not positive definite.
+fn cholesky(a: &mut [f64], n: usize, shift: f64) -> bool {
+    for j in 0..n {
+        let sum: f64 = a[j * n..j * n + j].iter().map(|v| v * v).sum();
+        let diagonal = a[j * n + j] + shift - sum;
+        if diagonal.is_nan() || diagonal <= 0.0 {
+            return false;
+        }
+        let pivot = diagonal.sqrt();
+        a[j * n + j] = pivot;
+        let (upper, lower) = a.split_at_mut((j + 1) * n);
+        let row_j = &upper[j * n..j * n + j];
+        for row_i in lower.chunks_exact_mut(n) {
+            let dot: f64 = row_i[..j].iter().zip(row_j).map(|(a, b)| a * b).sum();
+            row_i[j] = (row_i[j] - dot) / pivot;
+        }
+    }
+    true
+}
+
+/// Relative accuracy of the optimum: the surrogate duality gap on the log objective.
+const GAP: f64 = 1e-10;
+/// Largest dual residual accepted at the optimum.
+const DUAL_TOLERANCE: f64 = 1e-8;
+/// How far each iteration aims along the central path (mu in t = mu m / gap).
+const GROWTH: f64 = 10.0;
+/// Most iterations per phase.
+pub(super) const ITERATIONS: usize = 300;
