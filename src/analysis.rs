@@ -59,10 +59,24 @@ pub fn compare_methods(cell: &SizedCell, timing: &Timing, meter: &Meter) -> Resu
     let own = widths(cell);
     // Widths already timed, so that equal sizings (NAND, NOR ...) are timed once.
     let mut timed: Vec<(Sides<Vec<f64>>, Timing)> = Vec::new();
+    // The worst ratio the longest-path row reaches: the elmore method's default target on this
+    // order (its structure is that row's sizing), so the elmore row need not time it again.
+    let mut classic: Option<f64> = None;
     for method in Method::ALL {
         // The elmore row is the cell's own where it is sized by delay (over paths or every vector).
         let own_method = method == cell.plan.method || (method.sizes_by_delay() && cell.plan.method.sizes_by_delay());
-        let sized = if own_method { Ok(cell.clone()) } else { sizing::resize(cell, method, meter) };
+        let sized = if own_method {
+            Ok(cell.clone())
+        } else if method.sizes_by_delay() && cell.plan.delay_target.is_none() && classic.is_some() {
+            let mut at_target = cell.clone();
+            at_target.plan.delay_target = classic;
+            sizing::resize(&at_target, method, meter).map(|mut sized| {
+                sized.plan.delay_target = None;
+                sized
+            })
+        } else {
+            sizing::resize(cell, method, meter)
+        };
         match sized {
             Ok(sized) => {
                 let sized_widths = widths(&sized);
@@ -75,6 +89,9 @@ pub fn compare_methods(cell: &SizedCell, timing: &Timing, meter: &Meter) -> Resu
                     Some(timed.len() - 1)
                 };
                 let own_timing = index.map_or(timing, |i| &timed[i].1);
+                if method == Method::LongestPath {
+                    classic = Some(own_timing.delays.iter().map(|d| d.delay_ratio).fold(0.0, f64::max));
+                }
                 let worst = own_timing.worst_ratio(None);
                 rows.push(MethodDelay {
                     method,
@@ -98,4 +115,32 @@ pub fn compare_methods(cell: &SizedCell, timing: &Timing, meter: &Meter) -> Resu
         }
     }
     Ok(rows)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::sizing::plan::{Conditions, Load};
+
+    #[test]
+    fn the_elmore_row_sizes_to_the_longest_path_rows_ratio() {
+        // The elmore method's default target is the worst ratio longest-path's widths reach on the
+        // same order (docs/model.md section 12): the row that takes it from the longest-path row
+        // is the elmore method sized on its own, which times those widths itself.
+        for text in ["nand3", "aoi221", "!(a & b | b & c | a & c)", "!((a | b) & (c | d) & e)"] {
+            let plan = Plan {
+                conditions: Conditions { load: Load::Fanout(3.0), diffusion_ratio: 0.8 },
+                ..Plan::new(Method::LongestPath, 2.0, 1.0, None)
+            };
+            let logic = crate::logic::read_cell(text, &[]).unwrap();
+            let (cell, report) = size_and_time(&logic, &plan).unwrap();
+            let row = report.method_comparison.iter().find(|r| r.method.sizes_by_delay()).unwrap();
+            let alone = sizing::resize(&cell, Method::ELMORE, &Meter::unlimited()).unwrap();
+            let total: f64 = alone.stage().networks.values().flat_map(|n| &n.widths).sum();
+            assert_eq!(row.total_w_over_l.map(f64::to_bits), Some(total.to_bits()), "{text}");
+            let timed = timing::time_in_rc(&alone, &plan.conditions, &Meter::unlimited()).unwrap();
+            let worst = timed.worst_ratio(None).map(|d| d.delay_ratio.to_bits());
+            assert_eq!(row.worst_delay_ratio.map(f64::to_bits), worst, "{text}");
+        }
+    }
 }

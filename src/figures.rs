@@ -327,8 +327,9 @@ fn drawn_figures(cell: &SizedCell, plan: &Plan, transistors: &[Transistor]) -> O
     let pins = &cell.logic.inputs;
     let mut capacitance = vec![0.0; pins.len()];
     let mut output = 0.0;
+    let numbers = pin_numbers(pins);
     for transistor in transistors {
-        if let Some(pin) = pins.iter().position(|p| *p == transistor.input) {
+        if let Some(&pin) = numbers.get(transistor.input.as_str()) {
             capacitance[pin] += transistor.drawn_w_over_l;
         }
         if transistor.drain == cell.logic.output {
@@ -369,14 +370,25 @@ fn other_total(stage: &SizedStage, plan: &Plan, method: Method) -> f64 {
 /// gates, both networks (docs/model.md sections 6 and 9).
 pub fn pin_capacitance(cell: &SizedCell) -> Vec<f64> {
     let mut capacitance = vec![0.0; cell.logic.inputs.len()];
+    let pins = pin_numbers(&cell.logic.inputs);
     for stage in &cell.stages {
         for (net, c) in stage.function.inputs.iter().zip(input_capacitance(stage)) {
-            if let Some(pin) = cell.logic.inputs.iter().position(|p| p == net) {
+            if let Some(&pin) = pins.get(net.as_str()) {
                 capacitance[pin] += c;
             }
         }
     }
     capacitance
+}
+
+/// Each pin's number by its name (the first, where a name repeats), so that a lookup per device
+/// stays constant however many pins the cell has.
+fn pin_numbers(pins: &[String]) -> std::collections::HashMap<&str, usize> {
+    let mut numbers = std::collections::HashMap::with_capacity(pins.len());
+    for (index, pin) in pins.iter().enumerate() {
+        numbers.entry(pin.as_str()).or_insert(index);
+    }
+    numbers
 }
 
 /// Min-area's total under the other worst-case definition than the plan's, where a stage has
@@ -582,14 +594,18 @@ impl NodeDiffusion {
 /// its diffusion rule. `devices` are `(drain, source)` node names, indexed like the widths.
 pub fn node_diffusions(devices: &[(&str, &str)], output: &str) -> Vec<(String, NodeDiffusion)> {
     let mut nodes: Vec<(String, Vec<usize>)> = Vec::new();
+    let mut numbers: std::collections::HashMap<&str, usize> = std::collections::HashMap::new();
     for (index, &(drain, source)) in devices.iter().enumerate() {
         for node in [drain, source] {
             if node == "vdd" || node == "vss" {
                 continue;
             }
-            match nodes.iter_mut().find(|(name, _)| name == node) {
-                Some((_, terminals)) => terminals.push(index),
-                None => nodes.push((node.to_string(), vec![index])),
+            match numbers.get(node) {
+                Some(&number) => nodes[number].1.push(index),
+                None => {
+                    numbers.insert(node, nodes.len());
+                    nodes.push((node.to_string(), vec![index]));
+                }
             }
         }
     }

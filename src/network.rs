@@ -155,6 +155,67 @@ impl Node {
     }
 }
 
+/// Per-node values of a tree, each worked out once from its members' values in one post-order pass,
+/// so that a rule that needs a subtree's figure at every level (its depth, its area constant, its
+/// weakest path) reads it instead of recomputing the subtree: linear in the tree, however deep.
+///
+/// Nodes are numbered in pre-order: the root is 0, and a node's members follow it, each member's
+/// subtree before the next member; [`NodeTable::members`] gives a node's members with their numbers.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NodeTable<T> {
+    /// Each node's value, by number.
+    values: Vec<T>,
+    /// Each node's subtree size in nodes (itself included), by number.
+    sizes: Vec<usize>,
+}
+
+impl<T: Copy + Default> NodeTable<T> {
+    /// The table of `root`'s tree, where `value` gives a node's value from its members' (none for a
+    /// device), members in order.
+    pub fn of(root: &Node, mut value: impl FnMut(&Node, &[T]) -> T) -> NodeTable<T> {
+        fn walk<T: Copy + Default>(
+            node: &Node,
+            value: &mut impl FnMut(&Node, &[T]) -> T,
+            table: &mut NodeTable<T>,
+        ) -> T {
+            let id = table.values.len();
+            table.values.push(T::default());
+            table.sizes.push(1);
+            let own = match node {
+                Node::Device(_) => value(node, &[]),
+                Node::Series(members) | Node::Parallel(members) => {
+                    let values: Vec<T> = members.iter().map(|m| walk(m, value, table)).collect();
+                    value(node, &values)
+                }
+            };
+            table.values[id] = own;
+            table.sizes[id] = table.values.len() - id;
+            own
+        }
+        let mut table = NodeTable { values: Vec::new(), sizes: Vec::new() };
+        walk(root, &mut value, &mut table);
+        table
+    }
+
+    /// The value of node `id`.
+    pub fn get(&self, id: usize) -> T {
+        self.values[id]
+    }
+
+    /// The members of `node` (numbered `id` in this table's tree), each with its number.
+    pub fn members<'a>(&'a self, node: &'a Node, id: usize) -> impl Iterator<Item = (usize, &'a Node)> + 'a {
+        let members: &[Node] = match node {
+            Node::Device(_) => &[],
+            Node::Series(members) | Node::Parallel(members) => members,
+        };
+        members.iter().scan(id + 1, move |next, member| {
+            let here = *next;
+            *next += self.sizes[here];
+            Some((here, member))
+        })
+    }
+}
+
 /// One network of a stage, with its own device list: device `k` of the tree is gated by stage
 /// input `inputs[k]`. The two networks of a stage built from one function share their device
 /// numbering (literal occurrences); a pull-up written by the user has a list of its own.
@@ -317,6 +378,68 @@ pub fn internal_prefix(base: &str, names: &[&str]) -> String {
     prefix
 }
 
+/// Random series-parallel trees for the checks of per-node tables against plain recursion.
+#[cfg(test)]
+pub(crate) mod random_trees {
+    use super::Node;
+    use proptest::prelude::*;
+
+    /// A tree of up to about `size` devices nested up to `depth` levels, series and parallel in any
+    /// mix (groups of one included), its devices numbered 0.. in tree order; with its device count.
+    pub(crate) fn trees(depth: u32, size: u32) -> impl Strategy<Value = (Node, usize)> {
+        let leaf = Just(Node::Device(0));
+        leaf.prop_recursive(depth, size, 4, |inner| {
+            prop_oneof![
+                proptest::collection::vec(inner.clone(), 1..4).prop_map(Node::Series),
+                proptest::collection::vec(inner, 1..4).prop_map(Node::Parallel),
+            ]
+        })
+        .prop_map(|mut node| {
+            let count = number(&mut node, &mut 0);
+            (node, count)
+        })
+    }
+
+    /// Number the devices of `node` in tree order from `next`; gives the count after.
+    pub(crate) fn number(node: &mut Node, next: &mut usize) -> usize {
+        match node {
+            Node::Device(index) => {
+                *index = *next;
+                *next += 1;
+            }
+            Node::Series(members) | Node::Parallel(members) => {
+                for member in members {
+                    number(member, next);
+                }
+            }
+        }
+        *next
+    }
+
+    /// `levels` levels alternating parallel and series, one device hanging off each:
+    /// `P(d, S(d, P(d, S(d, ...))))`, its devices numbered in tree order.
+    pub(crate) fn chain(levels: usize) -> (Node, usize) {
+        let mut node = Node::Device(0);
+        for level in 0..levels {
+            let pair = vec![Node::Device(0), node];
+            node = if level % 2 == 0 { Node::Series(pair) } else { Node::Parallel(pair) };
+        }
+        let count = number(&mut node, &mut 0);
+        (node, count)
+    }
+
+    /// Every subtree in pre-order (the numbering of a node table).
+    pub(crate) fn pre_order(node: &Node) -> Vec<&Node> {
+        let mut out = vec![node];
+        if let Node::Series(members) | Node::Parallel(members) = node {
+            for member in members {
+                out.extend(pre_order(member));
+            }
+        }
+        out
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -356,6 +479,28 @@ mod tests {
         let nodes = down.nodes("y", "n");
         let pairs: Vec<(&str, &str)> = nodes.iter().map(|t| (t.drain.as_str(), t.source.as_str())).collect();
         assert_eq!(pairs, [("y", "n1"), ("n1", "n2"), ("n2", "vss")]);
+    }
+
+    #[test]
+    fn a_table_numbers_nodes_in_pre_order_and_finds_their_members() {
+        // S(0, P(1, 2), 3): pre-order S, 0, P, 1, 2, 3; each node's value its subtree's device count.
+        let tree = Node::Series(vec![
+            Node::Device(0),
+            Node::Parallel(vec![Node::Device(1), Node::Device(2)]),
+            Node::Device(3),
+        ]);
+        let table = NodeTable::of(&tree, |_, members: &[usize]| members.iter().sum::<usize>().max(1));
+        assert_eq!((0..6).map(|id| table.get(id)).collect::<Vec<_>>(), [4, 1, 2, 1, 1, 1]);
+        let members: Vec<usize> = table.members(&tree, 0).map(|(id, _)| id).collect();
+        assert_eq!(members, [1, 2, 5]);
+        let Node::Series(children) = &tree else { unreachable!() };
+        assert_eq!(table.members(&children[1], 2).map(|(id, _)| id).collect::<Vec<_>>(), [3, 4]);
+        // every node's number is its place in pre-order, however the tree nests
+        for (node, _) in [random_trees::chain(9), (tree.clone(), 4)] {
+            let order = random_trees::pre_order(&node);
+            let table = NodeTable::of(&node, |n, _: &[usize]| order.iter().position(|o| std::ptr::eq(*o, n)).unwrap());
+            assert!((0..order.len()).all(|id| table.get(id) == id));
+        }
     }
 
     #[test]

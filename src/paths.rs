@@ -10,7 +10,7 @@ use std::collections::BinaryHeap;
 
 use num_bigint::BigUint;
 
-use crate::network::{Network, NetworkKind, Node};
+use crate::network::{Network, NetworkKind, Node, NodeTable};
 
 /// Most paths a listing returns.
 pub const MAX_LISTED_PATHS: usize = 10_000;
@@ -64,32 +64,66 @@ pub struct Path {
 }
 
 /// The weakest (highest-resistance) path; ties go to the first branch.
+///
+/// Each subtree's weakest path resistance is worked out once ([`weakest_table`]) and the path read
+/// down the tree from it, so the work is linear in the network however deep it nests.
 pub fn weakest(network: &Network, resistance: &[f64]) -> Path {
+    let table = weakest_table(&network.root, resistance);
     let mut devices = Vec::new();
-    let resistance = weakest_in(&network.root, resistance, &mut devices);
-    Path { resistance, devices }
+    weakest_in(&network.root, 0, &table, &mut devices);
+    Path { resistance: table.get(0).path, devices }
 }
 
-/// The weakest path of a subtree: its devices pushed onto `devices`, its resistance returned.
-fn weakest_in(node: &Node, resistance: &[f64], devices: &mut Vec<usize>) -> f64 {
-    match node {
-        Node::Device(index) => {
-            devices.push(*index);
-            resistance[*index]
+/// A subtree's weakest path, as [`weakest_table`] holds it.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Weakest {
+    /// The highest resistance of a path through it (what [`highest`] gives): what a parallel group
+    /// chooses its branch by.
+    pub highest: f64,
+    /// The resistance of the path the rule takes through it, summed along that path.
+    pub path: f64,
+}
+
+/// Every subtree's weakest path, by node number: series members add, and a parallel group takes
+/// the branch of the highest resistance (compared by [`key`]), the first of a tie.
+pub fn weakest_table(root: &Node, resistance: &[f64]) -> NodeTable<Weakest> {
+    NodeTable::of(root, |node, members: &[Weakest]| match node {
+        Node::Device(index) => Weakest { highest: resistance[*index], path: resistance[*index] },
+        Node::Series(_) => {
+            Weakest { highest: members.iter().map(|m| m.highest).sum(), path: members.iter().map(|m| m.path).sum() }
         }
-        Node::Series(members) => members.iter().map(|m| weakest_in(m, resistance, devices)).sum(),
-        Node::Parallel(branches) => {
-            let best = branches
-                .iter()
-                .enumerate()
-                .map(|(i, b)| (i, highest(b, resistance)))
-                .fold((0, f64::NEG_INFINITY), |acc, (i, r)| if key(r) > key(acc.1) { (i, r) } else { acc });
-            weakest_in(&branches[best.0], resistance, devices)
+        Node::Parallel(_) => Weakest {
+            highest: members.iter().map(|m| m.highest).fold(f64::NEG_INFINITY, f64::max),
+            path: members.get(pick(members.iter().map(|m| m.highest))).map_or(f64::NEG_INFINITY, |m| m.path),
+        },
+    })
+}
+
+/// Which of parallel branches of these highest resistances the weakest path takes: the highest
+/// (compared by [`key`]), the first of a tie.
+fn pick(branches: impl Iterator<Item = f64>) -> usize {
+    branches.enumerate().fold((0, f64::NEG_INFINITY), |acc, (i, r)| if key(r) > key(acc.1) { (i, r) } else { acc }).0
+}
+
+/// The weakest path of a subtree (node `id` of `table`): its devices pushed onto `devices`.
+fn weakest_in(node: &Node, id: usize, table: &NodeTable<Weakest>, devices: &mut Vec<usize>) {
+    match node {
+        Node::Device(index) => devices.push(*index),
+        Node::Series(_) => {
+            for (member_id, member) in table.members(node, id) {
+                weakest_in(member, member_id, table, devices);
+            }
+        }
+        Node::Parallel(_) => {
+            let chosen = pick(table.members(node, id).map(|(member_id, _)| table.get(member_id).highest));
+            if let Some((member_id, branch)) = table.members(node, id).nth(chosen) {
+                weakest_in(branch, member_id, table, devices);
+            }
         }
     }
 }
 
-/// The weakest path's resistance alone.
+/// The weakest path's resistance alone (one recursion over the tree).
 pub fn highest(node: &Node, resistance: &[f64]) -> f64 {
     match node {
         Node::Device(index) => resistance[*index],
@@ -99,40 +133,49 @@ pub fn highest(node: &Node, resistance: &[f64]) -> f64 {
 }
 
 /// The weakest path that goes through `device`, or `None` if the network has no such device.
+///
+/// Which subtrees hold the device, and each subtree's weakest path, are worked out once; the path is
+/// then read down the tree, so the work is linear in the network however deep it nests.
 pub fn weakest_through(network: &Network, resistance: &[f64], device: usize) -> Option<Path> {
-    fn contains(node: &Node, device: usize) -> bool {
-        match node {
-            Node::Device(index) => *index == device,
-            Node::Series(children) | Node::Parallel(children) => children.iter().any(|c| contains(c, device)),
-        }
-    }
-    fn walk(node: &Node, resistance: &[f64], device: usize, devices: &mut Vec<usize>) -> f64 {
+    let weakest = weakest_table(&network.root, resistance);
+    let holds = NodeTable::of(&network.root, |node, members: &[bool]| match node {
+        Node::Device(index) => *index == device,
+        Node::Series(_) | Node::Parallel(_) => members.iter().any(|&m| m),
+    });
+    fn walk(
+        node: &Node,
+        id: usize,
+        holds: &NodeTable<bool>,
+        weakest: &NodeTable<Weakest>,
+        devices: &mut Vec<usize>,
+    ) -> f64 {
         match node {
             Node::Device(index) => {
                 devices.push(*index);
-                resistance[*index]
+                weakest.get(id).path
             }
-            Node::Series(members) => members
-                .iter()
-                .map(|m| {
-                    if contains(m, device) {
-                        walk(m, resistance, device, devices)
+            Node::Series(_) => holds
+                .members(node, id)
+                .map(|(member_id, member)| {
+                    if holds.get(member_id) {
+                        walk(member, member_id, holds, weakest, devices)
                     } else {
-                        weakest_in(m, resistance, devices)
+                        weakest_in(member, member_id, weakest, devices);
+                        weakest.get(member_id).path
                     }
                 })
                 .sum(),
-            Node::Parallel(branches) => {
-                let branch = branches.iter().find(|b| contains(b, device)).expect("the device is in one branch");
-                walk(branch, resistance, device, devices)
-            }
+            Node::Parallel(_) => match holds.members(node, id).find(|&(member_id, _)| holds.get(member_id)) {
+                Some((member_id, branch)) => walk(branch, member_id, holds, weakest, devices),
+                None => f64::NAN,
+            },
         }
     }
-    if !contains(&network.root, device) {
+    if !holds.get(0) {
         return None;
     }
     let mut devices = Vec::new();
-    let resistance = walk(&network.root, resistance, device, &mut devices);
+    let resistance = walk(&network.root, 0, &holds, &weakest, &mut devices);
     Some(Path { resistance, devices })
 }
 
@@ -649,5 +692,98 @@ mod tests {
         let (down, inputs) = pull_down("!((a | b) & (a | c))");
         assert_eq!(sensitize(&down, &[0, 3], inputs), None);
         assert_eq!(sensitize(&down, &[0, 2], inputs), Some(vec![true, false, false]));
+    }
+
+    /// The weakest path by its plain recursive definition (common practice, no source: series
+    /// resistances add, a parallel group's weakest is its highest branch, the first of a tie), each
+    /// branch's highest resistance recounted at every level.
+    fn plain_weakest(node: &Node, resistance: &[f64], devices: &mut Vec<usize>) -> f64 {
+        match node {
+            Node::Device(index) => {
+                devices.push(*index);
+                resistance[*index]
+            }
+            Node::Series(members) => members.iter().map(|m| plain_weakest(m, resistance, devices)).sum(),
+            Node::Parallel(branches) => {
+                let best = branches
+                    .iter()
+                    .enumerate()
+                    .map(|(i, b)| (i, highest(b, resistance)))
+                    .fold((0, f64::NEG_INFINITY), |acc, (i, r)| if key(r) > key(acc.1) { (i, r) } else { acc });
+                plain_weakest(&branches[best.0], resistance, devices)
+            }
+        }
+    }
+
+    /// The weakest path through `device` by its plain recursive definition: the member holding it
+    /// followed down, every other member's weakest path taken (membership recounted at every level).
+    fn plain_through(node: &Node, resistance: &[f64], device: usize, devices: &mut Vec<usize>) -> f64 {
+        fn contains(node: &Node, device: usize) -> bool {
+            match node {
+                Node::Device(index) => *index == device,
+                Node::Series(children) | Node::Parallel(children) => children.iter().any(|c| contains(c, device)),
+            }
+        }
+        match node {
+            Node::Device(index) => {
+                devices.push(*index);
+                resistance[*index]
+            }
+            Node::Series(members) => members
+                .iter()
+                .map(|m| {
+                    if contains(m, device) {
+                        plain_through(m, resistance, device, devices)
+                    } else {
+                        plain_weakest(m, resistance, devices)
+                    }
+                })
+                .sum(),
+            Node::Parallel(branches) => {
+                let branch = branches.iter().find(|b| contains(b, device)).unwrap();
+                plain_through(branch, resistance, device, devices)
+            }
+        }
+    }
+
+    /// The table-driven paths equal the plain recursive definitions, to the bit; resistances from
+    /// a small set so that ties (to the first branch) are common.
+    fn check_against_plain(root: Node, count: usize, seed: u64) {
+        let network = Network { kind: NetworkKind::PullDown, root, inputs: (0..count).collect() };
+        let r: Vec<f64> =
+            (0..count as u64).map(|k| [0.5, 1.0, 1.5, 1.0 / 3.0][((k * 7 + seed) % 4) as usize]).collect();
+        let mut devices = Vec::new();
+        let resistance = plain_weakest(&network.root, &r, &mut devices);
+        let path = weakest(&network, &r);
+        assert_eq!((path.resistance.to_bits(), &path.devices), (resistance.to_bits(), &devices));
+        assert_eq!(highest(&network.root, &r), weakest_table(&network.root, &r).get(0).highest);
+        for device in 0..count {
+            let mut devices = Vec::new();
+            let resistance = plain_through(&network.root, &r, device, &mut devices);
+            let path = weakest_through(&network, &r, device).unwrap();
+            assert_eq!(
+                (path.resistance.to_bits(), &path.devices),
+                (resistance.to_bits(), &devices),
+                "through {device}"
+            );
+        }
+        assert_eq!(weakest_through(&network, &r, count), None);
+    }
+
+    #[test]
+    fn deep_chains_match_the_plain_definitions() {
+        for levels in [1, 2, 7, 300] {
+            let (root, count) = crate::network::random_trees::chain(levels);
+            check_against_plain(root, count, levels as u64);
+        }
+    }
+
+    proptest::proptest! {
+        #[test]
+        fn tables_match_the_plain_definitions_on_random_trees(
+            (root, count) in crate::network::random_trees::trees(12, 80), seed in 0u64..4
+        ) {
+            check_against_plain(root, count, seed);
+        }
     }
 }

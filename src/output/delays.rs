@@ -7,8 +7,8 @@ use super::CellReport;
 use super::number;
 use super::table::write_columns;
 use crate::paths::EXACT_WORST_MAX_INPUTS;
-use crate::timing::DelayReport;
 use crate::timing::transition::WEAKEST_PATH;
+use crate::timing::{Delay, DelayReport};
 
 fn strings<const N: usize>(cells: [&str; N]) -> Vec<String> {
     cells.iter().map(|c| c.to_string()).collect()
@@ -16,6 +16,21 @@ fn strings<const N: usize>(cells: [&str; N]) -> Vec<String> {
 
 fn list(names: &[String]) -> String {
     if names.is_empty() { "-".to_string() } else { names.join(" ") }
+}
+
+/// The side inputs of a delay row, `name=value` in input order: the vector the transition is timed
+/// at without the switching input, whose level the edge gives (its on-level in the network that
+/// pulls: 1 on a fall, 0 on a rise). Empty for a gate of one input.
+fn side_inputs(delay: &Delay) -> String {
+    let mut text = String::new();
+    for (name, value) in delay.vector.values.iter().filter(|(name, _)| *name != delay.input) {
+        if !text.is_empty() {
+            text.push(' ');
+        }
+        text.push_str(name);
+        text.push_str(if *value { "=1" } else { "=0" });
+    }
+    text
 }
 
 /// The delay sections of one gate's table block.
@@ -60,7 +75,7 @@ pub fn write_table(report: &DelayReport, out: &mut dyn Write) -> io::Result<()> 
         "path",
         "charged internal nodes",
         "at final level",
-        "after",
+        "side inputs",
     ])];
     for delay in &timing.delays {
         rows.push(vec![
@@ -75,7 +90,10 @@ pub fn write_table(report: &DelayReport, out: &mut dyn Write) -> io::Result<()> 
             delay.path.join(" "),
             list(&delay.internal_nodes),
             list(&delay.nodes_at_final_level),
-            delay.vector.to_string(),
+            match side_inputs(delay) {
+                side if side.is_empty() => "-".to_string(),
+                side => side,
+            },
         ]);
     }
     write_columns(&rows, out)?;
@@ -174,7 +192,7 @@ pub const DELAY_COLUMNS: [&str; 23] = [
     "reference_elmore_rc",
     "delay_ratio",
     "path",
-    "vector",
+    "side_inputs",
     "internal_nodes",
     "nodes_at_final_level",
     "diffusion_ratio",
@@ -212,7 +230,7 @@ pub fn write_csv<W: Write>(reports: &[CellReport], writer: &mut csv::Writer<W>) 
                 number(delay.reference_elmore_rc),
                 number(delay.delay_ratio),
                 delay.path.join(" "),
-                delay.vector.to_string(),
+                side_inputs(delay),
                 delay.internal_nodes.join(" "),
                 delay.nodes_at_final_level.join(" "),
                 number(timing.delay_model.diffusion_ratio),

@@ -51,8 +51,11 @@ fn apply(node: &Node, orders: &[Vec<usize>], next: &mut usize) -> Node {
         Node::Series(members) => {
             let id = *next;
             *next += 1;
-            let rebuilt: Vec<Node> = members.iter().map(|m| apply(m, orders, next)).collect();
-            Node::Series(orders[id].iter().map(|&i| rebuilt[i].clone()).collect())
+            // Each member moved once into its place (an order is a permutation), never copied.
+            let mut rebuilt: Vec<Node> = members.iter().map(|m| apply(m, orders, next)).collect();
+            Node::Series(
+                orders[id].iter().map(|&i| std::mem::replace(&mut rebuilt[i], Node::Series(Vec::new()))).collect(),
+            )
         }
     }
 }

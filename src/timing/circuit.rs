@@ -138,12 +138,30 @@ pub struct Conducting {
     pub rail: usize,
 }
 
+/// What conducts after a switch, whatever input switched: the output's component under the new
+/// vector, not through a rail. A transition's [`Conducting`] network is this with which of its nodes
+/// start at their final level ([`held`]); its linear system is this alone ([`Solved`]).
+#[derive(Debug, Clone, PartialEq, Eq, Hash)]
+pub struct Component {
+    /// Circuit nodes in it, the output first.
+    pub nodes: Vec<usize>,
+    /// Devices that conduct within it.
+    pub devices: Vec<usize>,
+    /// The new rail.
+    pub rail: usize,
+}
+
 /// The conducting network when `input` switches to `after` (its on-level in `edge`'s network).
 pub fn conducting(circuit: &Circuit, edge: Edge, input: usize, after: &[bool]) -> Result<Conducting, NetworkFault> {
+    let Component { nodes, devices, rail } = component(circuit, edge, after)?;
+    let at_final = held(circuit, edge, input, after, &nodes)?;
+    Ok(Conducting { nodes, at_final, devices, rail })
+}
+
+/// The output's component under `after` on `edge` (the first half of [`conducting`]).
+pub fn component(circuit: &Circuit, edge: Edge, after: &[bool]) -> Result<Component, NetworkFault> {
     let rail = rail_of(edge.network());
     let old_rail = if rail == VSS { VDD } else { VSS };
-    let mut before = after.to_vec();
-    before[input] = !after[input];
     // After: the output's component, not through a rail.
     let mut inside = vec![false; circuit.names.len()];
     let mut nodes = vec![OUTPUT];
@@ -179,13 +197,33 @@ pub fn conducting(circuit: &Circuit, edge: Edge, input: usize, after: &[bool]) -
     if !reaches_rail {
         return Err(NetworkFault::NoRail);
     }
-    // Before: what the new rail already holds.
+    Ok(Component { nodes, devices, rail })
+}
+
+/// Which of `nodes` (a component under `after`) start at their final level when `input` switches
+/// to `after` on `edge`: those the new rail already held before the switch (the second half of
+/// [`conducting`]).
+pub fn held(
+    circuit: &Circuit,
+    edge: Edge,
+    input: usize,
+    after: &[bool],
+    nodes: &[usize],
+) -> Result<Vec<bool>, NetworkFault> {
+    let rail = rail_of(edge.network());
+    let old_rail = if rail == VSS { VDD } else { VSS };
+    // Before: `after` with the input at its other level.
+    let on_before = |device: usize| {
+        let d = &circuit.devices[device];
+        let value = if d.input == input { !after[input] } else { after[d.input] };
+        d.kind.conducts(value)
+    };
     let mut held = vec![false; circuit.names.len()];
     held[rail] = true;
     let mut stack = vec![rail];
     while let Some(here) = stack.pop() {
         for &device in &circuit.incident[here] {
-            if !circuit.on(device, &before) {
+            if !on_before(device) {
                 continue;
             }
             let d = &circuit.devices[device];
@@ -199,29 +237,86 @@ pub fn conducting(circuit: &Circuit, edge: Edge, input: usize, after: &[bool]) -
             }
         }
     }
-    let at_final = nodes.iter().map(|&n| held[n]).collect();
-    Ok(Conducting { nodes, at_final, devices, rail })
+    Ok(nodes.iter().map(|&n| held[n]).collect())
 }
 
 /// A transition's conducting network as an RC network, with its initial deviations.
 pub fn rc_network(circuit: &Circuit, shape: &Conducting, widths: &[f64], load: f64) -> (rc::RcNetwork, Vec<f64>) {
+    let network = rc_of(circuit, &shape.nodes, &shape.devices, shape.rail, widths, load);
+    let initial = shape.at_final.iter().map(|&f| if f { 0.0 } else { 1.0 }).collect();
+    (network, initial)
+}
+
+/// The RC network of the devices `devices` joining `nodes` (the output first) to `rail`.
+fn rc_of(
+    circuit: &Circuit,
+    nodes: &[usize],
+    devices: &[usize],
+    rail: usize,
+    widths: &[f64],
+    load: f64,
+) -> rc::RcNetwork {
     let mut position = vec![usize::MAX; circuit.names.len()];
-    for (index, &node) in shape.nodes.iter().enumerate() {
+    for (index, &node) in nodes.iter().enumerate() {
         position[node] = index;
     }
-    let end = |node: usize| if node == shape.rail { rc::End::Rail } else { rc::End::Node(position[node]) };
-    let resistors = shape
-        .devices
+    let end = |node: usize| if node == rail { rc::End::Rail } else { rc::End::Node(position[node]) };
+    let resistors = devices
         .iter()
         .map(|&device| {
             let d = &circuit.devices[device];
             rc::Resistor { from: end(d.drain), to: end(d.source), resistance: d.unit_resistance / widths[device] }
         })
         .collect();
-    let mut capacitance: Vec<f64> = shape.nodes.iter().map(|&n| circuit.node_capacitance(n, widths)).collect();
+    let mut capacitance: Vec<f64> = nodes.iter().map(|&n| circuit.node_capacitance(n, widths)).collect();
     capacitance[0] += load;
-    let initial = shape.at_final.iter().map(|&f| if f { 0.0 } else { 1.0 }).collect();
-    (rc::RcNetwork { capacitance, resistors }, initial)
+    rc::RcNetwork { capacitance, resistors }
+}
+
+/// A component's linear system solved once for every transition into it: its elimination, its
+/// drive and whether it is a tree, so that each set of starting charges costs one substitution.
+#[derive(Debug)]
+pub struct Solved {
+    factored: rc::Factored,
+    capacitance: Vec<f64>,
+    /// The output's resistance to the rail as a load sees it, R.
+    pub drive: f64,
+    /// Whether the component is a tree rooted at the rail.
+    pub tree: bool,
+}
+
+impl Solved {
+    /// The component's system at `widths`, eliminated once.
+    pub fn of(circuit: &Circuit, component: &Component, widths: &[f64]) -> Result<Solved, NetworkFault> {
+        let Component { nodes, devices, rail } = component;
+        let network = rc_of(circuit, nodes, devices, *rail, widths, 0.0);
+        let factored = rc::factor(&network).map_err(NetworkFault::Solve)?;
+        let mut unit = vec![0.0; nodes.len()];
+        unit[0] = 1.0;
+        factored.solve(&mut unit);
+        // Connected (the elimination checked it) with as many resistors, rail to rail and self loops
+        // aside, as nodes besides the rail: a tree rooted at the rail, as `rc::tree_moment` decides.
+        let joining = network
+            .resistors
+            .iter()
+            .filter(|r| match (r.from, r.to) {
+                (rc::End::Node(a), rc::End::Node(b)) => a != b,
+                (rc::End::Rail, rc::End::Rail) => false,
+                _ => true,
+            })
+            .count();
+        let tree = joining == nodes.len();
+        Ok(Solved { factored, capacitance: network.capacitance, drive: unit[0], tree })
+    }
+
+    /// The [`Moments`] of the transition whose nodes start at their final level where `at_final`
+    /// says: the same numbers as [`moments`] of that conducting network.
+    pub fn moments(&self, at_final: &[bool]) -> Moments {
+        let mut charge: Vec<f64> =
+            self.capacitance.iter().zip(at_final).map(|(c, &f)| c * if f { 0.0 } else { 1.0 }).collect();
+        self.factored.solve(&mut charge);
+        Moments { unloaded: charge[0], drive: self.drive, tree: self.tree }
+    }
 }
 
 /// The output's Elmore delay of one conducting network with `load` and with none, and whether the

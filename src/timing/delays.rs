@@ -84,19 +84,61 @@ pub fn worst_transitions(
     let circuit = Circuit::new(stage, plan, conditions.diffusion_ratio);
     let widths = flat_widths(stage);
     let loads = input_loads(stage, plan, conditions.load)?;
+    let found = every_worst(stage, plan, &circuit, &widths, &loads, meter)?;
+    Ok((circuit, found))
+}
+
+/// Every input's worst transition on both edges, input by input, fall then rise: each edge's found
+/// in one pass over the vectors ([`Rule::worst_of`]). A network fault (an internal inconsistency)
+/// is looked for again input by input, so that its error names the input and edge the rule meets
+/// it at.
+#[allow(clippy::type_complexity)]
+fn every_worst(
+    stage: &SizedStage,
+    plan: &Plan,
+    circuit: &Circuit,
+    widths: &[f64],
+    loads: &[f64],
+    meter: &Meter,
+) -> Result<Vec<(usize, Edge, f64, Option<Transition>)>, TimingError> {
+    let inputs: Vec<(usize, f64)> = loads.iter().copied().enumerate().collect();
+    let mut rule = Rule::new(stage, plan, circuit, widths, meter)?;
+    let mut scan = |edge: Edge| match rule.worst_of(edge, &inputs, meter) {
+        Ok(found) => Ok(Some(found)),
+        Err(TransitionError::OverBudget(over)) => Err(TimingError::OverBudget(over)),
+        Err(TransitionError::Network(_)) => Ok(None),
+    };
+    let Some(fall) = scan(Edge::Fall)? else { return one_by_one(stage, plan, circuit, widths, loads) };
+    let Some(rise) = scan(Edge::Rise)? else { return one_by_one(stage, plan, circuit, widths, loads) };
     let mut found = Vec::with_capacity(2 * loads.len());
-    {
-        let mut rule = Rule::new(stage, plan, &circuit, &widths, meter)?;
-        for (input, &load) in loads.iter().enumerate() {
-            for edge in Edge::BOTH {
-                let transition = rule
-                    .worst(input, edge, load, meter)
-                    .map_err(|error| transition_error(stage, input, edge, error))?;
-                found.push((input, edge, load, transition));
-            }
+    for ((input, &load), (fall, rise)) in loads.iter().enumerate().zip(fall.into_iter().zip(rise)) {
+        found.push((input, Edge::Fall, load, fall));
+        found.push((input, Edge::Rise, load, rise));
+    }
+    Ok(found)
+}
+
+/// The rule input by input, on a meter of its own: where a network fault is met, the error of the
+/// first input and edge that meets it.
+#[allow(clippy::type_complexity)]
+fn one_by_one(
+    stage: &SizedStage,
+    plan: &Plan,
+    circuit: &Circuit,
+    widths: &[f64],
+    loads: &[f64],
+) -> Result<Vec<(usize, Edge, f64, Option<Transition>)>, TimingError> {
+    let meter = Meter::unlimited();
+    let mut rule = Rule::new(stage, plan, circuit, widths, &meter)?;
+    let mut found = Vec::with_capacity(2 * loads.len());
+    for (input, &load) in loads.iter().enumerate() {
+        for edge in Edge::BOTH {
+            let transition =
+                rule.worst(input, edge, load, &meter).map_err(|error| transition_error(stage, input, edge, error))?;
+            found.push((input, edge, load, transition));
         }
     }
-    Ok((circuit, found))
+    Ok(found)
 }
 
 /// Delays of every input of `stage` on both edges under `conditions`, the model and the

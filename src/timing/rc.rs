@@ -134,6 +134,7 @@ impl RcNetwork {
 }
 
 /// One eliminated node, for the back substitution.
+#[derive(Debug)]
 struct Step {
     node: usize,
     pivot: f64,
@@ -155,17 +156,72 @@ pub fn first_moments(network: &RcNetwork, initial: &[f64]) -> Result<Vec<f64>, R
     Ok(solve(network, vec![right])?.remove(0))
 }
 
-/// Solve `G x = b` for each right-hand side `b`: sparse elimination, the node of least degree first.
+/// Solve `G x = b` for each right-hand side `b`: sparse elimination, the node of least degree first
+/// ([`factor`]), then each right-hand side through it ([`Factored::solve`]).
+pub fn solve(network: &RcNetwork, mut rights: Vec<Vec<f64>>) -> Result<Vec<Vec<f64>>, RcError> {
+    let factored = factor(network)?;
+    if let Some(bad) = rights.iter().find(|r| r.len() != factored.count) {
+        return Err(RcError::WrongLength { given: bad.len(), count: factored.count });
+    }
+    for right in &mut rights {
+        factored.solve(right);
+    }
+    Ok(rights)
+}
+
+/// One update of a right-hand side during the elimination: `right[first] -= a x right[node] / pivot`.
+#[derive(Debug, Clone, Copy)]
+struct Update {
+    first: usize,
+    node: usize,
+    a: f64,
+    pivot: f64,
+}
+
+/// A network's conductance matrix eliminated once, to solve for any number of right-hand sides:
+/// each goes through the same updates in the same order as in one elimination, so its solution is
+/// the same to the last bit.
+#[derive(Debug)]
+pub struct Factored {
+    /// Nodes of the network.
+    count: usize,
+    /// The forward updates, in elimination order.
+    forward: Vec<Update>,
+    /// The eliminated nodes, for the back substitution.
+    steps: Vec<Step>,
+}
+
+impl Factored {
+    /// How many nodes the network has (the length of a right-hand side).
+    pub fn len(&self) -> usize {
+        self.count
+    }
+
+    /// Whether the network has no node.
+    pub fn is_empty(&self) -> bool {
+        self.count == 0
+    }
+
+    /// Solve `G x = right` in place. `right` has one entry per node ([`Factored::len`]).
+    pub fn solve(&self, right: &mut [f64]) {
+        for update in &self.forward {
+            right[update.first] -= update.a * right[update.node] / update.pivot;
+        }
+        for step in self.steps.iter().rev() {
+            let coupled: f64 = step.neighbours.iter().map(|&(other, a)| a * right[other]).sum();
+            right[step.node] = (right[step.node] - coupled) / step.pivot;
+        }
+    }
+}
+
+/// Eliminate `network`'s conductance matrix: the node of least degree first.
 ///
 /// A series-parallel network (every static CMOS network is one) always has a node of degree two or
 /// less, and eliminating it joins only its two neighbours, so the work is linear in its size up to
 /// the heap's logarithm.
-pub fn solve(network: &RcNetwork, mut rights: Vec<Vec<f64>>) -> Result<Vec<Vec<f64>>, RcError> {
+pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
     let count = network.capacitance.len();
     network.check(&vec![0.0; count])?;
-    if let Some(bad) = rights.iter().find(|r| r.len() != count) {
-        return Err(RcError::WrongLength { given: bad.len(), count });
-    }
     let mut diagonal = vec![0.0; count];
     let mut off: Vec<Vec<(usize, f64)>> = vec![Vec::new(); count];
     for resistor in &network.resistors {
@@ -185,6 +241,7 @@ pub fn solve(network: &RcNetwork, mut rights: Vec<Vec<f64>>) -> Result<Vec<Vec<f
     let mut heap: BinaryHeap<Reverse<(usize, usize)>> =
         (0..count).map(|node| Reverse((off[node].len(), node))).collect();
     let mut steps = Vec::with_capacity(count);
+    let mut forward = Vec::with_capacity(2 * count);
     while let Some(Reverse((degree, node))) = heap.pop() {
         if eliminated[node] || off[node].len() != degree {
             continue;
@@ -197,9 +254,7 @@ pub fn solve(network: &RcNetwork, mut rights: Vec<Vec<f64>>) -> Result<Vec<Vec<f
         }
         for (position, &(first, a_first)) in neighbours.iter().enumerate() {
             diagonal[first] -= a_first * a_first / pivot;
-            for right in &mut rights {
-                right[first] -= a_first * right[node] / pivot;
-            }
+            forward.push(Update { first, node, a: a_first, pivot });
             for &(second, a_second) in &neighbours[position + 1..] {
                 let fill = a_first * a_second / pivot;
                 add_entry(&mut off[first], second, -fill);
@@ -211,13 +266,7 @@ pub fn solve(network: &RcNetwork, mut rights: Vec<Vec<f64>>) -> Result<Vec<Vec<f
         }
         steps.push(Step { node, pivot, neighbours });
     }
-    for right in &mut rights {
-        for step in steps.iter().rev() {
-            let coupled: f64 = step.neighbours.iter().map(|&(other, a)| a * right[other]).sum();
-            right[step.node] = (right[step.node] - coupled) / step.pivot;
-        }
-    }
-    Ok(rights)
+    Ok(Factored { count, forward, steps })
 }
 
 /// The first moment of `node` by the tree formula: the sum over nodes `k` of `C_k d_k` times the

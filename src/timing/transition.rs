@@ -28,7 +28,7 @@ use crate::cell::SizedStage;
 use crate::network::{NetworkKind, Sides};
 use crate::paths::{self, EXACT_WORST_MAX_INPUTS, conduction_by_on_set, vector_word};
 use crate::sizing::plan::Plan;
-use crate::timing::circuit::{Circuit, Conducting, Moments, conducting, elmore, moments};
+use crate::timing::circuit::{Circuit, Component, Conducting, Moments, Solved, component, conducting, elmore, held};
 use crate::timing::error::NetworkFault;
 use crate::timing::report::Edge;
 
@@ -106,8 +106,37 @@ pub struct Rule<'a> {
     widths: &'a [f64],
     /// Each network's conduction over every on-set, 64 a word; `None` past the bound.
     conduction: Option<Sides<Vec<u64>>>,
-    /// Every conducting network solved so far.
-    solved: HashMap<Conducting, Moments>,
+    /// Every conducting network solved so far, by its key.
+    solved: HashMap<NetworkKey, Moments>,
+}
+
+/// A conducting network as a cache key, in bits: its rail, the devices that conduct within it (which
+/// decide its nodes and their order) and which of its nodes start at their final level.
+#[derive(Debug, Clone, PartialEq, Eq, Hash)]
+struct NetworkKey {
+    rail: usize,
+    devices: Box<[u64]>,
+    at_final: Box<[u64]>,
+}
+
+/// `flags` as a bit set, 64 a word.
+fn bits_of(flags: &[bool]) -> Box<[u64]> {
+    let mut words = vec![0u64; flags.len().div_ceil(64)];
+    for (index, &flag) in flags.iter().enumerate() {
+        if flag {
+            words[index / 64] |= 1 << (index % 64);
+        }
+    }
+    words.into_boxed_slice()
+}
+
+/// The component of one on-set, shared by every input that switches the output at it: found once,
+/// its system eliminated at most once.
+struct OnSet {
+    after: Vec<bool>,
+    component: Component,
+    devices: Box<[u64]>,
+    solved: Option<Solved>,
 }
 
 impl<'a> Rule<'a> {
@@ -142,62 +171,142 @@ impl<'a> Rule<'a> {
         load: f64,
         meter: &Meter,
     ) -> Result<Option<Transition>, TransitionError> {
-        let kind = edge.network();
-        let Some(conduction) = &self.conduction else {
+        if self.conduction.is_none() {
+            let kind = edge.network();
             let Some((_, after)) = lone_path(self.stage, self.plan, input, kind, meter)? else { return Ok(None) };
             meter.charge(self.circuit.devices.len() as u128, Work::Delays)?;
             return Ok(Some(time_vector(self.circuit, self.widths, input, edge, after, load, WEAKEST_PATH)?));
-        };
+        }
+        Ok(self.scan(edge, &[(input, load)], meter)?.pop().flatten())
+    }
+
+    /// The worst transition of each of `inputs` (an input with its load in C) on `edge`, in their
+    /// order: what [`Rule::worst`] gives each, found in one pass over the on-sets, so that an on-set
+    /// at which several inputs switch the output has its conducting network found once and its
+    /// system eliminated once.
+    pub fn worst_of(
+        &mut self,
+        edge: Edge,
+        inputs: &[(usize, f64)],
+        meter: &Meter,
+    ) -> Result<Vec<Option<Transition>>, TransitionError> {
+        if self.conduction.is_none() {
+            return inputs.iter().map(|&(input, load)| self.worst(input, edge, load, meter)).collect();
+        }
+        self.scan(edge, inputs, meter)
+    }
+
+    /// [`Rule::worst_of`] where the conduction is known: on-sets in increasing order, each input's
+    /// candidates met in the order [`Rule::worst`] meets them alone, so every tie goes the same way.
+    fn scan(
+        &mut self,
+        edge: Edge,
+        inputs: &[(usize, f64)],
+        meter: &Meter,
+    ) -> Result<Vec<Option<Transition>>, TransitionError> {
+        let kind = edge.network();
+        let Some(conduction) = &self.conduction else { return Ok(vec![None; inputs.len()]) };
         let conducts = &conduction[kind];
-        let inputs = self.stage.function.inputs.len();
-        let devices = self.circuit.devices.len() as u128;
-        meter.charge(conducts.len() as u128, Work::Delays)?;
-        let mut best: Option<Candidate> = None;
+        let input_count = self.stage.function.inputs.len();
+        let circuit = self.circuit;
+        let devices = circuit.devices.len() as u128;
+        meter.charge(conducts.len() as u128 * inputs.len() as u128, Work::Delays)?;
+        // Each input's slowest so far, with its component and vector.
+        let mut best: Vec<Option<(Candidate, Component, Vec<bool>)>> = (0..inputs.len()).map(|_| None).collect();
+        let mut switching = vec![0u64; inputs.len()];
         for (word, &bits) in conducts.iter().enumerate() {
+            if bits == 0 {
+                continue;
+            }
             // On-sets with the input on where the network conducts, and would not with it off.
-            let flipped = flip(conducts, word, input);
-            let mut switching = bits & vector_word(word as u64, input) & !flipped;
-            while switching != 0 {
-                let on_set = word as u64 * 64 + u64::from(switching.trailing_zeros());
-                switching &= switching - 1;
-                meter.charge(devices, Work::Delays)?;
-                let after: Vec<bool> = (0..inputs).map(|i| kind.conducts(true) == (on_set >> i & 1 == 1)).collect();
-                let shape = conducting(self.circuit, edge, input, &after)?;
-                let found = match self.solved.get(&shape) {
-                    Some(found) => *found,
-                    None => {
-                        meter.charge(devices, Work::Delays)?;
-                        let found = moments(self.circuit, &shape, self.widths)?;
-                        self.solved.insert(shape.clone(), found);
-                        found
+            let mut any = 0;
+            for (slot, &(input, _)) in inputs.iter().enumerate() {
+                switching[slot] = bits & vector_word(word as u64, input) & !flip(conducts, word, input);
+                any |= switching[slot];
+            }
+            while any != 0 {
+                let bit = any.trailing_zeros();
+                any &= any - 1;
+                let on_set = word as u64 * 64 + u64::from(bit);
+                let mut here: Option<OnSet> = None;
+                for (slot, &(input, load)) in inputs.iter().enumerate() {
+                    if switching[slot] >> bit & 1 == 0 {
+                        continue;
                     }
-                };
-                let (elmore, unloaded, tree) = found.with_load(load);
-                let candidate = Candidate { elmore, resistance: None, after, shape, unloaded, tree };
-                best = Some(match best {
-                    None => candidate,
-                    Some(mut held) => {
-                        let mut candidate = candidate;
-                        if self.slower(&mut candidate, &mut held, kind) { candidate } else { held }
+                    meter.charge(devices, Work::Delays)?;
+                    let found = match &mut here {
+                        Some(found) => found,
+                        None => {
+                            let after = after_of(on_set, input_count, kind);
+                            let component = component(circuit, edge, &after)?;
+                            let mut on = vec![0u64; circuit.devices.len().div_ceil(64)];
+                            for &device in &component.devices {
+                                on[device / 64] |= 1 << (device % 64);
+                            }
+                            here.insert(OnSet { after, component, devices: on.into_boxed_slice(), solved: None })
+                        }
+                    };
+                    let at_final = held(circuit, edge, input, &found.after, &found.component.nodes)?;
+                    let key = NetworkKey {
+                        rail: found.component.rail,
+                        devices: found.devices.clone(),
+                        at_final: bits_of(&at_final),
+                    };
+                    let moments = match self.solved.get(&key) {
+                        Some(moments) => *moments,
+                        None => {
+                            meter.charge(devices, Work::Delays)?;
+                            let solved = match &mut found.solved {
+                                Some(solved) => solved,
+                                None => found.solved.insert(Solved::of(circuit, &found.component, self.widths)?),
+                            };
+                            let moments = solved.moments(&at_final);
+                            self.solved.insert(key, moments);
+                            moments
+                        }
+                    };
+                    let (elmore, unloaded, tree) = moments.with_load(load);
+                    let mut candidate = Candidate { elmore, resistance: None, on_set, at_final, unloaded, tree };
+                    let replace = match &mut best[slot] {
+                        None => true,
+                        Some((held, _, _)) => {
+                            Self::slower(self.stage, self.plan, input_count, &mut candidate, held, kind)
+                        }
+                    };
+                    if replace {
+                        best[slot] = Some((candidate, found.component.clone(), found.after.clone()));
                     }
-                });
+                }
             }
         }
-        Ok(best.map(|b| Transition {
-            input,
-            edge,
-            after: b.after,
-            shape: b.shape,
-            elmore: b.elmore,
-            unloaded: b.unloaded,
-            tree: b.tree,
-            search: EVERY_VECTOR,
-        }))
+        Ok(best
+            .into_iter()
+            .zip(inputs)
+            .map(|(found, &(input, _))| {
+                found.map(|(b, Component { nodes, devices, rail }, after)| Transition {
+                    input,
+                    edge,
+                    after,
+                    shape: Conducting { nodes, at_final: b.at_final, devices, rail },
+                    elmore: b.elmore,
+                    unloaded: b.unloaded,
+                    tree: b.tree,
+                    search: EVERY_VECTOR,
+                })
+            })
+            .collect())
     }
 
     /// Whether `candidate` (a later vector) beats `held`: a slower delay, or a tie and a larger
     /// resistance after the switch.
-    fn slower(&self, candidate: &mut Candidate, held: &mut Candidate, kind: NetworkKind) -> bool {
+    fn slower(
+        stage: &SizedStage,
+        plan: &Plan,
+        input_count: usize,
+        candidate: &mut Candidate,
+        held: &mut Candidate,
+        kind: NetworkKind,
+    ) -> bool {
         let scale = candidate.elmore.abs().max(held.elmore.abs());
         if candidate.elmore > held.elmore + TIE * scale {
             return true;
@@ -205,28 +314,40 @@ impl<'a> Rule<'a> {
         if candidate.elmore < held.elmore - TIE * scale {
             return false;
         }
-        let candidate_r = self.resistance(candidate, kind);
-        let held_r = self.resistance(held, kind);
+        let candidate_r = Self::resistance(stage, plan, input_count, candidate, kind);
+        let held_r = Self::resistance(stage, plan, input_count, held, kind);
         candidate_r > held_r + TIE * candidate_r.max(held_r)
     }
 
     /// The resistance of what conducts in `kind`'s network after the switch (sizing widths).
-    fn resistance(&self, candidate: &mut Candidate, kind: NetworkKind) -> f64 {
+    fn resistance(
+        stage: &SizedStage,
+        plan: &Plan,
+        input_count: usize,
+        candidate: &mut Candidate,
+        kind: NetworkKind,
+    ) -> f64 {
         *candidate.resistance.get_or_insert_with(|| {
-            let sized = &self.stage.networks[kind];
-            let resistance = self.plan.resistances(kind, &sized.widths);
-            let on = sized.network.on_devices(&candidate.after);
+            let sized = &stage.networks[kind];
+            let resistance = plan.resistances(kind, &sized.widths);
+            let on = sized.network.on_devices(&after_of(candidate.on_set, input_count, kind));
             paths::effective_resistance(&sized.network, &resistance, &on).unwrap_or(f64::INFINITY)
         })
     }
+}
+
+/// The input values after the switch at `on_set` in `kind`'s network: input `i` at its on-level
+/// where bit `i` is set.
+fn after_of(on_set: u64, input_count: usize, kind: NetworkKind) -> Vec<bool> {
+    (0..input_count).map(|i| kind.conducts(true) == (on_set >> i & 1 == 1)).collect()
 }
 
 /// A transition the rule holds while it looks at the others.
 struct Candidate {
     elmore: f64,
     resistance: Option<f64>,
-    after: Vec<bool>,
-    shape: Conducting,
+    on_set: u64,
+    at_final: Vec<bool>,
     unloaded: f64,
     tree: bool,
 }
@@ -357,5 +478,47 @@ mod tests {
         assert!(switching_vectors(stage, 1, NetworkKind::PullDown).unwrap().is_empty());
         assert!(switching_vectors(stage, 1, NetworkKind::PullUp).unwrap().is_empty());
         assert_eq!(switching_vectors(stage, 0, NetworkKind::PullUp).unwrap().len(), 2);
+    }
+
+    #[test]
+    fn one_pass_over_the_vectors_gives_what_each_input_gets_alone() {
+        // The rule above, input by input on a fresh rule, and each transition it finds timed again
+        // from scratch (its conducting network built and solved alone, `time_vector`): the same
+        // vectors, networks and delays to the bit, whatever the loads.
+        use crate::timing::circuit::flat_widths;
+        for text in [
+            "!(a & b | b & c | a & c)",
+            "!((a | b) & (a | c) & (b | d | a))",
+            "aoi221",
+            "!(a & (b | c) & (c | d) | d & a)",
+        ] {
+            let cell = sized(text);
+            let (stage, plan) = (cell.stage(), &cell.plan);
+            let circuit = Circuit::new(stage, plan, 0.75);
+            let widths = flat_widths(stage);
+            let meter = Meter::unlimited();
+            let inputs: Vec<(usize, f64)> =
+                (0..stage.function.inputs.len()).map(|i| (i, 1.0 + i as f64 / 3.0)).collect();
+            let mut together = Rule::new(stage, plan, &circuit, &widths, &meter).unwrap();
+            for edge in Edge::BOTH {
+                let found = together.worst_of(edge, &inputs, &meter).unwrap();
+                for (&(input, load), found) in inputs.iter().zip(found) {
+                    let mut alone = Rule::new(stage, plan, &circuit, &widths, &meter).unwrap();
+                    let single = alone.worst(input, edge, load, &meter).unwrap();
+                    assert_eq!(found.is_some(), single.is_some(), "{text}: {input} {edge:?}");
+                    let (Some(found), Some(single)) = (found, single) else { continue };
+                    assert_eq!((&found.after, &found.shape, found.tree), (&single.after, &single.shape, single.tree));
+                    assert_eq!(found.elmore.to_bits(), single.elmore.to_bits(), "{text}: {input} {edge:?}");
+                    let scratch =
+                        time_vector(&circuit, &widths, input, edge, found.after.clone(), load, EVERY_VECTOR).unwrap();
+                    assert_eq!(scratch.shape, found.shape);
+                    assert_eq!(
+                        (scratch.elmore.to_bits(), scratch.unloaded.to_bits()),
+                        (found.elmore.to_bits(), found.unloaded.to_bits())
+                    );
+                    assert_eq!(scratch.tree, found.tree, "{text}: {input} {edge:?}");
+                }
+            }
+        }
     }
 }
