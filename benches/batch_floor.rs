@@ -9,7 +9,7 @@
 //! series-parallel expressions of 2 to 8 inputs (`!(...)`, each input once: one stage, two devices
 //! per input), one gate in five min-area, one in three in three drives (the same file on every run).
 //! The floor is this bench binary run as `batch_floor floor LIBRARY`; widthwise is the release
-//! binary. The widthwise formats besides the devices CSV are set against the same floor, for scale.
+//! binary (`batch_floor library FILE` writes the library alone, for profilers). The widthwise formats besides the devices CSV are set against the same floor, for scale.
 
 #![forbid(unsafe_code)]
 
@@ -370,6 +370,12 @@ fn main() {
             let _ = writeln!(io::stderr(), "floor: {error}");
             std::process::exit(2);
         }
+        return;
+    }
+    if arguments.first().map(String::as_str) == Some("library") {
+        // The library alone, for profiling: `batch_floor library FILE`.
+        let path = arguments.get(1).expect("batch_floor library FILE");
+        std::fs::write(path, library()).expect("the library is written");
         return;
     }
     // `cargo bench` passes `--bench`; a word narrows the formats (`devices`, `json` ...).
