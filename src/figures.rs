@@ -245,31 +245,7 @@ impl CellFigures {
         let pins: Vec<(String, f64)> = cell.logic.inputs.iter().cloned().zip(capacitance.iter().copied()).collect();
         let (stage_figures, delay_estimates) = stages::of(cell, &pins);
         let parasitic_delay = output_diffusion(stage) / reference_capacitance;
-        let mut transistors = Vec::with_capacity(cell.logic.transistor_count());
-        for (index, sized_stage) in cell.stages.iter().enumerate() {
-            for sized in sized_stage.networks.values() {
-                let kind = sized.kind();
-                for (device, node) in sized.terminals.iter().enumerate() {
-                    let drawn = &sized.drawn[device];
-                    transistors.push(Transistor {
-                        name: cell.device_name(index, kind, device),
-                        stage: sized_stage.function.output.clone(),
-                        device_type: kind.device_type(),
-                        network: kind,
-                        input: sized_stage.function.inputs[sized.network.inputs[device]].clone(),
-                        drain: node.drain.clone(),
-                        source: node.source.clone(),
-                        w_over_l: sized.widths[device],
-                        width_um: process.width_nm(sized.widths[device]) / 1000.0,
-                        length_um: process.length_nm / 1000.0,
-                        drawn_width_um: drawn.width_nm() / 1000.0,
-                        finger_width_um: drawn.finger_width_nm / 1000.0,
-                        fingers: drawn.fingers,
-                        drawn_w_over_l: drawn.width_nm() / process.unit_width_nm,
-                    });
-                }
-            }
-        }
+        let transistors = transistors(cell);
         let output_devices =
             transistors.iter().filter(|t| t.drain == function.output).map(|t| t.name.clone()).collect();
         let networks = stage.networks.values().map(|sized| network_figures(function, sized, plan)).collect();
@@ -314,6 +290,38 @@ impl CellFigures {
             process: Arc::clone(process),
         }
     }
+}
+
+/// Every transistor of `cell`, stage by stage, pull-down then pull-up, as netlists write them (the
+/// devices of [`CellFigures`], for a writer that needs nothing else).
+pub fn transistors(cell: &SizedCell) -> Vec<Transistor> {
+    let process = &cell.plan.process;
+    let mut transistors = Vec::with_capacity(cell.logic.transistor_count());
+    for (index, sized_stage) in cell.stages.iter().enumerate() {
+        for sized in sized_stage.networks.values() {
+            let kind = sized.kind();
+            for (device, node) in sized.terminals.iter().enumerate() {
+                let drawn = &sized.drawn[device];
+                transistors.push(Transistor {
+                    name: cell.device_name(index, kind, device),
+                    stage: sized_stage.function.output.clone(),
+                    device_type: kind.device_type(),
+                    network: kind,
+                    input: sized_stage.function.inputs[sized.network.inputs[device]].clone(),
+                    drain: node.drain.clone(),
+                    source: node.source.clone(),
+                    w_over_l: sized.widths[device],
+                    width_um: process.width_nm(sized.widths[device]) / 1000.0,
+                    length_um: process.length_nm / 1000.0,
+                    drawn_width_um: drawn.width_nm() / 1000.0,
+                    finger_width_um: drawn.finger_width_nm / 1000.0,
+                    fingers: drawn.fingers,
+                    drawn_w_over_l: drawn.width_nm() / process.unit_width_nm,
+                });
+            }
+        }
+    }
+    transistors
 }
 
 /// The drawn figures, where snapping moves some device by more than [`DRAWN_CHANGE_PERCENT`].

@@ -1,12 +1,17 @@
 //! A library's sized variants written as they come, chunk by chunk, in any format: a CSV header
-//! once, one JSON array with a compact object per line, one SPICE library, or (the one view that
-//! waits for the end, to align its columns) a summary table under a heading.
+//! once, one JSON object (the process once, then an array with a compact object per variant, one
+//! per line), one SPICE library, or (the one view that waits for the end, to align its columns) a
+//! summary table under a heading. JSON and SPICE are put together in a buffer and written on in
+//! large pieces; the CSV goes through one `csv` writer for the whole library.
 
 use std::io::{self, Write};
 
 use super::calibration::CalibratedReport;
 use super::summary::SummaryTable;
-use super::{CellReport, Format, Rows, csv, number, spice};
+use serde::Serialize;
+
+use super::csv::CsvView;
+use super::{CellReport, Format, Rows, json, number, spice};
 use crate::cell::SizedCell;
 use crate::process::Process;
 
@@ -27,35 +32,55 @@ pub struct Heading<'a> {
 
 /// A writer of sized variants in one format, fed chunk by chunk.
 pub struct BatchWriter<'a> {
-    format: Format,
-    rows: Rows,
     process: &'a Process,
-    out: &'a mut dyn Write,
-    /// Whether a chunk was written (the CSV header and the JSON separators depend on it).
+    sink: Sink<'a>,
+    /// Whether a variant was written (the JSON separators depend on it).
     written: bool,
-    /// The table's rows, kept until the end.
-    table: Option<SummaryTable>,
-    /// The table's calibration sections, written after it.
-    sections: Vec<u8>,
+}
+
+/// Where each format keeps what it writes.
+enum Sink<'a> {
+    /// One CSV view for the whole library: its header once, before the first row.
+    Csv(Box<CsvView<&'a mut dyn Write>>),
+    /// JSON or SPICE: a chunk's text put together in `buffer`, then written to `out` in one piece.
+    Text { format: Format, out: &'a mut dyn Write, buffer: Vec<u8>, json: Option<JsonGates> },
+    /// The table's rows and calibration sections, kept until the end.
+    Table { out: &'a mut dyn Write, table: SummaryTable, sections: Vec<u8> },
 }
 
 impl<'a> BatchWriter<'a> {
     /// Start writing `format` (`rows` for the table and the CSV) of gates drawn in `process` to
-    /// `out`: what comes before the first gate is written now.
+    /// `out`: what comes before the first gate is written now (the CSV header waits for the first
+    /// row, or the end).
     pub fn start(format: Format, rows: Rows, process: &'a Process, out: &'a mut dyn Write) -> io::Result<Self> {
-        match format {
-            // One array, one compact gate object per line: a library is read by scripts, and a line
-            // per variant keeps it greppable.
-            Format::Json => out.write_all(b"[")?,
-            Format::Spice => spice::write_library([], process, out)?,
-            Format::Csv | Format::Table => {}
-        }
-        let table = (format == Format::Table).then(|| SummaryTable::new(rows));
-        Ok(BatchWriter { format, rows, process, out, written: false, table, sections: Vec::new() })
+        let sink = match format {
+            Format::Csv => Sink::Csv(Box::new(CsvView::new(out, rows))),
+            Format::Table => Sink::Table { out, table: SummaryTable::new(rows), sections: Vec::new() },
+            Format::Json | Format::Spice => {
+                let mut buffer = Vec::with_capacity(BUFFER_BYTES);
+                let json = match format {
+                    // One object: the process once, then the gates' array, one compact gate object
+                    // per line (a library is read by scripts, and a line per variant keeps it
+                    // greppable).
+                    Format::Json => Some(JsonGates::start(process, &mut buffer)?),
+                    _ => {
+                        spice::push_header(process, &mut buffer);
+                        None
+                    }
+                };
+                out.write_all(&buffer)?;
+                buffer.clear();
+                Sink::Text { format, out, buffer, json }
+            }
+        };
+        Ok(BatchWriter { process, sink, written: false })
     }
 
     /// Write (or, for the table, keep) a chunk of sized variants.
     pub fn write(&mut self, chunk: &[SizedCell]) -> io::Result<()> {
+        if let Sink::Csv(view) = &mut self.sink {
+            return view.write_cells(chunk);
+        }
         let chunk: Vec<CellReport> = chunk.iter().map(CellReport::of).collect();
         self.write_reports(&chunk)
     }
@@ -65,28 +90,27 @@ impl<'a> BatchWriter<'a> {
     /// subcircuit, the table's calibration sections after the table; CSV carries the sizes.
     pub fn write_calibrated(&mut self, cells: &[CalibratedReport]) -> io::Result<()> {
         for cell in cells {
-            match self.format {
-                Format::Json => {
-                    self.out.write_all(if self.written { b",\n" } else { b"\n" })?;
-                    super::json::write_compact(cell, self.out)?;
+            match &mut self.sink {
+                Sink::Text { format: Format::Json, out, buffer, json: Some(json) } => {
+                    json.push(cell, !self.written, buffer)?;
+                    out.write_all(buffer)?;
+                    buffer.clear();
                     self.written = true;
                 }
-                Format::Spice => {
-                    writeln!(self.out)?;
-                    super::calibration::write_comment(cell, self.out)?;
-                    spice::write_subcircuit(&cell.report.figures, self.process, self.out)?;
+                Sink::Text { out, buffer, .. } => {
+                    buffer.push(b'\n');
+                    super::calibration::write_comment(cell, buffer)?;
+                    spice::push_subcircuit(&cell.report.figures, self.process, buffer);
+                    out.write_all(buffer)?;
+                    buffer.clear();
                     self.written = true;
                 }
-                Format::Table => {
-                    writeln!(self.sections)?;
-                    super::calibration::write_section(
-                        &cell.calibration,
-                        &cell.report.figures.name,
-                        &mut self.sections,
-                    )?;
+                Sink::Table { sections, .. } => {
+                    writeln!(sections)?;
+                    super::calibration::write_section(&cell.calibration, &cell.report.figures.name, sections)?;
                     self.write_reports(std::slice::from_ref(&cell.report))?;
                 }
-                Format::Csv => self.write_reports(std::slice::from_ref(&cell.report))?,
+                Sink::Csv(_) => self.write_reports(std::slice::from_ref(&cell.report))?,
             }
         }
         Ok(())
@@ -94,46 +118,49 @@ impl<'a> BatchWriter<'a> {
 
     /// Hand on what is written so far, so that each variant shows as it completes.
     pub fn flush(&mut self) -> io::Result<()> {
-        self.out.flush()
+        match &mut self.sink {
+            Sink::Csv(view) => view.flush(),
+            Sink::Text { out, .. } | Sink::Table { out, .. } => out.flush(),
+        }
     }
 
     fn write_reports(&mut self, chunk: &[CellReport]) -> io::Result<()> {
-        match self.format {
-            Format::Csv if self.written => {
-                csv::write_gates(chunk, self.rows, &mut SkipFirstLine { inner: &mut *self.out, skipping: true })?
-            }
-            Format::Csv => csv::write_gates(chunk, self.rows, self.out)?,
-            Format::Json => {
+        match &mut self.sink {
+            Sink::Csv(view) => view.write(chunk.iter().map(|r| &r.figures))?,
+            Sink::Text { out, buffer, json, .. } => {
                 for (index, gate) in chunk.iter().enumerate() {
-                    let first = !self.written && index == 0;
-                    self.out.write_all(if first { b"\n" } else { b",\n" })?;
-                    super::json::write_compact(gate, self.out)?;
+                    match json {
+                        Some(json) => json.push(gate, !self.written && index == 0, buffer)?,
+                        None => {
+                            buffer.push(b'\n');
+                            spice::push_subcircuit(&gate.figures, self.process, buffer);
+                        }
+                    }
+                    if buffer.len() >= BUFFER_BYTES {
+                        out.write_all(buffer)?;
+                        buffer.clear();
+                    }
                 }
+                out.write_all(buffer)?;
+                buffer.clear();
             }
-            Format::Spice => {
-                for gate in chunk {
-                    writeln!(self.out)?;
-                    spice::write_subcircuit(&gate.figures, self.process, self.out)?;
-                }
-            }
-            Format::Table => {
-                if let Some(table) = &mut self.table {
-                    table.add(chunk.iter().map(|g| &g.figures));
-                }
-            }
+            Sink::Table { table, .. } => table.add(chunk.iter().map(|g| &g.figures)),
         }
         self.written |= !chunk.is_empty();
         Ok(())
     }
 
-    /// Write what comes after the last gate: a CSV header if no gate was written, the JSON array's
-    /// end, or the whole table under its heading.
+    /// Write what comes after the last gate: a CSV header if no gate was written, the JSON
+    /// document's end, or the whole table under its heading.
     pub fn finish(self, heading: &Heading<'_>) -> io::Result<()> {
-        match self.format {
-            Format::Csv if !self.written => csv::write_gates(&[], self.rows, self.out),
-            Format::Csv | Format::Spice => Ok(()),
-            Format::Json => self.out.write_all(if self.written { b"\n]\n" } else { b"]\n" }),
-            Format::Table => {
+        match self.sink {
+            Sink::Csv(mut view) => {
+                view.header();
+                view.flush()
+            }
+            Sink::Text { json: Some(_), out, .. } => out.write_all(JsonGates::end(self.written)),
+            Sink::Text { .. } => Ok(()),
+            Sink::Table { out, table, sections } => {
                 let mut line = format!(
                     "{}: {} of {} gates sized, {} variants",
                     heading.origin,
@@ -144,61 +171,68 @@ impl<'a> BatchWriter<'a> {
                 if heading.failed > 0 {
                     line.push_str(&format!("; {} could not be sized (errors on stderr)", heading.failed));
                 }
-                writeln!(self.out, "{line}")?;
-                writeln!(
-                    self.out,
-                    "process: {}; mobility ratio {}",
-                    self.process.name,
-                    number(heading.mobility_ratio)
-                )?;
-                let table = self.table.unwrap_or_else(|| SummaryTable::new(self.rows));
-                writeln!(self.out, "{}\n", table.legend())?;
-                table.write(self.out)?;
-                self.out.write_all(&self.sections)
+                writeln!(out, "{line}")?;
+                writeln!(out, "process: {}; mobility ratio {}", self.process.name, number(heading.mobility_ratio))?;
+                writeln!(out, "{}\n", table.legend())?;
+                table.write(out)?;
+                out.write_all(&sections)
             }
         }
     }
 }
 
-/// Passes everything on except the first line (a CSV header already written once).
-struct SkipFirstLine<'a> {
-    inner: &'a mut dyn Write,
-    skipping: bool,
+/// Bytes of JSON or SPICE put together before they are written on.
+const BUFFER_BYTES: usize = 1 << 16;
+
+/// The library's JSON: `{"process":{...},"gates":[` first, one gate object per line without its
+/// `process` (the library's, written once), `]}` at the end.
+struct JsonGates {
+    /// `,"process":{...}` as a gate's object carries it, cut out of each gate.
+    process_entry: Vec<u8>,
 }
 
-impl Write for SkipFirstLine<'_> {
-    fn write(&mut self, buffer: &[u8]) -> io::Result<usize> {
-        if !self.skipping {
-            return self.inner.write(buffer);
-        }
-        match buffer.iter().position(|&b| b == b'\n') {
-            None => Ok(buffer.len()),
-            Some(end) => {
-                self.skipping = false;
-                self.inner.write_all(&buffer[end + 1..])?;
-                Ok(buffer.len())
-            }
-        }
+impl JsonGates {
+    /// Put the document's start in `buffer`.
+    fn start(process: &Process, buffer: &mut Vec<u8>) -> io::Result<JsonGates> {
+        let mut entry = b",\"process\":".to_vec();
+        json::write_compact(process, &mut entry)?;
+        buffer.extend_from_slice(b"{\"process\":");
+        buffer.extend_from_slice(&entry[b",\"process\":".len()..]);
+        buffer.extend_from_slice(b",\"gates\":[");
+        Ok(JsonGates { process_entry: entry })
     }
 
-    fn flush(&mut self) -> io::Result<()> {
-        self.inner.flush()
+    /// Put a gate's object in `buffer` on a line of its own, after a separator unless it is the
+    /// `first`, without the process entry where it is the library's.
+    fn push<T: Serialize>(&self, gate: &T, first: bool, buffer: &mut Vec<u8>) -> io::Result<()> {
+        buffer.extend_from_slice(if first { b"\n" } else { b",\n" });
+        let start = buffer.len();
+        json::write_compact(gate, &mut *buffer)?;
+        let object = &buffer[start..];
+        let entry = &self.process_entry[..];
+        // The figures write `process` last, so in a sized variant it ends the object; after it come
+        // only the keys of a calibrated variant (none of them `process`). A gate in another process
+        // would keep its own.
+        let at = if object.len() > entry.len() && object[..object.len() - 1].ends_with(entry) {
+            Some(object.len() - 1 - entry.len())
+        } else {
+            object.windows(entry.len()).rposition(|window| window == entry)
+        };
+        if let Some(at) = at {
+            buffer.drain(start + at..start + at + entry.len());
+        }
+        Ok(())
+    }
+
+    /// The document's end.
+    fn end(written: bool) -> &'static [u8] {
+        if written { b"\n]}\n" } else { b"]}\n" }
     }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn csv_header_is_skipped_once() {
-        let mut out = Vec::new();
-        let mut skip = SkipFirstLine { inner: &mut out, skipping: true };
-        skip.write_all(b"a,b").unwrap();
-        skip.write_all(b",c\n1,2,3\n").unwrap();
-        skip.write_all(b"4,5,6\n").unwrap();
-        assert_eq!(out, b"1,2,3\n4,5,6\n");
-    }
 
     #[test]
     fn an_empty_library_is_a_header_an_empty_array_or_a_heading() {
@@ -211,7 +245,35 @@ mod tests {
             String::from_utf8(out).unwrap()
         };
         assert!(written(Format::Csv).starts_with("gate,"), "{}", written(Format::Csv));
-        assert_eq!(written(Format::Json), "[]\n");
+        let json = written(Format::Json);
+        assert!(json.starts_with("{\"process\":{\"name\":") && json.ends_with("},\"gates\":[]}\n"), "{json}");
         assert!(written(Format::Table).starts_with("lib.toml: 0 of 0 gates sized, 0 variants\n"));
+    }
+
+    #[test]
+    fn a_gate_s_process_is_cut_where_it_is_the_library_s() {
+        #[derive(serde::Serialize)]
+        struct Gate<'p> {
+            name: &'static str,
+            process: &'p Process,
+            #[serde(skip_serializing_if = "Option::is_none")]
+            calibration: Option<[u8; 2]>,
+        }
+        let process = Process::default();
+        let other = Process { name: "other".to_string(), ..Process::default() };
+        let mut buffer = Vec::new();
+        let json = JsonGates::start(&process, &mut buffer).unwrap();
+        for (index, (process, calibration)) in
+            [(&process, None), (&process, Some([1, 2])), (&other, None)].into_iter().enumerate()
+        {
+            json.push(&Gate { name: "g", process, calibration }, index == 0, &mut buffer).unwrap();
+        }
+        buffer.extend_from_slice(JsonGates::end(true));
+        let text = String::from_utf8(buffer).unwrap();
+        let lines: Vec<&str> = text.lines().collect();
+        assert_eq!(&lines[1..], [r#"{"name":"g"},"#, r#"{"name":"g","calibration":[1,2]},"#, lines[3], "]}"]);
+        assert!(lines[3].starts_with(r#"{"name":"g","process":{"name":"other","#), "{}", lines[3]);
+        let document: serde_json::Value = serde_json::from_str(&text).unwrap();
+        assert_eq!(document["process"]["name"], process.name.as_str());
     }
 }

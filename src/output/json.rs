@@ -16,7 +16,7 @@ pub struct Numbers<F>(pub F);
 
 impl<F: Formatter> Formatter for Numbers<F> {
     fn write_f64<W: ?Sized + Write>(&mut self, writer: &mut W, value: f64) -> io::Result<()> {
-        writer.write_all(crate::number::format(value).as_bytes())
+        writer.write_all(crate::number::Text::new().of(value))
     }
 
     fn write_f32<W: ?Sized + Write>(&mut self, writer: &mut W, value: f32) -> io::Result<()> {
@@ -64,19 +64,23 @@ impl<F: Formatter> Formatter for Numbers<F> {
     }
 }
 
-/// Write `value` as indented JSON, numbers by the one rule.
+/// Write `value` as indented JSON, numbers by the one rule. serde_json writes a document in many
+/// small pieces: it is put together in memory and handed on in one.
 pub fn write_pretty<T: Serialize + ?Sized>(value: &T, out: &mut dyn Write) -> io::Result<()> {
-    let mut serializer = serde_json::Serializer::with_formatter(&mut *out, Numbers(PrettyFormatter::new()));
+    let mut text = Vec::new();
+    let mut serializer = serde_json::Serializer::with_formatter(&mut text, Numbers(PrettyFormatter::new()));
+    value.serialize(&mut serializer).map_err(io::Error::from)?;
+    out.write_all(&text)
+}
+
+/// Write `value` as JSON on one line, numbers by the one rule, to a writer of the caller's type
+/// (a buffer, written on in large pieces, where there are many values).
+pub fn write_compact<T: Serialize + ?Sized, W: Write>(value: &T, out: W) -> io::Result<()> {
+    let mut serializer = serde_json::Serializer::with_formatter(out, Numbers(CompactFormatter));
     value.serialize(&mut serializer).map_err(io::Error::from)
 }
 
-/// Write `value` as JSON on one line, numbers by the one rule.
-pub fn write_compact<T: Serialize + ?Sized>(value: &T, out: &mut dyn Write) -> io::Result<()> {
-    let mut serializer = serde_json::Serializer::with_formatter(&mut *out, Numbers(CompactFormatter));
-    value.serialize(&mut serializer).map_err(io::Error::from)
-}
-
-/// One gate as an object; several as an array of objects.
+/// One gate as an object (with its process); several as an array of objects.
 pub fn write_gates(gates: &[CellReport], out: &mut dyn Write) -> io::Result<()> {
     match gates {
         [gate] => write_pretty(gate, out)?,

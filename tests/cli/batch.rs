@@ -726,16 +726,27 @@ fn output_file_is_written_atomically_and_kept_on_a_file_error() {
 }
 
 #[test]
-fn json_is_an_array_of_every_variant() {
+fn json_is_the_process_once_and_every_variant() {
     let output =
         widthwise().arg("batch").arg(fixture("batch-published.toml")).args(["--format", "json"]).output().unwrap();
     assert!(output.status.success());
-    let json: serde_json::Value = serde_json::from_slice(&output.stdout).unwrap();
-    let gates = json.as_array().unwrap();
+    let text = String::from_utf8(output.stdout).unwrap();
+    let json: serde_json::Value = serde_json::from_str(&text).unwrap();
+    let gates = json["gates"].as_array().unwrap();
     assert_eq!(gates.len(), 16);
     assert_eq!(gates[3]["name"], "nand2_x2");
     assert_eq!(gates[3]["drive"], 2.0);
     assert_eq!(gates[3]["transistors"].as_array().unwrap().len(), 4);
+    // The process once, at the top; each variant is `size`'s object for it less its process, on a
+    // line of its own.
+    assert!(gates.iter().all(|gate| gate.get("process").is_none()));
+    assert_eq!(text.lines().count(), 16 + 2, "{text}");
+    let alone = widthwise().args(["size", "nand2", "--drive", "2", "--format", "json"]).output().unwrap();
+    let mut alone: serde_json::Value = serde_json::from_slice(&alone.stdout).unwrap();
+    assert_eq!(json["process"], alone["process"]);
+    alone.as_object_mut().unwrap().remove("process");
+    alone["name"] = gates[3]["name"].clone();
+    assert_eq!(gates[3], alone);
 }
 
 #[test]
