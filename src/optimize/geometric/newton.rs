@@ -67,7 +67,10 @@ impl Table {
             touched: Vec::new(),
             variables,
         };
-        let mut known: std::collections::HashMap<Vec<(usize, u64)>, usize> = std::collections::HashMap::new();
+        // Distinct monomials by a hash of their pairs, probing on past a collision: no key is
+        // allocated per term.
+        let mut known: std::collections::HashMap<u64, usize, std::hash::BuildHasherDefault<Spread>> =
+            std::collections::HashMap::default();
         let mut merged: Vec<(usize, f64)> = Vec::new();
         for terms in functions {
             let first = table.touched.len();
@@ -80,13 +83,22 @@ impl Table {
                     }
                 }
                 merged.sort_unstable_by_key(|&(k, _)| k);
-                let key: Vec<(usize, u64)> = merged.iter().map(|&(k, e)| (k, e.to_bits())).collect();
-                let next = table.monomial_at.len() - 1;
-                let u = *known.entry(key).or_insert(next);
-                if u == next {
-                    table.pairs.extend_from_slice(&merged);
-                    table.monomial_at.push(table.pairs.len());
-                }
+                let mut key = merged.iter().fold(0x9e37_79b9_7f4a_7c15u64, |h, &(k, e)| {
+                    (h.rotate_left(5) ^ k as u64 ^ e.to_bits().rotate_left(17)).wrapping_mul(0x51_7cc1_b727_220a_95)
+                });
+                let u = loop {
+                    match known.get(&key) {
+                        None => {
+                            let next = table.monomial_at.len() - 1;
+                            known.insert(key, next);
+                            table.pairs.extend_from_slice(&merged);
+                            table.monomial_at.push(table.pairs.len());
+                            break next;
+                        }
+                        Some(&u) if same(table.monomial_pairs(u), &merged) => break u,
+                        Some(_) => key = key.wrapping_add(1),
+                    }
+                };
                 table.monomial.push(u);
                 table.coefficient.push(coefficient);
                 table.log_coefficient.push(coefficient.ln());
@@ -236,6 +248,29 @@ impl Table {
     }
 }
 
+/// Whether two monomials' pairs are the same, exponents compared bit for bit.
+fn same(a: &[(usize, f64)], b: &[(usize, f64)]) -> bool {
+    a.len() == b.len() && a.iter().zip(b).all(|(p, q)| p.0 == q.0 && p.1.to_bits() == q.1.to_bits())
+}
+
+/// A hasher for keys that are already well-spread 64-bit hashes.
+#[derive(Default)]
+struct Spread(u64);
+
+impl std::hash::Hasher for Spread {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for &byte in bytes {
+            self.0 = (self.0.rotate_left(8) ^ u64::from(byte)).wrapping_mul(0x100_0000_01b3);
+        }
+    }
+    fn write_u64(&mut self, value: u64) {
+        self.0 = value;
+    }
+}
+
 /// Scratch of [`Table::evaluate`] and [`Table::gradients`].
 struct Scratch {
     powers: Vec<f64>,
@@ -323,6 +358,10 @@ impl Problem<'_> {
     /// Fill `point` at `z`; whether `z` is strictly inside (every value negative and finite).
     /// Outside, the gradients are left as they were (a trial there is dropped before they are read).
     fn evaluate(&self, z: &[f64], point: &mut Point, scratch: &mut Scratch) -> bool {
+        if (0..self.n).any(|j| !(self.lower[j] < z[j] && z[j] < self.upper[j])) {
+            // Outside the box: no function is worth evaluating.
+            return false;
+        }
         let s = if self.phase_one { z[self.n] } else { 0.0 };
         self.table.evaluate(z, &mut point.functions, &mut point.weights, scratch);
         let m = self.constraints();
@@ -338,6 +377,35 @@ impl Problem<'_> {
             self.table.gradients(&point.weights, &mut point.gradients, scratch);
         }
         inside
+    }
+
+    /// Of a trial `trial` outside (from `z`, inside), a share of the way to it that is surely
+    /// inside: each constraint is convex along the segment, so below its chord, which crosses 0 at
+    /// `G(z) / (G(z) - G(trial))` of the way; the box is linear. 0 where it cannot tell.
+    fn inside_share(&self, z: &[f64], trial: &[f64], point: &Point, trial_point: &Point) -> f64 {
+        let mut share: f64 = 1.0;
+        for j in 0..self.n {
+            let (from, to) = (z[j], trial[j]);
+            if to >= self.upper[j] {
+                share = share.min((self.upper[j] - from) / (to - from));
+            } else if to <= self.lower[j] {
+                share = share.min((from - self.lower[j]) / (from - to));
+            }
+        }
+        if share < 1.0 {
+            // Outside the box: the functions were not evaluated there.
+            return 0.99 * share;
+        }
+        for i in 0..self.constraints() {
+            let (from, to) = (point.values[i], trial_point.values[i]);
+            if to.is_nan() || to == f64::INFINITY {
+                return 0.0;
+            }
+            if to >= 0.0 {
+                share = share.min(from / (from - to));
+            }
+        }
+        0.99 * share
     }
 
     /// The residual `(grad f + sum lambda_i grad G_i, -lambda_i G_i - 1/t)`: its dual part in
@@ -497,8 +565,10 @@ impl Problem<'_> {
                     if trial_norm <= (1.0 - 0.01 * length) * norm {
                         break;
                     }
+                    length *= 0.5;
+                } else {
+                    length = length * 0.5f64.max(self.inside_share(&z[..self.n], &trial, &point, &trial_point));
                 }
-                length *= 0.5;
                 if length < 1e-14 {
                     // No progress at this precision: as close as rounding allows.
                     return Ok(Finish::Converged);
