@@ -532,13 +532,14 @@ impl Problem<'_> {
         let mut trial = z.to_vec();
         let mut trial_dual = vec![0.0; size];
         let count = self.count() as f64;
+        let mut growth = GROWTH;
         for _ in 0..ITERATIONS {
             self.meter.charge(self.work.0, Work::Elmore)?;
             if early(z) {
                 return Ok(Finish::Early);
             }
             let gap: f64 = -point.values.iter().zip(&lambda).map(|(g, l)| g * l).sum::<f64>();
-            let t = GROWTH * count / gap;
+            let t = growth * count / gap;
             let norm = self.residual(&point, &lambda, t, &mut space.dual);
             let dual_norm = space.dual.iter().map(|d| d * d).sum::<f64>().sqrt();
             if gap <= GAP && dual_norm <= DUAL_TOLERANCE {
@@ -552,6 +553,7 @@ impl Problem<'_> {
                 }
             }
             length *= 0.99;
+            let first = length;
             loop {
                 self.meter.charge(self.work.1, Work::Elmore)?;
                 for (k, value) in trial.iter_mut().enumerate() {
@@ -574,6 +576,15 @@ impl Problem<'_> {
                     return Ok(Finish::Converged);
                 }
             }
+            // The next step aims further after a full step near the central path (Newton's
+            // method converging there), nearer after a short one.
+            growth = if length == first && length > 0.9 && dual_norm < NEAR {
+                FAR
+            } else if length < 0.9 {
+                SHORT
+            } else {
+                GROWTH
+            };
             z.copy_from_slice(&trial);
             std::mem::swap(&mut point, &mut trial_point);
             std::mem::swap(&mut lambda, &mut trial_lambda);
@@ -638,7 +649,12 @@ fn cholesky(a: &mut [f64], n: usize, shift: f64) -> bool {
 const GAP: f64 = 1e-10;
 /// Largest dual residual accepted at the optimum.
 const DUAL_TOLERANCE: f64 = 1e-8;
-/// How far each iteration aims along the central path (mu in t = mu m / gap).
+/// How far each iteration aims along the central path (mu in t = mu m / gap): after a step of
+/// at least 0.9 of the way, [`FAR`] after a full one whose dual residual was below [`NEAR`],
+/// [`SHORT`] after a step of less than 0.9.
 const GROWTH: f64 = 10.0;
+const FAR: f64 = 1000.0;
+const NEAR: f64 = 1e-3;
+const SHORT: f64 = 3.0;
 /// Most iterations per phase.
 pub(super) const ITERATIONS: usize = 300;
