@@ -39,10 +39,9 @@ pub(super) struct Table {
     pairs: Vec<(usize, f64)>,
     /// Function `f`'s terms at `term_at[f]..term_at[f + 1]` (function 0 the objective).
     term_at: Vec<usize>,
-    /// Each term's monomial, coefficient and its log.
+    /// Each term's monomial and coefficient.
     monomial: Vec<usize>,
     coefficient: Vec<f64>,
-    log_coefficient: Vec<f64>,
     /// Function `f`'s variables, ascending, at `touched_at[f]..touched_at[f + 1]`.
     touched_at: Vec<usize>,
     touched: Vec<usize>,
@@ -62,7 +61,6 @@ impl Table {
             term_at: vec![0],
             monomial: Vec::new(),
             coefficient: Vec::new(),
-            log_coefficient: Vec::new(),
             touched_at: vec![0],
             touched: Vec::new(),
             variables,
@@ -101,7 +99,6 @@ impl Table {
                 };
                 table.monomial.push(u);
                 table.coefficient.push(coefficient);
-                table.log_coefficient.push(coefficient.ln());
                 table.touched.extend(merged.iter().map(|&(k, _)| k));
             }
             table.term_at.push(table.monomial.len());
@@ -135,14 +132,16 @@ impl Table {
 
     /// `b_t + a_t . y` of term `t`.
     fn exponent(&self, t: usize, y: &[f64]) -> f64 {
-        self.log_coefficient[t] + self.monomial_pairs(self.monomial[t]).iter().map(|&(k, e)| e * y[k]).sum::<f64>()
+        self.coefficient[t].ln() + self.monomial_pairs(self.monomial[t]).iter().map(|&(k, e)| e * y[k]).sum::<f64>()
     }
 
-    /// Function `f`'s value at `y`, stably.
-    pub(super) fn value(&self, f: usize, y: &[f64]) -> f64 {
-        let terms = self.term_at[f]..self.term_at[f + 1];
-        let top = terms.clone().map(|t| self.exponent(t, y)).fold(f64::NEG_INFINITY, f64::max);
-        top + terms.map(|t| (self.exponent(t, y) - top).exp()).sum::<f64>().ln()
+    /// Every function's value at `y`, stably.
+    pub(super) fn values(&self, y: &[f64]) -> Vec<f64> {
+        let mut values = vec![0.0; self.functions()];
+        let mut weights = vec![0.0; self.monomial.len()];
+        let mut scratch = Scratch { powers: vec![0.0; self.monomial_at.len() - 1], dense: Vec::new() };
+        self.evaluate(y, &mut values, &mut weights, &mut scratch);
+        values
     }
 
     /// Every function's value at `y` into `values` and its term shares into `weights` (one per
@@ -161,8 +160,9 @@ impl Table {
             let total: f64 = terms.clone().map(|t| self.coefficient[t] * scratch.powers[self.monomial[t]]).sum();
             if total > 1e-280 && total.is_finite() {
                 values[f] = top + total.ln();
+                let share = 1.0 / total;
                 for t in terms.clone() {
-                    weights[t] = self.coefficient[t] * scratch.powers[self.monomial[t]] / total;
+                    weights[t] = self.coefficient[t] * scratch.powers[self.monomial[t]] * share;
                 }
             } else {
                 // Terms far below the table's largest: each function shifted by its own largest.
@@ -506,6 +506,7 @@ impl Problem<'_> {
     }
 
     /// Primal-dual interior-point iterations from a strictly feasible `z`.
+    /// `early` reads every function's value at the iterate (the objective's first).
     pub(super) fn run(&self, z: &mut [f64], early: impl Fn(&[f64]) -> bool) -> Result<Finish, Stop> {
         let size = self.size();
         let functions = self.table.functions();
@@ -535,7 +536,7 @@ impl Problem<'_> {
         let mut growth = GROWTH;
         for _ in 0..ITERATIONS {
             self.meter.charge(self.work.0, Work::Elmore)?;
-            if early(z) {
+            if early(&point.functions) {
                 return Ok(Finish::Early);
             }
             let gap: f64 = -point.values.iter().zip(&lambda).map(|(g, l)| g * l).sum::<f64>();
