@@ -68,7 +68,7 @@ impl Table {
         // Distinct monomials by a hash of their pairs, probing on past a collision: no key is
         // allocated per term.
         let mut known: std::collections::HashMap<u64, usize, std::hash::BuildHasherDefault<Spread>> =
-            std::collections::HashMap::default();
+            std::collections::HashMap::with_capacity_and_hasher(256, Default::default());
         let mut merged: Vec<(usize, f64)> = Vec::new();
         for terms in functions {
             let first = table.touched.len();
@@ -80,7 +80,9 @@ impl Table {
                         None => merged.push((k, e)),
                     }
                 }
-                merged.sort_unstable_by_key(|&(k, _)| k);
+                if !merged.is_sorted_by_key(|&(k, _)| k) {
+                    merged.sort_unstable_by_key(|&(k, _)| k);
+                }
                 let mut key = merged.iter().fold(0x9e37_79b9_7f4a_7c15u64, |h, &(k, e)| {
                     (h.rotate_left(5) ^ k as u64 ^ e.to_bits().rotate_left(17)).wrapping_mul(0x51_7cc1_b727_220a_95)
                 });
@@ -102,7 +104,9 @@ impl Table {
                 table.touched.extend(merged.iter().map(|&(k, _)| k));
             }
             table.term_at.push(table.monomial.len());
-            table.touched[first..].sort_unstable();
+            if !table.touched[first..].is_sorted() {
+                table.touched[first..].sort_unstable();
+            }
             let mut kept = first;
             for index in first..table.touched.len() {
                 if index == first || table.touched[index] != table.touched[kept - 1] {
