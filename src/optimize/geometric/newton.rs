@@ -84,7 +84,7 @@ impl Table {
                     merged.sort_unstable_by_key(|&(k, _)| k);
                 }
                 let mut key = merged.iter().fold(0x9e37_79b9_7f4a_7c15u64, |h, &(k, e)| {
-                    (h.rotate_left(5) ^ k as u64 ^ e.to_bits().rotate_left(17)).wrapping_mul(0x51_7cc1_b727_220a_95)
+                    (h.rotate_left(5) ^ k as u64 ^ e.to_bits().rotate_left(17)).wrapping_mul(0x517c_c1b7_2722_0a95)
                 });
                 let u = loop {
                     match known.get(&key) {
@@ -574,7 +574,7 @@ impl Problem<'_> {
                     }
                     length *= 0.5;
                 } else {
-                    length = length * 0.5f64.max(self.inside_share(&z[..self.n], &trial, &point, &trial_point));
+                    length *= 0.5f64.max(self.inside_share(&z[..self.n], &trial, &point, &trial_point));
                 }
                 if length < 1e-14 {
                     // No progress at this precision: as close as rounding allows.
