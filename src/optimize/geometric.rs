@@ -4,7 +4,10 @@
 //! feasible point (or shows there is none) by minimising the largest constraint, phase II minimises
 //! the objective. Both are primal-dual (Boyd & Vandenberghe, "Convex Optimization", 2004, section
 //! 11.7): Newton steps on the perturbed KKT conditions, a dense Cholesky factorisation of the reduced
-//! system, and a backtracking line search on the residual that keeps every iterate strictly inside.
+//! system, and a backtracking line search on the residual that keeps every iterate strictly inside
+//! (a trial outside steps back at once to where every constraint's chord, which lies above the
+//! convex constraint, is still below 0, and to inside the box; each step aims further along the
+//! central path after a full step near it, nearer after a short one).
 //! Hard constraints hold strictly at the start and phase I keeps them at `<= 1` rather than relaxing
 //! them, so the least worst value it reports is over the points that meet them.
 
