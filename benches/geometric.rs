@@ -5,7 +5,7 @@
 //! with the optimum and the time per solve, are written as JSON to a file (a temporary one unless
 //! `--json PATH` is given), which `python3 benches/scipy_geometric.py` solves again with scipy.
 //!
-//! Run with `cargo bench --bench geometric [-- --json PATH]`.
+//! Run with `cargo bench --bench geometric [-- --json PATH] [--only TEXT]`.
 
 #![forbid(unsafe_code)]
 
@@ -90,16 +90,21 @@ fn main() {
         || std::env::temp_dir().join(format!("widthwise-geometric-{}.json", std::process::id())),
         std::path::PathBuf::from,
     );
+    // `--only TEXT`: only the programs whose name contains TEXT (to profile one).
+    let only = arguments.iter().position(|a| a == "--only").and_then(|at| arguments.get(at + 1)).cloned();
     println!("the elmore method's geometric programs, solved in-process by optimize::geometric::solve");
     let mut solved = Vec::new();
     let mut times = Vec::new();
     for (text, load, ratio) in CASES {
         for (name, program) in programs(text, load, ratio) {
+            if only.as_ref().is_some_and(|only| !name.contains(only.as_str())) {
+                continue;
+            }
             let Outcome::Optimal { objective, .. } = geometric::solve(&program).expect("it solves") else {
                 println!("  {name}: infeasible, left out");
                 continue;
             };
-            let repeats = 20;
+            let repeats = if only.is_some() { 2000 } else { 20 };
             let time = best_of(10, || {
                 for _ in 0..repeats {
                     black_box(geometric::solve(black_box(&program)).expect("it solves"));

@@ -4,7 +4,10 @@
 //! feasible point (or shows there is none) by minimising the largest constraint, phase II minimises
 //! the objective. Both are primal-dual (Boyd & Vandenberghe, "Convex Optimization", 2004, section
 //! 11.7): Newton steps on the perturbed KKT conditions, a dense Cholesky factorisation of the reduced
-//! system, and a backtracking line search on the residual that keeps every iterate strictly inside.
+//! system, and a backtracking line search on the residual that keeps every iterate strictly inside
+//! (a trial outside steps back at once to where every constraint's chord, which lies above the
+//! convex constraint, is still below 0, and to inside the box; each step aims further along the
+//! central path after a full step near it, nearer after a short one).
 //! Hard constraints hold strictly at the start and phase I keeps them at `<= 1` rather than relaxing
 //! them, so the least worst value it reports is over the points that meet them.
 
@@ -109,7 +112,13 @@ pub const MAX_NEWTON_STEPS: u128 = 2 * ITERATIONS as u128;
 /// line-search trial, with `variables` variables: its Hessian terms, its value and its dense
 /// gradient.
 pub fn posynomial_work(posynomial: &Posynomial, variables: usize) -> (u128, u128) {
-    let mut touched: Vec<usize> = posynomial.terms.iter().flat_map(|t| t.exponents.iter().map(|&(k, _)| k)).collect();
+    posynomial_work_with(posynomial, variables, &mut Vec::new())
+}
+
+/// [`posynomial_work`] with `touched` as scratch.
+fn posynomial_work_with(posynomial: &Posynomial, variables: usize, touched: &mut Vec<usize>) -> (u128, u128) {
+    touched.clear();
+    touched.extend(posynomial.terms.iter().flat_map(|t| t.exponents.iter().map(|&(k, _)| k)));
     touched.sort_unstable();
     touched.dedup();
     let (mut hessian, mut values) = (touched.len() as u128 * touched.len() as u128, 0u128);
@@ -132,10 +141,11 @@ pub fn base_work(variables: usize) -> (u128, u128) {
 /// Work units of one Newton step and of one line-search trial of a program.
 pub fn step_work(program: &Program) -> (u128, u128) {
     let n = program.variables;
+    let mut touched = Vec::new();
     std::iter::once(&program.objective).chain(&program.constraints).chain(&program.hard).fold(
         base_work(n),
         |(step, trial), posynomial| {
-            let (s, t) = posynomial_work(posynomial, n);
+            let (s, t) = posynomial_work_with(posynomial, n, &mut touched);
             (step + s, trial + t)
         },
     )
@@ -176,24 +186,25 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
     let functions = std::iter::once(&program.objective).chain(&program.constraints).chain(&program.hard);
     let table = Table::new(functions.map(|p| p.terms.iter().map(|t| (t.coefficient, t.exponents.as_slice()))), n);
     let soft = program.constraints.len();
-    let hard = program.hard.len();
-    if (soft..soft + hard).map(|i| table.value(i + 1, &y)).any(|v| v.is_nan() || v >= 0.0) {
+    let values = table.values(&y);
+    if values[soft + 1..].iter().any(|v| v.is_nan() || *v >= 0.0) {
         return Err(SolveError::Bad("the start must meet every hard constraint strictly".into()));
     }
-    // The largest soft constraint and its index.
-    let worst = |y: &[f64]| {
-        (0..soft).map(|i| (i, table.value(i + 1, y))).fold((0, f64::NEG_INFINITY), |a, b| if b.1 > a.1 { b } else { a })
+    // The largest soft constraint and its index, of every function's values.
+    let worst = |values: &[f64]| {
+        values[1..=soft].iter().copied().enumerate().fold((0, f64::NEG_INFINITY), |a, b| if b.1 > a.1 { b } else { a })
     };
 
     let problem = |phase_one| Problem { meter, work, table: &table, soft, lower: &lower, upper: &upper, phase_one, n };
 
     // Phase I: minimise s with F_i(y) <= s, until some y has every F_i clearly below 0.
-    if soft > 0 && worst(&y).1 >= -MARGIN {
+    let start_worst = worst(&values).1;
+    if soft > 0 && start_worst >= -MARGIN {
         let phase = problem(true);
         let mut z = y.clone();
-        z.push(worst(&y).1.max(0.0) + 1.0);
-        let finish = phase.run(&mut z, |z| worst(&z[..n]).1 < -MARGIN).map_err(stopped)?;
-        let (index, value) = worst(&z[..n]);
+        z.push(start_worst.max(0.0) + 1.0);
+        let finish = phase.run(&mut z, |values| worst(values).1 < -MARGIN).map_err(stopped)?;
+        let (index, value) = worst(&table.values(&z[..n]));
         if matches!(finish, Finish::Converged) && value >= -1e-9 {
             return Ok(Outcome::Infeasible { least_worst: value.exp(), worst_constraint: index });
         }

@@ -39,10 +39,9 @@ pub(super) struct Table {
     pairs: Vec<(usize, f64)>,
     /// Function `f`'s terms at `term_at[f]..term_at[f + 1]` (function 0 the objective).
     term_at: Vec<usize>,
-    /// Each term's monomial, coefficient and its log.
+    /// Each term's monomial and coefficient.
     monomial: Vec<usize>,
     coefficient: Vec<f64>,
-    log_coefficient: Vec<f64>,
     /// Function `f`'s variables, ascending, at `touched_at[f]..touched_at[f + 1]`.
     touched_at: Vec<usize>,
     touched: Vec<usize>,
@@ -62,12 +61,14 @@ impl Table {
             term_at: vec![0],
             monomial: Vec::new(),
             coefficient: Vec::new(),
-            log_coefficient: Vec::new(),
             touched_at: vec![0],
             touched: Vec::new(),
             variables,
         };
-        let mut known: std::collections::HashMap<Vec<(usize, u64)>, usize> = std::collections::HashMap::new();
+        // Distinct monomials by a hash of their pairs, probing on past a collision: no key is
+        // allocated per term.
+        let mut known: std::collections::HashMap<u64, usize, std::hash::BuildHasherDefault<Spread>> =
+            std::collections::HashMap::with_capacity_and_hasher(256, Default::default());
         let mut merged: Vec<(usize, f64)> = Vec::new();
         for terms in functions {
             let first = table.touched.len();
@@ -79,21 +80,33 @@ impl Table {
                         None => merged.push((k, e)),
                     }
                 }
-                merged.sort_unstable_by_key(|&(k, _)| k);
-                let key: Vec<(usize, u64)> = merged.iter().map(|&(k, e)| (k, e.to_bits())).collect();
-                let next = table.monomial_at.len() - 1;
-                let u = *known.entry(key).or_insert(next);
-                if u == next {
-                    table.pairs.extend_from_slice(&merged);
-                    table.monomial_at.push(table.pairs.len());
+                if !merged.is_sorted_by_key(|&(k, _)| k) {
+                    merged.sort_unstable_by_key(|&(k, _)| k);
                 }
+                let mut key = merged.iter().fold(0x9e37_79b9_7f4a_7c15u64, |h, &(k, e)| {
+                    (h.rotate_left(5) ^ k as u64 ^ e.to_bits().rotate_left(17)).wrapping_mul(0x517c_c1b7_2722_0a95)
+                });
+                let u = loop {
+                    match known.get(&key) {
+                        None => {
+                            let next = table.monomial_at.len() - 1;
+                            known.insert(key, next);
+                            table.pairs.extend_from_slice(&merged);
+                            table.monomial_at.push(table.pairs.len());
+                            break next;
+                        }
+                        Some(&u) if same(table.monomial_pairs(u), &merged) => break u,
+                        Some(_) => key = key.wrapping_add(1),
+                    }
+                };
                 table.monomial.push(u);
                 table.coefficient.push(coefficient);
-                table.log_coefficient.push(coefficient.ln());
                 table.touched.extend(merged.iter().map(|&(k, _)| k));
             }
             table.term_at.push(table.monomial.len());
-            table.touched[first..].sort_unstable();
+            if !table.touched[first..].is_sorted() {
+                table.touched[first..].sort_unstable();
+            }
             let mut kept = first;
             for index in first..table.touched.len() {
                 if index == first || table.touched[index] != table.touched[kept - 1] {
@@ -123,14 +136,16 @@ impl Table {
 
     /// `b_t + a_t . y` of term `t`.
     fn exponent(&self, t: usize, y: &[f64]) -> f64 {
-        self.log_coefficient[t] + self.monomial_pairs(self.monomial[t]).iter().map(|&(k, e)| e * y[k]).sum::<f64>()
+        self.coefficient[t].ln() + self.monomial_pairs(self.monomial[t]).iter().map(|&(k, e)| e * y[k]).sum::<f64>()
     }
 
-    /// Function `f`'s value at `y`, stably.
-    pub(super) fn value(&self, f: usize, y: &[f64]) -> f64 {
-        let terms = self.term_at[f]..self.term_at[f + 1];
-        let top = terms.clone().map(|t| self.exponent(t, y)).fold(f64::NEG_INFINITY, f64::max);
-        top + terms.map(|t| (self.exponent(t, y) - top).exp()).sum::<f64>().ln()
+    /// Every function's value at `y`, stably.
+    pub(super) fn values(&self, y: &[f64]) -> Vec<f64> {
+        let mut values = vec![0.0; self.functions()];
+        let mut weights = vec![0.0; self.monomial.len()];
+        let mut scratch = Scratch { powers: vec![0.0; self.monomial_at.len() - 1], dense: Vec::new() };
+        self.evaluate(y, &mut values, &mut weights, &mut scratch);
+        values
     }
 
     /// Every function's value at `y` into `values` and its term shares into `weights` (one per
@@ -149,8 +164,9 @@ impl Table {
             let total: f64 = terms.clone().map(|t| self.coefficient[t] * scratch.powers[self.monomial[t]]).sum();
             if total > 1e-280 && total.is_finite() {
                 values[f] = top + total.ln();
+                let share = 1.0 / total;
                 for t in terms.clone() {
-                    weights[t] = self.coefficient[t] * scratch.powers[self.monomial[t]] / total;
+                    weights[t] = self.coefficient[t] * scratch.powers[self.monomial[t]] * share;
                 }
             } else {
                 // Terms far below the table's largest: each function shifted by its own largest.
@@ -233,6 +249,29 @@ impl Table {
                 }
             }
         }
+    }
+}
+
+/// Whether two monomials' pairs are the same, exponents compared bit for bit.
+fn same(a: &[(usize, f64)], b: &[(usize, f64)]) -> bool {
+    a.len() == b.len() && a.iter().zip(b).all(|(p, q)| p.0 == q.0 && p.1.to_bits() == q.1.to_bits())
+}
+
+/// A hasher for keys that are already well-spread 64-bit hashes.
+#[derive(Default)]
+struct Spread(u64);
+
+impl std::hash::Hasher for Spread {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for &byte in bytes {
+            self.0 = (self.0.rotate_left(8) ^ u64::from(byte)).wrapping_mul(0x100_0000_01b3);
+        }
+    }
+    fn write_u64(&mut self, value: u64) {
+        self.0 = value;
     }
 }
 
@@ -323,6 +362,10 @@ impl Problem<'_> {
     /// Fill `point` at `z`; whether `z` is strictly inside (every value negative and finite).
     /// Outside, the gradients are left as they were (a trial there is dropped before they are read).
     fn evaluate(&self, z: &[f64], point: &mut Point, scratch: &mut Scratch) -> bool {
+        if (0..self.n).any(|j| !(self.lower[j] < z[j] && z[j] < self.upper[j])) {
+            // Outside the box: no function is worth evaluating.
+            return false;
+        }
         let s = if self.phase_one { z[self.n] } else { 0.0 };
         self.table.evaluate(z, &mut point.functions, &mut point.weights, scratch);
         let m = self.constraints();
@@ -338,6 +381,35 @@ impl Problem<'_> {
             self.table.gradients(&point.weights, &mut point.gradients, scratch);
         }
         inside
+    }
+
+    /// Of a trial `trial` outside (from `z`, inside), a share of the way to it that is surely
+    /// inside: each constraint is convex along the segment, so below its chord, which crosses 0 at
+    /// `G(z) / (G(z) - G(trial))` of the way; the box is linear. 0 where it cannot tell.
+    fn inside_share(&self, z: &[f64], trial: &[f64], point: &Point, trial_point: &Point) -> f64 {
+        let mut share: f64 = 1.0;
+        for j in 0..self.n {
+            let (from, to) = (z[j], trial[j]);
+            if to >= self.upper[j] {
+                share = share.min((self.upper[j] - from) / (to - from));
+            } else if to <= self.lower[j] {
+                share = share.min((from - self.lower[j]) / (from - to));
+            }
+        }
+        if share < 1.0 {
+            // Outside the box: the functions were not evaluated there.
+            return 0.99 * share;
+        }
+        for i in 0..self.constraints() {
+            let (from, to) = (point.values[i], trial_point.values[i]);
+            if to.is_nan() || to == f64::INFINITY {
+                return 0.0;
+            }
+            if to >= 0.0 {
+                share = share.min(from / (from - to));
+            }
+        }
+        0.99 * share
     }
 
     /// The residual `(grad f + sum lambda_i grad G_i, -lambda_i G_i - 1/t)`: its dual part in
@@ -438,6 +510,7 @@ impl Problem<'_> {
     }
 
     /// Primal-dual interior-point iterations from a strictly feasible `z`.
+    /// `early` reads every function's value at the iterate (the objective's first).
     pub(super) fn run(&self, z: &mut [f64], early: impl Fn(&[f64]) -> bool) -> Result<Finish, Stop> {
         let size = self.size();
         let functions = self.table.functions();
@@ -464,13 +537,14 @@ impl Problem<'_> {
         let mut trial = z.to_vec();
         let mut trial_dual = vec![0.0; size];
         let count = self.count() as f64;
+        let mut growth = GROWTH;
         for _ in 0..ITERATIONS {
             self.meter.charge(self.work.0, Work::Elmore)?;
-            if early(z) {
+            if early(&point.functions) {
                 return Ok(Finish::Early);
             }
             let gap: f64 = -point.values.iter().zip(&lambda).map(|(g, l)| g * l).sum::<f64>();
-            let t = GROWTH * count / gap;
+            let t = growth * count / gap;
             let norm = self.residual(&point, &lambda, t, &mut space.dual);
             let dual_norm = space.dual.iter().map(|d| d * d).sum::<f64>().sqrt();
             if gap <= GAP && dual_norm <= DUAL_TOLERANCE {
@@ -484,6 +558,7 @@ impl Problem<'_> {
                 }
             }
             length *= 0.99;
+            let first = length;
             loop {
                 self.meter.charge(self.work.1, Work::Elmore)?;
                 for (k, value) in trial.iter_mut().enumerate() {
@@ -497,13 +572,24 @@ impl Problem<'_> {
                     if trial_norm <= (1.0 - 0.01 * length) * norm {
                         break;
                     }
+                    length *= 0.5;
+                } else {
+                    length *= 0.5f64.max(self.inside_share(&z[..self.n], &trial, &point, &trial_point));
                 }
-                length *= 0.5;
                 if length < 1e-14 {
                     // No progress at this precision: as close as rounding allows.
                     return Ok(Finish::Converged);
                 }
             }
+            // The next step aims further after a full step near the central path (Newton's
+            // method converging there), nearer after a short one.
+            growth = if length == first && length > 0.9 && dual_norm < NEAR {
+                FAR
+            } else if length < 0.9 {
+                SHORT
+            } else {
+                GROWTH
+            };
             z.copy_from_slice(&trial);
             std::mem::swap(&mut point, &mut trial_point);
             std::mem::swap(&mut lambda, &mut trial_lambda);
@@ -568,7 +654,12 @@ fn cholesky(a: &mut [f64], n: usize, shift: f64) -> bool {
 const GAP: f64 = 1e-10;
 /// Largest dual residual accepted at the optimum.
 const DUAL_TOLERANCE: f64 = 1e-8;
-/// How far each iteration aims along the central path (mu in t = mu m / gap).
+/// How far each iteration aims along the central path (mu in t = mu m / gap): after a step of
+/// at least 0.9 of the way, [`FAR`] after a full one whose dual residual was below [`NEAR`],
+/// [`SHORT`] after a step of less than 0.9.
 const GROWTH: f64 = 10.0;
+const FAR: f64 = 1000.0;
+const NEAR: f64 = 1e-3;
+const SHORT: f64 = 3.0;
 /// Most iterations per phase.
 pub(super) const ITERATIONS: usize = 300;
