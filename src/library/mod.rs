@@ -18,6 +18,7 @@ pub mod entries;
 pub mod error;
 mod forms;
 pub mod plan;
+mod reuse;
 mod scan;
 mod table;
 
@@ -35,11 +36,11 @@ use crate::bounds;
 use crate::budget::Estimate;
 use crate::cell::SizedCell;
 use crate::diagnostic::{Source, Span, escaped, toml_error_place};
-use crate::figures::CellFigures;
+use crate::figures::NamedCell;
 use crate::logic::CellLogic;
 use crate::names;
 use crate::process::Process;
-use crate::sizing::{self, MethodName, StackOrder};
+use crate::sizing::{self, MethodName, SizingError, StackOrder};
 use crate::verify::{self, VerifyOptions};
 
 use entries::{
@@ -50,6 +51,8 @@ pub use entries::{MAX_DRIVES_PER_GATE, Overrides, ReadFile};
 pub use error::LibraryError;
 use forms::Forms;
 pub use plan::{CalibrationKeys, GatePlan, GateProblem, Place};
+use reuse::Reuse;
+pub use reuse::{MAX_KEPT_CELLS, MAX_KEPT_DEVICES};
 
 /// The drive of a gate that neither it nor `[defaults]` sets.
 pub const DEFAULT_DRIVE: f64 = 1.0;
@@ -417,6 +420,8 @@ pub struct Outcome {
     pub verified: usize,
     /// Variants that failed verification (with `--verify`; still written).
     pub unverified: usize,
+    /// Variants that share the cell of an earlier variant that differs from them only in name.
+    pub reused: usize,
 }
 
 /// Size one variant of a gate, the one at `drive`, or say why the gate cannot be sized (its
@@ -441,17 +446,34 @@ fn size_form(
 /// cannot be sized is reported as its gate's problem and ends that gate (the variants before it
 /// are handed on).
 ///
+/// A variant that differs from one sized before only in its name shares that one's cell
+/// ([`NamedCell`]), sized, figured and verified once (`reuse`: at most [`MAX_KEPT_CELLS`] cells of
+/// [`MAX_KEPT_DEVICES`] devices in all kept at once).
+///
 /// With `verify`, every variant is also checked switch by switch on its input vectors
 /// ([`verify::verify`]); a variant that fails is still written, and reported like a bad gate.
 pub fn size_all(
     library: &Library,
     verify: Option<&VerifyOptions>,
     report: &mut dyn FnMut(&GateProblem) -> io::Result<()>,
-    emit: &mut dyn FnMut(&[SizedCell]) -> io::Result<()>,
+    emit: &mut dyn FnMut(&[NamedCell]) -> io::Result<()>,
+) -> io::Result<Outcome> {
+    size_all_keeping(library, verify, (MAX_KEPT_CELLS, MAX_KEPT_DEVICES), report, emit)
+}
+
+/// [`size_all`], at most `limits` (cells, devices) kept for reuse; `(0, 0)`: every variant sized
+/// afresh.
+pub(crate) fn size_all_keeping(
+    library: &Library,
+    verify: Option<&VerifyOptions>,
+    limits: (usize, usize),
+    report: &mut dyn FnMut(&GateProblem) -> io::Result<()>,
+    emit: &mut dyn FnMut(&[NamedCell]) -> io::Result<()>,
 ) -> io::Result<Outcome> {
     let mut outcome = Outcome { gates: library.gate_count(), ..Outcome::default() };
     let mut forms = Forms::new(&library.process);
-    let mut chunk: Vec<SizedCell> = Vec::with_capacity(CHUNK);
+    let mut reuse = Reuse::new(&library.process, limits);
+    let mut chunk: Vec<NamedCell> = Vec::with_capacity(CHUNK);
     for gate in library.gates() {
         let read = gate.and_then(|plan| forms.of(&plan).map(|forms| (plan, forms)));
         let (plan, gate_forms) = match read {
@@ -463,7 +485,7 @@ pub fn size_all(
             }
         };
         for &drive in &plan.drives {
-            let variant = match size_form(&plan, &gate_forms, drive, &library.process) {
+            let (variant, verified) = match named_variant(&plan, &gate_forms, drive, &library.process, &mut reuse) {
                 Ok(variant) => variant,
                 Err(problem) => {
                     outcome.failed += 1;
@@ -471,13 +493,31 @@ pub fn size_all(
                     break;
                 }
             };
+            if !variant.is_own() {
+                outcome.reused += 1;
+            }
             if let Some(options) = verify {
-                let failure = match verify::verify(&CellFigures::of(&variant), options) {
-                    Ok(result) => result.outcome().err().map(|error| error.to_string()),
-                    Err(error) => Some(format!("'{}' cannot be verified: {error}", variant.name)),
+                // A pass holds for every name; a failure's message names the variant.
+                let failure = if verified {
+                    None
+                } else {
+                    let renamed;
+                    let figures = if variant.is_own() {
+                        variant.shared.figures()
+                    } else {
+                        renamed = variant.figures();
+                        &renamed
+                    };
+                    match verify::verify(figures, options) {
+                        Ok(result) => result.outcome().err().map(|error| error.to_string()),
+                        Err(error) => Some(format!("'{}' cannot be verified: {error}", variant.name)),
+                    }
                 };
                 match failure {
-                    None => outcome.verified += 1,
+                    None => {
+                        outcome.verified += 1;
+                        reuse.verified();
+                    }
                     Some(message) => {
                         outcome.unverified += 1;
                         report(&plan.problem(message, Place::File(plan.name_span)))?;
@@ -496,6 +536,28 @@ pub fn size_all(
         emit(&chunk)?;
     }
     Ok(outcome)
+}
+
+/// The variant of `plan` at `drive`: the cell kept for its key, renamed (whether it passed
+/// verification beside it), or sized now and kept; or why it cannot be sized.
+fn named_variant(
+    plan: &GatePlan,
+    forms: &[CellLogic],
+    drive: f64,
+    process: &Arc<Process>,
+    reuse: &mut Reuse,
+) -> Result<(NamedCell, bool), GateProblem> {
+    let variant_plan = plan.plan(drive, process)?;
+    let name = plan.variant_name(drive);
+    let problem = |error: SizingError| plan.problem(error.to_string(), Place::File(plan.name_span));
+    if let Some(found) = reuse.find(plan, &variant_plan) {
+        // Of what sizing checks, only the cell's name can differ between the variants of one key,
+        // and it is checked first, on the first form: the same check, the same refusal.
+        sizing::build::check_names(&forms[0], &variant_plan).map_err(problem)?;
+        return Ok((NamedCell { name, shared: found.shared }, found.verified));
+    }
+    let cell = sizing::size_best(forms, &variant_plan).map_err(problem)?;
+    Ok((NamedCell { name, shared: reuse.keep(cell) }, false))
 }
 
 #[cfg(test)]

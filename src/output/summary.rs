@@ -2,10 +2,11 @@
 //! read first (the CSV views have every column). Rows are added chunk by chunk and kept as text
 //! only, so a long batch costs a few bytes per cell, not a sized gate per row.
 
+use std::collections::HashMap;
 use std::io::{self, Write};
 
 use super::{Rows, number};
-use crate::figures::CellFigures;
+use crate::figures::{CellFigures, NamedCell};
 
 /// Columns of the gates summary, in order.
 pub const GATE_SUMMARY_COLUMNS: [&str; 13] = [
@@ -53,7 +54,14 @@ pub struct SummaryTable {
     /// End of each cell in `text`; a row has `widths.len()` cells.
     ends: Vec<usize>,
     widths: Vec<usize>,
+    /// Where the rows of a shared cell are (its first row, how many), by its id: a variant's rows
+    /// copied from an earlier variant's but for the name.
+    shared: HashMap<u64, (usize, usize)>,
 }
+
+/// Most shared cells whose rows' places the table keeps (a few words each); past it they are
+/// forgotten and the next variants' rows made again.
+const KEPT_CELLS: usize = 4096;
 
 fn shortened(expression: &str) -> String {
     if expression.chars().count() <= EXPRESSION_WIDTH {
@@ -68,7 +76,13 @@ impl SummaryTable {
     /// An empty table of `rows` (the header row only).
     pub fn new(rows: Rows) -> SummaryTable {
         let header = columns(rows);
-        let mut table = SummaryTable { rows, text: String::new(), ends: Vec::new(), widths: vec![0; header.len()] };
+        let mut table = SummaryTable {
+            rows,
+            text: String::new(),
+            ends: Vec::new(),
+            widths: vec![0; header.len()],
+            shared: HashMap::new(),
+        };
         table.push(header.iter().map(|c| c.to_string()));
         table
     }
@@ -84,55 +98,90 @@ impl SummaryTable {
     /// Add the rows of these gates.
     pub fn add<'a>(&mut self, gates: impl IntoIterator<Item = &'a CellFigures>) {
         for gate in gates {
-            match self.rows {
-                Rows::Delays => {}
-                Rows::Gates => {
-                    let efforts = gate.inputs.iter().map(|i| i.logical_effort);
-                    let most_effort = efforts.clone().fold(f64::NEG_INFINITY, f64::max);
-                    let least_effort = efforts.fold(f64::INFINITY, f64::min);
-                    let most_c = gate.inputs.iter().map(|i| i.input_capacitance).fold(f64::NEG_INFINITY, f64::max);
+            self.add_gate(&gate.name, gate);
+        }
+    }
+
+    /// Add the rows of a batch's variants, each under its own name: a shared cell's rows made once
+    /// and copied for its other variants.
+    pub fn add_named(&mut self, cells: &[NamedCell]) {
+        let columns = self.widths.len();
+        for cell in cells {
+            let id = cell.shared.id();
+            if let Some(&(first, count)) = self.shared.get(&id) {
+                for row in first..first + count {
+                    let cells = (row * columns)..(row + 1) * columns;
+                    self.widths[0] = self.widths[0].max(cell.name.chars().count());
+                    self.text.push_str(&cell.name);
+                    self.ends.push(self.text.len());
+                    for at in cells.start + 1..cells.end {
+                        let (start, end) = (self.ends[at - 1], self.ends[at]);
+                        let cell = self.text[start..end].to_string();
+                        self.text.push_str(&cell);
+                        self.ends.push(self.text.len());
+                    }
+                }
+                continue;
+            }
+            let first = self.ends.len() / columns;
+            self.add_gate(&cell.name, cell.shared.figures());
+            if self.shared.len() >= KEPT_CELLS {
+                self.shared.clear();
+            }
+            self.shared.insert(id, (first, self.ends.len() / columns - first));
+        }
+    }
+
+    /// Add the rows of `gate` under `name`.
+    fn add_gate(&mut self, name: &str, gate: &CellFigures) {
+        match self.rows {
+            Rows::Delays => {}
+            Rows::Gates => {
+                let efforts = gate.inputs.iter().map(|i| i.logical_effort);
+                let most_effort = efforts.clone().fold(f64::NEG_INFINITY, f64::max);
+                let least_effort = efforts.fold(f64::INFINITY, f64::min);
+                let most_c = gate.inputs.iter().map(|i| i.input_capacitance).fold(f64::NEG_INFINITY, f64::max);
+                self.push([
+                    name.to_string(),
+                    shortened(&gate.expression),
+                    number(gate.drive),
+                    gate.method.name().to_string(),
+                    gate.transistor_count.to_string(),
+                    number(gate.area_um2),
+                    number(gate.total_w_over_l),
+                    number(most_c),
+                    number(most_effort),
+                    number(least_effort),
+                    number(gate.parasitic_delay),
+                    number(gate.networks[0].worst_resistance),
+                    number(gate.networks[1].worst_resistance),
+                ]);
+            }
+            Rows::Devices => {
+                for transistor in &gate.transistors {
                     self.push([
-                        gate.name.clone(),
-                        shortened(&gate.expression),
-                        number(gate.drive),
-                        gate.method.name().to_string(),
-                        gate.transistor_count.to_string(),
-                        number(gate.area_um2),
-                        number(gate.total_w_over_l),
-                        number(most_c),
-                        number(most_effort),
-                        number(least_effort),
-                        number(gate.parasitic_delay),
-                        number(gate.networks[0].worst_resistance),
-                        number(gate.networks[1].worst_resistance),
+                        name.to_string(),
+                        transistor.name.clone(),
+                        transistor.device_type.to_string(),
+                        transistor.input.clone(),
+                        transistor.drain.clone(),
+                        transistor.source.clone(),
+                        number(transistor.w_over_l),
+                        number(transistor.drawn_width_um),
+                        transistor.fingers.to_string(),
+                        number(transistor.drawn_width_um * transistor.length_um),
                     ]);
                 }
-                Rows::Devices => {
-                    for transistor in &gate.transistors {
-                        self.push([
-                            gate.name.clone(),
-                            transistor.name.clone(),
-                            transistor.device_type.to_string(),
-                            transistor.input.clone(),
-                            transistor.drain.clone(),
-                            transistor.source.clone(),
-                            number(transistor.w_over_l),
-                            number(transistor.drawn_width_um),
-                            transistor.fingers.to_string(),
-                            number(transistor.drawn_width_um * transistor.length_um),
-                        ]);
-                    }
-                }
-                Rows::Inputs => {
-                    for input in &gate.inputs {
-                        self.push([
-                            gate.name.clone(),
-                            input.name.clone(),
-                            number(input.input_capacitance),
-                            number(input.input_capacitance_ff),
-                            number(input.logical_effort),
-                        ]);
-                    }
+            }
+            Rows::Inputs => {
+                for input in &gate.inputs {
+                    self.push([
+                        name.to_string(),
+                        input.name.clone(),
+                        number(input.input_capacitance),
+                        number(input.input_capacitance_ff),
+                        number(input.logical_effort),
+                    ]);
                 }
             }
         }

@@ -1,0 +1,189 @@
+//! The sized variants of a batch kept by what decides them, so that a variant repeated under
+//! another name (a library lists the same gate in many names, or the same drive in many gates) is
+//! sized, figured and verified once: its key is everything a variant's sizes and figures depend on
+//! except its name, a bounded number kept at a time.
+//!
+//! The key is the gate's expression and pull-up as written (with the batch's process, which names
+//! the models no pin may take, they decide the function's forms) and every field of the variant's
+//! [`Plan`] but its name: the method and its worst case, the stack order and critical input, the
+//! drive, the reference inverter, the mobility ratio, the load and diffusion ratio, the work
+//! budget, the stage effort and the delay target. The plan's fields are taken apart without a rest
+//! pattern, so a field added to [`Plan`] fails to compile here until the key has it. Only the
+//! process is not in the key: the cells kept are the batch's process's, and a plan in another
+//! process is never kept or found.
+
+use std::collections::HashMap;
+use std::sync::Arc;
+
+use crate::cell::SizedCell;
+use crate::figures::SharedCell;
+use crate::library::plan::GatePlan;
+use crate::process::Process;
+use crate::sizing::{Conditions, Load, Method, Order, Plan, Reference, WorstCase};
+
+/// Most sized cells kept at once.
+pub const MAX_KEPT_CELLS: usize = 1024;
+/// Most devices (every stage's transistors) over the cells kept at once: a sized cell with its
+/// figures takes about a kilobyte per device, so the cells kept stay within some 16 MB however
+/// large the gates; a cell of more devices than this is not kept.
+pub const MAX_KEPT_DEVICES: usize = 16 * 1024;
+
+/// One cell kept.
+struct Kept {
+    shared: Arc<SharedCell>,
+    devices: usize,
+    /// Whether the cell passed verification (its result holds for every name it takes).
+    verified: bool,
+}
+
+/// The sized variants of a batch, by what decides them.
+pub(crate) struct Reuse {
+    process: Arc<Process>,
+    kept: HashMap<Box<[u8]>, Kept>,
+    /// Devices over the cells kept.
+    devices: usize,
+    /// Most cells and devices kept ((0, 0): none, every variant sized afresh).
+    limits: (usize, usize),
+    next_id: u64,
+    /// The key of the last variant looked up, where it has one.
+    key: Vec<u8>,
+    keyed: bool,
+}
+
+/// What a lookup found.
+pub(crate) struct Found {
+    /// The cell, sized for another variant of the same key.
+    pub(crate) shared: Arc<SharedCell>,
+    /// Whether it passed verification.
+    pub(crate) verified: bool,
+}
+
+impl Reuse {
+    /// Nothing kept yet, for variants sized in `process`, at most `limits` (cells, devices) kept.
+    pub(crate) fn new(process: &Arc<Process>, limits: (usize, usize)) -> Reuse {
+        Reuse {
+            process: Arc::clone(process),
+            kept: HashMap::new(),
+            devices: 0,
+            limits,
+            next_id: 0,
+            key: Vec::new(),
+            keyed: false,
+        }
+    }
+
+    /// The cell kept for `gate`'s variant under `plan`, if one is; the key stays for [`Reuse::keep`].
+    pub(crate) fn find(&mut self, gate: &GatePlan, plan: &Plan) -> Option<Found> {
+        self.keyed = self.limits.0 > 0 && Arc::ptr_eq(&plan.process, &self.process);
+        if !self.keyed {
+            return None;
+        }
+        key(gate, plan, &mut self.key);
+        self.kept
+            .get(self.key.as_slice())
+            .map(|kept| Found { shared: Arc::clone(&kept.shared), verified: kept.verified })
+    }
+
+    /// Share `cell`, the variant last looked up, under a new id, and keep it where the limits allow
+    /// (others dropped to make room).
+    pub(crate) fn keep(&mut self, cell: SizedCell) -> Arc<SharedCell> {
+        let devices = cell.stages.iter().flat_map(|s| s.networks.values()).map(|n| n.widths.len()).sum::<usize>();
+        let shared = Arc::new(SharedCell::new(self.next_id, cell));
+        self.next_id += 1;
+        let (most_cells, most_devices) = self.limits;
+        if !self.keyed || devices > most_devices {
+            return shared;
+        }
+        while !self.kept.is_empty() && (self.kept.len() >= most_cells || self.devices + devices > most_devices) {
+            let dropped = self.kept.keys().next().cloned().expect("a kept cell");
+            if let Some(kept) = self.kept.remove(&dropped) {
+                self.devices -= kept.devices;
+            }
+        }
+        self.devices += devices;
+        let kept = Kept { shared: Arc::clone(&shared), devices, verified: false };
+        self.kept.insert(self.key.as_slice().into(), kept);
+        shared
+    }
+
+    /// The variant last looked up passed verification: so do the others of its key.
+    pub(crate) fn verified(&mut self) {
+        if self.keyed
+            && let Some(kept) = self.kept.get_mut(self.key.as_slice())
+        {
+            kept.verified = true;
+        }
+    }
+}
+
+/// Put the key of `gate`'s variant under `plan` in `key`: every field but the name (see the module's
+/// note), numbers by their bits, texts after their lengths.
+fn key(gate: &GatePlan, plan: &Plan, key: &mut Vec<u8>) {
+    key.clear();
+    text(key, Some(&gate.expression));
+    text(key, gate.pull_up.as_ref().map(|p| p.text.as_str()));
+    let Plan {
+        method,
+        order,
+        drive,
+        reference: Reference { nmos, pmos },
+        mobility_ratio,
+        conditions: Conditions { load, diffusion_ratio },
+        process: _,
+        name: _,
+        budget,
+        stage_effort,
+        delay_target,
+    } = plan;
+    let worst_case = |worst_case: &WorstCase| match worst_case {
+        WorstCase::Paths => 0u8,
+        WorstCase::Vectors => 1,
+    };
+    match method {
+        Method::LongestPath => key.push(0),
+        Method::MinArea { worst_case: w } => key.extend([1, worst_case(w)]),
+        Method::Elmore { worst_case: w } => key.extend([2, worst_case(w)]),
+    }
+    match order {
+        Order::Default { critical } => {
+            key.push(0);
+            text(key, critical.as_deref());
+        }
+        Order::Written => key.push(1),
+        Order::Search { critical } => {
+            key.push(2);
+            text(key, critical.as_deref());
+        }
+    }
+    match load {
+        Load::Fanout(value) => number(key, 0, *value),
+        Load::Units(value) => number(key, 1, *value),
+        Load::Femtofarads(value) => number(key, 2, *value),
+    }
+    for value in [drive, nmos, pmos, mobility_ratio, diffusion_ratio, stage_effort] {
+        number(key, 0, *value);
+    }
+    key.extend_from_slice(&budget.to_le_bytes());
+    match delay_target {
+        None => key.push(0),
+        Some(target) => number(key, 1, *target),
+    }
+}
+
+/// A tag and a number's bits.
+fn number(key: &mut Vec<u8>, tag: u8, value: f64) {
+    key.push(tag);
+    key.extend_from_slice(&value.to_bits().to_le_bytes());
+}
+
+/// A text or none: a tag, then the text after its length, so that no text runs into the next.
+fn text(key: &mut Vec<u8>, text: Option<&str>) {
+    match text {
+        None => key.push(0),
+        Some(text) => {
+            key.push(1);
+            key.extend_from_slice(&text.len().to_le_bytes());
+            key.extend_from_slice(text.as_bytes());
+        }
+    }
+}
