@@ -72,6 +72,10 @@ const CHUNK: usize = 256;
 /// and the plan a few times its drives' (a plan's drives count towards [`MAX_VARIANTS`], so the plans
 /// kept stay within a few megabytes).
 const KEEP_PLANS_OVER: usize = 64 << 10;
+/// The plans of shorter tables read by the first pass are kept too, rather than read again, while
+/// they take at most this many bytes in all (about 40,000 plans of a name, a short expression and
+/// a drive); the tables past it are read again when they are sized.
+const KEEP_PLANS_BYTES: usize = 16 << 20;
 
 /// A library file, read and checked: the process, what `[defaults]` gives every gate, and where
 /// each gate's table is; each gate is read from its table when it is asked for ([`Library::gate`]).
@@ -91,7 +95,8 @@ pub struct Library {
     inline: bool,
     /// Names that would clash in the output, found by the first pass.
     clashes: Vec<GateProblem>,
-    /// The plans of the gates whose tables are longer than [`KEEP_PLANS_OVER`], by index, kept
+    /// The plans the first pass kept, by index: every table longer than [`KEEP_PLANS_OVER`], and
+    /// the others within [`KEEP_PLANS_BYTES`].
     /// from the first pass rather than read twice.
     kept: Vec<(usize, Arc<GatePlan>)>,
 }
@@ -222,13 +227,14 @@ impl Library {
     }
 
     /// Read every gate once: the variant limit, and the names that would clash in the output; the
-    /// plans of long tables are kept.
+    /// plans of long tables, and of the others within a bound, are kept.
     fn first_pass(&mut self) -> Result<Vec<GateProblem>, LibraryError> {
         // Netlists ignore case, so `Nand2` and `nand2` would be one subcircuit: each name is kept
         // in lower case with its gate's index, the first use's own spelling read again on a clash.
         let mut first: HashMap<Box<str>, usize> = HashMap::with_capacity(self.tables.len());
         let mut clashes = Vec::new();
         let mut variants = 0usize;
+        let mut kept_bytes = 0usize;
         for index in 0..self.tables.len() {
             let Ok(plan) = self.gate(index) else { continue };
             variants += plan.drives.len();
@@ -254,7 +260,9 @@ impl Library {
                     first.insert(key.into_boxed_str(), index);
                 }
             }
-            if self.tables[index].len() > KEEP_PLANS_OVER {
+            let bytes = plan_bytes(&plan);
+            if self.tables[index].len() > KEEP_PLANS_OVER || kept_bytes + bytes <= KEEP_PLANS_BYTES {
+                kept_bytes += bytes;
                 self.kept.push((index, Arc::new(plan)));
             }
         }
@@ -303,6 +311,17 @@ impl Library {
     pub fn name_clashes(&self) -> Vec<GateProblem> {
         self.clashes.clone()
     }
+}
+
+/// About how many bytes a plan takes: itself, its texts and its drives.
+fn plan_bytes(plan: &GatePlan) -> usize {
+    let texts =
+        [Some(&plan.name), Some(&plan.expression), plan.critical.as_ref(), plan.pull_up.as_ref().map(|p| &p.text)];
+    let drives = plan.drives.len() * (size_of::<f64>() + size_of::<Span>());
+    size_of::<GatePlan>()
+        + size_of::<(usize, Arc<GatePlan>)>()
+        + texts.iter().flatten().map(|t| t.len()).sum::<usize>()
+        + drives
 }
 
 /// A drive listed twice in a gate: both variants would have one name.
@@ -548,7 +567,7 @@ fn named_variant(
     reuse: &mut Reuse,
 ) -> Result<(NamedCell, bool), GateProblem> {
     let variant_plan = plan.plan(drive, process)?;
-    let name = plan.variant_name(drive);
+    let name = variant_plan.name.clone().unwrap_or_else(|| plan.variant_name(drive));
     let problem = |error: SizingError| plan.problem(error.to_string(), Place::File(plan.name_span));
     if let Some(found) = reuse.find(plan, &variant_plan) {
         // Of what sizing checks, only the cell's name can differ between the variants of one key,
