@@ -50,18 +50,25 @@ pub fn columns(rows: Rows) -> &'static [&'static str] {
 #[derive(Debug, Clone)]
 pub struct SummaryTable {
     rows: Rows,
-    text: String,
-    /// End of each cell in `text`; a row has `widths.len()` cells.
-    ends: Vec<usize>,
+    /// Every cell's text, one after another (whole UTF-8 texts, so each cell is one).
+    text: Vec<u8>,
+    /// The length of each cell in `text`, in bytes, in order; a row has `widths.len()` cells. (A
+    /// cell is a name, a number or a word of a library file, which is at most 64 MiB.)
+    lengths: Vec<u32>,
     widths: Vec<usize>,
-    /// Where the rows of a shared cell are (its first row, how many), by its id: a variant's rows
-    /// copied from an earlier variant's but for the name.
-    shared: HashMap<u64, (usize, usize)>,
+    /// Where the rows of a shared cell are (its first cell, where its text starts, how many rows),
+    /// by its id: a variant's rows copied from an earlier variant's but for the name.
+    shared: HashMap<u64, (usize, usize, usize)>,
 }
 
 /// Most shared cells whose rows' places the table keeps (a few words each); past it they are
 /// forgotten and the next variants' rows made again.
 const KEPT_CELLS: usize = 4096;
+
+/// A cell's length as kept: no cell comes near 4 GiB (see [`SummaryTable`]'s lengths).
+fn length(bytes: usize) -> u32 {
+    u32::try_from(bytes).unwrap_or(u32::MAX)
+}
 
 fn shortened(expression: &str) -> String {
     if expression.chars().count() <= EXPRESSION_WIDTH {
@@ -78,8 +85,8 @@ impl SummaryTable {
         let header = columns(rows);
         let mut table = SummaryTable {
             rows,
-            text: String::new(),
-            ends: Vec::new(),
+            text: Vec::new(),
+            lengths: Vec::new(),
             widths: vec![0; header.len()],
             shared: HashMap::new(),
         };
@@ -90,8 +97,8 @@ impl SummaryTable {
     fn push(&mut self, cells: impl IntoIterator<Item = String>) {
         for (column, cell) in cells.into_iter().enumerate() {
             self.widths[column] = self.widths[column].max(cell.chars().count());
-            self.text.push_str(&cell);
-            self.ends.push(self.text.len());
+            self.text.extend_from_slice(cell.as_bytes());
+            self.lengths.push(length(cell.len()));
         }
     }
 
@@ -108,27 +115,29 @@ impl SummaryTable {
         let columns = self.widths.len();
         for cell in cells {
             let id = cell.shared.id();
-            if let Some(&(first, count)) = self.shared.get(&id) {
-                for row in first..first + count {
-                    let cells = (row * columns)..(row + 1) * columns;
+            if let Some(&(first, start, count)) = self.shared.get(&id) {
+                let mut at = start;
+                for row in 0..count {
+                    let cells = first + row * columns..first + (row + 1) * columns;
                     self.widths[0] = self.widths[0].max(cell.name.chars().count());
-                    self.text.push_str(&cell.name);
-                    self.ends.push(self.text.len());
-                    for at in cells.start + 1..cells.end {
-                        let (start, end) = (self.ends[at - 1], self.ends[at]);
-                        let cell = self.text[start..end].to_string();
-                        self.text.push_str(&cell);
-                        self.ends.push(self.text.len());
+                    self.text.extend_from_slice(cell.name.as_bytes());
+                    self.lengths.push(length(cell.name.len()));
+                    at += self.lengths[cells.start] as usize;
+                    for index in cells.start + 1..cells.end {
+                        let size = self.lengths[index];
+                        self.text.extend_from_within(at..at + size as usize);
+                        self.lengths.push(size);
+                        at += size as usize;
                     }
                 }
                 continue;
             }
-            let first = self.ends.len() / columns;
+            let (first, start) = (self.lengths.len(), self.text.len());
             self.add_gate(&cell.name, cell.shared.figures());
             if self.shared.len() >= KEPT_CELLS {
                 self.shared.clear();
             }
-            self.shared.insert(id, (first, self.ends.len() / columns - first));
+            self.shared.insert(id, (first, start, (self.lengths.len() - first) / columns));
         }
     }
 
@@ -189,7 +198,7 @@ impl SummaryTable {
 
     /// Rows added, the header not counted.
     pub fn len(&self) -> usize {
-        self.ends.len() / self.widths.len() - 1
+        self.lengths.len() / self.widths.len() - 1
     }
 
     /// Whether only the header is there.
@@ -220,11 +229,12 @@ impl SummaryTable {
         let columns = self.widths.len();
         let mut line = String::new();
         let mut start = 0;
-        for row in self.ends.chunks(columns) {
+        for row in self.lengths.chunks(columns) {
             line.clear();
             line.push_str("  ");
-            for (column, &end) in row.iter().enumerate() {
-                let cell = &self.text[start..end];
+            for (column, &size) in row.iter().enumerate() {
+                let end = start + size as usize;
+                let cell = std::str::from_utf8(&self.text[start..end]).unwrap_or_default();
                 start = end;
                 line.push_str(cell);
                 if column + 1 < columns {
