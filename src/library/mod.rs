@@ -73,9 +73,9 @@ const CHUNK: usize = 256;
 /// kept stay within a few megabytes).
 const KEEP_PLANS_OVER: usize = 64 << 10;
 /// The plans of shorter tables read by the first pass are kept too, rather than read again, while
-/// they take at most about this many bytes in all (some 10,000 plans of a name, a short expression
+/// they take at most about this many bytes in all (some 15,000 plans of a name, a short expression
 /// and a drive); the tables past it are read again when they are sized.
-const KEEP_PLANS_BYTES: usize = 4 << 20;
+const KEEP_PLANS_BYTES: usize = 8 << 20;
 
 /// A library file, read and checked: the process, what `[defaults]` gives every gate, and where
 /// each gate's table is; each gate is read from its table when it is asked for ([`Library::gate`]).
