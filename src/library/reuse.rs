@@ -22,7 +22,7 @@ use crate::process::Process;
 use crate::sizing::{Conditions, Load, Method, Order, Plan, Reference, WorstCase};
 
 /// Most sized cells kept at once.
-pub const MAX_KEPT_CELLS: usize = 1024;
+pub const MAX_KEPT_CELLS: usize = 256;
 /// Most devices (every stage's transistors) over the cells kept at once: a sized cell with its
 /// figures takes about a kilobyte per device, so the cells kept stay within some 16 MB however
 /// large the gates; a cell of more devices than this is not kept.

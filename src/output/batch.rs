@@ -88,23 +88,34 @@ impl<'a> BatchWriter<'a> {
             Sink::Text { out, buffer, json, kept, .. } => {
                 for (index, cell) in chunk.iter().enumerate() {
                     let first = !self.written && index == 0;
-                    let template = kept.of(&cell.shared, |shared, text, holes| match json {
-                        Some(json) => json.unnamed(shared.figures(), text, holes),
-                        None => {
-                            spice::push_unnamed_subcircuit(shared.figures(), self.process, text, holes);
-                            Ok(())
+                    if cell.is_own() {
+                        // The variant the cell was sized for comes first: its text as it is.
+                        match json {
+                            Some(json) => json.push(&Flat { figures: cell.shared.figures() }, first, buffer)?,
+                            None => {
+                                buffer.push(b'\n');
+                                spice::push_subcircuit(cell.shared.figures(), self.process, buffer);
+                            }
                         }
-                    })?;
-                    match json {
-                        Some(_) => {
-                            buffer.extend_from_slice(if first { b"\n" } else { b",\n" });
-                            let mut name = Vec::with_capacity(cell.name.len() + 2);
-                            json::write_compact(&cell.name, &mut name)?;
-                            template.fill(&name, buffer);
-                        }
-                        None => {
-                            buffer.push(b'\n');
-                            template.fill(cell.name.as_bytes(), buffer);
+                    } else {
+                        let template = kept.of(&cell.shared, |shared, text, holes| match json {
+                            Some(json) => json.unnamed(shared.figures(), text, holes),
+                            None => {
+                                spice::push_unnamed_subcircuit(shared.figures(), self.process, text, holes);
+                                Ok(())
+                            }
+                        })?;
+                        match json {
+                            Some(_) => {
+                                buffer.extend_from_slice(if first { b"\n" } else { b",\n" });
+                                let mut name = Vec::with_capacity(cell.name.len() + 2);
+                                json::write_compact(&cell.name, &mut name)?;
+                                template.fill(&name, buffer);
+                            }
+                            None => {
+                                buffer.push(b'\n');
+                                template.fill(cell.name.as_bytes(), buffer);
+                            }
                         }
                     }
                     if buffer.len() >= BUFFER_BYTES {
@@ -245,7 +256,7 @@ impl Template {
 
 /// Most shared cells whose text a writer keeps, and most bytes of it: past either, all of it is
 /// dropped and made again as the variants come.
-const KEPT_CELLS: usize = 1024;
+const KEPT_CELLS: usize = 256;
 const KEPT_BYTES: usize = 8 << 20;
 
 /// The templates of shared cells, by their ids.

@@ -262,7 +262,7 @@ const BUFFER_BYTES: usize = 1 << 16;
 
 /// Most shared cells whose rows a view keeps for their other names, and most bytes of them: past
 /// either, every kept row is dropped.
-const KEPT_CELLS: usize = 1024;
+const KEPT_CELLS: usize = 256;
 const KEPT_BYTES: usize = 8 << 20;
 
 /// A shared cell's rows without the name cell each starts with: from the comma after the name to
@@ -367,6 +367,13 @@ impl<W: Write> CsvView<W> {
         self.header();
         for cell in cells {
             let id = cell.shared.id();
+            if cell.is_own() {
+                // The variant the cell was sized for comes first: its rows as they are (most cells
+                // of a library with many distinct variants have no other).
+                self.own_rows(cell);
+                self.hand_on()?;
+                continue;
+            }
             if !self.kept.contains_key(&id) {
                 let tails = self.tails(&cell.shared);
                 if self.kept.len() >= KEPT_CELLS || self.kept_bytes + tails.text.len() > KEPT_BYTES {
@@ -387,6 +394,30 @@ impl<W: Write> CsvView<W> {
             self.hand_on()?;
         }
         Ok(())
+    }
+
+    /// The rows of the variant a shared cell was sized for, under its name.
+    fn own_rows(&mut self, cell: &NamedCell) {
+        self.numbers.clear();
+        let (lines, numbers, shared) = (&mut self.lines, &mut self.numbers, &*cell.shared);
+        let name = Some(cell.name.as_str());
+        match self.rows {
+            Rows::Gates => gate_row(lines, numbers, name, shared.figures()),
+            Rows::Inputs => input_rows(lines, numbers, name, shared.figures()),
+            Rows::Devices => {
+                let plan = &shared.cell().plan;
+                let of = (plan.drive, plan.method, &*plan.process);
+                let made;
+                let transistors = if shared.has_figures() {
+                    &shared.figures().transistors
+                } else {
+                    made = figures::transistors(shared.cell());
+                    &made
+                };
+                device_rows(lines, numbers, &mut self.prefix, name, of, transistors);
+            }
+            Rows::Delays => {}
+        }
     }
 
     /// The rows of `shared` without their names.
