@@ -7,12 +7,14 @@
 //! the file (process, defaults) is parsed as one document and each gate table on its own, its places
 //! moved back into the file (`table`), so a TOML error, a wrong key or a wrong value in one gate is
 //! that gate's problem, reported with its place, while the rest go on. A first pass reads every gate
-//! for its name and drives (name clashes and the variant limit stop the run before any output); the
-//! gates are then read again one at a time and sized variant by variant, handed on in chunks, so
-//! memory stays bounded however many gates and drives the file has (beyond the file's text and a
-//! name per gate while the names are checked). Each distinct function is synthesized once per
-//! batch (`forms`). Nothing here touches a file: a process file the library names is read through
-//! a reader the caller supplies.
+//! for its name and drives (name clashes and the variant limit stop the run before any output) and
+//! keeps the plans it read within a bound; the others are read again one at a time, and every gate
+//! is sized variant by variant, handed on in chunks, so memory stays bounded however many gates and
+//! drives the file has (beyond the file's text, a name per gate while the names are checked and the
+//! plans kept). Each distinct function is synthesized once per batch (`forms`), and each variant
+//! that differs from an earlier one only in its name shares that one's sized cell (`reuse`).
+//! Nothing here touches a file: a process file the library names is read through a reader the
+//! caller supplies.
 
 pub mod entries;
 pub mod error;
