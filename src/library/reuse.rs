@@ -187,3 +187,80 @@ fn text(key: &mut Vec<u8>, text: Option<&str>) {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::diagnostic::Source;
+    use crate::library::plan::PullUpPlace;
+    use crate::library::{Library, Overrides};
+
+    fn gate() -> (GatePlan, Arc<Process>) {
+        let mut no_files = |path: &std::path::Path| {
+            Err(crate::io::InputError::Unreadable {
+                path: path.to_path_buf(),
+                source: std::io::ErrorKind::NotFound.into(),
+            })
+        };
+        let text = "[[gate]]\nname = \"g\"\nexpr = \"!(a & b | c)\"\n";
+        let library =
+            Library::read(&Source::file("lib.toml", text), None, &Overrides::default(), &mut no_files).unwrap();
+        (library.gate(0).unwrap(), Arc::clone(&library.process))
+    }
+
+    fn key_of(gate: &GatePlan, plan: &Plan) -> Vec<u8> {
+        let mut bytes = Vec::new();
+        key(gate, plan, &mut bytes);
+        bytes
+    }
+
+    #[test]
+    fn the_key_is_every_field_but_the_name() {
+        let (gate, process) = gate();
+        let plan = gate.plan(1.0, &process).unwrap();
+        let base = key_of(&gate, &plan);
+        // Another name: the same key.
+        let renamed = Plan { name: Some("other_x1".to_string()), ..plan.clone() };
+        assert_eq!(key_of(&gate, &renamed), base);
+        // Any other field: another key.
+        let changed: Vec<Plan> = vec![
+            Plan { method: Method::MIN_AREA, ..plan.clone() },
+            Plan { method: Method::MinArea { worst_case: WorstCase::Vectors }, ..plan.clone() },
+            Plan { order: Order::Written, ..plan.clone() },
+            Plan { order: Order::Default { critical: Some("a".to_string()) }, ..plan.clone() },
+            Plan { drive: 2.0, ..plan.clone() },
+            Plan { reference: Reference { nmos: 1.0, pmos: 3.0 }, ..plan.clone() },
+            Plan { mobility_ratio: 2.5, ..plan.clone() },
+            Plan { conditions: Conditions { load: Load::Units(1.0), ..plan.conditions }, ..plan.clone() },
+            Plan { conditions: Conditions { diffusion_ratio: 0.5, ..plan.conditions }, ..plan.clone() },
+            Plan { budget: plan.budget / 2, ..plan.clone() },
+            Plan { stage_effort: 3.0, ..plan.clone() },
+            Plan { delay_target: Some(1.0), ..plan.clone() },
+        ];
+        for other in &changed {
+            assert_ne!(key_of(&gate, other), base, "{other:?}");
+        }
+        let expression = GatePlan { expression: "!(a & b | d)".to_string(), ..gate.clone() };
+        assert_ne!(key_of(&expression, &plan), base);
+        let pull_up = PullUpPlace { text: "mirror".to_string(), span: gate.name_span, verbatim_start: None };
+        let mirrored = GatePlan { pull_up: Some(pull_up), ..gate.clone() };
+        assert_ne!(key_of(&mirrored, &plan), base);
+    }
+
+    #[test]
+    fn the_cells_kept_are_bounded_and_another_process_is_never_kept() {
+        let (gate, process) = gate();
+        let mut reuse = Reuse::new(&process, (3, 1_000));
+        for drive in 1..=10 {
+            let plan = gate.plan(f64::from(drive), &process).unwrap();
+            assert!(reuse.find(&gate, &plan).is_none());
+            let cell = crate::library::size_variant(&gate, f64::from(drive), &process).unwrap();
+            reuse.keep(cell);
+            assert!(reuse.find(&gate, &plan).is_some());
+            assert!(reuse.kept.len() <= 3);
+        }
+        let other = Arc::new(Process::default());
+        let plan = gate.plan(10.0, &other).unwrap();
+        assert!(reuse.find(&gate, &plan).is_none());
+    }
+}
