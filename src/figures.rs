@@ -11,7 +11,7 @@ pub mod stages;
 
 pub use stages::output_diffusion;
 
-use std::sync::Arc;
+use std::sync::{Arc, OnceLock};
 
 use crate::budget::Meter;
 use crate::cell::{SizedCell, SizedNetwork, SizedStage, device_name};
@@ -289,6 +289,77 @@ impl CellFigures {
             drawn,
             process: Arc::clone(process),
         }
+    }
+}
+
+/// A sized cell that the variants of a batch share where they differ only in their names, its
+/// figures worked out once, when first asked for. `id` tells it from every other shared cell of the
+/// same batch (a writer may keep what it made of one by its id); the cell and its figures carry the
+/// name of the variant it was sized for.
+#[derive(Debug)]
+pub struct SharedCell {
+    id: u64,
+    cell: SizedCell,
+    figures: OnceLock<CellFigures>,
+}
+
+impl SharedCell {
+    /// `cell`, shared under `id` (unique within its batch).
+    pub fn new(id: u64, cell: SizedCell) -> SharedCell {
+        SharedCell { id, cell, figures: OnceLock::new() }
+    }
+
+    /// Its id within the batch.
+    pub fn id(&self) -> u64 {
+        self.id
+    }
+
+    /// The cell, under the name of the variant it was sized for.
+    pub fn cell(&self) -> &SizedCell {
+        &self.cell
+    }
+
+    /// Its figures ([`CellFigures::of`]), worked out on the first call.
+    pub fn figures(&self) -> &CellFigures {
+        self.figures.get_or_init(|| CellFigures::of(&self.cell))
+    }
+
+    /// Whether its figures are worked out already.
+    pub fn has_figures(&self) -> bool {
+        self.figures.get().is_some()
+    }
+}
+
+/// One variant of a batch: its own name and the sized cell it shares with every variant of the
+/// batch that differs from it only in name. Its cell and figures are the shared ones with every
+/// place of the name (the cell's name, its plan's name, the figures' name) set to `name`.
+#[derive(Debug, Clone)]
+pub struct NamedCell {
+    /// The variant's name.
+    pub name: String,
+    /// The cell it shares.
+    pub shared: Arc<SharedCell>,
+}
+
+impl NamedCell {
+    /// The variant's own sized cell: the shared one, renamed.
+    pub fn cell(&self) -> SizedCell {
+        let mut cell = self.shared.cell().clone();
+        cell.name.clone_from(&self.name);
+        cell.plan.name = Some(self.name.clone());
+        cell
+    }
+
+    /// The variant's own figures: the shared ones, renamed.
+    pub fn figures(&self) -> CellFigures {
+        let mut figures = self.shared.figures().clone();
+        figures.name.clone_from(&self.name);
+        figures
+    }
+
+    /// Whether the shared cell is under this variant's name (it was sized for it).
+    pub fn is_own(&self) -> bool {
+        self.shared.cell().name == self.name
     }
 }
 

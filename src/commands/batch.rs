@@ -12,10 +12,9 @@ use std::sync::Arc;
 use super::simulate::CalibrateArgs;
 use super::{LoadArgs, OutputFile, SizingArgs, estimates_note, exit_codes_line, work_budget};
 use crate::budget::{DEFAULT_WORK_BUDGET, Meter, Work};
-use crate::cell::SizedCell;
 use crate::diagnostic::Source;
 use crate::error::Error;
-use crate::figures::CellFigures;
+use crate::figures::NamedCell;
 use crate::io::{Diagnostics, diagnose};
 use crate::library::{GateProblem, Library, MAX_LIBRARY_BYTES, Outcome, Overrides, size_all};
 use crate::output::batch::{BatchWriter, Heading};
@@ -264,10 +263,17 @@ fn write_schematics(
     crate::io::create_folder(folder)?;
     let mut stopped: Option<Error> = None;
     let mut report = |problem: &GateProblem| Diagnostics.write_all(problem.render(source).as_bytes());
-    let mut emit = |chunk: &[SizedCell]| {
-        for cell in chunk {
-            let figures = CellFigures::of(cell);
-            let written = schematic_cell::layout(cell, &figures).map_err(Error::from).and_then(|layout| {
+    let mut emit = |chunk: &[NamedCell]| {
+        for variant in chunk {
+            // The cell and figures of another variant of the same key are its own but for the name.
+            let renamed;
+            let (cell, figures) = if variant.is_own() {
+                (variant.shared.cell(), variant.shared.figures())
+            } else {
+                renamed = (variant.cell(), variant.figures());
+                (&renamed.0, &renamed.1)
+            };
+            let written = schematic_cell::layout(cell, figures).map_err(Error::from).and_then(|layout| {
                 let path = folder.join(format!("{}.svg", cell.name));
                 crate::io::write_atomically(&path, |out| layout.write_svg(out)).map_err(Error::from)
             });
@@ -446,6 +452,84 @@ pub fn run(args: Args) -> Result<(), Error> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The library written with its variants shared (`limits`) or each sized afresh (`(0, 0)`):
+    /// the output, the diagnostics and how it went.
+    fn written(
+        text: &str,
+        format: output::Format,
+        rows: output::Rows,
+        verify: Option<&VerifyOptions>,
+        limits: (usize, usize),
+    ) -> (String, String, Outcome) {
+        let source = Source::file("lib.toml", text);
+        let library = read(&source, Some(Path::new(".")), &Overrides::default()).unwrap();
+        let (mut out, mut diagnostics) = (Vec::new(), Vec::new());
+        let mut report = |problem: &GateProblem| diagnostics.write_all(problem.render(&source).as_bytes());
+        let mut writer = BatchWriter::start(format, rows, &library.process, &mut out).unwrap();
+        let outcome =
+            crate::library::size_all_keeping(&library, verify, limits, &mut report, &mut |c| writer.write(c)).unwrap();
+        let heading = Heading { origin: "lib.toml", gates: outcome.gates, failed: 0, variants: 0, mobility_ratio: 2.0 };
+        writer.finish(&heading).unwrap();
+        (String::from_utf8(out).unwrap(), String::from_utf8(diagnostics).unwrap(), outcome)
+    }
+
+    #[test]
+    fn shared_variants_write_the_bytes_of_variants_sized_afresh() {
+        // Gates repeated under other names, beside gates that differ in one key; a process whose
+        // model is named as one variant, which only that variant's name refuses (common practice,
+        // no source: a name labels a cell and never changes its sizes).
+        let kinds = [
+            "expr = \"nand2\"",
+            "expr = \"nand2\"\nmethod = \"min-area\"",
+            "expr = \"!(a & b | a & c)\"\nmethod = \"min-area\"\nworst_case = \"vectors\"",
+            "expr = \"!(a & b | a & c)\"\nmethod = \"min-area\"",
+            "expr = \"aoi21\"\ncritical = \"c\"\ndrive = [1, 3.5]",
+            "expr = \"and2\"\nstage_effort = 3",
+            "expr = \"xor2\"",
+            "expr = \"nor3\"\nstack_order = \"written\"\nreference = [1, 3]",
+        ];
+        let mut text = String::from(
+            "[process]\nname = \"p\"\nmobility_ratio = 2.5\nlength_nm = 150.0\nunit_width_nm = 320.0\ngrid_nm = 10.0\n\
+             min_width_nm = 220.0\nmax_finger_width_nm = 4000.0\nsupply_v = 1.5\nnmos_model = \"g3_1_x2\"\n\
+             pmos_model = \"pch\"\nnmos_threshold_v = 0.42\npmos_threshold_v = 0.45\nnmos_kp_ua_per_v2 = 280.0\n\
+             pmos_kp_ua_per_v2 = 112.0\nbody_effect_sqrt_v = 0.35\ngate_cap_ff_per_um = 1.1\n\
+             diffusion_cap_ff_per_um = 0.9\nload_ff = 5.0\n\n[defaults]\ndrive = [1, 2]\n",
+        );
+        for copy in 0..3 {
+            for (kind, keys) in kinds.iter().enumerate() {
+                text.push_str(&format!("\n[[gate]]\nname = \"g{kind}_{copy}\"\n{keys}\n"));
+            }
+        }
+        let views = [
+            (output::Format::Csv, output::Rows::Gates),
+            (output::Format::Csv, output::Rows::Devices),
+            (output::Format::Csv, output::Rows::Inputs),
+            (output::Format::Json, output::Rows::Gates),
+            (output::Format::Spice, output::Rows::Gates),
+            (output::Format::Table, output::Rows::Gates),
+            (output::Format::Table, output::Rows::Devices),
+            (output::Format::Table, output::Rows::Inputs),
+        ];
+        for (format, rows) in views {
+            let shared = written(&text, format, rows, None, (64, 4096));
+            let afresh = written(&text, format, rows, None, (0, 0));
+            assert_eq!(shared.0, afresh.0, "{format:?} {rows:?}");
+            assert_eq!(shared.1, afresh.1, "{format:?} {rows:?}");
+            assert!(shared.1.contains("gate 'g3_1': ") && shared.1.contains("g3_1_x2"), "{}", shared.1);
+            // 16 variants of 8 kinds in 3 copies; g3_1_x2 is refused.
+            assert_eq!((shared.2.reused, afresh.2.reused), (31, 0), "{format:?} {rows:?}");
+            assert_eq!(Outcome { reused: 0, ..shared.2 }, afresh.2);
+        }
+        let options = VerifyOptions::default();
+        let shared = written(&text, output::Format::Csv, output::Rows::Gates, Some(&options), (64, 4096));
+        let afresh = written(&text, output::Format::Csv, output::Rows::Gates, Some(&options), (0, 0));
+        assert_eq!((&shared.0, &shared.1), (&afresh.0, &afresh.1));
+        assert_eq!((shared.2.verified, afresh.2.verified), (afresh.2.variants, afresh.2.variants));
+        // Kept one cell at a time, each new key drops the last: the same bytes.
+        let one = written(&text, output::Format::Json, output::Rows::Gates, None, (1, 4096));
+        assert_eq!(one.0, written(&text, output::Format::Json, output::Rows::Gates, None, (0, 0)).0);
+    }
 
     #[test]
     fn a_closed_pipe_under_the_csv_writer_keeps_its_kind() {

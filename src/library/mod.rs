@@ -7,17 +7,20 @@
 //! the file (process, defaults) is parsed as one document and each gate table on its own, its places
 //! moved back into the file (`table`), so a TOML error, a wrong key or a wrong value in one gate is
 //! that gate's problem, reported with its place, while the rest go on. A first pass reads every gate
-//! for its name and drives (name clashes and the variant limit stop the run before any output); the
-//! gates are then read again one at a time and sized variant by variant, handed on in chunks, so
-//! memory stays bounded however many gates and drives the file has (beyond the file's text and a
-//! name per gate while the names are checked). Each distinct function is synthesized once per
-//! batch (`forms`). Nothing here touches a file: a process file the library names is read through
-//! a reader the caller supplies.
+//! for its name and drives (name clashes and the variant limit stop the run before any output) and
+//! keeps the plans it read within a bound; the others are read again one at a time, and every gate
+//! is sized variant by variant, handed on in chunks, so memory stays bounded however many gates and
+//! drives the file has (beyond the file's text, a name per gate while the names are checked and the
+//! plans kept). Each distinct function is synthesized once per batch (`forms`), and each variant
+//! that differs from an earlier one only in its name shares that one's sized cell (`reuse`).
+//! Nothing here touches a file: a process file the library names is read through a reader the
+//! caller supplies.
 
 pub mod entries;
 pub mod error;
 mod forms;
 pub mod plan;
+mod reuse;
 mod scan;
 mod table;
 
@@ -35,11 +38,11 @@ use crate::bounds;
 use crate::budget::Estimate;
 use crate::cell::SizedCell;
 use crate::diagnostic::{Source, Span, escaped, toml_error_place};
-use crate::figures::CellFigures;
+use crate::figures::NamedCell;
 use crate::logic::CellLogic;
 use crate::names;
 use crate::process::Process;
-use crate::sizing::{self, MethodName, StackOrder};
+use crate::sizing::{self, MethodName, SizingError, StackOrder};
 use crate::verify::{self, VerifyOptions};
 
 use entries::{
@@ -50,6 +53,8 @@ pub use entries::{MAX_DRIVES_PER_GATE, Overrides, ReadFile};
 pub use error::LibraryError;
 use forms::Forms;
 pub use plan::{CalibrationKeys, GatePlan, GateProblem, Place};
+use reuse::Reuse;
+pub use reuse::{MAX_KEPT_CELLS, MAX_KEPT_DEVICES};
 
 /// The drive of a gate that neither it nor `[defaults]` sets.
 pub const DEFAULT_DRIVE: f64 = 1.0;
@@ -69,6 +74,10 @@ const CHUNK: usize = 256;
 /// and the plan a few times its drives' (a plan's drives count towards [`MAX_VARIANTS`], so the plans
 /// kept stay within a few megabytes).
 const KEEP_PLANS_OVER: usize = 64 << 10;
+/// The plans of shorter tables read by the first pass are kept too, rather than read again, while
+/// they take at most about this many bytes in all (some 15,000 plans of a name, a short expression
+/// and a drive); the tables past it are read again when they are sized.
+const KEEP_PLANS_BYTES: usize = 8 << 20;
 
 /// A library file, read and checked: the process, what `[defaults]` gives every gate, and where
 /// each gate's table is; each gate is read from its table when it is asked for ([`Library::gate`]).
@@ -88,7 +97,8 @@ pub struct Library {
     inline: bool,
     /// Names that would clash in the output, found by the first pass.
     clashes: Vec<GateProblem>,
-    /// The plans of the gates whose tables are longer than [`KEEP_PLANS_OVER`], by index, kept
+    /// The plans the first pass kept, by index: every table longer than [`KEEP_PLANS_OVER`], and
+    /// the others within [`KEEP_PLANS_BYTES`].
     /// from the first pass rather than read twice.
     kept: Vec<(usize, Arc<GatePlan>)>,
 }
@@ -219,13 +229,14 @@ impl Library {
     }
 
     /// Read every gate once: the variant limit, and the names that would clash in the output; the
-    /// plans of long tables are kept.
+    /// plans of long tables, and of the others within a bound, are kept.
     fn first_pass(&mut self) -> Result<Vec<GateProblem>, LibraryError> {
         // Netlists ignore case, so `Nand2` and `nand2` would be one subcircuit: each name is kept
         // in lower case with its gate's index, the first use's own spelling read again on a clash.
         let mut first: HashMap<Box<str>, usize> = HashMap::with_capacity(self.tables.len());
         let mut clashes = Vec::new();
         let mut variants = 0usize;
+        let mut kept_bytes = 0usize;
         for index in 0..self.tables.len() {
             let Ok(plan) = self.gate(index) else { continue };
             variants += plan.drives.len();
@@ -251,7 +262,9 @@ impl Library {
                     first.insert(key.into_boxed_str(), index);
                 }
             }
-            if self.tables[index].len() > KEEP_PLANS_OVER {
+            let bytes = plan_bytes(&plan);
+            if self.tables[index].len() > KEEP_PLANS_OVER || kept_bytes + bytes <= KEEP_PLANS_BYTES {
+                kept_bytes += bytes;
                 self.kept.push((index, Arc::new(plan)));
             }
         }
@@ -300,6 +313,17 @@ impl Library {
     pub fn name_clashes(&self) -> Vec<GateProblem> {
         self.clashes.clone()
     }
+}
+
+/// About how many bytes a plan takes: itself, its texts and its drives.
+fn plan_bytes(plan: &GatePlan) -> usize {
+    let texts =
+        [Some(&plan.name), Some(&plan.expression), plan.critical.as_ref(), plan.pull_up.as_ref().map(|p| &p.text)];
+    let drives = plan.drives.len() * (size_of::<f64>() + size_of::<Span>());
+    size_of::<GatePlan>()
+        + size_of::<(usize, Arc<GatePlan>)>()
+        + texts.iter().flatten().map(|t| t.len() + 32).sum::<usize>()
+        + drives
 }
 
 /// A drive listed twice in a gate: both variants would have one name.
@@ -417,6 +441,8 @@ pub struct Outcome {
     pub verified: usize,
     /// Variants that failed verification (with `--verify`; still written).
     pub unverified: usize,
+    /// Variants that share the cell of an earlier variant that differs from them only in name.
+    pub reused: usize,
 }
 
 /// Size one variant of a gate, the one at `drive`, or say why the gate cannot be sized (its
@@ -441,17 +467,34 @@ fn size_form(
 /// cannot be sized is reported as its gate's problem and ends that gate (the variants before it
 /// are handed on).
 ///
+/// A variant that differs from one sized before only in its name shares that one's cell
+/// ([`NamedCell`]), sized, figured and verified once (`reuse`: at most [`MAX_KEPT_CELLS`] cells of
+/// [`MAX_KEPT_DEVICES`] devices in all kept at once).
+///
 /// With `verify`, every variant is also checked switch by switch on its input vectors
 /// ([`verify::verify`]); a variant that fails is still written, and reported like a bad gate.
 pub fn size_all(
     library: &Library,
     verify: Option<&VerifyOptions>,
     report: &mut dyn FnMut(&GateProblem) -> io::Result<()>,
-    emit: &mut dyn FnMut(&[SizedCell]) -> io::Result<()>,
+    emit: &mut dyn FnMut(&[NamedCell]) -> io::Result<()>,
+) -> io::Result<Outcome> {
+    size_all_keeping(library, verify, (MAX_KEPT_CELLS, MAX_KEPT_DEVICES), report, emit)
+}
+
+/// [`size_all`], at most `limits` (cells, devices) kept for reuse; `(0, 0)`: every variant sized
+/// afresh.
+pub(crate) fn size_all_keeping(
+    library: &Library,
+    verify: Option<&VerifyOptions>,
+    limits: (usize, usize),
+    report: &mut dyn FnMut(&GateProblem) -> io::Result<()>,
+    emit: &mut dyn FnMut(&[NamedCell]) -> io::Result<()>,
 ) -> io::Result<Outcome> {
     let mut outcome = Outcome { gates: library.gate_count(), ..Outcome::default() };
     let mut forms = Forms::new(&library.process);
-    let mut chunk: Vec<SizedCell> = Vec::with_capacity(CHUNK);
+    let mut reuse = Reuse::new(&library.process, limits);
+    let mut chunk: Vec<NamedCell> = Vec::with_capacity(CHUNK);
     for gate in library.gates() {
         let read = gate.and_then(|plan| forms.of(&plan).map(|forms| (plan, forms)));
         let (plan, gate_forms) = match read {
@@ -463,7 +506,7 @@ pub fn size_all(
             }
         };
         for &drive in &plan.drives {
-            let variant = match size_form(&plan, &gate_forms, drive, &library.process) {
+            let (variant, verified) = match named_variant(&plan, &gate_forms, drive, &library.process, &mut reuse) {
                 Ok(variant) => variant,
                 Err(problem) => {
                     outcome.failed += 1;
@@ -471,13 +514,31 @@ pub fn size_all(
                     break;
                 }
             };
+            if !variant.is_own() {
+                outcome.reused += 1;
+            }
             if let Some(options) = verify {
-                let failure = match verify::verify(&CellFigures::of(&variant), options) {
-                    Ok(result) => result.outcome().err().map(|error| error.to_string()),
-                    Err(error) => Some(format!("'{}' cannot be verified: {error}", variant.name)),
+                // A pass holds for every name; a failure's message names the variant.
+                let failure = if verified {
+                    None
+                } else {
+                    let renamed;
+                    let figures = if variant.is_own() {
+                        variant.shared.figures()
+                    } else {
+                        renamed = variant.figures();
+                        &renamed
+                    };
+                    match verify::verify(figures, options) {
+                        Ok(result) => result.outcome().err().map(|error| error.to_string()),
+                        Err(error) => Some(format!("'{}' cannot be verified: {error}", variant.name)),
+                    }
                 };
                 match failure {
-                    None => outcome.verified += 1,
+                    None => {
+                        outcome.verified += 1;
+                        reuse.verified();
+                    }
                     Some(message) => {
                         outcome.unverified += 1;
                         report(&plan.problem(message, Place::File(plan.name_span)))?;
@@ -496,6 +557,28 @@ pub fn size_all(
         emit(&chunk)?;
     }
     Ok(outcome)
+}
+
+/// The variant of `plan` at `drive`: the cell kept for its key, renamed (whether it passed
+/// verification beside it), or sized now and kept; or why it cannot be sized.
+fn named_variant(
+    plan: &GatePlan,
+    forms: &[CellLogic],
+    drive: f64,
+    process: &Arc<Process>,
+    reuse: &mut Reuse,
+) -> Result<(NamedCell, bool), GateProblem> {
+    let variant_plan = plan.plan(drive, process)?;
+    let name = variant_plan.name.clone().unwrap_or_else(|| plan.variant_name(drive));
+    let problem = |error: SizingError| plan.problem(error.to_string(), Place::File(plan.name_span));
+    if let Some(found) = reuse.find(plan, &variant_plan) {
+        // Of what sizing checks, only the cell's name can differ between the variants of one key,
+        // and it is checked first, on the first form: the same check, the same refusal.
+        sizing::build::check_names(&forms[0], &variant_plan).map_err(problem)?;
+        return Ok((NamedCell { name, shared: found.shared }, found.verified));
+    }
+    let cell = sizing::size_best(forms, &variant_plan).map_err(problem)?;
+    Ok((NamedCell { name, shared: reuse.keep(cell) }, false))
 }
 
 #[cfg(test)]

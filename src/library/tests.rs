@@ -181,7 +181,7 @@ fn verify_work_counts_every_stage() {
     let charged: u128 = sized
         .iter()
         .map(|cell| {
-            let figures = CellFigures::of(cell);
+            let figures = crate::figures::CellFigures::of(cell);
             let pull_down = figures.transistors.iter().filter(|t| t.network == crate::network::NetworkKind::PullDown);
             verify::verify_work(figures.inputs.len(), pull_down.count(), &options)
         })

@@ -4,6 +4,7 @@
 //! summary table under a heading. JSON and SPICE are put together in a buffer and written on in
 //! large pieces; the CSV goes through one `csv` writer for the whole library.
 
+use std::collections::HashMap;
 use std::io::{self, Write};
 
 use super::calibration::CalibratedReport;
@@ -12,7 +13,7 @@ use serde::Serialize;
 
 use super::csv::CsvView;
 use super::{CellReport, Format, Rows, json, number, spice};
-use crate::cell::SizedCell;
+use crate::figures::{CellFigures, NamedCell, SharedCell};
 use crate::process::Process;
 
 /// What the table's heading says about the run.
@@ -42,8 +43,9 @@ pub struct BatchWriter<'a> {
 enum Sink<'a> {
     /// One CSV view for the whole library: its header once, before the first row.
     Csv(Box<CsvView<&'a mut dyn Write>>),
-    /// JSON or SPICE: a chunk's text put together in `buffer`, then written to `out` in one piece.
-    Text { format: Format, out: &'a mut dyn Write, buffer: Vec<u8>, json: Option<JsonGates> },
+    /// JSON or SPICE: a chunk's text put together in `buffer`, then written to `out` in one piece;
+    /// the text of each shared cell without its name kept by its id, for its other variants.
+    Text { format: Format, out: &'a mut dyn Write, buffer: Vec<u8>, json: Option<JsonGates>, kept: Kept },
     /// The table's rows and calibration sections, kept until the end.
     Table { out: &'a mut dyn Write, table: SummaryTable, sections: Vec<u8> },
 }
@@ -70,19 +72,63 @@ impl<'a> BatchWriter<'a> {
                 };
                 out.write_all(&buffer)?;
                 buffer.clear();
-                Sink::Text { format, out, buffer, json }
+                Sink::Text { format, out, buffer, json, kept: Kept::default() }
             }
         };
         Ok(BatchWriter { process, sink, written: false })
     }
 
-    /// Write (or, for the table, keep) a chunk of sized variants.
-    pub fn write(&mut self, chunk: &[SizedCell]) -> io::Result<()> {
-        if let Sink::Csv(view) = &mut self.sink {
-            return view.write_cells(chunk);
+    /// Write (or, for the table, keep) a chunk of a batch's variants, each under its own name: what
+    /// a shared cell writes is made once, for the first of its variants, and written under the
+    /// others' names as it is.
+    pub fn write(&mut self, chunk: &[NamedCell]) -> io::Result<()> {
+        match &mut self.sink {
+            Sink::Csv(view) => view.write_named(chunk)?,
+            Sink::Table { table, .. } => table.add_named(chunk),
+            Sink::Text { out, buffer, json, kept, .. } => {
+                for (index, cell) in chunk.iter().enumerate() {
+                    let first = !self.written && index == 0;
+                    if cell.is_own() {
+                        // The variant the cell was sized for comes first: its text as it is.
+                        match json {
+                            Some(json) => json.push(&Flat { figures: cell.shared.figures() }, first, buffer)?,
+                            None => {
+                                buffer.push(b'\n');
+                                spice::push_subcircuit(cell.shared.figures(), self.process, buffer);
+                            }
+                        }
+                    } else {
+                        let template = kept.of(&cell.shared, |shared, text, holes| match json {
+                            Some(json) => json.unnamed(shared.figures(), text, holes),
+                            None => {
+                                spice::push_unnamed_subcircuit(shared.figures(), self.process, text, holes);
+                                Ok(())
+                            }
+                        })?;
+                        match json {
+                            Some(_) => {
+                                buffer.extend_from_slice(if first { b"\n" } else { b",\n" });
+                                let mut name = Vec::with_capacity(cell.name.len() + 2);
+                                json::write_compact(&cell.name, &mut name)?;
+                                template.fill(&name, buffer);
+                            }
+                            None => {
+                                buffer.push(b'\n');
+                                template.fill(cell.name.as_bytes(), buffer);
+                            }
+                        }
+                    }
+                    if buffer.len() >= BUFFER_BYTES {
+                        out.write_all(buffer)?;
+                        buffer.clear();
+                    }
+                }
+                out.write_all(buffer)?;
+                buffer.clear();
+            }
         }
-        let chunk: Vec<CellReport> = chunk.iter().map(CellReport::of).collect();
-        self.write_reports(&chunk)
+        self.written |= !chunk.is_empty();
+        Ok(())
     }
 
     /// Write (or, for the table, keep) calibrated variants, at their calibrated sizes: JSON with
@@ -91,7 +137,7 @@ impl<'a> BatchWriter<'a> {
     pub fn write_calibrated(&mut self, cells: &[CalibratedReport]) -> io::Result<()> {
         for cell in cells {
             match &mut self.sink {
-                Sink::Text { format: Format::Json, out, buffer, json: Some(json) } => {
+                Sink::Text { format: Format::Json, out, buffer, json: Some(json), .. } => {
                     json.push(cell, !self.written, buffer)?;
                     out.write_all(buffer)?;
                     buffer.clear();
@@ -181,6 +227,67 @@ impl<'a> BatchWriter<'a> {
     }
 }
 
+/// A gate's figures as a batch writes them: the object of a [`super::CellReport`] without delays.
+#[derive(Serialize)]
+struct Flat<'a> {
+    #[serde(flatten)]
+    figures: &'a CellFigures,
+}
+
+/// What a shared cell writes without its name, and the places its name goes.
+#[derive(Debug, Default)]
+struct Template {
+    text: Vec<u8>,
+    holes: Vec<usize>,
+}
+
+impl Template {
+    /// The text with `name` at each of its places, appended to `out`.
+    fn fill(&self, name: &[u8], out: &mut Vec<u8>) {
+        let mut start = 0;
+        for &hole in &self.holes {
+            out.extend_from_slice(&self.text[start..hole]);
+            out.extend_from_slice(name);
+            start = hole;
+        }
+        out.extend_from_slice(&self.text[start..]);
+    }
+}
+
+/// Most shared cells whose text a writer keeps, and most bytes of it: past either, all of it is
+/// dropped and made again as the variants come.
+const KEPT_CELLS: usize = 256;
+const KEPT_BYTES: usize = 8 << 20;
+
+/// The templates of shared cells, by their ids.
+#[derive(Debug, Default)]
+struct Kept {
+    templates: HashMap<u64, Template>,
+    bytes: usize,
+}
+
+impl Kept {
+    /// The template of `shared`, made by `make` (text and places) the first time.
+    fn of(
+        &mut self,
+        shared: &SharedCell,
+        make: impl FnOnce(&SharedCell, &mut Vec<u8>, &mut Vec<usize>) -> io::Result<()>,
+    ) -> io::Result<&Template> {
+        let id = shared.id();
+        if !self.templates.contains_key(&id) {
+            let mut template = Template::default();
+            make(shared, &mut template.text, &mut template.holes)?;
+            if self.templates.len() >= KEPT_CELLS || self.bytes + template.text.len() > KEPT_BYTES {
+                self.templates.clear();
+                self.bytes = 0;
+            }
+            self.bytes += template.text.len();
+            self.templates.insert(id, template);
+        }
+        Ok(&self.templates[&id])
+    }
+}
+
 /// Bytes of JSON or SPICE put together before they are written on.
 const BUFFER_BYTES: usize = 1 << 16;
 
@@ -206,6 +313,27 @@ impl JsonGates {
     /// `first`, without the process entry where it is the library's.
     fn push<T: Serialize>(&self, gate: &T, first: bool, buffer: &mut Vec<u8>) -> io::Result<()> {
         buffer.extend_from_slice(if first { b"\n" } else { b",\n" });
+        self.object(gate, buffer)
+    }
+
+    /// A gate's object without its name's value, appended to `text`, with the place in `text`
+    /// where the name goes (its JSON string) appended to `holes`: the figures write `name` first,
+    /// so it follows `{"name":`. Where it does not (never so), the whole object, no place.
+    fn unnamed(&self, figures: &CellFigures, text: &mut Vec<u8>, holes: &mut Vec<usize>) -> io::Result<()> {
+        let start = text.len();
+        self.object(&Flat { figures }, text)?;
+        let mut named = b"{\"name\":".to_vec();
+        let key = named.len();
+        json::write_compact(&figures.name, &mut named)?;
+        if text[start..].starts_with(&named) {
+            text.drain(start + key..start + named.len());
+            holes.push(start + key);
+        }
+        Ok(())
+    }
+
+    /// A gate's object, appended to `buffer`, without the process entry where it is the library's.
+    fn object<T: Serialize>(&self, gate: &T, buffer: &mut Vec<u8>) -> io::Result<()> {
         let start = buffer.len();
         json::write_compact(gate, &mut *buffer)?;
         let object = &buffer[start..];

@@ -3,10 +3,11 @@
 //! quoted as the `csv` crate quotes (tested against it); the path listing and the delays go
 //! through the crate.
 
+use std::collections::HashMap;
 use std::io::{self, Write};
 
 use crate::cell::SizedCell;
-use crate::figures::{self, CellFigures, NetworkFigures, PathListing, Transistor};
+use crate::figures::{self, CellFigures, NamedCell, NetworkFigures, PathListing, SharedCell, Transistor};
 use crate::number::Texts;
 use crate::process::Process;
 use crate::sizing::Method;
@@ -153,6 +154,9 @@ struct Lines {
     text: Vec<u8>,
     /// Whether the record being written has a cell yet.
     open: bool,
+    /// Where each record ends in `text`, where they are counted (`counting`).
+    ends: Vec<usize>,
+    counting: bool,
 }
 
 impl Lines {
@@ -217,6 +221,18 @@ impl Lines {
     fn end(&mut self) {
         self.text.push(b'\n');
         self.open = false;
+        if self.counting {
+            self.ends.push(self.text.len());
+        }
+    }
+
+    /// Start a record with `name`'s cell; without one, as if a cell were written (a record's text
+    /// after its name, kept for a variant's other names).
+    fn start(&mut self, name: Option<&str>) {
+        match name {
+            Some(name) => self.text(name),
+            None => self.open = true,
+        }
     }
 
     fn record<'c>(&mut self, cells: impl IntoIterator<Item = &'c str>) {
@@ -244,10 +260,24 @@ impl Lines {
 /// Bytes of CSV put together before they are written on.
 const BUFFER_BYTES: usize = 1 << 16;
 
+/// Most shared cells whose rows a view keeps for their other names, and most bytes of them: past
+/// either, every kept row is dropped.
+const KEPT_CELLS: usize = 256;
+const KEPT_BYTES: usize = 8 << 20;
+
+/// A shared cell's rows without the name cell each starts with: from the comma after the name to
+/// the line's end, row after row.
+#[derive(Debug)]
+struct Tails {
+    text: Vec<u8>,
+    ends: Vec<usize>,
+}
+
 /// A CSV view written gate by gate (a whole library through one): the header first, then each
 /// gate's rows, put together in a buffer and written on in large pieces; each number's text made
 /// once per gate (a gate's devices repeat its drive, widths and capacitances) and the cells every
-/// row of a variant starts with once per variant.
+/// row of a variant starts with once per variant. The rows of a cell several variants share
+/// ([`NamedCell`]) are made once and written under each variant's name.
 pub struct CsvView<W: Write> {
     out: W,
     rows: Rows,
@@ -255,8 +285,11 @@ pub struct CsvView<W: Write> {
     started: bool,
     lines: Lines,
     numbers: Texts,
-    /// The cells a variant's rows start with (its name, drive and method).
+    /// The cells a variant's rows start with after its name (its drive and method).
     prefix: Lines,
+    /// The rows of shared cells by their ids, and their bytes.
+    kept: HashMap<u64, Tails>,
+    kept_bytes: usize,
 }
 
 impl<W: Write> CsvView<W> {
@@ -270,6 +303,8 @@ impl<W: Write> CsvView<W> {
             lines: Lines::default(),
             numbers: Texts::default(),
             prefix: Lines::default(),
+            kept: HashMap::new(),
+            kept_bytes: 0,
         }
     }
 
@@ -291,12 +326,14 @@ impl<W: Write> CsvView<W> {
         self.header();
         for gate in gates {
             self.numbers.clear();
+            let (lines, numbers, prefix) = (&mut self.lines, &mut self.numbers, &mut self.prefix);
             match self.rows {
-                Rows::Gates => self.gate_row(gate),
+                Rows::Gates => gate_row(lines, numbers, Some(&gate.name), gate),
                 Rows::Devices => {
-                    self.device_rows(&gate.name, gate.drive, gate.method, &gate.process, &gate.transistors)
+                    let of = (gate.drive, gate.method, &*gate.process);
+                    device_rows(lines, numbers, prefix, Some(&gate.name), of, &gate.transistors)
                 }
-                Rows::Inputs => self.input_rows(gate),
+                Rows::Inputs => input_rows(lines, numbers, Some(&gate.name), gate),
                 Rows::Delays => {}
             }
             self.hand_on()?;
@@ -315,10 +352,97 @@ impl<W: Write> CsvView<W> {
         for cell in cells {
             self.numbers.clear();
             let plan = &cell.plan;
-            self.device_rows(&cell.name, plan.drive, plan.method, &plan.process, &figures::transistors(cell));
+            let of = (plan.drive, plan.method, &*plan.process);
+            let transistors = figures::transistors(cell);
+            device_rows(&mut self.lines, &mut self.numbers, &mut self.prefix, Some(&cell.name), of, &transistors);
             self.hand_on()?;
         }
         Ok(())
+    }
+
+    /// Write the rows of a batch's variants, each under its own name: the rows of a shared cell
+    /// made once (the devices view from its transistors alone, the others from its figures) and
+    /// kept while the view keeps them.
+    pub fn write_named(&mut self, cells: &[NamedCell]) -> io::Result<()> {
+        self.header();
+        for cell in cells {
+            let id = cell.shared.id();
+            if cell.is_own() {
+                // The variant the cell was sized for comes first: its rows as they are (most cells
+                // of a library with many distinct variants have no other).
+                self.own_rows(cell);
+                self.hand_on()?;
+                continue;
+            }
+            if !self.kept.contains_key(&id) {
+                let tails = self.tails(&cell.shared);
+                if self.kept.len() >= KEPT_CELLS || self.kept_bytes + tails.text.len() > KEPT_BYTES {
+                    self.kept.clear();
+                    self.kept_bytes = 0;
+                }
+                self.kept_bytes += tails.text.len();
+                self.kept.insert(id, tails);
+            }
+            let tails = &self.kept[&id];
+            let mut start = 0;
+            for &end in &tails.ends {
+                self.lines.text(&cell.name);
+                self.lines.text.extend_from_slice(&tails.text[start..end]);
+                self.lines.open = false;
+                start = end;
+            }
+            self.hand_on()?;
+        }
+        Ok(())
+    }
+
+    /// The rows of the variant a shared cell was sized for, under its name.
+    fn own_rows(&mut self, cell: &NamedCell) {
+        self.numbers.clear();
+        let (lines, numbers, shared) = (&mut self.lines, &mut self.numbers, &*cell.shared);
+        let name = Some(cell.name.as_str());
+        match self.rows {
+            Rows::Gates => gate_row(lines, numbers, name, shared.figures()),
+            Rows::Inputs => input_rows(lines, numbers, name, shared.figures()),
+            Rows::Devices => {
+                let plan = &shared.cell().plan;
+                let of = (plan.drive, plan.method, &*plan.process);
+                let made;
+                let transistors = if shared.has_figures() {
+                    &shared.figures().transistors
+                } else {
+                    made = figures::transistors(shared.cell());
+                    &made
+                };
+                device_rows(lines, numbers, &mut self.prefix, name, of, transistors);
+            }
+            Rows::Delays => {}
+        }
+    }
+
+    /// The rows of `shared` without their names.
+    fn tails(&mut self, shared: &SharedCell) -> Tails {
+        self.numbers.clear();
+        let mut tails = Lines { counting: true, ..Lines::default() };
+        let numbers = &mut self.numbers;
+        match self.rows {
+            Rows::Gates => gate_row(&mut tails, numbers, None, shared.figures()),
+            Rows::Inputs => input_rows(&mut tails, numbers, None, shared.figures()),
+            Rows::Devices => {
+                let plan = &shared.cell().plan;
+                let of = (plan.drive, plan.method, &*plan.process);
+                let made;
+                let transistors = if shared.has_figures() {
+                    &shared.figures().transistors
+                } else {
+                    made = figures::transistors(shared.cell());
+                    &made
+                };
+                device_rows(&mut tails, numbers, &mut self.prefix, None, of, transistors);
+            }
+            Rows::Delays => {}
+        }
+        Tails { text: tails.text, ends: tails.ends }
     }
 
     /// Write what is put together on, if it is a large piece.
@@ -336,112 +460,119 @@ impl<W: Write> CsvView<W> {
         self.lines.text.clear();
         self.out.flush()
     }
+}
 
-    fn gate_row(&mut self, gate: &CellFigures) {
-        let (most_effort, least_effort) = extremes(gate.inputs.iter().map(|i| i.logical_effort));
-        let most_c = extremes(gate.inputs.iter().map(|i| i.input_capacitance)).0;
-        let most_ff = extremes(gate.inputs.iter().map(|i| i.input_capacitance_ff)).0;
-        let (lines, numbers) = (&mut self.lines, &mut self.numbers);
-        lines.text(&gate.name);
-        lines.text(&gate.expression);
-        lines.text(&gate.output);
-        lines.number(numbers, gate.drive);
-        lines.text(gate.method.name());
-        lines.count(gate.transistor_count);
-        for value in [
-            gate.area_um2,
-            most_c,
-            most_ff,
-            most_effort,
-            least_effort,
-            gate.parasitic_delay,
-            gate.total_w_over_l,
-            gate.process.width_nm(gate.total_w_over_l) / 1000.0,
-            gate.total_drawn_width_um,
-            gate.process.length_nm / 1000.0,
-            gate.mobility_ratio,
-            gate.reference_nmos_w_over_l,
-            gate.reference_pmos_w_over_l,
-        ] {
-            lines.number(numbers, value);
-        }
-        for network in &gate.networks {
-            lines.network(numbers, network);
-        }
-        lines.text(&gate.process.name);
-        match &gate.drawn {
-            Some(drawn) => {
-                for value in [
-                    drawn.largest_change_percent,
-                    extremes(drawn.inputs.iter().map(|i| i.input_capacitance)).0,
-                    drawn.parasitic_delay,
-                    drawn.total_w_over_l,
-                ] {
-                    lines.number(numbers, value);
-                }
+/// A gate's row, after its name's cell where `name` is `None`.
+fn gate_row(lines: &mut Lines, numbers: &mut Texts, name: Option<&str>, gate: &CellFigures) {
+    let (most_effort, least_effort) = extremes(gate.inputs.iter().map(|i| i.logical_effort));
+    let most_c = extremes(gate.inputs.iter().map(|i| i.input_capacitance)).0;
+    let most_ff = extremes(gate.inputs.iter().map(|i| i.input_capacitance_ff)).0;
+    lines.start(name);
+    lines.text(&gate.expression);
+    lines.text(&gate.output);
+    lines.number(numbers, gate.drive);
+    lines.text(gate.method.name());
+    lines.count(gate.transistor_count);
+    for value in [
+        gate.area_um2,
+        most_c,
+        most_ff,
+        most_effort,
+        least_effort,
+        gate.parasitic_delay,
+        gate.total_w_over_l,
+        gate.process.width_nm(gate.total_w_over_l) / 1000.0,
+        gate.total_drawn_width_um,
+        gate.process.length_nm / 1000.0,
+        gate.mobility_ratio,
+        gate.reference_nmos_w_over_l,
+        gate.reference_pmos_w_over_l,
+    ] {
+        lines.number(numbers, value);
+    }
+    for network in &gate.networks {
+        lines.network(numbers, network);
+    }
+    lines.text(&gate.process.name);
+    match &gate.drawn {
+        Some(drawn) => {
+            for value in [
+                drawn.largest_change_percent,
+                extremes(drawn.inputs.iter().map(|i| i.input_capacitance)).0,
+                drawn.parasitic_delay,
+                drawn.total_w_over_l,
+            ] {
+                lines.number(numbers, value);
             }
-            None => (0..4).for_each(|_| lines.empty()),
         }
-        lines.count(gate.stages.len().max(1));
-        lines.text(gate.form);
+        None => (0..4).for_each(|_| lines.empty()),
+    }
+    lines.count(gate.stages.len().max(1));
+    lines.text(gate.form);
+    lines.end();
+}
+
+/// The devices of the variant `name` (each row after its name's cell where it is `None`) at
+/// `drive`, sized by `method` in `process`.
+fn device_rows(
+    lines: &mut Lines,
+    numbers: &mut Texts,
+    prefix: &mut Lines,
+    name: Option<&str>,
+    (drive, method, process): (f64, Method, &Process),
+    transistors: &[Transistor],
+) {
+    let unit_ff = process.unit_capacitance_ff();
+    prefix.text.clear();
+    prefix.open = true;
+    prefix.number(numbers, drive);
+    prefix.text(method.name());
+    for transistor in transistors {
+        lines.start(name);
+        lines.cells_from(&prefix.text);
+        lines.text(&transistor.name);
+        lines.text(&transistor.stage);
+        lines.text(transistor.device_type);
+        lines.text(transistor.network.name());
+        lines.text(&transistor.input);
+        lines.text(&transistor.drain);
+        lines.text(&transistor.source);
+        lines.number(numbers, transistor.w_over_l);
+        lines.number(numbers, transistor.width_um);
+        lines.number(numbers, transistor.drawn_w_over_l);
+        lines.number(numbers, transistor.drawn_width_um);
+        lines.count(transistor.fingers);
+        lines.number(numbers, transistor.finger_width_um);
+        lines.number(numbers, transistor.drawn_width_um * transistor.length_um);
+        // A device loads its input with its W/L in units of C (docs/model.md section 6).
+        lines.number(numbers, transistor.w_over_l);
+        lines.number(numbers, transistor.w_over_l * unit_ff);
         lines.end();
     }
+}
 
-    /// The devices of the variant `name` at `drive`, sized by `method` in `process`.
-    fn device_rows(&mut self, name: &str, drive: f64, method: Method, process: &Process, transistors: &[Transistor]) {
-        let unit_ff = process.unit_capacitance_ff();
-        let (lines, numbers, prefix) = (&mut self.lines, &mut self.numbers, &mut self.prefix);
-        prefix.text.clear();
-        prefix.open = false;
-        prefix.text(name);
-        prefix.number(numbers, drive);
-        prefix.text(method.name());
-        for transistor in transistors {
-            lines.cells_from(&prefix.text);
-            lines.text(&transistor.name);
-            lines.text(&transistor.stage);
-            lines.text(transistor.device_type);
-            lines.text(transistor.network.name());
-            lines.text(&transistor.input);
-            lines.text(&transistor.drain);
-            lines.text(&transistor.source);
-            lines.number(numbers, transistor.w_over_l);
-            lines.number(numbers, transistor.width_um);
-            lines.number(numbers, transistor.drawn_w_over_l);
-            lines.number(numbers, transistor.drawn_width_um);
-            lines.count(transistor.fingers);
-            lines.number(numbers, transistor.finger_width_um);
-            lines.number(numbers, transistor.drawn_width_um * transistor.length_um);
-            // A device loads its input with its W/L in units of C (docs/model.md section 6).
-            lines.number(numbers, transistor.w_over_l);
-            lines.number(numbers, transistor.w_over_l * unit_ff);
-            lines.end();
-        }
-    }
-
-    fn input_rows(&mut self, gate: &CellFigures) {
-        let (lines, numbers) = (&mut self.lines, &mut self.numbers);
-        for (index, input) in gate.inputs.iter().enumerate() {
-            let drawn = gate.drawn.as_ref().map(|d| &d.inputs[index]);
-            lines.text(&gate.name);
-            lines.number(numbers, gate.drive);
-            lines.text(gate.method.name());
-            lines.text(&input.name);
-            lines.number(numbers, input.input_capacitance);
-            lines.number(numbers, input.input_capacitance_ff);
-            lines.number(numbers, input.logical_effort);
-            match drawn {
-                Some(drawn) => {
-                    lines.number(numbers, drawn.input_capacitance);
-                    lines.number(numbers, drawn.logical_effort);
-                }
-                None => {
-                    lines.empty();
-                    lines.empty();
-                }
+/// A gate's input rows, each after its name's cell where `name` is `None`.
+fn input_rows(lines: &mut Lines, numbers: &mut Texts, name: Option<&str>, gate: &CellFigures) {
+    for (index, input) in gate.inputs.iter().enumerate() {
+        let drawn = gate.drawn.as_ref().map(|d| &d.inputs[index]);
+        lines.start(name);
+        lines.number(numbers, gate.drive);
+        lines.text(gate.method.name());
+        lines.text(&input.name);
+        lines.number(numbers, input.input_capacitance);
+        lines.number(numbers, input.input_capacitance_ff);
+        lines.number(numbers, input.logical_effort);
+        match drawn {
+            Some(drawn) => {
+                lines.number(numbers, drawn.input_capacitance);
+                lines.number(numbers, drawn.logical_effort);
             }
-            lines.end();
+            None => {
+                lines.empty();
+                lines.empty();
+            }
         }
+        lines.end();
     }
 }
 

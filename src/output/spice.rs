@@ -55,13 +55,32 @@ pub fn write_subcircuit(gate: &CellFigures, process: &Process, out: &mut dyn Wri
 
 /// One gate's `.subckt ... .ends`, appended to `out`.
 pub fn push_subcircuit(gate: &CellFigures, process: &Process, out: &mut Vec<u8>) {
+    let mut text = Vec::new();
+    let mut holes = Vec::with_capacity(3);
+    push_unnamed_subcircuit(gate, process, &mut text, &mut holes);
+    let mut start = 0;
+    for &hole in &holes {
+        out.extend_from_slice(&text[start..hole]);
+        out.extend_from_slice(gate.name.as_bytes());
+        start = hole;
+    }
+    out.extend_from_slice(&text[start..]);
+}
+
+/// One gate's `.subckt ... .ends` without its name, appended to `out`, with the places in `out`
+/// where the name goes (the comment, `.subckt` and `.ends`) appended to `holes`: the text a
+/// variant shares with every other of the same cell.
+pub fn push_unnamed_subcircuit(gate: &CellFigures, process: &Process, out: &mut Vec<u8>, holes: &mut Vec<usize>) {
     let mut text = String::with_capacity(128 + 64 * gate.transistors.len());
-    for part in ["* ", &gate.name, ": ", &gate.output, " = ", &gate.expression, "\n* "] {
+    let base = out.len();
+    text.push_str("* ");
+    holes.push(base + text.len());
+    for part in [": ", &gate.output, " = ", &gate.expression, "\n* "] {
         text.push_str(part);
     }
     text.push_str(&super::sizing_line(gate));
     text.push_str("\n.subckt ");
-    text.push_str(&gate.name);
+    holes.push(base + text.len());
     for input in &gate.inputs {
         text.push(' ');
         text.push_str(&input.name);
@@ -81,9 +100,9 @@ pub fn push_subcircuit(gate: &CellFigures, process: &Process, out: &mut Vec<u8>)
         push_mosfet_line(&transistor.name, nodes, model, width, &length.1, transistor.fingers, &mut text);
         text.push('\n');
     }
-    for part in [".ends ", &gate.name, "\n"] {
-        text.push_str(part);
-    }
+    text.push_str(".ends ");
+    holes.push(base + text.len());
+    text.push('\n');
     out.extend_from_slice(text.as_bytes());
 }
 

@@ -2,10 +2,11 @@
 //! read first (the CSV views have every column). Rows are added chunk by chunk and kept as text
 //! only, so a long batch costs a few bytes per cell, not a sized gate per row.
 
+use std::collections::HashMap;
 use std::io::{self, Write};
 
 use super::{Rows, number};
-use crate::figures::CellFigures;
+use crate::figures::{CellFigures, NamedCell};
 
 /// Columns of the gates summary, in order.
 pub const GATE_SUMMARY_COLUMNS: [&str; 13] = [
@@ -49,10 +50,24 @@ pub fn columns(rows: Rows) -> &'static [&'static str] {
 #[derive(Debug, Clone)]
 pub struct SummaryTable {
     rows: Rows,
-    text: String,
-    /// End of each cell in `text`; a row has `widths.len()` cells.
-    ends: Vec<usize>,
+    /// Every cell's text, one after another (whole UTF-8 texts, so each cell is one).
+    text: Vec<u8>,
+    /// The length of each cell in `text`, in bytes, in order; a row has `widths.len()` cells. (A
+    /// cell is a name, a number or a word of a library file, which is at most 64 MiB.)
+    lengths: Vec<u32>,
     widths: Vec<usize>,
+    /// Where the rows of a shared cell are (its first cell, where its text starts, how many rows),
+    /// by its id: a variant's rows copied from an earlier variant's but for the name.
+    shared: HashMap<u64, (usize, usize, usize)>,
+}
+
+/// Most shared cells whose rows' places the table keeps (a few words each); past it they are
+/// forgotten and the next variants' rows made again.
+const KEPT_CELLS: usize = 4096;
+
+/// A cell's length as kept: no cell comes near 4 GiB (see [`SummaryTable`]'s lengths).
+fn length(bytes: usize) -> u32 {
+    u32::try_from(bytes).unwrap_or(u32::MAX)
 }
 
 fn shortened(expression: &str) -> String {
@@ -68,7 +83,13 @@ impl SummaryTable {
     /// An empty table of `rows` (the header row only).
     pub fn new(rows: Rows) -> SummaryTable {
         let header = columns(rows);
-        let mut table = SummaryTable { rows, text: String::new(), ends: Vec::new(), widths: vec![0; header.len()] };
+        let mut table = SummaryTable {
+            rows,
+            text: Vec::new(),
+            lengths: Vec::new(),
+            widths: vec![0; header.len()],
+            shared: HashMap::new(),
+        };
         table.push(header.iter().map(|c| c.to_string()));
         table
     }
@@ -76,63 +97,100 @@ impl SummaryTable {
     fn push(&mut self, cells: impl IntoIterator<Item = String>) {
         for (column, cell) in cells.into_iter().enumerate() {
             self.widths[column] = self.widths[column].max(cell.chars().count());
-            self.text.push_str(&cell);
-            self.ends.push(self.text.len());
+            self.text.extend_from_slice(cell.as_bytes());
+            self.lengths.push(length(cell.len()));
         }
     }
 
     /// Add the rows of these gates.
     pub fn add<'a>(&mut self, gates: impl IntoIterator<Item = &'a CellFigures>) {
         for gate in gates {
-            match self.rows {
-                Rows::Delays => {}
-                Rows::Gates => {
-                    let efforts = gate.inputs.iter().map(|i| i.logical_effort);
-                    let most_effort = efforts.clone().fold(f64::NEG_INFINITY, f64::max);
-                    let least_effort = efforts.fold(f64::INFINITY, f64::min);
-                    let most_c = gate.inputs.iter().map(|i| i.input_capacitance).fold(f64::NEG_INFINITY, f64::max);
+            self.add_gate(&gate.name, gate);
+        }
+    }
+
+    /// Add the rows of a batch's variants, each under its own name: a shared cell's rows made once
+    /// and copied for its other variants.
+    pub fn add_named(&mut self, cells: &[NamedCell]) {
+        let columns = self.widths.len();
+        for cell in cells {
+            let id = cell.shared.id();
+            if let Some(&(first, start, count)) = self.shared.get(&id) {
+                let mut at = start;
+                for row in 0..count {
+                    let cells = first + row * columns..first + (row + 1) * columns;
+                    self.widths[0] = self.widths[0].max(cell.name.chars().count());
+                    self.text.extend_from_slice(cell.name.as_bytes());
+                    self.lengths.push(length(cell.name.len()));
+                    at += self.lengths[cells.start] as usize;
+                    for index in cells.start + 1..cells.end {
+                        let size = self.lengths[index];
+                        self.text.extend_from_within(at..at + size as usize);
+                        self.lengths.push(size);
+                        at += size as usize;
+                    }
+                }
+                continue;
+            }
+            let (first, start) = (self.lengths.len(), self.text.len());
+            self.add_gate(&cell.name, cell.shared.figures());
+            if self.shared.len() >= KEPT_CELLS {
+                self.shared.clear();
+            }
+            self.shared.insert(id, (first, start, (self.lengths.len() - first) / columns));
+        }
+    }
+
+    /// Add the rows of `gate` under `name`.
+    fn add_gate(&mut self, name: &str, gate: &CellFigures) {
+        match self.rows {
+            Rows::Delays => {}
+            Rows::Gates => {
+                let efforts = gate.inputs.iter().map(|i| i.logical_effort);
+                let most_effort = efforts.clone().fold(f64::NEG_INFINITY, f64::max);
+                let least_effort = efforts.fold(f64::INFINITY, f64::min);
+                let most_c = gate.inputs.iter().map(|i| i.input_capacitance).fold(f64::NEG_INFINITY, f64::max);
+                self.push([
+                    name.to_string(),
+                    shortened(&gate.expression),
+                    number(gate.drive),
+                    gate.method.name().to_string(),
+                    gate.transistor_count.to_string(),
+                    number(gate.area_um2),
+                    number(gate.total_w_over_l),
+                    number(most_c),
+                    number(most_effort),
+                    number(least_effort),
+                    number(gate.parasitic_delay),
+                    number(gate.networks[0].worst_resistance),
+                    number(gate.networks[1].worst_resistance),
+                ]);
+            }
+            Rows::Devices => {
+                for transistor in &gate.transistors {
                     self.push([
-                        gate.name.clone(),
-                        shortened(&gate.expression),
-                        number(gate.drive),
-                        gate.method.name().to_string(),
-                        gate.transistor_count.to_string(),
-                        number(gate.area_um2),
-                        number(gate.total_w_over_l),
-                        number(most_c),
-                        number(most_effort),
-                        number(least_effort),
-                        number(gate.parasitic_delay),
-                        number(gate.networks[0].worst_resistance),
-                        number(gate.networks[1].worst_resistance),
+                        name.to_string(),
+                        transistor.name.clone(),
+                        transistor.device_type.to_string(),
+                        transistor.input.clone(),
+                        transistor.drain.clone(),
+                        transistor.source.clone(),
+                        number(transistor.w_over_l),
+                        number(transistor.drawn_width_um),
+                        transistor.fingers.to_string(),
+                        number(transistor.drawn_width_um * transistor.length_um),
                     ]);
                 }
-                Rows::Devices => {
-                    for transistor in &gate.transistors {
-                        self.push([
-                            gate.name.clone(),
-                            transistor.name.clone(),
-                            transistor.device_type.to_string(),
-                            transistor.input.clone(),
-                            transistor.drain.clone(),
-                            transistor.source.clone(),
-                            number(transistor.w_over_l),
-                            number(transistor.drawn_width_um),
-                            transistor.fingers.to_string(),
-                            number(transistor.drawn_width_um * transistor.length_um),
-                        ]);
-                    }
-                }
-                Rows::Inputs => {
-                    for input in &gate.inputs {
-                        self.push([
-                            gate.name.clone(),
-                            input.name.clone(),
-                            number(input.input_capacitance),
-                            number(input.input_capacitance_ff),
-                            number(input.logical_effort),
-                        ]);
-                    }
+            }
+            Rows::Inputs => {
+                for input in &gate.inputs {
+                    self.push([
+                        name.to_string(),
+                        input.name.clone(),
+                        number(input.input_capacitance),
+                        number(input.input_capacitance_ff),
+                        number(input.logical_effort),
+                    ]);
                 }
             }
         }
@@ -140,7 +198,7 @@ impl SummaryTable {
 
     /// Rows added, the header not counted.
     pub fn len(&self) -> usize {
-        self.ends.len() / self.widths.len() - 1
+        self.lengths.len() / self.widths.len() - 1
     }
 
     /// Whether only the header is there.
@@ -171,11 +229,12 @@ impl SummaryTable {
         let columns = self.widths.len();
         let mut line = String::new();
         let mut start = 0;
-        for row in self.ends.chunks(columns) {
+        for row in self.lengths.chunks(columns) {
             line.clear();
             line.push_str("  ");
-            for (column, &end) in row.iter().enumerate() {
-                let cell = &self.text[start..end];
+            for (column, &size) in row.iter().enumerate() {
+                let end = start + size as usize;
+                let cell = std::str::from_utf8(&self.text[start..end]).unwrap_or_default();
                 start = end;
                 line.push_str(cell);
                 if column + 1 < columns {

@@ -1148,3 +1148,81 @@ fn gates_after_a_table_of_defaults_and_as_an_inline_list() {
     assert!(stderr.contains("gate is written here and as [[gate]] tables (the first at line 2)"), "{stderr}");
     assert!(stderr.contains("line 1, column 1"), "{stderr}");
 }
+
+/// Gates that repeat under other names, each kind beside ones that differ from it in one key only
+/// (method, worst case, drive, critical input, stack order, reference, stage effort), over [defaults]'
+/// drives 1 and 2.
+fn repeated_gates() -> Vec<String> {
+    let kinds = [
+        "expr = \"nand2\"",
+        "expr = \"nand2\"\nmethod = \"min-area\"",
+        "expr = \"!(a & b | a & c)\"\nmethod = \"min-area\"",
+        "expr = \"!(a & b | a & c)\"\nmethod = \"min-area\"\nworst_case = \"vectors\"",
+        "expr = \"aoi21\"\ncritical = \"c\"\ndrive = [1, 3.5]",
+        "expr = \"aoi21\"\ndrive = [3.5, 1]",
+        "expr = \"and2\"\nstage_effort = 3",
+        "expr = \"and2\"",
+        "expr = \"xor2\"\nmethod = \"min-area\"",
+        "expr = \"nor3\"\nstack_order = \"written\"\nreference = [1, 3]",
+        "expr = \"nor3\"\nstack_order = \"written\"",
+    ];
+    (0..3)
+        .flat_map(|copy| kinds.iter().enumerate().map(move |(kind, keys)| format!("name = \"g{kind}_{copy}\"\n{keys}")))
+        .collect()
+}
+
+/// Run `batch -` on `text` with `args`; its standard output.
+fn batch_bytes(text: &str, args: &[&str]) -> Vec<u8> {
+    let output = widthwise().args(["batch", "-"]).args(args).write_stdin(text.to_string()).output().unwrap();
+    assert!(output.status.success(), "{}", String::from_utf8_lossy(&output.stderr));
+    output.stdout
+}
+
+#[test]
+fn repeated_gates_under_other_names_write_what_each_writes_alone() {
+    // A variant that differs from an earlier one only in its name is sized once and written under
+    // each name: every byte must be what sizing the gate alone writes (common practice, no
+    // source: a name is a label, never an input to sizing).
+    let defaults = "[defaults]\ndrive = [1, 2]\n";
+    let gates = repeated_gates();
+    let whole: String = defaults.to_string() + &gates.iter().map(|g| format!("\n[[gate]]\n{g}\n")).collect::<String>();
+    let alone = |gate: &str| format!("{defaults}\n[[gate]]\n{gate}\n");
+    let lines =
+        |bytes: &[u8]| String::from_utf8(bytes.to_vec()).unwrap().lines().map(str::to_string).collect::<Vec<_>>();
+    for rows in ["gates", "devices", "inputs"] {
+        let args = ["--format", "csv", "--rows", rows];
+        let mut expected = lines(&batch_bytes(&whole, &args))[..1].to_vec();
+        for gate in &gates {
+            expected.extend(lines(&batch_bytes(&alone(gate), &args)).into_iter().skip(1));
+        }
+        assert_eq!(lines(&batch_bytes(&whole, &args)), expected, "csv {rows}");
+    }
+    // JSON: the process once, then a gate object per line.
+    let objects = |bytes: &[u8]| {
+        let all = lines(bytes);
+        all[1..all.len() - 1].iter().map(|l| l.trim_end_matches(',').to_string()).collect::<Vec<_>>()
+    };
+    let json = batch_bytes(&whole, &["--format", "json"]);
+    let expected: Vec<String> =
+        gates.iter().flat_map(|g| objects(&batch_bytes(&alone(g), &["--format", "json"]))).collect();
+    assert_eq!(objects(&json), expected, "json");
+    // SPICE: one header, then each variant's subcircuit.
+    let spice = batch_bytes(&whole, &["--format", "spice"]);
+    let header = String::from_utf8(spice.clone()).unwrap().split("\n\n").next().unwrap().len() + 1;
+    let mut expected = spice[..header].to_vec();
+    for gate in &gates {
+        expected.extend_from_slice(&batch_bytes(&alone(gate), &["--format", "spice"])[header..]);
+    }
+    assert_eq!(String::from_utf8(spice).unwrap(), String::from_utf8(expected).unwrap(), "spice");
+    // The table: the same cells row by row (its columns are aligned over the whole table).
+    for rows in ["gates", "devices", "inputs"] {
+        let args = ["--format", "table", "--rows", rows];
+        let body = |bytes: &[u8]| {
+            let all = lines(bytes);
+            let start = all.iter().position(|l| l.trim_start().starts_with("gate ")).unwrap() + 1;
+            all[start..].iter().map(|l| l.split_whitespace().collect::<Vec<_>>().join(" ")).collect::<Vec<_>>()
+        };
+        let expected: Vec<String> = gates.iter().flat_map(|g| body(&batch_bytes(&alone(g), &args))).collect();
+        assert_eq!(body(&batch_bytes(&whole, &args)), expected, "table {rows}");
+    }
+}
