@@ -13,9 +13,11 @@
 #[global_allocator]
 static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
-use std::hint::black_box;
-use std::time::{Duration, Instant};
+mod support;
 
+use std::hint::black_box;
+
+use support::best_of;
 use widthwise::budget::Meter;
 use widthwise::optimize::geometric::{self, Outcome, Program};
 use widthwise::size_text;
@@ -59,19 +61,6 @@ fn programs(text: &str, load: Load, diffusion_ratio: f64) -> Vec<(String, Progra
         }
     }
     found
-}
-
-/// Best time of `rounds` calls of `work`, after one warm-up call.
-fn best_of(rounds: usize, mut work: impl FnMut()) -> Duration {
-    work();
-    (0..rounds)
-        .map(|_| {
-            let start = Instant::now();
-            work();
-            start.elapsed()
-        })
-        .min()
-        .unwrap_or_default()
 }
 
 #[derive(serde::Serialize)]

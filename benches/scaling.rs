@@ -12,9 +12,11 @@
 #[global_allocator]
 static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
-use std::hint::black_box;
-use std::time::{Duration, Instant};
+mod support;
 
+use std::hint::black_box;
+
+use support::{best_of, big_expression};
 use widthwise::analysis::size_and_time;
 use widthwise::figures::CellFigures;
 use widthwise::logic::synthesize;
@@ -23,19 +25,6 @@ use widthwise::{Error, size_text};
 
 fn options(method: Method) -> Plan {
     Plan::new(method, 2.0, 1.0, None)
-}
-
-/// Best time of `rounds` calls of `work`, after one warm-up call.
-fn best_of(rounds: usize, mut work: impl FnMut()) -> Duration {
-    work();
-    (0..rounds)
-        .map(|_| {
-            let start = Instant::now();
-            work();
-            start.elapsed()
-        })
-        .min()
-        .unwrap_or_default()
 }
 
 /// A pull-down `levels` deep (series and parallel alternating, one literal hanging off each level):
@@ -77,38 +66,6 @@ fn depth() {
             }
         }
     }
-}
-
-/// A deterministic AND/OR tree of `literals` literal occurrences over `inputs` names, as text
-/// (the one of `benches/throughput.rs`).
-fn big_expression(literals: usize, inputs: usize) -> String {
-    let mut state = 0x2545_F491_4F6C_DD1Du64;
-    let mut next = move || {
-        state ^= state << 13;
-        state ^= state >> 7;
-        state ^= state << 17;
-        state
-    };
-    let mut level: Vec<String> =
-        (0..literals).map(|i| format!("x{}", if i < inputs { i } else { next() as usize % inputs })).collect();
-    let mut and = true;
-    while level.len() > 1 {
-        let mut upper = Vec::new();
-        let mut rest = level.as_slice();
-        while !rest.is_empty() {
-            let take = (2 + next() as usize % 3).min(rest.len());
-            let (group, tail) = rest.split_at(take);
-            upper.push(if group.len() == 1 {
-                group[0].clone()
-            } else {
-                format!("({})", group.join(if and { " & " } else { " | " }))
-            });
-            rest = tail;
-        }
-        level = upper;
-        and = !and;
-    }
-    format!("!{}", level[0])
 }
 
 /// Plain sizing (size and figures) against the delay report (`size --delays`: the cell sized,
