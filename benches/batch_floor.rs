@@ -22,6 +22,8 @@ use std::io::{self, Write};
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 
+use widthwise::output::csv::DEVICE_COLUMNS;
+
 /// Gates in the library.
 const GATES: usize = 20_000;
 /// Paired runs per format.
@@ -131,29 +133,6 @@ enum Drives {
     Many(Vec<f64>),
 }
 
-/// The devices view's header (widthwise's `--rows devices` CSV).
-const DEVICE_HEADER: [&str; 19] = [
-    "gate",
-    "drive",
-    "method",
-    "device",
-    "stage",
-    "type",
-    "network",
-    "input",
-    "drain",
-    "source",
-    "w_over_l",
-    "width_um",
-    "drawn_w_over_l",
-    "drawn_width_um",
-    "fingers",
-    "per_finger_width_um",
-    "area_um2",
-    "gate_cap_c",
-    "gate_cap_ff",
-];
-
 /// Inputs of a gate's expression in order: a shorthand's count, or every name written.
 fn inputs_of(expression: &str) -> usize {
     let lower = expression.to_ascii_lowercase();
@@ -204,7 +183,7 @@ fn floor(path: &Path) -> io::Result<()> {
     let default_method = library.defaults.and_then(|d| d.method).unwrap_or_else(|| "longest-path".to_string());
     let stdout = io::stdout();
     let mut writer = csv::Writer::from_writer(stdout.lock());
-    writer.write_record(DEVICE_HEADER)?;
+    writer.write_record(DEVICE_COLUMNS)?;
     let mut digits = ryu::Buffer::new();
     // A row's numbers, one after another, and where each ends.
     let mut numbers: Vec<u8> = Vec::with_capacity(128);

@@ -18,7 +18,6 @@ Usage: python3 benches/scipy_min_area_batch.py [--widthwise PATH] [--repeat N] [
 """
 
 import csv
-import importlib.util
 import json
 import os
 import random
@@ -28,17 +27,12 @@ import sys
 import tempfile
 import time
 
+sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+from scipy_min_area import load_solver  # noqa: E402  (the reference test's solver, loaded once)
+
 ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
 COUNT = 40
 SEED = 20261202
-
-
-def load_solver():
-    path = os.path.join(ROOT, "tests", "reference", "scipy_min_area.py")
-    spec = importlib.util.spec_from_file_location("scipy_min_area", path)
-    module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)  # exits 3 with a message where scipy is missing
-    return module
 
 
 def network(rng, devices, names, series):

@@ -399,49 +399,15 @@ impl<W: Write> CsvView<W> {
     /// The rows of the variant a shared cell was sized for, under its name.
     fn own_rows(&mut self, cell: &NamedCell) {
         self.numbers.clear();
-        let (lines, numbers, shared) = (&mut self.lines, &mut self.numbers, &*cell.shared);
         let name = Some(cell.name.as_str());
-        match self.rows {
-            Rows::Gates => gate_row(lines, numbers, name, shared.figures()),
-            Rows::Inputs => input_rows(lines, numbers, name, shared.figures()),
-            Rows::Devices => {
-                let plan = &shared.cell().plan;
-                let of = (plan.drive, plan.method, &*plan.process);
-                let made;
-                let transistors = if shared.has_figures() {
-                    &shared.figures().transistors
-                } else {
-                    made = figures::transistors(shared.cell());
-                    &made
-                };
-                device_rows(lines, numbers, &mut self.prefix, name, of, transistors);
-            }
-            Rows::Delays => {}
-        }
+        view_rows(self.rows, &mut self.lines, &mut self.numbers, &mut self.prefix, name, &cell.shared);
     }
 
     /// The rows of `shared` without their names.
     fn tails(&mut self, shared: &SharedCell) -> Tails {
         self.numbers.clear();
         let mut tails = Lines { counting: true, ..Lines::default() };
-        let numbers = &mut self.numbers;
-        match self.rows {
-            Rows::Gates => gate_row(&mut tails, numbers, None, shared.figures()),
-            Rows::Inputs => input_rows(&mut tails, numbers, None, shared.figures()),
-            Rows::Devices => {
-                let plan = &shared.cell().plan;
-                let of = (plan.drive, plan.method, &*plan.process);
-                let made;
-                let transistors = if shared.has_figures() {
-                    &shared.figures().transistors
-                } else {
-                    made = figures::transistors(shared.cell());
-                    &made
-                };
-                device_rows(&mut tails, numbers, &mut self.prefix, None, of, transistors);
-            }
-            Rows::Delays => {}
-        }
+        view_rows(self.rows, &mut tails, &mut self.numbers, &mut self.prefix, None, shared);
         Tails { text: tails.text, ends: tails.ends }
     }
 
@@ -459,6 +425,34 @@ impl<W: Write> CsvView<W> {
         self.out.write_all(&self.lines.text)?;
         self.lines.text.clear();
         self.out.flush()
+    }
+}
+
+/// The rows of one view of `shared`, named `name` (none: the name cell left out).
+fn view_rows(
+    rows: Rows,
+    lines: &mut Lines,
+    numbers: &mut Texts,
+    prefix: &mut Lines,
+    name: Option<&str>,
+    shared: &SharedCell,
+) {
+    match rows {
+        Rows::Gates => gate_row(lines, numbers, name, shared.figures()),
+        Rows::Inputs => input_rows(lines, numbers, name, shared.figures()),
+        Rows::Devices => {
+            let plan = &shared.cell().plan;
+            let of = (plan.drive, plan.method, &*plan.process);
+            let made;
+            let transistors = if shared.has_figures() {
+                &shared.figures().transistors
+            } else {
+                made = figures::transistors(shared.cell());
+                &made
+            };
+            device_rows(lines, numbers, prefix, name, of, transistors);
+        }
+        Rows::Delays => {}
     }
 }
 
