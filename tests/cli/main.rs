@@ -2,6 +2,7 @@
 //! a module per command.
 
 mod batch;
+mod batch_tables;
 mod cells;
 mod deck;
 mod delay;
