@@ -200,6 +200,154 @@ pub fn component(circuit: &Circuit, edge: Edge, after: &[bool]) -> Result<Compon
     Ok(Component { nodes, devices, rail })
 }
 
+/// Buffers the searches of one vector after another reuse: what each node and device was last
+/// marked in, by a stamp each search moves on (so nothing is cleared between vectors), a node's
+/// position in a component, and a stack.
+#[derive(Debug, Clone)]
+pub struct Scratch {
+    nodes: Vec<u32>,
+    devices: Vec<u32>,
+    stamp: u32,
+    position: Vec<usize>,
+    stack: Vec<usize>,
+}
+
+impl Scratch {
+    /// Buffers for `circuit`'s nodes and devices.
+    pub fn new(circuit: &Circuit) -> Scratch {
+        Scratch {
+            nodes: vec![0; circuit.names.len()],
+            devices: vec![0; circuit.devices.len()],
+            stamp: 0,
+            position: vec![usize::MAX; circuit.names.len()],
+            stack: Vec::new(),
+        }
+    }
+
+    /// A stamp no node or device carries yet.
+    fn next(&mut self) -> u32 {
+        if self.stamp == u32::MAX {
+            self.nodes.fill(0);
+            self.devices.fill(0);
+            self.stamp = 0;
+        }
+        self.stamp += 1;
+        self.stamp
+    }
+}
+
+/// [`component`] with reused buffers: the same nodes in the same order, the same devices and the
+/// same faults, each conducting device met from the component's own nodes rather than by a pass
+/// over every device of the circuit.
+pub fn component_in(
+    circuit: &Circuit,
+    edge: Edge,
+    after: &[bool],
+    scratch: &mut Scratch,
+) -> Result<Component, NetworkFault> {
+    let rail = rail_of(edge.network());
+    let old_rail = if rail == VSS { VDD } else { VSS };
+    let stamp = scratch.next();
+    let mut nodes = vec![OUTPUT];
+    let mut devices = Vec::new();
+    scratch.nodes[OUTPUT] = stamp;
+    let mut reaches_rail = false;
+    let mut next = 0;
+    while next < nodes.len() {
+        let here = nodes[next];
+        next += 1;
+        for &device in &circuit.incident[here] {
+            if !circuit.on(device, after) {
+                continue;
+            }
+            let d = &circuit.devices[device];
+            let other = if d.drain == here { d.source } else { d.drain };
+            if other == old_rail {
+                return Err(NetworkFault::BothRails);
+            }
+            // A conducting device with an end in the component: in it (met once from each end).
+            if scratch.devices[device] != stamp {
+                scratch.devices[device] = stamp;
+                devices.push(device);
+            }
+            if other == rail {
+                reaches_rail = true;
+            } else if scratch.nodes[other] != stamp {
+                scratch.nodes[other] = stamp;
+                nodes.push(other);
+            }
+        }
+    }
+    if !reaches_rail {
+        return Err(NetworkFault::NoRail);
+    }
+    devices.sort_unstable();
+    Ok(Component { nodes, devices, rail })
+}
+
+/// [`held`] of `component` (the output's component under `after`) with reused buffers: the same
+/// nodes and faults, searched within the component. A path the old vector conducts from the new
+/// rail to a node of the component stays in it: before the switch, only the switching input's
+/// devices of the other network conduct that do not after, and the rail reaches them only through
+/// the output, where the search stops with [`NetworkFault::AlreadySwitched`]; every other device on
+/// the path conducts after the switch too, so each node before the rail is joined to the component
+/// by it.
+pub fn held_in(
+    circuit: &Circuit,
+    edge: Edge,
+    input: usize,
+    after: &[bool],
+    component: &Component,
+    scratch: &mut Scratch,
+) -> Result<Vec<bool>, NetworkFault> {
+    let rail = rail_of(edge.network());
+    let old_rail = if rail == VSS { VDD } else { VSS };
+    let on_before = |device: usize| {
+        let d = &circuit.devices[device];
+        let value = if d.input == input { !after[input] } else { after[d.input] };
+        d.kind.conducts(value)
+    };
+    let stamp = scratch.next();
+    for &device in &component.devices {
+        scratch.devices[device] = stamp;
+    }
+    let mut stack = std::mem::take(&mut scratch.stack);
+    stack.clear();
+    // Reach `other` from `here` through a conducting device: false at the output.
+    let reach = |here: usize, device: usize, stack: &mut Vec<usize>, nodes: &mut [u32]| -> bool {
+        let d = &circuit.devices[device];
+        let other = if d.drain == here { d.source } else { d.drain };
+        if other == OUTPUT {
+            return false;
+        }
+        if other != old_rail && other != rail && nodes[other] != stamp {
+            nodes[other] = stamp;
+            stack.push(other);
+        }
+        true
+    };
+    // From the rail through the component's devices on it (the rail's own list is the whole
+    // network's), then node by node.
+    let mut switched = component.devices.iter().any(|&device| {
+        let d = &circuit.devices[device];
+        (d.drain == rail || d.source == rail)
+            && on_before(device)
+            && !reach(rail, device, &mut stack, &mut scratch.nodes)
+    });
+    while !switched && let Some(here) = stack.pop() {
+        switched = circuit.incident[here].iter().any(|&device| {
+            scratch.devices[device] == stamp
+                && on_before(device)
+                && !reach(here, device, &mut stack, &mut scratch.nodes)
+        });
+    }
+    scratch.stack = stack;
+    if switched {
+        return Err(NetworkFault::AlreadySwitched);
+    }
+    Ok(component.nodes.iter().map(|&n| scratch.nodes[n] == stamp).collect())
+}
+
 /// Which of `nodes` (a component under `after`) start at their final level when `input` switches
 /// to `after` on `edge`: those the new rail already held before the switch (the second half of
 /// [`conducting`]).
@@ -242,12 +390,14 @@ pub fn held(
 
 /// A transition's conducting network as an RC network, with its initial deviations.
 pub fn rc_network(circuit: &Circuit, shape: &Conducting, widths: &[f64], load: f64) -> (rc::RcNetwork, Vec<f64>) {
-    let network = rc_of(circuit, &shape.nodes, &shape.devices, shape.rail, widths, load);
+    let mut position = vec![usize::MAX; circuit.names.len()];
+    let network = rc_of(circuit, &shape.nodes, &shape.devices, shape.rail, widths, load, &mut position);
     let initial = shape.at_final.iter().map(|&f| if f { 0.0 } else { 1.0 }).collect();
     (network, initial)
 }
 
-/// The RC network of the devices `devices` joining `nodes` (the output first) to `rail`.
+/// The RC network of the devices `devices` joining `nodes` (the output first) to `rail`, each of
+/// `nodes` given its place in `position` (one entry per circuit node; the others are not read).
 fn rc_of(
     circuit: &Circuit,
     nodes: &[usize],
@@ -255,8 +405,8 @@ fn rc_of(
     rail: usize,
     widths: &[f64],
     load: f64,
+    position: &mut [usize],
 ) -> rc::RcNetwork {
-    let mut position = vec![usize::MAX; circuit.names.len()];
     for (index, &node) in nodes.iter().enumerate() {
         position[node] = index;
     }
@@ -288,8 +438,18 @@ pub struct Solved {
 impl Solved {
     /// The component's system at `widths`, eliminated once.
     pub fn of(circuit: &Circuit, component: &Component, widths: &[f64]) -> Result<Solved, NetworkFault> {
+        Solved::of_in(circuit, component, widths, &mut Scratch::new(circuit))
+    }
+
+    /// [`Solved::of`] with reused buffers.
+    pub fn of_in(
+        circuit: &Circuit,
+        component: &Component,
+        widths: &[f64],
+        scratch: &mut Scratch,
+    ) -> Result<Solved, NetworkFault> {
         let Component { nodes, devices, rail } = component;
-        let network = rc_of(circuit, nodes, devices, *rail, widths, 0.0);
+        let network = rc_of(circuit, nodes, devices, *rail, widths, 0.0, &mut scratch.position);
         let factored = rc::factor(&network).map_err(NetworkFault::Solve)?;
         let mut unit = vec![0.0; nodes.len()];
         unit[0] = 1.0;

@@ -99,33 +99,26 @@ impl RcNetwork {
                 }
             }
         }
-        // Every node must reach the rail, or G is singular.
-        let mut adjacent = vec![Vec::new(); count];
-        let mut reached = vec![false; count];
-        let mut queue = Vec::new();
+        // Every node must reach the rail, or G is singular: the rail's set of joined nodes (the
+        // rail is node `count`), each set by its root.
+        let mut root: Vec<usize> = (0..=count).collect();
+        fn find(root: &mut [usize], mut node: usize) -> usize {
+            while root[node] != node {
+                root[node] = root[root[node]];
+                node = root[node];
+            }
+            node
+        }
         for resistor in &self.resistors {
-            match (resistor.from, resistor.to) {
-                (End::Node(a), End::Node(b)) => {
-                    adjacent[a].push(b);
-                    adjacent[b].push(a);
-                }
-                (End::Node(a), End::Rail) | (End::Rail, End::Node(a)) => {
-                    if !reached[a] {
-                        reached[a] = true;
-                        queue.push(a);
-                    }
-                }
-                (End::Rail, End::Rail) => {}
-            }
+            let index = |end: End| match end {
+                End::Node(k) => k,
+                End::Rail => count,
+            };
+            let (a, b) = (find(&mut root, index(resistor.from)), find(&mut root, index(resistor.to)));
+            root[a] = b;
         }
-        while let Some(node) = queue.pop() {
-            for &next in &adjacent[node] {
-                if !reached[next] {
-                    reached[next] = true;
-                    queue.push(next);
-                }
-            }
-        }
+        let rail = find(&mut root, count);
+        let reached: Vec<bool> = (0..count).map(|node| find(&mut root, node) == rail).collect();
         match reached.iter().position(|r| !r) {
             Some(node) => Err(RcError::Floating { node }),
             None => Ok(()),
@@ -238,18 +231,24 @@ pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
         }
     }
     let mut eliminated = vec![false; count];
-    let mut heap: BinaryHeap<Reverse<(usize, usize)>> =
-        (0..count).map(|node| Reverse((off[node].len(), node))).collect();
+    // Each node by its degree, then its index, in one word; an entry whose degree is no longer the
+    // node's is skipped, and each node keeps an entry at its degree (pushed when it changes).
+    let key = |degree: usize, node: usize| Reverse((degree as u64) << 32 | node as u64);
+    let mut heap: BinaryHeap<Reverse<u64>> = (0..count).map(|node| key(off[node].len(), node)).collect();
+    let mut degrees = Vec::new();
     let mut steps = Vec::with_capacity(count);
     let mut forward = Vec::with_capacity(2 * count);
-    while let Some(Reverse((degree, node))) = heap.pop() {
+    while let Some(Reverse(entry)) = heap.pop() {
+        let (degree, node) = ((entry >> 32) as usize, (entry & u64::from(u32::MAX)) as usize);
         if eliminated[node] || off[node].len() != degree {
             continue;
         }
         eliminated[node] = true;
         let pivot = diagonal[node];
         let neighbours = std::mem::take(&mut off[node]);
+        degrees.clear();
         for &(other, _) in &neighbours {
+            degrees.push(off[other].len());
             off[other].retain(|(k, _)| *k != node);
         }
         for (position, &(first, a_first)) in neighbours.iter().enumerate() {
@@ -261,8 +260,10 @@ pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
                 add_entry(&mut off[second], first, -fill);
             }
         }
-        for &(other, _) in &neighbours {
-            heap.push(Reverse((off[other].len(), other)));
+        for (&(other, _), &before) in neighbours.iter().zip(&degrees) {
+            if off[other].len() != before {
+                heap.push(key(off[other].len(), other));
+            }
         }
         steps.push(Step { node, pivot, neighbours });
     }

@@ -28,7 +28,9 @@ use crate::cell::SizedStage;
 use crate::network::{NetworkKind, Sides};
 use crate::paths::{self, EXACT_WORST_MAX_INPUTS, conduction_by_on_set, vector_word};
 use crate::sizing::plan::Plan;
-use crate::timing::circuit::{Circuit, Component, Conducting, Moments, Solved, component, conducting, elmore, held};
+use crate::timing::circuit::{
+    Circuit, Component, Conducting, Moments, Scratch, Solved, component_in, conducting, elmore, held_in,
+};
 use crate::timing::error::NetworkFault;
 use crate::timing::report::Edge;
 
@@ -108,6 +110,8 @@ pub struct Rule<'a> {
     conduction: Option<Sides<Vec<u64>>>,
     /// Every conducting network solved so far, by its key.
     solved: HashMap<NetworkKey, Moments>,
+    /// The searches' buffers, reused from one vector to the next.
+    scratch: Scratch,
 }
 
 /// A conducting network as a cache key, in bits: its rail, the devices that conduct within it (which
@@ -158,7 +162,7 @@ impl<'a> Rule<'a> {
         } else {
             None
         };
-        Ok(Rule { stage, plan, circuit, widths, conduction, solved: HashMap::new() })
+        Ok(Rule { stage, plan, circuit, widths, conduction, solved: HashMap::new(), scratch: Scratch::new(circuit) })
     }
 
     /// The worst transition of `input` on `edge` (the rule above), timed with `load` C on the
@@ -238,7 +242,7 @@ impl<'a> Rule<'a> {
                         Some(found) => found,
                         None => {
                             let after = after_of(on_set, input_count, kind);
-                            let component = component(circuit, edge, &after)?;
+                            let component = component_in(circuit, edge, &after, &mut self.scratch)?;
                             let mut on = vec![0u64; circuit.devices.len().div_ceil(64)];
                             for &device in &component.devices {
                                 on[device / 64] |= 1 << (device % 64);
@@ -246,7 +250,7 @@ impl<'a> Rule<'a> {
                             here.insert(OnSet { after, component, devices: on.into_boxed_slice(), solved: None })
                         }
                     };
-                    let at_final = held(circuit, edge, input, &found.after, &found.component.nodes)?;
+                    let at_final = held_in(circuit, edge, input, &found.after, &found.component, &mut self.scratch)?;
                     let key = NetworkKey {
                         rail: found.component.rail,
                         devices: found.devices.clone(),
@@ -258,7 +262,12 @@ impl<'a> Rule<'a> {
                             meter.charge(devices, Work::Delays)?;
                             let solved = match &mut found.solved {
                                 Some(solved) => solved,
-                                None => found.solved.insert(Solved::of(circuit, &found.component, self.widths)?),
+                                None => found.solved.insert(Solved::of_in(
+                                    circuit,
+                                    &found.component,
+                                    self.widths,
+                                    &mut self.scratch,
+                                )?),
                             };
                             let moments = solved.moments(&at_final);
                             self.solved.insert(key, moments);
