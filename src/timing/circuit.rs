@@ -285,67 +285,108 @@ pub fn component_in(
     Ok(Component { nodes, devices, rail })
 }
 
-/// [`held`] of `component` (the output's component under `after`) with reused buffers: the same
-/// nodes and faults, searched within the component. A path the old vector conducts from the new
-/// rail to a node of the component stays in it: before the switch, only the switching input's
-/// devices of the other network conduct that do not after, and the rail reaches them only through
-/// the output, where the search stops with [`NetworkFault::AlreadySwitched`]; every other device on
-/// the path conducts after the switch too, so each node before the rail is joined to the component
-/// by it.
-pub fn held_in(
-    circuit: &Circuit,
-    edge: Edge,
-    input: usize,
-    after: &[bool],
-    component: &Component,
-    scratch: &mut Scratch,
-) -> Result<Vec<bool>, NetworkFault> {
-    let rail = rail_of(edge.network());
-    let old_rail = if rail == VSS { VDD } else { VSS };
-    let on_before = |device: usize| {
-        let d = &circuit.devices[device];
-        let value = if d.input == input { !after[input] } else { after[d.input] };
-        d.kind.conducts(value)
-    };
-    let stamp = scratch.next();
-    for &device in &component.devices {
-        scratch.devices[device] = stamp;
-    }
-    let mut stack = std::mem::take(&mut scratch.stack);
-    stack.clear();
-    // Reach `other` from `here` through a conducting device: false at the output.
-    let reach = |here: usize, device: usize, stack: &mut Vec<usize>, nodes: &mut [u32]| -> bool {
-        let d = &circuit.devices[device];
-        let other = if d.drain == here { d.source } else { d.drain };
-        if other == OUTPUT {
-            return false;
+/// A component's devices as lists of its own nodes (the output is node 0), made once per vector
+/// and read by each switching input's search of the nodes at their final level ([`Adjacency::held`]).
+#[derive(Debug, Clone, Default)]
+pub struct Adjacency {
+    /// Where each node's list starts in `ends`, and one past the last node's.
+    start: Vec<u32>,
+    /// Each device from each of its ends in the component: the far end ([`RAIL_END`] for the rail)
+    /// and the device's input.
+    ends: Vec<(u32, u32)>,
+    /// The component's devices on the rail: the node at their other end and their input.
+    rail: Vec<(u32, u32)>,
+}
+
+/// The rail as the far end of a device in an [`Adjacency`].
+const RAIL_END: u32 = u32::MAX;
+
+impl Adjacency {
+    /// The adjacency of `component` (of `circuit`), its nodes' places kept in `scratch`.
+    pub fn of(circuit: &Circuit, component: &Component, scratch: &mut Scratch) -> Adjacency {
+        let position = &mut scratch.position;
+        for (index, &node) in component.nodes.iter().enumerate() {
+            position[node] = index;
         }
-        if other != old_rail && other != rail && nodes[other] != stamp {
-            nodes[other] = stamp;
-            stack.push(other);
+        let end = |node: usize| if node == component.rail { RAIL_END } else { position[node] as u32 };
+        let mut start = vec![0u32; component.nodes.len() + 1];
+        let mut rail = Vec::new();
+        for &device in &component.devices {
+            let d = &circuit.devices[device];
+            let (a, b) = (end(d.drain), end(d.source));
+            if a == b {
+                continue;
+            }
+            for (here, other) in [(a, b), (b, a)] {
+                if here == RAIL_END {
+                    rail.push((other, d.input as u32));
+                } else {
+                    start[here as usize + 1] += 1;
+                }
+            }
         }
-        true
-    };
-    // From the rail through the component's devices on it (the rail's own list is the whole
-    // network's), then node by node.
-    let mut switched = component.devices.iter().any(|&device| {
-        let d = &circuit.devices[device];
-        (d.drain == rail || d.source == rail)
-            && on_before(device)
-            && !reach(rail, device, &mut stack, &mut scratch.nodes)
-    });
-    while !switched && let Some(here) = stack.pop() {
-        switched = circuit.incident[here].iter().any(|&device| {
-            scratch.devices[device] == stamp
-                && on_before(device)
-                && !reach(here, device, &mut stack, &mut scratch.nodes)
-        });
+        for index in 1..start.len() {
+            start[index] += start[index - 1];
+        }
+        let mut fill = start.clone();
+        let mut ends = vec![(0, 0); start[component.nodes.len()] as usize];
+        for &device in &component.devices {
+            let d = &circuit.devices[device];
+            let (a, b) = (end(d.drain), end(d.source));
+            if a == b {
+                continue;
+            }
+            for (here, other) in [(a, b), (b, a)] {
+                if here != RAIL_END {
+                    ends[fill[here as usize] as usize] = (other, d.input as u32);
+                    fill[here as usize] += 1;
+                }
+            }
+        }
+        Adjacency { start, ends, rail }
     }
-    scratch.stack = stack;
-    if switched {
-        return Err(NetworkFault::AlreadySwitched);
+
+    /// [`held`] of the component when `input` switches: the same nodes and fault, searched within
+    /// the component. A path the old vector conducts from the new rail to a node of the component
+    /// stays in it: before the switch, only the switching input's devices of the other network
+    /// conduct that do not after, and the rail reaches them only through the output, where the
+    /// search stops with [`NetworkFault::AlreadySwitched`]; every other device on the path
+    /// conducts after the switch too, so each node before the rail is joined to the component by
+    /// it. Within the component, what conducts before is every device but the input's own (its
+    /// devices in the switching network; those of the other network are off after the switch).
+    pub fn held(&self, input: usize, scratch: &mut Scratch) -> Result<Vec<bool>, NetworkFault> {
+        let input = input as u32;
+        let mut held = vec![false; self.start.len() - 1];
+        let stack = &mut scratch.stack;
+        stack.clear();
+        let mut reach = |other: u32, stack: &mut Vec<usize>| -> bool {
+            match other {
+                0 => false,
+                RAIL_END => true,
+                _ => {
+                    if !held[other as usize] {
+                        held[other as usize] = true;
+                        stack.push(other as usize);
+                    }
+                    true
+                }
+            }
+        };
+        for &(other, gate) in &self.rail {
+            if gate != input && !reach(other, stack) {
+                return Err(NetworkFault::AlreadySwitched);
+            }
+        }
+        while let Some(here) = stack.pop() {
+            let list = &self.ends[self.start[here] as usize..self.start[here + 1] as usize];
+            for &(other, gate) in list {
+                if gate != input && !reach(other, stack) {
+                    return Err(NetworkFault::AlreadySwitched);
+                }
+            }
+        }
+        Ok(held)
     }
-    Ok(component.nodes.iter().map(|&n| scratch.nodes[n] == stamp).collect())
 }
 
 /// Which of `nodes` (a component under `after`) start at their final level when `input` switches

@@ -22,6 +22,7 @@
 //! block every such path.
 
 use std::collections::HashMap;
+use std::hash::{BuildHasherDefault, Hasher};
 
 use crate::budget::{Meter, OverBudget, Work};
 use crate::cell::SizedStage;
@@ -29,7 +30,7 @@ use crate::network::{NetworkKind, Sides};
 use crate::paths::{self, EXACT_WORST_MAX_INPUTS, conduction_by_on_set, vector_word};
 use crate::sizing::plan::Plan;
 use crate::timing::circuit::{
-    Circuit, Component, Conducting, Moments, Scratch, Solved, component_in, conducting, elmore, held_in,
+    Adjacency, Circuit, Component, Conducting, Moments, Scratch, Solved, component_in, conducting, elmore,
 };
 use crate::timing::error::NetworkFault;
 use crate::timing::report::Edge;
@@ -109,7 +110,7 @@ pub struct Rule<'a> {
     /// Each network's conduction over every on-set, 64 a word; `None` past the bound.
     conduction: Option<Sides<Vec<u64>>>,
     /// Every conducting network solved so far, by its key.
-    solved: HashMap<NetworkKey, Moments>,
+    solved: HashMap<NetworkKey, Moments, BuildHasherDefault<WordHasher>>,
     /// The searches' buffers, reused from one vector to the next.
     scratch: Scratch,
 }
@@ -121,6 +122,39 @@ struct NetworkKey {
     rail: usize,
     devices: Box<[u64]>,
     at_final: Box<[u64]>,
+}
+
+/// The cache's hasher: each word of a key folded in by a rotate, an exclusive or and a multiply
+/// (the keys are long bit sets, which SipHash took longer over).
+#[derive(Debug, Default)]
+struct WordHasher(u64);
+
+impl WordHasher {
+    fn add(&mut self, word: u64) {
+        self.0 = (self.0.rotate_left(5) ^ word).wrapping_mul(0x517c_c1b7_2722_0a95);
+    }
+}
+
+impl Hasher for WordHasher {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+
+    fn write(&mut self, bytes: &[u8]) {
+        for chunk in bytes.chunks(8) {
+            let mut word = [0u8; 8];
+            word[..chunk.len()].copy_from_slice(chunk);
+            self.add(u64::from_le_bytes(word));
+        }
+    }
+
+    fn write_u64(&mut self, word: u64) {
+        self.add(word);
+    }
+
+    fn write_usize(&mut self, word: usize) {
+        self.add(word as u64);
+    }
 }
 
 /// `flags` as a bit set, 64 a word.
@@ -139,6 +173,7 @@ fn bits_of(flags: &[bool]) -> Box<[u64]> {
 struct OnSet {
     after: Vec<bool>,
     component: Component,
+    adjacency: Adjacency,
     devices: Box<[u64]>,
     solved: Option<Solved>,
 }
@@ -162,7 +197,15 @@ impl<'a> Rule<'a> {
         } else {
             None
         };
-        Ok(Rule { stage, plan, circuit, widths, conduction, solved: HashMap::new(), scratch: Scratch::new(circuit) })
+        Ok(Rule {
+            stage,
+            plan,
+            circuit,
+            widths,
+            conduction,
+            solved: HashMap::default(),
+            scratch: Scratch::new(circuit),
+        })
     }
 
     /// The worst transition of `input` on `edge` (the rule above), timed with `load` C on the
@@ -247,10 +290,12 @@ impl<'a> Rule<'a> {
                             for &device in &component.devices {
                                 on[device / 64] |= 1 << (device % 64);
                             }
-                            here.insert(OnSet { after, component, devices: on.into_boxed_slice(), solved: None })
+                            let adjacency = Adjacency::of(circuit, &component, &mut self.scratch);
+                            let devices = on.into_boxed_slice();
+                            here.insert(OnSet { after, component, adjacency, devices, solved: None })
                         }
                     };
-                    let at_final = held_in(circuit, edge, input, &found.after, &found.component, &mut self.scratch)?;
+                    let at_final = found.adjacency.held(input, &mut self.scratch)?;
                     let key = NetworkKey {
                         rail: found.component.rail,
                         devices: found.devices.clone(),
