@@ -575,4 +575,82 @@ mod tests {
             }
         }
     }
+
+    /// A random series-parallel function of up to five inputs, repeated freely, as text.
+    fn gate_text() -> impl proptest::strategy::Strategy<Value = String> {
+        use proptest::prelude::*;
+        let leaf = (0usize..5).prop_map(|i| ["a", "b", "c", "d", "e"][i].to_string());
+        let tree = leaf.prop_recursive(3, 16, 3, |inner| {
+            (prop::collection::vec(inner, 2..4), any::<bool>())
+                .prop_map(|(members, and)| format!("({})", members.join(if and { " & " } else { " | " })))
+        });
+        tree.prop_map(|tree| format!("!{tree}"))
+    }
+
+    proptest::proptest! {
+        /// The one pass against the rule written out plainly: every switching vector of each input
+        /// and edge (`switching_vectors`, which walks the networks itself), in the order of their
+        /// on-sets, each timed from scratch (`time_vector`: the component and the nodes at their
+        /// final level searched over the whole circuit, the system solved alone), the slowest kept,
+        /// a tie within 1e-9 to the larger resistance after the switch, then to the earlier vector
+        /// (the rule this module states). The same vectors, networks and delays to the bit.
+        #[test]
+        fn the_one_pass_is_the_rule_written_out(
+            text in gate_text(),
+            diffusion in 0.0f64..2.0,
+            loads in proptest::collection::vec(0.0f64..8.0, 5),
+        ) {
+            use crate::timing::circuit::flat_widths;
+            let cell = sized(&text);
+            let (stage, plan) = (cell.stage(), &cell.plan);
+            let circuit = Circuit::new(stage, plan, diffusion);
+            let widths = flat_widths(stage);
+            let meter = Meter::unlimited();
+            let count = stage.function.inputs.len();
+            let inputs: Vec<(usize, f64)> = (0..count).map(|i| (i, loads[i])).collect();
+            let mut rule = Rule::new(stage, plan, &circuit, &widths, &meter).unwrap();
+            for edge in Edge::BOTH {
+                let kind = edge.network();
+                let sized = &stage.networks[kind];
+                let resistance = plan.resistances(kind, &sized.widths);
+                let found = rule.worst_of(edge, &inputs, &meter).unwrap();
+                for (&(input, load), found) in inputs.iter().zip(found) {
+                    let mut vectors = switching_vectors(stage, input, kind).unwrap();
+                    let on_set = |values: &Vec<bool>| {
+                        values.iter().enumerate().filter(|&(_, &v)| v == kind.conducts(true)).map(|(i, _)| 1u64 << i).sum::<u64>()
+                    };
+                    vectors.sort_by_key(on_set);
+                    let mut best: Option<(Transition, f64)> = None;
+                    for after in vectors {
+                        let on = sized.network.on_devices(&after);
+                        let r = paths::effective_resistance(&sized.network, &resistance, &on).unwrap_or(f64::INFINITY);
+                        let timed = time_vector(&circuit, &widths, input, edge, after, load, EVERY_VECTOR).unwrap();
+                        let replace = match &best {
+                            None => true,
+                            Some((held, held_r)) => {
+                                let scale = timed.elmore.abs().max(held.elmore.abs());
+                                if timed.elmore > held.elmore + TIE * scale {
+                                    true
+                                } else if timed.elmore < held.elmore - TIE * scale {
+                                    false
+                                } else {
+                                    r > held_r + TIE * r.max(*held_r)
+                                }
+                            }
+                        };
+                        if replace {
+                            best = Some((timed, r));
+                        }
+                    }
+                    proptest::prop_assert_eq!(found.is_some(), best.is_some(), "{} {} {:?}", text, input, edge);
+                    let (Some(found), Some((plain, _))) = (found, best) else { continue };
+                    proptest::prop_assert_eq!(&found.after, &plain.after, "{} {} {:?}", text, input, edge);
+                    proptest::prop_assert_eq!(&found.shape, &plain.shape);
+                    proptest::prop_assert_eq!(found.elmore.to_bits(), plain.elmore.to_bits());
+                    proptest::prop_assert_eq!(found.unloaded.to_bits(), plain.unloaded.to_bits());
+                    proptest::prop_assert_eq!(found.tree, plain.tree);
+                }
+            }
+        }
+    }
 }
