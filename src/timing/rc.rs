@@ -10,9 +10,6 @@
 // Matrix code reads best with explicit indices.
 #![allow(clippy::needless_range_loop)]
 
-use std::cmp::Reverse;
-use std::collections::BinaryHeap;
-
 use thiserror::Error;
 
 /// One end of a resistor: a node of the network or the rail.
@@ -211,7 +208,7 @@ impl Factored {
 ///
 /// A series-parallel network (every static CMOS network is one) always has a node of degree two or
 /// less, and eliminating it joins only its two neighbours, so the work is linear in its size up to
-/// the heap's logarithm.
+/// a scan of the queue's words (a bit set of the nodes of each degree).
 pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
     let count = network.capacitance.len();
     network.check(&vec![0.0; count])?;
@@ -230,20 +227,14 @@ pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
             _ => {}
         }
     }
-    let mut eliminated = vec![false; count];
-    // Each node by its degree, then its index, in one word; an entry whose degree is no longer the
-    // node's is skipped, and each node keeps an entry at its degree (pushed when it changes).
-    let key = |degree: usize, node: usize| Reverse((degree as u64) << 32 | node as u64);
-    let mut heap: BinaryHeap<Reverse<u64>> = (0..count).map(|node| key(off[node].len(), node)).collect();
+    let mut queue = Queue::new(count);
+    for (node, list) in off.iter().enumerate() {
+        queue.insert(list.len(), node);
+    }
     let mut degrees = Vec::new();
     let mut steps = Vec::with_capacity(count);
     let mut forward = Vec::with_capacity(2 * count);
-    while let Some(Reverse(entry)) = heap.pop() {
-        let (degree, node) = ((entry >> 32) as usize, (entry & u64::from(u32::MAX)) as usize);
-        if eliminated[node] || off[node].len() != degree {
-            continue;
-        }
-        eliminated[node] = true;
+    while let Some(node) = queue.pop() {
         let pivot = diagonal[node];
         let neighbours = std::mem::take(&mut off[node]);
         degrees.clear();
@@ -262,12 +253,63 @@ pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
         }
         for (&(other, _), &before) in neighbours.iter().zip(&degrees) {
             if off[other].len() != before {
-                heap.push(key(off[other].len(), other));
+                queue.remove(before, other);
+                queue.insert(off[other].len(), other);
             }
         }
         steps.push(Step { node, pivot, neighbours });
     }
     Ok(Factored { count, forward, steps })
+}
+
+/// The nodes not yet eliminated, by degree: a bit set of node indices per degree, so that the next
+/// node is the one of least degree and, among those, of least index.
+struct Queue {
+    /// Per degree: its nodes, 64 a word (allocated when a node first takes that degree).
+    buckets: Vec<Vec<u64>>,
+    /// Per degree: how many nodes have it.
+    counts: Vec<usize>,
+    /// Words per bucket.
+    words: usize,
+    /// No degree below this has a node.
+    lowest: usize,
+}
+
+impl Queue {
+    fn new(count: usize) -> Queue {
+        Queue { buckets: Vec::new(), counts: Vec::new(), words: count.div_ceil(64), lowest: 0 }
+    }
+
+    fn insert(&mut self, degree: usize, node: usize) {
+        if self.buckets.len() <= degree {
+            self.buckets.resize_with(degree + 1, Vec::new);
+            self.counts.resize(degree + 1, 0);
+        }
+        if self.buckets[degree].is_empty() {
+            self.buckets[degree] = vec![0; self.words];
+        }
+        self.buckets[degree][node / 64] |= 1 << (node % 64);
+        self.counts[degree] += 1;
+        self.lowest = self.lowest.min(degree);
+    }
+
+    fn remove(&mut self, degree: usize, node: usize) {
+        self.buckets[degree][node / 64] &= !(1 << (node % 64));
+        self.counts[degree] -= 1;
+    }
+
+    /// The node of least degree, of least index among those, taken out.
+    fn pop(&mut self) -> Option<usize> {
+        while self.counts.get(self.lowest).is_some_and(|&count| count == 0) {
+            self.lowest += 1;
+        }
+        let bucket = self.buckets.get_mut(self.lowest)?;
+        let (word, bits) = bucket.iter_mut().enumerate().find(|(_, bits)| **bits != 0)?;
+        let node = word * 64 + bits.trailing_zeros() as usize;
+        *bits &= *bits - 1;
+        self.counts[self.lowest] -= 1;
+        Some(node)
+    }
 }
 
 /// The first moment of `node` by the tree formula: the sum over nodes `k` of `C_k d_k` times the
