@@ -200,11 +200,25 @@ pub fn component(circuit: &Circuit, edge: Edge, after: &[bool]) -> Result<Compon
     Ok(Component { nodes, devices, rail })
 }
 
-/// Buffers the searches of one vector after another reuse: what each node and device was last
-/// marked in, by a stamp each search moves on (so nothing is cleared between vectors), a node's
-/// position in a component, and a stack.
+/// A device as one of a node's [`Scratch`] links: the device, the node at its other end, its input
+/// and the input's value that turns it on.
+#[derive(Debug, Clone, Copy)]
+struct Link {
+    device: u32,
+    other: u32,
+    input: u32,
+    on_at: bool,
+}
+
+/// Buffers the searches of one vector after another reuse: each node's devices as links (in the
+/// order of [`Circuit::incident`]), what each node and device was last marked in, by a stamp each
+/// search moves on (so nothing is cleared between vectors), a node's position in a component, and
+/// a stack.
 #[derive(Debug, Clone)]
 pub struct Scratch {
+    /// Where each node's links start in `links`, and one past the last node's.
+    link_start: Vec<u32>,
+    links: Vec<Link>,
     nodes: Vec<u32>,
     devices: Vec<u32>,
     stamp: u32,
@@ -215,7 +229,24 @@ pub struct Scratch {
 impl Scratch {
     /// Buffers for `circuit`'s nodes and devices.
     pub fn new(circuit: &Circuit) -> Scratch {
+        let mut link_start = vec![0u32];
+        let mut links = Vec::new();
+        for (node, incident) in circuit.incident.iter().enumerate() {
+            for &device in incident {
+                let d = &circuit.devices[device];
+                let other = if d.drain == node { d.source } else { d.drain };
+                links.push(Link {
+                    device: device as u32,
+                    other: other as u32,
+                    input: d.input as u32,
+                    on_at: d.kind.conducts(true),
+                });
+            }
+            link_start.push(links.len() as u32);
+        }
         Scratch {
+            link_start,
+            links,
             nodes: vec![0; circuit.names.len()],
             devices: vec![0; circuit.devices.len()],
             stamp: 0,
@@ -247,6 +278,7 @@ pub fn component_in(
 ) -> Result<Component, NetworkFault> {
     let rail = rail_of(edge.network());
     let old_rail = if rail == VSS { VDD } else { VSS };
+    debug_assert_eq!(scratch.links.len(), 2 * circuit.devices.len(), "buffers of another circuit");
     let stamp = scratch.next();
     let mut nodes = vec![OUTPUT];
     let mut devices = Vec::new();
@@ -256,12 +288,12 @@ pub fn component_in(
     while next < nodes.len() {
         let here = nodes[next];
         next += 1;
-        for &device in &circuit.incident[here] {
-            if !circuit.on(device, after) {
+        let links = &scratch.links[scratch.link_start[here] as usize..scratch.link_start[here + 1] as usize];
+        for &Link { device, other, input, on_at } in links {
+            if after[input as usize] != on_at {
                 continue;
             }
-            let d = &circuit.devices[device];
-            let other = if d.drain == here { d.source } else { d.drain };
+            let (device, other) = (device as usize, other as usize);
             if other == old_rail {
                 return Err(NetworkFault::BothRails);
             }
