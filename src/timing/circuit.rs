@@ -211,16 +211,18 @@ struct Link {
 }
 
 /// Buffers the searches of one vector after another reuse: each node's devices as links (in the
-/// order of [`Circuit::incident`]), what each node and device was last marked in, by a stamp each
-/// search moves on (so nothing is cleared between vectors), a node's position in a component, and
-/// a stack.
+/// order of [`Circuit::incident`]), the devices a search finds, what each node was last marked in
+/// (by a stamp each search moves on, so nothing is cleared between vectors), a node's position in
+/// a component, and a stack.
 #[derive(Debug, Clone)]
 pub struct Scratch {
     /// Where each node's links start in `links`, and one past the last node's.
     link_start: Vec<u32>,
     links: Vec<Link>,
+    /// The devices a component search has found, 64 a word.
+    found: Vec<u64>,
+    /// Per node: the stamp of the search that last reached it.
     nodes: Vec<u32>,
-    devices: Vec<u32>,
     stamp: u32,
     position: Vec<usize>,
     stack: Vec<usize>,
@@ -247,19 +249,18 @@ impl Scratch {
         Scratch {
             link_start,
             links,
+            found: Vec::new(),
             nodes: vec![0; circuit.names.len()],
-            devices: vec![0; circuit.devices.len()],
             stamp: 0,
             position: vec![usize::MAX; circuit.names.len()],
             stack: Vec::new(),
         }
     }
 
-    /// A stamp no node or device carries yet.
+    /// A stamp no node carries yet.
     fn next(&mut self) -> u32 {
         if self.stamp == u32::MAX {
             self.nodes.fill(0);
-            self.devices.fill(0);
             self.stamp = 0;
         }
         self.stamp += 1;
@@ -281,7 +282,9 @@ pub fn component_in(
     debug_assert_eq!(scratch.links.len(), 2 * circuit.devices.len(), "buffers of another circuit");
     let stamp = scratch.next();
     let mut nodes = vec![OUTPUT];
-    let mut devices = Vec::new();
+    let mut found = std::mem::take(&mut scratch.found);
+    found.clear();
+    found.resize(circuit.devices.len().div_ceil(64), 0);
     scratch.nodes[OUTPUT] = stamp;
     let mut reaches_rail = false;
     let mut next = 0;
@@ -297,11 +300,8 @@ pub fn component_in(
             if other == old_rail {
                 return Err(NetworkFault::BothRails);
             }
-            // A conducting device with an end in the component: in it (met once from each end).
-            if scratch.devices[device] != stamp {
-                scratch.devices[device] = stamp;
-                devices.push(device);
-            }
+            // A conducting device with an end in the component: in it.
+            found[device / 64] |= 1 << (device % 64);
             if other == rail {
                 reaches_rail = true;
             } else if scratch.nodes[other] != stamp {
@@ -313,7 +313,16 @@ pub fn component_in(
     if !reaches_rail {
         return Err(NetworkFault::NoRail);
     }
-    devices.sort_unstable();
+    // In increasing order, as a pass over every device would list them.
+    let mut devices = Vec::new();
+    for (word, &bits) in found.iter().enumerate() {
+        let mut bits = bits;
+        while bits != 0 {
+            devices.push(word * 64 + bits.trailing_zeros() as usize);
+            bits &= bits - 1;
+        }
+    }
+    scratch.found = found;
     Ok(Component { nodes, devices, rail })
 }
 
