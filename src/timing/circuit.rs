@@ -532,7 +532,7 @@ impl Solved {
     ) -> Result<Solved, NetworkFault> {
         let Component { nodes, devices, rail } = component;
         let network = rc_of(circuit, nodes, devices, *rail, widths, 0.0, &mut scratch.position);
-        let factored = rc::factor(&network).map_err(NetworkFault::Solve)?;
+        let factored = rc::factor_joined(&network).map_err(NetworkFault::Solve)?;
         let mut unit = vec![0.0; nodes.len()];
         unit[0] = 1.0;
         factored.solve(&mut unit);

@@ -84,6 +84,13 @@ impl RcNetwork {
         if initial.len() != count {
             return Err(RcError::WrongLength { given: initial.len(), count });
         }
+        self.check_resistors()?;
+        self.check_joined()
+    }
+
+    /// Every resistance positive and finite, between nodes the network has.
+    fn check_resistors(&self) -> Result<(), RcError> {
+        let count = self.capacitance.len();
         for (index, resistor) in self.resistors.iter().enumerate() {
             if !(resistor.resistance.is_finite() && resistor.resistance > 0.0) {
                 return Err(RcError::BadResistance { index, value: resistor.resistance });
@@ -96,6 +103,12 @@ impl RcNetwork {
                 }
             }
         }
+        Ok(())
+    }
+
+    /// Every node joined to the rail (the resistors checked first).
+    fn check_joined(&self) -> Result<(), RcError> {
+        let count = self.capacitance.len();
         // Every node must reach the rail, or G is singular: the rail's set of joined nodes (the
         // rail is node `count`), each set by its root.
         let mut root: Vec<usize> = (0..=count).collect();
@@ -115,8 +128,7 @@ impl RcNetwork {
             root[a] = b;
         }
         let rail = find(&mut root, count);
-        let reached: Vec<bool> = (0..count).map(|node| find(&mut root, node) == rail).collect();
-        match reached.iter().position(|r| !r) {
+        match (0..count).find(|&node| find(&mut root, node) != rail) {
             Some(node) => Err(RcError::Floating { node }),
             None => Ok(()),
         }
@@ -210,8 +222,22 @@ impl Factored {
 /// less, and eliminating it joins only its two neighbours, so the work is linear in its size up to
 /// a scan of the queue's words (a bit set of the nodes of each degree).
 pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
+    network.check_resistors()?;
+    network.check_joined()?;
+    Ok(eliminate(network))
+}
+
+/// [`factor`] of a network whose every node is known to reach the rail (a component searched from
+/// the output that reached the rail): its resistances checked, its connectivity not searched again.
+pub fn factor_joined(network: &RcNetwork) -> Result<Factored, RcError> {
+    network.check_resistors()?;
+    debug_assert_eq!(network.check_joined(), Ok(()), "a node does not reach the rail");
+    Ok(eliminate(network))
+}
+
+/// The elimination of a checked network (see [`factor`]).
+fn eliminate(network: &RcNetwork) -> Factored {
     let count = network.capacitance.len();
-    network.check(&vec![0.0; count])?;
     let mut diagonal = vec![0.0; count];
     let mut off: Vec<Vec<(usize, f64)>> = vec![Vec::new(); count];
     for resistor in &network.resistors {
@@ -259,7 +285,7 @@ pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
         }
         steps.push(Step { node, pivot, neighbours });
     }
-    Ok(Factored { count, forward, steps })
+    Factored { count, forward, steps }
 }
 
 /// The nodes not yet eliminated, by degree: a bit set of node indices per degree, so that the next
