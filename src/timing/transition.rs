@@ -109,18 +109,20 @@ pub struct Rule<'a> {
     widths: &'a [f64],
     /// Each network's conduction over every on-set, 64 a word; `None` past the bound.
     conduction: Option<Sides<Vec<u64>>>,
+    /// Every component met so far (its rail and the devices that conduct within it, which decide
+    /// its nodes and their order), numbered.
+    components: HashMap<(usize, Box<[u64]>), usize, BuildHasherDefault<WordHasher>>,
     /// Every conducting network solved so far, by its key.
     solved: HashMap<NetworkKey, Moments, BuildHasherDefault<WordHasher>>,
     /// The searches' buffers, reused from one vector to the next.
     scratch: Scratch,
 }
 
-/// A conducting network as a cache key, in bits: its rail, the devices that conduct within it (which
-/// decide its nodes and their order) and which of its nodes start at their final level.
+/// A conducting network as a cache key: its component's number (see [`Rule`]'s `components`) and
+/// which of its nodes start at their final level, in bits.
 #[derive(Debug, Clone, PartialEq, Eq, Hash)]
 struct NetworkKey {
-    rail: usize,
-    devices: Box<[u64]>,
+    component: usize,
     at_final: Box<[u64]>,
 }
 
@@ -174,7 +176,8 @@ struct OnSet {
     after: Vec<bool>,
     component: Component,
     adjacency: Adjacency,
-    devices: Box<[u64]>,
+    /// Its number among the components met.
+    number: usize,
     solved: Option<Solved>,
 }
 
@@ -203,6 +206,7 @@ impl<'a> Rule<'a> {
             circuit,
             widths,
             conduction,
+            components: HashMap::default(),
             solved: HashMap::default(),
             scratch: Scratch::new(circuit),
         })
@@ -291,16 +295,14 @@ impl<'a> Rule<'a> {
                                 on[device / 64] |= 1 << (device % 64);
                             }
                             let adjacency = Adjacency::of(circuit, &component, &mut self.scratch);
-                            let devices = on.into_boxed_slice();
-                            here.insert(OnSet { after, component, adjacency, devices, solved: None })
+                            let next = self.components.len();
+                            let number =
+                                *self.components.entry((component.rail, on.into_boxed_slice())).or_insert(next);
+                            here.insert(OnSet { after, component, adjacency, number, solved: None })
                         }
                     };
                     let at_final = found.adjacency.held(input, &mut self.scratch)?;
-                    let key = NetworkKey {
-                        rail: found.component.rail,
-                        devices: found.devices.clone(),
-                        at_final: bits_of(&at_final),
-                    };
+                    let key = NetworkKey { component: found.number, at_final: bits_of(&at_final) };
                     let moments = match self.solved.get(&key) {
                         Some(moments) => *moments,
                         None => {
