@@ -200,6 +200,236 @@ pub fn component(circuit: &Circuit, edge: Edge, after: &[bool]) -> Result<Compon
     Ok(Component { nodes, devices, rail })
 }
 
+/// A device as one of a node's [`Scratch`] links: the device, the node at its other end, its input
+/// and the input's value that turns it on.
+#[derive(Debug, Clone, Copy)]
+struct Link {
+    device: u32,
+    other: u32,
+    input: u32,
+    on_at: bool,
+}
+
+/// Buffers the searches of one vector after another reuse: each node's devices as links (in the
+/// order of [`Circuit::incident`]), the devices a search finds, what each node was last marked in
+/// (by a stamp each search moves on, so nothing is cleared between vectors), a node's position in
+/// a component, and a stack.
+#[derive(Debug, Clone)]
+pub struct Scratch {
+    /// Where each node's links start in `links`, and one past the last node's.
+    link_start: Vec<u32>,
+    links: Vec<Link>,
+    /// The devices a component search has found, 64 a word.
+    found: Vec<u64>,
+    /// Per node: the stamp of the search that last reached it.
+    nodes: Vec<u32>,
+    stamp: u32,
+    position: Vec<usize>,
+    stack: Vec<usize>,
+}
+
+impl Scratch {
+    /// Buffers for `circuit`'s nodes and devices.
+    pub fn new(circuit: &Circuit) -> Scratch {
+        let mut link_start = vec![0u32];
+        let mut links = Vec::new();
+        for (node, incident) in circuit.incident.iter().enumerate() {
+            for &device in incident {
+                let d = &circuit.devices[device];
+                let other = if d.drain == node { d.source } else { d.drain };
+                links.push(Link {
+                    device: device as u32,
+                    other: other as u32,
+                    input: d.input as u32,
+                    on_at: d.kind.conducts(true),
+                });
+            }
+            link_start.push(links.len() as u32);
+        }
+        Scratch {
+            link_start,
+            links,
+            found: Vec::new(),
+            nodes: vec![0; circuit.names.len()],
+            stamp: 0,
+            position: vec![usize::MAX; circuit.names.len()],
+            stack: Vec::new(),
+        }
+    }
+
+    /// A stamp no node carries yet.
+    fn next(&mut self) -> u32 {
+        if self.stamp == u32::MAX {
+            self.nodes.fill(0);
+            self.stamp = 0;
+        }
+        self.stamp += 1;
+        self.stamp
+    }
+}
+
+/// [`component`] with reused buffers: the same nodes in the same order, the same devices and the
+/// same faults, each conducting device met from the component's own nodes rather than by a pass
+/// over every device of the circuit.
+pub fn component_in(
+    circuit: &Circuit,
+    edge: Edge,
+    after: &[bool],
+    scratch: &mut Scratch,
+) -> Result<Component, NetworkFault> {
+    let rail = rail_of(edge.network());
+    let old_rail = if rail == VSS { VDD } else { VSS };
+    debug_assert_eq!(scratch.links.len(), 2 * circuit.devices.len(), "buffers of another circuit");
+    let stamp = scratch.next();
+    let mut nodes = vec![OUTPUT];
+    let mut found = std::mem::take(&mut scratch.found);
+    found.clear();
+    found.resize(circuit.devices.len().div_ceil(64), 0);
+    scratch.nodes[OUTPUT] = stamp;
+    let mut reaches_rail = false;
+    let mut next = 0;
+    while next < nodes.len() {
+        let here = nodes[next];
+        next += 1;
+        let links = &scratch.links[scratch.link_start[here] as usize..scratch.link_start[here + 1] as usize];
+        for &Link { device, other, input, on_at } in links {
+            if after[input as usize] != on_at {
+                continue;
+            }
+            let (device, other) = (device as usize, other as usize);
+            if other == old_rail {
+                return Err(NetworkFault::BothRails);
+            }
+            // A conducting device with an end in the component: in it.
+            found[device / 64] |= 1 << (device % 64);
+            if other == rail {
+                reaches_rail = true;
+            } else if scratch.nodes[other] != stamp {
+                scratch.nodes[other] = stamp;
+                nodes.push(other);
+            }
+        }
+    }
+    if !reaches_rail {
+        return Err(NetworkFault::NoRail);
+    }
+    // In increasing order, as a pass over every device would list them.
+    let mut devices = Vec::new();
+    for (word, &bits) in found.iter().enumerate() {
+        let mut bits = bits;
+        while bits != 0 {
+            devices.push(word * 64 + bits.trailing_zeros() as usize);
+            bits &= bits - 1;
+        }
+    }
+    scratch.found = found;
+    Ok(Component { nodes, devices, rail })
+}
+
+/// A component's devices as lists of its own nodes (the output is node 0), made once per vector
+/// and read by each switching input's search of the nodes at their final level ([`Adjacency::held`]).
+#[derive(Debug, Clone, Default)]
+pub struct Adjacency {
+    /// Where each node's list starts in `ends`, and one past the last node's.
+    start: Vec<u32>,
+    /// Each device from each of its ends in the component: the far end ([`RAIL_END`] for the rail)
+    /// and the device's input.
+    ends: Vec<(u32, u32)>,
+    /// The component's devices on the rail: the node at their other end and their input.
+    rail: Vec<(u32, u32)>,
+}
+
+/// The rail as the far end of a device in an [`Adjacency`].
+const RAIL_END: u32 = u32::MAX;
+
+impl Adjacency {
+    /// The adjacency of `component` (of `circuit`), its nodes' places kept in `scratch`.
+    pub fn of(circuit: &Circuit, component: &Component, scratch: &mut Scratch) -> Adjacency {
+        let position = &mut scratch.position;
+        for (index, &node) in component.nodes.iter().enumerate() {
+            position[node] = index;
+        }
+        let end = |node: usize| if node == component.rail { RAIL_END } else { position[node] as u32 };
+        let mut start = vec![0u32; component.nodes.len() + 1];
+        let mut rail = Vec::new();
+        for &device in &component.devices {
+            let d = &circuit.devices[device];
+            let (a, b) = (end(d.drain), end(d.source));
+            if a == b {
+                continue;
+            }
+            for (here, other) in [(a, b), (b, a)] {
+                if here == RAIL_END {
+                    rail.push((other, d.input as u32));
+                } else {
+                    start[here as usize + 1] += 1;
+                }
+            }
+        }
+        for index in 1..start.len() {
+            start[index] += start[index - 1];
+        }
+        let mut fill = start.clone();
+        let mut ends = vec![(0, 0); start[component.nodes.len()] as usize];
+        for &device in &component.devices {
+            let d = &circuit.devices[device];
+            let (a, b) = (end(d.drain), end(d.source));
+            if a == b {
+                continue;
+            }
+            for (here, other) in [(a, b), (b, a)] {
+                if here != RAIL_END {
+                    ends[fill[here as usize] as usize] = (other, d.input as u32);
+                    fill[here as usize] += 1;
+                }
+            }
+        }
+        Adjacency { start, ends, rail }
+    }
+
+    /// [`held`] of the component when `input` switches: the same nodes and fault, searched within
+    /// the component. A path the old vector conducts from the new rail to a node of the component
+    /// stays in it: before the switch, only the switching input's devices of the other network
+    /// conduct that do not after, and the rail reaches them only through the output, where the
+    /// search stops with [`NetworkFault::AlreadySwitched`]; every other device on the path
+    /// conducts after the switch too, so each node before the rail is joined to the component by
+    /// it. Within the component, what conducts before is every device but the input's own (its
+    /// devices in the switching network; those of the other network are off after the switch).
+    pub fn held(&self, input: usize, scratch: &mut Scratch) -> Result<Vec<bool>, NetworkFault> {
+        let input = input as u32;
+        let mut held = vec![false; self.start.len() - 1];
+        let stack = &mut scratch.stack;
+        stack.clear();
+        let mut reach = |other: u32, stack: &mut Vec<usize>| -> bool {
+            match other {
+                0 => false,
+                RAIL_END => true,
+                _ => {
+                    if !held[other as usize] {
+                        held[other as usize] = true;
+                        stack.push(other as usize);
+                    }
+                    true
+                }
+            }
+        };
+        for &(other, gate) in &self.rail {
+            if gate != input && !reach(other, stack) {
+                return Err(NetworkFault::AlreadySwitched);
+            }
+        }
+        while let Some(here) = stack.pop() {
+            let list = &self.ends[self.start[here] as usize..self.start[here + 1] as usize];
+            for &(other, gate) in list {
+                if gate != input && !reach(other, stack) {
+                    return Err(NetworkFault::AlreadySwitched);
+                }
+            }
+        }
+        Ok(held)
+    }
+}
+
 /// Which of `nodes` (a component under `after`) start at their final level when `input` switches
 /// to `after` on `edge`: those the new rail already held before the switch (the second half of
 /// [`conducting`]).
@@ -242,12 +472,14 @@ pub fn held(
 
 /// A transition's conducting network as an RC network, with its initial deviations.
 pub fn rc_network(circuit: &Circuit, shape: &Conducting, widths: &[f64], load: f64) -> (rc::RcNetwork, Vec<f64>) {
-    let network = rc_of(circuit, &shape.nodes, &shape.devices, shape.rail, widths, load);
+    let mut position = vec![usize::MAX; circuit.names.len()];
+    let network = rc_of(circuit, &shape.nodes, &shape.devices, shape.rail, widths, load, &mut position);
     let initial = shape.at_final.iter().map(|&f| if f { 0.0 } else { 1.0 }).collect();
     (network, initial)
 }
 
-/// The RC network of the devices `devices` joining `nodes` (the output first) to `rail`.
+/// The RC network of the devices `devices` joining `nodes` (the output first) to `rail`, each of
+/// `nodes` given its place in `position` (one entry per circuit node; the others are not read).
 fn rc_of(
     circuit: &Circuit,
     nodes: &[usize],
@@ -255,8 +487,8 @@ fn rc_of(
     rail: usize,
     widths: &[f64],
     load: f64,
+    position: &mut [usize],
 ) -> rc::RcNetwork {
-    let mut position = vec![usize::MAX; circuit.names.len()];
     for (index, &node) in nodes.iter().enumerate() {
         position[node] = index;
     }
@@ -288,9 +520,19 @@ pub struct Solved {
 impl Solved {
     /// The component's system at `widths`, eliminated once.
     pub fn of(circuit: &Circuit, component: &Component, widths: &[f64]) -> Result<Solved, NetworkFault> {
+        Solved::of_in(circuit, component, widths, &mut Scratch::new(circuit))
+    }
+
+    /// [`Solved::of`] with reused buffers.
+    pub fn of_in(
+        circuit: &Circuit,
+        component: &Component,
+        widths: &[f64],
+        scratch: &mut Scratch,
+    ) -> Result<Solved, NetworkFault> {
         let Component { nodes, devices, rail } = component;
-        let network = rc_of(circuit, nodes, devices, *rail, widths, 0.0);
-        let factored = rc::factor(&network).map_err(NetworkFault::Solve)?;
+        let network = rc_of(circuit, nodes, devices, *rail, widths, 0.0, &mut scratch.position);
+        let factored = rc::factor_joined(&network).map_err(NetworkFault::Solve)?;
         let mut unit = vec![0.0; nodes.len()];
         unit[0] = 1.0;
         factored.solve(&mut unit);

@@ -10,9 +10,6 @@
 // Matrix code reads best with explicit indices.
 #![allow(clippy::needless_range_loop)]
 
-use std::cmp::Reverse;
-use std::collections::BinaryHeap;
-
 use thiserror::Error;
 
 /// One end of a resistor: a node of the network or the rail.
@@ -87,6 +84,13 @@ impl RcNetwork {
         if initial.len() != count {
             return Err(RcError::WrongLength { given: initial.len(), count });
         }
+        self.check_resistors()?;
+        self.check_joined()
+    }
+
+    /// Every resistance positive and finite, between nodes the network has.
+    fn check_resistors(&self) -> Result<(), RcError> {
+        let count = self.capacitance.len();
         for (index, resistor) in self.resistors.iter().enumerate() {
             if !(resistor.resistance.is_finite() && resistor.resistance > 0.0) {
                 return Err(RcError::BadResistance { index, value: resistor.resistance });
@@ -99,34 +103,32 @@ impl RcNetwork {
                 }
             }
         }
-        // Every node must reach the rail, or G is singular.
-        let mut adjacent = vec![Vec::new(); count];
-        let mut reached = vec![false; count];
-        let mut queue = Vec::new();
+        Ok(())
+    }
+
+    /// Every node joined to the rail (the resistors checked first).
+    fn check_joined(&self) -> Result<(), RcError> {
+        let count = self.capacitance.len();
+        // Every node must reach the rail, or G is singular: the rail's set of joined nodes (the
+        // rail is node `count`), each set by its root.
+        let mut root: Vec<usize> = (0..=count).collect();
+        fn find(root: &mut [usize], mut node: usize) -> usize {
+            while root[node] != node {
+                root[node] = root[root[node]];
+                node = root[node];
+            }
+            node
+        }
         for resistor in &self.resistors {
-            match (resistor.from, resistor.to) {
-                (End::Node(a), End::Node(b)) => {
-                    adjacent[a].push(b);
-                    adjacent[b].push(a);
-                }
-                (End::Node(a), End::Rail) | (End::Rail, End::Node(a)) => {
-                    if !reached[a] {
-                        reached[a] = true;
-                        queue.push(a);
-                    }
-                }
-                (End::Rail, End::Rail) => {}
-            }
+            let index = |end: End| match end {
+                End::Node(k) => k,
+                End::Rail => count,
+            };
+            let (a, b) = (find(&mut root, index(resistor.from)), find(&mut root, index(resistor.to)));
+            root[a] = b;
         }
-        while let Some(node) = queue.pop() {
-            for &next in &adjacent[node] {
-                if !reached[next] {
-                    reached[next] = true;
-                    queue.push(next);
-                }
-            }
-        }
-        match reached.iter().position(|r| !r) {
+        let rail = find(&mut root, count);
+        match (0..count).find(|&node| find(&mut root, node) != rail) {
             Some(node) => Err(RcError::Floating { node }),
             None => Ok(()),
         }
@@ -218,10 +220,24 @@ impl Factored {
 ///
 /// A series-parallel network (every static CMOS network is one) always has a node of degree two or
 /// less, and eliminating it joins only its two neighbours, so the work is linear in its size up to
-/// the heap's logarithm.
+/// a scan of the queue's words (a bit set of the nodes of each degree).
 pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
+    network.check_resistors()?;
+    network.check_joined()?;
+    Ok(eliminate(network))
+}
+
+/// [`factor`] of a network whose every node is known to reach the rail (a component searched from
+/// the output that reached the rail): its resistances checked, its connectivity not searched again.
+pub fn factor_joined(network: &RcNetwork) -> Result<Factored, RcError> {
+    network.check_resistors()?;
+    debug_assert_eq!(network.check_joined(), Ok(()), "a node does not reach the rail");
+    Ok(eliminate(network))
+}
+
+/// The elimination of a checked network (see [`factor`]).
+fn eliminate(network: &RcNetwork) -> Factored {
     let count = network.capacitance.len();
-    network.check(&vec![0.0; count])?;
     let mut diagonal = vec![0.0; count];
     let mut off: Vec<Vec<(usize, f64)>> = vec![Vec::new(); count];
     for resistor in &network.resistors {
@@ -237,19 +253,19 @@ pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
             _ => {}
         }
     }
-    let mut eliminated = vec![false; count];
-    let mut heap: BinaryHeap<Reverse<(usize, usize)>> =
-        (0..count).map(|node| Reverse((off[node].len(), node))).collect();
+    let mut queue = Queue::new(count);
+    for (node, list) in off.iter().enumerate() {
+        queue.insert(list.len(), node);
+    }
+    let mut degrees = Vec::new();
     let mut steps = Vec::with_capacity(count);
     let mut forward = Vec::with_capacity(2 * count);
-    while let Some(Reverse((degree, node))) = heap.pop() {
-        if eliminated[node] || off[node].len() != degree {
-            continue;
-        }
-        eliminated[node] = true;
+    while let Some(node) = queue.pop() {
         let pivot = diagonal[node];
         let neighbours = std::mem::take(&mut off[node]);
+        degrees.clear();
         for &(other, _) in &neighbours {
+            degrees.push(off[other].len());
             off[other].retain(|(k, _)| *k != node);
         }
         for (position, &(first, a_first)) in neighbours.iter().enumerate() {
@@ -261,12 +277,65 @@ pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
                 add_entry(&mut off[second], first, -fill);
             }
         }
-        for &(other, _) in &neighbours {
-            heap.push(Reverse((off[other].len(), other)));
+        for (&(other, _), &before) in neighbours.iter().zip(&degrees) {
+            if off[other].len() != before {
+                queue.remove(before, other);
+                queue.insert(off[other].len(), other);
+            }
         }
         steps.push(Step { node, pivot, neighbours });
     }
-    Ok(Factored { count, forward, steps })
+    Factored { count, forward, steps }
+}
+
+/// The nodes not yet eliminated, by degree: a bit set of node indices per degree, so that the next
+/// node is the one of least degree and, among those, of least index.
+struct Queue {
+    /// Per degree: its nodes, 64 a word (allocated when a node first takes that degree).
+    buckets: Vec<Vec<u64>>,
+    /// Per degree: how many nodes have it.
+    counts: Vec<usize>,
+    /// Words per bucket.
+    words: usize,
+    /// No degree below this has a node.
+    lowest: usize,
+}
+
+impl Queue {
+    fn new(count: usize) -> Queue {
+        Queue { buckets: Vec::new(), counts: Vec::new(), words: count.div_ceil(64), lowest: 0 }
+    }
+
+    fn insert(&mut self, degree: usize, node: usize) {
+        if self.buckets.len() <= degree {
+            self.buckets.resize_with(degree + 1, Vec::new);
+            self.counts.resize(degree + 1, 0);
+        }
+        if self.buckets[degree].is_empty() {
+            self.buckets[degree] = vec![0; self.words];
+        }
+        self.buckets[degree][node / 64] |= 1 << (node % 64);
+        self.counts[degree] += 1;
+        self.lowest = self.lowest.min(degree);
+    }
+
+    fn remove(&mut self, degree: usize, node: usize) {
+        self.buckets[degree][node / 64] &= !(1 << (node % 64));
+        self.counts[degree] -= 1;
+    }
+
+    /// The node of least degree, of least index among those, taken out.
+    fn pop(&mut self) -> Option<usize> {
+        while self.counts.get(self.lowest).is_some_and(|&count| count == 0) {
+            self.lowest += 1;
+        }
+        let bucket = self.buckets.get_mut(self.lowest)?;
+        let (word, bits) = bucket.iter_mut().enumerate().find(|(_, bits)| **bits != 0)?;
+        let node = word * 64 + bits.trailing_zeros() as usize;
+        *bits &= *bits - 1;
+        self.counts[self.lowest] -= 1;
+        Some(node)
+    }
 }
 
 /// The first moment of `node` by the tree formula: the sum over nodes `k` of `C_k d_k` times the
