@@ -518,12 +518,7 @@ pub struct Solved {
 }
 
 impl Solved {
-    /// The component's system at `widths`, eliminated once.
-    pub fn of(circuit: &Circuit, component: &Component, widths: &[f64]) -> Result<Solved, NetworkFault> {
-        Solved::of_in(circuit, component, widths, &mut Scratch::new(circuit))
-    }
-
-    /// [`Solved::of`] with reused buffers.
+    /// The component's system at `widths`, eliminated once, in `scratch`'s reused buffers.
     pub fn of_in(
         circuit: &Circuit,
         component: &Component,
