@@ -19,6 +19,7 @@
 pub mod entries;
 pub mod error;
 mod forms;
+mod plain;
 pub mod plan;
 mod reuse;
 mod scan;

@@ -21,6 +21,18 @@ pub(crate) struct Unreadable {
 /// The gate table at `range` of `text`: a `[[gate]]` table with what follows its header, or (with
 /// `inline`) one inline table of a `gate = [...]` list. Its value's places are places in `text`.
 pub(crate) fn read(text: &str, range: Range<usize>, inline: bool) -> Result<Spanned<DeValue<'_>>, Unreadable> {
+    if !inline && let Some(value) = super::plain::read(text, range.clone()) {
+        return Ok(value);
+    }
+    read_by_reader(text, range, inline)
+}
+
+/// [`read`] by the TOML reader alone, whatever the table holds.
+pub(crate) fn read_by_reader(
+    text: &str,
+    range: Range<usize>,
+    inline: bool,
+) -> Result<Spanned<DeValue<'_>>, Unreadable> {
     let piece = &text[range.clone()];
     let (value, errors) = if inline {
         DeValue::parse_recoverable(piece)
