@@ -13,7 +13,7 @@
 //! residual left by inexact centring is moved onto the box multipliers where it can be, and what
 //! it costs is added to the gap (see [`Phase::certify`]).
 
-use super::{Budget, Settings, Smooth, SolveError};
+use super::{Budget, Settings, Smooth, SolveError, linear};
 
 /// One finite side of the box as a constraint: `sign (x_variable - value) <= 0`.
 #[derive(Debug, Clone, Copy)]
@@ -404,57 +404,10 @@ impl<F: Smooth, C: Smooth> Phase<'_, F, C> {
 
 /// Solve `a x = b` for a symmetric positive definite `a` (n x n, row-major) by Cholesky, with a
 /// growing diagonal shift where rounding leaves it indefinite.
-fn solve_spd(mut a: Vec<f64>, b: &[f64], n: usize) -> Result<Vec<f64>, SolveError> {
-    let largest = (0..n).map(|i| a[i * n + i].abs()).fold(0.0, f64::max).max(f64::MIN_POSITIVE);
-    let original: Vec<f64> = (0..n).map(|i| a[i * n + i]).collect();
-    let mut shift = 0.0;
-    for _ in 0..12 {
-        for i in 0..n {
-            a[i * n + i] = original[i] + shift;
-        }
-        let mut l = a.clone();
-        if cholesky(&mut l, n) {
-            let mut y = b.to_vec();
-            for i in 0..n {
-                let row = &l[i * n..i * n + i];
-                let sum: f64 = row.iter().zip(&y[..i]).map(|(l, y)| l * y).sum();
-                y[i] = (y[i] - sum) / l[i * n + i];
-            }
-            for i in (0..n).rev() {
-                let mut value = y[i];
-                for k in i + 1..n {
-                    value -= l[k * n + i] * y[k];
-                }
-                y[i] = value / l[i * n + i];
-            }
-            if y.iter().all(|v| v.is_finite()) {
-                return Ok(y);
-            }
-        }
-        shift = if shift == 0.0 { largest * 1e-14 } else { shift * 100.0 };
-    }
-    Err(SolveError::Singular)
-}
-
-/// In place: the lower triangle of `a` becomes `L` with `L L^T = a`; false if `a` is not positive
-/// definite. The upper triangle is left as it was.
-fn cholesky(a: &mut [f64], n: usize) -> bool {
-    for j in 0..n {
-        let sum: f64 = a[j * n..j * n + j].iter().map(|v| v * v).sum();
-        let diagonal = a[j * n + j] - sum;
-        if diagonal.is_nan() || diagonal <= 0.0 {
-            return false;
-        }
-        let pivot = diagonal.sqrt();
-        a[j * n + j] = pivot;
-        let (upper, lower) = a.split_at_mut((j + 1) * n);
-        let row_j = &upper[j * n..j * n + j];
-        for row_i in lower.chunks_exact_mut(n) {
-            let dot: f64 = row_i[..j].iter().zip(row_j).map(|(a, b)| a * b).sum();
-            row_i[j] = (row_i[j] - dot) / pivot;
-        }
-    }
-    true
+fn solve_spd(a: Vec<f64>, b: &[f64], n: usize) -> Result<Vec<f64>, SolveError> {
+    let mut factor = vec![0.0; n * n];
+    let mut x = vec![0.0; n];
+    if linear::solve_spd(&a, b, n, &mut factor, &mut x) { Ok(x) } else { Err(SolveError::Singular) }
 }
 
 #[cfg(test)]

@@ -18,6 +18,7 @@
 
 pub mod geometric;
 mod interior;
+mod linear;
 
 use interior::{Bound, Meter, Phase};
 

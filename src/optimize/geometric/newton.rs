@@ -10,6 +10,8 @@
 
 use crate::budget::{Meter, OverBudget, Work};
 
+use crate::optimize::linear::solve_spd;
+
 /// Why a phase stopped without an answer.
 pub(super) enum Stop {
     /// The start is not strictly inside.
@@ -488,7 +490,9 @@ impl Problem<'_> {
             hessian[j * size + j] += lambda[m + j] / above + lambda[m + n + j] / below;
             right[j] -= (1.0 / above - 1.0 / below) / t;
         }
-        solve_spd(&space.hessian, &space.right, size, &mut space.factor, &mut space.step)?;
+        if !solve_spd(&space.hessian, &space.right, size, &mut space.factor, &mut space.step) {
+            return Err(Stop::Singular);
+        }
         let step = &space.step;
         // d lambda_i = -lambda_i - 1 / (t G_i) - lambda_i (grad G_i . dz) / G_i
         for i in 0..m {
@@ -596,58 +600,6 @@ impl Problem<'_> {
         }
         Err(Stop::Stalled)
     }
-}
-
-/// Solve `a x = b` into `x` for a symmetric positive definite `a` (`n x n`, row-major, only its
-/// lower triangle read) by Cholesky into `factor`, with a growing diagonal shift where rounding
-/// leaves it indefinite.
-fn solve_spd(a: &[f64], b: &[f64], n: usize, factor: &mut [f64], x: &mut [f64]) -> Result<(), Stop> {
-    let largest = (0..n).map(|i| a[i * n + i].abs()).fold(0.0, f64::max).max(1e-300);
-    let mut shift = 0.0;
-    for _ in 0..12 {
-        factor.copy_from_slice(a);
-        if cholesky(factor, n, shift) {
-            x.copy_from_slice(b);
-            for i in 0..n {
-                let row = &factor[i * n..i * n + i];
-                let sum: f64 = row.iter().zip(&x[..i]).map(|(l, y)| l * y).sum();
-                x[i] = (x[i] - sum) / factor[i * n + i];
-            }
-            for i in (0..n).rev() {
-                let mut value = x[i];
-                for k in i + 1..n {
-                    value -= factor[k * n + i] * x[k];
-                }
-                x[i] = value / factor[i * n + i];
-            }
-            if x.iter().all(|v| v.is_finite()) {
-                return Ok(());
-            }
-        }
-        shift = if shift == 0.0 { largest * 1e-14 } else { shift * 100.0 };
-    }
-    Err(Stop::Singular)
-}
-
-/// In place: the lower triangle of `a` (with `shift` added to its diagonal) becomes `L` with
-/// `L L^T = a`; false if it is not positive definite.
-fn cholesky(a: &mut [f64], n: usize, shift: f64) -> bool {
-    for j in 0..n {
-        let sum: f64 = a[j * n..j * n + j].iter().map(|v| v * v).sum();
-        let diagonal = a[j * n + j] + shift - sum;
-        if diagonal.is_nan() || diagonal <= 0.0 {
-            return false;
-        }
-        let pivot = diagonal.sqrt();
-        a[j * n + j] = pivot;
-        let (upper, lower) = a.split_at_mut((j + 1) * n);
-        let row_j = &upper[j * n..j * n + j];
-        for row_i in lower.chunks_exact_mut(n) {
-            let dot: f64 = row_i[..j].iter().zip(row_j).map(|(a, b)| a * b).sum();
-            row_i[j] = (row_i[j] - dot) / pivot;
-        }
-    }
-    true
 }
 
 /// Relative accuracy of the optimum: the surrogate duality gap on the log objective.

@@ -1,0 +1,64 @@
+//! Dense symmetric positive definite solves for the Newton systems of both interior-point solvers:
+//! Cholesky factorisation with a growing diagonal shift where rounding leaves the matrix indefinite.
+
+// Dense linear algebra reads best with explicit indices.
+#![allow(clippy::needless_range_loop)]
+
+/// Factorisations tried before the system is called singular: no shift, then a shift of `1e-14`
+/// times the largest diagonal entry, growing a hundredfold each try.
+const TRIES: usize = 12;
+const FIRST_SHIFT: f64 = 1e-14;
+const SHIFT_GROWTH: f64 = 100.0;
+
+/// Solve `a x = b` into `x` for a symmetric positive definite `a` (`n x n`, row-major, only its
+/// lower triangle read) by Cholesky into `factor` (`n x n`), with a growing diagonal shift where
+/// rounding leaves it indefinite. False when no shift gives a finite solution; `x` is then
+/// meaningless.
+pub(super) fn solve_spd(a: &[f64], b: &[f64], n: usize, factor: &mut [f64], x: &mut [f64]) -> bool {
+    let largest = (0..n).map(|i| a[i * n + i].abs()).fold(0.0, f64::max).max(f64::MIN_POSITIVE);
+    let mut shift = 0.0;
+    for _ in 0..TRIES {
+        factor.copy_from_slice(a);
+        if cholesky(factor, n, shift) {
+            x.copy_from_slice(b);
+            for i in 0..n {
+                let row = &factor[i * n..i * n + i];
+                let sum: f64 = row.iter().zip(&x[..i]).map(|(l, y)| l * y).sum();
+                x[i] = (x[i] - sum) / factor[i * n + i];
+            }
+            for i in (0..n).rev() {
+                let mut value = x[i];
+                for k in i + 1..n {
+                    value -= factor[k * n + i] * x[k];
+                }
+                x[i] = value / factor[i * n + i];
+            }
+            if x.iter().all(|v| v.is_finite()) {
+                return true;
+            }
+        }
+        shift = if shift == 0.0 { largest * FIRST_SHIFT } else { shift * SHIFT_GROWTH };
+    }
+    false
+}
+
+/// In place: the lower triangle of `a` (with `shift` added to its diagonal) becomes `L` with
+/// `L L^T = a`; false if it is not positive definite. The upper triangle is left as it was.
+fn cholesky(a: &mut [f64], n: usize, shift: f64) -> bool {
+    for j in 0..n {
+        let sum: f64 = a[j * n..j * n + j].iter().map(|v| v * v).sum();
+        let diagonal = a[j * n + j] + shift - sum;
+        if diagonal.is_nan() || diagonal <= 0.0 {
+            return false;
+        }
+        let pivot = diagonal.sqrt();
+        a[j * n + j] = pivot;
+        let (upper, lower) = a.split_at_mut((j + 1) * n);
+        let row_j = &upper[j * n..j * n + j];
+        for row_i in lower.chunks_exact_mut(n) {
+            let dot: f64 = row_i[..j].iter().zip(row_j).map(|(a, b)| a * b).sum();
+            row_i[j] = (row_i[j] - dot) / pivot;
+        }
+    }
+    true
+}
