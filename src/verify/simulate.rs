@@ -250,6 +250,8 @@ pub(crate) struct Workspace {
     values: Vec<Block>,
     reach: Vec<Block>,
     stack: Vec<Block>,
+    /// One word per input: a pseudo-random word's inputs before they are spread over the lanes.
+    words: Vec<u64>,
 }
 
 /// An earlier stage of a cell: its netlist, and the slot after the pins its output's word takes.
@@ -296,6 +298,7 @@ impl<'a> Simulator<'a> {
             values: vec![[0; LANES]; self.size],
             reach: vec![[0; LANES]; nodes],
             stack: Vec::with_capacity(self.program.steps.len()),
+            words: vec![0; self.input_count],
         }
     }
 
@@ -320,8 +323,9 @@ impl<'a> Simulator<'a> {
         }
     }
 
-    /// The literal words of the pins for the block of words from `first`.
-    fn literals(&self, first: u64, values: &mut [Block]) {
+    /// The literal words of the pins for the block of words from `first` into `space.values`.
+    fn literals(&self, first: u64, space: &mut Workspace) {
+        let values = &mut space.values;
         match self.coverage {
             Coverage::Exhaustive => {
                 for input in 0..self.input_count {
@@ -333,9 +337,9 @@ impl<'a> Simulator<'a> {
                 }
             }
             Coverage::Random { .. } => {
-                let mut words = vec![0; self.input_count];
+                let words = &mut space.words;
                 for (lane, word) in (first..first + LANES as u64).enumerate() {
-                    self.inputs(word, &mut words);
+                    self.inputs(word, words);
                     for (input, word) in words.iter().enumerate() {
                         values[2 * input][lane] = *word;
                         values[2 * input + 1][lane] = !*word;
@@ -349,7 +353,7 @@ impl<'a> Simulator<'a> {
     /// `word`, in the order the stages compute; `None` where no earlier stage fails it (the output
     /// stage does).
     pub(crate) fn failing_stage(&self, word: u64, bit: u64, check: Check, space: &mut Workspace) -> Option<usize> {
-        self.literals(word, &mut space.values);
+        self.literals(word, space);
         for (index, (stage, placed)) in self.inner.iter().zip(&self.placed).enumerate() {
             let (up, down, shorted) = placed.switch(&mut space.values, &mut space.reach);
             let (up, down, shorted) = (up[0], down[0], shorted[0]);
@@ -370,7 +374,7 @@ impl<'a> Simulator<'a> {
 
     /// The outcome of the [`LANES`] words from `first`.
     pub(crate) fn block(&self, first: u64, space: &mut Workspace) -> BlockOutcome {
-        self.literals(first, &mut space.values);
+        self.literals(first, space);
         // Each earlier stage in order: its output's word is where its pull-up ties it to vdd.
         let mut inner = [[0u64; LANES]; 3];
         let (last, earlier) = self.placed.split_last().expect("the output stage");
