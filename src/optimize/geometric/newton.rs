@@ -356,7 +356,8 @@ impl Problem<'_> {
         }
     }
 
-    /// Constraint `i`'s gradient over its variables ([`Table::touched`] of function `i + 1`).
+    /// Function `f`'s gradient over its variables ([`Table::touched`] of `f`; constraint `i` is
+    /// function `i + 1`).
     fn gradient<'p>(&self, point: &'p Point, f: usize) -> &'p [f64] {
         &point.gradients[self.table.touched_at[f]..self.table.touched_at[f + 1]]
     }
