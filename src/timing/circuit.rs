@@ -159,7 +159,7 @@ pub fn conducting(circuit: &Circuit, edge: Edge, input: usize, after: &[bool]) -
 }
 
 /// The output's component under `after` on `edge` (the first half of [`conducting`]).
-pub fn component(circuit: &Circuit, edge: Edge, after: &[bool]) -> Result<Component, NetworkFault> {
+fn component(circuit: &Circuit, edge: Edge, after: &[bool]) -> Result<Component, NetworkFault> {
     let rail = rail_of(edge.network());
     let old_rail = if rail == VSS { VDD } else { VSS };
     // After: the output's component, not through a rail.
@@ -512,9 +512,9 @@ pub struct Solved {
     factored: rc::Factored,
     capacitance: Vec<f64>,
     /// The output's resistance to the rail as a load sees it, R.
-    pub drive: f64,
+    drive: f64,
     /// Whether the component is a tree rooted at the rail.
-    pub tree: bool,
+    tree: bool,
 }
 
 impl Solved {
