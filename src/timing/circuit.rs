@@ -257,6 +257,11 @@ impl Scratch {
         }
     }
 
+    /// The devices the last [`component_in`] found, 64 a word.
+    pub fn found(&self) -> &[u64] {
+        &self.found
+    }
+
     /// A stamp no node carries yet.
     fn next(&mut self) -> u32 {
         if self.stamp == u32::MAX {
