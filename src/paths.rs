@@ -76,17 +76,17 @@ pub fn weakest(network: &Network, resistance: &[f64]) -> Path {
 
 /// A subtree's weakest path, as [`weakest_table`] holds it.
 #[derive(Debug, Clone, Copy, Default, PartialEq)]
-pub struct Weakest {
+struct Weakest {
     /// The highest resistance of a path through it (what [`highest`] gives): what a parallel group
     /// chooses its branch by.
-    pub highest: f64,
+    highest: f64,
     /// The resistance of the path the rule takes through it, summed along that path.
-    pub path: f64,
+    path: f64,
 }
 
 /// Every subtree's weakest path, by node number: series members add, and a parallel group takes
 /// the branch of the highest resistance (compared by [`key`]), the first of a tie.
-pub fn weakest_table(root: &Node, resistance: &[f64]) -> NodeTable<Weakest> {
+fn weakest_table(root: &Node, resistance: &[f64]) -> NodeTable<Weakest> {
     NodeTable::of(root, |node, members: &[Weakest]| match node {
         Node::Device(index) => Weakest { highest: resistance[*index], path: resistance[*index] },
         Node::Series(_) => {

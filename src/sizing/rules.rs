@@ -43,7 +43,7 @@ pub fn total(network: &Network, rule: Rule, reference: f64) -> f64 {
 }
 
 /// Every subtree's depth (devices on its longest path), by node number.
-pub fn depths(root: &Node) -> NodeTable<usize> {
+fn depths(root: &Node) -> NodeTable<usize> {
     NodeTable::of(root, |node, members: &[usize]| match node {
         Node::Device(_) => 1,
         Node::Series(_) => members.iter().sum(),
@@ -81,7 +81,7 @@ pub fn area_constant(node: &Node) -> f64 {
 
 /// Every subtree's area constant `K`, by node number, in one pass: the same sums, in the same
 /// order, as [`area_constant`].
-pub fn area_constants(root: &Node) -> NodeTable<f64> {
+fn area_constants(root: &Node) -> NodeTable<f64> {
     NodeTable::of(root, |node, members: &[f64]| match node {
         Node::Device(_) => 1.0,
         Node::Parallel(_) => members.iter().sum(),

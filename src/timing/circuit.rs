@@ -159,7 +159,7 @@ pub fn conducting(circuit: &Circuit, edge: Edge, input: usize, after: &[bool]) -
 }
 
 /// The output's component under `after` on `edge` (the first half of [`conducting`]).
-pub fn component(circuit: &Circuit, edge: Edge, after: &[bool]) -> Result<Component, NetworkFault> {
+fn component(circuit: &Circuit, edge: Edge, after: &[bool]) -> Result<Component, NetworkFault> {
     let rail = rail_of(edge.network());
     let old_rail = if rail == VSS { VDD } else { VSS };
     // After: the output's component, not through a rail.
@@ -257,6 +257,11 @@ impl Scratch {
         }
     }
 
+    /// The devices the last [`component_in`] found, 64 a word.
+    pub fn found(&self) -> &[u64] {
+        &self.found
+    }
+
     /// A stamp no node carries yet.
     fn next(&mut self) -> u32 {
         if self.stamp == u32::MAX {
@@ -350,20 +355,22 @@ impl Adjacency {
             position[node] = index;
         }
         let end = |node: usize| if node == component.rail { RAIL_END } else { position[node] as u32 };
+        // Each device from each of its ends: (that end, the far end, its input), in device order;
+        // a device with both ends on one node joins nothing.
+        let device_ends = || {
+            component.devices.iter().flat_map(|&device| {
+                let d = &circuit.devices[device];
+                let (a, b, input) = (end(d.drain), end(d.source), d.input as u32);
+                (a != b).then_some([(a, b, input), (b, a, input)]).into_iter().flatten()
+            })
+        };
         let mut start = vec![0u32; component.nodes.len() + 1];
         let mut rail = Vec::new();
-        for &device in &component.devices {
-            let d = &circuit.devices[device];
-            let (a, b) = (end(d.drain), end(d.source));
-            if a == b {
-                continue;
-            }
-            for (here, other) in [(a, b), (b, a)] {
-                if here == RAIL_END {
-                    rail.push((other, d.input as u32));
-                } else {
-                    start[here as usize + 1] += 1;
-                }
+        for (here, other, input) in device_ends() {
+            if here == RAIL_END {
+                rail.push((other, input));
+            } else {
+                start[here as usize + 1] += 1;
             }
         }
         for index in 1..start.len() {
@@ -371,18 +378,9 @@ impl Adjacency {
         }
         let mut fill = start.clone();
         let mut ends = vec![(0, 0); start[component.nodes.len()] as usize];
-        for &device in &component.devices {
-            let d = &circuit.devices[device];
-            let (a, b) = (end(d.drain), end(d.source));
-            if a == b {
-                continue;
-            }
-            for (here, other) in [(a, b), (b, a)] {
-                if here != RAIL_END {
-                    ends[fill[here as usize] as usize] = (other, d.input as u32);
-                    fill[here as usize] += 1;
-                }
-            }
+        for (here, other, input) in device_ends().filter(|&(here, _, _)| here != RAIL_END) {
+            ends[fill[here as usize] as usize] = (other, input);
+            fill[here as usize] += 1;
         }
         Adjacency { start, ends, rail }
     }
@@ -512,9 +510,9 @@ pub struct Solved {
     factored: rc::Factored,
     capacitance: Vec<f64>,
     /// The output's resistance to the rail as a load sees it, R.
-    pub drive: f64,
+    drive: f64,
     /// Whether the component is a tree rooted at the rail.
-    pub tree: bool,
+    tree: bool,
 }
 
 impl Solved {

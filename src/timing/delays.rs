@@ -67,16 +67,19 @@ pub fn transition_error(stage: &SizedStage, input: usize, edge: Edge, error: Tra
     }
 }
 
+/// One input's worst transition on one edge: the input, the edge, its load in C and the transition
+/// (`None` where the input has none on that edge).
+pub type Found = (usize, Edge, f64, Option<Transition>);
+
 /// Every input's worst transition on both edges (input by input, fall then rise) under
 /// `conditions`, with its load in C; `None` where the input has none on that edge. The circuit
 /// they were timed in comes with them.
-#[allow(clippy::type_complexity)]
 pub fn worst_transitions(
     stage: &SizedStage,
     plan: &Plan,
     conditions: &Conditions,
     meter: &Meter,
-) -> Result<(Circuit, Vec<(usize, Edge, f64, Option<Transition>)>), TimingError> {
+) -> Result<(Circuit, Vec<Found>), TimingError> {
     let occurrences = stage.function.literals.len();
     if occurrences > MAX_TIMED_OCCURRENCES {
         return Err(TimingError::TooLargeToTime { count: occurrences, limit: MAX_TIMED_OCCURRENCES });
@@ -92,7 +95,6 @@ pub fn worst_transitions(
 /// in one pass over the vectors ([`Rule::worst_of`]). A network fault (an internal inconsistency)
 /// is looked for again input by input, so that its error names the input and edge the rule meets
 /// it at.
-#[allow(clippy::type_complexity)]
 fn every_worst(
     stage: &SizedStage,
     plan: &Plan,
@@ -100,7 +102,7 @@ fn every_worst(
     widths: &[f64],
     loads: &[f64],
     meter: &Meter,
-) -> Result<Vec<(usize, Edge, f64, Option<Transition>)>, TimingError> {
+) -> Result<Vec<Found>, TimingError> {
     let inputs: Vec<(usize, f64)> = loads.iter().copied().enumerate().collect();
     let mut rule = Rule::new(stage, plan, circuit, widths, meter)?;
     let mut scan = |edge: Edge| match rule.worst_of(edge, &inputs, meter) {
@@ -120,14 +122,13 @@ fn every_worst(
 
 /// The rule input by input, on a meter of its own: where a network fault is met, the error of the
 /// first input and edge that meets it.
-#[allow(clippy::type_complexity)]
 fn one_by_one(
     stage: &SizedStage,
     plan: &Plan,
     circuit: &Circuit,
     widths: &[f64],
     loads: &[f64],
-) -> Result<Vec<(usize, Edge, f64, Option<Transition>)>, TimingError> {
+) -> Result<Vec<Found>, TimingError> {
     let meter = Meter::unlimited();
     let mut rule = Rule::new(stage, plan, circuit, widths, &meter)?;
     let mut found = Vec::with_capacity(2 * loads.len());

@@ -194,17 +194,7 @@ pub struct Factored {
 }
 
 impl Factored {
-    /// How many nodes the network has (the length of a right-hand side).
-    pub fn len(&self) -> usize {
-        self.count
-    }
-
-    /// Whether the network has no node.
-    pub fn is_empty(&self) -> bool {
-        self.count == 0
-    }
-
-    /// Solve `G x = right` in place. `right` has one entry per node ([`Factored::len`]).
+    /// Solve `G x = right` in place. `right` has one entry per node of the network.
     pub fn solve(&self, right: &mut [f64]) {
         for update in &self.forward {
             right[update.first] -= update.a * right[update.node] / update.pivot;
@@ -221,7 +211,7 @@ impl Factored {
 /// A series-parallel network (every static CMOS network is one) always has a node of degree two or
 /// less, and eliminating it joins only its two neighbours, so the work is linear in its size up to
 /// a scan of the queue's words (a bit set of the nodes of each degree).
-pub fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
+fn factor(network: &RcNetwork) -> Result<Factored, RcError> {
     network.check_resistors()?;
     network.check_joined()?;
     Ok(eliminate(network))

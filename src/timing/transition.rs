@@ -290,14 +290,10 @@ impl<'a> Rule<'a> {
                         None => {
                             let after = after_of(on_set, input_count, kind);
                             let component = component_in(circuit, edge, &after, &mut self.scratch)?;
-                            let mut on = vec![0u64; circuit.devices.len().div_ceil(64)];
-                            for &device in &component.devices {
-                                on[device / 64] |= 1 << (device % 64);
-                            }
+                            let on: Box<[u64]> = self.scratch.found().into();
                             let adjacency = Adjacency::of(circuit, &component, &mut self.scratch);
                             let next = self.components.len();
-                            let number =
-                                *self.components.entry((component.rail, on.into_boxed_slice())).or_insert(next);
+                            let number = *self.components.entry((component.rail, on)).or_insert(next);
                             here.insert(OnSet { after, component, adjacency, number, solved: None })
                         }
                     };

@@ -2,12 +2,20 @@
 
 use predicates::prelude::*;
 
+use super::batch::records;
 use super::widthwise;
 
 fn json(args: &[&str]) -> serde_json::Value {
     let output = widthwise().args(args).output().unwrap();
     assert!(output.status.success(), "{args:?}: {}", String::from_utf8_lossy(&output.stderr));
     serde_json::from_slice(&output.stdout).unwrap()
+}
+
+/// The CSV a successful run writes: its header and its rows by column name.
+fn csv(args: &[&str]) -> (Vec<String>, Vec<std::collections::HashMap<String, String>>) {
+    let output = widthwise().args(args).output().unwrap();
+    assert!(output.status.success(), "{args:?}: {}", String::from_utf8_lossy(&output.stderr));
+    records(&output.stdout)
 }
 
 #[test]
@@ -58,12 +66,9 @@ fn elmore_method_sizes_or_says_it_cannot() {
 
 #[test]
 fn csv_delay_rows_one_per_input_and_edge() {
-    let output = widthwise().args(["size", "aoi21", "--format", "csv", "--rows", "delays"]).output().unwrap();
-    assert!(output.status.success());
-    let mut reader = csv::Reader::from_reader(output.stdout.as_slice());
-    let headers = reader.headers().unwrap().clone();
+    let (headers, rows) = csv(&["size", "aoi21", "--format", "csv", "--rows", "delays"]);
     assert_eq!(&headers[5], "elmore_rc");
-    assert_eq!(reader.records().count(), 6);
+    assert_eq!(rows.len(), 6);
 }
 
 #[test]
@@ -71,26 +76,19 @@ fn delay_rows_list_the_side_inputs_only() {
     // A NAND2 input switches the output on either edge only with the other input at 1 (common
     // practice, no source): each row names that side input; the switching input's own level is
     // the edge's (docs/model.md section 7). JSON keeps the whole vector.
-    let output = widthwise().args(["size", "nand2", "--format", "csv", "--rows", "delays"]).output().unwrap();
-    assert!(output.status.success());
-    let mut reader = csv::Reader::from_reader(output.stdout.as_slice());
-    let headers = reader.headers().unwrap().clone();
-    let column = |name: &str| headers.iter().position(|h| h == name).unwrap();
-    let (input, side) = (column("input"), column("side_inputs"));
-    let rows: Vec<(String, String)> =
-        reader.records().map(|r| r.unwrap()).map(|r| (r[input].to_string(), r[side].to_string())).collect();
+    let (headers, rows) = csv(&["size", "nand2", "--format", "csv", "--rows", "delays"]);
+    assert!(["input", "side_inputs"].iter().all(|name| headers.iter().any(|h| h == name)), "{headers:?}");
     assert_eq!(rows.len(), 4);
-    for (input, side) in &rows {
-        assert_eq!(side, if input == "a" { "b=1" } else { "a=1" });
+    for row in &rows {
+        assert_eq!(row["side_inputs"], if row["input"] == "a" { "b=1" } else { "a=1" });
     }
     let gate = json(&["size", "nand2", "--delays", "--format", "json"]);
     let a_fall = gate["delays"].as_array().unwrap().iter().find(|d| d["input"] == "a" && d["edge"] == "fall").unwrap();
     assert_eq!((a_fall["vector"]["a"].as_u64(), a_fall["vector"]["b"].as_u64()), (Some(1), Some(1)));
     // An inverter has no side input: an empty CSV cell, a dash in the table.
-    let output = widthwise().args(["size", "inv", "--format", "csv", "--rows", "delays"]).output().unwrap();
-    let mut reader = csv::Reader::from_reader(output.stdout.as_slice());
-    let side = reader.headers().unwrap().iter().position(|h| h == "side_inputs").unwrap();
-    assert!(reader.records().all(|r| r.unwrap()[side].is_empty()));
+    let (headers, rows) = csv(&["size", "inv", "--format", "csv", "--rows", "delays"]);
+    assert!(headers.iter().any(|h| h == "side_inputs"), "{headers:?}");
+    assert!(rows.iter().all(|row| row["side_inputs"].is_empty()));
     let table = widthwise().args(["size", "nand2", "--delays"]).output().unwrap();
     let table = String::from_utf8(table.stdout).unwrap();
     let rows = table.split_once("side inputs").map(|(_, rows)| rows).unwrap_or_default();
