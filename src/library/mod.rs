@@ -99,8 +99,7 @@ pub struct Library {
     /// Names that would clash in the output, found by the first pass.
     clashes: Vec<GateProblem>,
     /// The plans the first pass kept, by index: every table longer than [`KEEP_PLANS_OVER`], and
-    /// the others within [`KEEP_PLANS_BYTES`].
-    /// from the first pass rather than read twice.
+    /// the others within [`KEEP_PLANS_BYTES`], rather than read twice.
     kept: Vec<(usize, Arc<GatePlan>)>,
 }
 
