@@ -411,7 +411,7 @@ pub fn run(args: Args) -> Result<(), Error> {
     let library = read(&source, directory.as_deref(), &overrides)?;
     let clashes = library.name_clashes();
     if !clashes.is_empty() {
-        for clash in &clashes {
+        for clash in clashes {
             diagnose(&clash.render(&source));
         }
         return Err(Error::NameClashes { count: clashes.len() });

@@ -310,8 +310,8 @@ impl Library {
     /// Names that would clash in the output, each reported at its second use: a gate name used
     /// twice, or a drive listed twice in one gate (two variants of one name). Variants of distinct
     /// gates cannot clash: `<name>_x<drive>` is unique for distinct names (see [`names::drive_suffix`]).
-    pub fn name_clashes(&self) -> Vec<GateProblem> {
-        self.clashes.clone()
+    pub fn name_clashes(&self) -> &[GateProblem] {
+        &self.clashes
     }
 }
 
