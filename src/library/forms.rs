@@ -4,6 +4,7 @@
 //! model names are the batch's), a bounded number at a time.
 
 use std::collections::HashMap;
+use std::fmt::Write as _;
 use std::sync::Arc;
 
 use crate::diagnostic::{Span, escaped};
@@ -44,8 +45,7 @@ impl Forms {
         let pull_up = plan.pull_up.as_ref().map(|p| p.text.as_str());
         // The expression's length first, so that no expression and pull-up run into another's.
         self.key.clear();
-        self.key.push_str(&plan.expression.len().to_string());
-        self.key.push(':');
+        let _ = write!(self.key, "{}:", plan.expression.len());
         self.key.push_str(&plan.expression);
         if let Some(text) = pull_up {
             self.key.push('|');
