@@ -124,17 +124,7 @@ fn synthesized(expression: &str, pull_up: Option<&str>, process: &Process) -> Re
 mod tests {
     use super::*;
     use crate::diagnostic::Source;
-    use crate::library::{Library, Overrides};
-
-    fn library(text: &str) -> Library {
-        let mut no_files = |path: &std::path::Path| {
-            Err(crate::io::InputError::Unreadable {
-                path: path.to_path_buf(),
-                source: std::io::ErrorKind::NotFound.into(),
-            })
-        };
-        Library::read(&Source::file("lib.toml", text), None, &Overrides::default(), &mut no_files).unwrap()
-    }
+    use crate::library::tests::library;
 
     #[test]
     fn a_function_is_synthesized_once_and_its_problems_placed_per_gate() {

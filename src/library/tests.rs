@@ -20,7 +20,8 @@ fn size_gate(plan: &GatePlan) -> Result<Vec<SizedCell>, GateProblem> {
     plan.drives.iter().map(|&drive| size_form(plan, &forms, drive, &process)).collect()
 }
 
-fn library(text: &str) -> Library {
+/// The library `text`, read as the command reads it (a file `lib.toml`, process files from `.`).
+pub(super) fn library(text: &str) -> Library {
     read(&Source::file("lib.toml", text)).unwrap()
 }
 
