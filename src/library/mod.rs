@@ -25,6 +25,7 @@ mod reuse;
 mod scan;
 mod table;
 
+use std::borrow::Cow;
 use std::collections::HashMap;
 use std::io;
 use std::ops::Range;
@@ -522,14 +523,12 @@ pub(crate) fn size_all_keeping(
                 let failure = if verified {
                     None
                 } else {
-                    let renamed;
                     let figures = if variant.is_own() {
-                        variant.shared.figures()
+                        Cow::Borrowed(variant.shared.figures())
                     } else {
-                        renamed = variant.figures();
-                        &renamed
+                        Cow::Owned(variant.figures())
                     };
-                    match verify::verify(figures, options) {
+                    match verify::verify(&figures, options) {
                         Ok(result) => result.outcome().err().map(|error| error.to_string()),
                         Err(error) => Some(format!("'{}' cannot be verified: {error}", variant.name)),
                     }
