@@ -212,8 +212,7 @@ impl Library {
         let range = self.tables[index].clone();
         let value = table::read(self.source.text(), range.clone(), self.inline).map_err(|unreadable| {
             // A message without a place points at the table's first character.
-            let start = range.start + self.source.text()[range.clone()].len()
-                - self.source.text()[range.clone()].trim_start().len();
+            let start = range.end - self.source.text()[range.clone()].trim_start().len();
             GateProblem {
                 number,
                 name: unreadable.name,
