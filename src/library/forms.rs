@@ -14,7 +14,7 @@ use crate::process::Process;
 
 /// Most distinct functions kept at once; past it one is dropped for each new one, so memory stays
 /// bounded however many distinct functions a library has.
-pub(crate) const MAX_KEPT: usize = 1024;
+const MAX_KEPT: usize = 1024;
 
 /// Why a function has no forms, without the places of the gate it was written in.
 #[derive(Debug, Clone)]
