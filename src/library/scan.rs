@@ -165,13 +165,16 @@ fn header(text: &str, position: usize) -> Option<(Opens, bool)> {
     let bytes = text.as_bytes();
     let double = bytes.get(position + 1) == Some(&b'[');
     let mut at = position + if double { 2 } else { 1 };
-    let mut keys: Vec<std::borrow::Cow<'_, str>> = Vec::new();
+    // The first key and how many there are: all a header's kind depends on.
+    let mut first: Option<std::borrow::Cow<'_, str>> = None;
+    let mut count = 0usize;
     let mut bare = true;
     loop {
         at = skip_blanks(bytes, at);
         let (key, end, is_bare) = simple_key(text, at)?;
         bare &= is_bare;
-        keys.push(key);
+        first.get_or_insert(key);
+        count += 1;
         at = skip_blanks(bytes, end);
         if bytes.get(at) != Some(&b'.') {
             break;
@@ -189,10 +192,10 @@ fn header(text: &str, position: usize) -> Option<(Opens, bool)> {
         _ => return None,
     }
     // A value word may start a line of an open array: a header of such keys ends nothing there.
-    let first = &keys[0];
+    let first = first?;
     let value_word = matches!(first.as_ref(), "true" | "false" | "inf" | "nan")
         || !first.starts_with(|c: char| c.is_ascii_alphabetic() || c == '_');
-    let opens = match (double, keys.len(), first.as_ref()) {
+    let opens = match (double, count, first.as_ref()) {
         (true, 1, "gate") => Opens::Gate,
         (_, _, "gate") => Opens::UnderGate,
         _ => Opens::Other,
