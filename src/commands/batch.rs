@@ -2,6 +2,7 @@
 //! CSV, JSON or SPICE library. A bad gate is reported on stderr as it is found (through the
 //! diagnostic renderer) and the others are still written.
 
+use std::borrow::Cow;
 use std::io::{self, Write};
 use std::path::{Path, PathBuf};
 
@@ -266,14 +267,12 @@ fn write_schematics(
     let mut emit = |chunk: &[NamedCell]| {
         for variant in chunk {
             // The cell and figures of another variant of the same key are its own but for the name.
-            let renamed;
             let (cell, figures) = if variant.is_own() {
-                (variant.shared.cell(), variant.shared.figures())
+                (Cow::Borrowed(variant.shared.cell()), Cow::Borrowed(variant.shared.figures()))
             } else {
-                renamed = (variant.cell(), variant.figures());
-                (&renamed.0, &renamed.1)
+                (Cow::Owned(variant.cell()), Cow::Owned(variant.figures()))
             };
-            let written = schematic_cell::layout(cell, figures).map_err(Error::from).and_then(|layout| {
+            let written = schematic_cell::layout(&cell, &figures).map_err(Error::from).and_then(|layout| {
                 let path = folder.join(format!("{}.svg", cell.name));
                 crate::io::write_atomically(&path, |out| layout.write_svg(out)).map_err(Error::from)
             });
@@ -411,7 +410,7 @@ pub fn run(args: Args) -> Result<(), Error> {
     let library = read(&source, directory.as_deref(), &overrides)?;
     let clashes = library.name_clashes();
     if !clashes.is_empty() {
-        for clash in &clashes {
+        for clash in clashes {
             diagnose(&clash.render(&source));
         }
         return Err(Error::NameClashes { count: clashes.len() });

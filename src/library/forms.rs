@@ -4,6 +4,7 @@
 //! model names are the batch's), a bounded number at a time.
 
 use std::collections::HashMap;
+use std::fmt::Write as _;
 use std::sync::Arc;
 
 use crate::diagnostic::{Span, escaped};
@@ -13,7 +14,7 @@ use crate::process::Process;
 
 /// Most distinct functions kept at once; past it one is dropped for each new one, so memory stays
 /// bounded however many distinct functions a library has.
-pub(crate) const MAX_KEPT: usize = 1024;
+const MAX_KEPT: usize = 1024;
 
 /// Why a function has no forms, without the places of the gate it was written in.
 #[derive(Debug, Clone)]
@@ -44,8 +45,7 @@ impl Forms {
         let pull_up = plan.pull_up.as_ref().map(|p| p.text.as_str());
         // The expression's length first, so that no expression and pull-up run into another's.
         self.key.clear();
-        self.key.push_str(&plan.expression.len().to_string());
-        self.key.push(':');
+        let _ = write!(self.key, "{}:", plan.expression.len());
         self.key.push_str(&plan.expression);
         if let Some(text) = pull_up {
             self.key.push('|');
@@ -124,17 +124,7 @@ fn synthesized(expression: &str, pull_up: Option<&str>, process: &Process) -> Re
 mod tests {
     use super::*;
     use crate::diagnostic::Source;
-    use crate::library::{Library, Overrides};
-
-    fn library(text: &str) -> Library {
-        let mut no_files = |path: &std::path::Path| {
-            Err(crate::io::InputError::Unreadable {
-                path: path.to_path_buf(),
-                source: std::io::ErrorKind::NotFound.into(),
-            })
-        };
-        Library::read(&Source::file("lib.toml", text), None, &Overrides::default(), &mut no_files).unwrap()
-    }
+    use crate::library::tests::library;
 
     #[test]
     fn a_function_is_synthesized_once_and_its_problems_placed_per_gate() {

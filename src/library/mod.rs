@@ -25,6 +25,7 @@ mod reuse;
 mod scan;
 mod table;
 
+use std::borrow::Cow;
 use std::collections::HashMap;
 use std::io;
 use std::ops::Range;
@@ -99,8 +100,7 @@ pub struct Library {
     /// Names that would clash in the output, found by the first pass.
     clashes: Vec<GateProblem>,
     /// The plans the first pass kept, by index: every table longer than [`KEEP_PLANS_OVER`], and
-    /// the others within [`KEEP_PLANS_BYTES`].
-    /// from the first pass rather than read twice.
+    /// the others within [`KEEP_PLANS_BYTES`], rather than read twice.
     kept: Vec<(usize, Arc<GatePlan>)>,
 }
 
@@ -212,8 +212,7 @@ impl Library {
         let range = self.tables[index].clone();
         let value = table::read(self.source.text(), range.clone(), self.inline).map_err(|unreadable| {
             // A message without a place points at the table's first character.
-            let start = range.start + self.source.text()[range.clone()].len()
-                - self.source.text()[range.clone()].trim_start().len();
+            let start = range.end - self.source.text()[range.clone()].trim_start().len();
             GateProblem {
                 number,
                 name: unreadable.name,
@@ -311,8 +310,8 @@ impl Library {
     /// Names that would clash in the output, each reported at its second use: a gate name used
     /// twice, or a drive listed twice in one gate (two variants of one name). Variants of distinct
     /// gates cannot clash: `<name>_x<drive>` is unique for distinct names (see [`names::drive_suffix`]).
-    pub fn name_clashes(&self) -> Vec<GateProblem> {
-        self.clashes.clone()
+    pub fn name_clashes(&self) -> &[GateProblem] {
+        &self.clashes
     }
 }
 
@@ -523,14 +522,12 @@ pub(crate) fn size_all_keeping(
                 let failure = if verified {
                     None
                 } else {
-                    let renamed;
                     let figures = if variant.is_own() {
-                        variant.shared.figures()
+                        Cow::Borrowed(variant.shared.figures())
                     } else {
-                        renamed = variant.figures();
-                        &renamed
+                        Cow::Owned(variant.figures())
                     };
-                    match verify::verify(figures, options) {
+                    match verify::verify(&figures, options) {
                         Ok(result) => result.outcome().err().map(|error| error.to_string()),
                         Err(error) => Some(format!("'{}' cannot be verified: {error}", variant.name)),
                     }

@@ -9,7 +9,7 @@ use std::borrow::Cow;
 use std::ops::Range;
 
 use toml::Spanned;
-use toml::de::{DeArray, DeTable, DeValue};
+use toml::de::{DeTable, DeValue};
 
 const HEADER: &str = "[[gate]]";
 
@@ -197,21 +197,12 @@ fn parsed(text: &str, span: Range<usize>) -> Option<Spanned<DeValue<'_>>> {
     if value.span() != (0..span.len()) {
         return None;
     }
-    match value.into_inner() {
-        number @ (DeValue::Integer(_) | DeValue::Float(_)) => Some(Spanned::new(span, number)),
-        DeValue::Array(items) => {
-            let mut array = DeArray::new();
-            for item in items {
-                if !matches!(item.get_ref(), DeValue::Integer(_) | DeValue::Float(_)) {
-                    return None;
-                }
-                let place = item.span();
-                array.push(Spanned::new(place.start + span.start..place.end + span.start, item.into_inner()));
-            }
-            Some(Spanned::new(span, DeValue::Array(array)))
-        }
-        _ => None,
-    }
+    let numbers = |item: &Spanned<DeValue<'_>>| matches!(item.get_ref(), DeValue::Integer(_) | DeValue::Float(_));
+    let plain = match value.get_ref() {
+        DeValue::Array(items) => items.iter().all(numbers),
+        _ => numbers(&value),
+    };
+    plain.then(|| super::table::shifted(value, span.start))
 }
 
 #[cfg(test)]

@@ -191,20 +191,11 @@ fn text(key: &mut Vec<u8>, text: Option<&str>) {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::diagnostic::Source;
     use crate::library::plan::PullUpPlace;
-    use crate::library::{Library, Overrides};
+    use crate::library::tests::library;
 
     fn gate() -> (GatePlan, Arc<Process>) {
-        let mut no_files = |path: &std::path::Path| {
-            Err(crate::io::InputError::Unreadable {
-                path: path.to_path_buf(),
-                source: std::io::ErrorKind::NotFound.into(),
-            })
-        };
-        let text = "[[gate]]\nname = \"g\"\nexpr = \"!(a & b | c)\"\n";
-        let library =
-            Library::read(&Source::file("lib.toml", text), None, &Overrides::default(), &mut no_files).unwrap();
+        let library = library("[[gate]]\nname = \"g\"\nexpr = \"!(a & b | c)\"\n");
         (library.gate(0).unwrap(), Arc::clone(&library.process))
     }
 

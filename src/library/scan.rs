@@ -165,13 +165,16 @@ fn header(text: &str, position: usize) -> Option<(Opens, bool)> {
     let bytes = text.as_bytes();
     let double = bytes.get(position + 1) == Some(&b'[');
     let mut at = position + if double { 2 } else { 1 };
-    let mut keys: Vec<std::borrow::Cow<'_, str>> = Vec::new();
+    // The first key and how many there are: all a header's kind depends on.
+    let mut first: Option<std::borrow::Cow<'_, str>> = None;
+    let mut count = 0usize;
     let mut bare = true;
     loop {
         at = skip_blanks(bytes, at);
         let (key, end, is_bare) = simple_key(text, at)?;
         bare &= is_bare;
-        keys.push(key);
+        first.get_or_insert(key);
+        count += 1;
         at = skip_blanks(bytes, end);
         if bytes.get(at) != Some(&b'.') {
             break;
@@ -189,10 +192,10 @@ fn header(text: &str, position: usize) -> Option<(Opens, bool)> {
         _ => return None,
     }
     // A value word may start a line of an open array: a header of such keys ends nothing there.
-    let first = &keys[0];
+    let first = first?;
     let value_word = matches!(first.as_ref(), "true" | "false" | "inf" | "nan")
         || !first.starts_with(|c: char| c.is_ascii_alphabetic() || c == '_');
-    let opens = match (double, keys.len(), first.as_ref()) {
+    let opens = match (double, count, first.as_ref()) {
         (true, 1, "gate") => Opens::Gate,
         (_, _, "gate") => Opens::UnderGate,
         _ => Opens::Other,
@@ -243,6 +246,13 @@ mod tests {
         )
     }
 
+    /// `text` cut into exactly `gates` and `others`.
+    #[track_caller]
+    fn assert_cut(text: &str, gates: &[&str], others: &[&str]) {
+        let (found_gates, found_others) = pieces(text);
+        assert_eq!((found_gates.as_slice(), found_others.as_slice()), (gates, others), "{text:?}");
+    }
+
     #[test]
     fn gate_tables_are_cut_at_their_header_lines() {
         let text =
@@ -261,12 +271,13 @@ mod tests {
         // `[gate.x]` after `[[gate]]` is a table in that gate's last element; `[defaults]` is a
         // top-level table wherever it is (TOML 1.0 specification (toml.io), from memory).
         let text = "[[gate]]\nname = \"a\"\n[gate.extra]\nk = 1\n[defaults]\ndrive = 1\n[[ \"gate\" ]]\nname = \"b\"\n";
-        let (gates, others) = pieces(text);
-        assert_eq!(gates, ["[[gate]]\nname = \"a\"\n[gate.extra]\nk = 1\n", "[[ \"gate\" ]]\nname = \"b\"\n"]);
-        assert_eq!(others, ["[defaults]\ndrive = 1\n"]);
+        assert_cut(
+            text,
+            &["[[gate]]\nname = \"a\"\n[gate.extra]\nk = 1\n", "[[ \"gate\" ]]\nname = \"b\"\n"],
+            &["[defaults]\ndrive = 1\n"],
+        );
         // A table under gate before any gate is the rest's (the TOML reader refuses it there).
-        let (gates, others) = pieces("[gate.x]\nk = 1\n[[gate]]\n");
-        assert_eq!((gates, others), (vec!["[[gate]]\n"], vec!["[gate.x]\nk = 1\n"]));
+        assert_cut("[gate.x]\nk = 1\n[[gate]]\n", &["[[gate]]\n"], &["[gate.x]\nk = 1\n"]);
     }
 
     #[test]
@@ -293,14 +304,10 @@ mod tests {
         // `[[gate]]` and `[defaults]` are no values (bare words), so they end an array left open;
         // `[[1]]` and `[true]` are values, and stay in it.
         let text = "[[gate]]\ndrive = [1,\n[[1]]\n[true]\n[[gate]]\nname = \"b\"\n[defaults]\n";
-        let (gates, others) = pieces(text);
-        assert_eq!(gates, ["[[gate]]\ndrive = [1,\n[[1]]\n[true]\n", "[[gate]]\nname = \"b\"\n"]);
-        assert_eq!(others, ["[defaults]\n"]);
+        assert_cut(text, &["[[gate]]\ndrive = [1,\n[[1]]\n[true]\n", "[[gate]]\nname = \"b\"\n"], &["[defaults]\n"]);
         // At the top level a header-like line that is no header is the rest's (the reader says why).
-        let (gates, others) = pieces("[[gate]\nname = \"x\"\n[[gate]]\n");
-        assert_eq!((gates, others), (vec!["[[gate]]\n"], vec!["[[gate]\nname = \"x\"\n"]));
-        let (gates, others) = pieces("[[gate]] x\n");
-        assert_eq!((gates.len(), others), (0, vec!["[[gate]] x\n"]));
+        assert_cut("[[gate]\nname = \"x\"\n[[gate]]\n", &["[[gate]]\n"], &["[[gate]\nname = \"x\"\n"]);
+        assert_cut("[[gate]] x\n", &[], &["[[gate]] x\n"]);
     }
 
     #[test]

@@ -20,7 +20,8 @@ fn size_gate(plan: &GatePlan) -> Result<Vec<SizedCell>, GateProblem> {
     plan.drives.iter().map(|&drive| size_form(plan, &forms, drive, &process)).collect()
 }
 
-fn library(text: &str) -> Library {
+/// The library `text`, read as the command reads it (a file `lib.toml`, process files from `.`).
+pub(super) fn library(text: &str) -> Library {
     read(&Source::file("lib.toml", text)).unwrap()
 }
 
@@ -137,7 +138,8 @@ fn duplicate_names_and_drives_are_clashes() {
     assert_eq!(clashes.len(), 1);
     assert!(clashes[0].message.contains("gate 1"));
     let text = "[[gate]]\nname = \"g\"\nexpr = \"inv\"\ndrive = [1, 2, 1.0]\n";
-    let clashes = library(text).name_clashes();
+    let lib = library(text);
+    let clashes = lib.name_clashes();
     assert_eq!(clashes.len(), 1);
     let rendered = clashes[0].render(&Source::file("lib.toml", text));
     assert!(rendered.contains("subcircuit 'g_x1'") && rendered.contains("line 4, column 16"), "{rendered}");
