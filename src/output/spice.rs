@@ -163,20 +163,5 @@ fn push_mosfet_line(
     for part in [" L=", length, " m="] {
         out.push_str(part);
     }
-    out.push_str(itoa(fingers, &mut [0; 20]));
-}
-
-/// A count's decimal digits, written in `buffer`.
-fn itoa(count: usize, buffer: &mut [u8; 20]) -> &str {
-    let mut start = buffer.len();
-    let mut rest = count;
-    loop {
-        start -= 1;
-        buffer[start] = b'0' + (rest % 10) as u8;
-        rest /= 10;
-        if rest == 0 {
-            break;
-        }
-    }
-    std::str::from_utf8(&buffer[start..]).unwrap_or("0")
+    out.push_str(number::decimal_digits(fingers as u64, &mut [0; 20]));
 }
