@@ -200,16 +200,7 @@ impl Lines {
     /// A count, as an integer.
     fn count(&mut self, count: usize) {
         self.separator();
-        let start = self.text.len();
-        let mut rest = count;
-        loop {
-            self.text.push(b'0' + (rest % 10) as u8);
-            rest /= 10;
-            if rest == 0 {
-                break;
-            }
-        }
-        self.text[start..].reverse();
+        self.text.extend_from_slice(crate::number::decimal_digits(count as u64, &mut [0; 20]).as_bytes());
     }
 
     /// Cells written already (a variant's first cells, the same on each of its rows).
