@@ -55,16 +55,9 @@ pub fn write_subcircuit(gate: &CellFigures, process: &Process, out: &mut dyn Wri
 
 /// One gate's `.subckt ... .ends`, appended to `out`.
 pub fn push_subcircuit(gate: &CellFigures, process: &Process, out: &mut Vec<u8>) {
-    let mut text = Vec::new();
-    let mut holes = Vec::with_capacity(3);
-    push_unnamed_subcircuit(gate, process, &mut text, &mut holes);
-    let mut start = 0;
-    for &hole in &holes {
-        out.extend_from_slice(&text[start..hole]);
-        out.extend_from_slice(gate.name.as_bytes());
-        start = hole;
-    }
-    out.extend_from_slice(&text[start..]);
+    let mut template = super::Template::default();
+    push_unnamed_subcircuit(gate, process, &mut template.text, &mut template.holes);
+    template.fill(gate.name.as_bytes(), out);
 }
 
 /// One gate's `.subckt ... .ends` without its name, appended to `out`, with the places in `out`
