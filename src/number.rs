@@ -51,11 +51,6 @@ pub fn push(out: &mut String, value: f64) {
     out.push_str(Text::new().str_of(value));
 }
 
-/// Append the text of `value` to `out` as bytes (see [`format`]).
-pub fn push_bytes(out: &mut Vec<u8>, value: f64) {
-    out.extend_from_slice(Text::new().of(value));
-}
-
 /// Most bytes a number's text takes: a sign, `0.0000` and ten digits, or ten digits, a point and
 /// an exponent (`-1.234567891e-308`).
 const MOST_BYTES: usize = 24;
