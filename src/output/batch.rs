@@ -44,7 +44,8 @@ enum Sink<'a> {
     Csv(Box<CsvView<&'a mut dyn Write>>),
     /// JSON or SPICE: a chunk's text put together in `buffer`, then written to `out` in one piece;
     /// the text of each shared cell without its name kept by its id, for its other variants.
-    Text { format: Format, out: &'a mut dyn Write, buffer: Vec<u8>, json: Option<JsonGates>, kept: Kept },
+    /// (`name`: a variant's name as a JSON string.)
+    Text { format: Format, out: &'a mut dyn Write, buffer: Vec<u8>, json: Option<JsonGates>, kept: Kept, name: Vec<u8> },
     /// The table's rows and calibration sections, kept until the end.
     Table { out: &'a mut dyn Write, table: SummaryTable, sections: Vec<u8> },
 }
@@ -71,7 +72,7 @@ impl<'a> BatchWriter<'a> {
                 };
                 out.write_all(&buffer)?;
                 buffer.clear();
-                Sink::Text { format, out, buffer, json, kept: Kept::default() }
+                Sink::Text { format, out, buffer, json, kept: Kept::default(), name: Vec::new() }
             }
         };
         Ok(BatchWriter { process, sink, written: false })
@@ -84,7 +85,7 @@ impl<'a> BatchWriter<'a> {
         match &mut self.sink {
             Sink::Csv(view) => view.write_named(chunk)?,
             Sink::Table { table, .. } => table.add_named(chunk),
-            Sink::Text { out, buffer, json, kept, .. } => {
+            Sink::Text { out, buffer, json, kept, name, .. } => {
                 for (index, cell) in chunk.iter().enumerate() {
                     let first = !self.written && index == 0;
                     if cell.is_own() {
@@ -107,9 +108,9 @@ impl<'a> BatchWriter<'a> {
                         match json {
                             Some(_) => {
                                 buffer.extend_from_slice(if first { b"\n" } else { b",\n" });
-                                let mut name = Vec::with_capacity(cell.name.len() + 2);
-                                json::write_compact(&cell.name, &mut name)?;
-                                template.fill(&name, buffer);
+                                name.clear();
+                                json::write_compact(&cell.name, &mut *name)?;
+                                template.fill(name, buffer);
                             }
                             None => {
                                 buffer.push(b'\n');
