@@ -51,11 +51,6 @@ pub fn push(out: &mut String, value: f64) {
     out.push_str(Text::new().str_of(value));
 }
 
-/// Append the text of `value` to `out` as bytes (see [`format`]).
-pub fn push_bytes(out: &mut Vec<u8>, value: f64) {
-    out.extend_from_slice(Text::new().of(value));
-}
-
 /// Most bytes a number's text takes: a sign, `0.0000` and ten digits, or ten digits, a point and
 /// an exponent (`-1.234567891e-308`).
 const MOST_BYTES: usize = 24;
@@ -142,6 +137,23 @@ impl Text {
         self.bytes[..length].copy_from_slice(&text.as_bytes()[..length]);
         &self.bytes[..length]
     }
+}
+
+/// The decimal digits of `count` (no sign, no leading zero; `0` for zero), written at the end of
+/// `buffer`.
+pub fn decimal_digits(count: u64, buffer: &mut [u8; 20]) -> &str {
+    let mut start = buffer.len();
+    let mut rest = count;
+    loop {
+        start -= 1;
+        buffer[start] = b'0' + (rest % 10) as u8;
+        rest /= 10;
+        if rest == 0 {
+            break;
+        }
+    }
+    // Every byte written is an ASCII digit.
+    std::str::from_utf8(&buffer[start..]).unwrap_or("0")
 }
 
 /// Slots of [`Texts`]: a value's bits pick its slot.
@@ -236,16 +248,10 @@ impl Decimal {
     /// The decimal `integer / 10^places` (`integer` below 1e10, not zero).
     fn of_integer(integer: u64, places: i32) -> Decimal {
         let mut decimal = Decimal { digits: [0; 20], len: 0, exponent: 0 };
-        let mut reversed = [0u8; 20];
-        let mut rest = integer;
-        while rest > 0 {
-            reversed[decimal.len] = b'0' + (rest % 10) as u8;
-            rest /= 10;
-            decimal.len += 1;
-        }
-        for place in 0..decimal.len {
-            decimal.digits[place] = reversed[decimal.len - 1 - place];
-        }
+        let mut text = [0; 20];
+        let text = decimal_digits(integer, &mut text).as_bytes();
+        decimal.len = text.len();
+        decimal.digits[..text.len()].copy_from_slice(text);
         decimal.exponent = decimal.len as i32 - 1 - places;
         while decimal.len > 1 && decimal.digits[decimal.len - 1] == b'0' {
             decimal.len -= 1;
@@ -356,19 +362,7 @@ impl Decimal {
             if exponent < 0 {
                 put(b"-");
             }
-            let magnitude = exponent.unsigned_abs();
-            let mut text = [0u8; 3];
-            let mut start = text.len();
-            let mut rest = magnitude;
-            loop {
-                start -= 1;
-                text[start] = b'0' + (rest % 10) as u8;
-                rest /= 10;
-                if rest == 0 {
-                    break;
-                }
-            }
-            put(&text[start..]);
+            put(decimal_digits(u64::from(exponent.unsigned_abs()), &mut [0; 20]).as_bytes());
         }
         at
     }

@@ -4,7 +4,6 @@
 //! summary table under a heading. JSON and SPICE are put together in a buffer and written on in
 //! large pieces; the CSV goes through one `csv` writer for the whole library.
 
-use std::collections::HashMap;
 use std::io::{self, Write};
 
 use super::calibration::CalibratedReport;
@@ -12,8 +11,8 @@ use super::summary::SummaryTable;
 use serde::Serialize;
 
 use super::csv::CsvView;
-use super::{CellReport, Format, Rows, json, number, spice};
-use crate::figures::{CellFigures, NamedCell, SharedCell};
+use super::{CellReport, Format, Kept, Rows, json, number, spice};
+use crate::figures::{CellFigures, NamedCell};
 use crate::process::Process;
 
 /// What the table's heading says about the run.
@@ -45,7 +44,8 @@ enum Sink<'a> {
     Csv(Box<CsvView<&'a mut dyn Write>>),
     /// JSON or SPICE: a chunk's text put together in `buffer`, then written to `out` in one piece;
     /// the text of each shared cell without its name kept by its id, for its other variants.
-    Text { format: Format, out: &'a mut dyn Write, buffer: Vec<u8>, json: Option<JsonGates>, kept: Kept },
+    /// (`name`: a variant's name as a JSON string.)
+    Text { format: Format, out: &'a mut dyn Write, buffer: Vec<u8>, json: Option<JsonGates>, kept: Kept, name: Vec<u8> },
     /// The table's rows and calibration sections, kept until the end.
     Table { out: &'a mut dyn Write, table: SummaryTable, sections: Vec<u8> },
 }
@@ -72,7 +72,7 @@ impl<'a> BatchWriter<'a> {
                 };
                 out.write_all(&buffer)?;
                 buffer.clear();
-                Sink::Text { format, out, buffer, json, kept: Kept::default() }
+                Sink::Text { format, out, buffer, json, kept: Kept::default(), name: Vec::new() }
             }
         };
         Ok(BatchWriter { process, sink, written: false })
@@ -85,7 +85,7 @@ impl<'a> BatchWriter<'a> {
         match &mut self.sink {
             Sink::Csv(view) => view.write_named(chunk)?,
             Sink::Table { table, .. } => table.add_named(chunk),
-            Sink::Text { out, buffer, json, kept, .. } => {
+            Sink::Text { out, buffer, json, kept, name, .. } => {
                 for (index, cell) in chunk.iter().enumerate() {
                     let first = !self.written && index == 0;
                     if cell.is_own() {
@@ -108,9 +108,9 @@ impl<'a> BatchWriter<'a> {
                         match json {
                             Some(_) => {
                                 buffer.extend_from_slice(if first { b"\n" } else { b",\n" });
-                                let mut name = Vec::with_capacity(cell.name.len() + 2);
-                                json::write_compact(&cell.name, &mut name)?;
-                                template.fill(&name, buffer);
+                                name.clear();
+                                json::write_compact(&cell.name, &mut *name)?;
+                                template.fill(name, buffer);
                             }
                             None => {
                                 buffer.push(b'\n');
@@ -232,60 +232,6 @@ impl<'a> BatchWriter<'a> {
 struct Flat<'a> {
     #[serde(flatten)]
     figures: &'a CellFigures,
-}
-
-/// What a shared cell writes without its name, and the places its name goes.
-#[derive(Debug, Default)]
-struct Template {
-    text: Vec<u8>,
-    holes: Vec<usize>,
-}
-
-impl Template {
-    /// The text with `name` at each of its places, appended to `out`.
-    fn fill(&self, name: &[u8], out: &mut Vec<u8>) {
-        let mut start = 0;
-        for &hole in &self.holes {
-            out.extend_from_slice(&self.text[start..hole]);
-            out.extend_from_slice(name);
-            start = hole;
-        }
-        out.extend_from_slice(&self.text[start..]);
-    }
-}
-
-/// Most shared cells whose text a writer keeps, and most bytes of it: past either, all of it is
-/// dropped and made again as the variants come.
-const KEPT_CELLS: usize = 256;
-const KEPT_BYTES: usize = 8 << 20;
-
-/// The templates of shared cells, by their ids.
-#[derive(Debug, Default)]
-struct Kept {
-    templates: HashMap<u64, Template>,
-    bytes: usize,
-}
-
-impl Kept {
-    /// The template of `shared`, made by `make` (text and places) the first time.
-    fn of(
-        &mut self,
-        shared: &SharedCell,
-        make: impl FnOnce(&SharedCell, &mut Vec<u8>, &mut Vec<usize>) -> io::Result<()>,
-    ) -> io::Result<&Template> {
-        let id = shared.id();
-        if !self.templates.contains_key(&id) {
-            let mut template = Template::default();
-            make(shared, &mut template.text, &mut template.holes)?;
-            if self.templates.len() >= KEPT_CELLS || self.bytes + template.text.len() > KEPT_BYTES {
-                self.templates.clear();
-                self.bytes = 0;
-            }
-            self.bytes += template.text.len();
-            self.templates.insert(id, template);
-        }
-        Ok(&self.templates[&id])
-    }
 }
 
 /// Bytes of JSON or SPICE put together before they are written on.

@@ -3,7 +3,6 @@
 //! quoted as the `csv` crate quotes (tested against it); the path listing and the delays go
 //! through the crate.
 
-use std::collections::HashMap;
 use std::io::{self, Write};
 
 use crate::cell::SizedCell;
@@ -12,7 +11,7 @@ use crate::number::Texts;
 use crate::process::Process;
 use crate::sizing::Method;
 
-use super::{CellReport, Rows};
+use super::{CellReport, Kept, Rows};
 
 /// Columns of the gates view, in order: one tidy row per sized cell (variant), with what cells are
 /// compared by. Units are in the names (`_um`, `_um2`, `_c` for unit-NMOS gate capacitances, `_ff`,
@@ -145,6 +144,22 @@ fn needs_quotes(cell: &[u8]) -> bool {
     cell.iter().any(|&byte| matches!(byte, b',' | b'"' | b'\n' | b'\r'))
 }
 
+/// Append `cell` to `text`, in double quotes where it needs them (see [`Lines`]).
+fn push_cell(cell: &[u8], text: &mut Vec<u8>) {
+    if needs_quotes(cell) {
+        text.push(b'"');
+        for &byte in cell {
+            if byte == b'"' {
+                text.push(b'"');
+            }
+            text.push(byte);
+        }
+        text.push(b'"');
+    } else {
+        text.extend_from_slice(cell);
+    }
+}
+
 /// CSV text being put together, record by record, cell by cell, quoted as the `csv` crate quotes
 /// (RFC 4180, quotes where needed): a cell that holds a comma, a double quote or a line break in
 /// double quotes, its double quotes doubled; records end with `\n`. Numbers and counts never need
@@ -154,9 +169,8 @@ struct Lines {
     text: Vec<u8>,
     /// Whether the record being written has a cell yet.
     open: bool,
-    /// Where each record ends in `text`, where they are counted (`counting`).
-    ends: Vec<usize>,
-    counting: bool,
+    /// Where the name cell goes in each record started without one (see [`Lines::start`]).
+    holes: Vec<usize>,
 }
 
 impl Lines {
@@ -169,18 +183,7 @@ impl Lines {
 
     fn cell(&mut self, cell: &[u8]) {
         self.separator();
-        if needs_quotes(cell) {
-            self.text.push(b'"');
-            for &byte in cell {
-                if byte == b'"' {
-                    self.text.push(b'"');
-                }
-                self.text.push(byte);
-            }
-            self.text.push(b'"');
-        } else {
-            self.text.extend_from_slice(cell);
-        }
+        push_cell(cell, &mut self.text);
     }
 
     fn text(&mut self, text: &str) {
@@ -200,16 +203,7 @@ impl Lines {
     /// A count, as an integer.
     fn count(&mut self, count: usize) {
         self.separator();
-        let start = self.text.len();
-        let mut rest = count;
-        loop {
-            self.text.push(b'0' + (rest % 10) as u8);
-            rest /= 10;
-            if rest == 0 {
-                break;
-            }
-        }
-        self.text[start..].reverse();
+        self.text.extend_from_slice(crate::number::decimal_digits(count as u64, &mut [0; 20]).as_bytes());
     }
 
     /// Cells written already (a variant's first cells, the same on each of its rows).
@@ -221,17 +215,17 @@ impl Lines {
     fn end(&mut self) {
         self.text.push(b'\n');
         self.open = false;
-        if self.counting {
-            self.ends.push(self.text.len());
-        }
     }
 
-    /// Start a record with `name`'s cell; without one, as if a cell were written (a record's text
-    /// after its name, kept for a variant's other names).
+    /// Start a record with `name`'s cell; without one, as if a cell were written, its place kept
+    /// (a record's text after its name, kept for a variant's other names).
     fn start(&mut self, name: Option<&str>) {
         match name {
             Some(name) => self.text(name),
-            None => self.open = true,
+            None => {
+                self.holes.push(self.text.len());
+                self.open = true;
+            }
         }
     }
 
@@ -260,19 +254,6 @@ impl Lines {
 /// Bytes of CSV put together before they are written on.
 const BUFFER_BYTES: usize = 1 << 16;
 
-/// Most shared cells whose rows a view keeps for their other names, and most bytes of them: past
-/// either, every kept row is dropped.
-const KEPT_CELLS: usize = 256;
-const KEPT_BYTES: usize = 8 << 20;
-
-/// A shared cell's rows without the name cell each starts with: from the comma after the name to
-/// the line's end, row after row.
-#[derive(Debug)]
-struct Tails {
-    text: Vec<u8>,
-    ends: Vec<usize>,
-}
-
 /// A CSV view written gate by gate (a whole library through one): the header first, then each
 /// gate's rows, put together in a buffer and written on in large pieces; each number's text made
 /// once per gate (a gate's devices repeat its drive, widths and capacitances) and the cells every
@@ -287,9 +268,10 @@ pub struct CsvView<W: Write> {
     numbers: Texts,
     /// The cells a variant's rows start with after its name (its drive and method).
     prefix: Lines,
-    /// The rows of shared cells by their ids, and their bytes.
-    kept: HashMap<u64, Tails>,
-    kept_bytes: usize,
+    /// The rows of shared cells without their names, by their ids.
+    kept: Kept,
+    /// A variant's name cell, quoted where it needs to be.
+    name: Vec<u8>,
 }
 
 impl<W: Write> CsvView<W> {
@@ -303,8 +285,8 @@ impl<W: Write> CsvView<W> {
             lines: Lines::default(),
             numbers: Texts::default(),
             prefix: Lines::default(),
-            kept: HashMap::new(),
-            kept_bytes: 0,
+            kept: Kept::default(),
+            name: Vec::new(),
         }
     }
 
@@ -366,7 +348,6 @@ impl<W: Write> CsvView<W> {
     pub fn write_named(&mut self, cells: &[NamedCell]) -> io::Result<()> {
         self.header();
         for cell in cells {
-            let id = cell.shared.id();
             if cell.is_own() {
                 // The variant the cell was sized for comes first: its rows as they are (most cells
                 // of a library with many distinct variants have no other).
@@ -374,23 +355,17 @@ impl<W: Write> CsvView<W> {
                 self.hand_on()?;
                 continue;
             }
-            if !self.kept.contains_key(&id) {
-                let tails = self.tails(&cell.shared);
-                if self.kept.len() >= KEPT_CELLS || self.kept_bytes + tails.text.len() > KEPT_BYTES {
-                    self.kept.clear();
-                    self.kept_bytes = 0;
-                }
-                self.kept_bytes += tails.text.len();
-                self.kept.insert(id, tails);
-            }
-            let tails = &self.kept[&id];
-            let mut start = 0;
-            for &end in &tails.ends {
-                self.lines.text(&cell.name);
-                self.lines.text.extend_from_slice(&tails.text[start..end]);
-                self.lines.open = false;
-                start = end;
-            }
+            let (rows, numbers, prefix) = (self.rows, &mut self.numbers, &mut self.prefix);
+            let rows_unnamed = self.kept.of(&cell.shared, |shared, text, holes| {
+                numbers.clear();
+                let mut lines = Lines::default();
+                view_rows(rows, &mut lines, numbers, prefix, None, shared);
+                (*text, *holes) = (lines.text, lines.holes);
+                Ok(())
+            })?;
+            self.name.clear();
+            push_cell(cell.name.as_bytes(), &mut self.name);
+            rows_unnamed.fill(&self.name, &mut self.lines.text);
             self.hand_on()?;
         }
         Ok(())
@@ -401,14 +376,6 @@ impl<W: Write> CsvView<W> {
         self.numbers.clear();
         let name = Some(cell.name.as_str());
         view_rows(self.rows, &mut self.lines, &mut self.numbers, &mut self.prefix, name, &cell.shared);
-    }
-
-    /// The rows of `shared` without their names.
-    fn tails(&mut self, shared: &SharedCell) -> Tails {
-        self.numbers.clear();
-        let mut tails = Lines { counting: true, ..Lines::default() };
-        view_rows(self.rows, &mut tails, &mut self.numbers, &mut self.prefix, None, shared);
-        Tails { text: tails.text, ends: tails.ends }
     }
 
     /// Write what is put together on, if it is a large piece.

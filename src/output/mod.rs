@@ -19,10 +19,11 @@ pub mod tradeoff;
 pub mod verify;
 pub mod warnings;
 
+use std::collections::HashMap;
 use std::io::{self, Write};
 
 use crate::cell::SizedCell;
-use crate::figures::{CellFigures, PathListing};
+use crate::figures::{CellFigures, PathListing, SharedCell};
 use crate::timing::{CellTiming, DelayReport};
 
 /// Output format, chosen once per run.
@@ -124,3 +125,57 @@ pub fn sizing_line(gate: &CellFigures) -> String {
 /// Every number of every writer, by the one rule ([`crate::number`]): at most ten significant
 /// digits, trailing zeros dropped.
 pub use crate::number::format as number;
+
+/// What a shared cell writes without its name, and the places its name goes.
+#[derive(Debug, Default)]
+struct Template {
+    text: Vec<u8>,
+    holes: Vec<usize>,
+}
+
+impl Template {
+    /// The text with `name` at each of its places, appended to `out`.
+    fn fill(&self, name: &[u8], out: &mut Vec<u8>) {
+        let mut start = 0;
+        for &hole in &self.holes {
+            out.extend_from_slice(&self.text[start..hole]);
+            out.extend_from_slice(name);
+            start = hole;
+        }
+        out.extend_from_slice(&self.text[start..]);
+    }
+}
+
+/// Most shared cells whose text a batch writer keeps, and most bytes of it: past either, all of it
+/// is dropped and made again as the variants come.
+const KEPT_CELLS: usize = 256;
+const KEPT_BYTES: usize = 8 << 20;
+
+/// The templates of shared cells, by their ids (a batch writer's, for the variants after the first).
+#[derive(Debug, Default)]
+struct Kept {
+    templates: HashMap<u64, Template>,
+    bytes: usize,
+}
+
+impl Kept {
+    /// The template of `shared`, made by `make` (text and places) the first time.
+    fn of(
+        &mut self,
+        shared: &SharedCell,
+        make: impl FnOnce(&SharedCell, &mut Vec<u8>, &mut Vec<usize>) -> io::Result<()>,
+    ) -> io::Result<&Template> {
+        let id = shared.id();
+        if !self.templates.contains_key(&id) {
+            let mut template = Template::default();
+            make(shared, &mut template.text, &mut template.holes)?;
+            if self.templates.len() >= KEPT_CELLS || self.bytes + template.text.len() > KEPT_BYTES {
+                self.templates.clear();
+                self.bytes = 0;
+            }
+            self.bytes += template.text.len();
+            self.templates.insert(id, template);
+        }
+        Ok(&self.templates[&id])
+    }
+}

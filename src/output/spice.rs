@@ -55,16 +55,9 @@ pub fn write_subcircuit(gate: &CellFigures, process: &Process, out: &mut dyn Wri
 
 /// One gate's `.subckt ... .ends`, appended to `out`.
 pub fn push_subcircuit(gate: &CellFigures, process: &Process, out: &mut Vec<u8>) {
-    let mut text = Vec::new();
-    let mut holes = Vec::with_capacity(3);
-    push_unnamed_subcircuit(gate, process, &mut text, &mut holes);
-    let mut start = 0;
-    for &hole in &holes {
-        out.extend_from_slice(&text[start..hole]);
-        out.extend_from_slice(gate.name.as_bytes());
-        start = hole;
-    }
-    out.extend_from_slice(&text[start..]);
+    let mut template = super::Template::default();
+    push_unnamed_subcircuit(gate, process, &mut template.text, &mut template.holes);
+    template.fill(gate.name.as_bytes(), out);
 }
 
 /// One gate's `.subckt ... .ends` without its name, appended to `out`, with the places in `out`
@@ -163,20 +156,5 @@ fn push_mosfet_line(
     for part in [" L=", length, " m="] {
         out.push_str(part);
     }
-    out.push_str(itoa(fingers, &mut [0; 20]));
-}
-
-/// A count's decimal digits, written in `buffer`.
-fn itoa(count: usize, buffer: &mut [u8; 20]) -> &str {
-    let mut start = buffer.len();
-    let mut rest = count;
-    loop {
-        start -= 1;
-        buffer[start] = b'0' + (rest % 10) as u8;
-        rest /= 10;
-        if rest == 0 {
-            break;
-        }
-    }
-    std::str::from_utf8(&buffer[start..]).unwrap_or("0")
+    out.push_str(number::decimal_digits(fingers as u64, &mut [0; 20]));
 }
