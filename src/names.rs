@@ -26,13 +26,35 @@ pub fn is_identifier(text: &str) -> bool {
 /// The drive is written in its shortest exact decimal form, so distinct drives give distinct
 /// suffixes; and since a suffix has no `_`, `<name>_<suffix>` names the cell and drive uniquely.
 pub fn drive_suffix(drive: f64) -> String {
-    format!("x{}", drive.to_string().replace('.', "p"))
+    let mut suffix = String::with_capacity(8);
+    push_drive_suffix(&mut suffix, drive);
+    suffix
+}
+
+/// [`drive_suffix`] at the end of `name`.
+fn push_drive_suffix(name: &mut String, drive: f64) {
+    use std::fmt::Write as _;
+    name.push('x');
+    if drive.fract() == 0.0 && (1.0..1e15).contains(&drive) {
+        // A whole drive (most are) is its integer's digits, as Rust's shortest form writes it.
+        name.push_str(crate::number::decimal_digits(drive as u64, &mut [0; 20]));
+    } else {
+        let start = name.len();
+        let _ = write!(name, "{drive}");
+        if let Some(point) = name[start..].find('.') {
+            name.replace_range(start + point..start + point + 1, "p");
+        }
+    }
 }
 
 /// A cell's name at a drive: `<base>_x<drive>` (`nand2_x2`, `carry_x1p5`), as a library names each
 /// variant and as a gate sized without `--name` is named.
 pub fn variant_name(base: &str, drive: f64) -> String {
-    format!("{base}_{}", drive_suffix(drive))
+    let mut name = String::with_capacity(base.len() + 8);
+    name.push_str(base);
+    name.push('_');
+    push_drive_suffix(&mut name, drive);
+    name
 }
 
 /// Names no input, output or cell may take, compared without case: the supply rails of every
@@ -59,6 +81,18 @@ pub fn reserved_reason(name: &str, models: &[&str]) -> Option<String> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn drive_suffixes_are_the_shortest_decimal_with_p_for_the_point() {
+        // The rule written out: Rust's shortest round-trip decimal, '.' as 'p'.
+        let rule = |drive: f64| format!("x{}", drive.to_string().replace('.', "p"));
+        let drives =
+            [1.0, 2.0, 16.0, 1e6, 999_999_999_999_999.0, 1e15, 1e16, 0.5, 1.5, 0.25, 1e-6, 3.0e-7, 123.456, 0.1 + 0.2];
+        for drive in drives.into_iter().chain((1..2000).map(|i| f64::from(i) * 0.125)) {
+            assert_eq!(drive_suffix(drive), rule(drive), "{drive}");
+            assert_eq!(variant_name("nand2", drive), format!("nand2_{}", rule(drive)), "{drive}");
+        }
+    }
 
     #[test]
     fn reserved_names_ignore_case() {

@@ -7,6 +7,7 @@
 //! command, not a command of its own.
 
 use std::collections::{HashMap, HashSet};
+use std::sync::Arc;
 use std::time::Duration;
 
 use super::batch::Args;
@@ -143,7 +144,7 @@ pub fn run(args: &Args, mut library: Library, source: &Source) -> Result<(), Err
 
     // The pieces in file order, and the distinct reference inverters they match. Every gate is read
     // up front: each variant takes seconds of simulation, so their plans are small beside it.
-    let gates: Vec<Result<GatePlan, GateProblem>> = library.gates().collect();
+    let gates: Vec<Result<Arc<GatePlan>, GateProblem>> = library.gates().collect();
     let mut references: Vec<SharedReference> = Vec::new();
     let mut seen: HashMap<ReferenceKey, usize> = HashMap::new();
     let mut items: Vec<Item> = Vec::new();

@@ -3,9 +3,10 @@
 //! gates, so the forms are kept by what decides them (the expression, the pull-up; the process's
 //! model names are the batch's), a bounded number at a time.
 
-use std::collections::HashMap;
 use std::fmt::Write as _;
 use std::sync::Arc;
+
+use rustc_hash::FxHashMap;
 
 use crate::diagnostic::{Span, escaped};
 use crate::library::plan::{GatePlan, GateProblem, Place};
@@ -28,7 +29,7 @@ enum Refusal {
 /// The forms of the functions of a batch, by expression and pull-up, in one process.
 pub(crate) struct Forms {
     process: Arc<Process>,
-    kept: HashMap<Box<str>, Result<Arc<[CellLogic]>, Refusal>>,
+    kept: FxHashMap<Box<str>, Result<Arc<[CellLogic]>, Refusal>>,
     /// The key being looked up, reused.
     key: String,
 }
@@ -36,7 +37,7 @@ pub(crate) struct Forms {
 impl Forms {
     /// No forms yet, for gates sized in `process` (its model names are names no pin may take).
     pub(crate) fn new(process: &Arc<Process>) -> Forms {
-        Forms { process: Arc::clone(process), kept: HashMap::new(), key: String::new() }
+        Forms { process: Arc::clone(process), kept: FxHashMap::default(), key: String::new() }
     }
 
     /// Every form of `plan`'s function with its pull-up, its critical input checked; or the gate's

@@ -25,8 +25,8 @@ mod reuse;
 mod scan;
 mod table;
 
+use rustc_hash::FxHashMap;
 use std::borrow::Cow;
-use std::collections::HashMap;
 use std::io;
 use std::ops::Range;
 use std::path::Path;
@@ -204,9 +204,9 @@ impl Library {
 
     /// Gate `index` (0-based, in file order), read from its table: its plan, or why it cannot be
     /// sized, with its place.
-    pub fn gate(&self, index: usize) -> Result<GatePlan, GateProblem> {
+    pub fn gate(&self, index: usize) -> Result<Arc<GatePlan>, GateProblem> {
         if let Ok(at) = self.kept.binary_search_by_key(&index, |(kept, _)| *kept) {
-            return Ok(GatePlan::clone(&self.kept[at].1));
+            return Ok(Arc::clone(&self.kept[at].1));
         }
         let number = index + 1;
         let range = self.tables[index].clone();
@@ -220,11 +220,11 @@ impl Library {
                 place: Place::File(unreadable.span.unwrap_or(Span::new(start, (start + 1).min(range.end)))),
             }
         })?;
-        read_gate_entry(&self.source, &self.common, number, value)
+        read_gate_entry(&self.source, &self.common, number, value).map(Arc::new)
     }
 
     /// Every gate in file order, each read from its table as it is reached.
-    pub fn gates(&self) -> impl Iterator<Item = Result<GatePlan, GateProblem>> + '_ {
+    pub fn gates(&self) -> impl Iterator<Item = Result<Arc<GatePlan>, GateProblem>> + '_ {
         (0..self.tables.len()).map(|index| self.gate(index))
     }
 
@@ -233,7 +233,8 @@ impl Library {
     fn first_pass(&mut self) -> Result<Vec<GateProblem>, LibraryError> {
         // Netlists ignore case, so `Nand2` and `nand2` would be one subcircuit: each name is kept
         // in lower case with its gate's index, the first use's own spelling read again on a clash.
-        let mut first: HashMap<Box<str>, usize> = HashMap::with_capacity(self.tables.len());
+        let mut first: FxHashMap<Box<str>, usize> = FxHashMap::default();
+        first.reserve(self.tables.len());
         let mut clashes = Vec::new();
         let mut variants = 0usize;
         let mut kept_bytes = 0usize;
@@ -246,7 +247,7 @@ impl Library {
             let key = plan.name.to_ascii_lowercase();
             match first.get(key.as_str()) {
                 Some(&earlier) => {
-                    let name = self.gate(earlier).map(|earlier| earlier.name).unwrap_or_default();
+                    let name = self.gate(earlier).map(|earlier| earlier.name.clone()).unwrap_or_default();
                     let how =
                         if name == plan.name { String::new() } else { format!(" as '{name}' (netlists ignore case)") };
                     clashes.push(plan.problem(
@@ -265,7 +266,7 @@ impl Library {
             let bytes = plan_bytes(&plan);
             if self.tables[index].len() > KEEP_PLANS_OVER || kept_bytes + bytes <= KEEP_PLANS_BYTES {
                 kept_bytes += bytes;
-                self.kept.push((index, Arc::new(plan)));
+                self.kept.push((index, plan));
             }
         }
         if variants > MAX_VARIANTS {
@@ -566,15 +567,16 @@ fn named_variant(
     process: &Arc<Process>,
     reuse: &mut Reuse,
 ) -> Result<(NamedCell, bool), GateProblem> {
-    let variant_plan = plan.plan(drive, process)?;
-    let name = variant_plan.name.clone().unwrap_or_else(|| plan.variant_name(drive));
+    let mut variant_plan = plan.plan(drive, process)?;
     let problem = |error: SizingError| plan.problem(error.to_string(), Place::File(plan.name_span));
     if let Some(found) = reuse.find(plan, &variant_plan) {
         // Of what sizing checks, only the cell's name can differ between the variants of one key,
         // and it is checked first, on the first form: the same check, the same refusal.
         sizing::build::check_names(&forms[0], &variant_plan).map_err(problem)?;
+        let name = variant_plan.name.take().unwrap_or_else(|| plan.variant_name(drive));
         return Ok((NamedCell { name, shared: found.shared }, found.verified));
     }
+    let name = variant_plan.name.clone().unwrap_or_else(|| plan.variant_name(drive));
     let cell = sizing::size_best(forms, &variant_plan).map_err(problem)?;
     Ok((NamedCell { name, shared: reuse.keep(cell) }, false))
 }

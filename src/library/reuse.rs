@@ -12,8 +12,9 @@
 //! process is not in the key: the cells kept are the batch's process's, and a plan in another
 //! process is never kept or found.
 
-use std::collections::HashMap;
 use std::sync::Arc;
+
+use rustc_hash::FxHashMap;
 
 use crate::cell::SizedCell;
 use crate::figures::SharedCell;
@@ -39,7 +40,7 @@ struct Kept {
 /// The sized variants of a batch, by what decides them.
 pub(crate) struct Reuse {
     process: Arc<Process>,
-    kept: HashMap<Box<[u8]>, Kept>,
+    kept: FxHashMap<Box<[u8]>, Kept>,
     /// Devices over the cells kept.
     devices: usize,
     /// Most cells and devices kept ((0, 0): none, every variant sized afresh).
@@ -63,7 +64,7 @@ impl Reuse {
     pub(crate) fn new(process: &Arc<Process>, limits: (usize, usize)) -> Reuse {
         Reuse {
             process: Arc::clone(process),
-            kept: HashMap::new(),
+            kept: FxHashMap::default(),
             devices: 0,
             limits,
             next_id: 0,
@@ -196,7 +197,7 @@ mod tests {
 
     fn gate() -> (GatePlan, Arc<Process>) {
         let library = library("[[gate]]\nname = \"g\"\nexpr = \"!(a & b | c)\"\n");
-        (library.gate(0).unwrap(), Arc::clone(&library.process))
+        (GatePlan::clone(&library.gate(0).unwrap()), Arc::clone(&library.process))
     }
 
     fn key_of(gate: &GatePlan, plan: &Plan) -> Vec<u8> {

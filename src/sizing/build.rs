@@ -2,6 +2,8 @@
 //! process (snapped, folded into fingers), each node named, the cell named; and the name checks
 //! every cell passes.
 
+use std::borrow::Cow;
+
 use crate::bounds;
 use crate::cell::{SizedCell, SizedNetwork, SizedStage, StackOrderReport, device_name};
 use crate::expr::GateFunction;
@@ -64,9 +66,10 @@ pub fn cell_name(logic: &CellLogic, plan: &Plan) -> String {
 /// process's model names) the inputs' and the output's.
 pub fn check_names(logic: &CellLogic, plan: &Plan) -> Result<(), SizingError> {
     let models = plan.process.model_names();
-    let name = cell_name(logic, plan);
+    // The name given is checked where it is (this runs for every variant of a batch).
+    let name = plan.name.as_deref().map_or_else(|| Cow::Owned(cell_name(logic, plan)), Cow::Borrowed);
     if let Some(why) = reserved_reason(&name, &models) {
-        return Err(SizingError::ReservedCellName { name, why });
+        return Err(SizingError::ReservedCellName { name: name.into_owned(), why });
     }
     let inputs = logic.inputs.iter().map(|i| ("input", i));
     for (role, name) in inputs.chain([("the output", &logic.output)]) {
