@@ -3,7 +3,6 @@
 //! gates, so the forms are kept by what decides them (the expression, the pull-up; the process's
 //! model names are the batch's), a bounded number at a time.
 
-use std::fmt::Write as _;
 use std::sync::Arc;
 
 use rustc_hash::FxHashMap;
@@ -46,7 +45,8 @@ impl Forms {
         let pull_up = plan.pull_up.as_ref().map(|p| p.text.as_str());
         // The expression's length first, so that no expression and pull-up run into another's.
         self.key.clear();
-        let _ = write!(self.key, "{}:", plan.expression.len());
+        self.key.push_str(crate::number::decimal_digits(plan.expression.len() as u64, &mut [0; 20]));
+        self.key.push(':');
         self.key.push_str(&plan.expression);
         if let Some(text) = pull_up {
             self.key.push('|');

@@ -99,9 +99,9 @@ pub struct Library {
     inline: bool,
     /// Names that would clash in the output, found by the first pass.
     clashes: Vec<GateProblem>,
-    /// The plans the first pass kept, by index: every table longer than [`KEEP_PLANS_OVER`], and
+    /// The plans the first pass kept, by gate index: every table longer than [`KEEP_PLANS_OVER`], and
     /// the others within [`KEEP_PLANS_BYTES`], rather than read twice.
-    kept: Vec<(usize, Arc<GatePlan>)>,
+    kept: Vec<Option<Arc<GatePlan>>>,
 }
 
 impl Library {
@@ -205,9 +205,14 @@ impl Library {
     /// Gate `index` (0-based, in file order), read from its table: its plan, or why it cannot be
     /// sized, with its place.
     pub fn gate(&self, index: usize) -> Result<Arc<GatePlan>, GateProblem> {
-        if let Ok(at) = self.kept.binary_search_by_key(&index, |(kept, _)| *kept) {
-            return Ok(Arc::clone(&self.kept[at].1));
+        match self.kept.get(index) {
+            Some(Some(plan)) => Ok(Arc::clone(plan)),
+            _ => self.read_gate(index),
         }
+    }
+
+    /// Gate `index` read from its table.
+    fn read_gate(&self, index: usize) -> Result<Arc<GatePlan>, GateProblem> {
         let number = index + 1;
         let range = self.tables[index].clone();
         let value = table::read(self.source.text(), range.clone(), self.inline).map_err(|unreadable| {
@@ -238,8 +243,12 @@ impl Library {
         let mut clashes = Vec::new();
         let mut variants = 0usize;
         let mut kept_bytes = 0usize;
+        let mut kept = Vec::with_capacity(self.tables.len());
         for index in 0..self.tables.len() {
-            let Ok(plan) = self.gate(index) else { continue };
+            let Ok(plan) = self.read_gate(index) else {
+                kept.push(None);
+                continue;
+            };
             variants += plan.drives.len();
             if let Some(clash) = repeated_drive_of(&plan) {
                 clashes.push(clash);
@@ -247,7 +256,11 @@ impl Library {
             let key = plan.name.to_ascii_lowercase();
             match first.get(key.as_str()) {
                 Some(&earlier) => {
-                    let name = self.gate(earlier).map(|earlier| earlier.name.clone()).unwrap_or_default();
+                    let name = match &kept[earlier] {
+                        Some(plan) => Ok(Arc::clone(plan)),
+                        None => self.read_gate(earlier),
+                    };
+                    let name = name.map(|earlier| earlier.name.clone()).unwrap_or_default();
                     let how =
                         if name == plan.name { String::new() } else { format!(" as '{name}' (netlists ignore case)") };
                     clashes.push(plan.problem(
@@ -264,11 +277,13 @@ impl Library {
                 }
             }
             let bytes = plan_bytes(&plan);
-            if self.tables[index].len() > KEEP_PLANS_OVER || kept_bytes + bytes <= KEEP_PLANS_BYTES {
+            let keep = self.tables[index].len() > KEEP_PLANS_OVER || kept_bytes + bytes <= KEEP_PLANS_BYTES;
+            if keep {
                 kept_bytes += bytes;
-                self.kept.push((index, plan));
             }
+            kept.push(keep.then_some(plan));
         }
+        self.kept = kept;
         if variants > MAX_VARIANTS {
             return Err(LibraryError::at(
                 format!(
