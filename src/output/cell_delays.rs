@@ -5,6 +5,7 @@
 use std::io::{self, Write};
 
 use super::CellReport;
+use super::delays::side_inputs_of;
 use super::number;
 use super::table::write_columns;
 use crate::timing::CellTiming;
@@ -76,8 +77,18 @@ pub fn write_table(timing: &CellTiming, out: &mut dyn Write) -> io::Result<()> {
         number(model.tau_fall_rc),
         number(model.tau_rise_rc)
     )?;
-    let mut rows =
-        vec![strings(["input", "edge", "stage", "from", "stage edge", "Elmore", "load", "estimate", "path", "after"])];
+    let mut rows = vec![strings([
+        "input",
+        "edge",
+        "stage",
+        "from",
+        "stage edge",
+        "Elmore",
+        "load",
+        "estimate",
+        "path",
+        "side inputs",
+    ])];
     for delay in &timing.delays {
         for step in &delay.stages {
             rows.push(vec![
@@ -90,7 +101,10 @@ pub fn write_table(timing: &CellTiming, out: &mut dyn Write) -> io::Result<()> {
                 number(step.load_c),
                 number(step.estimate_tau),
                 step.path.join(" "),
-                step.vector.to_string(),
+                match side_inputs_of(&step.vector, &step.input) {
+                    side if side.is_empty() => "-".to_string(),
+                    side => side,
+                },
             ]);
         }
     }

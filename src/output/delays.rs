@@ -6,7 +6,7 @@ use std::io::{self, Write};
 use super::CellReport;
 use super::number;
 use super::table::write_columns;
-use crate::paths::EXACT_WORST_MAX_INPUTS;
+use crate::paths::{EXACT_WORST_MAX_INPUTS, Vector};
 use crate::timing::transition::WEAKEST_PATH;
 use crate::timing::{Delay, DelayReport};
 
@@ -22,8 +22,13 @@ fn list(names: &[String]) -> String {
 /// at without the switching input, whose level the edge gives (its on-level in the network that
 /// pulls: 1 on a fall, 0 on a rise). Empty for a gate of one input.
 fn side_inputs(delay: &Delay) -> String {
+    side_inputs_of(&delay.vector, &delay.input)
+}
+
+/// `vector` without `input`, `name=value` in input order; empty where `input` is the only one.
+pub(super) fn side_inputs_of(vector: &Vector, input: &str) -> String {
     let mut text = String::new();
-    for (name, value) in delay.vector.values.iter().filter(|(name, _)| *name != delay.input) {
+    for (name, value) in vector.values.iter().filter(|(name, _)| name != input) {
         if !text.is_empty() {
             text.push(' ');
         }

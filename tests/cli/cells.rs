@@ -46,6 +46,37 @@ fn delays_go_through_every_stage_in_every_format() {
 }
 
 #[test]
+fn each_stage_row_lists_its_side_inputs_only() {
+    // The stages table names the stage input that switches ("from"); its last column holds the other
+    // inputs of that stage at their held levels, `name=value`, or "-" for an inverter.
+    let output = widthwise().args(["size", "xor2", "--delays"]).output().unwrap();
+    assert!(output.status.success());
+    let text = String::from_utf8(output.stdout).unwrap();
+    let section = &text[text.find("stages of each path").unwrap()..];
+    let mut lines = section.lines().skip(1);
+    let header = lines.next().unwrap();
+    assert!(header.trim_end().ends_with("side inputs"), "{header}");
+    let (mut held, mut alone) = (0, 0);
+    for line in lines.take_while(|line| !line.trim().is_empty()) {
+        let cells: Vec<&str> = line.split_whitespace().collect();
+        let from = cells[3];
+        let side: Vec<&str> = cells.iter().copied().filter(|cell| cell.contains('=')).collect();
+        if side.is_empty() {
+            assert_eq!(*cells.last().unwrap(), "-", "{line}");
+            alone += 1;
+        } else {
+            held += 1;
+        }
+        for pair in side {
+            let (name, value) = pair.split_once('=').unwrap();
+            assert_ne!(name, from, "{line}");
+            assert!(value == "0" || value == "1", "{line}");
+        }
+    }
+    assert!(held > 0 && alone > 0, "{section}");
+}
+
+#[test]
 fn the_gates_view_counts_the_stages_and_names_the_form() {
     for (text, stages, form) in [("nand2", "1", "direct"), ("and2", "2", "inverted"), ("buf", "2", "inverted")] {
         let (headers, rows) = csv_rows(&["size", text, "--format", "csv", "--rows", "gates"]);
