@@ -1,17 +1,21 @@
 //! Geometric programs: minimise a posynomial subject to posynomials `<= 1` and a box on every
 //! variable. In log variables `y = ln x` each posynomial becomes a log-sum-exp of affine functions,
-//! which is convex, so an interior-point method finds the global optimum: phase I finds a strictly
-//! feasible point (or shows there is none) by minimising the largest constraint, phase II minimises
-//! the objective. Both are primal-dual (Boyd & Vandenberghe, "Convex Optimization", 2004, section
-//! 11.7): Newton steps on the perturbed KKT conditions, a dense Cholesky factorisation of the reduced
-//! system, and a backtracking line search on the residual that keeps every iterate strictly inside
-//! (a trial outside steps back at once to where every constraint's chord, which lies above the
-//! convex constraint, is still below 0, and to inside the box; each step aims further along the
-//! central path after a full step near it, nearer after a short one).
+//! which is convex, so an interior-point method finds the global optimum. The main iteration
+//! ([`slack`]) is primal-dual with a slack per constraint, so it starts anywhere inside the box and
+//! needs no phase I; where it gives up (an infeasible program's multipliers run away), the solver
+//! falls back on two strictly feasible phases: phase I finds a strictly feasible point (or shows
+//! there is none) by minimising the largest constraint, phase II minimises the objective. Both are
+//! primal-dual (Boyd & Vandenberghe, "Convex Optimization", 2004, section 11.7): Newton steps on
+//! the perturbed KKT conditions, a dense Cholesky factorisation of the reduced system, and a
+//! backtracking line search on the residual that keeps every iterate strictly inside (a trial
+//! outside steps back at once to where every constraint's chord, which lies above the convex
+//! constraint, is still below 0, and to inside the box; each step aims further along the central
+//! path after a full step near it, nearer after a short one).
 //! Hard constraints hold strictly at the start and phase I keeps them at `<= 1` rather than relaxing
 //! them, so the least worst value it reports is over the points that meet them.
 
 mod newton;
+mod slack;
 
 use crate::budget::{Estimate, Meter, OverBudget, Work};
 use newton::{Finish, ITERATIONS, Problem, Stop, Table};
@@ -199,11 +203,21 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
 
     // Phase I: minimise s with F_i(y) <= s, until some y has every F_i clearly below 0.
     let start_worst = worst(&values).1;
+    // The slack iteration needs no strictly feasible start: tried first, phase I and the strictly
+    // feasible iteration are what it falls back on (and what tells an infeasible program).
+    let mut used = 0;
+    if soft > 0 && start_worst >= -MARGIN {
+        let mut z = y.clone();
+        match problem(false).run_slack(&mut z, SLACK_STEPS).map_err(stopped)? {
+            slack::Ending::Converged => return Ok(optimal(program, z, &lower, &upper)),
+            slack::Ending::GaveUp(steps) => used = steps,
+        }
+    }
     if soft > 0 && start_worst >= -MARGIN {
         let phase = problem(true);
         let mut z = y.clone();
         z.push(start_worst.max(0.0) + 1.0);
-        let finish = phase.run(&mut z, |values| worst(values).1 < -MARGIN).map_err(stopped)?;
+        let finish = phase.run(&mut z, ITERATIONS - used, |values| worst(values).1 < -MARGIN).map_err(stopped)?;
         let (index, value) = worst(&table.values(&z[..n]));
         if matches!(finish, Finish::Converged) && value >= -1e-9 {
             return Ok(Outcome::Infeasible { least_worst: value.exp(), worst_constraint: index });
@@ -214,11 +228,20 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
         y = z[..n].to_vec();
     }
 
-    // Phase II.
-    problem(false).run(&mut y, |_| false).map_err(stopped)?;
+    // Phase II: the slack iteration, and where it gives up, the strictly feasible one from the same
+    // point with the steps left.
+    let phase = problem(false);
+    if let slack::Ending::GaveUp(used) = phase.run_slack(&mut y, SLACK_STEPS).map_err(stopped)? {
+        phase.run(&mut y, ITERATIONS - used, |_| false).map_err(stopped)?;
+    }
+    Ok(optimal(program, y, &lower, &upper))
+}
+
+/// The outcome at the optimum `y` (log variables) of `program` with the box `lower`, `upper` (logs).
+fn optimal(program: &Program, y: Vec<f64>, lower: &[f64], upper: &[f64]) -> Outcome {
     let x: Vec<f64> = y.iter().map(|v| v.exp()).collect();
-    let at_bound = (0..n).filter(|&j| y[j] - lower[j] < 1e-6 || upper[j] - y[j] < 1e-6).collect();
-    Ok(Outcome::Optimal { objective: program.objective.value(&x), x, at_bound })
+    let at_bound = (0..y.len()).filter(|&j| y[j] - lower[j] < 1e-6 || upper[j] - y[j] < 1e-6).collect();
+    Outcome::Optimal { objective: program.objective.value(&x), x, at_bound }
 }
 
 /// The solver's error for a phase's stop.
@@ -230,6 +253,9 @@ fn stopped(stop: Stop) -> SolveError {
         Stop::OverBudget(over) => SolveError::OverBudget(over),
     }
 }
+
+/// Most Newton steps of the slack iteration before phase II falls back to the strictly feasible one.
+const SLACK_STEPS: usize = 50;
 
 /// Phase I stops once every constraint is below 1 by this margin (in log terms).
 const MARGIN: f64 = 1e-3;

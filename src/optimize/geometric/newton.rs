@@ -37,17 +37,17 @@ impl From<OverBudget> for Stop {
 pub(super) struct Table {
     /// Monomial `u`'s (variable, exponent) pairs at `monomial_at[u]..monomial_at[u + 1]`, sorted
     /// by variable, each variable once.
-    monomial_at: Vec<usize>,
+    pub(super) monomial_at: Vec<usize>,
     pairs: Vec<(usize, f64)>,
     /// Function `f`'s terms at `term_at[f]..term_at[f + 1]` (function 0 the objective).
     term_at: Vec<usize>,
     /// Each term's monomial and coefficient.
-    monomial: Vec<usize>,
+    pub(super) monomial: Vec<usize>,
     coefficient: Vec<f64>,
     /// Function `f`'s variables, ascending, at `touched_at[f]..touched_at[f + 1]`.
-    touched_at: Vec<usize>,
-    touched: Vec<usize>,
-    variables: usize,
+    pub(super) touched_at: Vec<usize>,
+    pub(super) touched: Vec<usize>,
+    pub(super) variables: usize,
 }
 
 impl Table {
@@ -123,7 +123,7 @@ impl Table {
     }
 
     /// Number of functions.
-    fn functions(&self) -> usize {
+    pub(super) fn functions(&self) -> usize {
         self.term_at.len() - 1
     }
 
@@ -152,7 +152,7 @@ impl Table {
 
     /// Every function's value at `y` into `values` and its term shares into `weights` (one per
     /// term), with `scratch.powers` (one per monomial) as scratch.
-    fn evaluate(&self, y: &[f64], values: &mut [f64], weights: &mut [f64], scratch: &mut Scratch) {
+    pub(super) fn evaluate(&self, y: &[f64], values: &mut [f64], weights: &mut [f64], scratch: &mut Scratch) {
         let mut top = f64::NEG_INFINITY;
         for (u, power) in scratch.powers.iter_mut().enumerate() {
             *power = self.monomial_pairs(u).iter().map(|&(k, e)| e * y[k]).sum::<f64>();
@@ -186,7 +186,7 @@ impl Table {
 
     /// Every function's gradient over its variables into `gradients` (at `touched_at`), from the
     /// term shares [`Table::evaluate`] gave, with `scratch.dense` (left at zero) as scratch.
-    fn gradients(&self, weights: &[f64], gradients: &mut [f64], scratch: &mut Scratch) {
+    pub(super) fn gradients(&self, weights: &[f64], gradients: &mut [f64], scratch: &mut Scratch) {
         for f in 0..self.functions() {
             for t in self.term_at[f]..self.term_at[f + 1] {
                 for &(k, e) in self.monomial_pairs(self.monomial[t]) {
@@ -207,7 +207,7 @@ impl Table {
     /// product once with its summed weight, then each function's rank-one part `(outer_f - scale_f)
     /// g g^T` (`scales` and `outers` per function; a function of scale 0 and outer 0 adds nothing).
     /// `shares` (one per monomial) is scratch.
-    fn add_hessian(
+    pub(super) fn add_hessian(
         &self,
         (weights, gradients): (&[f64], &[f64]),
         (scales, outers): (&[f64], &[f64]),
@@ -278,9 +278,9 @@ impl std::hash::Hasher for Spread {
 }
 
 /// Scratch of [`Table::evaluate`] and [`Table::gradients`].
-struct Scratch {
-    powers: Vec<f64>,
-    dense: Vec<f64>,
+pub(super) struct Scratch {
+    pub(super) powers: Vec<f64>,
+    pub(super) dense: Vec<f64>,
 }
 
 /// One phase of the interior-point method: minimise the objective (phase II) or the slack `s`
@@ -308,14 +308,14 @@ pub(super) enum Finish {
 }
 
 /// Every function's value and derivatives at one point.
-struct Point {
+pub(super) struct Point {
     /// Constraint values `G_i` (posynomials less the slack where it relaxes them, then
     /// `y - upper`, then `lower - y`).
-    values: Vec<f64>,
+    pub(super) values: Vec<f64>,
     /// Each function's value, term shares and gradient ([`Table::evaluate`], [`Table::gradients`]).
-    functions: Vec<f64>,
-    weights: Vec<f64>,
-    gradients: Vec<f64>,
+    pub(super) functions: Vec<f64>,
+    pub(super) weights: Vec<f64>,
+    pub(super) gradients: Vec<f64>,
 }
 
 /// The buffers of one phase.
@@ -338,15 +338,15 @@ impl Problem<'_> {
     }
 
     /// Number of posynomial constraints.
-    fn constraints(&self) -> usize {
+    pub(super) fn constraints(&self) -> usize {
         self.table.functions() - 1
     }
 
-    fn count(&self) -> usize {
+    pub(super) fn count(&self) -> usize {
         self.constraints() + 2 * self.n
     }
 
-    fn point(&self) -> Point {
+    pub(super) fn point(&self) -> Point {
         let table = self.table;
         Point {
             values: vec![0.0; self.count()],
@@ -358,7 +358,7 @@ impl Problem<'_> {
 
     /// Function `f`'s gradient over its variables ([`Table::touched`] of `f`; constraint `i` is
     /// function `i + 1`).
-    fn gradient<'p>(&self, point: &'p Point, f: usize) -> &'p [f64] {
+    pub(super) fn gradient<'p>(&self, point: &'p Point, f: usize) -> &'p [f64] {
         &point.gradients[self.table.touched_at[f]..self.table.touched_at[f + 1]]
     }
 
@@ -516,7 +516,8 @@ impl Problem<'_> {
 
     /// Primal-dual interior-point iterations from a strictly feasible `z`.
     /// `early` reads every function's value at the iterate (the objective's first).
-    pub(super) fn run(&self, z: &mut [f64], early: impl Fn(&[f64]) -> bool) -> Result<Finish, Stop> {
+    /// At most `limit` Newton steps.
+    pub(super) fn run(&self, z: &mut [f64], limit: usize, early: impl Fn(&[f64]) -> bool) -> Result<Finish, Stop> {
         let size = self.size();
         let functions = self.table.functions();
         let monomials = self.table.monomial_at.len() - 1;
@@ -543,7 +544,7 @@ impl Problem<'_> {
         let mut trial_dual = vec![0.0; size];
         let count = self.count() as f64;
         let mut growth = GROWTH;
-        for _ in 0..ITERATIONS {
+        for _ in 0..limit {
             self.meter.charge(self.work.0, Work::Elmore)?;
             if early(&point.functions) {
                 return Ok(Finish::Early);
