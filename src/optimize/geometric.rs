@@ -119,13 +119,18 @@ pub fn posynomial_work(posynomial: &Posynomial, variables: usize) -> (u128, u128
     posynomial_work_with(posynomial, variables, &mut Vec::new())
 }
 
-/// [`posynomial_work`] with `touched` as scratch.
-fn posynomial_work_with(posynomial: &Posynomial, variables: usize, touched: &mut Vec<usize>) -> (u128, u128) {
-    touched.clear();
-    touched.extend(posynomial.terms.iter().flat_map(|t| t.exponents.iter().map(|&(k, _)| k)));
-    touched.sort_unstable();
-    touched.dedup();
-    let (mut hessian, mut values) = (touched.len() as u128 * touched.len() as u128, 0u128);
+/// [`posynomial_work`] with `seen` (all false, left so) as scratch.
+fn posynomial_work_with(posynomial: &Posynomial, variables: usize, seen: &mut Vec<bool>) -> (u128, u128) {
+    let mut touched = 0u128;
+    for &(k, _) in posynomial.terms.iter().flat_map(|t| &t.exponents) {
+        if k >= seen.len() {
+            seen.resize(k + 1, false);
+        }
+        touched += u128::from(!seen[k]);
+        seen[k] = true;
+    }
+    posynomial.terms.iter().flat_map(|t| &t.exponents).for_each(|&(k, _)| seen[k] = false);
+    let (mut hessian, mut values) = (touched * touched, 0u128);
     for term in &posynomial.terms {
         let exponents = term.exponents.len() as u128;
         hessian += exponents * exponents;
@@ -145,11 +150,11 @@ pub fn base_work(variables: usize) -> (u128, u128) {
 /// Work units of one Newton step and of one line-search trial of a program.
 pub fn step_work(program: &Program) -> (u128, u128) {
     let n = program.variables;
-    let mut touched = Vec::new();
+    let mut seen = vec![false; n];
     std::iter::once(&program.objective).chain(&program.constraints).chain(&program.hard).fold(
         base_work(n),
         |(step, trial), posynomial| {
-            let (s, t) = posynomial_work_with(posynomial, n, &mut touched);
+            let (s, t) = posynomial_work_with(posynomial, n, &mut seen);
             (step + s, trial + t)
         },
     )
@@ -185,10 +190,12 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
     if (0..n).any(|j| !(lower[j] < y[j] && y[j] < upper[j])) {
         return Err(SolveError::Bad("the start must lie strictly inside the box".into()));
     }
-    let work = step_work(program);
-    meter.fits(work.0.saturating_mul(MAX_NEWTON_STEPS), Estimate::UpTo, Work::Elmore)?;
     let functions = std::iter::once(&program.objective).chain(&program.constraints).chain(&program.hard);
     let table = Table::new(functions.map(|p| p.terms.iter().map(|t| (t.coefficient, t.exponents.as_slice()))), n);
+    // step_work(program), counted from the table.
+    let work = table.work(base_work(n));
+    debug_assert_eq!(work, step_work(program));
+    meter.fits(work.0.saturating_mul(MAX_NEWTON_STEPS), Estimate::UpTo, Work::Elmore)?;
     let soft = program.constraints.len();
     let values = table.values(&y);
     if values[soft + 1..].iter().any(|v| v.is_nan() || *v >= 0.0) {
@@ -201,18 +208,17 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
 
     let problem = |phase_one| Problem { meter, work, table: &table, soft, lower: &lower, upper: &upper, phase_one, n };
 
+    // The slack iteration needs no strictly feasible start: tried first, phase I (where the start
+    // is not strictly feasible) and the strictly feasible iteration are what it falls back on, with
+    // the steps left, and what tells an infeasible program.
+    let mut z = y.clone();
+    let used = match problem(false).run_slack(&mut z, SLACK_STEPS).map_err(stopped)? {
+        slack::Ending::Converged => return Ok(optimal(program, z, &lower, &upper)),
+        slack::Ending::GaveUp(steps) => steps,
+    };
+
     // Phase I: minimise s with F_i(y) <= s, until some y has every F_i clearly below 0.
     let start_worst = worst(&values).1;
-    // The slack iteration needs no strictly feasible start: tried first, phase I and the strictly
-    // feasible iteration are what it falls back on (and what tells an infeasible program).
-    let mut used = 0;
-    if soft > 0 && start_worst >= -MARGIN {
-        let mut z = y.clone();
-        match problem(false).run_slack(&mut z, SLACK_STEPS).map_err(stopped)? {
-            slack::Ending::Converged => return Ok(optimal(program, z, &lower, &upper)),
-            slack::Ending::GaveUp(steps) => used = steps,
-        }
-    }
     if soft > 0 && start_worst >= -MARGIN {
         let phase = problem(true);
         let mut z = y.clone();
@@ -228,12 +234,8 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
         y = z[..n].to_vec();
     }
 
-    // Phase II: the slack iteration, and where it gives up, the strictly feasible one from the same
-    // point with the steps left.
-    let phase = problem(false);
-    if let slack::Ending::GaveUp(used) = phase.run_slack(&mut y, SLACK_STEPS).map_err(stopped)? {
-        phase.run(&mut y, ITERATIONS - used, |_| false).map_err(stopped)?;
-    }
+    // Phase II.
+    problem(false).run(&mut y, ITERATIONS, |_| false).map_err(stopped)?;
     Ok(optimal(program, y, &lower, &upper))
 }
 

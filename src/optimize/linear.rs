@@ -56,12 +56,13 @@ pub(super) fn solve_factored(factor: &[f64], b: &[f64], n: usize, x: &mut [f64])
         let sum: f64 = row.iter().zip(&x[..i]).map(|(l, y)| l * y).sum();
         x[i] = (x[i] - sum) / factor[i * n + i];
     }
+    // L^T x = y by columns of L^T, that is rows of L: contiguous.
     for i in (0..n).rev() {
-        let mut value = x[i];
-        for k in i + 1..n {
-            value -= factor[k * n + i] * x[k];
+        let value = x[i] / factor[i * n + i];
+        x[i] = value;
+        for (v, l) in x[..i].iter_mut().zip(&factor[i * n..i * n + i]) {
+            *v -= l * value;
         }
-        x[i] = value / factor[i * n + i];
     }
 }
 

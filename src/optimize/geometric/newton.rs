@@ -47,7 +47,13 @@ pub(super) struct Table {
     /// Function `f`'s variables, ascending, at `touched_at[f]..touched_at[f + 1]`.
     pub(super) touched_at: Vec<usize>,
     pub(super) touched: Vec<usize>,
-    pub(super) variables: usize,
+    /// Term `t`'s (position in its function's variables, exponent) pairs at
+    /// `local_at[t]..local_at[t + 1]`.
+    local_at: Vec<usize>,
+    local: Vec<(u32, f64)>,
+    variables: usize,
+    /// Each function's terms' sums of (pairs as given) squared and of pairs plus one.
+    sizes: Vec<(u128, u128)>,
 }
 
 impl Table {
@@ -65,16 +71,22 @@ impl Table {
             coefficient: Vec::new(),
             touched_at: vec![0],
             touched: Vec::new(),
+            local_at: vec![0],
+            local: Vec::new(),
+            sizes: Vec::new(),
             variables,
         };
-        // Distinct monomials by a hash of their pairs, probing on past a collision: no key is
-        // allocated per term.
-        let mut known: std::collections::HashMap<u64, usize, std::hash::BuildHasherDefault<Spread>> =
-            std::collections::HashMap::with_capacity_and_hasher(256, Default::default());
+        // Distinct monomials in an open-addressed table of (hash of the pairs, monomial) with room
+        // for every term twice over, probing on past a collision: no key is allocated per term.
+        let mut slots: Vec<(u64, usize)> = vec![(0, EMPTY); 256];
         let mut merged: Vec<(usize, f64)> = Vec::new();
+        let (mut seen, mut position) = (vec![false; variables], vec![0u32; variables]);
         for terms in functions {
             let first = table.touched.len();
+            let mut size = (0u128, 0u128);
             for (coefficient, exponents) in terms {
+                let given = exponents.len() as u128;
+                size = (size.0 + given * given, size.1 + given + 1);
                 merged.clear();
                 for &(k, e) in exponents {
                     match merged.iter_mut().find(|(v, _)| *v == k) {
@@ -85,41 +97,67 @@ impl Table {
                 if !merged.is_sorted_by_key(|&(k, _)| k) {
                     merged.sort_unstable_by_key(|&(k, _)| k);
                 }
-                let mut key = merged.iter().fold(0x9e37_79b9_7f4a_7c15u64, |h, &(k, e)| {
+                let key = merged.iter().fold(0x9e37_79b9_7f4a_7c15u64, |h, &(k, e)| {
                     (h.rotate_left(5) ^ k as u64 ^ e.to_bits().rotate_left(17)).wrapping_mul(0x517c_c1b7_2722_0a95)
                 });
+                let mask = slots.len() - 1;
+                let mut at = (key >> 32) as usize & mask;
                 let u = loop {
-                    match known.get(&key) {
-                        None => {
+                    match slots[at] {
+                        (_, EMPTY) => {
                             let next = table.monomial_at.len() - 1;
-                            known.insert(key, next);
+                            slots[at] = (key, next);
                             table.pairs.extend_from_slice(&merged);
                             table.monomial_at.push(table.pairs.len());
+                            if 2 * table.monomial_at.len() > slots.len() {
+                                slots = grown(&slots);
+                            }
                             break next;
                         }
-                        Some(&u) if same(table.monomial_pairs(u), &merged) => break u,
-                        Some(_) => key = key.wrapping_add(1),
+                        (known, u) if known == key && same(table.monomial_pairs(u), &merged) => break u,
+                        _ => at = (at + 1) & mask,
                     }
                 };
                 table.monomial.push(u);
                 table.coefficient.push(coefficient);
-                table.touched.extend(merged.iter().map(|&(k, _)| k));
-            }
-            table.term_at.push(table.monomial.len());
-            if !table.touched[first..].is_sorted() {
-                table.touched[first..].sort_unstable();
-            }
-            let mut kept = first;
-            for index in first..table.touched.len() {
-                if index == first || table.touched[index] != table.touched[kept - 1] {
-                    table.touched[kept] = table.touched[index];
-                    kept += 1;
+                for &(k, _) in &merged {
+                    if !seen[k] {
+                        seen[k] = true;
+                        table.touched.push(k);
+                    }
                 }
             }
-            table.touched.truncate(kept);
-            table.touched_at.push(kept);
+            let terms = *table.term_at.last().unwrap_or(&0)..table.monomial.len();
+            table.term_at.push(table.monomial.len());
+            table.sizes.push(size);
+            let touched = &mut table.touched[first..];
+            touched.sort_unstable();
+            for (local, &k) in touched.iter().enumerate() {
+                seen[k] = false;
+                position[k] = local as u32;
+            }
+            table.touched_at.push(table.touched.len());
+            // Each term's pairs against the function's own variables, for its gradient.
+            for t in terms {
+                let u = table.monomial[t];
+                for &(k, e) in &table.pairs[table.monomial_at[u]..table.monomial_at[u + 1]] {
+                    table.local.push((position[k], e));
+                }
+                table.local_at.push(table.local.len());
+            }
         }
         table
+    }
+
+    /// Work units of one Newton step and of one line-search trial over every function, as
+    /// [`super::step_work`] counts them, `base` the box's and the factorisation's.
+    pub(super) fn work(&self, base: (u128, u128)) -> (u128, u128) {
+        let gradient = self.variables as u128 + 1;
+        (0..self.functions()).fold(base, |(step, trial), f| {
+            let touched = self.touched(f).len() as u128;
+            let (hessian, values) = self.sizes[f];
+            (step + touched * touched + hessian + values + gradient, trial + values + gradient)
+        })
     }
 
     /// Number of functions.
@@ -145,7 +183,7 @@ impl Table {
     pub(super) fn values(&self, y: &[f64]) -> Vec<f64> {
         let mut values = vec![0.0; self.functions()];
         let mut weights = vec![0.0; self.monomial.len()];
-        let mut scratch = Scratch { powers: vec![0.0; self.monomial_at.len() - 1], dense: Vec::new() };
+        let mut scratch = Scratch { powers: vec![0.0; self.monomial_at.len() - 1] };
         self.evaluate(y, &mut values, &mut weights, &mut scratch);
         values
     }
@@ -185,19 +223,16 @@ impl Table {
     }
 
     /// Every function's gradient over its variables into `gradients` (at `touched_at`), from the
-    /// term shares [`Table::evaluate`] gave, with `scratch.dense` (left at zero) as scratch.
-    pub(super) fn gradients(&self, weights: &[f64], gradients: &mut [f64], scratch: &mut Scratch) {
+    /// term shares [`Table::evaluate`] gave.
+    pub(super) fn gradients(&self, weights: &[f64], gradients: &mut [f64]) {
         for f in 0..self.functions() {
-            for t in self.term_at[f]..self.term_at[f + 1] {
-                for &(k, e) in self.monomial_pairs(self.monomial[t]) {
-                    scratch.dense[k] += weights[t] * e;
-                }
-            }
-            let touched = self.touched(f);
             let gradient = &mut gradients[self.touched_at[f]..self.touched_at[f + 1]];
-            for (g, &k) in gradient.iter_mut().zip(touched) {
-                *g = scratch.dense[k];
-                scratch.dense[k] = 0.0;
+            gradient.fill(0.0);
+            for t in self.term_at[f]..self.term_at[f + 1] {
+                let weight = weights[t];
+                for &(local, e) in &self.local[self.local_at[t]..self.local_at[t + 1]] {
+                    gradient[local as usize] += weight * e;
+                }
             }
         }
     }
@@ -259,28 +294,26 @@ fn same(a: &[(usize, f64)], b: &[(usize, f64)]) -> bool {
     a.len() == b.len() && a.iter().zip(b).all(|(p, q)| p.0 == q.0 && p.1.to_bits() == q.1.to_bits())
 }
 
-/// A hasher for keys that are already well-spread 64-bit hashes.
-#[derive(Default)]
-struct Spread(u64);
+/// An empty slot of the monomials' table.
+const EMPTY: usize = usize::MAX;
 
-impl std::hash::Hasher for Spread {
-    fn finish(&self) -> u64 {
-        self.0
-    }
-    fn write(&mut self, bytes: &[u8]) {
-        for &byte in bytes {
-            self.0 = (self.0.rotate_left(8) ^ u64::from(byte)).wrapping_mul(0x100_0000_01b3);
+/// The monomials' table `slots` rehashed into twice as many slots.
+fn grown(slots: &[(u64, usize)]) -> Vec<(u64, usize)> {
+    let mut more = vec![(0, EMPTY); 2 * slots.len()];
+    let mask = more.len() - 1;
+    for &(key, u) in slots.iter().filter(|slot| slot.1 != EMPTY) {
+        let mut at = (key >> 32) as usize & mask;
+        while more[at].1 != EMPTY {
+            at = (at + 1) & mask;
         }
+        more[at] = (key, u);
     }
-    fn write_u64(&mut self, value: u64) {
-        self.0 = value;
-    }
+    more
 }
 
-/// Scratch of [`Table::evaluate`] and [`Table::gradients`].
+/// Scratch of [`Table::evaluate`].
 pub(super) struct Scratch {
     pub(super) powers: Vec<f64>,
-    pub(super) dense: Vec<f64>,
 }
 
 /// One phase of the interior-point method: minimise the objective (phase II) or the slack `s`
@@ -381,7 +414,7 @@ impl Problem<'_> {
         }
         let inside = point.values.iter().all(|v| *v < 0.0 && v.is_finite());
         if inside {
-            self.table.gradients(&point.weights, &mut point.gradients, scratch);
+            self.table.gradients(&point.weights, &mut point.gradients);
         }
         inside
     }
@@ -522,7 +555,7 @@ impl Problem<'_> {
         let functions = self.table.functions();
         let monomials = self.table.monomial_at.len() - 1;
         let mut space = Space {
-            scratch: Scratch { powers: vec![0.0; monomials], dense: vec![0.0; self.table.variables.max(size)] },
+            scratch: Scratch { powers: vec![0.0; monomials] },
             scales: vec![0.0; functions],
             outers: vec![0.0; functions],
             shares: vec![0.0; monomials],

@@ -61,7 +61,7 @@ impl Problem<'_> {
         if !point.values.iter().chain(&point.functions[..1]).all(|v| v.is_finite()) {
             return false;
         }
-        self.table.gradients(&point.weights, &mut point.gradients, scratch);
+        self.table.gradients(&point.weights, &mut point.gradients);
         true
     }
 
@@ -154,7 +154,7 @@ impl Problem<'_> {
         let functions = self.table.functions();
         let monomials = self.table.monomial_at.len() - 1;
         let mut space = Space {
-            scratch: Scratch { powers: vec![0.0; monomials], dense: vec![0.0; self.table.variables.max(n)] },
+            scratch: Scratch { powers: vec![0.0; monomials] },
             scales: vec![0.0; functions],
             outers: vec![0.0; functions],
             shares: vec![0.0; monomials],
