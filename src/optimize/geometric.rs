@@ -197,10 +197,7 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
     debug_assert_eq!(work, step_work(program));
     meter.fits(work.0.saturating_mul(MAX_NEWTON_STEPS), Estimate::UpTo, Work::Elmore)?;
     let soft = program.constraints.len();
-    let values = table.values(&y);
-    if values[soft + 1..].iter().any(|v| v.is_nan() || *v >= 0.0) {
-        return Err(SolveError::Bad("the start must meet every hard constraint strictly".into()));
-    }
+    let broken = || SolveError::Bad("the start must meet every hard constraint strictly".into());
     // The largest soft constraint and its index, of every function's values.
     let worst = |values: &[f64]| {
         values[1..=soft].iter().copied().enumerate().fold((0, f64::NEG_INFINITY), |a, b| if b.1 > a.1 { b } else { a })
@@ -214,8 +211,13 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
     let mut z = y.clone();
     let used = match problem(false).run_slack(&mut z, SLACK_STEPS).map_err(stopped)? {
         slack::Ending::Converged => return Ok(optimal(program, z, &lower, &upper)),
+        slack::Ending::HardBroken => return Err(broken()),
         slack::Ending::GaveUp(steps) => steps,
     };
+    let values = table.values(&y);
+    if values[soft + 1..].iter().any(|v| v.is_nan() || *v >= 0.0) {
+        return Err(broken());
+    }
 
     // Phase I: minimise s with F_i(y) <= s, until some y has every F_i clearly below 0.
     let start_worst = worst(&values).1;

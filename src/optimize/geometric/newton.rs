@@ -40,7 +40,7 @@ pub(super) struct Table {
     pub(super) monomial_at: Vec<usize>,
     pairs: Vec<(usize, f64)>,
     /// Function `f`'s terms at `term_at[f]..term_at[f + 1]` (function 0 the objective).
-    term_at: Vec<usize>,
+    pub(super) term_at: Vec<usize>,
     /// Each term's monomial and coefficient.
     pub(super) monomial: Vec<usize>,
     coefficient: Vec<f64>,
@@ -51,6 +51,10 @@ pub(super) struct Table {
     /// `local_at[t]..local_at[t + 1]`.
     local_at: Vec<usize>,
     local: Vec<(u32, f64)>,
+    /// Each pair's index into the variables (exponent 1) and then their reciprocals (-1), and
+    /// whether every pair of a monomial has one.
+    base_index: Vec<u32>,
+    plain: Vec<bool>,
     variables: usize,
     /// Each function's terms' sums of (pairs as given) squared and of pairs plus one.
     sizes: Vec<(u128, u128)>,
@@ -74,6 +78,8 @@ impl Table {
             local_at: vec![0],
             local: Vec::new(),
             sizes: Vec::new(),
+            base_index: Vec::new(),
+            plain: Vec::new(),
             variables,
         };
         // Distinct monomials in an open-addressed table of (hash of the pairs, monomial) with room
@@ -108,6 +114,13 @@ impl Table {
                             let next = table.monomial_at.len() - 1;
                             slots[at] = (key, next);
                             table.pairs.extend_from_slice(&merged);
+                            let index = |&(k, e): &(usize, f64)| match e {
+                                1.0 => k as u32,
+                                -1.0 => (variables + k) as u32,
+                                _ => u32::MAX,
+                            };
+                            table.base_index.extend(merged.iter().map(index));
+                            table.plain.push(merged.iter().all(|pair| index(pair) != u32::MAX));
                             table.monomial_at.push(table.pairs.len());
                             if 2 * table.monomial_at.len() > slots.len() {
                                 slots = grown(&slots);
@@ -170,7 +183,7 @@ impl Table {
         &self.touched[self.touched_at[f]..self.touched_at[f + 1]]
     }
 
-    fn monomial_pairs(&self, u: usize) -> &[(usize, f64)] {
+    pub(super) fn monomial_pairs(&self, u: usize) -> &[(usize, f64)] {
         &self.pairs[self.monomial_at[u]..self.monomial_at[u + 1]]
     }
 
@@ -183,7 +196,7 @@ impl Table {
     pub(super) fn values(&self, y: &[f64]) -> Vec<f64> {
         let mut values = vec![0.0; self.functions()];
         let mut weights = vec![0.0; self.monomial.len()];
-        let mut scratch = Scratch { powers: vec![0.0; self.monomial_at.len() - 1] };
+        let mut scratch = Scratch::new(self, self.variables);
         self.evaluate(y, &mut values, &mut weights, &mut scratch);
         values
     }
@@ -191,14 +204,10 @@ impl Table {
     /// Every function's value at `y` into `values` and its term shares into `weights` (one per
     /// term), with `scratch.powers` (one per monomial) as scratch.
     pub(super) fn evaluate(&self, y: &[f64], values: &mut [f64], weights: &mut [f64], scratch: &mut Scratch) {
-        let mut top = f64::NEG_INFINITY;
-        for (u, power) in scratch.powers.iter_mut().enumerate() {
-            *power = self.monomial_pairs(u).iter().map(|&(k, e)| e * y[k]).sum::<f64>();
-            top = top.max(*power);
+        if !self.products(y, scratch) {
+            self.exponentials(y, scratch);
         }
-        for power in scratch.powers.iter_mut() {
-            *power = (*power - top).exp();
-        }
+        let top = scratch.top;
         for f in 0..self.functions() {
             let terms = self.term_at[f]..self.term_at[f + 1];
             let total: f64 = terms.clone().map(|t| self.coefficient[t] * scratch.powers[self.monomial[t]]).sum();
@@ -220,6 +229,49 @@ impl Table {
                 values[f] = own + total.ln();
             }
         }
+    }
+
+    /// Every monomial's value `exp(a_u . y - top)` into `scratch.powers`, `top` the largest
+    /// `a_u . y`, into `scratch.top`.
+    fn exponentials(&self, y: &[f64], scratch: &mut Scratch) {
+        let mut top = f64::NEG_INFINITY;
+        for (u, power) in scratch.powers.iter_mut().enumerate() {
+            *power = self.monomial_pairs(u).iter().map(|&(k, e)| e * y[k]).sum::<f64>();
+            top = top.max(*power);
+        }
+        for power in scratch.powers.iter_mut() {
+            *power = (*power - top).exp();
+        }
+        scratch.top = top;
+    }
+
+    /// Every monomial's value `exp(a_u . y)` into `scratch.powers` (and `top` 0), a monomial whose
+    /// exponents are all 1 or -1 as a product of the variables and their reciprocals (one
+    /// exponential per variable, not per monomial); false, leaving the work to
+    /// [`Table::exponentials`], where a value is too large or too small to keep its precision.
+    fn products(&self, y: &[f64], scratch: &mut Scratch) -> bool {
+        let n = self.variables;
+        for k in 0..n {
+            let x = y[k].exp();
+            if !(1e-150..=1e150).contains(&x) {
+                return false;
+            }
+            scratch.base[k] = x;
+            scratch.base[n + k] = 1.0 / x;
+        }
+        let (mut low, mut high) = (f64::INFINITY, 0.0f64);
+        for (u, power) in scratch.powers.iter_mut().enumerate() {
+            let at = self.monomial_at[u]..self.monomial_at[u + 1];
+            *power = if self.plain[u] {
+                self.base_index[at].iter().map(|&i| scratch.base[i as usize]).product()
+            } else {
+                self.pairs[at].iter().map(|&(k, e)| e * y[k]).sum::<f64>().exp()
+            };
+            low = low.min(*power);
+            high = high.max(*power);
+        }
+        scratch.top = 0.0;
+        low > 1e-200 && high < 1e200
     }
 
     /// Every function's gradient over its variables into `gradients` (at `touched_at`), from the
@@ -313,7 +365,18 @@ fn grown(slots: &[(u64, usize)]) -> Vec<(u64, usize)> {
 
 /// Scratch of [`Table::evaluate`].
 pub(super) struct Scratch {
-    pub(super) powers: Vec<f64>,
+    powers: Vec<f64>,
+    /// What every monomial's value is shifted by (in log terms).
+    top: f64,
+    /// Each variable and its reciprocal.
+    base: Vec<f64>,
+}
+
+impl Scratch {
+    /// Scratch for `table` over `variables` variables.
+    pub(super) fn new(table: &Table, variables: usize) -> Scratch {
+        Scratch { powers: vec![0.0; table.monomial_at.len() - 1], top: 0.0, base: vec![0.0; 2 * variables] }
+    }
 }
 
 /// One phase of the interior-point method: minimise the objective (phase II) or the slack `s`
@@ -555,7 +618,7 @@ impl Problem<'_> {
         let functions = self.table.functions();
         let monomials = self.table.monomial_at.len() - 1;
         let mut space = Space {
-            scratch: Scratch { powers: vec![0.0; monomials] },
+            scratch: Scratch::new(self.table, self.n),
             scales: vec![0.0; functions],
             outers: vec![0.0; functions],
             shares: vec![0.0; monomials],

@@ -10,7 +10,7 @@
 // Dense linear algebra reads best with explicit indices.
 #![allow(clippy::needless_range_loop)]
 
-use super::newton::{Point, Problem, Scratch, Stop};
+use super::newton::{Point, Problem, Scratch, Stop, Table};
 
 use crate::budget::Work;
 use crate::optimize::linear::{factor_spd, solve_factored};
@@ -19,6 +19,8 @@ use crate::optimize::linear::{factor_spd, solve_factored};
 pub(super) enum Ending {
     /// At the optimum, within tolerance: the point is in the caller's `y`.
     Converged,
+    /// The start does not meet every hard constraint strictly.
+    HardBroken,
     /// Given up after this many Newton steps (no progress or the step limit): `y` is as it was.
     GaveUp(usize),
 }
@@ -42,6 +44,8 @@ struct Space {
     dual_guess: Vec<f64>,
     /// Each constraint's share of the right-hand side.
     weights: Vec<f64>,
+    /// One gradient spread over every variable.
+    dense: Vec<f64>,
 }
 
 impl Problem<'_> {
@@ -154,7 +158,7 @@ impl Problem<'_> {
         let functions = self.table.functions();
         let monomials = self.table.monomial_at.len() - 1;
         let mut space = Space {
-            scratch: Scratch { powers: vec![0.0; monomials] },
+            scratch: Scratch::new(self.table, n),
             scales: vec![0.0; functions],
             outers: vec![0.0; functions],
             shares: vec![0.0; monomials],
@@ -168,14 +172,19 @@ impl Problem<'_> {
             slack_guess: vec![0.0; count],
             dual_guess: vec![0.0; count],
             weights: vec![0.0; count],
+            dense: vec![0.0; n],
         };
+        let outer = self.table.outer(n);
         let mut point = self.point();
         let mut trial_point = self.point();
         if !self.evaluate_any(y, &mut point, &mut space.scratch) {
             return Ok(Ending::GaveUp(0));
         }
+        if point.functions[self.soft + 1..].iter().any(|v| *v >= 0.0) {
+            return Ok(Ending::HardBroken);
+        }
         let mut slack: Vec<f64> = point.values.iter().map(|g| (-g).max(SLACK_FLOOR)).collect();
-        let mut lambda: Vec<f64> = slack.iter().map(|s| 1.0 / s).collect();
+        let mut lambda: Vec<f64> = slack.iter().map(|s| START / s).collect();
         let mut primal = vec![0.0; count];
         let mut centring = vec![0.0; count];
         let mut z = y.to_vec();
@@ -211,13 +220,16 @@ impl Problem<'_> {
             }
             space.hessian.fill(0.0);
             let curvature = (space.scales.as_slice(), space.outers.as_slice());
-            self.table.add_hessian(
+            self.table.add_hessian_flat(
                 (&point.weights, &point.gradients),
                 curvature,
                 &mut space.hessian,
                 n,
                 &mut space.shares,
+                &outer,
+                &mut space.dense,
             );
+
             for j in 0..n {
                 space.hessian[j * n + j] += lambda[m + j] / slack[m + j] + lambda[m + n + j] / slack[m + n + j];
             }
@@ -238,9 +250,11 @@ impl Problem<'_> {
             let sigma = (guess / mu).clamp(0.0, 1.0).powi(3);
             space.slack_guess.copy_from_slice(&space.slack_step);
             space.dual_guess.copy_from_slice(&space.dual_step);
-            // Corrector: centring at sigma mu, less the predictor's second-order term.
+            // Corrector: centring at sigma mu (no nearer 0 than the gap needs: rounding takes over
+            // there), less the predictor's second-order term.
+            let target = (sigma * mu).max(FLOOR * GAP / count as f64);
             for i in 0..count {
-                centring[i] = sigma * mu - lambda[i] * slack[i] - space.slack_guess[i] * space.dual_guess[i];
+                centring[i] = target - lambda[i] * slack[i] - space.slack_guess[i] * space.dual_guess[i];
             }
             self.newton_step(&point, &slack, &lambda, &primal, &centring, &mut space);
             let keep = (1.0 - mu).max(KEEP);
@@ -271,6 +285,89 @@ impl Problem<'_> {
     }
 }
 
+/// Every monomial's outer product `a_u a_u^T` as (index into a row-major `size x size` matrix,
+/// value) over its lower triangle, at `at[u]..at[u + 1]`: what [`Table::add_hessian_flat`] adds
+/// with the monomial's summed weight, read in order.
+pub(super) struct Outer {
+    at: Vec<usize>,
+    entries: Vec<(u32, f64)>,
+}
+
+impl Table {
+    /// The monomials' outer products for a `size x size` matrix.
+    pub(super) fn outer(&self, size: usize) -> Outer {
+        let mut outer = Outer { at: Vec::with_capacity(self.monomial_at.len()), entries: Vec::new() };
+        outer.at.push(0);
+        for u in 0..self.monomial_at.len() - 1 {
+            let pairs = self.monomial_pairs(u);
+            for (p, &(kp, ep)) in pairs.iter().enumerate() {
+                for &(kq, eq) in &pairs[..=p] {
+                    // Pairs are sorted by variable, so kq <= kp: the lower triangle.
+                    outer.entries.push(((kp * size + kq) as u32, ep * eq));
+                }
+            }
+            outer.at.push(outer.entries.len());
+        }
+        outer
+    }
+
+    /// [`Table::add_hessian`] with the monomials' outer products read from `outer` (built for
+    /// `size`) and each function's rank-one part added a row at a time through `dense` (`size`
+    /// long, left at zero), so every inner loop runs over contiguous memory.
+    #[allow(clippy::too_many_arguments)]
+    pub(super) fn add_hessian_flat(
+        &self,
+        (weights, gradients): (&[f64], &[f64]),
+        (scales, outers): (&[f64], &[f64]),
+        hessian: &mut [f64],
+        size: usize,
+        shares: &mut [f64],
+        outer: &Outer,
+        dense: &mut [f64],
+    ) {
+        shares.fill(0.0);
+        for f in 0..self.functions() {
+            let scale = scales[f];
+            if scale != 0.0 {
+                let terms = self.term_at[f]..self.term_at[f + 1];
+                for (&u, &weight) in self.monomial[terms.clone()].iter().zip(&weights[terms]) {
+                    shares[u] += scale * weight;
+                }
+            }
+        }
+        for (u, &share) in shares.iter().enumerate() {
+            if share != 0.0 {
+                for &(index, value) in &outer.entries[outer.at[u]..outer.at[u + 1]] {
+                    hessian[index as usize] += share * value;
+                }
+            }
+        }
+        for f in 0..self.functions() {
+            let rank_one = outers[f] - scales[f];
+            if rank_one == 0.0 {
+                continue;
+            }
+            let touched = self.touched(f);
+            let gradient = &gradients[self.touched_at[f]..self.touched_at[f + 1]];
+            for (&k, &g) in touched.iter().zip(gradient) {
+                dense[k] = g;
+            }
+            for (&vp, &g) in touched.iter().zip(gradient) {
+                let factor = rank_one * g;
+                let row = &mut hessian[vp * size..vp * size + vp + 1];
+                for (h, d) in row.iter_mut().zip(&dense[..=vp]) {
+                    *h += factor * d;
+                }
+            }
+            for &k in touched {
+                dense[k] = 0.0;
+            }
+        }
+    }
+}
+
+/// Every `s_i lambda_i` at the start.
+const START: f64 = 0.5;
 /// The least slack a constraint starts with (in log terms) where the start does not meet it.
 const SLACK_FLOOR: f64 = 1e-2;
 /// The least share of the way to the boundary a step keeps (more near the optimum).
@@ -279,6 +376,8 @@ const KEEP: f64 = 0.99;
 const GAP: f64 = 1e-10;
 /// The iteration gives up once `sum s_i lambda_i` passes its start's by this factor.
 const DIVERGED: f64 = 1e6;
+/// The least centring target, a share of the mean `s_i lambda_i` the optimum is accepted at.
+const FLOOR: f64 = 0.1;
 /// Largest dual residual accepted at the optimum.
 const DUAL_TOLERANCE: f64 = 1e-8;
 /// Largest `|G_i + s_i|` accepted at the optimum.
