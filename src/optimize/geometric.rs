@@ -191,7 +191,11 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
         return Err(SolveError::Bad("the start must lie strictly inside the box".into()));
     }
     let functions = std::iter::once(&program.objective).chain(&program.constraints).chain(&program.hard);
-    let table = Table::new(functions.map(|p| p.terms.iter().map(|t| (t.coefficient, t.exponents.as_slice()))), n);
+    let size = functions.clone().fold((0, 0, 0), |(f, t, p), posynomial| {
+        (f + 1, t + posynomial.terms.len(), p + posynomial.terms.iter().map(|t| t.exponents.len()).sum::<usize>())
+    });
+    let terms = functions.map(|p| p.terms.iter().map(|t| (t.coefficient, t.exponents.as_slice())));
+    let table = Table::new(terms, n, size);
     // step_work(program), counted from the table.
     let work = table.work(base_work(n));
     debug_assert_eq!(work, step_work(program));

@@ -62,29 +62,36 @@ pub(super) struct Table {
 
 impl Table {
     /// The table of `functions` (each a list of terms: coefficient, (variable, exponent) pairs)
-    /// over `variables` variables.
-    pub(super) fn new<'a, T>(functions: impl Iterator<Item = T>, variables: usize) -> Table
+    /// over `variables` variables; `size` is about how many functions, terms and pairs there are
+    /// (room is made for that many).
+    pub(super) fn new<'a, T>(functions: impl Iterator<Item = T>, variables: usize, size: (usize, usize, usize)) -> Table
     where
         T: Iterator<Item = (f64, &'a [(usize, f64)])>,
     {
+        let with = |capacity: usize| {
+            let mut at = Vec::with_capacity(capacity + 1);
+            at.push(0);
+            at
+        };
+        let (functions_hint, terms, pairs) = size;
         let mut table = Table {
-            monomial_at: vec![0],
-            pairs: Vec::new(),
-            term_at: vec![0],
-            monomial: Vec::new(),
-            coefficient: Vec::new(),
-            touched_at: vec![0],
-            touched: Vec::new(),
-            local_at: vec![0],
-            local: Vec::new(),
-            sizes: Vec::new(),
-            base_index: Vec::new(),
-            plain: Vec::new(),
+            monomial_at: with(terms),
+            pairs: Vec::with_capacity(pairs),
+            term_at: with(functions_hint),
+            monomial: Vec::with_capacity(terms),
+            coefficient: Vec::with_capacity(terms),
+            touched_at: with(functions_hint),
+            touched: Vec::with_capacity(functions_hint * variables.min(8)),
+            local_at: with(terms),
+            local: Vec::with_capacity(pairs),
+            sizes: Vec::with_capacity(functions_hint),
+            base_index: Vec::with_capacity(pairs),
+            plain: Vec::with_capacity(terms),
             variables,
         };
         // Distinct monomials in an open-addressed table of (hash of the pairs, monomial) with room
         // for every term twice over, probing on past a collision: no key is allocated per term.
-        let mut slots: Vec<(u64, usize)> = vec![(0, EMPTY); 256];
+        let mut slots: Vec<(u64, usize)> = vec![(0, EMPTY); (2 * terms).next_power_of_two().max(16)];
         let mut merged: Vec<(usize, f64)> = Vec::new();
         let (mut seen, mut position) = (vec![false; variables], vec![0u32; variables]);
         for terms in functions {

@@ -2,8 +2,8 @@
 //! per constraint (Nocedal & Wright, "Numerical Optimization", 2006, section 19.2), so that only the
 //! slacks and the multipliers must stay positive, not the constraints: `G_i(y) + s_i = 0`,
 //! `s_i > 0`, `lambda_i > 0`, with Mehrotra's predictor-corrector choice of the centring (section
-//! 14.2, there for linear programs) and a step to 0.99 or more of the way to the slacks' and the
-//! multipliers' boundary. A convex `G_i` lies above its linearisation, so a step may leave a
+//! 14.2, there for linear programs) and steps to 0.99 or more of the way to the boundary, one
+//! length for the point and its slacks, another for the multipliers. A convex `G_i` lies above its linearisation, so a step may leave a
 //! constraint above its slack, which the next steps close; the start need not meet the
 //! constraints, only lie inside the box.
 
@@ -258,7 +258,9 @@ impl Problem<'_> {
             }
             self.newton_step(&point, &slack, &lambda, &primal, &centring, &mut space);
             let keep = (1.0 - mu).max(KEEP);
-            let mut length = Self::reach(&slack, &space.slack_step, &lambda, &space.dual_step, keep);
+            // The primal point and the slacks go their own share of the way, the multipliers theirs.
+            let mut length = Self::reach(&slack, &space.slack_step, &[], &[], keep);
+            let mut dual_length = Self::reach(&[], &[], &lambda, &space.dual_step, keep);
             loop {
                 if length < 1e-12 {
                     return Ok(Ending::GaveUp(step + 1));
@@ -269,12 +271,13 @@ impl Problem<'_> {
                 }
                 for i in 0..count {
                     trial_slack[i] = slack[i] + length * space.slack_step[i];
-                    trial_lambda[i] = lambda[i] + length * space.dual_step[i];
+                    trial_lambda[i] = lambda[i] + dual_length * space.dual_step[i];
                 }
                 if self.evaluate_any(&trial, &mut trial_point, &mut space.scratch) {
                     break;
                 }
                 length *= 0.5;
+                dual_length *= 0.5;
             }
             std::mem::swap(&mut z, &mut trial);
             std::mem::swap(&mut point, &mut trial_point);
