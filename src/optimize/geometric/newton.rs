@@ -217,13 +217,18 @@ impl Table {
         let top = scratch.top;
         for f in 0..self.functions() {
             let terms = self.term_at[f]..self.term_at[f + 1];
-            let total: f64 = terms.clone().map(|t| self.coefficient[t] * scratch.powers[self.monomial[t]]).sum();
+            let mut total = 0.0;
+            let own = &mut weights[terms.clone()];
+            for ((weight, &c), &u) in
+                own.iter_mut().zip(&self.coefficient[terms.clone()]).zip(&self.monomial[terms.clone()])
+            {
+                *weight = c * scratch.powers[u];
+                total += *weight;
+            }
             if total > 1e-280 && total.is_finite() {
                 values[f] = top + total.ln();
                 let share = 1.0 / total;
-                for t in terms.clone() {
-                    weights[t] = self.coefficient[t] * scratch.powers[self.monomial[t]] * share;
-                }
+                own.iter_mut().for_each(|weight| *weight *= share);
             } else {
                 // Terms far below the table's largest: each function shifted by its own largest.
                 let own = terms.clone().map(|t| self.exponent(t, y)).fold(f64::NEG_INFINITY, f64::max);
