@@ -46,6 +46,8 @@ struct Space {
     weights: Vec<f64>,
     /// One gradient spread over every variable.
     dense: Vec<f64>,
+    /// Each slack's reciprocal.
+    inverse: Vec<f64>,
 }
 
 impl Problem<'_> {
@@ -100,21 +102,14 @@ impl Problem<'_> {
     }
 
     /// The Newton step for the centring residual `centring` (`sigma mu - lambda_i s_i` and any
-    /// correction) with the factor in `space.factor`: `space.step`, `space.slack_step`,
-    /// `space.dual_step`. `primal` is `G_i + s_i`.
-    fn newton_step(
-        &self,
-        point: &Point,
-        slack: &[f64],
-        lambda: &[f64],
-        primal: &[f64],
-        centring: &[f64],
-        space: &mut Space,
-    ) {
+    /// correction) with the factor in `space.factor` and the slacks' reciprocals in
+    /// `space.inverse`: `space.step`, `space.slack_step`, `space.dual_step`. `primal` is
+    /// `G_i + s_i`.
+    fn newton_step(&self, point: &Point, lambda: &[f64], primal: &[f64], centring: &[f64], space: &mut Space) {
         let (n, m) = (self.n, self.constraints());
         // right = -r_d - sum grad G_i (lambda_i r_p_i + r_c_i) / s_i
         for (i, w) in space.weights.iter_mut().enumerate() {
-            *w = (lambda[i] * primal[i] + centring[i]) / slack[i];
+            *w = (lambda[i] * primal[i] + centring[i]) * space.inverse[i];
         }
         for (r, d) in space.right.iter_mut().zip(&space.dual) {
             *r = -d;
@@ -134,20 +129,21 @@ impl Problem<'_> {
             // ds_i = -r_p_i - grad G_i . dy;  dlambda_i = (r_c_i - lambda_i ds_i) / s_i
             let ds = -primal[i] - space.slack_step[i];
             space.slack_step[i] = ds;
-            space.dual_step[i] = (centring[i] - lambda[i] * ds) / slack[i];
+            space.dual_step[i] = (centring[i] - lambda[i] * ds) * space.inverse[i];
         }
     }
 
     /// The longest step up to 1 that keeps every slack and multiplier at least `1 - keep` of
     /// the way from 0.
     fn reach(slack: &[f64], slack_step: &[f64], lambda: &[f64], dual_step: &[f64], keep: f64) -> f64 {
-        let mut length: f64 = 1.0;
-        for (v, d) in slack.iter().zip(slack_step).chain(lambda.iter().zip(dual_step)) {
-            if *d < 0.0 {
-                length = length.min(-keep * v / d);
+        // The least of 1 / keep and every v / -d, kept as a fraction (no division in the loop).
+        let (mut above, mut below) = (1.0, keep);
+        for (&v, &d) in slack.iter().zip(slack_step).chain(lambda.iter().zip(dual_step)) {
+            if d < 0.0 && v * below < above * -d {
+                (above, below) = (v, -d);
             }
         }
-        length
+        keep * above / below
     }
 
     /// The slack iteration from `y` (inside the box; phase II only), at most `limit` Newton steps.
@@ -173,6 +169,7 @@ impl Problem<'_> {
             dual_guess: vec![0.0; count],
             weights: vec![0.0; count],
             dense: vec![0.0; n],
+            inverse: vec![0.0; count],
         };
         let outer = self.table.outer(n);
         let mut point = self.point();
@@ -211,12 +208,15 @@ impl Problem<'_> {
                 // The multipliers run away (what an infeasible program does): no optimum here.
                 return Ok(Ending::GaveUp(step + 1));
             }
+            for (inverse, s) in space.inverse.iter_mut().zip(&slack) {
+                *inverse = 1.0 / s;
+            }
             // K = hess f + sum lambda_i hess G_i + sum (lambda_i / s_i) grad G_i grad G_i^T.
             space.scales[0] = 1.0;
             space.outers[0] = 0.0;
             for i in 0..m {
                 space.scales[i + 1] = lambda[i];
-                space.outers[i + 1] = lambda[i] / slack[i];
+                space.outers[i + 1] = lambda[i] * space.inverse[i];
             }
             space.hessian.fill(0.0);
             let curvature = (space.scales.as_slice(), space.outers.as_slice());
@@ -231,7 +231,8 @@ impl Problem<'_> {
             );
 
             for j in 0..n {
-                space.hessian[j * n + j] += lambda[m + j] / slack[m + j] + lambda[m + n + j] / slack[m + n + j];
+                space.hessian[j * n + j] +=
+                    lambda[m + j] * space.inverse[m + j] + lambda[m + n + j] * space.inverse[m + n + j];
             }
             if !factor_spd(&space.hessian, n, &mut space.factor) {
                 return Ok(Ending::GaveUp(step + 1));
@@ -241,7 +242,7 @@ impl Problem<'_> {
             for i in 0..count {
                 centring[i] = -lambda[i] * slack[i];
             }
-            self.newton_step(&point, &slack, &lambda, &primal, &centring, &mut space);
+            self.newton_step(&point, &lambda, &primal, &centring, &mut space);
             let reach = Self::reach(&slack, &space.slack_step, &lambda, &space.dual_step, 1.0);
             let guess: f64 = (0..count)
                 .map(|i| (slack[i] + reach * space.slack_step[i]) * (lambda[i] + reach * space.dual_step[i]))
@@ -256,7 +257,7 @@ impl Problem<'_> {
             for i in 0..count {
                 centring[i] = target - lambda[i] * slack[i] - space.slack_guess[i] * space.dual_guess[i];
             }
-            self.newton_step(&point, &slack, &lambda, &primal, &centring, &mut space);
+            self.newton_step(&point, &lambda, &primal, &centring, &mut space);
             let keep = (1.0 - mu).max(KEEP);
             // The primal point and the slacks go their own share of the way, the multipliers theirs.
             let mut length = Self::reach(&slack, &space.slack_step, &[], &[], keep);
