@@ -3,9 +3,12 @@
 //! slacks and the multipliers must stay positive, not the constraints: `G_i(y) + s_i = 0`,
 //! `s_i > 0`, `lambda_i > 0`, with Mehrotra's predictor-corrector choice of the centring (section
 //! 14.2, there for linear programs) and steps to 0.99 or more of the way to the boundary, one
-//! length for the point and its slacks, another for the multipliers. A convex `G_i` lies above its linearisation, so a step may leave a
-//! constraint above its slack, which the next steps close; the start need not meet the
-//! constraints, only lie inside the box.
+//! length for the point and its slacks, another for the multipliers. A convex `G_i` lies above its
+//! linearisation, so a step may leave a constraint above its slack, which the next steps close; the
+//! start need not meet the constraints, only lie inside the box. The optimum is accepted with every
+//! `|G_i + s_i|` within `1e-11`, so a constraint may end that far (in log terms) above 0. Where the
+//! multipliers run away (an infeasible program) or the Newton matrix cannot be factorised, the
+//! iteration gives up and the caller falls back on phase I and the strictly feasible iteration.
 
 // Dense linear algebra reads best with explicit indices.
 #![allow(clippy::needless_range_loop)]
@@ -229,7 +232,6 @@ impl Problem<'_> {
                 &outer,
                 &mut space.dense,
             );
-
             for j in 0..n {
                 space.hessian[j * n + j] +=
                     lambda[m + j] * space.inverse[m + j] + lambda[m + n + j] * space.inverse[m + n + j];
