@@ -381,7 +381,7 @@ const KEEP: f64 = 0.99;
 /// Largest `sum s_i lambda_i` accepted at the optimum (relative accuracy of the objective).
 const GAP: f64 = 1e-10;
 /// The iteration gives up once `sum s_i lambda_i` passes its start's by this factor.
-const DIVERGED: f64 = 1e6;
+const DIVERGED: f64 = 1e3;
 /// The least centring target, a share of the mean `s_i lambda_i` the optimum is accepted at.
 const FLOOR: f64 = 0.1;
 /// Largest dual residual accepted at the optimum.
