@@ -1,17 +1,21 @@
 //! Geometric programs: minimise a posynomial subject to posynomials `<= 1` and a box on every
 //! variable. In log variables `y = ln x` each posynomial becomes a log-sum-exp of affine functions,
-//! which is convex, so an interior-point method finds the global optimum: phase I finds a strictly
-//! feasible point (or shows there is none) by minimising the largest constraint, phase II minimises
-//! the objective. Both are primal-dual (Boyd & Vandenberghe, "Convex Optimization", 2004, section
-//! 11.7): Newton steps on the perturbed KKT conditions, a dense Cholesky factorisation of the reduced
-//! system, and a backtracking line search on the residual that keeps every iterate strictly inside
-//! (a trial outside steps back at once to where every constraint's chord, which lies above the
-//! convex constraint, is still below 0, and to inside the box; each step aims further along the
-//! central path after a full step near it, nearer after a short one).
+//! which is convex, so an interior-point method finds the global optimum. The main iteration
+//! ([`slack`]) is primal-dual with a slack per constraint, so it starts anywhere inside the box and
+//! needs no phase I; where it gives up (an infeasible program's multipliers run away), the solver
+//! falls back on two strictly feasible phases: phase I finds a strictly feasible point (or shows
+//! there is none) by minimising the largest constraint, phase II minimises the objective. Both are
+//! primal-dual (Boyd & Vandenberghe, "Convex Optimization", 2004, section 11.7): Newton steps on
+//! the perturbed KKT conditions, a dense Cholesky factorisation of the reduced system, and a
+//! backtracking line search on the residual that keeps every iterate strictly inside (a trial
+//! outside steps back at once to where every constraint's chord, which lies above the convex
+//! constraint, is still below 0, and to inside the box; each step aims further along the central
+//! path after a full step near it, nearer after a short one).
 //! Hard constraints hold strictly at the start and phase I keeps them at `<= 1` rather than relaxing
 //! them, so the least worst value it reports is over the points that meet them.
 
 mod newton;
+mod slack;
 
 use crate::budget::{Estimate, Meter, OverBudget, Work};
 use newton::{Finish, ITERATIONS, Problem, Stop, Table};
@@ -115,13 +119,18 @@ pub fn posynomial_work(posynomial: &Posynomial, variables: usize) -> (u128, u128
     posynomial_work_with(posynomial, variables, &mut Vec::new())
 }
 
-/// [`posynomial_work`] with `touched` as scratch.
-fn posynomial_work_with(posynomial: &Posynomial, variables: usize, touched: &mut Vec<usize>) -> (u128, u128) {
-    touched.clear();
-    touched.extend(posynomial.terms.iter().flat_map(|t| t.exponents.iter().map(|&(k, _)| k)));
-    touched.sort_unstable();
-    touched.dedup();
-    let (mut hessian, mut values) = (touched.len() as u128 * touched.len() as u128, 0u128);
+/// [`posynomial_work`] with `seen` (all false, left so) as scratch.
+fn posynomial_work_with(posynomial: &Posynomial, variables: usize, seen: &mut Vec<bool>) -> (u128, u128) {
+    let mut touched = 0u128;
+    for &(k, _) in posynomial.terms.iter().flat_map(|t| &t.exponents) {
+        if k >= seen.len() {
+            seen.resize(k + 1, false);
+        }
+        touched += u128::from(!seen[k]);
+        seen[k] = true;
+    }
+    posynomial.terms.iter().flat_map(|t| &t.exponents).for_each(|&(k, _)| seen[k] = false);
+    let (mut hessian, mut values) = (touched * touched, 0u128);
     for term in &posynomial.terms {
         let exponents = term.exponents.len() as u128;
         hessian += exponents * exponents;
@@ -141,11 +150,11 @@ pub fn base_work(variables: usize) -> (u128, u128) {
 /// Work units of one Newton step and of one line-search trial of a program.
 pub fn step_work(program: &Program) -> (u128, u128) {
     let n = program.variables;
-    let mut touched = Vec::new();
+    let mut seen = vec![false; n];
     std::iter::once(&program.objective).chain(&program.constraints).chain(&program.hard).fold(
         base_work(n),
         |(step, trial), posynomial| {
-            let (s, t) = posynomial_work_with(posynomial, n, &mut touched);
+            let (s, t) = posynomial_work_with(posynomial, n, &mut seen);
             (step + s, trial + t)
         },
     )
@@ -181,15 +190,18 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
     if (0..n).any(|j| !(lower[j] < y[j] && y[j] < upper[j])) {
         return Err(SolveError::Bad("the start must lie strictly inside the box".into()));
     }
-    let work = step_work(program);
-    meter.fits(work.0.saturating_mul(MAX_NEWTON_STEPS), Estimate::UpTo, Work::Elmore)?;
     let functions = std::iter::once(&program.objective).chain(&program.constraints).chain(&program.hard);
-    let table = Table::new(functions.map(|p| p.terms.iter().map(|t| (t.coefficient, t.exponents.as_slice()))), n);
+    let size = functions.clone().fold((0, 0, 0), |(f, t, p), posynomial| {
+        (f + 1, t + posynomial.terms.len(), p + posynomial.terms.iter().map(|t| t.exponents.len()).sum::<usize>())
+    });
+    let terms = functions.map(|p| p.terms.iter().map(|t| (t.coefficient, t.exponents.as_slice())));
+    let table = Table::new(terms, n, size);
+    // step_work(program), counted from the table.
+    let work = table.work(base_work(n));
+    debug_assert_eq!(work, step_work(program));
+    meter.fits(work.0.saturating_mul(MAX_NEWTON_STEPS), Estimate::UpTo, Work::Elmore)?;
     let soft = program.constraints.len();
-    let values = table.values(&y);
-    if values[soft + 1..].iter().any(|v| v.is_nan() || *v >= 0.0) {
-        return Err(SolveError::Bad("the start must meet every hard constraint strictly".into()));
-    }
+    let broken = || SolveError::Bad("the start must meet every hard constraint strictly".into());
     // The largest soft constraint and its index, of every function's values.
     let worst = |values: &[f64]| {
         values[1..=soft].iter().copied().enumerate().fold((0, f64::NEG_INFINITY), |a, b| if b.1 > a.1 { b } else { a })
@@ -197,13 +209,27 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
 
     let problem = |phase_one| Problem { meter, work, table: &table, soft, lower: &lower, upper: &upper, phase_one, n };
 
+    // The slack iteration needs no strictly feasible start: tried first, phase I (where the start
+    // is not strictly feasible) and the strictly feasible iteration are what it falls back on, with
+    // the steps left, and what tells an infeasible program.
+    let mut z = y.clone();
+    let used = match problem(false).run_slack(&mut z, SLACK_STEPS).map_err(stopped)? {
+        slack::Ending::Converged => return Ok(optimal(program, z, &lower, &upper)),
+        slack::Ending::HardBroken => return Err(broken()),
+        slack::Ending::GaveUp(steps) => steps,
+    };
+    let values = table.values(&y);
+    if values[soft + 1..].iter().any(|v| v.is_nan() || *v >= 0.0) {
+        return Err(broken());
+    }
+
     // Phase I: minimise s with F_i(y) <= s, until some y has every F_i clearly below 0.
     let start_worst = worst(&values).1;
     if soft > 0 && start_worst >= -MARGIN {
         let phase = problem(true);
         let mut z = y.clone();
         z.push(start_worst.max(0.0) + 1.0);
-        let finish = phase.run(&mut z, |values| worst(values).1 < -MARGIN).map_err(stopped)?;
+        let finish = phase.run(&mut z, ITERATIONS - used, |values| worst(values).1 < -MARGIN).map_err(stopped)?;
         let (index, value) = worst(&table.values(&z[..n]));
         if matches!(finish, Finish::Converged) && value >= -1e-9 {
             return Ok(Outcome::Infeasible { least_worst: value.exp(), worst_constraint: index });
@@ -215,10 +241,15 @@ pub fn solve_within(program: &Program, meter: &Meter) -> Result<Outcome, SolveEr
     }
 
     // Phase II.
-    problem(false).run(&mut y, |_| false).map_err(stopped)?;
+    problem(false).run(&mut y, ITERATIONS, |_| false).map_err(stopped)?;
+    Ok(optimal(program, y, &lower, &upper))
+}
+
+/// The outcome at the optimum `y` (log variables) of `program` with the box `lower`, `upper` (logs).
+fn optimal(program: &Program, y: Vec<f64>, lower: &[f64], upper: &[f64]) -> Outcome {
     let x: Vec<f64> = y.iter().map(|v| v.exp()).collect();
-    let at_bound = (0..n).filter(|&j| y[j] - lower[j] < 1e-6 || upper[j] - y[j] < 1e-6).collect();
-    Ok(Outcome::Optimal { objective: program.objective.value(&x), x, at_bound })
+    let at_bound = (0..y.len()).filter(|&j| y[j] - lower[j] < 1e-6 || upper[j] - y[j] < 1e-6).collect();
+    Outcome::Optimal { objective: program.objective.value(&x), x, at_bound }
 }
 
 /// The solver's error for a phase's stop.
@@ -230,6 +261,9 @@ fn stopped(stop: Stop) -> SolveError {
         Stop::OverBudget(over) => SolveError::OverBudget(over),
     }
 }
+
+/// Most Newton steps of the slack iteration before phase II falls back to the strictly feasible one.
+const SLACK_STEPS: usize = 50;
 
 /// Phase I stops once every constraint is below 1 by this margin (in log terms).
 const MARGIN: f64 = 1e-3;

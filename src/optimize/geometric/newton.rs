@@ -37,44 +37,69 @@ impl From<OverBudget> for Stop {
 pub(super) struct Table {
     /// Monomial `u`'s (variable, exponent) pairs at `monomial_at[u]..monomial_at[u + 1]`, sorted
     /// by variable, each variable once.
-    monomial_at: Vec<usize>,
+    pub(super) monomial_at: Vec<usize>,
     pairs: Vec<(usize, f64)>,
     /// Function `f`'s terms at `term_at[f]..term_at[f + 1]` (function 0 the objective).
-    term_at: Vec<usize>,
+    pub(super) term_at: Vec<usize>,
     /// Each term's monomial and coefficient.
-    monomial: Vec<usize>,
+    pub(super) monomial: Vec<usize>,
     coefficient: Vec<f64>,
     /// Function `f`'s variables, ascending, at `touched_at[f]..touched_at[f + 1]`.
-    touched_at: Vec<usize>,
-    touched: Vec<usize>,
+    pub(super) touched_at: Vec<usize>,
+    pub(super) touched: Vec<usize>,
+    /// Term `t`'s (position in its function's variables, exponent) pairs at
+    /// `local_at[t]..local_at[t + 1]`.
+    local_at: Vec<usize>,
+    local: Vec<(u32, f64)>,
+    /// Each pair's index into the variables (exponent 1) and then their reciprocals (-1), and
+    /// whether every pair of a monomial has one.
+    base_index: Vec<u32>,
+    plain: Vec<bool>,
     variables: usize,
+    /// Each function's terms' sums of (pairs as given) squared and of pairs plus one.
+    sizes: Vec<(u128, u128)>,
 }
 
 impl Table {
     /// The table of `functions` (each a list of terms: coefficient, (variable, exponent) pairs)
-    /// over `variables` variables.
-    pub(super) fn new<'a, T>(functions: impl Iterator<Item = T>, variables: usize) -> Table
+    /// over `variables` variables; `size` is about how many functions, terms and pairs there are
+    /// (room is made for that many).
+    pub(super) fn new<'a, T>(functions: impl Iterator<Item = T>, variables: usize, size: (usize, usize, usize)) -> Table
     where
         T: Iterator<Item = (f64, &'a [(usize, f64)])>,
     {
+        let with = |capacity: usize| {
+            let mut at = Vec::with_capacity(capacity + 1);
+            at.push(0);
+            at
+        };
+        let (functions_hint, terms, pairs) = size;
         let mut table = Table {
-            monomial_at: vec![0],
-            pairs: Vec::new(),
-            term_at: vec![0],
-            monomial: Vec::new(),
-            coefficient: Vec::new(),
-            touched_at: vec![0],
-            touched: Vec::new(),
+            monomial_at: with(terms),
+            pairs: Vec::with_capacity(pairs),
+            term_at: with(functions_hint),
+            monomial: Vec::with_capacity(terms),
+            coefficient: Vec::with_capacity(terms),
+            touched_at: with(functions_hint),
+            touched: Vec::with_capacity(functions_hint * variables.min(8)),
+            local_at: with(terms),
+            local: Vec::with_capacity(pairs),
+            sizes: Vec::with_capacity(functions_hint),
+            base_index: Vec::with_capacity(pairs),
+            plain: Vec::with_capacity(terms),
             variables,
         };
-        // Distinct monomials by a hash of their pairs, probing on past a collision: no key is
-        // allocated per term.
-        let mut known: std::collections::HashMap<u64, usize, std::hash::BuildHasherDefault<Spread>> =
-            std::collections::HashMap::with_capacity_and_hasher(256, Default::default());
+        // Distinct monomials in an open-addressed table of (hash of the pairs, monomial) with room
+        // for every term twice over, probing on past a collision: no key is allocated per term.
+        let mut slots: Vec<(u64, usize)> = vec![(0, EMPTY); (2 * terms).next_power_of_two().max(16)];
         let mut merged: Vec<(usize, f64)> = Vec::new();
+        let (mut seen, mut position) = (vec![false; variables], vec![0u32; variables]);
         for terms in functions {
             let first = table.touched.len();
+            let mut size = (0u128, 0u128);
             for (coefficient, exponents) in terms {
+                let given = exponents.len() as u128;
+                size = (size.0 + given * given, size.1 + given + 1);
                 merged.clear();
                 for &(k, e) in exponents {
                     match merged.iter_mut().find(|(v, _)| *v == k) {
@@ -85,45 +110,78 @@ impl Table {
                 if !merged.is_sorted_by_key(|&(k, _)| k) {
                     merged.sort_unstable_by_key(|&(k, _)| k);
                 }
-                let mut key = merged.iter().fold(0x9e37_79b9_7f4a_7c15u64, |h, &(k, e)| {
+                let key = merged.iter().fold(0x9e37_79b9_7f4a_7c15u64, |h, &(k, e)| {
                     (h.rotate_left(5) ^ k as u64 ^ e.to_bits().rotate_left(17)).wrapping_mul(0x517c_c1b7_2722_0a95)
                 });
+                let mask = slots.len() - 1;
+                let mut at = (key >> 32) as usize & mask;
                 let u = loop {
-                    match known.get(&key) {
-                        None => {
+                    match slots[at] {
+                        (_, EMPTY) => {
                             let next = table.monomial_at.len() - 1;
-                            known.insert(key, next);
+                            slots[at] = (key, next);
                             table.pairs.extend_from_slice(&merged);
+                            let index = |&(k, e): &(usize, f64)| match e {
+                                1.0 => k as u32,
+                                -1.0 => (variables + k) as u32,
+                                _ => u32::MAX,
+                            };
+                            table.base_index.extend(merged.iter().map(index));
+                            table.plain.push(merged.iter().all(|pair| index(pair) != u32::MAX));
                             table.monomial_at.push(table.pairs.len());
+                            if 2 * table.monomial_at.len() > slots.len() {
+                                slots = grown(&slots);
+                            }
                             break next;
                         }
-                        Some(&u) if same(table.monomial_pairs(u), &merged) => break u,
-                        Some(_) => key = key.wrapping_add(1),
+                        (known, u) if known == key && same(table.monomial_pairs(u), &merged) => break u,
+                        _ => at = (at + 1) & mask,
                     }
                 };
                 table.monomial.push(u);
                 table.coefficient.push(coefficient);
-                table.touched.extend(merged.iter().map(|&(k, _)| k));
-            }
-            table.term_at.push(table.monomial.len());
-            if !table.touched[first..].is_sorted() {
-                table.touched[first..].sort_unstable();
-            }
-            let mut kept = first;
-            for index in first..table.touched.len() {
-                if index == first || table.touched[index] != table.touched[kept - 1] {
-                    table.touched[kept] = table.touched[index];
-                    kept += 1;
+                for &(k, _) in &merged {
+                    if !seen[k] {
+                        seen[k] = true;
+                        table.touched.push(k);
+                    }
                 }
             }
-            table.touched.truncate(kept);
-            table.touched_at.push(kept);
+            let terms = *table.term_at.last().unwrap_or(&0)..table.monomial.len();
+            table.term_at.push(table.monomial.len());
+            table.sizes.push(size);
+            let touched = &mut table.touched[first..];
+            touched.sort_unstable();
+            for (local, &k) in touched.iter().enumerate() {
+                seen[k] = false;
+                position[k] = local as u32;
+            }
+            table.touched_at.push(table.touched.len());
+            // Each term's pairs against the function's own variables, for its gradient.
+            for t in terms {
+                let u = table.monomial[t];
+                for &(k, e) in &table.pairs[table.monomial_at[u]..table.monomial_at[u + 1]] {
+                    table.local.push((position[k], e));
+                }
+                table.local_at.push(table.local.len());
+            }
         }
         table
     }
 
+    /// Work units of one Newton step and of one line-search trial over every function, as
+    /// [`super::step_work`] counts them, `base` the box's and the factorisation's.
+    pub(super) fn work(&self, base: (u128, u128)) -> (u128, u128) {
+        let gradient = self.variables as u128 + 1;
+        (0..self.functions()).fold(base, |(step, trial), f| {
+            let touched = self.touched(f).len() as u128;
+            let (hessian, values) = self.sizes[f];
+            (step + touched * touched + hessian + values + gradient, trial + values + gradient)
+        })
+    }
+
     /// Number of functions.
-    fn functions(&self) -> usize {
+    pub(super) fn functions(&self) -> usize {
         self.term_at.len() - 1
     }
 
@@ -132,7 +190,7 @@ impl Table {
         &self.touched[self.touched_at[f]..self.touched_at[f + 1]]
     }
 
-    fn monomial_pairs(&self, u: usize) -> &[(usize, f64)] {
+    pub(super) fn monomial_pairs(&self, u: usize) -> &[(usize, f64)] {
         &self.pairs[self.monomial_at[u]..self.monomial_at[u + 1]]
     }
 
@@ -145,31 +203,32 @@ impl Table {
     pub(super) fn values(&self, y: &[f64]) -> Vec<f64> {
         let mut values = vec![0.0; self.functions()];
         let mut weights = vec![0.0; self.monomial.len()];
-        let mut scratch = Scratch { powers: vec![0.0; self.monomial_at.len() - 1], dense: Vec::new() };
+        let mut scratch = Scratch::new(self, self.variables);
         self.evaluate(y, &mut values, &mut weights, &mut scratch);
         values
     }
 
     /// Every function's value at `y` into `values` and its term shares into `weights` (one per
     /// term), with `scratch.powers` (one per monomial) as scratch.
-    fn evaluate(&self, y: &[f64], values: &mut [f64], weights: &mut [f64], scratch: &mut Scratch) {
-        let mut top = f64::NEG_INFINITY;
-        for (u, power) in scratch.powers.iter_mut().enumerate() {
-            *power = self.monomial_pairs(u).iter().map(|&(k, e)| e * y[k]).sum::<f64>();
-            top = top.max(*power);
+    pub(super) fn evaluate(&self, y: &[f64], values: &mut [f64], weights: &mut [f64], scratch: &mut Scratch) {
+        if !self.products(y, scratch) {
+            self.exponentials(y, scratch);
         }
-        for power in scratch.powers.iter_mut() {
-            *power = (*power - top).exp();
-        }
+        let top = scratch.top;
         for f in 0..self.functions() {
             let terms = self.term_at[f]..self.term_at[f + 1];
-            let total: f64 = terms.clone().map(|t| self.coefficient[t] * scratch.powers[self.monomial[t]]).sum();
+            let mut total = 0.0;
+            let own = &mut weights[terms.clone()];
+            for ((weight, &c), &u) in
+                own.iter_mut().zip(&self.coefficient[terms.clone()]).zip(&self.monomial[terms.clone()])
+            {
+                *weight = c * scratch.powers[u];
+                total += *weight;
+            }
             if total > 1e-280 && total.is_finite() {
                 values[f] = top + total.ln();
                 let share = 1.0 / total;
-                for t in terms.clone() {
-                    weights[t] = self.coefficient[t] * scratch.powers[self.monomial[t]] * share;
-                }
+                own.iter_mut().for_each(|weight| *weight *= share);
             } else {
                 // Terms far below the table's largest: each function shifted by its own largest.
                 let own = terms.clone().map(|t| self.exponent(t, y)).fold(f64::NEG_INFINITY, f64::max);
@@ -184,20 +243,60 @@ impl Table {
         }
     }
 
-    /// Every function's gradient over its variables into `gradients` (at `touched_at`), from the
-    /// term shares [`Table::evaluate`] gave, with `scratch.dense` (left at zero) as scratch.
-    fn gradients(&self, weights: &[f64], gradients: &mut [f64], scratch: &mut Scratch) {
-        for f in 0..self.functions() {
-            for t in self.term_at[f]..self.term_at[f + 1] {
-                for &(k, e) in self.monomial_pairs(self.monomial[t]) {
-                    scratch.dense[k] += weights[t] * e;
-                }
+    /// Every monomial's value `exp(a_u . y - top)` into `scratch.powers`, `top` the largest
+    /// `a_u . y`, into `scratch.top`.
+    fn exponentials(&self, y: &[f64], scratch: &mut Scratch) {
+        let mut top = f64::NEG_INFINITY;
+        for (u, power) in scratch.powers.iter_mut().enumerate() {
+            *power = self.monomial_pairs(u).iter().map(|&(k, e)| e * y[k]).sum::<f64>();
+            top = top.max(*power);
+        }
+        for power in scratch.powers.iter_mut() {
+            *power = (*power - top).exp();
+        }
+        scratch.top = top;
+    }
+
+    /// Every monomial's value `exp(a_u . y)` into `scratch.powers` (and `top` 0), a monomial whose
+    /// exponents are all 1 or -1 as a product of the variables and their reciprocals (one
+    /// exponential per variable, not per monomial); false, leaving the work to
+    /// [`Table::exponentials`], where a value is too large or too small to keep its precision.
+    fn products(&self, y: &[f64], scratch: &mut Scratch) -> bool {
+        let n = self.variables;
+        for k in 0..n {
+            let x = y[k].exp();
+            if !(1e-150..=1e150).contains(&x) {
+                return false;
             }
-            let touched = self.touched(f);
+            scratch.base[k] = x;
+            scratch.base[n + k] = 1.0 / x;
+        }
+        let (mut low, mut high) = (f64::INFINITY, 0.0f64);
+        for (u, power) in scratch.powers.iter_mut().enumerate() {
+            let at = self.monomial_at[u]..self.monomial_at[u + 1];
+            *power = if self.plain[u] {
+                self.base_index[at].iter().map(|&i| scratch.base[i as usize]).product()
+            } else {
+                self.pairs[at].iter().map(|&(k, e)| e * y[k]).sum::<f64>().exp()
+            };
+            low = low.min(*power);
+            high = high.max(*power);
+        }
+        scratch.top = 0.0;
+        low > 1e-200 && high < 1e200
+    }
+
+    /// Every function's gradient over its variables into `gradients` (at `touched_at`), from the
+    /// term shares [`Table::evaluate`] gave.
+    pub(super) fn gradients(&self, weights: &[f64], gradients: &mut [f64]) {
+        for f in 0..self.functions() {
             let gradient = &mut gradients[self.touched_at[f]..self.touched_at[f + 1]];
-            for (g, &k) in gradient.iter_mut().zip(touched) {
-                *g = scratch.dense[k];
-                scratch.dense[k] = 0.0;
+            gradient.fill(0.0);
+            for t in self.term_at[f]..self.term_at[f + 1] {
+                let weight = weights[t];
+                for &(local, e) in &self.local[self.local_at[t]..self.local_at[t + 1]] {
+                    gradient[local as usize] += weight * e;
+                }
             }
         }
     }
@@ -207,7 +306,7 @@ impl Table {
     /// product once with its summed weight, then each function's rank-one part `(outer_f - scale_f)
     /// g g^T` (`scales` and `outers` per function; a function of scale 0 and outer 0 adds nothing).
     /// `shares` (one per monomial) is scratch.
-    fn add_hessian(
+    pub(super) fn add_hessian(
         &self,
         (weights, gradients): (&[f64], &[f64]),
         (scales, outers): (&[f64], &[f64]),
@@ -259,28 +358,37 @@ fn same(a: &[(usize, f64)], b: &[(usize, f64)]) -> bool {
     a.len() == b.len() && a.iter().zip(b).all(|(p, q)| p.0 == q.0 && p.1.to_bits() == q.1.to_bits())
 }
 
-/// A hasher for keys that are already well-spread 64-bit hashes.
-#[derive(Default)]
-struct Spread(u64);
+/// An empty slot of the monomials' table.
+const EMPTY: usize = usize::MAX;
 
-impl std::hash::Hasher for Spread {
-    fn finish(&self) -> u64 {
-        self.0
-    }
-    fn write(&mut self, bytes: &[u8]) {
-        for &byte in bytes {
-            self.0 = (self.0.rotate_left(8) ^ u64::from(byte)).wrapping_mul(0x100_0000_01b3);
+/// The monomials' table `slots` rehashed into twice as many slots.
+fn grown(slots: &[(u64, usize)]) -> Vec<(u64, usize)> {
+    let mut more = vec![(0, EMPTY); 2 * slots.len()];
+    let mask = more.len() - 1;
+    for &(key, u) in slots.iter().filter(|slot| slot.1 != EMPTY) {
+        let mut at = (key >> 32) as usize & mask;
+        while more[at].1 != EMPTY {
+            at = (at + 1) & mask;
         }
+        more[at] = (key, u);
     }
-    fn write_u64(&mut self, value: u64) {
-        self.0 = value;
-    }
+    more
 }
 
-/// Scratch of [`Table::evaluate`] and [`Table::gradients`].
-struct Scratch {
+/// Scratch of [`Table::evaluate`].
+pub(super) struct Scratch {
     powers: Vec<f64>,
-    dense: Vec<f64>,
+    /// What every monomial's value is shifted by (in log terms).
+    top: f64,
+    /// Each variable and its reciprocal.
+    base: Vec<f64>,
+}
+
+impl Scratch {
+    /// Scratch for `table` over `variables` variables.
+    pub(super) fn new(table: &Table, variables: usize) -> Scratch {
+        Scratch { powers: vec![0.0; table.monomial_at.len() - 1], top: 0.0, base: vec![0.0; 2 * variables] }
+    }
 }
 
 /// One phase of the interior-point method: minimise the objective (phase II) or the slack `s`
@@ -308,14 +416,14 @@ pub(super) enum Finish {
 }
 
 /// Every function's value and derivatives at one point.
-struct Point {
+pub(super) struct Point {
     /// Constraint values `G_i` (posynomials less the slack where it relaxes them, then
     /// `y - upper`, then `lower - y`).
-    values: Vec<f64>,
+    pub(super) values: Vec<f64>,
     /// Each function's value, term shares and gradient ([`Table::evaluate`], [`Table::gradients`]).
-    functions: Vec<f64>,
-    weights: Vec<f64>,
-    gradients: Vec<f64>,
+    pub(super) functions: Vec<f64>,
+    pub(super) weights: Vec<f64>,
+    pub(super) gradients: Vec<f64>,
 }
 
 /// The buffers of one phase.
@@ -338,15 +446,15 @@ impl Problem<'_> {
     }
 
     /// Number of posynomial constraints.
-    fn constraints(&self) -> usize {
+    pub(super) fn constraints(&self) -> usize {
         self.table.functions() - 1
     }
 
-    fn count(&self) -> usize {
+    pub(super) fn count(&self) -> usize {
         self.constraints() + 2 * self.n
     }
 
-    fn point(&self) -> Point {
+    pub(super) fn point(&self) -> Point {
         let table = self.table;
         Point {
             values: vec![0.0; self.count()],
@@ -358,7 +466,7 @@ impl Problem<'_> {
 
     /// Function `f`'s gradient over its variables ([`Table::touched`] of `f`; constraint `i` is
     /// function `i + 1`).
-    fn gradient<'p>(&self, point: &'p Point, f: usize) -> &'p [f64] {
+    pub(super) fn gradient<'p>(&self, point: &'p Point, f: usize) -> &'p [f64] {
         &point.gradients[self.table.touched_at[f]..self.table.touched_at[f + 1]]
     }
 
@@ -381,7 +489,7 @@ impl Problem<'_> {
         }
         let inside = point.values.iter().all(|v| *v < 0.0 && v.is_finite());
         if inside {
-            self.table.gradients(&point.weights, &mut point.gradients, scratch);
+            self.table.gradients(&point.weights, &mut point.gradients);
         }
         inside
     }
@@ -516,12 +624,13 @@ impl Problem<'_> {
 
     /// Primal-dual interior-point iterations from a strictly feasible `z`.
     /// `early` reads every function's value at the iterate (the objective's first).
-    pub(super) fn run(&self, z: &mut [f64], early: impl Fn(&[f64]) -> bool) -> Result<Finish, Stop> {
+    /// At most `limit` Newton steps.
+    pub(super) fn run(&self, z: &mut [f64], limit: usize, early: impl Fn(&[f64]) -> bool) -> Result<Finish, Stop> {
         let size = self.size();
         let functions = self.table.functions();
         let monomials = self.table.monomial_at.len() - 1;
         let mut space = Space {
-            scratch: Scratch { powers: vec![0.0; monomials], dense: vec![0.0; self.table.variables.max(size)] },
+            scratch: Scratch::new(self.table, self.n),
             scales: vec![0.0; functions],
             outers: vec![0.0; functions],
             shares: vec![0.0; monomials],
@@ -543,7 +652,7 @@ impl Problem<'_> {
         let mut trial_dual = vec![0.0; size];
         let count = self.count() as f64;
         let mut growth = GROWTH;
-        for _ in 0..ITERATIONS {
+        for _ in 0..limit {
             self.meter.charge(self.work.0, Work::Elmore)?;
             if early(&point.functions) {
                 return Ok(Finish::Early);
