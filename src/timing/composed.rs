@@ -89,7 +89,7 @@ enum Memo {
 enum AfterMemo {
     Nothing,
     /// `gather` turns a vector into the table's index: its low byte's entry or'ed with its high
-    /// byte's (256 each).
+    /// byte's (256 each), for large tables (empty for the others).
     Table {
         gather: Box<[u16]>,
         states: Vec<After>,
@@ -183,6 +183,11 @@ impl Composed {
     pub fn hanging(&mut self, kind: NetworkKind, on_set: u64) -> Option<f64> {
         let hanging = self.trees[other_of(kind)].root_after(!on_set & self.every_input);
         (hanging.g <= 0.0).then_some(hanging.top)
+    }
+
+    /// The most capacitance a transition can charge: the output's and every inner node's, C.
+    pub fn charge_most(&self) -> f64 {
+        self.output_capacitance + self.inner_capacitance.pull_down + self.inner_capacitance.pull_up
     }
 
     /// The most [`Composed::hanging`] can be: every inner node of the other network.
@@ -301,6 +306,9 @@ impl Builder<'_> {
     }
 }
 
+/// The least table whose index is gathered byte by byte ([`gathering`]) rather than bit by bit.
+const GATHER_FROM: usize = 64;
+
 /// The index of a vector in the table of a subtree whose inputs are `inputs`: for each of its
 /// two bytes, each value's bits of those inputs packed in their order (low byte first).
 fn gathering(inputs: u64) -> Box<[u16]> {
@@ -387,9 +395,22 @@ fn after(parts: &[Part], inputs: &[u64], memos: &mut [AfterMemo], id: usize, on_
                 let size = 1usize << inputs[id].count_ones();
                 *states = spare_table(size);
                 *known = vec![0; size.div_ceil(64)];
-                *gather = gathering(inputs[id]);
+                if size > GATHER_FROM {
+                    *gather = gathering(inputs[id]);
+                }
             }
-            let index = usize::from(gather[on_set as usize & 255] | gather[256 + (on_set as usize >> 8 & 255)]);
+            let index = if gather.is_empty() {
+                // A few inputs: their bits picked one by one.
+                let (mut index, mut rest, mut place) = (0, inputs[id], 0);
+                while rest != 0 {
+                    index |= (on_set >> rest.trailing_zeros() & 1) << place;
+                    place += 1;
+                    rest &= rest - 1;
+                }
+                index as usize
+            } else {
+                usize::from(gather[on_set as usize & 255] | gather[256 + (on_set as usize >> 8 & 255)])
+            };
             if known[index / 64] >> (index % 64) & 1 == 1 {
                 *last = Some((key, states[index]));
                 return states[index];

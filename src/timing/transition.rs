@@ -294,6 +294,8 @@ impl<'a> Rule<'a> {
         };
         // Each input's slowest so far, and the resistance after the switch of each on-set met in a tie.
         let mut resistances = HashMap::default();
+        // With the trees: per on-set met, the most resistance a load sees after the switch.
+        let mut drives = if self.composed.is_some() { vec![f64::INFINITY; 1 << input_count] } else { Vec::new() };
         let mut best: Vec<Option<Candidate>> = (0..inputs.len()).map(|_| None).collect();
         let mut switching = vec![0u64; inputs.len()];
         for (word, &bits) in conducts.iter().enumerate() {
@@ -314,6 +316,7 @@ impl<'a> Rule<'a> {
                 // With the trees: what no transition into this on-set exceeds.
                 let mut bound: Option<(f64, f64)> = None;
                 let mut hanging: Option<f64> = None;
+                let mut least: Option<f64> = None;
                 for (slot, &(input, load)) in inputs.iter().enumerate() {
                     if switching[slot] >> bit & 1 == 0 {
                         continue;
@@ -327,6 +330,23 @@ impl<'a> Rule<'a> {
                             // held, nor tie with it, is passed over, as the rule would pass it.
                             if other_conducts(on_set) {
                                 return Err(NetworkFault::BothRails.into());
+                            }
+                            // First with every node of the circuit charged and the resistance of
+                            // an on-set within this one (fewer devices on: no less resistance).
+                            let most_drive = *least.get_or_insert_with(|| {
+                                let mut bits = on_set;
+                                let mut most = f64::INFINITY;
+                                while bits != 0 {
+                                    most = most.min(drives[(on_set ^ (bits & bits.wrapping_neg())) as usize]);
+                                    bits &= bits - 1;
+                                }
+                                most
+                            });
+                            let most = (composed.charge_most() + load) * most_drive * (1.0 + BOUND_ROUNDING);
+                            if bound.is_none()
+                                && best[slot].as_ref().is_some_and(|held| most < held.elmore * (1.0 - TIE))
+                            {
+                                continue;
                             }
                             let (reach, drive) = match bound {
                                 Some(bound) => bound,
@@ -347,11 +367,11 @@ impl<'a> Rule<'a> {
                                 continue;
                             }
                             let (unloaded, drive) = composed.moments(kind, on_set, input)?;
-                            Candidate { elmore: unloaded + load * drive, on_set, timed: None }
+                            Candidate { elmore: unloaded + load * drive, on_set, drive: Some(drive), timed: None }
                         }
                         None => {
                             let (elmore, timed) = self.eliminated(edge, on_set, input, load, &mut here, meter)?;
-                            Candidate { elmore, on_set, timed: Some(timed) }
+                            Candidate { elmore, on_set, drive: None, timed: Some(timed) }
                         }
                     };
                     let replace = match &mut best[slot] {
@@ -361,6 +381,10 @@ impl<'a> Rule<'a> {
                     if replace {
                         best[slot] = Some(candidate);
                     }
+                }
+                // The most resistance this on-set has, for the on-sets that hold it.
+                if let Some(at) = drives.get_mut(on_set as usize) {
+                    *at = bound.map_or(least.unwrap_or(f64::INFINITY), |(_, drive)| drive);
                 }
             }
         }
@@ -461,8 +485,8 @@ impl<'a> Rule<'a> {
                 paths::effective_resistance(&sized.network, &resistance, &on).unwrap_or(f64::INFINITY)
             })
         };
-        let candidate_r = resistance(candidate.on_set);
-        let held_r = resistance(held.on_set);
+        let candidate_r = candidate.drive.unwrap_or_else(|| resistance(candidate.on_set));
+        let held_r = held.drive.unwrap_or_else(|| resistance(held.on_set));
         candidate_r > held_r + TIE * candidate_r.max(held_r)
     }
 }
@@ -476,6 +500,9 @@ fn after_of(on_set: u64, input_count: usize, kind: NetworkKind) -> Vec<bool> {
 /// A transition the rule holds while it looks at the others.
 struct Candidate {
     elmore: f64,
+    /// Where composed over the trees: the resistance of what conducts after the switch (the
+    /// resistance a load sees, the same sum as [`paths::effective_resistance`]'s in another order).
+    drive: Option<f64>,
     on_set: u64,
     /// Where it was timed by elimination, the rest of its transition.
     timed: Option<Timed>,
