@@ -10,6 +10,7 @@
 pub mod cell;
 pub mod cell_vectors;
 pub mod circuit;
+pub mod composed;
 pub mod delays;
 pub mod error;
 pub mod posynomial;

@@ -15,8 +15,14 @@
 //! word, and each transition found is timed, its work counted against the budget (the conduction of
 //! each network over every on-set: words x devices, once; each input and edge: a pass over the
 //! words; each vector that switches the output: its conducting network, the devices of the circuit;
-//! each new conducting network, the same again for its solve). Vectors that give the same
-//! conducting network and starting charges are solved once (keyed and cached). Past the bound,
+//! each network solved by elimination, the same again). Where the circuit is the networks'
+//! series-parallel trees (always, for a stage built here), the vectors are compared by their
+//! delays composed over the trees ([`crate::timing::composed`]: the elimination's numbers up to
+//! rounding, a relative 1e-12), a vector whose delay with every node of its component charged
+//! cannot beat or tie the one held passed over, and each input's kept vector timed by elimination,
+//! so that every delay reported is the elimination's. Otherwise every vector is timed by
+//! elimination, vectors that give the same conducting network and starting charges solved once
+//! (keyed and cached). Past the bound,
 //! the stated fallback: the weakest path through the input that can conduct alone, with the vector
 //! that makes it the only conducting path (labelled `"weakest path"`); none where repeated inputs
 //! block every such path.
@@ -32,6 +38,7 @@ use crate::sizing::plan::Plan;
 use crate::timing::circuit::{
     Adjacency, Circuit, Component, Conducting, Moments, Scratch, Solved, component_in, conducting, elmore,
 };
+use crate::timing::composed::{Composed, other_of};
 use crate::timing::error::NetworkFault;
 use crate::timing::report::Edge;
 
@@ -42,6 +49,10 @@ pub const WEAKEST_PATH: &str = "weakest path";
 
 /// Two delays (or resistances) within this fraction of the larger are a tie.
 const TIE: f64 = 1e-9;
+
+/// How far, relatively, a delay composed over the trees may sit from the same delay with every
+/// node charged summed another way: rounding alone (a few units in the last place per level).
+const BOUND_ROUNDING: f64 = 1e-10;
 
 /// One transition, timed.
 #[derive(Debug, Clone)]
@@ -116,6 +127,9 @@ pub struct Rule<'a> {
     solved: HashMap<NetworkKey, Moments, BuildHasherDefault<WordHasher>>,
     /// The searches' buffers, reused from one vector to the next.
     scratch: Scratch,
+    /// The networks as composable trees, where the circuit is theirs and the conduction known:
+    /// the scan compares vectors with their sums and times the kept ones by elimination.
+    composed: Option<Composed>,
 }
 
 /// A conducting network as a cache key: its component's number (see [`Rule`]'s `components`) and
@@ -205,11 +219,19 @@ impl<'a> Rule<'a> {
             plan,
             circuit,
             widths,
-            conduction,
             components: HashMap::default(),
             solved: HashMap::default(),
             scratch: Scratch::new(circuit),
+            composed: if conduction.is_some() { Composed::new(stage, circuit, widths) } else { None },
+            conduction,
         })
+    }
+
+    /// The rule with every vector timed by elimination (no composed trees), to check them by.
+    #[cfg(test)]
+    fn by_elimination(mut self) -> Rule<'a> {
+        self.composed = None;
+        self
     }
 
     /// The worst transition of `input` on `edge` (the rule above), timed with `load` C on the
@@ -257,13 +279,24 @@ impl<'a> Rule<'a> {
     ) -> Result<Vec<Option<Transition>>, TransitionError> {
         let kind = edge.network();
         let Some(conduction) = &self.conduction else { return Ok(vec![None; inputs.len()]) };
-        let conducts = &conduction[kind];
+        // A copy (a word per 64 on-sets), so that the rule's buffers can change while it is read.
+        let conducts = &conduction[kind].clone();
         let input_count = self.stage.function.inputs.len();
         let circuit = self.circuit;
         let devices = circuit.devices.len() as u128;
         meter.charge(conducts.len() as u128 * inputs.len() as u128, Work::Delays)?;
-        // Each input's slowest so far, with its component and vector.
-        let mut best: Vec<Option<(Candidate, Component, Vec<bool>)>> = (0..inputs.len()).map(|_| None).collect();
+        // Whether the other network conducts too after a switch into an on-set.
+        let other = &conduction[other_of(kind)].clone();
+        let every = (1u64 << input_count) - 1;
+        let other_conducts = |on_set: u64| {
+            let index = (!on_set & every) as usize;
+            other.get(index / 64).is_some_and(|word| word >> (index % 64) & 1 == 1)
+        };
+        // Each input's slowest so far, and the resistance after the switch of each on-set met in a tie.
+        let mut resistances = HashMap::default();
+        // With the trees: per on-set met, the most resistance a load sees after the switch.
+        let mut drives = if self.composed.is_some() { vec![f64::INFINITY; 1 << input_count] } else { Vec::new() };
+        let mut best: Vec<Option<Candidate>> = (0..inputs.len()).map(|_| None).collect();
         let mut switching = vec![0u64; inputs.len()];
         for (word, &bits) in conducts.iter().enumerate() {
             if bits == 0 {
@@ -280,84 +313,162 @@ impl<'a> Rule<'a> {
                 any &= any - 1;
                 let on_set = word as u64 * 64 + u64::from(bit);
                 let mut here: Option<OnSet> = None;
+                // With the trees: what no transition into this on-set exceeds.
+                let mut bound: Option<(f64, f64)> = None;
+                let mut hanging: Option<f64> = None;
+                let mut least: Option<f64> = None;
                 for (slot, &(input, load)) in inputs.iter().enumerate() {
                     if switching[slot] >> bit & 1 == 0 {
                         continue;
                     }
                     meter.charge(devices, Work::Delays)?;
-                    let found = match &mut here {
-                        Some(found) => found,
-                        None => {
-                            let after = after_of(on_set, input_count, kind);
-                            let component = component_in(circuit, edge, &after, &mut self.scratch)?;
-                            let on: Box<[u64]> = self.scratch.found().into();
-                            let adjacency = Adjacency::of(circuit, &component, &mut self.scratch);
-                            let next = self.components.len();
-                            let number = *self.components.entry((component.rail, on)).or_insert(next);
-                            here.insert(OnSet { after, component, adjacency, number, solved: None })
-                        }
-                    };
-                    let at_final = found.adjacency.held(input, &mut self.scratch)?;
-                    let key = NetworkKey { component: found.number, at_final: bits_of(&at_final) };
-                    let moments = match self.solved.get(&key) {
-                        Some(moments) => *moments,
-                        None => {
-                            meter.charge(devices, Work::Delays)?;
-                            let solved = match &mut found.solved {
-                                Some(solved) => solved,
-                                None => found.solved.insert(Solved::of_in(
-                                    circuit,
-                                    &found.component,
-                                    self.widths,
-                                    &mut self.scratch,
-                                )?),
+                    let candidate = match &mut self.composed {
+                        Some(composed) => {
+                            // What no transition into this on-set exceeds, in two steps (the
+                            // other network's nodes joined to the output at most all of them,
+                            // then as many as are): a vector that cannot be slower than the one
+                            // held, nor tie with it, is passed over, as the rule would pass it.
+                            if other_conducts(on_set) {
+                                return Err(NetworkFault::BothRails.into());
+                            }
+                            // First with every node of the circuit charged and the resistance of
+                            // an on-set within this one (fewer devices on: no less resistance).
+                            let most_drive = *least.get_or_insert_with(|| {
+                                let mut bits = on_set;
+                                let mut most = f64::INFINITY;
+                                while bits != 0 {
+                                    most = most.min(drives[(on_set ^ (bits & bits.wrapping_neg())) as usize]);
+                                    bits &= bits - 1;
+                                }
+                                most
+                            });
+                            let most = (composed.charge_most() + load) * most_drive * (1.0 + BOUND_ROUNDING);
+                            if bound.is_none()
+                                && best[slot].as_ref().is_some_and(|held| most < held.elmore * (1.0 - TIE))
+                            {
+                                continue;
+                            }
+                            let (reach, drive) = match bound {
+                                Some(bound) => bound,
+                                None => *bound.insert(composed.reach(kind, on_set).ok_or(NetworkFault::NoRail)?),
                             };
-                            let moments = solved.moments(&at_final);
-                            self.solved.insert(key, moments);
-                            moments
+                            let below = |joined: f64| {
+                                let most = (reach + joined + load) * drive * (1.0 + BOUND_ROUNDING);
+                                best[slot].as_ref().is_some_and(|held| most < held.elmore * (1.0 - TIE))
+                            };
+                            if below(composed.hanging_most(kind)) {
+                                continue;
+                            }
+                            let joined = match hanging {
+                                Some(joined) => joined,
+                                None => *hanging.insert(composed.hanging(kind, on_set).ok_or(NetworkFault::BothRails)?),
+                            };
+                            if below(joined) {
+                                continue;
+                            }
+                            let (unloaded, drive) = composed.moments(kind, on_set, input)?;
+                            Candidate { elmore: unloaded + load * drive, on_set, drive: Some(drive), timed: None }
+                        }
+                        None => {
+                            let (elmore, timed) = self.eliminated(edge, on_set, input, load, &mut here, meter)?;
+                            Candidate { elmore, on_set, drive: None, timed: Some(timed) }
                         }
                     };
-                    let (elmore, unloaded, tree) = moments.with_load(load);
-                    let mut candidate = Candidate { elmore, resistance: None, on_set, at_final, unloaded, tree };
                     let replace = match &mut best[slot] {
                         None => true,
-                        Some((held, _, _)) => {
-                            Self::slower(self.stage, self.plan, input_count, &mut candidate, held, kind)
-                        }
+                        Some(held) => Self::slower(self.stage, self.plan, &candidate, held, kind, &mut resistances),
                     };
                     if replace {
-                        best[slot] = Some((candidate, found.component.clone(), found.after.clone()));
+                        best[slot] = Some(candidate);
                     }
+                }
+                // The most resistance this on-set has, for the on-sets that hold it.
+                if let Some(at) = drives.get_mut(on_set as usize) {
+                    *at = bound.map_or(least.unwrap_or(f64::INFINITY), |(_, drive)| drive);
                 }
             }
         }
-        Ok(best
-            .into_iter()
-            .zip(inputs)
-            .map(|(found, &(input, _))| {
-                found.map(|(b, Component { nodes, devices, rail }, after)| Transition {
-                    input,
-                    edge,
-                    after,
-                    shape: Conducting { nodes, at_final: b.at_final, devices, rail },
-                    elmore: b.elmore,
-                    unloaded: b.unloaded,
-                    tree: b.tree,
-                    search: EVERY_VECTOR,
-                })
-            })
-            .collect())
+        let mut found = Vec::with_capacity(inputs.len());
+        for (candidate, &(input, load)) in best.into_iter().zip(inputs) {
+            let Some(candidate) = candidate else {
+                found.push(None);
+                continue;
+            };
+            // The vector kept is timed by elimination, as the rule states it.
+            let (elmore, timed) = match candidate.timed {
+                Some(timed) => (candidate.elmore, timed),
+                None => self.eliminated(edge, candidate.on_set, input, load, &mut None, meter)?,
+            };
+            let Timed { at_final, unloaded, tree, component: Component { nodes, devices, rail }, after } = timed;
+            found.push(Some(Transition {
+                input,
+                edge,
+                after,
+                shape: Conducting { nodes, at_final, devices, rail },
+                elmore,
+                unloaded,
+                tree,
+                search: EVERY_VECTOR,
+            }));
+        }
+        Ok(found)
+    }
+
+    /// The transition of `input` into `on_set` on `edge`, timed by elimination: its component
+    /// found once per on-set (kept in `here`), each conducting network solved once (kept by its
+    /// key).
+    fn eliminated(
+        &mut self,
+        edge: Edge,
+        on_set: u64,
+        input: usize,
+        load: f64,
+        here: &mut Option<OnSet>,
+        meter: &Meter,
+    ) -> Result<(f64, Timed), TransitionError> {
+        let circuit = self.circuit;
+        let found = match here {
+            Some(found) => found,
+            None => {
+                let after = after_of(on_set, circuit.input_count, edge.network());
+                let component = component_in(circuit, edge, &after, &mut self.scratch)?;
+                let on: Box<[u64]> = self.scratch.found().into();
+                let adjacency = Adjacency::of(circuit, &component, &mut self.scratch);
+                let next = self.components.len();
+                let number = *self.components.entry((component.rail, on)).or_insert(next);
+                here.insert(OnSet { after, component, adjacency, number, solved: None })
+            }
+        };
+        let at_final = found.adjacency.held(input, &mut self.scratch)?;
+        let key = NetworkKey { component: found.number, at_final: bits_of(&at_final) };
+        let moments = match self.solved.get(&key) {
+            Some(moments) => *moments,
+            None => {
+                meter.charge(circuit.devices.len() as u128, Work::Delays)?;
+                let solved = match &mut found.solved {
+                    Some(solved) => solved,
+                    None => {
+                        found.solved.insert(Solved::of_in(circuit, &found.component, self.widths, &mut self.scratch)?)
+                    }
+                };
+                let moments = solved.moments(&at_final);
+                self.solved.insert(key, moments);
+                moments
+            }
+        };
+        let (elmore, unloaded, tree) = moments.with_load(load);
+        Ok((elmore, Timed { at_final, unloaded, tree, component: found.component.clone(), after: found.after.clone() }))
     }
 
     /// Whether `candidate` (a later vector) beats `held`: a slower delay, or a tie and a larger
-    /// resistance after the switch.
+    /// resistance after the switch (each on-set's worked out once, kept in `resistances`).
     fn slower(
         stage: &SizedStage,
         plan: &Plan,
-        input_count: usize,
-        candidate: &mut Candidate,
-        held: &mut Candidate,
+        candidate: &Candidate,
+        held: &Candidate,
         kind: NetworkKind,
+        resistances: &mut HashMap<u64, f64, BuildHasherDefault<WordHasher>>,
     ) -> bool {
         let scale = candidate.elmore.abs().max(held.elmore.abs());
         if candidate.elmore > held.elmore + TIE * scale {
@@ -366,25 +477,17 @@ impl<'a> Rule<'a> {
         if candidate.elmore < held.elmore - TIE * scale {
             return false;
         }
-        let candidate_r = Self::resistance(stage, plan, input_count, candidate, kind);
-        let held_r = Self::resistance(stage, plan, input_count, held, kind);
+        let mut resistance = |on_set: u64| {
+            *resistances.entry(on_set).or_insert_with(|| {
+                let sized = &stage.networks[kind];
+                let resistance = plan.resistances(kind, &sized.widths);
+                let on = sized.network.on_devices(&after_of(on_set, stage.function.inputs.len(), kind));
+                paths::effective_resistance(&sized.network, &resistance, &on).unwrap_or(f64::INFINITY)
+            })
+        };
+        let candidate_r = candidate.drive.unwrap_or_else(|| resistance(candidate.on_set));
+        let held_r = held.drive.unwrap_or_else(|| resistance(held.on_set));
         candidate_r > held_r + TIE * candidate_r.max(held_r)
-    }
-
-    /// The resistance of what conducts in `kind`'s network after the switch (sizing widths).
-    fn resistance(
-        stage: &SizedStage,
-        plan: &Plan,
-        input_count: usize,
-        candidate: &mut Candidate,
-        kind: NetworkKind,
-    ) -> f64 {
-        *candidate.resistance.get_or_insert_with(|| {
-            let sized = &stage.networks[kind];
-            let resistance = plan.resistances(kind, &sized.widths);
-            let on = sized.network.on_devices(&after_of(candidate.on_set, input_count, kind));
-            paths::effective_resistance(&sized.network, &resistance, &on).unwrap_or(f64::INFINITY)
-        })
     }
 }
 
@@ -397,11 +500,21 @@ fn after_of(on_set: u64, input_count: usize, kind: NetworkKind) -> Vec<bool> {
 /// A transition the rule holds while it looks at the others.
 struct Candidate {
     elmore: f64,
-    resistance: Option<f64>,
+    /// Where composed over the trees: the resistance of what conducts after the switch (the
+    /// resistance a load sees, the same sum as [`paths::effective_resistance`]'s in another order).
+    drive: Option<f64>,
     on_set: u64,
+    /// Where it was timed by elimination, the rest of its transition.
+    timed: Option<Timed>,
+}
+
+/// A transition's network and figures besides its delay, as elimination gives them.
+struct Timed {
     at_final: Vec<bool>,
     unloaded: f64,
     tree: bool,
+    component: Component,
+    after: Vec<bool>,
 }
 
 /// Word `word` of the on-sets with `input` flipped, aligned with `conducts[word]`.
@@ -552,8 +665,18 @@ mod tests {
             let inputs: Vec<(usize, f64)> =
                 (0..stage.function.inputs.len()).map(|i| (i, 1.0 + i as f64 / 3.0)).collect();
             let mut together = Rule::new(stage, plan, &circuit, &widths, &meter).unwrap();
+            assert!(together.composed.is_some(), "{text}: not composed");
+            let mut eliminating = Rule::new(stage, plan, &circuit, &widths, &meter).unwrap().by_elimination();
             for edge in Edge::BOTH {
                 let found = together.worst_of(edge, &inputs, &meter).unwrap();
+                // Vectors compared by their composed delays or by elimination: the same transitions.
+                let eliminated = eliminating.worst_of(edge, &inputs, &meter).unwrap();
+                for (found, eliminated) in found.iter().zip(&eliminated) {
+                    let key = |t: &Option<Transition>| {
+                        t.as_ref().map(|t| (t.after.clone(), t.shape.clone(), t.elmore.to_bits()))
+                    };
+                    assert_eq!(key(found), key(eliminated), "{text} {edge:?}");
+                }
                 for (&(input, load), found) in inputs.iter().zip(found) {
                     let mut alone = Rule::new(stage, plan, &circuit, &widths, &meter).unwrap();
                     let single = alone.worst(input, edge, load, &meter).unwrap();
@@ -591,7 +714,9 @@ mod tests {
         /// on-sets, each timed from scratch (`time_vector`: the component and the nodes at their
         /// final level searched over the whole circuit, the system solved alone), the slowest kept,
         /// a tie within 1e-9 to the larger resistance after the switch, then to the earlier vector
-        /// (the rule this module states). The same vectors, networks and delays to the bit.
+        /// (the rule this module states). The same vectors, networks and delays to the bit (the
+        /// one pass compares vectors by delays composed over the trees, within a relative 1e-12 of
+        /// these, and times the kept ones as these are timed).
         #[test]
         fn the_one_pass_is_the_rule_written_out(
             text in gate_text(),

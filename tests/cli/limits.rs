@@ -319,7 +319,7 @@ fn work_budgets_bound_the_long_computations() {
     past_the_budget(
         &["size", "-", "--stack-order", "search"],
         "!(x0&x1&x2 | x3&x4&x5 | x6&x7&x8 | x9&x10&x11 | x12&x13&x14 | x15&x0&x1)".to_string(),
-        "the stack-order search could take up to 5956382048 work units",
+        "the stack-order search could take up to 3507488096 work units",
     );
     // The elmore method on 80 transistors, 4 groups of 10 in parallel (10,000 paths; ran 94 s, then
     // did not converge): its Newton steps would pass the budget before the program is half built.
