@@ -608,17 +608,7 @@ mod tests {
     use crate::timing::circuit::{OUTPUT, conducting, flat_widths, moments};
     use crate::timing::report::Edge;
     use crate::timing::transition::switching_vectors;
-
-    /// A random series-parallel function of up to five inputs, repeated freely, as text.
-    fn gate_text() -> impl proptest::strategy::Strategy<Value = String> {
-        use proptest::prelude::*;
-        let leaf = (0usize..5).prop_map(|i| ["a", "b", "c", "d", "e"][i].to_string());
-        let tree = leaf.prop_recursive(3, 16, 3, |inner| {
-            (prop::collection::vec(inner, 2..4), any::<bool>())
-                .prop_map(|(members, and)| format!("({})", members.join(if and { " & " } else { " | " })))
-        });
-        tree.prop_map(|tree| format!("!{tree}"))
-    }
+    use crate::timing::transition::tests::gate_text;
 
     /// Whether `a` and `b` agree within a relative 1e-12.
     fn close(a: f64, b: f64) -> bool {

@@ -609,7 +609,7 @@ pub fn lone_path(
 }
 
 #[cfg(test)]
-mod tests {
+pub(super) mod tests {
     use super::*;
     use crate::sizing::{Method, Plan};
 
@@ -698,7 +698,7 @@ mod tests {
     }
 
     /// A random series-parallel function of up to five inputs, repeated freely, as text.
-    fn gate_text() -> impl proptest::strategy::Strategy<Value = String> {
+    pub(in crate::timing) fn gate_text() -> impl proptest::strategy::Strategy<Value = String> {
         use proptest::prelude::*;
         let leaf = (0usize..5).prop_map(|i| ["a", "b", "c", "d", "e"][i].to_string());
         let tree = leaf.prop_recursive(3, 16, 3, |inner| {

@@ -301,6 +301,21 @@ impl Table {
         }
     }
 
+    /// Each monomial's summed weight over the functions, `sum_f scale_f weight_t` over its terms
+    /// `t` (a function of scale 0 adds nothing), into `shares` (one per monomial).
+    pub(super) fn monomial_shares(&self, weights: &[f64], scales: &[f64], shares: &mut [f64]) {
+        shares.fill(0.0);
+        for f in 0..self.functions() {
+            let scale = scales[f];
+            if scale != 0.0 {
+                let terms = self.term_at[f]..self.term_at[f + 1];
+                for (&u, &weight) in self.monomial[terms.clone()].iter().zip(&weights[terms]) {
+                    shares[u] += scale * weight;
+                }
+            }
+        }
+    }
+
     /// Add `sum_f scale_f (Hessian of f)` to the lower triangle of `hessian` (`size x size`,
     /// row-major), from the shares and gradients [`Table::evaluate`] and [`Table::gradients`] gave: each monomial's outer
     /// product once with its summed weight, then each function's rank-one part `(outer_f - scale_f)
@@ -314,14 +329,7 @@ impl Table {
         size: usize,
         shares: &mut [f64],
     ) {
-        shares.fill(0.0);
-        for f in 0..self.functions() {
-            if scales[f] != 0.0 {
-                for t in self.term_at[f]..self.term_at[f + 1] {
-                    shares[self.monomial[t]] += scales[f] * weights[t];
-                }
-            }
-        }
+        self.monomial_shares(weights, scales, shares);
         for (u, &share) in shares.iter().enumerate() {
             if share == 0.0 {
                 continue;
@@ -426,18 +434,44 @@ pub(super) struct Point {
     pub(super) gradients: Vec<f64>,
 }
 
+/// The buffers every Newton step of either iteration fills: the table's scratch, each function's
+/// curvature scale and rank-one weight, each monomial's share, the Newton matrix and its factor,
+/// the right-hand side, the step and the dual residual.
+pub(super) struct Buffers {
+    pub(super) scratch: Scratch,
+    pub(super) scales: Vec<f64>,
+    pub(super) outers: Vec<f64>,
+    pub(super) shares: Vec<f64>,
+    pub(super) hessian: Vec<f64>,
+    pub(super) factor: Vec<f64>,
+    pub(super) right: Vec<f64>,
+    pub(super) step: Vec<f64>,
+    pub(super) dual: Vec<f64>,
+}
+
+impl Buffers {
+    /// Buffers for `table` over `n` variables and Newton systems of `size` unknowns.
+    pub(super) fn new(table: &Table, n: usize, size: usize) -> Buffers {
+        let functions = table.functions();
+        let monomials = table.monomial_at.len() - 1;
+        Buffers {
+            scratch: Scratch::new(table, n),
+            scales: vec![0.0; functions],
+            outers: vec![0.0; functions],
+            shares: vec![0.0; monomials],
+            hessian: vec![0.0; size * size],
+            factor: vec![0.0; size * size],
+            right: vec![0.0; size],
+            step: vec![0.0; size],
+            dual: vec![0.0; size],
+        }
+    }
+}
+
 /// The buffers of one phase.
 struct Space {
-    scratch: Scratch,
-    scales: Vec<f64>,
-    outers: Vec<f64>,
-    shares: Vec<f64>,
-    hessian: Vec<f64>,
-    factor: Vec<f64>,
-    right: Vec<f64>,
-    step: Vec<f64>,
+    common: Buffers,
     dual_step: Vec<f64>,
-    dual: Vec<f64>,
 }
 
 impl Problem<'_> {
@@ -550,25 +584,25 @@ impl Problem<'_> {
         (dual.iter().map(|d| d * d).sum::<f64>() + central).sqrt()
     }
 
-    /// The primal-dual Newton direction at `t`, into `space.step` and `space.dual_step`.
+    /// The primal-dual Newton direction at `t`, into `space.common.step` and `space.dual_step`.
     fn direction(&self, point: &Point, lambda: &[f64], t: f64, space: &mut Space) -> Result<(), Stop> {
         let size = self.size();
         let n = self.n;
         let m = self.constraints();
         // The Lagrangian's curvature: the objective's (phase II), each constraint's at its
         // multiplier, and each constraint's rank-one barrier term at lambda_i / (-G_i).
-        space.scales[0] = if self.phase_one { 0.0 } else { 1.0 };
-        space.outers[0] = 0.0;
+        space.common.scales[0] = if self.phase_one { 0.0 } else { 1.0 };
+        space.common.outers[0] = 0.0;
         for i in 0..m {
-            space.scales[i + 1] = lambda[i];
-            space.outers[i + 1] = lambda[i] / -point.values[i];
+            space.common.scales[i + 1] = lambda[i];
+            space.common.outers[i + 1] = lambda[i] / -point.values[i];
         }
-        let (hessian, right) = (&mut space.hessian, &mut space.right);
+        let (hessian, right) = (&mut space.common.hessian, &mut space.common.right);
         hessian.fill(0.0);
         right.fill(0.0);
         let table = self.table;
-        let curvature = (space.scales.as_slice(), space.outers.as_slice());
-        table.add_hessian((&point.weights, &point.gradients), curvature, hessian, size, &mut space.shares);
+        let curvature = (space.common.scales.as_slice(), space.common.outers.as_slice());
+        table.add_hessian((&point.weights, &point.gradients), curvature, hessian, size, &mut space.common.shares);
         // Right-hand side: -(grad f + (1/t) sum grad G_i / (-G_i)).
         if self.phase_one {
             right[n] = -1.0;
@@ -583,7 +617,7 @@ impl Problem<'_> {
             if self.phase_one && i < self.soft {
                 // The slack's gradient is -1: its row of the rank-one term, and its share of the
                 // right-hand side.
-                let outer = space.outers[i + 1];
+                let outer = space.common.outers[i + 1];
                 for (&k, g) in table.touched(i + 1).iter().zip(gradient) {
                     hessian[n * size + k] -= outer * g;
                 }
@@ -599,10 +633,16 @@ impl Problem<'_> {
             hessian[j * size + j] += lambda[m + j] / above + lambda[m + n + j] / below;
             right[j] -= (1.0 / above - 1.0 / below) / t;
         }
-        if !solve_spd(&space.hessian, &space.right, size, &mut space.factor, &mut space.step) {
+        if !solve_spd(
+            &space.common.hessian,
+            &space.common.right,
+            size,
+            &mut space.common.factor,
+            &mut space.common.step,
+        ) {
             return Err(Stop::Singular);
         }
-        let step = &space.step;
+        let step = &space.common.step;
         // d lambda_i = -lambda_i - 1 / (t G_i) - lambda_i (grad G_i . dz) / G_i
         for i in 0..m {
             let gradient = self.gradient(point, i + 1);
@@ -627,23 +667,10 @@ impl Problem<'_> {
     /// At most `limit` Newton steps.
     pub(super) fn run(&self, z: &mut [f64], limit: usize, early: impl Fn(&[f64]) -> bool) -> Result<Finish, Stop> {
         let size = self.size();
-        let functions = self.table.functions();
-        let monomials = self.table.monomial_at.len() - 1;
-        let mut space = Space {
-            scratch: Scratch::new(self.table, self.n),
-            scales: vec![0.0; functions],
-            outers: vec![0.0; functions],
-            shares: vec![0.0; monomials],
-            hessian: vec![0.0; size * size],
-            factor: vec![0.0; size * size],
-            right: vec![0.0; size],
-            step: vec![0.0; size],
-            dual_step: vec![0.0; self.count()],
-            dual: vec![0.0; size],
-        };
+        let mut space = Space { common: Buffers::new(self.table, self.n, size), dual_step: vec![0.0; self.count()] };
         let mut point = self.point();
         let mut trial_point = self.point();
-        if !self.evaluate(z, &mut point, &mut space.scratch) {
+        if !self.evaluate(z, &mut point, &mut space.common.scratch) {
             return Err(Stop::Outside);
         }
         let mut lambda: Vec<f64> = point.values.iter().map(|g| -1.0 / g).collect();
@@ -659,8 +686,8 @@ impl Problem<'_> {
             }
             let gap: f64 = -point.values.iter().zip(&lambda).map(|(g, l)| g * l).sum::<f64>();
             let t = growth * count / gap;
-            let norm = self.residual(&point, &lambda, t, &mut space.dual);
-            let dual_norm = space.dual.iter().map(|d| d * d).sum::<f64>().sqrt();
+            let norm = self.residual(&point, &lambda, t, &mut space.common.dual);
+            let dual_norm = space.common.dual.iter().map(|d| d * d).sum::<f64>().sqrt();
             if gap <= GAP && dual_norm <= DUAL_TOLERANCE {
                 return Ok(Finish::Converged);
             }
@@ -676,12 +703,12 @@ impl Problem<'_> {
             loop {
                 self.meter.charge(self.work.1, Work::Elmore)?;
                 for (k, value) in trial.iter_mut().enumerate() {
-                    *value = z[k] + length * space.step[k];
+                    *value = z[k] + length * space.common.step[k];
                 }
                 for (i, l) in trial_lambda.iter_mut().enumerate() {
                     *l = lambda[i] + length * space.dual_step[i];
                 }
-                if self.evaluate(&trial, &mut trial_point, &mut space.scratch) {
+                if self.evaluate(&trial, &mut trial_point, &mut space.common.scratch) {
                     let trial_norm = self.residual(&trial_point, &trial_lambda, t, &mut trial_dual);
                     if trial_norm <= (1.0 - 0.01 * length) * norm {
                         break;

@@ -13,7 +13,7 @@
 // Dense linear algebra reads best with explicit indices.
 #![allow(clippy::needless_range_loop)]
 
-use super::newton::{Point, Problem, Scratch, Stop, Table};
+use super::newton::{Buffers, Point, Problem, Scratch, Stop, Table};
 
 use crate::budget::Work;
 use crate::optimize::linear::{factor_spd, solve_factored};
@@ -30,16 +30,7 @@ pub(super) enum Ending {
 
 /// The iteration's buffers.
 struct Space {
-    scratch: Scratch,
-    scales: Vec<f64>,
-    outers: Vec<f64>,
-    shares: Vec<f64>,
-    hessian: Vec<f64>,
-    factor: Vec<f64>,
-    right: Vec<f64>,
-    /// The dual residual.
-    dual: Vec<f64>,
-    step: Vec<f64>,
+    common: Buffers,
     slack_step: Vec<f64>,
     dual_step: Vec<f64>,
     /// The predictor's slack and multiplier steps.
@@ -105,8 +96,8 @@ impl Problem<'_> {
     }
 
     /// The Newton step for the centring residual `centring` (`sigma mu - lambda_i s_i` and any
-    /// correction) with the factor in `space.factor` and the slacks' reciprocals in
-    /// `space.inverse`: `space.step`, `space.slack_step`, `space.dual_step`. `primal` is
+    /// correction) with the factor in `space.common.factor` and the slacks' reciprocals in
+    /// `space.inverse`: `space.common.step`, `space.slack_step`, `space.dual_step`. `primal` is
     /// `G_i + s_i`.
     fn newton_step(&self, point: &Point, lambda: &[f64], primal: &[f64], centring: &[f64], space: &mut Space) {
         let (n, m) = (self.n, self.constraints());
@@ -114,20 +105,20 @@ impl Problem<'_> {
         for (i, w) in space.weights.iter_mut().enumerate() {
             *w = (lambda[i] * primal[i] + centring[i]) * space.inverse[i];
         }
-        for (r, d) in space.right.iter_mut().zip(&space.dual) {
+        for (r, d) in space.common.right.iter_mut().zip(&space.common.dual) {
             *r = -d;
         }
         for i in 0..m {
             let w = space.weights[i];
             for (&k, g) in self.table.touched(i + 1).iter().zip(self.gradient(point, i + 1)) {
-                space.right[k] -= w * g;
+                space.common.right[k] -= w * g;
             }
         }
         for j in 0..n {
-            space.right[j] -= space.weights[m + j] - space.weights[m + n + j];
+            space.common.right[j] -= space.weights[m + j] - space.weights[m + n + j];
         }
-        solve_factored(&space.factor, &space.right, n, &mut space.step);
-        self.along(point, &space.step, &mut space.slack_step);
+        solve_factored(&space.common.factor, &space.common.right, n, &mut space.common.step);
+        self.along(point, &space.common.step, &mut space.slack_step);
         for i in 0..self.count() {
             // ds_i = -r_p_i - grad G_i . dy;  dlambda_i = (r_c_i - lambda_i ds_i) / s_i
             let ds = -primal[i] - space.slack_step[i];
@@ -154,18 +145,8 @@ impl Problem<'_> {
         let n = self.n;
         let m = self.constraints();
         let count = self.count();
-        let functions = self.table.functions();
-        let monomials = self.table.monomial_at.len() - 1;
         let mut space = Space {
-            scratch: Scratch::new(self.table, n),
-            scales: vec![0.0; functions],
-            outers: vec![0.0; functions],
-            shares: vec![0.0; monomials],
-            hessian: vec![0.0; n * n],
-            factor: vec![0.0; n * n],
-            right: vec![0.0; n],
-            dual: vec![0.0; n],
-            step: vec![0.0; n],
+            common: Buffers::new(self.table, n, n),
             slack_step: vec![0.0; count],
             dual_step: vec![0.0; count],
             slack_guess: vec![0.0; count],
@@ -177,7 +158,7 @@ impl Problem<'_> {
         let outer = self.table.outer(n);
         let mut point = self.point();
         let mut trial_point = self.point();
-        if !self.evaluate_any(y, &mut point, &mut space.scratch) {
+        if !self.evaluate_any(y, &mut point, &mut space.common.scratch) {
             return Ok(Ending::GaveUp(0));
         }
         if point.functions[self.soft + 1..].iter().any(|v| *v >= 0.0) {
@@ -197,9 +178,9 @@ impl Problem<'_> {
             for i in 0..count {
                 primal[i] = point.values[i] + slack[i];
             }
-            self.dual_residual(&point, &lambda, &mut space.dual);
+            self.dual_residual(&point, &lambda, &mut space.common.dual);
             let gap: f64 = slack.iter().zip(&lambda).map(|(s, l)| s * l).sum();
-            let dual_norm = space.dual.iter().map(|d| d * d).sum::<f64>().sqrt();
+            let dual_norm = space.common.dual.iter().map(|d| d * d).sum::<f64>().sqrt();
             let primal_worst = primal.iter().fold(0.0f64, |a, p| a.max(p.abs()));
             if gap <= GAP && dual_norm <= DUAL_TOLERANCE && primal_worst <= PRIMAL_TOLERANCE {
                 y.copy_from_slice(&z);
@@ -215,28 +196,28 @@ impl Problem<'_> {
                 *inverse = 1.0 / s;
             }
             // K = hess f + sum lambda_i hess G_i + sum (lambda_i / s_i) grad G_i grad G_i^T.
-            space.scales[0] = 1.0;
-            space.outers[0] = 0.0;
+            space.common.scales[0] = 1.0;
+            space.common.outers[0] = 0.0;
             for i in 0..m {
-                space.scales[i + 1] = lambda[i];
-                space.outers[i + 1] = lambda[i] * space.inverse[i];
+                space.common.scales[i + 1] = lambda[i];
+                space.common.outers[i + 1] = lambda[i] * space.inverse[i];
             }
-            space.hessian.fill(0.0);
-            let curvature = (space.scales.as_slice(), space.outers.as_slice());
+            space.common.hessian.fill(0.0);
+            let curvature = (space.common.scales.as_slice(), space.common.outers.as_slice());
             self.table.add_hessian_flat(
                 (&point.weights, &point.gradients),
                 curvature,
-                &mut space.hessian,
+                &mut space.common.hessian,
                 n,
-                &mut space.shares,
+                &mut space.common.shares,
                 &outer,
                 &mut space.dense,
             );
             for j in 0..n {
-                space.hessian[j * n + j] +=
+                space.common.hessian[j * n + j] +=
                     lambda[m + j] * space.inverse[m + j] + lambda[m + n + j] * space.inverse[m + n + j];
             }
-            if !factor_spd(&space.hessian, n, &mut space.factor) {
+            if !factor_spd(&space.common.hessian, n, &mut space.common.factor) {
                 return Ok(Ending::GaveUp(step + 1));
             }
             // Predictor: the affine step (no centring).
@@ -270,13 +251,13 @@ impl Problem<'_> {
                 }
                 self.meter.charge(self.work.1, Work::Elmore)?;
                 for k in 0..n {
-                    trial[k] = z[k] + length * space.step[k];
+                    trial[k] = z[k] + length * space.common.step[k];
                 }
                 for i in 0..count {
                     trial_slack[i] = slack[i] + length * space.slack_step[i];
                     trial_lambda[i] = lambda[i] + dual_length * space.dual_step[i];
                 }
-                if self.evaluate_any(&trial, &mut trial_point, &mut space.scratch) {
+                if self.evaluate_any(&trial, &mut trial_point, &mut space.common.scratch) {
                     break;
                 }
                 length *= 0.5;
@@ -331,16 +312,7 @@ impl Table {
         outer: &Outer,
         dense: &mut [f64],
     ) {
-        shares.fill(0.0);
-        for f in 0..self.functions() {
-            let scale = scales[f];
-            if scale != 0.0 {
-                let terms = self.term_at[f]..self.term_at[f + 1];
-                for (&u, &weight) in self.monomial[terms.clone()].iter().zip(&weights[terms]) {
-                    shares[u] += scale * weight;
-                }
-            }
-        }
+        self.monomial_shares(weights, scales, shares);
         for (u, &share) in shares.iter().enumerate() {
             if share != 0.0 {
                 for &(index, value) in &outer.entries[outer.at[u]..outer.at[u + 1]] {
