@@ -25,13 +25,13 @@ mod reuse;
 mod scan;
 mod table;
 
-use rustc_hash::FxHashMap;
 use std::borrow::Cow;
 use std::io;
 use std::ops::Range;
 use std::path::Path;
 use std::sync::Arc;
 
+use rustc_hash::FxHashMap;
 use serde::Deserialize;
 use toml::Spanned;
 use toml::de::{DeTable, DeValue, ValueDeserializer};
@@ -243,10 +243,11 @@ impl Library {
         let mut clashes = Vec::new();
         let mut variants = 0usize;
         let mut kept_bytes = 0usize;
-        let mut kept = Vec::with_capacity(self.tables.len());
+        // Kept as they are read, so that an earlier gate is found by `gate` on a clash.
+        self.kept = Vec::with_capacity(self.tables.len());
         for index in 0..self.tables.len() {
             let Ok(plan) = self.read_gate(index) else {
-                kept.push(None);
+                self.kept.push(None);
                 continue;
             };
             variants += plan.drives.len();
@@ -256,11 +257,7 @@ impl Library {
             let key = plan.name.to_ascii_lowercase();
             match first.get(key.as_str()) {
                 Some(&earlier) => {
-                    let name = match &kept[earlier] {
-                        Some(plan) => Ok(Arc::clone(plan)),
-                        None => self.read_gate(earlier),
-                    };
-                    let name = name.map(|earlier| earlier.name.clone()).unwrap_or_default();
+                    let name = self.gate(earlier).map(|earlier| earlier.name.clone()).unwrap_or_default();
                     let how =
                         if name == plan.name { String::new() } else { format!(" as '{name}' (netlists ignore case)") };
                     clashes.push(plan.problem(
@@ -281,9 +278,8 @@ impl Library {
             if keep {
                 kept_bytes += bytes;
             }
-            kept.push(keep.then_some(plan));
+            self.kept.push(keep.then_some(plan));
         }
-        self.kept = kept;
         if variants > MAX_VARIANTS {
             return Err(LibraryError::at(
                 format!(

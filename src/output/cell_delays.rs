@@ -5,7 +5,7 @@
 use std::io::{self, Write};
 
 use super::CellReport;
-use super::delays::side_inputs_of;
+use super::delays::{dash_if_empty, side_inputs_of};
 use super::number;
 use super::table::write_columns;
 use crate::timing::CellTiming;
@@ -101,10 +101,7 @@ pub fn write_table(timing: &CellTiming, out: &mut dyn Write) -> io::Result<()> {
                 number(step.load_c),
                 number(step.estimate_tau),
                 step.path.join(" "),
-                match side_inputs_of(&step.vector, &step.input) {
-                    side if side.is_empty() => "-".to_string(),
-                    side => side,
-                },
+                dash_if_empty(side_inputs_of(&step.vector, &step.input)),
             ]);
         }
     }

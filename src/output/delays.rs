@@ -15,7 +15,7 @@ fn strings<const N: usize>(cells: [&str; N]) -> Vec<String> {
 }
 
 fn list(names: &[String]) -> String {
-    if names.is_empty() { "-".to_string() } else { names.join(" ") }
+    dash_if_empty(names.join(" "))
 }
 
 /// The side inputs of a delay row, `name=value` in input order: the vector the transition is timed
@@ -23,6 +23,11 @@ fn list(names: &[String]) -> String {
 /// pulls: 1 on a fall, 0 on a rise). Empty for a gate of one input.
 fn side_inputs(delay: &Delay) -> String {
     side_inputs_of(&delay.vector, &delay.input)
+}
+
+/// A table cell: `text`, or `-` where it is empty.
+pub(super) fn dash_if_empty(text: String) -> String {
+    if text.is_empty() { "-".to_string() } else { text }
 }
 
 /// `vector` without `input`, `name=value` in input order; empty where `input` is the only one.
@@ -95,10 +100,7 @@ pub fn write_table(report: &DelayReport, out: &mut dyn Write) -> io::Result<()> 
             delay.path.join(" "),
             list(&delay.internal_nodes),
             list(&delay.nodes_at_final_level),
-            match side_inputs(delay) {
-                side if side.is_empty() => "-".to_string(),
-                side => side,
-            },
+            dash_if_empty(side_inputs(delay)),
         ]);
     }
     write_columns(&rows, out)?;

@@ -19,8 +19,9 @@ pub mod tradeoff;
 pub mod verify;
 pub mod warnings;
 
-use std::collections::HashMap;
 use std::io::{self, Write};
+
+use rustc_hash::FxHashMap;
 
 use crate::cell::SizedCell;
 use crate::figures::{CellFigures, PathListing, SharedCell};
@@ -154,7 +155,7 @@ const KEPT_BYTES: usize = 8 << 20;
 /// The templates of shared cells, by their ids (a batch writer's, for the variants after the first).
 #[derive(Debug, Default)]
 struct Kept {
-    templates: HashMap<u64, Template>,
+    templates: FxHashMap<u64, Template>,
     bytes: usize,
 }
 
