@@ -581,9 +581,10 @@ fn named_variant(
     let mut variant_plan = plan.plan(drive, process)?;
     let problem = |error: SizingError| plan.problem(error.to_string(), Place::File(plan.name_span));
     if let Some(found) = reuse.find(plan, &variant_plan) {
-        // Of what sizing checks, only the cell's name can differ between the variants of one key,
-        // and it is checked first, on the first form: the same check, the same refusal.
-        sizing::build::check_names(&forms[0], &variant_plan).map_err(problem)?;
+        // Of what sizing checks, only the cell's name can differ between the variants of one key
+        // (the pins passed when the kept cell was sized), and it is checked first, on the first
+        // form: the same check, the same refusal.
+        sizing::build::check_cell_name(&forms[0], &variant_plan).map_err(problem)?;
         let name = variant_plan.name.take().unwrap_or_else(|| plan.variant_name(drive));
         return Ok((NamedCell { name, shared: found.shared }, found.verified));
     }

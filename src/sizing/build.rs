@@ -65,12 +65,8 @@ pub fn cell_name(logic: &CellLogic, plan: &Plan) -> String {
 /// No name that reaches a netlist may be reserved: the cell's, and (for a function read without the
 /// process's model names) the inputs' and the output's.
 pub fn check_names(logic: &CellLogic, plan: &Plan) -> Result<(), SizingError> {
+    check_cell_name(logic, plan)?;
     let models = plan.process.model_names();
-    // The name given is checked where it is (this runs for every variant of a batch).
-    let name = plan.name.as_deref().map_or_else(|| Cow::Owned(cell_name(logic, plan)), Cow::Borrowed);
-    if let Some(why) = reserved_reason(&name, &models) {
-        return Err(SizingError::ReservedCellName { name: name.into_owned(), why });
-    }
     let inputs = logic.inputs.iter().map(|i| ("input", i));
     for (role, name) in inputs.chain([("the output", &logic.output)]) {
         if let Some(why) = reserved_reason(name, &models) {
@@ -78,6 +74,16 @@ pub fn check_names(logic: &CellLogic, plan: &Plan) -> Result<(), SizingError> {
         }
     }
     Ok(())
+}
+
+/// The first of [`check_names`]: the cell's own name, where it is given (no copy), else as
+/// [`cell_name`] makes it. Alone, it is what a renamed variant of a checked cell still needs.
+pub fn check_cell_name(logic: &CellLogic, plan: &Plan) -> Result<(), SizingError> {
+    let name = plan.name.as_deref().map_or_else(|| Cow::Owned(cell_name(logic, plan)), Cow::Borrowed);
+    match reserved_reason(&name, &plan.process.model_names()) {
+        Some(why) => Err(SizingError::ReservedCellName { name: name.into_owned(), why }),
+        None => Ok(()),
+    }
 }
 
 /// A cell of one sized stage.

@@ -918,6 +918,25 @@ fn reserved_names_in_a_library_are_bad_gates() {
 }
 
 #[test]
+fn a_renamed_variant_whose_name_is_reserved_is_still_refused() {
+    // `twin` is sized as `one` was (same function and plan), so its cell is shared; its variant's
+    // name `twin_x1` is the process's NMOS model, which no cell may take.
+    let library = "[process]\nname = \"p\"\nmobility_ratio = 2.0\nlength_nm = 1000.0\nunit_width_nm = 1000.0\n\
+                   grid_nm = 5.0\nmin_width_nm = 500.0\nmax_finger_width_nm = 20000.0\nsupply_v = 3.3\n\
+                   nmos_model = \"twin_x1\"\npmos_model = \"pfet\"\nnmos_threshold_v = 0.7\npmos_threshold_v = 0.7\n\
+                   nmos_kp_ua_per_v2 = 100.0\npmos_kp_ua_per_v2 = 50.0\ngate_cap_ff_per_um = 1.7\n\
+                   diffusion_cap_ff_per_um = 1.0\nload_ff = 20.0\n\n\
+                   [[gate]]\nname = \"one\"\nexpr = \"nand2\"\n\n\
+                   [[gate]]\nname = \"twin\"\nexpr = \"nand2\"\n";
+    let output = widthwise().args(["batch", "-", "--format", "spice"]).write_stdin(library).output().unwrap();
+    assert_eq!(output.status.code(), Some(2));
+    let stderr = String::from_utf8(output.stderr).unwrap();
+    assert!(stderr.contains("gate 'twin': the cell name 'twin_x1' is reserved"), "{stderr}");
+    let stdout = String::from_utf8(output.stdout).unwrap();
+    assert!(stdout.contains(".subckt one_x1 ") && !stdout.contains(".subckt twin_x1 "), "{stdout}");
+}
+
+#[test]
 fn a_toml_recursion_limit_error_has_a_place() {
     // The TOML reader's recursion limit comes without a place: the message points at the deepest
     // nesting, line and column, in a library and in a process file.
